@@ -1,0 +1,67 @@
+import type { Task } from '../study/definition.js';
+
+/** How one input column becomes model inputs; every statistic comes from the training split only. */
+export type FeatureRecipe =
+  | {
+      kind: 'numeric';
+      name: string;
+      /** Training-split mean, used for centring and to fill missing values. */
+      mean: number;
+      /** Training-split standard deviation (population); 1 when the column is constant. */
+      std: number;
+    }
+  | {
+      kind: 'categorical';
+      name: string;
+      /** Categories seen in the training split, in sorted order: one input each. An unseen one encodes as all zeros. */
+      categories: string[];
+      /** Most frequent training category, used for missing values. */
+      fill: string;
+    };
+
+/** Everything needed to turn a raw CSV row into model inputs, and model outputs back into answers. */
+export interface PreprocessingRecipe {
+  task: Task;
+  target: string;
+  features: FeatureRecipe[];
+  /** Number of model inputs after one-hot encoding. */
+  inputCount: number;
+  /** Class labels in output order (classification only). */
+  classes?: string[];
+  /** Training-split mean and standard deviation of the target (regression only): the network learns the standardised target. */
+  targetScaling?: { mean: number; std: number };
+}
+
+/** One split as dense row-major matrices. `y` holds a class index (classification) or the standardised target (regression). */
+export interface SplitArrays {
+  rows: number;
+  /** rows x inputCount, row-major. */
+  x: Float32Array;
+  /** rows values. */
+  y: Float32Array;
+  /** 1-based CSV line number of each row (header is line 1), for messages and predictions. */
+  lines?: Int32Array;
+}
+
+/** The prepared data set: built once in the main thread, shared with workers through SharedArrayBuffers. */
+export interface PreparedData {
+  recipe: PreprocessingRecipe;
+  train: SplitArrays;
+  validation: SplitArrays;
+  /** Held out: used only by `export --retrain` for the final check. */
+  test: SplitArrays;
+}
+
+/** A short description of the data set, kept in the study file. */
+export interface DataSummary {
+  file: string;
+  rows: number;
+  columns: number;
+  trainRows: number;
+  validationRows: number;
+  testRows: number;
+  inputCount: number;
+  /** Rows per class in the whole file (classification only). */
+  classCounts?: Record<string, number>;
+  missingValues: number;
+}

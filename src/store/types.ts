@@ -1,0 +1,64 @@
+import type { DataSummary, PreprocessingRecipe } from '../data/types.js';
+import type { EpochReport } from '../pool/messages.js';
+import type { Objective, StudyDefinition, TrialParams } from '../study/definition.js';
+
+/**
+ * Life of a trial. `stopped`: finished its rung but was not promoted (halving samplers).
+ * `completed`: trained to the most epochs the sampler gives it.
+ */
+export type TrialStatus = 'queued' | 'running' | 'completed' | 'stopped' | 'diverged' | 'failed' | 'timed-out';
+
+/** One epoch of a trial's curve, as stored (the trial id is implied). */
+export type CurvePoint = Omit<EpochReport, 'trialId'>;
+
+export interface TrialRecord {
+  id: number;
+  params: TrialParams;
+  seed: number;
+  status: TrialStatus;
+  /** Highest rung reached (0 for random search). */
+  rung: number;
+  bracket: number;
+  epochsTrained: number;
+  curve: CurvePoint[];
+  /** Objective metric at the last epoch trained (null until an epoch completes, or when diverged). */
+  objective: number | null;
+  /** Objective at the end of each rung reached, by rung index. */
+  rungObjectives: (number | null)[];
+  startedAt?: string;
+  endedAt?: string;
+  /** Sum of worker wall time over all of the trial's jobs, seconds. */
+  workerSeconds: number;
+  divergence?: { epoch: number; reason: string };
+  error?: string;
+  attempts: number;
+  /** Why the sampler promoted the trial out of each rung (asynchronous halving records this). */
+  promotions?: { fromRung: number; reason: string }[];
+}
+
+export interface StudyTotals {
+  epochsTrained: number;
+  /** Busy worker time divided by workers times wall time. */
+  workerUtilisation: number;
+  wallSeconds: number;
+  workers: number;
+}
+
+/** The whole study file. */
+export interface StudyDocument {
+  format: 'rungwise-study';
+  version: 1;
+  name: string;
+  /** The definition as validated, with defaults applied. */
+  definition: StudyDefinition;
+  /** Absolute path of the definition file the study was launched from. */
+  definitionFile: string;
+  objective: Objective;
+  data: DataSummary;
+  recipe: PreprocessingRecipe;
+  state: 'running' | 'interrupted' | 'finished';
+  createdAt: string;
+  updatedAt: string;
+  trials: TrialRecord[];
+  totals?: StudyTotals;
+}

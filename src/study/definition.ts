@@ -1,0 +1,144 @@
+import { z } from 'zod';
+
+/** Activations a hidden layer may use. `leakyRelu` uses slope 0.2 below zero (the tfjs layers default). */
+export const ACTIVATIONS = ['relu', 'leakyRelu', 'elu', 'selu', 'tanh', 'sigmoid', 'softplus', 'swish', 'relu6'] as const;
+export const OPTIMIZERS = ['sgd', 'momentum', 'adam'] as const;
+export const TASKS = ['binary', 'multiclass', 'regression'] as const;
+export const CLASSIFICATION_METRICS = ['accuracy', 'macroF1', 'logLoss'] as const;
+export const BINARY_METRICS = [...CLASSIFICATION_METRICS, 'auc'] as const;
+export const REGRESSION_METRICS = ['rmse', 'mae', 'r2'] as const;
+export const METRICS = ['accuracy', 'macroF1', 'logLoss', 'auc', 'rmse', 'mae', 'r2', 'validationLoss'] as const;
+export const SAMPLER_KINDS = ['random', 'successive-halving', 'hyperband', 'async-halving'] as const;
+
+export type Activation = (typeof ACTIVATIONS)[number];
+export type OptimizerName = (typeof OPTIMIZERS)[number];
+export type Task = (typeof TASKS)[number];
+export type MetricName = (typeof METRICS)[number];
+export type SamplerKind = (typeof SAMPLER_KINDS)[number];
+
+const integerRange = z
+  .strictObject({
+    min: z.int().min(1).describe('Smallest value, inclusive.'),
+    max: z.int().min(1).describe('Largest value, inclusive.'),
+    log: z.boolean().default(false).describe('Draw uniformly on a log scale.'),
+  })
+  .refine((r) => r.min <= r.max, { message: 'min must not exceed max', path: ['min'] });
+
+const positiveLogRange = z
+  .strictObject({
+    min: z.number().positive().describe('Smallest value, inclusive.'),
+    max: z.number().positive().describe('Largest value, inclusive.'),
+  })
+  .refine((r) => r.min <= r.max, { message: 'min must not exceed max', path: ['min'] });
+
+const fractionRange = z
+  .strictObject({
+    min: z.number().min(0).max(0.9),
+    max: z.number().min(0).max(0.9),
+  })
+  .refine((r) => r.min <= r.max, { message: 'min must not exceed max', path: ['min'] });
+
+const seed = z.int().min(0).max(2 ** 31 - 1);
+
+export const dataSchema = z.strictObject({
+  csv: z.string().min(1).describe('Path of the CSV file, relative to the study definition file.'),
+  target: z.string().min(1).describe('Name of the column to predict.'),
+  task: z.enum(TASKS).describe('binary, multiclass or regression.'),
+  features: z.array(z.string().min(1)).min(1).optional().describe('Columns to use as inputs; default: every column but the target.'),
+  validationFraction: z.number().gt(0).lt(1).default(0.2).describe('Share of rows used to score trials.'),
+  testFraction: z.number().min(0).lt(1).default(0.15).describe('Share of rows held back untouched for the final check.'),
+  splitSeed: seed.default(0).describe('Seed of the train/validation/test split.'),
+});
+
+export const spaceSchema = z.strictObject({
+  depth: integerRange.describe('Number of hidden layers.'),
+  width: integerRange.describe('Units per hidden layer.'),
+  activation: z.array(z.enum(ACTIVATIONS)).min(1).describe('Hidden-layer activations to choose from.'),
+  learningRate: positiveLogRange.describe('Learning rate, drawn on a log scale.'),
+  batchSize: z.array(z.int().min(1)).min(1).default([32]).describe('Batch sizes to choose from.'),
+  optimizer: z.array(z.enum(OPTIMIZERS)).min(1).default(['adam']).describe('Optimizers to choose from (momentum is SGD with momentum 0.9).'),
+  l2: positiveLogRange.optional().describe('L2 weight penalty, drawn on a log scale; absent means none.'),
+  dropout: fractionRange.optional().describe('Dropout rate after each hidden layer; absent means none.'),
+});
+
+export const budgetSchema = z.strictObject({
+  trials: z.int().min(1).describe('Configurations to try (Hyperband derives its own count and ignores this).'),
+  maxEpochs: z.int().min(1).describe('Epochs a configuration trains for at most (every trial, for random search).'),
+});
+
+const halvingFields = {
+  seed: seed.default(0),
+  eta: z.int().min(2).default(3).describe('Reduction factor: the top 1/eta of a rung goes on.'),
+  minEpochs: z.int().min(1).default(1).describe('Epochs of the first rung.'),
+};
+
+export const samplerSchema = z.discriminatedUnion('kind', [
+  z.strictObject({ kind: z.literal('random'), seed: seed.default(0) }),
+  z.strictObject({ kind: z.literal('successive-halving'), ...halvingFields }),
+  z.strictObject({ kind: z.literal('hyperband'), ...halvingFields }),
+  z.strictObject({ kind: z.literal('async-halving'), ...halvingFields }),
+]);
+
+export const objectiveSchema = z.strictObject({
+  metric: z.enum(METRICS).describe('Validation metric to rank trials by.'),
+  direction: z.enum(['maximize', 'minimize']).optional().describe('Default follows the metric.'),
+});
+
+export const studySchema = z.strictObject({
+  $schema: z.string().optional(),
+  name: z
+    .string()
+    .regex(/^[A-Za-z0-9][A-Za-z0-9._-]*$/, 'letters, digits, dot, dash and underscore, starting with a letter or digit')
+    .describe('Study name; also the default run directory runs/<name>.'),
+  data: dataSchema,
+  space: spaceSchema,
+  budget: budgetSchema,
+  sampler: samplerSchema.default({ kind: 'random', seed: 0 }),
+  objective: objectiveSchema.optional().describe('Default: auc for binary, accuracy for multiclass, rmse for regression.'),
+  workers: z.int().min(1).max(256).optional().describe('Worker threads; default: available cores.'),
+  trialTimeoutSeconds: z.number().positive().optional().describe('A trial running longer is stopped and marked timed-out.'),
+  retries: z.int().min(0).max(10).default(0).describe('Times a failed trial is run again before it is given up.'),
+});
+
+/** A study definition as written in the file (defaults not yet applied). */
+export type StudyDefinitionInput = z.input<typeof studySchema>;
+/** A validated study definition with defaults applied. */
+export type StudyDefinition = z.output<typeof studySchema>;
+export type SamplerSettings = StudyDefinition['sampler'];
+export type SearchSpace = StudyDefinition['space'];
+export type DataSettings = StudyDefinition['data'];
+
+/** One point of the search space: what a trial trains. */
+export interface TrialParams {
+  depth: number;
+  width: number;
+  activation: Activation;
+  learningRate: number;
+  batchSize: number;
+  optimizer: OptimizerName;
+  l2: number;
+  dropout: number;
+}
+
+export interface Objective {
+  metric: MetricName;
+  direction: 'maximize' | 'minimize';
+}
+
+const MINIMIZED: ReadonlySet<MetricName> = new Set(['logLoss', 'rmse', 'mae', 'validationLoss']);
+
+/** The objective in force: the study's own, else the task's default; direction follows the metric unless given. */
+export function resolveObjective(definition: Pick<StudyDefinition, 'objective' | 'data'>): Objective {
+  const metric: MetricName =
+    definition.objective?.metric ??
+    (definition.data.task === 'binary' ? 'auc' : definition.data.task === 'multiclass' ? 'accuracy' : 'rmse');
+  const direction = definition.objective?.direction ?? (MINIMIZED.has(metric) ? 'minimize' : 'maximize');
+  return { metric, direction };
+}
+
+/** Metrics each task reports every epoch (besides training and validation loss). */
+export function metricsForTask(task: Task): readonly MetricName[] {
+  if (task === 'binary') return ['accuracy', 'macroF1', 'auc', 'logLoss'];
+  if (task === 'multiclass') return ['accuracy', 'macroF1', 'logLoss'];
+  return ['rmse', 'mae', 'r2'];
+}
