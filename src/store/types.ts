@@ -4,9 +4,10 @@ import type { Objective, StudyDefinition, TrialParams } from '../study/definitio
 
 /**
  * Life of a trial. `stopped`: finished its rung but was not promoted (halving samplers).
- * `completed`: trained to the most epochs the sampler gives it.
+ * `completed`: trained to the most epochs the sampler gives it. `paused`: finished a rung, waiting for the
+ * sampler's promotion decision (its checkpoint is kept).
  */
-export type TrialStatus = 'queued' | 'running' | 'completed' | 'stopped' | 'diverged' | 'failed' | 'timed-out';
+export type TrialStatus = 'running' | 'paused' | 'completed' | 'stopped' | 'diverged' | 'failed' | 'timed-out';
 
 /** One epoch of a trial's curve, as stored (the trial id is implied). */
 export type CurvePoint = Omit<EpochReport, 'trialId'>;

@@ -1,0 +1,24 @@
+/**
+ * First Ctrl-C or SIGTERM: abort the signal (no new trials; running ones finish; the study is saved).
+ * Second: exit at once; the study file stays valid because every write is atomic.
+ */
+export function interruptSignal(): { signal: AbortSignal; dispose: () => void } {
+  const controller = new AbortController();
+  const onSignal = (name: NodeJS.Signals): void => {
+    if (controller.signal.aborted) {
+      process.stderr.write(`\n${name} again: stopping now; the study file holds every trial finished so far\n`);
+      process.exit(130);
+    }
+    process.stderr.write(`\n${name}: finishing running trials, then saving (press Ctrl-C again to stop at once)\n`);
+    controller.abort();
+  };
+  process.on('SIGINT', onSignal);
+  process.on('SIGTERM', onSignal);
+  return {
+    signal: controller.signal,
+    dispose: () => {
+      process.off('SIGINT', onSignal);
+      process.off('SIGTERM', onSignal);
+    },
+  };
+}

@@ -1,0 +1,79 @@
+import { Command, CommanderError, InvalidArgumentError } from 'commander';
+import { isUserError } from '../errors.js';
+import { run } from '../commands/run.js';
+import { ranking } from '../commands/ranking.js';
+import { interruptSignal } from './interrupt.js';
+
+function positiveInteger(value: string, name: string): number {
+  const parsed = Number(value);
+  if (!Number.isInteger(parsed) || parsed < 1) throw new InvalidArgumentError(`${name} must be a whole number from 1 up, got '${value}'`);
+  return parsed;
+}
+
+/** Declares the commands and flags; each action calls one function of `src/commands`. */
+export function buildProgram(write: (text: string) => void): Command {
+  const program = new Command('rungwise')
+    .description('Tune small neural networks on ordinary CPUs.')
+    .option('--debug', 'show the stack of internal errors')
+    .exitOverride()
+    .showSuggestionAfterError(true)
+    .configureOutput({ writeOut: write, writeErr: (text) => process.stderr.write(text) });
+
+  program
+    .command('run')
+    .description('launch a study from its definition file')
+    .argument('<definition>', 'study definition (JSON)')
+    .option('--out <dir>', 'run directory (default: runs/<study name>)')
+    .option('--workers <n>', 'worker threads (default: the study\'s, else available cores)', (v) => positiveInteger(v, '--workers'))
+    .option('--top <n>', 'configurations shown at the end', (v) => positiveInteger(v, '--top'), 10)
+    .option('--force', 'replace a run directory that already holds a study')
+    .action(async (definition: string, flags: { out?: string; workers?: number; top: number; force?: boolean }) => {
+      const interrupt = interruptSignal();
+      try {
+        const outcome = await run({ definition, ...flags, signal: interrupt.signal });
+        if (outcome.doc.state === 'interrupted') {
+          write(`study interrupted; continue it with: rungwise resume ${outcome.dir}\n`);
+          process.exitCode = 130;
+        }
+      } finally {
+        interrupt.dispose();
+      }
+    });
+
+  program
+    .command('ranking')
+    .description('print the ranking from a saved study file')
+    .argument('<dir>', 'run directory')
+    .option('--top <n>', 'configurations shown', (v) => positiveInteger(v, '--top'), 10)
+    .option('--json', 'print JSON')
+    .action(async (dir: string, flags: { top: number; json?: boolean }) => {
+      write(`${await ranking({ dir, ...flags })}\n`);
+    });
+
+  return program;
+}
+
+/** Runs the CLI; the only place that turns errors into exit codes. Returns the exit code. */
+export async function main(argv: readonly string[]): Promise<number> {
+  const debug = argv.includes('--debug');
+  const program = buildProgram((text) => process.stdout.write(text));
+  try {
+    process.exitCode = undefined;
+    await program.parseAsync([...argv]);
+    return typeof process.exitCode === 'number' ? process.exitCode : 0;
+  } catch (error) {
+    if (error instanceof CommanderError) {
+      // Help and version are "errors" with exit code 0; usage errors are user errors.
+      return error.exitCode === 0 ? 0 : 2;
+    }
+    if (isUserError(error)) {
+      process.stderr.write(`error: ${error.message}\n`);
+      return error.exitCode;
+    }
+    const message = error instanceof Error ? error.message : String(error);
+    process.stderr.write(`internal error: ${message}\n`);
+    if (debug && error instanceof Error && error.stack) process.stderr.write(`${error.stack}\n`);
+    else process.stderr.write('(run again with --debug for the stack)\n');
+    return 1;
+  }
+}

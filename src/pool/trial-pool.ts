@@ -1,0 +1,67 @@
+import { existsSync } from 'node:fs';
+import { MessageChannel } from 'node:worker_threads';
+import { fileURLToPath } from 'node:url';
+import path from 'node:path';
+import { Piscina } from 'piscina';
+import type { EpochReport, TrainRequest, TrainResult } from './messages.js';
+
+export interface TrialPoolOptions {
+  /** Worker threads. */
+  workers: number;
+  /** Worker entry point; default: the compiled `dist/workers/trial-worker.js`. */
+  workerFile?: string;
+}
+
+/** The compiled worker entry point, whether this module runs from `dist/` or from source under a test runner. */
+export function defaultWorkerFile(): string {
+  const here = path.dirname(fileURLToPath(import.meta.url));
+  const candidates = [
+    path.resolve(here, '../../workers/trial-worker.js'), // dist/src/pool -> dist/workers
+    path.resolve(here, '../../dist/workers/trial-worker.js'), // src/pool -> dist/workers
+  ];
+  const found = candidates.find((file) => existsSync(file));
+  if (!found) throw new Error(`worker entry point not found (looked at ${candidates.join(', ')}); run \`npm run build\``);
+  return found;
+}
+
+/** A fixed-size pool of trial workers; each task trains one job and streams its epoch reports. */
+export class TrialPool {
+  private readonly piscina: Piscina;
+  readonly workers: number;
+
+  constructor(options: TrialPoolOptions) {
+    if (!Number.isInteger(options.workers) || options.workers < 1) {
+      throw new Error(`options.workers must be a positive integer, got ${options.workers}`);
+    }
+    this.workers = options.workers;
+    this.piscina = new Piscina({
+      filename: options.workerFile ?? defaultWorkerFile(),
+      minThreads: options.workers,
+      maxThreads: options.workers,
+      // Every worker is busy or about to be; never queue more than one job per worker.
+      maxQueue: options.workers,
+      idleTimeout: 60_000,
+      // A worker keeps its data tensors between trials; one task at a time per thread.
+      concurrentTasksPerWorker: 1,
+    });
+  }
+
+  /**
+   * Train one job. Resolves with the worker's result; rejects when the worker throws, dies,
+   * or `signal` aborts (the worker thread is then ended and replaced).
+   */
+  async run(request: Omit<TrainRequest, 'progressPort'>, onEpoch: (report: EpochReport) => void, signal?: AbortSignal): Promise<TrainResult> {
+    const channel = new MessageChannel();
+    channel.port1.on('message', (report: EpochReport) => onEpoch(report));
+    try {
+      const task: TrainRequest = { ...request, progressPort: channel.port2 };
+      return (await this.piscina.run(task, { transferList: [channel.port2], ...(signal ? { signal } : {}) })) as TrainResult;
+    } finally {
+      channel.port1.close();
+    }
+  }
+
+  async close(): Promise<void> {
+    await this.piscina.close({ force: true });
+  }
+}

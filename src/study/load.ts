@@ -1,0 +1,97 @@
+import { readFile } from 'node:fs/promises';
+import path from 'node:path';
+import { parse as parseLenient, printParseErrorCode, type ParseError } from 'jsonc-parser';
+import { UserError } from '../errors.js';
+import {
+  BINARY_METRICS,
+  CLASSIFICATION_METRICS,
+  REGRESSION_METRICS,
+  studySchema,
+  type MetricName,
+  type StudyDefinition,
+} from './definition.js';
+import { formatIssue } from './issues.js';
+
+export interface LoadedStudy {
+  definition: StudyDefinition;
+  /** Absolute path of the definition file. */
+  file: string;
+}
+
+function lineAndColumn(text: string, offset: number): { line: number; column: number } {
+  const before = text.slice(0, offset);
+  const line = before.split('\n').length;
+  return { line, column: offset - before.lastIndexOf('\n') };
+}
+
+/** Parse JSON; a syntax error names the line and column. */
+export function parseJson(text: string, file: string): unknown {
+  try {
+    return JSON.parse(text) as unknown;
+  } catch {
+    const errors: ParseError[] = [];
+    parseLenient(text, errors, { allowTrailingComma: false, disallowComments: true });
+    const first = errors[0];
+    if (!first) throw new UserError('E_STUDY_JSON', `${file}: not valid JSON`);
+    const { line, column } = lineAndColumn(text, first.offset);
+    throw new UserError('E_STUDY_JSON', `${file}: line ${line}, column ${column}: not valid JSON (${printParseErrorCode(first.error)})`);
+  }
+}
+
+function metricsAllowed(task: StudyDefinition['data']['task']): readonly MetricName[] {
+  const base = task === 'binary' ? BINARY_METRICS : task === 'multiclass' ? CLASSIFICATION_METRICS : REGRESSION_METRICS;
+  return [...base, 'validationLoss'];
+}
+
+/** Rules that span several fields, each as `[json path, message]`. */
+function crossFieldProblems(definition: StudyDefinition): [string, string][] {
+  const problems: [string, string][] = [];
+  const { data, sampler, budget, objective } = definition;
+  if (data.validationFraction + data.testFraction > 0.9) {
+    problems.push([
+      'data.validationFraction',
+      `validation (${data.validationFraction}) and test (${data.testFraction}) fractions add up to more than 0.9; leave at least 10% for training`,
+    ]);
+  }
+  if (objective) {
+    const allowed = metricsAllowed(data.task);
+    if (!allowed.includes(objective.metric)) {
+      problems.push(['objective.metric', `found "${objective.metric}", expected for a ${data.task} task one of ${allowed.map((m) => `"${m}"`).join(', ')}`]);
+    }
+  }
+  if (sampler.kind !== 'random' && sampler.minEpochs > budget.maxEpochs) {
+    problems.push(['sampler.minEpochs', `found ${sampler.minEpochs}, expected at most budget.maxEpochs (${budget.maxEpochs})`]);
+  }
+  if (data.features?.includes(data.target)) {
+    problems.push(['data.features', `lists the target column "${data.target}"; the target cannot be an input`]);
+  }
+  return problems;
+}
+
+/** Validate an already parsed definition; `file` is used in messages only. */
+export function validateStudy(raw: unknown, file: string): StudyDefinition {
+  const result = studySchema.safeParse(raw);
+  if (!result.success) {
+    const lines = result.error.issues.map((issue) => formatIssue(file, issue, raw, studySchema));
+    throw new UserError('E_STUDY_INVALID', lines.join('\n'));
+  }
+  const problems = crossFieldProblems(result.data);
+  if (problems.length > 0) {
+    throw new UserError('E_STUDY_INVALID', problems.map(([where, what]) => `${file}: ${where}: ${what}`).join('\n'));
+  }
+  return result.data;
+}
+
+/** Read, parse and validate a study definition file. Throws a {@link UserError} on any problem. */
+export async function loadStudy(file: string): Promise<LoadedStudy> {
+  const absolute = path.resolve(file);
+  let text: string;
+  try {
+    text = await readFile(absolute, 'utf8');
+  } catch (error) {
+    const reason = (error as NodeJS.ErrnoException).code === 'ENOENT' ? 'no such file' : (error as Error).message;
+    throw new UserError('E_STUDY_FILE', `${file}: cannot read the study definition (${reason})`);
+  }
+  if (text.trim() === '') throw new UserError('E_STUDY_JSON', `${file}: the file is empty; expected a JSON study definition`);
+  return { definition: validateStudy(parseJson(text, file), file), file: absolute };
+}
