@@ -1,0 +1,90 @@
+import { existsSync } from 'node:fs';
+import { mkdtemp, readFile, writeFile } from 'node:fs/promises';
+import { tmpdir } from 'node:os';
+import path from 'node:path';
+import { beforeAll, describe, expect, it } from 'vitest';
+import { runCli } from './helpers/cli.js';
+import { writeIrisCsv } from './helpers/datasets.js';
+
+let dir: string;
+let studyFile: string;
+
+const study = {
+  name: 'iris-cli',
+  data: { csv: 'iris.csv', target: 'species', task: 'multiclass', splitSeed: 4 },
+  space: {
+    depth: { min: 1, max: 2 },
+    width: { min: 4, max: 16 },
+    activation: ['relu', 'tanh'],
+    learningRate: { min: 0.003, max: 0.05 },
+    batchSize: [16],
+    optimizer: ['adam'],
+  },
+  budget: { trials: 3, maxEpochs: 4 },
+  sampler: { kind: 'random', seed: 11 },
+  workers: 2,
+};
+
+beforeAll(async () => {
+  dir = await mkdtemp(path.join(tmpdir(), 'rungwise-cli-'));
+  await writeIrisCsv(dir);
+  studyFile = path.join(dir, 'study.json');
+  await writeFile(studyFile, JSON.stringify(study));
+});
+
+describe('rungwise run and ranking', () => {
+  it('runs a study, prints the ranking table and the study file, then ranks it again as JSON', async () => {
+    const out = path.join(dir, 'run');
+    const result = await runCli(['run', studyFile, '--out', out]);
+    expect(result.stderr).toBe('');
+    expect(result.code).toBe(0);
+    expect(result.stdout).toMatch(/rank\s+trial\s+rung\s+epochs\s+accuracy/);
+    expect(result.stdout).toContain(`study file: ${path.join(out, 'study.json')}`);
+    expect(result.stdout).toContain('validation score of a configuration picked from many is optimistic');
+
+    const ranking = await runCli(['ranking', out, '--json']);
+    expect(ranking.code).toBe(0);
+    const parsed = JSON.parse(ranking.stdout) as { ranking: { rank: number; trial: number; epochs: number; objective: number }[] };
+    expect(parsed.ranking.map((r) => r.rank)).toEqual([1, 2, 3]);
+    expect(parsed.ranking.every((r) => r.epochs === 4)).toBe(true);
+    const objectives = parsed.ranking.map((r) => r.objective);
+    expect([...objectives].sort((a, b) => b - a)).toEqual(objectives);
+
+    const doc = JSON.parse(await readFile(path.join(out, 'study.json'), 'utf8')) as { trials: { curve: unknown[]; status: string }[] };
+    expect(doc.trials).toHaveLength(3);
+    expect(doc.trials.every((t) => t.status === 'completed' && t.curve.length === 4)).toBe(true);
+  });
+
+  it('refuses to run over a directory that already holds a study', async () => {
+    const out = path.join(dir, 'taken');
+    expect((await runCli(['run', studyFile, '--out', out])).code).toBe(0);
+    const again = await runCli(['run', studyFile, '--out', out]);
+    expect(again.code).toBe(2);
+    expect(again.stderr).toMatch(/already holds a study; use `rungwise resume /);
+  });
+
+  it('exits 2 with a one-line error and writes nothing for a malformed definition', async () => {
+    const bad = path.join(dir, 'bad.json');
+    await writeFile(bad, JSON.stringify({ ...study, budget: { trials: 3, maxEpoch: 4 } }));
+    const out = path.join(dir, 'never');
+    const result = await runCli(['run', bad, '--out', out]);
+    expect(result.code).toBe(2);
+    expect(result.stdout).toBe('');
+    expect(result.stderr.trim().split('\n')).toHaveLength(2);
+    expect(result.stderr).toContain(`${bad}: budget.maxEpoch: unknown key (did you mean 'maxEpochs'?)`);
+    expect(result.stderr).toContain(`${bad}: budget.maxEpochs: missing, expected a number`);
+    expect(existsSync(out)).toBe(false);
+  });
+
+  it('exits 2 for an unknown flag', async () => {
+    const result = await runCli(['run', studyFile, '--wrokers', '2']);
+    expect(result.code).toBe(2);
+    expect(result.stderr).toContain("unknown option '--wrokers'");
+  });
+
+  it('ranking of a directory without a study says what to do next', async () => {
+    const result = await runCli(['ranking', path.join(dir, 'empty')]);
+    expect(result.code).toBe(2);
+    expect(result.stderr).toMatch(/no study file here; run `rungwise run/);
+  });
+});

@@ -1,0 +1,29 @@
+import { spawn } from 'node:child_process';
+import { fileURLToPath } from 'node:url';
+
+/** The project's `bin/rungwise.js`, which runs the compiled CLI (`npm test` builds first). */
+export const BIN = fileURLToPath(new URL('../../bin/rungwise.js', import.meta.url));
+
+export interface CliResult {
+  code: number | null;
+  signal: NodeJS.Signals | null;
+  stdout: string;
+  stderr: string;
+}
+
+/** Run the CLI as a child process and collect its output. */
+export function runCli(args: readonly string[], options: { cwd?: string; env?: NodeJS.ProcessEnv } = {}): Promise<CliResult> {
+  return new Promise((resolve, reject) => {
+    const child = spawn(process.execPath, [BIN, ...args], {
+      cwd: options.cwd,
+      env: { ...process.env, ...options.env },
+      stdio: ['ignore', 'pipe', 'pipe'],
+    });
+    let stdout = '';
+    let stderr = '';
+    child.stdout.on('data', (chunk: Buffer) => (stdout += chunk.toString()));
+    child.stderr.on('data', (chunk: Buffer) => (stderr += chunk.toString()));
+    child.on('error', reject);
+    child.on('close', (code, signal) => resolve({ code, signal, stdout, stderr }));
+  });
+}
