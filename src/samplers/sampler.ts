@@ -10,6 +10,8 @@ export interface Job {
   bracket: number;
   fromEpoch: number;
   toEpoch: number;
+  /** Why the trial was promoted into this rung (asynchronous halving sets it), e.g. "rank 2 of 7 at rung 0 (top 2 promotable)". */
+  reason?: string;
 }
 
 /** What came of a job. `objective` is null when the trial diverged or failed. */

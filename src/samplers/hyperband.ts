@@ -1,0 +1,123 @@
+import type { Job, JobOutcome, Sampler } from './sampler.js';
+import { HalvingBracket, type RungPlan } from './successive-halving.js';
+import { assertEta, assertPositiveInteger, type ParamsForTrial } from './ranking.js';
+
+/** One Hyperband bracket: its index s (s_max runs first) and its rounds of successive halving. */
+export interface HyperbandBracketPlan {
+  s: number;
+  rounds: RungPlan[];
+}
+
+/**
+ * s_max = floor(log_eta(maxEpochs / minEpochs)), by an integer loop: a floating logarithm gives
+ * e.g. log(1000) / log(10) = 2.9999999999999996 and would lose a bracket.
+ */
+export function largestBracket(maxEpochs: number, minEpochs: number, eta: number): number {
+  let s = 0;
+  // Integers throughout: minEpochs * eta^(s + 1) <= maxEpochs is exact.
+  for (let resource = minEpochs * eta; resource <= maxEpochs; resource *= eta) s++;
+  return s;
+}
+
+/**
+ * The Hyperband plan. The resource unit is minEpochs epochs, so R = maxEpochs / minEpochs units,
+ * s_max = floor(log_eta R), B = (s_max + 1) R. Bracket s = s_max .. 0 starts n = ceil((B / R) eta^s / (s + 1))
+ * configurations at r = R eta^-s units; round i has n_i = floor(n eta^-i) configurations at r_i = r eta^i units.
+ * Source: Li et al., Hyperband, JMLR 18(185), 2018, Algorithm 1.
+ *
+ * B / R = s_max + 1 exactly, so n is computed in integers. Epochs of round i are
+ * maxEpochs * eta^(i - s) rounded to the nearest integer: when minEpochs does not divide maxEpochs the
+ * paper's r_i are fractional. Rounding keeps every round at least minEpochs (r_0 >= 1 unit) and strictly
+ * above the previous one (consecutive rounds differ by a factor eta >= 2 on values >= 1); the last round
+ * of every bracket is exactly maxEpochs.
+ */
+export function hyperbandSchedule(maxEpochs: number, eta: number, minEpochs = 1): HyperbandBracketPlan[] {
+  assertPositiveInteger('maxEpochs', maxEpochs);
+  assertPositiveInteger('minEpochs', minEpochs);
+  assertEta(eta);
+  if (minEpochs > maxEpochs) throw new RangeError(`minEpochs (${minEpochs}) must not exceed maxEpochs (${maxEpochs})`);
+  const sMax = largestBracket(maxEpochs, minEpochs, eta);
+  const brackets: HyperbandBracketPlan[] = [];
+  for (let s = sMax; s >= 0; s--) {
+    const etaToS = eta ** s;
+    const n = Math.ceil(((sMax + 1) * etaToS) / (s + 1));
+    const rounds: RungPlan[] = [];
+    for (let i = 0; i <= s; i++) {
+      const etaToI = eta ** i;
+      rounds.push({
+        configurations: Math.floor(n / etaToI),
+        epochs: Math.round((maxEpochs * etaToI) / etaToS),
+      });
+    }
+    brackets.push({ s, rounds });
+  }
+  return brackets;
+}
+
+/** Sum of configurations times epochs over the rounds: the paper's budget, counting each round from scratch. */
+export function scheduledEpochs(rounds: readonly RungPlan[]): number {
+  return rounds.reduce((sum, round) => sum + round.configurations * round.epochs, 0);
+}
+
+/** Epochs actually trained when promoted trials continue from their checkpoint (each round adds only the difference). */
+export function trainedEpochs(rounds: readonly RungPlan[]): number {
+  return rounds.reduce((sum, round, i) => sum + round.configurations * (round.epochs - (i > 0 ? rounds[i - 1]!.epochs : 0)), 0);
+}
+
+export interface HyperbandOptions {
+  maxEpochs: number;
+  /** Epochs of one resource unit (the shortest round). */
+  minEpochs: number;
+  eta: number;
+  paramsFor: ParamsForTrial;
+  /**
+   * Let later brackets hand out jobs while an earlier one waits for its rung to fill. Decisions stay
+   * deterministic either way: each bracket ranks only its own rung's results.
+   * @default true
+   */
+  overlapBrackets?: boolean;
+}
+
+/**
+ * Hyperband: brackets s_max .. 0 of successive halving, one after another. Trial ids run across brackets
+ * (bracket s_max owns 0 .. n - 1, the next the following ids, and so on); `Job.bracket` is s.
+ */
+export class HyperbandSampler implements Sampler {
+  private readonly brackets: HalvingBracket[] = [];
+  private readonly overlap: boolean;
+
+  constructor(options: HyperbandOptions) {
+    this.overlap = options.overlapBrackets ?? true;
+    let firstTrialId = 0;
+    for (const plan of hyperbandSchedule(options.maxEpochs, options.eta, options.minEpochs)) {
+      this.brackets.push(new HalvingBracket({ plan: plan.rounds, firstTrialId, bracket: plan.s, paramsFor: options.paramsFor }));
+      firstTrialId += plan.rounds[0]!.configurations;
+    }
+  }
+
+  next(): Job | 'wait' | 'done' {
+    let waiting = false;
+    for (const bracket of this.brackets) {
+      const job = bracket.next();
+      if (job === 'done') continue;
+      if (job !== 'wait') return job;
+      waiting = true;
+      if (!this.overlap) return 'wait';
+    }
+    return waiting ? 'wait' : 'done';
+  }
+
+  report(outcome: JobOutcome): void {
+    this.bracketOf(outcome.trialId).report(outcome);
+  }
+
+  mayContinue(trialId: number): boolean {
+    return this.brackets.some((bracket) => bracket.ownsTrial(trialId) && bracket.mayContinue(trialId));
+  }
+
+  private bracketOf(trialId: number): HalvingBracket {
+    const bracket = this.brackets.find((candidate) => candidate.ownsTrial(trialId));
+    if (!bracket) throw new Error(`hyperband: trial ${trialId} belongs to no bracket`);
+    return bracket;
+  }
+}

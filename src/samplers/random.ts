@@ -1,0 +1,50 @@
+import type { Job, JobOutcome, Sampler } from './sampler.js';
+import { assertPositiveInteger, type ParamsForTrial } from './ranking.js';
+
+export interface RandomSamplerOptions {
+  /** Configurations to try; trial ids run 0 .. trials - 1. */
+  trials: number;
+  /** Every trial trains from scratch to this many epochs in one job. */
+  maxEpochs: number;
+  paramsFor: ParamsForTrial;
+}
+
+/**
+ * Random search: each trial is one job of maxEpochs epochs, handed out in id order.
+ * Source: Bergstra, Bengio, "Random Search for Hyper-Parameter Optimization", JMLR 13, 2012.
+ */
+export class RandomSampler implements Sampler {
+  private nextTrialId = 0;
+  private readonly outstanding = new Set<number>();
+
+  constructor(private readonly options: RandomSamplerOptions) {
+    assertPositiveInteger('trials', options.trials);
+    assertPositiveInteger('maxEpochs', options.maxEpochs);
+  }
+
+  next(): Job | 'done' {
+    // 'done' once everything is handed out: the run loop waits for outstanding jobs itself.
+    if (this.nextTrialId >= this.options.trials) return 'done';
+    const trialId = this.nextTrialId++;
+    this.outstanding.add(trialId);
+    return {
+      trialId,
+      params: this.options.paramsFor(trialId),
+      rung: 0,
+      bracket: 0,
+      fromEpoch: 0,
+      toEpoch: this.options.maxEpochs,
+    };
+  }
+
+  report(outcome: JobOutcome): void {
+    if (outcome.rung !== 0 || !this.outstanding.delete(outcome.trialId)) {
+      throw new Error(`random sampler: no outstanding job for trial ${outcome.trialId} at rung ${outcome.rung}`);
+    }
+  }
+
+  /** Never: every trial trains to maxEpochs in its single job. */
+  mayContinue(_trialId: number): boolean {
+    return false;
+  }
+}

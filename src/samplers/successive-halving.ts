@@ -1,0 +1,141 @@
+import type { Job, JobOutcome, Sampler } from './sampler.js';
+import { assertEta, assertPositiveInteger, isPromotable, rank, resultsOf, rungEpochs, type ParamsForTrial } from './ranking.js';
+
+/** One rung of a plan: how many configurations train, and to how many epochs in all. */
+export interface RungPlan {
+  configurations: number;
+  epochs: number;
+}
+
+/**
+ * The successive-halving plan for n configurations starting at r epochs, with at most R epochs:
+ * rung k trains max(1, floor(n_{k-1} / eta)) configurations to min(r * eta^k, R) epochs, and the
+ * last rung is the first one that reaches R.
+ * Source: Jamieson, Talwalkar, AISTATS 2016 (as restated in Li et al., Hyperband, JMLR 2018), eta in place of 2.
+ */
+export function halvingSchedule(n: number, r: number, R: number, eta: number): RungPlan[] {
+  assertPositiveInteger('n', n);
+  const epochs = rungEpochs(Math.min(r, R), R, eta);
+  let configurations = n;
+  return epochs.map((rungEpochs, k) => {
+    if (k > 0) configurations = Math.max(1, Math.floor(configurations / eta));
+    return { configurations, epochs: rungEpochs };
+  });
+}
+
+export interface HalvingBracketOptions {
+  /** The rungs to run; rung k + 1 keeps the best `plan[k + 1].configurations` of rung k. */
+  plan: readonly RungPlan[];
+  /** Trial ids of this bracket are firstTrialId .. firstTrialId + plan[0].configurations - 1. */
+  firstTrialId: number;
+  /** Written into every job. */
+  bracket: number;
+  paramsFor: ParamsForTrial;
+}
+
+/**
+ * Synchronous successive halving over one fixed plan: hands out a rung's jobs, waits until every
+ * result of the rung is in, then promotes the best. Decisions depend only on the set of results
+ * (ties go to the lower trial id), so they are the same with one worker or many.
+ * Diverged or failed trials (null loss) are never promoted, so a rung may keep fewer than planned.
+ */
+export class HalvingBracket implements Sampler {
+  private rung = 0;
+  /** Trials of the current rung, in hand-out order (ids for rung 0, best first afterwards). */
+  private members: number[];
+  private handedOut = 0;
+  private readonly results = new Map<number, number | null>();
+  private finished = false;
+
+  constructor(private readonly options: HalvingBracketOptions) {
+    const first = options.plan[0];
+    if (!first) throw new RangeError('a halving plan needs at least one rung');
+    this.members = Array.from({ length: first.configurations }, (_, i) => options.firstTrialId + i);
+  }
+
+  /** Trial ids this bracket owns. */
+  ownsTrial(trialId: number): boolean {
+    const first = this.options.plan[0]!.configurations;
+    return trialId >= this.options.firstTrialId && trialId < this.options.firstTrialId + first;
+  }
+
+  get isFinished(): boolean {
+    return this.finished;
+  }
+
+  next(): Job | 'wait' | 'done' {
+    if (this.finished) return 'done';
+    const trialId = this.members[this.handedOut];
+    if (trialId === undefined) return 'wait';
+    this.handedOut++;
+    const { plan, bracket, paramsFor } = this.options;
+    return {
+      trialId,
+      params: paramsFor(trialId),
+      rung: this.rung,
+      bracket,
+      fromEpoch: this.rung === 0 ? 0 : plan[this.rung - 1]!.epochs,
+      toEpoch: plan[this.rung]!.epochs,
+    };
+  }
+
+  report(outcome: JobOutcome): void {
+    const inRung = this.members.indexOf(outcome.trialId);
+    if (this.finished || outcome.rung !== this.rung || inRung < 0 || inRung >= this.handedOut || this.results.has(outcome.trialId)) {
+      throw new Error(`successive halving: no outstanding job for trial ${outcome.trialId} at rung ${outcome.rung}`);
+    }
+    this.results.set(outcome.trialId, outcome.loss);
+    if (this.results.size === this.members.length) this.closeRung();
+  }
+
+  mayContinue(trialId: number): boolean {
+    if (this.finished || this.rung === this.options.plan.length - 1) return false;
+    if (!this.members.includes(trialId)) return false;
+    // Not yet reported (undefined) may still win; a diverged result never will.
+    return !this.results.has(trialId) || isPromotable(this.results.get(trialId)!);
+  }
+
+  /** Invariant: called once per rung, when every member has reported. */
+  private closeRung(): void {
+    const nextPlan = this.options.plan[this.rung + 1];
+    const promoted = nextPlan
+      ? rank(resultsOf(this.results))
+          .filter((result) => isPromotable(result.loss))
+          .slice(0, nextPlan.configurations)
+          .map((result) => result.trialId)
+      : [];
+    this.results.clear();
+    this.handedOut = 0;
+    if (promoted.length === 0) {
+      this.finished = true;
+      this.members = [];
+      return;
+    }
+    this.rung++;
+    this.members = promoted;
+  }
+}
+
+export interface SuccessiveHalvingOptions {
+  /** Configurations in the first rung (trial ids 0 .. trials - 1). */
+  trials: number;
+  /** Epochs of the first rung. */
+  minEpochs: number;
+  /** Epochs of the last rung. */
+  maxEpochs: number;
+  eta: number;
+  paramsFor: ParamsForTrial;
+}
+
+/** Successive halving of `trials` configurations from minEpochs up to maxEpochs; see {@link HalvingBracket}. */
+export class SuccessiveHalvingSampler extends HalvingBracket {
+  constructor(options: SuccessiveHalvingOptions) {
+    assertEta(options.eta);
+    super({
+      plan: halvingSchedule(options.trials, options.minEpochs, options.maxEpochs, options.eta),
+      firstTrialId: 0,
+      bracket: 0,
+      paramsFor: options.paramsFor,
+    });
+  }
+}

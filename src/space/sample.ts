@@ -1,0 +1,63 @@
+import type { SearchSpace, TrialParams } from '../study/definition.js';
+import { stream, type Rng } from '../random/streams.js';
+
+/**
+ * Draw one configuration from the search space.
+ *
+ * Every field consumes exactly one draw, always in the same order (depth, width, activation,
+ * learningRate, batchSize, optimizer, l2, dropout), even when the field is fixed or absent. So
+ * adding `l2` to a space, or giving a list a single entry, leaves every other field's draw unchanged.
+ */
+export function sampleParams(space: SearchSpace, rng: Rng): TrialParams {
+  const depth = drawInteger(space.depth, rng());
+  const width = drawInteger(space.width, rng());
+  const activation = choose(space.activation, rng());
+  const learningRate = logUniform(space.learningRate.min, space.learningRate.max, rng());
+  const batchSize = choose(space.batchSize, rng());
+  const optimizer = choose(space.optimizer, rng());
+  const l2Draw = rng();
+  const dropoutDraw = rng();
+  return {
+    depth,
+    width,
+    activation,
+    learningRate,
+    batchSize,
+    optimizer,
+    l2: space.l2 ? logUniform(space.l2.min, space.l2.max, l2Draw) : 0,
+    dropout: space.dropout ? uniform(space.dropout.min, space.dropout.max, dropoutDraw) : 0,
+  };
+}
+
+/**
+ * The configuration of trial `trialId`: depends only on the space, the study seed and the id,
+ * never on the order in which trials run.
+ */
+export function paramsForTrial(space: SearchSpace, studySeed: number, trialId: number): TrialParams {
+  return sampleParams(space, stream(studySeed, 'params', trialId));
+}
+
+/** An integer in [min, max]: uniform, or log-uniform when `log` (each k weighted by ln((k+1)/k)). */
+export function drawInteger(range: { min: number; max: number; log: boolean }, u: number): number {
+  const value = range.log
+    ? Math.floor(logUniform(range.min, range.max + 1, u))
+    : range.min + Math.floor(u * (range.max - range.min + 1));
+  // exp(log(x)) can land a hair outside the range; the clamp keeps the bounds inclusive and exact.
+  return Math.min(range.max, Math.max(range.min, value));
+}
+
+/** A real in [min, max] whose logarithm is uniform. */
+export function logUniform(min: number, max: number, u: number): number {
+  if (min === max) return min;
+  const value = Math.exp(Math.log(min) + u * (Math.log(max) - Math.log(min)));
+  return Math.min(max, Math.max(min, value));
+}
+
+function uniform(min: number, max: number, u: number): number {
+  return min + u * (max - min);
+}
+
+function choose<T>(options: readonly T[], u: number): T {
+  // u < 1, so the index is always in range; the schema guarantees a non-empty list.
+  return options[Math.min(options.length - 1, Math.floor(u * options.length))]!;
+}

@@ -1,0 +1,91 @@
+import { describe, expect, it } from 'vitest';
+import { drawInteger, logUniform, paramsForTrial, sampleParams } from '../src/space/sample.js';
+import { spaceSchema, type SearchSpace } from '../src/study/definition.js';
+import { stream } from '../src/random/streams.js';
+
+const space: SearchSpace = spaceSchema.parse({
+  depth: { min: 1, max: 4 },
+  width: { min: 8, max: 256, log: true },
+  activation: ['relu', 'tanh', 'elu'],
+  learningRate: { min: 1e-4, max: 1e-1 },
+  batchSize: [16, 32, 64],
+  optimizer: ['sgd', 'adam'],
+  l2: { min: 1e-6, max: 1e-2 },
+  dropout: { min: 0, max: 0.5 },
+});
+
+describe('paramsForTrial', () => {
+  it('gives the same configuration for the same seed and trial id', () => {
+    expect(paramsForTrial(space, 7, 3)).toEqual(paramsForTrial(space, 7, 3));
+  });
+
+  it('gives different configurations to different trial ids and different seeds', () => {
+    expect(paramsForTrial(space, 7, 3)).not.toEqual(paramsForTrial(space, 7, 4));
+    expect(paramsForTrial(space, 7, 3)).not.toEqual(paramsForTrial(space, 8, 3));
+  });
+
+  it('does not depend on which trials were drawn before', () => {
+    const alone = paramsForTrial(space, 1, 9);
+    for (let id = 0; id < 9; id++) paramsForTrial(space, 1, id);
+    expect(paramsForTrial(space, 1, 9)).toEqual(alone);
+  });
+});
+
+describe('sampleParams', () => {
+  const draws = Array.from({ length: 2000 }, (_, id) => paramsForTrial(space, 0, id));
+
+  it('keeps every field inside its range or list', () => {
+    for (const p of draws) {
+      expect(Number.isInteger(p.depth) && p.depth >= 1 && p.depth <= 4).toBe(true);
+      expect(Number.isInteger(p.width) && p.width >= 8 && p.width <= 256).toBe(true);
+      expect(space.activation).toContain(p.activation);
+      expect(space.batchSize).toContain(p.batchSize);
+      expect(space.optimizer).toContain(p.optimizer);
+      expect(p.learningRate >= 1e-4 && p.learningRate <= 1e-1).toBe(true);
+      expect(p.l2 >= 1e-6 && p.l2 <= 1e-2).toBe(true);
+      expect(p.dropout >= 0 && p.dropout <= 0.5).toBe(true);
+    }
+  });
+
+  it('reaches both ends of integer ranges and every choice', () => {
+    expect(new Set(draws.map((p) => p.depth))).toEqual(new Set([1, 2, 3, 4]));
+    expect(Math.min(...draws.map((p) => p.width))).toBe(8);
+    expect(Math.max(...draws.map((p) => p.width))).toBe(256);
+    expect(new Set(draws.map((p) => p.activation)).size).toBe(3);
+  });
+
+  it('spreads log-uniform learning rates evenly over decades (about a third each of [1e-4, 1e-1])', () => {
+    const perDecade = [0, 0, 0];
+    for (const p of draws) perDecade[Math.min(2, Math.floor(Math.log10(p.learningRate) + 4))]!++;
+    // Expected 666.7 each; binomial sd is about 21, so +-100 is a generous (about 5 sd) tolerance.
+    for (const count of perDecade) expect(Math.abs(count - 2000 / 3)).toBeLessThan(100);
+  });
+
+  it('draws log-scaled widths as often below the geometric middle as above it', () => {
+    // Geometric middle of [8, 256] is 45.25: a log-uniform draw is below it half the time, a uniform one 15% of the time.
+    const below = draws.filter((p) => p.width <= 45).length;
+    expect(Math.abs(below - 1000)).toBeLessThan(120);
+  });
+
+  it('sets l2 and dropout to 0 when the space leaves them out, without moving the other draws', () => {
+    const { l2: _l2, dropout: _dropout, ...rest } = space;
+    const bare: SearchSpace = rest;
+    const withOptional = sampleParams(space, stream(5, 'params', 0));
+    const without = sampleParams(bare, stream(5, 'params', 0));
+    expect(without).toEqual({ ...withOptional, l2: 0, dropout: 0 });
+  });
+});
+
+describe('drawing helpers', () => {
+  it('covers an integer range inclusively at u = 0 and u just below 1', () => {
+    expect(drawInteger({ min: 2, max: 5, log: false }, 0)).toBe(2);
+    expect(drawInteger({ min: 2, max: 5, log: false }, 0.999999)).toBe(5);
+    expect(drawInteger({ min: 8, max: 256, log: true }, 0)).toBe(8);
+    expect(drawInteger({ min: 8, max: 256, log: true }, 0.999999)).toBe(256);
+  });
+
+  it('maps u = 0.5 of a log range to its geometric middle', () => {
+    expect(logUniform(1e-4, 1e-2, 0.5)).toBeCloseTo(1e-3, 12);
+    expect(logUniform(0.01, 0.01, 0.3)).toBe(0.01);
+  });
+});
