@@ -1,0 +1,149 @@
+import * as tf from '@tensorflow/tfjs';
+import type { EpochReport, TrainRequest, TrainResult } from '../pool/messages.js';
+import type { OptimizerName } from '../study/definition.js';
+import { permutation, stream } from '../random/streams.js';
+import { restoreCheckpoint, writeCheckpoint } from './checkpoint.js';
+import { datasetTensors, type DatasetTensors } from './data-cache.js';
+import { computeMetrics } from './metrics.js';
+import { createNetwork, disposeNetwork, forward, l2Penalty, lossFromLogits, networkSpec, outputFromLogits, type Network } from './network.js';
+
+/** Momentum of the 'momentum' optimizer (the study definition fixes it). */
+export const MOMENTUM = 0.9;
+/** Source: Kingma, Ba, "Adam: A Method for Stochastic Optimization", ICLR 2015, Algorithm 1 (defaults). */
+export const ADAM = { beta1: 0.9, beta2: 0.999, epsilon: 1e-8 } as const;
+
+export function createOptimizer(name: OptimizerName, learningRate: number): tf.Optimizer {
+  if (name === 'sgd') return tf.train.sgd(learningRate);
+  if (name === 'momentum') return tf.train.momentum(learningRate, MOMENTUM);
+  // Passed explicitly: tfjs would otherwise use the backend's epsilon (1e-7 on wasm).
+  return tf.train.adam(learningRate, ADAM.beta1, ADAM.beta2, ADAM.epsilon);
+}
+
+/**
+ * Disposes an optimizer and everything it holds. tfjs 4.22's MomentumOptimizer.dispose() does not
+ * dispose the learning-rate scalar `c` it inherits from SGDOptimizer, so that one is released here.
+ */
+export function disposeOptimizer(optimizer: tf.Optimizer): void {
+  optimizer.dispose();
+  const inherited = (optimizer as unknown as { c?: tf.Tensor }).c;
+  if (inherited && !inherited.isDisposed) inherited.dispose();
+}
+
+const seconds = (since: number): number => (performance.now() - since) / 1000;
+
+/**
+ * One epoch over the training rows in the order `permutation(rows, stream(seed, 'shuffle', epoch))`.
+ * Returns the training loss: the mean over the epoch's batches of each batch's data loss (the L2
+ * penalty is part of the minimised objective but not of the reported loss; every batch weighs
+ * the same, including a shorter last one).
+ */
+function trainEpoch(request: TrainRequest, network: Network, optimizer: tf.Optimizer, data: DatasetTensors, epoch: number): number {
+  const { params, seed, dataset } = request;
+  const rows = dataset.train.rows;
+  const order = permutation(rows, stream(seed, 'shuffle', epoch));
+  const batchLosses: tf.Scalar[] = [];
+  try {
+    for (let batch = 0, start = 0; start < rows; batch++, start += params.batchSize) {
+      const end = Math.min(rows, start + params.batchSize);
+      tf.tidy(() => {
+        const index = tf.tensor1d(order.subarray(start, end), 'int32');
+        const x = tf.gather(data.trainX, index);
+        const y = tf.gather(data.trainY, index);
+        const dropout = params.dropout > 0 ? { rate: params.dropout, rng: stream(seed, 'dropout', epoch, batch) } : undefined;
+        optimizer.minimize(
+          () => {
+            const dataLoss = lossFromLogits(dataset.task, forward(network, x, dropout), y);
+            // A copy is kept: minimize() disposes the tensor f returns.
+            batchLosses.push(tf.keep(tf.clone(dataLoss)));
+            return params.l2 > 0 ? tf.add(dataLoss, l2Penalty(network, params.l2)) : dataLoss;
+          },
+          false,
+          network.variables,
+        );
+      });
+    }
+    return tf.tidy(() => tf.div(tf.addN(batchLosses), batchLosses.length).dataSync()[0]!);
+  } finally {
+    tf.dispose(batchLosses);
+  }
+}
+
+/** Validation loss and the network outputs for every validation row, in one forward pass. */
+function validate(request: TrainRequest, network: Network, data: DatasetTensors): { loss: number; outputs: Float32Array } {
+  return tf.tidy(() => {
+    const logits = forward(network, data.validationX);
+    const loss = lossFromLogits(request.dataset.task, logits, data.validationY).dataSync()[0]!;
+    const outputs = outputFromLogits(request.dataset.task, logits).dataSync() as Float32Array;
+    return { loss, outputs };
+  });
+}
+
+/**
+ * Trains epochs `fromEpoch + 1 .. toEpoch` of one trial with a custom loop, continuing from
+ * `checkpointIn` when `fromEpoch > 0` and writing `checkpointOut` (if set) when the segment completes.
+ * Each epoch report goes to `onEpoch` and to `request.progressPort`.
+ *
+ * A non-finite training or validation loss ends the segment as `diverged` (no checkpoint is written,
+ * and the diverged epoch has no report since its figures are not numbers).
+ * Every tensor the trial creates (network, optimizer slots) is disposed before returning, so
+ * `tensorsAfter === tensorsBefore` unless something leaked; the data set's tensors are cached per
+ * thread and created before `tensorsBefore` is read.
+ */
+export async function trainSegment(request: TrainRequest, onEpoch?: (report: EpochReport) => void): Promise<TrainResult> {
+  const started = performance.now();
+  const { dataset, params } = request;
+  const data = datasetTensors(dataset);
+  const tensorsBefore = tf.memory().numTensors;
+  const epochs: EpochReport[] = [];
+  let divergence: TrainResult['divergence'];
+
+  const network = createNetwork(networkSpec(request.trialId, request.seed, params, dataset.inputCount, dataset.outputCount));
+  const optimizer = createOptimizer(params.optimizer, params.learningRate);
+  try {
+    if (request.fromEpoch > 0) {
+      if (!request.checkpointIn) throw new Error(`trial ${request.trialId}: fromEpoch is ${request.fromEpoch} but no checkpointIn was given`);
+      const expected = { trialId: request.trialId, epoch: request.fromEpoch, optimizer: params.optimizer };
+      await restoreCheckpoint(request.checkpointIn, expected, network.variables, optimizer);
+    }
+    for (let epoch = request.fromEpoch + 1; epoch <= request.toEpoch; epoch++) {
+      const epochStarted = performance.now();
+      const trainLoss = trainEpoch(request, network, optimizer, data, epoch);
+      if (!Number.isFinite(trainLoss)) {
+        divergence = { epoch, reason: `training loss became ${trainLoss} at epoch ${epoch}` };
+        break;
+      }
+      const validation = validate(request, network, data);
+      if (!Number.isFinite(validation.loss)) {
+        divergence = { epoch, reason: `validation loss became ${validation.loss} at epoch ${epoch}` };
+        break;
+      }
+      const report: EpochReport = {
+        trialId: request.trialId,
+        epoch,
+        trainLoss,
+        validationLoss: validation.loss,
+        metrics: computeMetrics(dataset.task, dataset.validation.y, validation.outputs, dataset.outputCount, dataset.targetScaling),
+        seconds: seconds(epochStarted),
+      };
+      epochs.push(report);
+      onEpoch?.(report);
+      request.progressPort?.postMessage(report);
+    }
+    if (!divergence && request.checkpointOut) {
+      await writeCheckpoint(request.checkpointOut, { trialId: request.trialId, epoch: request.toEpoch, params }, network.variables, optimizer);
+    }
+  } finally {
+    disposeOptimizer(optimizer);
+    disposeNetwork(network);
+  }
+  const result: TrainResult = {
+    trialId: request.trialId,
+    status: divergence ? 'diverged' : 'completed',
+    epochs,
+    workerSeconds: seconds(started),
+    tensorsBefore,
+    tensorsAfter: tf.memory().numTensors,
+  };
+  if (divergence) result.divergence = divergence;
+  return result;
+}

@@ -1,0 +1,171 @@
+import * as tf from '@tensorflow/tfjs';
+import type { Activation, Task, TrialParams } from '../study/definition.js';
+import { stream, type Rng } from '../random/streams.js';
+
+/** How a layer's initial kernel is drawn. Biases always start at zero. */
+export type InitRule = 'heNormal' | 'lecunNormal' | 'glorotUniform';
+
+/** The shape of a trial's network. */
+export interface NetworkSpec {
+  trialId: number;
+  seed: number;
+  inputCount: number;
+  outputCount: number;
+  depth: number;
+  width: number;
+  activation: Activation;
+}
+
+interface DenseLayer {
+  kernel: tf.Variable;
+  bias: tf.Variable;
+}
+
+/** An MLP held as named variables; `variables` lists them in a fixed order (kernel, bias per layer). */
+export interface Network {
+  spec: NetworkSpec;
+  hidden: DenseLayer[];
+  output: DenseLayer;
+  variables: tf.Variable[];
+}
+
+/** Slope of leakyRelu below zero (the tfjs layers default, fixed by the study definition). */
+export const LEAKY_RELU_SLOPE = 0.2;
+
+/**
+ * Initialisation per activation.
+ * Source: He, Zhang, Ren, Sun, "Delving Deep into Rectifiers", ICCV 2015, section 2.2 (std sqrt(2/fan_in));
+ * Klambauer et al., "Self-Normalizing Neural Networks", NeurIPS 2017 (LeCun normal for selu);
+ * Glorot, Bengio, "Understanding the difficulty of training deep feedforward neural networks", AISTATS 2010.
+ */
+export function initRuleFor(activation: Activation): InitRule {
+  if (activation === 'selu') return 'lecunNormal';
+  if (activation === 'tanh' || activation === 'sigmoid') return 'glorotUniform';
+  return 'heNormal';
+}
+
+/** One standard normal draw by Box-Muller (the cosine branch only, so each draw uses exactly two uniforms). */
+function standardNormal(rng: Rng): number {
+  const u1 = 1 - rng(); // in (0, 1]: keeps log finite
+  const u2 = rng();
+  return Math.sqrt(-2 * Math.log(u1)) * Math.cos(2 * Math.PI * u2);
+}
+
+/**
+ * Row-major fanIn x fanOut kernel values. Normals are untruncated (a draw beyond two standard
+ * deviations is kept, unlike the truncated variants some libraries use).
+ */
+export function initialKernel(rule: InitRule, fanIn: number, fanOut: number, rng: Rng): Float32Array {
+  const values = new Float32Array(fanIn * fanOut);
+  if (rule === 'glorotUniform') {
+    const limit = Math.sqrt(6 / (fanIn + fanOut));
+    for (let i = 0; i < values.length; i++) values[i] = (2 * rng() - 1) * limit;
+    return values;
+  }
+  const std = Math.sqrt((rule === 'heNormal' ? 2 : 1) / fanIn);
+  for (let i = 0; i < values.length; i++) values[i] = std * standardNormal(rng);
+  return values;
+}
+
+function denseLayer(prefix: string, fanIn: number, fanOut: number, rule: InitRule, rng: Rng): DenseLayer {
+  const kernel = tf.tidy(() =>
+    tf.variable(tf.tensor2d(initialKernel(rule, fanIn, fanOut, rng), [fanIn, fanOut]), true, `${prefix}/kernel`),
+  );
+  const bias = tf.tidy(() => tf.variable(tf.zeros([fanOut]), true, `${prefix}/bias`));
+  return { kernel, bias };
+}
+
+/** Builds the network with seeded initial weights: layer i draws from `stream(seed, 'init', i)`. */
+export function createNetwork(spec: NetworkSpec): Network {
+  const hidden: DenseLayer[] = [];
+  let fanIn = spec.inputCount;
+  for (let i = 0; i < spec.depth; i++) {
+    hidden.push(denseLayer(`t${spec.trialId}/dense${i}`, fanIn, spec.width, initRuleFor(spec.activation), stream(spec.seed, 'init', i)));
+    fanIn = spec.width;
+  }
+  const output = denseLayer(`t${spec.trialId}/output`, fanIn, spec.outputCount, 'glorotUniform', stream(spec.seed, 'init', spec.depth));
+  const variables = [...hidden, output].flatMap((layer) => [layer.kernel, layer.bias]);
+  return { spec, hidden, output, variables };
+}
+
+export function disposeNetwork(network: Network): void {
+  for (const variable of network.variables) variable.dispose();
+}
+
+/** The hidden-layer activation as a tensor function. */
+export function activate(activation: Activation, x: tf.Tensor): tf.Tensor {
+  switch (activation) {
+    case 'relu': return tf.relu(x);
+    case 'leakyRelu': return tf.leakyRelu(x, LEAKY_RELU_SLOPE);
+    case 'elu': return tf.elu(x);
+    case 'selu': return tf.selu(x);
+    case 'tanh': return tf.tanh(x);
+    case 'sigmoid': return tf.sigmoid(x);
+    case 'softplus': return tf.softplus(x);
+    case 'swish': return tf.mul(x, tf.sigmoid(x));
+    case 'relu6': return tf.relu6(x);
+  }
+}
+
+/** Inverted-dropout masks for one batch: kept units are scaled by 1/(1-rate) so no rescaling is needed at inference. */
+export interface DropoutPlan {
+  rate: number;
+  /** Draws the masks of this batch, layer after layer. */
+  rng: Rng;
+}
+
+function dropoutMask(rows: number, units: number, plan: DropoutPlan): tf.Tensor2D {
+  const keep = 1 / (1 - plan.rate);
+  const values = new Float32Array(rows * units);
+  for (let i = 0; i < values.length; i++) values[i] = plan.rng() >= plan.rate ? keep : 0;
+  return tf.tensor2d(values, [rows, units]);
+}
+
+/** Logits (pre-output-function values), rows x outputCount. Pass `dropout` during training only. */
+export function forward(network: Network, x: tf.Tensor2D, dropout?: DropoutPlan): tf.Tensor2D {
+  return tf.tidy(() => {
+    let h: tf.Tensor2D = x;
+    for (const layer of network.hidden) {
+      h = activate(network.spec.activation, tf.add(tf.matMul(h, layer.kernel), layer.bias)) as tf.Tensor2D;
+      if (dropout && dropout.rate > 0) h = tf.mul(h, dropoutMask(h.shape[0], h.shape[1], dropout));
+    }
+    return tf.add(tf.matMul(h, network.output.kernel), network.output.bias) as tf.Tensor2D;
+  });
+}
+
+/** The output function: sigmoid (binary), softmax over classes (multiclass), identity (regression). */
+export function outputFromLogits(task: Task, logits: tf.Tensor2D): tf.Tensor2D {
+  if (task === 'binary') return tf.sigmoid(logits);
+  if (task === 'multiclass') return tf.softmax(logits);
+  return tf.clone(logits);
+}
+
+/**
+ * Mean loss over the rows, computed from logits for numerical stability: binary cross-entropy
+ * (labels rows x 1 of 0/1), softmax cross-entropy (labels one-hot rows x classes), or mean squared error.
+ */
+export function lossFromLogits(task: Task, logits: tf.Tensor2D, labels: tf.Tensor2D): tf.Scalar {
+  return tf.tidy((): tf.Scalar => {
+    if (task === 'binary') {
+      // max(z, 0) - z*y + log(1 + exp(-|z|)): never exponentiates a large positive number.
+      const z = logits;
+      const perRow = tf.add(tf.sub(tf.relu(z), tf.mul(z, labels)), tf.log1p(tf.exp(tf.neg(tf.abs(z)))));
+      return tf.mean(perRow) as tf.Scalar;
+    }
+    if (task === 'multiclass') return tf.neg(tf.mean(tf.sum(tf.mul(labels, tf.logSoftmax(logits)), 1))) as tf.Scalar;
+    return tf.mean(tf.square(tf.sub(logits, labels))) as tf.Scalar;
+  });
+}
+
+/** `l2 * sum(kernel^2)` over every kernel (biases are not penalised). */
+export function l2Penalty(network: Network, l2: number): tf.Scalar {
+  return tf.tidy(() => {
+    const sums = [...network.hidden, network.output].map((layer) => tf.sum(tf.square(layer.kernel)));
+    return tf.mul(tf.addN(sums), l2) as tf.Scalar;
+  });
+}
+
+/** The network shape a request describes. */
+export function networkSpec(trialId: number, seed: number, params: TrialParams, inputCount: number, outputCount: number): NetworkSpec {
+  return { trialId, seed, inputCount, outputCount, depth: params.depth, width: params.width, activation: params.activation };
+}
