@@ -1,0 +1,87 @@
+import { existsSync, readFileSync } from 'node:fs';
+import { dirname, resolve } from 'node:path';
+import { fileURLToPath } from 'node:url';
+import { describe, expect, it } from 'vitest';
+import { studySchema, type StudyDefinition } from '../src/study/definition.js';
+
+const repositoryFile = (path: string): string => fileURLToPath(new URL(`../${path}`, import.meta.url));
+
+const STUDY_FILES = [
+  'studies/demo/study.json',
+  'studies/demo/study-halving.json',
+  'studies/demo/study-hyperband.json',
+  'studies/tiny/study.json',
+  'studies/tiny/study-regression.json',
+  'studies/tiny/study-multiclass.json',
+];
+
+function load(path: string): StudyDefinition {
+  return studySchema.parse(JSON.parse(readFileSync(repositoryFile(path), 'utf8')));
+}
+
+/** Values of one column of a study's CSV (the generated files need no quoting). */
+function columnOf(path: string, definition: StudyDefinition): string[] {
+  const csv = readFileSync(resolve(dirname(repositoryFile(path)), definition.data.csv), 'utf8');
+  const [header, ...rows] = csv.trimEnd().split('\n').map((line) => line.split(','));
+  const index = header!.indexOf(definition.data.target);
+  expect(index, `${definition.data.target} in the header of ${definition.data.csv}`).toBeGreaterThanOrEqual(0);
+  return rows.map((row) => row[index]!);
+}
+
+describe('committed study definitions', () => {
+  it.each(STUDY_FILES)('%s passes the study schema and names the editor schema', (path) => {
+    const raw = JSON.parse(readFileSync(repositoryFile(path), 'utf8')) as { $schema?: string };
+    expect(raw.$schema).toBe('../../schema/study.schema.json');
+    expect(studySchema.safeParse(raw).error).toBeUndefined();
+  });
+
+  it.each(STUDY_FILES)('%s points at an existing CSV holding its target', (path) => {
+    const definition = load(path);
+    expect(existsSync(resolve(dirname(repositoryFile(path)), definition.data.csv))).toBe(true);
+    expect(columnOf(path, definition).length).toBeGreaterThan(0);
+  });
+
+  it('give each task a target of the right kind', () => {
+    const distinct = (path: string): number => new Set(columnOf(path, load(path))).size;
+    expect(distinct('studies/tiny/study.json')).toBe(2);
+    expect(distinct('studies/demo/study.json')).toBe(2);
+    expect(distinct('studies/tiny/study-multiclass.json')).toBe(3);
+    const flows = columnOf('studies/tiny/study-regression.json', load('studies/tiny/study-regression.json')).map(Number);
+    expect(flows.every(Number.isFinite)).toBe(true);
+  });
+});
+
+describe('the demo studies', () => {
+  it('search the same space with the AUC objective', () => {
+    const [random, halving, hyperband] = STUDY_FILES.slice(0, 3).map(load);
+    expect(halving!.space).toEqual(random!.space);
+    expect(hyperband!.space).toEqual(random!.space);
+    for (const definition of [random, halving, hyperband]) expect(definition!.objective?.metric).toBe('auc');
+    expect(random!.sampler.kind).toBe('random');
+    expect(random!.budget).toEqual({ trials: 16, maxEpochs: 20 });
+  });
+
+  it('halve 27 configurations by 3 from 1 epoch to 27', () => {
+    const { budget, sampler } = load('studies/demo/study-halving.json');
+    expect(sampler).toMatchObject({ kind: 'successive-halving', eta: 3, minEpochs: 1 });
+    expect(budget).toEqual({ trials: 27, maxEpochs: 27 });
+  });
+
+  it('state the configuration count Hyperband derives for R = 27, eta = 3', () => {
+    // Source: Li et al., "Hyperband", JMLR 18(185), 2018, Algorithm 1 (derived): s_max = 3, B = 108,
+    // brackets s = 3..0 start ceil((B / R) * eta^s / (s + 1)) = 27, 12, 6, 4 configurations: 49 in all.
+    const { budget, sampler } = load('studies/demo/study-hyperband.json');
+    expect(sampler).toMatchObject({ kind: 'hyperband', eta: 3, minEpochs: 1 });
+    expect(budget).toEqual({ trials: 49, maxEpochs: 27 });
+  });
+});
+
+describe('the tiny studies', () => {
+  it.each(STUDY_FILES.slice(3))('%s runs 4 trials of 3 epochs on 2 workers with random search', (path) => {
+    const definition = load(path);
+    expect(definition.budget).toEqual({ trials: 4, maxEpochs: 3 });
+    expect(definition.workers).toBe(2);
+    expect(definition.sampler.kind).toBe('random');
+    expect(columnOf(path, definition)).toHaveLength(120);
+  });
+});
