@@ -2,6 +2,7 @@ import { Command, CommanderError, InvalidArgumentError } from 'commander';
 import { isUserError } from '../errors.js';
 import { run } from '../commands/run.js';
 import { ranking } from '../commands/ranking.js';
+import { resume } from '../commands/resume.js';
 import { interruptSignal } from './interrupt.js';
 
 function positiveInteger(value: string, name: string): number {
@@ -31,6 +32,25 @@ export function buildProgram(write: (text: string) => void): Command {
       const interrupt = interruptSignal();
       try {
         const outcome = await run({ definition, ...flags, signal: interrupt.signal });
+        if (outcome.doc.state === 'interrupted') {
+          write(`study interrupted; continue it with: rungwise resume ${outcome.dir}\n`);
+          process.exitCode = 130;
+        }
+      } finally {
+        interrupt.dispose();
+      }
+    });
+
+  program
+    .command('resume')
+    .description('continue an interrupted study')
+    .argument('<dir>', 'run directory')
+    .option('--workers <n>', 'worker threads (default: the study\'s, else available cores)', (v) => positiveInteger(v, '--workers'))
+    .option('--top <n>', 'configurations shown at the end', (v) => positiveInteger(v, '--top'), 10)
+    .action(async (dir: string, flags: { workers?: number; top: number }) => {
+      const interrupt = interruptSignal();
+      try {
+        const outcome = await resume({ dir, ...flags, signal: interrupt.signal });
         if (outcome.doc.state === 'interrupted') {
           write(`study interrupted; continue it with: rungwise resume ${outcome.dir}\n`);
           process.exitCode = 130;

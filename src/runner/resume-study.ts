@@ -1,0 +1,38 @@
+import { isDeepStrictEqual } from 'node:util';
+import { prepareData } from '../data/index.js';
+import { UserError } from '../errors.js';
+import { rankTrials } from '../store/ranking.js';
+import { lockStudy } from '../store/lock.js';
+import { StudyStore } from '../store/study-store.js';
+import { executeStudy, type ExecuteOptions, type StudyOutcome } from './execute-study.js';
+
+export interface ResumeOutcome extends StudyOutcome {
+  /** True when the study had already finished: nothing was run. */
+  alreadyFinished: boolean;
+}
+
+/**
+ * Continue the study saved in `dir`: finished trials are kept, trials that were running run again
+ * (from their last rung checkpoint where there is one), and the sampler is rebuilt from the store.
+ * For random search, successive halving and Hyperband the end result equals an uninterrupted run.
+ */
+export async function resumeStudy(dir: string, options: ExecuteOptions = {}): Promise<ResumeOutcome> {
+  const lock = await lockStudy(dir);
+  try {
+    const store = await StudyStore.open(dir);
+    const doc = store.doc;
+    if (doc.state === 'finished') {
+      return { dir: store.dir, file: store.file, doc, ranking: rankTrials(doc.trials, doc.objective), alreadyFinished: true };
+    }
+    const { data } = await prepareData(doc.definition.data, doc.definitionFile);
+    if (!isDeepStrictEqual(JSON.parse(JSON.stringify(data.recipe)), doc.recipe)) {
+      throw new UserError(
+        'E_DATA_CHANGED',
+        `${doc.definitionFile}: data.csv: the data no longer give the preprocessing the study started with; restore the original CSV or start a new study`,
+      );
+    }
+    return { ...(await executeStudy(store, data, options)), alreadyFinished: false };
+  } finally {
+    await lock.release();
+  }
+}

@@ -1,0 +1,37 @@
+import { copyFile, mkdtemp, writeFile } from 'node:fs/promises';
+import { tmpdir } from 'node:os';
+import path from 'node:path';
+import { fileURLToPath } from 'node:url';
+import type { StudyDefinitionInput } from '../../src/study/definition.js';
+
+const TINY = fileURLToPath(new URL('../../studies/tiny/', import.meta.url));
+
+/** The tiny binary study (120 rows) as a definition object. */
+export function tinyStudy(overrides: Partial<StudyDefinitionInput> = {}): StudyDefinitionInput {
+  return {
+    name: 'tiny',
+    data: { csv: 'tiny.csv', target: 'fails_within_week', task: 'binary', splitSeed: 1 },
+    space: {
+      depth: { min: 1, max: 2 },
+      width: { min: 4, max: 16, log: true },
+      activation: ['relu', 'tanh'],
+      learningRate: { min: 0.003, max: 0.1 },
+      batchSize: [16, 32],
+      optimizer: ['adam'],
+    },
+    budget: { trials: 4, maxEpochs: 3 },
+    sampler: { kind: 'random', seed: 1 },
+    objective: { metric: 'auc' },
+    workers: 2,
+    ...overrides,
+  };
+}
+
+/** Write a definition beside a copy of the tiny CSV in a fresh temporary folder; returns the definition's path. */
+export async function writeTinyStudy(definition: StudyDefinitionInput = tinyStudy()): Promise<string> {
+  const dir = await mkdtemp(path.join(tmpdir(), 'rungwise-tiny-'));
+  await copyFile(path.join(TINY, 'tiny.csv'), path.join(dir, 'tiny.csv'));
+  const file = path.join(dir, 'study.json');
+  await writeFile(file, JSON.stringify(definition, null, 2));
+  return file;
+}
