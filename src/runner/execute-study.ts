@@ -167,8 +167,9 @@ export async function executeStudy(store: StudyStore, data: PreparedData, option
     if (ENDED.has(record.status)) finishedTrials += 1;
     const ranking = rankTrials(doc.trials, objective);
     await pruneCheckpoints(store.dir, ranking, records, withCheckpoint, sampler);
-    emit({ type: 'trial-finished', trial: record, job, best: ranking[0]?.trial, finishedTrials });
+    // Saved before it is announced: a trial shown as finished is on disk.
     await store.save();
+    emit({ type: 'trial-finished', trial: record, job, best: ranking[0]?.trial, finishedTrials });
   };
 
   const finalise = (record: TrialRecord): void => {

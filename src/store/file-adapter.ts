@@ -3,6 +3,16 @@ import writeFileAtomic from 'write-file-atomic';
 import type { Adapter } from 'lowdb';
 import { UserError } from '../errors.js';
 
+/**
+ * Test-only: `RUNGWISE_STORE_CRASH="after-link:3"` kills the process at that point of the third
+ * write, to prove that a kill while a write is under way leaves a valid study file.
+ */
+export const STORE_CRASH_VARIABLE = 'RUNGWISE_STORE_CRASH';
+
+function crashPoint(point: string, write: number): void {
+  if (process.env[STORE_CRASH_VARIABLE] === `${point}:${write}`) process.kill(process.pid, 'SIGKILL');
+}
+
 /** Name of the copy of the previous good version, kept beside the study file. */
 export const PREVIOUS_SUFFIX = '.prev';
 
@@ -36,8 +46,13 @@ export class DurableJsonFile<T> implements Adapter<T> {
 
   async write(data: T): Promise<void> {
     const previous = `${this.file}${PREVIOUS_SUFFIX}`;
+    this.writes += 1;
     await unlink(previous).catch(() => undefined);
+    crashPoint('after-unlink', this.writes);
     await link(this.file, previous).catch(() => undefined);
+    crashPoint('after-link', this.writes);
     await writeFileAtomic(this.file, JSON.stringify(data), { fsync: true });
   }
+
+  private writes = 0;
 }
