@@ -3,6 +3,7 @@ import { isUserError } from '../errors.js';
 import { run } from '../commands/run.js';
 import { ranking } from '../commands/ranking.js';
 import { resume } from '../commands/resume.js';
+import { plot } from '../commands/plot.js';
 import { interruptSignal } from './interrupt.js';
 
 function positiveInteger(value: string, name: string): number {
@@ -68,6 +69,17 @@ export function buildProgram(write: (text: string) => void): Command {
     .option('--json', 'print JSON')
     .action(async (dir: string, flags: { top: number; json?: boolean }) => {
       write(`${await ranking({ dir, ...flags })}\n`);
+    });
+
+  program
+    .command('plot')
+    .description('draw charts and an offline HTML report from a saved study file')
+    .argument('<dir>', 'run directory')
+    .option('--out <dir>', 'folder for the charts (default: <dir>/plots)')
+    .action(async (dir: string, flags: { out?: string }) => {
+      const { files } = await plot({ dir, ...flags });
+      const report = files.find((f) => f.endsWith('report.html'));
+      write(`wrote ${files.length} files${report ? `; open ${report}` : ''}\n`);
     });
 
   return program;

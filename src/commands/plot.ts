@@ -1,0 +1,47 @@
+import { mkdir, mkdtemp, rename, rm, writeFile } from 'node:fs/promises';
+import path from 'node:path';
+import { renderSvg } from '../plot/render.js';
+import { buildReport, type RenderedChart } from '../plot/report.js';
+import { studyCharts } from '../plot/specs.js';
+import { StudyStore } from '../store/study-store.js';
+
+export interface PlotOptions {
+  /** Run directory holding `study.json`. */
+  dir: string;
+  /** Folder to write the charts into. @default `<dir>/plots` */
+  out?: string;
+}
+
+/**
+ * Draws the study's charts: one `.svg` and one Vega-Lite `.vl.json` per chart, and `report.html`
+ * with everything inlined. Reads only the study file. Every file is written to a temporary folder
+ * beside the output first and moved in only when all are complete, so a failure leaves no
+ * half-written chart.
+ */
+export async function plot(options: PlotOptions): Promise<{ files: string[] }> {
+  const study = await StudyStore.read(options.dir);
+  const out = path.resolve(options.out ?? path.join(options.dir, 'plots'));
+  const charts = studyCharts(study);
+  const rendered: RenderedChart[] = [];
+  for (const chart of charts) rendered.push({ name: chart.name, title: chart.title, svg: await renderSvg(chart.spec) });
+
+  await mkdir(path.dirname(out), { recursive: true });
+  const staging = await mkdtemp(path.join(path.dirname(out), `.${path.basename(out)}-`));
+  try {
+    const names: string[] = [];
+    const put = async (name: string, content: string): Promise<void> => {
+      await writeFile(path.join(staging, name), content, 'utf8');
+      names.push(name);
+    };
+    for (const [i, chart] of rendered.entries()) {
+      await put(`${chart.name}.svg`, chart.svg);
+      await put(`${chart.name}.vl.json`, `${JSON.stringify(charts[i]!.spec, null, 2)}\n`);
+    }
+    await put('report.html', buildReport(study, rendered));
+    await mkdir(out, { recursive: true });
+    for (const name of names) await rename(path.join(staging, name), path.join(out, name));
+    return { files: names.map((name) => path.join(out, name)) };
+  } finally {
+    await rm(staging, { recursive: true, force: true });
+  }
+}

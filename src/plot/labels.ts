@@ -1,0 +1,102 @@
+import type { MetricName, Objective, SamplerKind, TrialParams } from '../study/definition.js';
+import type { StudyDocument, TrialStatus } from '../store/types.js';
+
+/** Metric names as a reader says them, with units where the metric has one. */
+const METRIC_LABELS: Record<MetricName, string> = {
+  accuracy: 'accuracy (fraction correct)',
+  macroF1: 'macro F1',
+  logLoss: 'log loss',
+  auc: 'AUC',
+  rmse: 'RMSE (target units)',
+  mae: 'MAE (target units)',
+  r2: 'R²',
+  validationLoss: 'validation loss',
+};
+
+/** "validation AUC (higher is better)". */
+export function objectiveLabel(objective: Objective): string {
+  const better = objective.direction === 'maximize' ? 'higher is better' : 'lower is better';
+  return `validation ${METRIC_LABELS[objective.metric]}, ${better}`;
+}
+
+/** "validation AUC", without the direction, for legends and short titles. */
+export function metricLabel(metric: MetricName): string {
+  return metric === 'validationLoss' ? METRIC_LABELS.validationLoss : `validation ${METRIC_LABELS[metric]}`;
+}
+
+/** Statuses in legend order, each with a fixed colour so every chart agrees. */
+const STATUS_COLOURS: readonly (readonly [TrialStatus, string])[] = [
+  ['completed', '#2f6fb3'],
+  ['stopped', '#9aa4b1'],
+  ['running', '#3a9a5b'],
+  ['paused', '#8fc79f'],
+  ['diverged', '#d64541'],
+  ['failed', '#7d4fc2'],
+  ['timed-out', '#e07b24'],
+];
+
+/** Colour of a status the list above does not know (a study file written by a newer version). */
+const OTHER_STATUS_COLOUR = '#555b63';
+
+/** Colour scale for the statuses that occur: known ones in a fixed order, then any others. */
+export function statusScale(statuses: Iterable<string>): { domain: string[]; range: string[] } {
+  const present = new Set(statuses);
+  const used = STATUS_COLOURS.filter(([status]) => present.delete(status));
+  const others = [...present].sort();
+  return {
+    domain: [...used.map(([status]) => status), ...others],
+    range: [...used.map(([, colour]) => colour), ...others.map(() => OTHER_STATUS_COLOUR)],
+  };
+}
+
+const HALVING_KINDS: ReadonlySet<SamplerKind> = new Set(['successive-halving', 'hyperband', 'async-halving']);
+
+/** True for samplers that stop trials at rungs (their trials carry meaningful rung numbers). */
+export function isHalving(kind: SamplerKind): boolean {
+  return HALVING_KINDS.has(kind);
+}
+
+/** How a hyperparameter is laid out on an axis. */
+export type AxisKind = 'log' | 'linear' | 'ordinal' | 'nominal';
+
+export interface ParameterAxis {
+  key: keyof TrialParams;
+  /** Axis title in plain words, with the unit or scale. */
+  title: string;
+  /** A few words for crowded places (the parallel-coordinates axes). */
+  shortTitle: string;
+  kind: AxisKind;
+  /** Category order for ordinal and nominal axes (the search space's own order when known). */
+  categories?: (string | number)[];
+}
+
+/**
+ * The eight hyperparameters, laid out as the search space draws them: learning rate and L2 on a log
+ * axis, width on a log axis when the space draws it so, choices as categories in the space's order.
+ */
+export function parameterAxes(study: StudyDocument): ParameterAxis[] {
+  const space = study.definition.space;
+  const sortedNumbers = (values: number[]): number[] => [...new Set(values)].sort((a, b) => a - b);
+  return [
+    { key: 'learningRate', title: 'learning rate (log scale)', shortTitle: 'learning rate (log)', kind: 'log' },
+    { key: 'l2', title: 'L2 weight penalty (log scale)', shortTitle: 'L2 penalty (log)', kind: 'log' },
+    { key: 'depth', title: 'hidden layers', shortTitle: 'hidden layers', kind: 'ordinal', categories: sortedNumbers(study.trials.map((t) => t.params.depth)) },
+    { key: 'width', title: space.width.log ? 'units per hidden layer (log scale)' : 'units per hidden layer', shortTitle: space.width.log ? 'units (log)' : 'units', kind: space.width.log ? 'log' : 'linear' },
+    { key: 'batchSize', title: 'batch size (rows)', shortTitle: 'batch size', kind: 'ordinal', categories: sortedNumbers([...space.batchSize, ...study.trials.map((t) => t.params.batchSize)]) },
+    { key: 'dropout', title: 'dropout rate (fraction of units)', shortTitle: 'dropout', kind: 'linear' },
+    { key: 'activation', title: 'activation', shortTitle: 'activation', kind: 'nominal', categories: [...space.activation] },
+    { key: 'optimizer', title: 'optimizer', shortTitle: 'optimizer', kind: 'nominal', categories: [...space.optimizer] },
+  ];
+}
+
+/**
+ * The axes worth drawing: a hyperparameter that takes one value in every trial says nothing, and a
+ * log axis cannot show zero (L2 is 0 when the space leaves it out).
+ */
+export function variedParameterAxes(study: StudyDocument): ParameterAxis[] {
+  return parameterAxes(study).filter((axis) => {
+    const values = study.trials.map((t) => t.params[axis.key]);
+    if (axis.kind === 'log' && values.some((v) => typeof v !== 'number' || !(v > 0))) return false;
+    return new Set(values).size > 1;
+  });
+}

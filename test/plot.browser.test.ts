@@ -1,0 +1,71 @@
+import { existsSync } from 'node:fs';
+import { copyFile, mkdir, mkdtemp, rm } from 'node:fs/promises';
+import { tmpdir } from 'node:os';
+import path from 'node:path';
+import { fileURLToPath, pathToFileURL } from 'node:url';
+import { chromium, type Browser } from 'playwright-core';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { plot } from '../src/commands/plot.js';
+
+const CHROMIUM = '/usr/bin/chromium';
+const ROOT = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '..');
+const FIXTURE = path.join(ROOT, 'test/fixtures/studies/hyperband-generated.json');
+const SCREENSHOT = path.join(ROOT, 'test-output/report.png');
+
+// Under CI the lead's script installs chromium, so a missing browser there is a failure, not a skip.
+const runsHere = existsSync(CHROMIUM) || (process.env.CI ?? '') !== '';
+
+describe.runIf(runsHere)('report.html in headless Chromium', () => {
+  let dir: string;
+  let browser: Browser;
+  let reportUrl: string;
+
+  beforeAll(async () => {
+    dir = await mkdtemp(path.join(tmpdir(), 'rungwise-plot-browser-'));
+    await copyFile(FIXTURE, path.join(dir, 'study.json'));
+    const { files } = await plot({ dir });
+    reportUrl = pathToFileURL(files.find((f) => f.endsWith('report.html'))!).href;
+    browser = await chromium.launch({
+      executablePath: CHROMIUM,
+      args: ['--headless', '--no-sandbox', '--disable-gpu', '--disable-quic', '--no-first-run', '--disable-background-networking', '--disable-component-update', '--disable-sync'],
+    });
+  });
+
+  afterAll(async () => {
+    await browser?.close();
+    if (dir) await rm(dir, { recursive: true, force: true });
+  });
+
+  it('opens offline with no console errors, requests nothing but itself, and draws marks in every chart', async () => {
+    const page = await browser.newPage({ viewport: { width: 1200, height: 900 } });
+    const errors: string[] = [];
+    const requests: string[] = [];
+    page.on('console', (message) => {
+      if (message.type() === 'error') errors.push(message.text());
+    });
+    page.on('pageerror', (error) => errors.push(error.message));
+    page.on('request', (request) => requests.push(request.url()));
+
+    await page.goto(reportUrl, { waitUntil: 'load' });
+
+    expect(errors).toEqual([]);
+    expect(requests).toEqual([reportUrl]);
+    const marksPerChart = await page.$$eval('section.chart', (sections) =>
+      sections.map((section) => ({
+        id: section.id,
+        marks: section.querySelectorAll('svg g.role-mark > path, svg g.role-mark > line, svg g.role-mark > text').length,
+      })),
+    );
+    expect(marksPerChart.map((c) => c.id)).toEqual(['chart-progress', 'chart-learning-curves', 'chart-parameters', 'chart-parallel', 'chart-rungs']);
+    for (const chart of marksPerChart) expect(chart.marks, chart.id).toBeGreaterThan(0);
+    expect(await page.textContent('body')).toContain('judge the chosen model on the held-out test split');
+
+    await mkdir(path.dirname(SCREENSHOT), { recursive: true });
+    await page.screenshot({ path: SCREENSHOT, fullPage: true });
+    expect(existsSync(SCREENSHOT)).toBe(true);
+  });
+});
+
+if (!runsHere) {
+  it.skip(`report.html in headless Chromium: skipped because ${CHROMIUM} is absent and CI is not set (install the Debian package chromium to run it)`, () => {});
+}
