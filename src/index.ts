@@ -16,3 +16,6 @@ export type { EpochReport, TrainRequest, TrainResult, SharedDataset } from './po
 export { run, type RunCommandOptions } from './commands/run.js';
 export { ranking, type RankingCommandOptions } from './commands/ranking.js';
 export { resume, type ResumeCommandOptions } from './commands/resume.js';
+export { plot, type PlotOptions } from './commands/plot.js';
+export { exportModel, exportReport, type ExportSummary } from './commands/export.js';
+export { predict, predictReport, type PredictSummary } from './commands/predict.js';

@@ -4,6 +4,8 @@ import { run } from '../commands/run.js';
 import { ranking } from '../commands/ranking.js';
 import { resume } from '../commands/resume.js';
 import { plot } from '../commands/plot.js';
+import { exportModel, exportReport } from '../commands/export.js';
+import { predict, predictReport } from '../commands/predict.js';
 import { interruptSignal } from './interrupt.js';
 
 function positiveInteger(value: string, name: string): number {
@@ -80,6 +82,27 @@ export function buildProgram(write: (text: string) => void): Command {
       const { files } = await plot({ dir, ...flags });
       const report = files.find((f) => f.endsWith('report.html'));
       write(`wrote ${files.length} files${report ? `; open ${report}` : ''}\n`);
+    });
+
+  program
+    .command('export')
+    .description('write a ranked configuration with its preprocessing recipe and trained tfjs model')
+    .argument('<dir>', 'run directory')
+    .option('--rank <n>', 'rank in the study ranking', (v) => positiveInteger(v, '--rank'), 1)
+    .option('--out <dir>', 'export folder (default: <dir>/export/rank-<n>)')
+    .option('--retrain', 'train afresh on training + validation rows, then score once on the held-out test split')
+    .action(async (dir: string, flags: { rank: number; out?: string; retrain?: boolean }) => {
+      write(`${exportReport(await exportModel({ dir, ...flags }))}\n`);
+    });
+
+  program
+    .command('predict')
+    .description('apply an exported model to the rows of a CSV')
+    .argument('<model>', 'export folder written by `rungwise export`')
+    .argument('<data>', "CSV with the model's feature columns")
+    .option('--output <file>', 'predictions CSV (default: <data>.predictions.csv beside the input)')
+    .action(async (model: string, data: string, flags: { output?: string }) => {
+      write(`${predictReport(await predict({ model, data, ...flags }))}\n`);
     });
 
   return program;

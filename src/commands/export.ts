@@ -1,0 +1,141 @@
+import { existsSync } from 'node:fs';
+import { rm, writeFile } from 'node:fs/promises';
+import path from 'node:path';
+import { prepareData } from '../data/prepare.js';
+import type { PreparedData } from '../data/types.js';
+import { UserError } from '../errors.js';
+import { writeFolderAtomically } from '../export/atomic-folder.js';
+import { CONFIGURATION_FILE, EXPORT_CAUTION, buildConfiguration, lastEpochFigures } from '../export/configuration.js';
+import { evaluateExportedModel } from '../export/evaluate.js';
+import { MODEL_FILE, WEIGHTS_FILE, buildLayersModel, saveLayersModel } from '../export/model-files.js';
+import { retrainTrial } from '../export/retrain.js';
+import { keptCheckpointWeights, trialAtRank } from '../export/select.js';
+import { formatNumber, textTable } from '../report/format.js';
+import { StudyStore, studyFilePath } from '../store/study-store.js';
+import type { MetricName, Objective } from '../study/definition.js';
+import { initBackend } from '../train/backend.js';
+import type { Metrics } from '../train/metrics.js';
+
+export interface ExportCommandOptions {
+  /** Run directory holding `study.json` (and `checkpoints/`). */
+  dir: string;
+  /** Rank in the study's ranking. @default 1 */
+  rank?: number;
+  /** Export folder. @default `<dir>/export/rank-<rank>` */
+  out?: string;
+  /** Train the configuration afresh on training plus validation rows, then score it once on the test split. @default false */
+  retrain?: boolean;
+}
+
+export interface ExportSummary {
+  /** The run directory the study came from (absolute). */
+  dir: string;
+  /** The export folder (absolute). */
+  out: string;
+  study: string;
+  trialId: number;
+  rank: number;
+  objective: Objective & { value: number };
+  /** Metrics the study recorded for the trial's last epoch, on the validation split. */
+  validation: Metrics;
+  /** With --retrain: the retrained model's metrics on the held-out test split. */
+  test?: Metrics;
+  retrained: boolean;
+  /** Files written into `out`. */
+  files: string[];
+  caution: string;
+}
+
+/** Prepares the study's data again and checks it still matches the study (same recipe, so the same split and encoding). */
+async function studyData(doc: Awaited<ReturnType<typeof StudyStore.read>>, studyFile: string): Promise<PreparedData> {
+  const { data } = await prepareData(doc.definition.data, doc.definitionFile);
+  if (JSON.stringify(data.recipe) !== JSON.stringify(doc.recipe)) {
+    throw new UserError(
+      'E_EXPORT_DATA_CHANGED',
+      `${studyFile}: the CSV ${doc.data.file} no longer gives the recipe the study recorded (the file changed since the run); --retrain needs the data the study ran on`,
+    );
+  }
+  if (data.test.rows === 0) {
+    throw new UserError('E_EXPORT_NO_TEST', `${doc.definitionFile}: data.testFraction is 0, so there is no held-out test split to score a retrained model on`);
+  }
+  return data;
+}
+
+/**
+ * `rungwise export`: writes the trial at `rank` as a tfjs Layers model (`model.json`, `weights.bin`)
+ * with `configuration.json`, into a folder that appears complete or not at all.
+ * Without --retrain the kept checkpoint is exported; with it, the configuration is retrained and
+ * scored once on the held-out test split (the only place the tool touches that split).
+ * @throws UserError for a rank that does not exist or, without --retrain, has no kept checkpoint.
+ */
+export async function exportModel(options: ExportCommandOptions): Promise<ExportSummary> {
+  const rank = options.rank ?? 1;
+  const runDir = path.resolve(options.dir);
+  const doc = await StudyStore.read(runDir);
+  const studyFile = studyFilePath(runDir);
+  const chosen = trialAtRank(doc, rank, studyFile);
+  const trial = chosen.trial;
+  // Every check that can refuse runs before the export folder is touched.
+  const kept = options.retrain ? undefined : await keptCheckpointWeights(runDir, doc, chosen);
+  const data = options.retrain ? await studyData(doc, studyFile) : undefined;
+  const out = path.resolve(options.out ?? path.join(runDir, 'export', `rank-${rank}`));
+
+  let test: Metrics | undefined;
+  await writeFolderAtomically(
+    out,
+    (existing) => existsSync(path.join(existing, CONFIGURATION_FILE)),
+    async (partial) => {
+      await initBackend();
+      let weights = kept;
+      if (data) {
+        const scratch = path.join(partial, 'retrain-checkpoint');
+        weights = await retrainTrial(data, trial, scratch);
+        await rm(scratch, { recursive: true, force: true });
+      }
+      const model = buildLayersModel(trial.params, doc.recipe, weights!);
+      try {
+        if (data) test = evaluateExportedModel(model, doc.recipe, data.test);
+        await saveLayersModel(model, partial);
+      } finally {
+        model.dispose();
+      }
+      const configuration = buildConfiguration(doc, trial, rank, test ? { test } : undefined);
+      await writeFile(path.join(partial, CONFIGURATION_FILE), `${JSON.stringify(configuration, null, 2)}\n`);
+    },
+  );
+
+  const summary: ExportSummary = {
+    dir: runDir,
+    out,
+    study: doc.name,
+    trialId: trial.id,
+    rank,
+    objective: { ...doc.objective, value: trial.objective! },
+    validation: lastEpochFigures(trial).metrics,
+    retrained: options.retrain === true,
+    files: [CONFIGURATION_FILE, MODEL_FILE, WEIGHTS_FILE],
+    caution: EXPORT_CAUTION,
+  };
+  if (test) summary.test = test;
+  return summary;
+}
+
+/** What the CLI prints after an export: where it went, the metrics (validation beside test) and the caution. */
+export function exportReport(summary: ExportSummary): string {
+  const lines = [
+    `exported rank ${summary.rank} (trial ${summary.trialId}) of study ${summary.study}${summary.retrained ? ', retrained on training and validation rows' : ''}`,
+    `folder: ${summary.out} (${summary.files.join(', ')})`,
+    '',
+  ];
+  const names = Object.keys(summary.validation) as MetricName[];
+  const header = summary.test ? ['metric', 'validation (study)', 'test (retrained)'] : ['metric', 'validation (study)'];
+  const rows = names.map((name) => {
+    const row = [name, formatNumber(summary.validation[name])];
+    if (summary.test) row.push(formatNumber(summary.test[name]));
+    return row;
+  });
+  lines.push(textTable(header, rows), '');
+  if (!summary.test) lines.push(`No test metrics: \`rungwise export ${summary.dir} --rank ${summary.rank} --retrain\` scores the configuration on the held-out test split.`);
+  lines.push(summary.caution);
+  return lines.join('\n');
+}

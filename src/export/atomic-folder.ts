@@ -1,0 +1,45 @@
+import { existsSync } from 'node:fs';
+import { mkdir, readdir, rename, rm } from 'node:fs/promises';
+import path from 'node:path';
+import { UserError } from '../errors.js';
+
+/**
+ * Fills a folder through `fill(partial)` in a sibling temporary folder, then renames it to `target`,
+ * so `target` is either the complete new folder or untouched: on any error the temporary folder is
+ * removed and nothing is left behind. An existing `target` is replaced only when `replaceable`
+ * says it holds an earlier result (never a folder of the user's own).
+ */
+export async function writeFolderAtomically<T>(
+  target: string,
+  replaceable: (existing: string) => boolean,
+  fill: (partial: string) => Promise<T>,
+): Promise<T> {
+  const resolved = path.resolve(target);
+  if (existsSync(resolved)) {
+    const entries = await readdir(resolved).catch(() => undefined);
+    if (entries === undefined) throw new UserError('E_OUT_TAKEN', `${target}: exists and is not a folder; choose another --out`);
+    if (entries.length > 0 && !replaceable(resolved)) {
+      throw new UserError('E_OUT_TAKEN', `${target}: is a non-empty folder that does not hold an earlier export; choose another --out or remove it`);
+    }
+  }
+  await mkdir(path.dirname(resolved), { recursive: true });
+  const partial = `${resolved}.partial-${process.pid}`;
+  await rm(partial, { recursive: true, force: true });
+  await mkdir(partial);
+  let result: T;
+  try {
+    result = await fill(partial);
+    // rename() cannot replace a non-empty folder: move the old one aside first.
+    const previous = `${resolved}.previous-${process.pid}`;
+    const replaced = await rename(resolved, previous).then(
+      () => true,
+      () => false,
+    );
+    await rename(partial, resolved);
+    if (replaced) await rm(previous, { recursive: true, force: true });
+  } catch (error) {
+    await rm(partial, { recursive: true, force: true });
+    throw error;
+  }
+  return result;
+}

@@ -1,0 +1,129 @@
+/**
+ * `configuration.json` of an export folder: everything needed to use the model without the study
+ * file, and the record of how it was chosen and scored.
+ */
+import { readFile } from 'node:fs/promises';
+import path from 'node:path';
+import type { PreprocessingRecipe } from '../data/types.js';
+import { UserError } from '../errors.js';
+import { OPTIMISM_CAUTION } from '../report/summary.js';
+import type { StudyDocument, TrialRecord } from '../store/types.js';
+import type { MetricName, Objective, TrialParams } from '../study/definition.js';
+import type { Metrics } from '../train/metrics.js';
+import { MODEL_FILE, WEIGHTS_FILE, inputNames } from './model-files.js';
+
+export const CONFIGURATION_FILE = 'configuration.json';
+export const EXPORT_FORMAT = 'rungwise-export';
+export const EXPORT_FORMAT_VERSION = 1;
+
+/** Said wherever an exported model's score is shown: the shared caution of the tool. */
+export const EXPORT_CAUTION = OPTIMISM_CAUTION;
+
+/** The study's figures of the trial's last epoch, on the validation split. */
+export interface LastEpochFigures {
+  epoch: number;
+  trainLoss: number;
+  validationLoss: number;
+  metrics: Metrics;
+}
+
+/** What the model's outputs mean. */
+export type ModelOutputs =
+  | { task: 'binary'; meaning: string; classes: string[] }
+  | { task: 'multiclass'; meaning: string; classes: string[] }
+  | { task: 'regression'; meaning: string; units: 'target' };
+
+export interface ExportConfiguration {
+  format: typeof EXPORT_FORMAT;
+  version: typeof EXPORT_FORMAT_VERSION;
+  study: string;
+  trialId: number;
+  /** Rank in the study's ranking when exported. */
+  rank: number;
+  params: TrialParams;
+  epochsTrained: number;
+  /** Trial seed: initial weights, dropout masks and each epoch's shuffle. */
+  seed: number;
+  objective: Objective & { value: number };
+  /** Figures the study recorded for the trial's last epoch (validation split). */
+  validation: LastEpochFigures;
+  /** Set with --retrain: metrics of the retrained model on the held-out test split, computed once. */
+  test?: Metrics;
+  /** Rows the exported weights were trained on. */
+  trainedOn: 'training split' | 'training and validation splits';
+  recipe: PreprocessingRecipe;
+  /** Network inputs in order: a numeric column's name, or `column=category` for each one-hot input. */
+  inputs: string[];
+  outputs: ModelOutputs;
+  model: { file: string; weights: string; format: 'tfjs layers model' };
+  caution: string;
+}
+
+function modelOutputs(recipe: PreprocessingRecipe): ModelOutputs {
+  const classes = recipe.classes ?? [];
+  if (recipe.task === 'binary') {
+    return { task: 'binary', classes, meaning: `one output: the probability of class '${classes[1]}' (sigmoid); '${classes[1]}' is predicted when it is at least 0.5` };
+  }
+  if (recipe.task === 'multiclass') return { task: 'multiclass', classes, meaning: 'one probability per class, in the order of classes (softmax)' };
+  return {
+    task: 'regression',
+    units: 'target',
+    meaning: `one output: the predicted '${recipe.target}' in its own units (the target scaling of the recipe is already folded into the output layer)`,
+  };
+}
+
+/** The last curve point of a trial, as stored in the study. */
+export function lastEpochFigures(trial: TrialRecord): LastEpochFigures {
+  const last = trial.curve.at(-1);
+  if (last === undefined) throw new Error(`trial ${trial.id} has no epoch recorded`);
+  return { epoch: last.epoch, trainLoss: last.trainLoss, validationLoss: last.validationLoss, metrics: { ...last.metrics } };
+}
+
+export function buildConfiguration(doc: StudyDocument, trial: TrialRecord, rank: number, retrained: { test: Metrics } | undefined): ExportConfiguration {
+  const configuration: ExportConfiguration = {
+    format: EXPORT_FORMAT,
+    version: EXPORT_FORMAT_VERSION,
+    study: doc.name,
+    trialId: trial.id,
+    rank,
+    params: { ...trial.params },
+    epochsTrained: trial.epochsTrained,
+    seed: trial.seed,
+    objective: { ...doc.objective, value: trial.objective! },
+    validation: lastEpochFigures(trial),
+    trainedOn: retrained ? 'training and validation splits' : 'training split',
+    recipe: doc.recipe,
+    inputs: inputNames(doc.recipe),
+    outputs: modelOutputs(doc.recipe),
+    model: { file: MODEL_FILE, weights: WEIGHTS_FILE, format: 'tfjs layers model' },
+    caution: EXPORT_CAUTION,
+  };
+  if (retrained) configuration.test = retrained.test;
+  return configuration;
+}
+
+/** Reads an export folder's configuration; a missing or foreign file is a UserError. */
+export async function readConfiguration(dir: string): Promise<ExportConfiguration> {
+  const file = path.join(dir, CONFIGURATION_FILE);
+  let text: string;
+  try {
+    text = await readFile(file, 'utf8');
+  } catch {
+    throw new UserError('E_MODEL', `${file}: not found; --model must be a folder written by \`rungwise export\``);
+  }
+  let parsed: Partial<ExportConfiguration>;
+  try {
+    parsed = JSON.parse(text) as Partial<ExportConfiguration>;
+  } catch {
+    throw new UserError('E_MODEL', `${file}: is not valid JSON; export the model again with \`rungwise export\``);
+  }
+  if (parsed.format !== EXPORT_FORMAT || parsed.version !== EXPORT_FORMAT_VERSION || parsed.recipe === undefined) {
+    throw new UserError('E_MODEL', `${file}: not a rungwise export (expected "format": "${EXPORT_FORMAT}", version ${EXPORT_FORMAT_VERSION})`);
+  }
+  return parsed as ExportConfiguration;
+}
+
+/** The metric names present in both sets, for side-by-side display. */
+export function sharedMetricNames(a: Metrics, b: Metrics): MetricName[] {
+  return (Object.keys(a) as MetricName[]).filter((name) => b[name] !== undefined);
+}

@@ -1,0 +1,63 @@
+/**
+ * `export --retrain`: trains a chosen configuration afresh on the training and validation rows
+ * together, in the calling thread, for the epochs the study gave it.
+ */
+import type { PreparedData, SplitArrays } from '../data/types.js';
+import { toSharedDataset } from '../data/prepare.js';
+import { UserError } from '../errors.js';
+import type { SharedDataset } from '../pool/messages.js';
+import type { TrialRecord } from '../store/types.js';
+import { initBackend } from '../train/backend.js';
+import { readCheckpointWeights, type NamedWeights } from '../train/checkpoint.js';
+import { releaseDatasets } from '../train/data-cache.js';
+import { trainSegment } from '../train/loop.js';
+
+function concatenate(a: SplitArrays, b: SplitArrays): { rows: number; x: Float32Array; y: Float32Array } {
+  const x = new Float32Array(a.x.length + b.x.length);
+  x.set(a.x);
+  x.set(b.x, a.x.length);
+  const y = new Float32Array(a.y.length + b.y.length);
+  y.set(a.y);
+  y.set(b.y, a.y.length);
+  return { rows: a.rows + b.rows, x, y };
+}
+
+/**
+ * The training loop wants a validation split to report on each epoch; it gets the validation rows,
+ * which are now also training rows, so its per-epoch figures are discarded. The test split is not
+ * passed: it is scored once, by the caller, after training.
+ */
+function retrainDataset(data: PreparedData, trialId: number): SharedDataset {
+  const base = toSharedDataset(data, `export-retrain-${trialId}`);
+  return { ...base, train: concatenate(data.train, data.validation) };
+}
+
+/**
+ * Trains `trial`'s configuration from its seed on training plus validation rows for
+ * `trial.epochsTrained` epochs, writes the checkpoint to `checkpointOut` and returns its network weights.
+ * @throws UserError (E_EXPORT_DIVERGED) when the loss stops being finite.
+ */
+export async function retrainTrial(data: PreparedData, trial: TrialRecord, checkpointOut: string): Promise<NamedWeights[]> {
+  await initBackend();
+  const dataset = retrainDataset(data, trial.id);
+  try {
+    const result = await trainSegment({
+      trialId: trial.id,
+      seed: trial.seed,
+      params: trial.params,
+      dataset,
+      fromEpoch: 0,
+      toEpoch: trial.epochsTrained,
+      checkpointOut,
+    });
+    if (result.status === 'diverged') {
+      throw new UserError(
+        'E_EXPORT_DIVERGED',
+        `trial ${trial.id}: retraining on training and validation rows diverged (${result.divergence?.reason ?? 'non-finite loss'}); export it without --retrain or pick another rank`,
+      );
+    }
+  } finally {
+    releaseDatasets();
+  }
+  return readCheckpointWeights(checkpointOut);
+}
