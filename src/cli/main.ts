@@ -14,6 +14,23 @@ function positiveInteger(value: string, name: string): number {
   return parsed;
 }
 
+/** Run a study command with Ctrl-C handling; an interrupted study says how to go on and exits 130. */
+async function untilInterrupted(
+  command: (signal: AbortSignal) => Promise<{ dir: string; doc: { state: string } }>,
+  write: (text: string) => void,
+): Promise<void> {
+  const interrupt = interruptSignal();
+  try {
+    const outcome = await command(interrupt.signal);
+    if (outcome.doc.state === 'interrupted') {
+      write(`study interrupted; continue it with: rungwise resume ${outcome.dir}\n`);
+      process.exitCode = 130;
+    }
+  } finally {
+    interrupt.dispose();
+  }
+}
+
 /** Declares the commands and flags; each action calls one function of `src/commands`. */
 export function buildProgram(write: (text: string) => void): Command {
   const program = new Command('rungwise')
@@ -32,16 +49,7 @@ export function buildProgram(write: (text: string) => void): Command {
     .option('--top <n>', 'configurations shown at the end', (v) => positiveInteger(v, '--top'), 10)
     .option('--force', 'replace a run directory that already holds a study')
     .action(async (definition: string, flags: { out?: string; workers?: number; top: number; force?: boolean }) => {
-      const interrupt = interruptSignal();
-      try {
-        const outcome = await run({ definition, ...flags, signal: interrupt.signal });
-        if (outcome.doc.state === 'interrupted') {
-          write(`study interrupted; continue it with: rungwise resume ${outcome.dir}\n`);
-          process.exitCode = 130;
-        }
-      } finally {
-        interrupt.dispose();
-      }
+      await untilInterrupted((signal) => run({ definition, ...flags, signal }), write);
     });
 
   program
@@ -51,16 +59,7 @@ export function buildProgram(write: (text: string) => void): Command {
     .option('--workers <n>', 'worker threads (default: the study\'s, else available cores)', (v) => positiveInteger(v, '--workers'))
     .option('--top <n>', 'configurations shown at the end', (v) => positiveInteger(v, '--top'), 10)
     .action(async (dir: string, flags: { workers?: number; top: number }) => {
-      const interrupt = interruptSignal();
-      try {
-        const outcome = await resume({ dir, ...flags, signal: interrupt.signal });
-        if (outcome.doc.state === 'interrupted') {
-          write(`study interrupted; continue it with: rungwise resume ${outcome.dir}\n`);
-          process.exitCode = 130;
-        }
-      } finally {
-        interrupt.dispose();
-      }
+      await untilInterrupted((signal) => resume({ dir, ...flags, signal }), write);
     });
 
   program
