@@ -2,6 +2,7 @@ import { spawn, type ChildProcessWithoutNullStreams } from 'node:child_process';
 import path from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { StudyStore } from '../src/store/study-store.js';
+import { FAULT_VARIABLE } from '../src/runner/faults.js';
 import { BIN, runCli } from './helpers/cli.js';
 import { tinyStudy, writeTinyStudy } from './helpers/studies.js';
 
@@ -13,8 +14,8 @@ interface Started {
   waitFor: (pattern: RegExp) => Promise<void>;
 }
 
-function start(args: string[]): Started {
-  const child = spawn(process.execPath, [BIN, ...args], { stdio: ['pipe', 'pipe', 'pipe'] });
+function start(args: string[], env: NodeJS.ProcessEnv = {}): Started {
+  const child = spawn(process.execPath, [BIN, ...args], { stdio: ['pipe', 'pipe', 'pipe'], env: { ...process.env, ...env } });
   let stdout = '';
   let stderr = '';
   const waiters: { pattern: RegExp; resolve: () => void }[] = [];
@@ -64,7 +65,8 @@ describe('stopping a running study', () => {
   it('refuses a second run or resume on the same directory, naming the process that holds it', async () => {
     const file = await writeTinyStudy(longStudy());
     const dir = path.join(path.dirname(file), 'run');
-    const first = start(['run', file, '--out', dir]);
+    // Trial 1 never returns, so the first run holds the directory until it is killed.
+    const first = start(['run', file, '--out', dir], { [FAULT_VARIABLE]: '1:hang' });
     await first.waitFor(/\[1\/40\] trial/);
     const second = await runCli(['resume', dir]);
     const third = await runCli(['run', file, '--out', dir, '--force']);

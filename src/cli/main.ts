@@ -121,7 +121,8 @@ export async function main(argv: readonly string[]): Promise<number> {
       return error.exitCode === 0 ? 0 : 2;
     }
     if (isUserError(error)) {
-      process.stderr.write(`error: ${error.message}\n`);
+      // One line per problem, each marked, so every line can be read (and grepped) alone.
+      process.stderr.write(error.message.split('\n').map((line) => `error: ${line}\n`).join(''));
       return error.exitCode;
     }
     const message = error instanceof Error ? error.message : String(error);

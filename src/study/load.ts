@@ -93,5 +93,11 @@ export async function loadStudy(file: string): Promise<LoadedStudy> {
     throw new UserError('E_STUDY_FILE', `${file}: cannot read the study definition (${reason})`);
   }
   if (text.trim() === '') throw new UserError('E_STUDY_JSON', `${file}: the file is empty; expected a JSON study definition`);
+  // A NUL byte never occurs in JSON text; name the likely cause instead of a JSON parse code.
+  const nul = text.indexOf('\u0000');
+  if (nul >= 0) {
+    const { line } = lineAndColumn(text, nul);
+    throw new UserError('E_STUDY_JSON', `${file}: line ${line}: contains a NUL byte; this looks like a binary file, expected a JSON study definition (UTF-8 text)`);
+  }
   return { definition: validateStudy(parseJson(text, file), file), file: absolute };
 }
