@@ -79,7 +79,7 @@ describe('study definition validation', () => {
 
   it('rejects min above max', () => {
     const error = errorOf(withChange((d) => (d.space.depth = { min: 4, max: 2 })));
-    expect(error.message).toBe('study.json: space.depth.min: min must not exceed max');
+    expect(error.message).toBe('study.json: space.depth.min: found 4, expected at most max (2)');
   });
 
   it('rejects a whole-number field given a fraction', () => {

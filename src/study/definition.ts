@@ -16,27 +16,34 @@ export type Task = (typeof TASKS)[number];
 export type MetricName = (typeof METRICS)[number];
 export type SamplerKind = (typeof SAMPLER_KINDS)[number];
 
+/** A range whose min exceeds its max names both values. */
+function minNotAboveMax(range: { min: number; max: number }, ctx: z.RefinementCtx): void {
+  if (range.min > range.max) {
+    ctx.addIssue({ code: 'custom', path: ['min'], message: `found ${range.min}, expected at most max (${range.max})` });
+  }
+}
+
 const integerRange = z
   .strictObject({
     min: z.int().min(1).describe('Smallest value, inclusive.'),
     max: z.int().min(1).describe('Largest value, inclusive.'),
     log: z.boolean().default(false).describe('Draw uniformly on a log scale.'),
   })
-  .refine((r) => r.min <= r.max, { message: 'min must not exceed max', path: ['min'] });
+  .superRefine(minNotAboveMax);
 
 const positiveLogRange = z
   .strictObject({
     min: z.number().positive().describe('Smallest value, inclusive.'),
     max: z.number().positive().describe('Largest value, inclusive.'),
   })
-  .refine((r) => r.min <= r.max, { message: 'min must not exceed max', path: ['min'] });
+  .superRefine(minNotAboveMax);
 
 const fractionRange = z
   .strictObject({
     min: z.number().min(0).max(0.9),
     max: z.number().min(0).max(0.9),
   })
-  .refine((r) => r.min <= r.max, { message: 'min must not exceed max', path: ['min'] });
+  .superRefine(minNotAboveMax);
 
 const seed = z.int().min(0).max(2 ** 31 - 1);
 
