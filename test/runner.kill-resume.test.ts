@@ -103,5 +103,5 @@ describe('killing and resuming a study', () => {
 
     const rankingOf = async (d: string) => JSON.parse((await runCli(['ranking', d, '--json'])).stdout).ranking;
     expect(await rankingOf(dir)).toEqual(await rankingOf(path.join(path.dirname(studyFile), 'reference')));
-  });
+  }, 600_000);
 });
