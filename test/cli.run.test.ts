@@ -1,8 +1,9 @@
 import { existsSync } from 'node:fs';
-import { mkdtemp, readFile, writeFile } from 'node:fs/promises';
+import { mkdtemp, writeFile } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
 import path from 'node:path';
 import { beforeAll, describe, expect, it } from 'vitest';
+import { StudyStore } from '../src/store/study-store.js';
 import { runCli } from './helpers/cli.js';
 import { writeIrisCsv } from './helpers/datasets.js';
 
@@ -50,7 +51,7 @@ describe('rungwise run and ranking', () => {
     const objectives = parsed.ranking.map((r) => r.objective);
     expect([...objectives].sort((a, b) => b - a)).toEqual(objectives);
 
-    const doc = JSON.parse(await readFile(path.join(out, 'study.json'), 'utf8')) as { trials: { curve: unknown[]; status: string }[] };
+    const doc = await StudyStore.read(out);
     expect(doc.trials).toHaveLength(3);
     expect(doc.trials.every((t) => t.status === 'completed' && t.curve.length === 4)).toBe(true);
   });

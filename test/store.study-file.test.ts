@@ -38,7 +38,7 @@ describe('the study file', () => {
     const store = await StudyStore.create(dir, documentNamed('s'));
     const saves: Promise<void>[] = [];
     for (let i = 0; i < 20; i++) {
-      store.doc.trials.push({ id: i } as StudyDocument['trials'][number]);
+      store.doc.trials.push({ id: i, curve: [] } as unknown as StudyDocument['trials'][number]);
       saves.push(store.save());
     }
     await Promise.all(saves);
@@ -66,5 +66,44 @@ describe('the study file', () => {
   it('tells how to create a study when the directory holds none', async () => {
     const dir = await mkdtemp(path.join(tmpdir(), 'rungwise-store-'));
     await expect(StudyStore.open(dir)).rejects.toThrow('no study file here; run `rungwise run <study.json>');
+  });
+});
+
+describe('the curve log', () => {
+  const point = (epoch: number) => ({ epoch, trainLoss: 1 / epoch, validationLoss: 1 / epoch, metrics: { accuracy: epoch / 10 }, seconds: 0.1 });
+  const trialWith = (id: number, epochs: number) =>
+    ({ id, status: 'paused', curve: Array.from({ length: epochs }, (_, i) => point(i + 1)) }) as unknown as StudyDocument['trials'][number];
+
+  it('keeps curves out of study.json and gives them back on reading', async () => {
+    const dir = await mkdtemp(path.join(tmpdir(), 'rungwise-store-'));
+    const store = await StudyStore.create(dir, documentNamed('s'));
+    store.doc.trials.push(trialWith(0, 3), trialWith(1, 2));
+    await store.save();
+    const raw = JSON.parse(await readFile(studyFilePath(dir), 'utf8')) as { trials: Record<string, unknown>[] };
+    expect(raw.trials.every((t) => !('curve' in t))).toBe(true);
+    const read = await StudyStore.read(dir);
+    expect(read.trials.map((t) => t.curve.length)).toEqual([3, 2]);
+    expect(read.trials[0]!.curve[2]).toEqual(point(3));
+  });
+
+  it('appends only the curves that changed since the last write', async () => {
+    const dir = await mkdtemp(path.join(tmpdir(), 'rungwise-store-'));
+    const store = await StudyStore.create(dir, documentNamed('s'));
+    store.doc.trials.push(trialWith(0, 1), trialWith(1, 1));
+    await store.save();
+    store.doc.trials[1]!.curve.push(point(2));
+    await store.save();
+    await store.save();
+    const lines = (await readFile(path.join(dir, 'curves.jsonl'), 'utf8')).trim().split('\n');
+    expect(lines.map((l) => (JSON.parse(l) as { trial: number }).trial)).toEqual([0, 1, 1]);
+  });
+
+  it('ignores a last line cut short by a kill', async () => {
+    const dir = await mkdtemp(path.join(tmpdir(), 'rungwise-store-'));
+    const store = await StudyStore.create(dir, documentNamed('s'));
+    store.doc.trials.push(trialWith(0, 2));
+    await store.save();
+    await writeFile(path.join(dir, 'curves.jsonl'), `${await readFile(path.join(dir, 'curves.jsonl'), 'utf8')}{"trial":0,"curve":[{"ep`);
+    expect((await StudyStore.read(dir)).trials[0]!.curve).toHaveLength(2);
   });
 });

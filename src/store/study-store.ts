@@ -2,7 +2,7 @@ import { mkdir } from 'node:fs/promises';
 import path from 'node:path';
 import { Low } from 'lowdb';
 import { UserError } from '../errors.js';
-import { DurableJsonFile } from './file-adapter.js';
+import { StudyFileAdapter } from './study-file.js';
 import type { StudyDocument } from './types.js';
 
 /** File name of the study file inside a run directory. */
@@ -47,7 +47,7 @@ export class StudyStore {
   /** Create the run directory and write a new study file. */
   static async create(dir: string, doc: StudyDocument): Promise<StudyStore> {
     await mkdir(dir, { recursive: true });
-    const db = new Low(new DurableJsonFile<StudyDocument>(studyFilePath(dir)), doc);
+    const db = new Low(new StudyFileAdapter(studyFilePath(dir)), doc);
     await db.write();
     return new StudyStore(db, dir);
   }
@@ -55,7 +55,7 @@ export class StudyStore {
   /** Open an existing study file; a missing, corrupted or foreign file is a {@link UserError}. */
   static async open(dir: string): Promise<StudyStore> {
     const file = studyFilePath(dir);
-    const adapter = new DurableJsonFile<StudyDocument>(file);
+    const adapter = new StudyFileAdapter(file);
     const data = await adapter.read();
     if (data === null) {
       throw new UserError('E_STUDY_FILE', `${file}: no study file here; run \`rungwise run <study.json> --out ${dir}\` first`);

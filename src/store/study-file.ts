@@ -1,0 +1,57 @@
+import path from 'node:path';
+import type { Adapter } from 'lowdb';
+import { CurveLog, type CurveRecord } from './curve-log.js';
+import { DurableJsonFile } from './file-adapter.js';
+import type { CurvePoint, StudyDocument, TrialRecord } from './types.js';
+
+/** Name of the curve log inside a run directory. */
+export const CURVE_LOG_NAME = 'curves.jsonl';
+
+/** The study file as written: trials without their curves (those are in the curve log). */
+type StoredDocument = Omit<StudyDocument, 'trials'> & { trials: (Omit<TrialRecord, 'curve'> & { curve?: CurvePoint[] })[]; curveLog?: string };
+
+/**
+ * The lowdb adapter of a study: the document in `study.json` (atomic, durable, previous version kept)
+ * and the curves in `curves.jsonl` beside it. Callers see one document with curves in every trial.
+ */
+export class StudyFileAdapter implements Adapter<StudyDocument> {
+  private readonly document: DurableJsonFile<StoredDocument>;
+  private readonly curves: CurveLog;
+  /** Last curve written per trial: a curve is appended again only when its array or last point changed. */
+  private readonly written = new Map<number, { length: number; last: CurvePoint | undefined }>();
+
+  constructor(readonly file: string) {
+    this.document = new DurableJsonFile<StoredDocument>(file);
+    this.curves = new CurveLog(path.join(path.dirname(file), CURVE_LOG_NAME));
+  }
+
+  async read(): Promise<StudyDocument | null> {
+    const stored = await this.document.read();
+    if (stored === null) return null;
+    if (!Array.isArray(stored.trials)) return stored as unknown as StudyDocument;
+    const curves = stored.curveLog ? await this.curves.read() : new Map<number, CurvePoint[]>();
+    const { curveLog: _curveLog, ...rest } = stored;
+    const trials = stored.trials.map((trial) => {
+      const curve = curves.get(trial.id) ?? trial.curve ?? [];
+      this.written.set(trial.id, { length: curve.length, last: curve.at(-1) });
+      return { ...trial, curve };
+    });
+    return { ...rest, trials } as StudyDocument;
+  }
+
+  async write(data: StudyDocument): Promise<void> {
+    const changed: CurveRecord[] = [];
+    for (const trial of data.trials) {
+      const seen = this.written.get(trial.id);
+      if (!seen && trial.curve.length === 0) continue; // nothing to record yet
+      if (!seen || seen.length !== trial.curve.length || seen.last !== trial.curve.at(-1)) {
+        changed.push({ trial: trial.id, curve: trial.curve });
+      }
+    }
+    // Curves reach the disk before the study file that counts on them.
+    await this.curves.append(changed);
+    for (const record of changed) this.written.set(record.trial, { length: record.curve.length, last: record.curve.at(-1) });
+    const stored: StoredDocument = { ...data, curveLog: CURVE_LOG_NAME, trials: data.trials.map(({ curve: _curve, ...trial }) => trial) };
+    await this.document.write(stored);
+  }
+}
