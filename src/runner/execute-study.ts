@@ -120,25 +120,36 @@ export async function executeStudy(store: StudyStore, data: PreparedData, option
       ...(job.fromEpoch > 0 ? { checkpointIn: checkpointDir(store.dir, job.trialId) } : {}),
       ...(fault ? { fault } : {}),
     };
-    const signals = [cutOff.signal];
-    if (definition.trialTimeoutSeconds) signals.push(AbortSignal.timeout(definition.trialTimeoutSeconds * 1000));
+    // One controller per job, held here: ended by the interrupt's cut-off or by the trial's time limit.
+    const abort = new AbortController();
+    const onCutOff = (): void => abort.abort();
+    cutOff.signal.addEventListener('abort', onCutOff, { once: true });
+    let timedOut = false;
+    const timer = definition.trialTimeoutSeconds
+      ? setTimeout(() => {
+          timedOut = true;
+          abort.abort();
+        }, definition.trialTimeoutSeconds * 1000)
+      : undefined;
     const done = pool
-      .run(request, (report) => emit({ type: 'epoch', report }), AbortSignal.any(signals))
+      .run(request, (report) => emit({ type: 'epoch', report }), abort.signal)
       .then(
-        (result) => settle(job, result),
-        (error: unknown) => settle(job, error instanceof Error ? error : new Error(String(error))),
+        (result) => settle(job, result, false),
+        (error: unknown) => settle(job, error instanceof Error ? error : new Error(String(error)), timedOut),
       )
       .finally(() => {
+        clearTimeout(timer);
+        cutOff.signal.removeEventListener('abort', onCutOff);
         if (running.get(job.trialId) === done) running.delete(job.trialId);
       });
     running.set(job.trialId, done);
   };
 
-  const settle = async (job: Job, outcome: TrainResult | Error): Promise<void> => {
+  /** Record a job's outcome and tell the sampler, synchronously, so the next job can start at once. */
+  const settle = (job: Job, outcome: TrainResult | Error, timedOut: boolean): void => {
     const record = records.get(job.trialId)!;
     if (outcome instanceof Error && cutOff.signal.aborted) return; // cut off by an interrupt: redone on resume
     if (outcome instanceof Error) {
-      const timedOut = outcome.name === 'AbortError' || outcome.name === 'TimeoutError';
       const failed = (failures.get(job.trialId) ?? 0) + 1;
       failures.set(job.trialId, failed);
       if (!timedOut && failed <= definition.retries) {
@@ -165,11 +176,25 @@ export async function executeStudy(store: StudyStore, data: PreparedData, option
     // Every paused trial the sampler has now given up on is final.
     for (const id of [...paused]) if (!sampler.mayContinue(id)) finalise(records.get(id)!);
     if (ENDED.has(record.status)) finishedTrials += 1;
-    const ranking = rankTrials(doc.trials, objective);
-    await pruneCheckpoints(store.dir, ranking, records, withCheckpoint, sampler);
-    // Saved before it is announced: a trial shown as finished is on disk.
-    await store.save();
-    emit({ type: 'trial-finished', trial: record, job, best: ranking[0]?.trial, finishedTrials });
+    persistInBackground(record, job, finishedTrials);
+  };
+
+  /** Saving, pruning and announcing run after the next job has been dispatched; the loop awaits them at the end. */
+  const persisting = new Set<Promise<void>>();
+  let persistError: unknown;
+  const persistInBackground = (record: TrialRecord, job: Job, finished: number): void => {
+    const work = (async () => {
+      await new Promise<void>((resolve) => setImmediate(resolve)); // let the loop start the next job first
+      const ranking = rankTrials(doc.trials, objective);
+      await pruneCheckpoints(store.dir, ranking, records, withCheckpoint, sampler);
+      // Saved before it is announced: a trial shown as finished is on disk.
+      await store.save();
+      emit({ type: 'trial-finished', trial: record, job, best: ranking[0]?.trial, finishedTrials: finished });
+    })().catch((error: unknown) => {
+      persistError ??= error;
+    });
+    persisting.add(work);
+    void work.finally(() => persisting.delete(work));
   };
 
   const finalise = (record: TrialRecord): void => {
@@ -193,7 +218,10 @@ export async function executeStudy(store: StudyStore, data: PreparedData, option
         throw new Error('the sampler is waiting but no job is running');
       }
       await Promise.race(running.values());
+      if (persistError) throw persistError;
     }
+    await Promise.all(persisting);
+    if (persistError) throw persistError;
   } finally {
     clearTimeout(graceTimer);
     options.signal?.removeEventListener('abort', onAbort);
