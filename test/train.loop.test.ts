@@ -5,6 +5,7 @@ import type { EpochReport } from '../src/pool/messages.js';
 import { initBackend } from '../src/train/backend.js';
 import { datasetTensors } from '../src/train/data-cache.js';
 import { trainSegment } from '../src/train/loop.js';
+import { createNetwork, disposeNetwork, forward, lossFromLogits, networkSpec } from '../src/train/network.js';
 import { syntheticDataset, trainRequest } from './helpers/synthetic.js';
 
 beforeAll(() => initBackend());
@@ -91,5 +92,17 @@ describe('trainSegment', () => {
 
   it('rejects a continuation without a checkpoint', async () => {
     await expect(trainSegment(trainRequest(binary, { fromEpoch: 2, toEpoch: 3 }))).rejects.toThrow(/fromEpoch is 2 but no checkpointIn/);
+  });
+  it("with one batch per epoch, epoch 1's training loss is the initial network's loss on every training row", async () => {
+    const rows = multiclass.train.rows;
+    const request = trainRequest(multiclass, { toEpoch: 1, params: { batchSize: rows } });
+    const result = await trainSegment(request);
+    const { params, dataset, seed, trialId } = request;
+    const network = createNetwork(networkSpec(trialId, seed, params, dataset.inputCount, dataset.outputCount));
+    const data = datasetTensors(dataset);
+    const initialLoss = tf.tidy(() => lossFromLogits('multiclass', forward(network, data.trainX), data.trainY).dataSync()[0]!);
+    disposeNetwork(network);
+    // The epoch's shuffle changes only the order the rows are summed in.
+    expect(result.epochs[0]!.trainLoss).toBeCloseTo(initialLoss, 6);
   });
 });
