@@ -179,22 +179,36 @@ export async function executeStudy(store: StudyStore, data: PreparedData, option
     persistInBackground(record, job, finishedTrials);
   };
 
-  /** Saving, pruning and announcing run after the next job has been dispatched; the loop awaits them at the end. */
-  const persisting = new Set<Promise<void>>();
+  /**
+   * Saving, pruning and announcing run after the next job has been dispatched, in batches: every
+   * outcome settled while a save is under way is ranked, pruned and saved once more together.
+   */
+  const unsaved: { record: TrialRecord; job: Job; finished: number }[] = [];
+  let persisting: Promise<void> | undefined;
   let persistError: unknown;
   const persistInBackground = (record: TrialRecord, job: Job, finished: number): void => {
-    const work = (async () => {
+    unsaved.push({ record, job, finished });
+    if (!persisting) drainUnsaved();
+  };
+  const drainUnsaved = (): void => {
+    persisting = (async () => {
       await new Promise<void>((resolve) => setImmediate(resolve)); // let the loop start the next job first
-      const ranking = rankTrials(doc.trials, objective);
-      await pruneCheckpoints(store.dir, ranking, records, withCheckpoint, sampler);
-      // Saved before it is announced: a trial shown as finished is on disk.
-      await store.save();
-      emit({ type: 'trial-finished', trial: record, job, best: ranking[0]?.trial, finishedTrials: finished });
-    })().catch((error: unknown) => {
-      persistError ??= error;
-    });
-    persisting.add(work);
-    void work.finally(() => persisting.delete(work));
+      while (unsaved.length > 0) {
+        const batch = unsaved.splice(0);
+        const ranking = rankTrials(doc.trials, objective);
+        await pruneCheckpoints(store.dir, ranking, records, withCheckpoint, sampler);
+        // Saved before it is announced: a trial shown as finished is on disk.
+        await store.save();
+        for (const item of batch) emit({ type: 'trial-finished', trial: item.record, job: item.job, best: ranking[0]?.trial, finishedTrials: item.finished });
+      }
+    })()
+      .catch((error: unknown) => {
+        persistError ??= error;
+      })
+      .finally(() => {
+        persisting = undefined;
+        if (unsaved.length > 0 && !persistError) drainUnsaved(); // settled after the last check
+      });
   };
 
   const finalise = (record: TrialRecord): void => {
@@ -220,7 +234,7 @@ export async function executeStudy(store: StudyStore, data: PreparedData, option
       await Promise.race(running.values());
       if (persistError) throw persistError;
     }
-    await Promise.all(persisting);
+    while (persisting) await persisting;
     if (persistError) throw persistError;
   } finally {
     clearTimeout(graceTimer);
