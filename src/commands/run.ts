@@ -20,9 +20,9 @@ export interface RunCommandOptions {
 export async function run(options: RunCommandOptions): Promise<StudyOutcome> {
   const stdout = options.stdout ?? process.stdout;
   // Validate before anything is drawn, so bad input gives only its one-line error.
-  const { definition } = await loadStudy(options.definition);
-  const objective = resolveObjective(definition);
-  const outcome = await runStudy(options.definition, {
+  const study = await loadStudy(options.definition);
+  const objective = resolveObjective(study.definition);
+  const outcome = await runStudy(study, {
     ...(options.out !== undefined ? { out: options.out } : {}),
     ...(options.workers !== undefined ? { workers: options.workers } : {}),
     ...(options.force !== undefined ? { force: options.force } : {}),

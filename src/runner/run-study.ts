@@ -4,7 +4,7 @@ import path from 'node:path';
 import { prepareData } from '../data/index.js';
 import { UserError } from '../errors.js';
 import { resolveObjective } from '../study/definition.js';
-import { loadStudy } from '../study/load.js';
+import { loadStudy, type LoadedStudy } from '../study/load.js';
 import { LOCK_FILES, lockStudy } from '../store/lock.js';
 import { StudyStore, studyFilePath } from '../store/study-store.js';
 import { executeStudy, type ExecuteOptions, type StudyOutcome } from './execute-study.js';
@@ -17,11 +17,12 @@ export interface RunOptions extends ExecuteOptions {
 }
 
 /**
- * Launch a study from its definition file: validate it, prepare the data, then search, record and
- * rank. Bad input throws a {@link UserError} before anything is written.
+ * Launch a study from its definition file (or one already loaded with `loadStudy`): validate it,
+ * prepare the data, then search, record and rank. Bad input throws a {@link UserError} before
+ * anything is written.
  */
-export async function runStudy(definitionFile: string, options: RunOptions = {}): Promise<StudyOutcome> {
-  const { definition, file } = await loadStudy(definitionFile);
+export async function runStudy(study: string | LoadedStudy, options: RunOptions = {}): Promise<StudyOutcome> {
+  const { definition, file } = typeof study === 'string' ? await loadStudy(study) : study;
   const { data, summary } = await prepareData(definition.data, file);
   const dir = path.resolve(options.out ?? path.join('runs', definition.name));
   await mkdir(dir, { recursive: true });
