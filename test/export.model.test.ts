@@ -12,7 +12,7 @@ import { prepareData } from '../src/data/prepare.js';
 import { unscaleTarget } from '../src/data/recipe.js';
 import type { PreprocessingRecipe } from '../src/data/types.js';
 import { UserError } from '../src/errors.js';
-import { writeFolderAtomically } from '../src/export/atomic-folder.js';
+import { writeFolderAtomically } from '../src/files/atomic-folder.js';
 import type { ExportConfiguration } from '../src/export/configuration.js';
 import { OPTIMISM_CAUTION } from '../src/report/summary.js';
 import { runStudy } from '../src/runner/run-study.js';

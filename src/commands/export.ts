@@ -4,7 +4,7 @@ import path from 'node:path';
 import { prepareData } from '../data/prepare.js';
 import type { PreparedData } from '../data/types.js';
 import { UserError } from '../errors.js';
-import { writeFolderAtomically } from '../export/atomic-folder.js';
+import { writeFolderAtomically } from '../files/atomic-folder.js';
 import { CONFIGURATION_FILE, EXPORT_CAUTION, buildConfiguration, lastEpochFigures } from '../export/configuration.js';
 import { evaluateExportedModel } from '../export/evaluate.js';
 import { MODEL_FILE, WEIGHTS_FILE, buildLayersModel, saveLayersModel } from '../export/model-files.js';

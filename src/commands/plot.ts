@@ -1,8 +1,10 @@
-import { mkdir, mkdtemp, rename, rm, writeFile } from 'node:fs/promises';
+import { existsSync } from 'node:fs';
+import { writeFile } from 'node:fs/promises';
 import path from 'node:path';
 import { renderSvg } from '../plot/render.js';
 import { buildReport, type RenderedChart } from '../plot/report.js';
 import { studyCharts } from '../plot/specs.js';
+import { writeFolderAtomically } from '../files/atomic-folder.js';
 import { StudyStore } from '../store/study-store.js';
 
 export interface PlotOptions {
@@ -14,9 +16,8 @@ export interface PlotOptions {
 
 /**
  * Draws the study's charts: one `.svg` and one Vega-Lite `.vl.json` per chart, and `report.html`
- * with everything inlined. Reads only the study file. Every file is written to a temporary folder
- * beside the output first and moved in only when all are complete, so a failure leaves no
- * half-written chart.
+ * with everything inlined. Reads only the study file. The folder is written whole beside the output
+ * and renamed into place, so a failure leaves no half-written chart.
  */
 export async function plot(options: PlotOptions): Promise<{ files: string[] }> {
   const study = await StudyStore.read(options.dir);
@@ -25,23 +26,24 @@ export async function plot(options: PlotOptions): Promise<{ files: string[] }> {
   const rendered: RenderedChart[] = [];
   for (const chart of charts) rendered.push({ name: chart.name, title: chart.title, svg: await renderSvg(chart.spec) });
 
-  await mkdir(path.dirname(out), { recursive: true });
-  const staging = await mkdtemp(path.join(path.dirname(out), `.${path.basename(out)}-`));
-  try {
-    const names: string[] = [];
-    const put = async (name: string, content: string): Promise<void> => {
-      await writeFile(path.join(staging, name), content, 'utf8');
-      names.push(name);
-    };
-    for (const [i, chart] of rendered.entries()) {
-      await put(`${chart.name}.svg`, chart.svg);
-      await put(`${chart.name}.vl.json`, `${JSON.stringify(charts[i]!.spec, null, 2)}\n`);
-    }
-    await put('report.html', buildReport(study, rendered));
-    await mkdir(out, { recursive: true });
-    for (const name of names) await rename(path.join(staging, name), path.join(out, name));
-    return { files: names.map((name) => path.join(out, name)) };
-  } finally {
-    await rm(staging, { recursive: true, force: true });
-  }
+  // An earlier report folder is replaced; a folder of the user's own is not.
+  const names = await writeFolderAtomically(
+    out,
+    (existing) => existsSync(path.join(existing, 'report.html')),
+    async (partial) => {
+      const written: string[] = [];
+      const put = async (name: string, content: string): Promise<void> => {
+        await writeFile(path.join(partial, name), content, 'utf8');
+        written.push(name);
+      };
+      for (const [i, chart] of rendered.entries()) {
+        await put(`${chart.name}.svg`, chart.svg);
+        await put(`${chart.name}.vl.json`, `${JSON.stringify(charts[i]!.spec, null, 2)}\n`);
+      }
+      await put('report.html', buildReport(study, rendered));
+      return written;
+    },
+    'plot report',
+  );
+  return { files: names.map((name) => path.join(out, name)) };
 }

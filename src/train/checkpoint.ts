@@ -3,9 +3,9 @@
  * variable, then every optimizer variable, float32 little-endian, concatenated in manifest order).
  */
 import * as tf from '@tensorflow/tfjs';
-import { mkdir, readFile, rename, rm, writeFile } from 'node:fs/promises';
+import { readFile, writeFile } from 'node:fs/promises';
 import { join } from 'node:path';
-import { threadId } from 'node:worker_threads';
+import { writeFolderAtomically } from '../files/atomic-folder.js';
 import type { OptimizerName, TrialParams } from '../study/definition.js';
 
 export const CHECKPOINT_FORMAT_VERSION = 1;
@@ -102,16 +102,11 @@ export async function writeCheckpoint(
       optimizer: { name: info.params.optimizer, iterations: state.iterations, variables: slots.map(({ name, shape }) => ({ name, shape })) },
     };
     const bytes = encode([...network, ...slots].map((e) => e.tensor));
-    const partial = `${dir}.partial-${process.pid}-${threadId}`;
-    await rm(partial, { recursive: true, force: true });
-    await mkdir(partial, { recursive: true });
-    await writeFile(join(partial, WEIGHTS_FILE), bytes);
-    await writeFile(join(partial, MANIFEST_FILE), `${JSON.stringify(manifest, null, 2)}\n`);
-    // rename() cannot replace a non-empty directory: move the old one aside first.
-    const previous = `${dir}.previous-${process.pid}-${threadId}`;
-    const replaced = await rename(dir, previous).then(() => true, () => false);
-    await rename(partial, dir);
-    if (replaced) await rm(previous, { recursive: true, force: true });
+    // A checkpoint always replaces the trial's previous one.
+    await writeFolderAtomically(dir, () => true, async (partial) => {
+      await writeFile(join(partial, WEIGHTS_FILE), bytes);
+      await writeFile(join(partial, MANIFEST_FILE), `${JSON.stringify(manifest, null, 2)}\n`);
+    }, 'checkpoint');
   } finally {
     tf.dispose(state.owned);
   }

@@ -1,6 +1,7 @@
 import { existsSync } from 'node:fs';
 import { mkdir, readdir, rename, rm } from 'node:fs/promises';
 import path from 'node:path';
+import { threadId } from 'node:worker_threads';
 import { UserError } from '../errors.js';
 
 /**
@@ -13,24 +14,26 @@ export async function writeFolderAtomically<T>(
   target: string,
   replaceable: (existing: string) => boolean,
   fill: (partial: string) => Promise<T>,
+  /** What an earlier result is called in the refusal, e.g. "export". @default 'export' */
+  kind = 'export',
 ): Promise<T> {
   const resolved = path.resolve(target);
   if (existsSync(resolved)) {
     const entries = await readdir(resolved).catch(() => undefined);
     if (entries === undefined) throw new UserError('E_OUT_TAKEN', `${target}: exists and is not a folder; choose another --out`);
     if (entries.length > 0 && !replaceable(resolved)) {
-      throw new UserError('E_OUT_TAKEN', `${target}: is a non-empty folder that does not hold an earlier export; choose another --out or remove it`);
+      throw new UserError('E_OUT_TAKEN', `${target}: is a non-empty folder that does not hold an earlier ${kind}; choose another --out or remove it`);
     }
   }
   await mkdir(path.dirname(resolved), { recursive: true });
-  const partial = `${resolved}.partial-${process.pid}`;
+  const partial = `${resolved}.partial-${process.pid}-${threadId}`;
   await rm(partial, { recursive: true, force: true });
   await mkdir(partial);
   let result: T;
   try {
     result = await fill(partial);
     // rename() cannot replace a non-empty folder: move the old one aside first.
-    const previous = `${resolved}.previous-${process.pid}`;
+    const previous = `${resolved}.previous-${process.pid}-${threadId}`;
     const replaced = await rename(resolved, previous).then(
       () => true,
       () => false,
