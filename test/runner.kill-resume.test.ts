@@ -51,7 +51,8 @@ const resultOf = (doc: StudyDocument) =>
     .sort((a, b) => a.id - b.id);
 
 describe('killing and resuming a study', () => {
-  const definition = tinyStudy({ budget: { trials: 10, maxEpochs: 4 }, workers: 2 });
+  // Enough trials that the study outlives every kill moment below.
+  const definition = tinyStudy({ budget: { trials: 20, maxEpochs: 4 }, workers: 2 });
   let studyFile: string;
   let reference: StudyDocument;
 

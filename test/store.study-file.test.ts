@@ -107,3 +107,19 @@ describe('the curve log', () => {
     expect((await StudyStore.read(dir)).trials[0]!.curve).toHaveLength(2);
   });
 });
+
+describe('a write under way', () => {
+  it('records the document as it was when the write began, even if it changes while the write waits', async () => {
+    const dir = await mkdtemp(path.join(tmpdir(), 'rungwise-store-'));
+    const store = await StudyStore.create(dir, documentNamed('s'));
+    const trial = { id: 0, status: 'running', epochsTrained: 0, rungObjectives: [] as number[], curve: [] } as unknown as StudyDocument['trials'][number];
+    store.doc.trials.push(trial);
+    const saving = store.save();
+    // The run loop settles the trial while the save waits for the disk.
+    trial.rungObjectives.push(0.9);
+    trial.epochsTrained = 4;
+    await saving;
+    const written = JSON.parse(await readFile(studyFilePath(dir), 'utf8')) as StudyDocument;
+    expect(written.trials[0]).toMatchObject({ status: 'running', epochsTrained: 0, rungObjectives: [] });
+  });
+});

@@ -42,12 +42,17 @@ export class CurveLog {
     return curves;
   }
 
-  /** Append records and flush them to disk. */
-  async append(records: readonly CurveRecord[]): Promise<void> {
-    if (records.length === 0) return;
+  /** The JSON lines of `records`, serialised at once (the caller's objects may change while the append waits). */
+  static lines(records: readonly CurveRecord[]): string {
+    return records.map((r) => `${JSON.stringify(r)}\n`).join('');
+  }
+
+  /** Append lines made by {@link CurveLog.lines} and flush them to disk. */
+  async append(lines: string): Promise<void> {
+    if (lines === '') return;
     const handle = await open(this.file, 'a');
     try {
-      await handle.appendFile(records.map((r) => `${JSON.stringify(r)}\n`).join(''));
+      await handle.appendFile(lines);
       await handle.sync();
     } finally {
       await handle.close();

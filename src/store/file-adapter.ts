@@ -45,13 +45,18 @@ export class DurableJsonFile<T> implements Adapter<T> {
   }
 
   async write(data: T): Promise<void> {
+    await this.writeText(JSON.stringify(data));
+  }
+
+  /** Write an already serialised document (callers serialise at once, before the document can change). */
+  async writeText(text: string): Promise<void> {
     const previous = `${this.file}${PREVIOUS_SUFFIX}`;
     this.writes += 1;
     await unlink(previous).catch(() => undefined);
     crashPoint('after-unlink', this.writes);
     await link(this.file, previous).catch(() => undefined);
     crashPoint('after-link', this.writes);
-    await writeFileAtomic(this.file, JSON.stringify(data), { fsync: true });
+    await writeFileAtomic(this.file, text, { fsync: true });
   }
 
   private writes = 0;

@@ -48,10 +48,14 @@ export class StudyFileAdapter implements Adapter<StudyDocument> {
         changed.push({ trial: trial.id, curve: trial.curve });
       }
     }
-    // Curves reach the disk before the study file that counts on them.
-    await this.curves.append(changed);
-    for (const record of changed) this.written.set(record.trial, { length: record.curve.length, last: record.curve.at(-1) });
+    // Serialise both now: the run loop keeps changing the document while the writes below wait, and
+    // the study file and the curve log must describe the same moment.
+    const lines = CurveLog.lines(changed);
     const stored: StoredDocument = { ...data, curveLog: CURVE_LOG_NAME, trials: data.trials.map(({ curve: _curve, ...trial }) => trial) };
-    await this.document.write(stored);
+    const text = JSON.stringify(stored);
+    for (const record of changed) this.written.set(record.trial, { length: record.curve.length, last: record.curve.at(-1) });
+    // Curves reach the disk before the study file that counts on them.
+    await this.curves.append(lines);
+    await this.document.writeText(text);
   }
 }
