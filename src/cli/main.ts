@@ -110,6 +110,10 @@ export function buildProgram(write: (text: string) => void): Command {
 /** Runs the CLI; the only place that turns errors into exit codes. Returns the exit code. */
 export async function main(argv: readonly string[]): Promise<number> {
   const debug = argv.includes('--debug');
+  // Output piped into a command that stops reading (`| head`) is not an error.
+  process.stdout.on('error', (error: NodeJS.ErrnoException) => {
+    if (error.code === 'EPIPE') process.exit(0);
+  });
   const program = buildProgram((text) => process.stdout.write(text));
   try {
     process.exitCode = undefined;
