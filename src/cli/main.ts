@@ -110,9 +110,9 @@ export function buildProgram(write: (text: string) => void): Command {
 /** Runs the CLI; the only place that turns errors into exit codes. Returns the exit code. */
 export async function main(argv: readonly string[]): Promise<number> {
   const debug = argv.includes('--debug');
-  // Output piped into a command that stops reading (`| head`) is not an error.
+  // Output piped into a command that stops reading (`| head`) is not an error: a study goes on.
   process.stdout.on('error', (error: NodeJS.ErrnoException) => {
-    if (error.code === 'EPIPE') process.exit(0);
+    if (error.code !== 'EPIPE') throw error;
   });
   const program = buildProgram((text) => process.stdout.write(text));
   try {
