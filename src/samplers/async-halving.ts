@@ -1,5 +1,8 @@
-import type { Job, JobOutcome, Sampler } from './sampler.js';
-import { assertPositiveInteger, isPromotable, rank, resultsOf, rungEpochs, type ParamsForTrial } from './ranking.js';
+import { z } from 'zod';
+import { halvingFields } from '../study/fields.js';
+import { checkHalvingBudget } from './successive-halving.js';
+import { defineSampler, type Job, type JobOutcome, type Sampler } from './sampler.js';
+import { assertPositiveInteger, isPromotable, rank, resultsOf, rungEpochs, type ParamsForTrial } from './rungs.js';
 
 export interface AsyncHalvingOptions {
   /** Configurations to start (trial ids 0 .. trials - 1). */
@@ -131,3 +134,27 @@ export class AsyncHalvingSampler implements Sampler {
 function key(trialId: number, rung: number): string {
   return `${trialId}/${rung}`;
 }
+
+/** `sampler.kind: "async-halving"`: promotes whenever a rung allows, never waits for a rung to fill. */
+export const asyncHalvingPlugin = defineSampler({
+  kind: 'async-halving',
+  summary: 'promotes the top 1/eta of each rung as soon as results allow, so no worker waits (Li et al. 2020); order-dependent',
+  schema: z.strictObject({ kind: z.literal('async-halving'), ...halvingFields }),
+  traits: { deterministic: false },
+  create: (options, context) => {
+    checkHalvingBudget(options, context.budget);
+    return new AsyncHalvingSampler({ ...options, trials: context.budget.trials, maxEpochs: context.budget.maxEpochs, paramsFor: context.randomParams });
+  },
+  plan: (options, budget) => {
+    if (options.minEpochs > budget.maxEpochs) return { trials: 0, epochs: 0 };
+    // At most floor(n_k / eta) trials leave rung k, since a promotion needs eta results there.
+    const rungs = rungEpochs(options.minEpochs, budget.maxEpochs, options.eta);
+    let reaching = budget.trials;
+    let epochs = 0;
+    rungs.forEach((end, k) => {
+      if (k > 0) reaching = Math.floor(reaching / options.eta);
+      epochs += reaching * (end - (k > 0 ? rungs[k - 1]! : 0));
+    });
+    return { trials: budget.trials, epochs };
+  },
+});

@@ -1,6 +1,8 @@
-import type { Job, JobOutcome, Sampler } from './sampler.js';
-import { HalvingBracket, type RungPlan } from './successive-halving.js';
-import { assertEta, assertPositiveInteger, type ParamsForTrial } from './ranking.js';
+import { z } from 'zod';
+import { halvingFields } from '../study/fields.js';
+import { defineSampler, type Job, type JobOutcome, type Sampler } from './sampler.js';
+import { HalvingBracket, checkHalvingBudget, type RungPlan } from './successive-halving.js';
+import { assertEta, assertPositiveInteger, type ParamsForTrial } from './rungs.js';
 
 /** One Hyperband bracket: its index s (s_max runs first) and its rounds of successive halving. */
 export interface HyperbandBracketPlan {
@@ -121,3 +123,23 @@ export class HyperbandSampler implements Sampler {
     return bracket;
   }
 }
+
+/** `sampler.kind: "hyperband"`: brackets of successive halving from minEpochs to maxEpochs; derives its own trial count. */
+export const hyperbandPlugin = defineSampler({
+  kind: 'hyperband',
+  summary: 'brackets of successive halving that trade many short trials against few long ones (Li et al. 2018); ignores budget.trials',
+  schema: z.strictObject({ kind: z.literal('hyperband'), ...halvingFields }),
+  traits: { deterministic: true },
+  create: (options, context) => {
+    checkHalvingBudget(options, context.budget);
+    return new HyperbandSampler({ ...options, maxEpochs: context.budget.maxEpochs, paramsFor: context.randomParams });
+  },
+  plan: (options, budget) => {
+    if (options.minEpochs > budget.maxEpochs) return { trials: 0, epochs: 0 };
+    const brackets = hyperbandSchedule(budget.maxEpochs, options.eta, options.minEpochs);
+    return {
+      trials: brackets.reduce((sum, bracket) => sum + bracket.rounds[0]!.configurations, 0),
+      epochs: brackets.reduce((sum, bracket) => sum + trainedEpochs(bracket.rounds), 0),
+    };
+  },
+});

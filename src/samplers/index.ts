@@ -1,13 +1,12 @@
-import { UserError } from '../errors.js';
 import { paramsForTrial } from '../space/sample.js';
 import type { StudyDefinition } from '../study/definition.js';
-import { AsyncHalvingSampler } from './async-halving.js';
-import { HyperbandSampler, hyperbandSchedule } from './hyperband.js';
-import { RandomSampler } from './random.js';
-import type { Sampler } from './sampler.js';
-import { SuccessiveHalvingSampler } from './successive-halving.js';
+import { stream } from '../random/streams.js';
+import { SAMPLER_PLUGINS } from './registry.js';
+import type { Sampler, SamplerContext, SamplerPlugin } from './sampler.js';
 
-export type { Job, JobOutcome, Sampler } from './sampler.js';
+export type { Job, JobOutcome, ProposalOrigin, Sampler, SamplerContext, SamplerPlugin, SamplerTraits } from './sampler.js';
+export { defineSampler } from './sampler.js';
+export { SAMPLER_PLUGINS, samplerSchema } from './registry.js';
 export { AsyncHalvingSampler } from './async-halving.js';
 export { HyperbandSampler, hyperbandSchedule, largestBracket, scheduledEpochs, trainedEpochs } from './hyperband.js';
 export type { HyperbandBracketPlan } from './hyperband.js';
@@ -16,40 +15,41 @@ export { HalvingBracket, SuccessiveHalvingSampler, halvingSchedule } from './suc
 export type { RungPlan } from './successive-halving.js';
 export { replay, type ReplayResult } from './replay.js';
 export { simulate, type SimulationLog, type SimulationOptions } from './simulate.js';
-export { compareResults, rungEpochs } from './ranking.js';
+export { compareResults, rungEpochs } from './rungs.js';
 
 type SamplerDefinition = Pick<StudyDefinition, 'space' | 'budget' | 'sampler'>;
 
-/** The sampler a study definition names; configurations come from `paramsForTrial(space, sampler.seed, id)`. */
-export function createSampler(definition: SamplerDefinition): Sampler {
+/** The registered plugin of a sampler kind. */
+export function samplerPlugin(kind: string): SamplerPlugin {
+  const plugin = SAMPLER_PLUGINS.find((candidate) => candidate.kind === kind);
+  if (!plugin) throw new Error(`no sampler of kind '${kind}' is registered`);
+  // Each plugin's options type is its own schema's output; the study schema chose the plugin by the same kind.
+  return plugin as unknown as SamplerPlugin;
+}
+
+/** The seeded context a study gives its sampler. */
+export function samplerContext(definition: SamplerDefinition): SamplerContext {
   const { space, budget, sampler } = definition;
-  const paramsFor = (trialId: number) => paramsForTrial(space, sampler.seed, trialId);
-  if (sampler.kind === 'random') return new RandomSampler({ trials: budget.trials, maxEpochs: budget.maxEpochs, paramsFor });
-  // The schema checks each field alone; this pair is checked here, before any plan is built.
-  if (sampler.minEpochs > budget.maxEpochs) {
-    throw new UserError(
-      'E_STUDY_INVALID',
-      `study definition: sampler.minEpochs is ${sampler.minEpochs} but budget.maxEpochs is ${budget.maxEpochs}; minEpochs must not exceed maxEpochs`,
-    );
-  }
-  const halving = { minEpochs: sampler.minEpochs, maxEpochs: budget.maxEpochs, eta: sampler.eta, paramsFor };
-  switch (sampler.kind) {
-    case 'successive-halving':
-      return new SuccessiveHalvingSampler({ ...halving, trials: budget.trials });
-    case 'hyperband':
-      return new HyperbandSampler(halving);
-    case 'async-halving':
-      return new AsyncHalvingSampler({ ...halving, trials: budget.trials });
-  }
+  return {
+    space,
+    budget,
+    seed: sampler.seed,
+    randomParams: (trialId) => paramsForTrial(space, sampler.seed, trialId),
+    stream: (...key) => stream(sampler.seed, 'sampler', sampler.kind, ...key),
+  };
+}
+
+/** A fresh sampler of the kind the study definition names. */
+export function createSampler(definition: SamplerDefinition): Sampler {
+  return samplerPlugin(definition.sampler.kind).create(definition.sampler, samplerContext(definition));
+}
+
+/** Configurations and epochs the study's sampler runs at most (0 and 0 when its options do not fit the budget). */
+export function plannedBudget(definition: Pick<StudyDefinition, 'budget' | 'sampler'>): { trials: number; epochs: number } {
+  return samplerPlugin(definition.sampler.kind).plan(definition.sampler, definition.budget);
 }
 
 /** Configurations the study's sampler will start (Hyperband derives its own count and ignores budget.trials). */
 export function plannedTrialCount(definition: Pick<StudyDefinition, 'budget' | 'sampler'>): number {
-  const { budget, sampler } = definition;
-  if (sampler.kind !== 'hyperband') return budget.trials;
-  if (sampler.minEpochs > budget.maxEpochs) return 0;
-  return hyperbandSchedule(budget.maxEpochs, sampler.eta, sampler.minEpochs).reduce(
-    (sum, bracket) => sum + bracket.rounds[0]!.configurations,
-    0,
-  );
+  return plannedBudget(definition).trials;
 }

@@ -1,5 +1,7 @@
-import type { Job, JobOutcome, Sampler } from './sampler.js';
-import { assertPositiveInteger, type ParamsForTrial } from './ranking.js';
+import { z } from 'zod';
+import { seedField } from '../study/fields.js';
+import { defineSampler, type Job, type JobOutcome, type Sampler } from './sampler.js';
+import { assertPositiveInteger, type ParamsForTrial } from './rungs.js';
 
 export interface RandomSamplerOptions {
   /** Configurations to try; trial ids run 0 .. trials - 1. */
@@ -48,3 +50,13 @@ export class RandomSampler implements Sampler {
     return false;
   }
 }
+
+/** `sampler.kind: "random"`: every trial one job of maxEpochs, configurations drawn at random. */
+export const randomPlugin = defineSampler({
+  kind: 'random',
+  summary: 'every trial trains maxEpochs; configurations drawn at random (Bergstra and Bengio 2012)',
+  schema: z.strictObject({ kind: z.literal('random'), seed: seedField.default(0) }),
+  traits: { deterministic: true },
+  create: (_options, context) => new RandomSampler({ trials: context.budget.trials, maxEpochs: context.budget.maxEpochs, paramsFor: context.randomParams }),
+  plan: (_options, budget) => ({ trials: budget.trials, epochs: budget.trials * budget.maxEpochs }),
+});

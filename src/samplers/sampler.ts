@@ -1,24 +1,38 @@
-import type { TrialParams } from '../study/definition.js';
+import type { z } from 'zod';
+import type { Rng } from '../random/streams.js';
+import type { Budget, SearchSpace, TrialParams } from '../study/definition.js';
+
+/** Which model or design proposed a configuration, recorded per trial (e.g. to show when a search began to exploit). */
+export interface ProposalOrigin {
+  /** E.g. `random`, `sobol`, `tpe`. */
+  method: string;
+  /** Batch of proposals the configuration belongs to, for samplers that propose in batches. */
+  batch?: number;
+  /** Epochs of the results the model was fitted on (model-based samplers inside Hyperband). */
+  fittedOnEpochs?: number;
+}
 
 /** A unit of work: train one configuration from one epoch count to another. */
 export interface Job {
   trialId: number;
   params: TrialParams;
-  /** Rung index (0 for the first; random search uses 0 only). */
+  /** Rung index within the trial's bracket (0 for the first; random search uses 0 only). */
   rung: number;
   /** Bracket index for Hyperband; 0 elsewhere. */
   bracket: number;
   fromEpoch: number;
   toEpoch: number;
-  /** Why the trial was promoted into this rung (asynchronous halving sets it), e.g. "rank 2 of 7 at rung 0 (top 2 promotable)". */
+  /** Why the trial was promoted into this rung, e.g. "rank 2 of 7 at rung 0 (top 2 promotable)". */
   reason?: string;
+  /** Set on a trial's first job by samplers that propose configurations themselves. */
+  origin?: ProposalOrigin;
 }
 
-/** What came of a job. `objective` is null when the trial diverged or failed. */
+/** What came of a job. */
 export interface JobOutcome {
   trialId: number;
   rung: number;
-  /** Objective at the job's last epoch, already oriented so that smaller is better. */
+  /** Objective at the job's last epoch, already oriented so that smaller is better; null when the trial diverged or failed. */
   loss: number | null;
 }
 
@@ -31,6 +45,53 @@ export interface Sampler {
   next(): Job | 'wait' | 'done';
   /** Record a job's outcome. Outcomes of jobs handed out must each be reported once. */
   report(outcome: JobOutcome): void;
-  /** Whether the trial may still be promoted later (its checkpoint must be kept). */
+  /**
+   * Whether a job may still continue this trial from its checkpoint (a promotion not yet handed out
+   * counts): while true, its checkpoint is kept.
+   */
   mayContinue(trialId: number): boolean;
+}
+
+/** What every sampler is given: the space to search, the budget, and its seeded random streams. */
+export interface SamplerContext {
+  space: SearchSpace;
+  budget: Budget;
+  /** The sampler's seed (`sampler.seed` in the study file). */
+  seed: number;
+  /** The configuration drawn at random for a trial id: the same for the same seed and id, in any order. */
+  randomParams(trialId: number): TrialParams;
+  /** A seeded stream keyed by the sampler's seed and the given parts, e.g. `stream('tpe', batch)`. */
+  stream(...key: (string | number)[]): Rng;
+}
+
+/** What a sampler promises, for the contract suite and the run loop. */
+export interface SamplerTraits {
+  /** The same jobs with 1 or N workers and after an interruption at any job boundary. */
+  deterministic: boolean;
+}
+
+/** The zod schema of one sampler kind's `sampler` object. */
+export type SamplerSchema = z.ZodObject<z.core.$ZodShape, z.core.$ZodObjectConfig>;
+
+/**
+ * A kind of sampler, as registered in `samplers/registry.ts`. Its options schema sits beside its
+ * implementation and is composed into the study schema and `schema/study.schema.json`.
+ */
+export interface SamplerPlugin<Schema extends SamplerSchema = SamplerSchema> {
+  /** The `sampler.kind` value that selects it. */
+  kind: string;
+  /** One line for the README and `--help`. */
+  summary: string;
+  /** The `sampler` object for this kind: `kind: z.literal(kind)`, `seed`, and its options with defaults. */
+  schema: Schema;
+  traits: SamplerTraits;
+  /** Build a fresh sampler. Throw a UserError for options that do not fit the budget. */
+  create(options: z.output<Schema>, context: SamplerContext): Sampler;
+  /** Configurations and epochs the sampler will run at most, for progress and budget checks. */
+  plan(options: z.output<Schema>, budget: Budget): { trials: number; epochs: number };
+}
+
+/** Declare a sampler kind with its types checked against its schema. */
+export function defineSampler<Schema extends SamplerSchema>(plugin: SamplerPlugin<Schema>): SamplerPlugin<Schema> {
+  return plugin;
 }

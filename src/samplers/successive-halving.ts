@@ -1,5 +1,8 @@
-import type { Job, JobOutcome, Sampler } from './sampler.js';
-import { assertEta, assertPositiveInteger, isPromotable, rank, resultsOf, rungEpochs, type ParamsForTrial } from './ranking.js';
+import { z } from 'zod';
+import { UserError } from '../errors.js';
+import { halvingFields } from '../study/fields.js';
+import { defineSampler, type Job, type JobOutcome, type Sampler } from './sampler.js';
+import { assertEta, assertPositiveInteger, isPromotable, rank, resultsOf, rungEpochs, type ParamsForTrial } from './rungs.js';
 
 /** One rung of a plan: how many configurations train, and to how many epochs in all. */
 export interface RungPlan {
@@ -139,3 +142,34 @@ export class SuccessiveHalvingSampler extends HalvingBracket {
     });
   }
 }
+
+/** Epochs a plan trains when each promoted trial continues from its checkpoint (a rung adds only the difference). */
+export function planEpochs(plan: readonly RungPlan[]): number {
+  return plan.reduce((sum, rung, k) => sum + rung.configurations * (rung.epochs - (k > 0 ? plan[k - 1]!.epochs : 0)), 0);
+}
+
+/** The cross-field rule of every halving sampler: its first rung cannot train more than the budget allows. */
+export function checkHalvingBudget(options: { minEpochs: number }, budget: { maxEpochs: number }): void {
+  if (options.minEpochs > budget.maxEpochs) {
+    throw new UserError(
+      'E_STUDY_INVALID',
+      `study definition: sampler.minEpochs is ${options.minEpochs} but budget.maxEpochs is ${budget.maxEpochs}; minEpochs must not exceed maxEpochs`,
+    );
+  }
+}
+
+/** `sampler.kind: "successive-halving"`: one bracket of synchronous halving over `budget.trials` configurations. */
+export const successiveHalvingPlugin = defineSampler({
+  kind: 'successive-halving',
+  summary: 'budget.trials configurations from minEpochs; the best 1/eta of each full rung go on (Jamieson and Talwalkar 2016)',
+  schema: z.strictObject({ kind: z.literal('successive-halving'), ...halvingFields }),
+  traits: { deterministic: true },
+  create: (options, context) => {
+    checkHalvingBudget(options, context.budget);
+    return new SuccessiveHalvingSampler({ ...options, trials: context.budget.trials, maxEpochs: context.budget.maxEpochs, paramsFor: context.randomParams });
+  },
+  plan: (options, budget) => {
+    if (options.minEpochs > budget.maxEpochs) return { trials: 0, epochs: 0 };
+    return { trials: budget.trials, epochs: planEpochs(halvingSchedule(budget.trials, options.minEpochs, budget.maxEpochs, options.eta)) };
+  },
+});

@@ -1,4 +1,8 @@
 import { z } from 'zod';
+import { samplerSchema } from '../samplers/registry.js';
+
+export { samplerSchema };
+import { seedField as seed } from './fields.js';
 
 /** Activations a hidden layer may use. `leakyRelu` uses slope 0.2 below zero (the tfjs layers default). */
 export const ACTIVATIONS = ['relu', 'leakyRelu', 'elu', 'selu', 'tanh', 'sigmoid', 'softplus', 'swish', 'relu6'] as const;
@@ -8,13 +12,11 @@ export const CLASSIFICATION_METRICS = ['accuracy', 'macroF1', 'logLoss'] as cons
 export const BINARY_METRICS = [...CLASSIFICATION_METRICS, 'auc'] as const;
 export const REGRESSION_METRICS = ['rmse', 'mae', 'r2'] as const;
 export const METRICS = ['accuracy', 'macroF1', 'logLoss', 'auc', 'rmse', 'mae', 'r2', 'validationLoss'] as const;
-export const SAMPLER_KINDS = ['random', 'successive-halving', 'hyperband', 'async-halving'] as const;
 
 export type Activation = (typeof ACTIVATIONS)[number];
 export type OptimizerName = (typeof OPTIMIZERS)[number];
 export type Task = (typeof TASKS)[number];
 export type MetricName = (typeof METRICS)[number];
-export type SamplerKind = (typeof SAMPLER_KINDS)[number];
 
 /** A range whose min exceeds its max names both values. */
 function minNotAboveMax(range: { min: number; max: number }, ctx: z.RefinementCtx): void {
@@ -45,8 +47,6 @@ const fractionRange = z
   })
   .superRefine(minNotAboveMax);
 
-const seed = z.int().min(0).max(2 ** 31 - 1);
-
 export const dataSchema = z.strictObject({
   csv: z.string().min(1).describe('Path of the CSV file, relative to the study definition file.'),
   target: z.string().min(1).describe('Name of the column to predict.'),
@@ -72,19 +72,6 @@ export const budgetSchema = z.strictObject({
   trials: z.int().min(1).describe('Configurations to try (Hyperband derives its own count and ignores this).'),
   maxEpochs: z.int().min(1).describe('Epochs a configuration trains for at most (every trial, for random search).'),
 });
-
-const halvingFields = {
-  seed: seed.default(0),
-  eta: z.int().min(2).default(3).describe('Reduction factor: the top 1/eta of a rung goes on.'),
-  minEpochs: z.int().min(1).default(1).describe('Epochs of the first rung.'),
-};
-
-export const samplerSchema = z.discriminatedUnion('kind', [
-  z.strictObject({ kind: z.literal('random'), seed: seed.default(0) }),
-  z.strictObject({ kind: z.literal('successive-halving'), ...halvingFields }),
-  z.strictObject({ kind: z.literal('hyperband'), ...halvingFields }),
-  z.strictObject({ kind: z.literal('async-halving'), ...halvingFields }),
-]);
 
 export const objectiveSchema = z.strictObject({
   metric: z.enum(METRICS).describe('Validation metric to rank trials by.'),
@@ -112,7 +99,9 @@ export type StudyDefinitionInput = z.input<typeof studySchema>;
 /** A validated study definition with defaults applied. */
 export type StudyDefinition = z.output<typeof studySchema>;
 export type SamplerSettings = StudyDefinition['sampler'];
-export type SearchSpace = StudyDefinition['space'];
+export type SamplerKind = SamplerSettings['kind'];
+export type SearchSpace = z.output<typeof spaceSchema>;
+export type Budget = z.output<typeof budgetSchema>;
 export type DataSettings = StudyDefinition['data'];
 
 /** One point of the search space: what a trial trains. */
