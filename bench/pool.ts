@@ -40,7 +40,7 @@ export async function poolGroup(options: BenchOptions): Promise<GroupResult> {
   const epochs = options.quick ? 2 : 5;
   const dataset = sharedDataset(benchDataset(options.quick ? 512 : 2048, 256));
   const params: TrialParams = { depth: 2, width: 32, activation: 'relu', learningRate: 0.01, batchSize: 32, optimizer: 'adam', l2: 0, dropout: 0 };
-  const requests: Request[] = Array.from({ length: trials }, (_, i) => ({ trialId: i + 1, seed: 100 + i, params, dataset, fromEpoch: 0, toEpoch: epochs }));
+  const requests: Request[] = Array.from({ length: trials }, (_, i) => ({ trialId: i + 1, seed: 100 + i, params, dataset, datasetId: dataset.id, fromEpoch: 0, toEpoch: epochs }));
   const all = availableParallelism();
   const counts = all > 1 ? [1, all] : [1];
   const runs: ScalingRun[] = [];

@@ -24,7 +24,7 @@ function baseDocument(): StudyDocument {
   const now = new Date().toISOString();
   return {
     format: 'rungwise-study',
-    version: 1,
+    version: 2,
     name: definition.name,
     definition,
     definitionFile: '/bench/study.json',
@@ -62,7 +62,8 @@ function trialRecord(id: number): TrialRecord {
     startedAt: new Date().toISOString(),
     endedAt: new Date().toISOString(),
     workerSeconds: 3,
-    attempts: 1,
+    retries: 0,
+    jobs: [{ rung: 0, fromEpoch: 0, toEpoch: EPOCHS, fromCheckpoint: false, attempts: 1, status: 'completed' }],
   };
 }
 

@@ -86,7 +86,7 @@ async function rungwise(): Promise<ThroughputSample> {
   const params = { depth: job.depth, width: job.width, activation: 'relu', learningRate: LEARNING_RATE, batchSize: job.batchSize, optimizer: 'adam', l2: 0, dropout: 0 } as const;
   let trialId = 0;
   const time = async (data: TrainRequest['dataset'], toEpoch: number): Promise<number> => {
-    const request: TrainRequest = { trialId: ++trialId, seed: 7, dataset: data, fromEpoch: 0, toEpoch, params };
+    const request: TrainRequest = { trialId: ++trialId, seed: 7, dataset: data, datasetId: data.id, fromEpoch: 0, toEpoch, params };
     const started = performance.now();
     await trainSegment(request);
     return (performance.now() - started) / 1000;

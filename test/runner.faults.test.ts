@@ -38,11 +38,12 @@ describe('faults in trials', () => {
     expect(outcome.doc.trials.find((t) => t.id === 3)?.error).toBe('ran longer than trialTimeoutSeconds (20 s)');
   });
 
-  it('runs a failed trial again when retries allow, and records the attempts', async () => {
+  it('runs a failed trial again when retries allow, and counts the retry', async () => {
     const outcome = await runTiny('2:throw:1', { retries: 1 });
     const trial = outcome.doc.trials.find((t) => t.id === 2)!;
     expect(trial.status).toBe('completed');
-    expect(trial.attempts).toBe(2);
+    expect(trial.retries).toBe(1);
+    expect(trial.jobs).toEqual([expect.objectContaining({ rung: 0, attempts: 2, status: 'completed', fromCheckpoint: false })]);
   });
 
   it('gives up after the allowed retries', async () => {

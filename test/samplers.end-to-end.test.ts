@@ -59,7 +59,7 @@ describe('successive halving on real training', () => {
   it('keeps the checkpoints of the best few trials only', async () => {
     const outcome = await runWith(halving, 2);
     const kept = await readdir(path.join(outcome.dir, 'checkpoints'));
-    expect(kept.sort()).toEqual(outcome.ranking.slice(0, 3).map((r) => `trial-${r.trial.id}`).sort());
+    expect(kept.sort()).toEqual(outcome.ranking.slice(0, 3).map((r) => `trial-${r.trial.id}.ckpt`).sort());
   });
 });
 

@@ -8,7 +8,7 @@ import type { StudyDocument } from '../src/store/types.js';
 function documentNamed(name: string): StudyDocument {
   return {
     format: 'rungwise-study',
-    version: 1,
+    version: 2,
     name,
     definition: {} as StudyDocument['definition'],
     definitionFile: '/x/study.json',

@@ -91,7 +91,7 @@ describe('trainSegment', () => {
   });
 
   it('rejects a continuation without a checkpoint', async () => {
-    await expect(trainSegment(trainRequest(binary, { fromEpoch: 2, toEpoch: 3 }))).rejects.toThrow(/fromEpoch is 2 but no checkpointIn/);
+    await expect(trainSegment(trainRequest(binary, { fromEpoch: 2, toEpoch: 3 }))).rejects.toThrow(/fromEpoch is 2 but no checkpoint was given/);
   });
   it("with one batch per epoch, epoch 1's training loss is the initial network's loss on every training row", async () => {
     const rows = multiclass.train.rows;

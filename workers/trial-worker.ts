@@ -2,6 +2,7 @@
  * Trial worker thread entry point (piscina): one TrainRequest in, one TrainResult out,
  * epoch reports posted on `request.progressPort` as they happen.
  */
+import { threadId } from 'node:worker_threads';
 import type { TrainRequest, TrainResult } from '../src/pool/messages.js';
 import { initBackend } from '../src/train/backend.js';
 import { trainSegment } from '../src/train/loop.js';
@@ -12,5 +13,5 @@ export default async function trialWorker(request: TrainRequest): Promise<TrainR
   if (request.fault === 'hang') await new Promise<never>(() => {}); // never settles; no timer, no busy loop
   if (request.fault === 'exit') process.exit(1); // in a worker thread this ends the thread only
   await initBackend();
-  return trainSegment(request);
+  return { ...(await trainSegment(request)), ranOn: `thread ${threadId}` };
 }

@@ -1,7 +1,6 @@
 import { existsSync } from 'node:fs';
-import { rm, writeFile } from 'node:fs/promises';
+import { writeFile } from 'node:fs/promises';
 import path from 'node:path';
-import { prepareData } from '../data/prepare.js';
 import type { PreparedData } from '../data/types.js';
 import { UserError } from '../errors.js';
 import { writeFolderAtomically } from '../files/atomic-folder.js';
@@ -11,7 +10,10 @@ import { MODEL_FILE, WEIGHTS_FILE, buildLayersModel, saveLayersModel } from '../
 import { retrainTrial } from '../export/retrain.js';
 import { keptCheckpointWeights, trialAtRank } from '../export/select.js';
 import { formatNumber, textTable } from '../report/format.js';
+import { runPaths } from '../store/run-dir.js';
+import { studyData } from '../store/study-data.js';
 import { StudyStore, studyFilePath } from '../store/study-store.js';
+import type { StudyDocument } from '../store/types.js';
 import type { MetricName, Objective } from '../study/definition.js';
 import { initBackend } from '../train/backend.js';
 import type { Metrics } from '../train/metrics.js';
@@ -46,15 +48,9 @@ export interface ExportSummary {
   caution: string;
 }
 
-/** Prepares the study's data again and checks it still matches the study (same recipe, so the same split and encoding). */
-async function studyData(doc: Awaited<ReturnType<typeof StudyStore.read>>, studyFile: string): Promise<PreparedData> {
-  const { data } = await prepareData(doc.definition.data, doc.definitionFile);
-  if (JSON.stringify(data.recipe) !== JSON.stringify(doc.recipe)) {
-    throw new UserError(
-      'E_EXPORT_DATA_CHANGED',
-      `${studyFile}: the CSV ${doc.data.file} no longer gives the recipe the study recorded (the file changed since the run); --retrain needs the data the study ran on`,
-    );
-  }
+/** The study's data, unchanged since the run, with a held-out test split to score a retrained model on. */
+async function retrainData(doc: StudyDocument, studyFile: string): Promise<PreparedData> {
+  const data = await studyData(doc, studyFile);
   if (data.test.rows === 0) {
     throw new UserError('E_EXPORT_NO_TEST', `${doc.definitionFile}: data.testFraction is 0, so there is no held-out test split to score a retrained model on`);
   }
@@ -77,8 +73,8 @@ export async function exportModel(options: ExportCommandOptions): Promise<Export
   const trial = chosen.trial;
   // Every check that can refuse runs before the export folder is touched.
   const kept = options.retrain ? undefined : await keptCheckpointWeights(runDir, doc, chosen);
-  const data = options.retrain ? await studyData(doc, studyFile) : undefined;
-  const out = path.resolve(options.out ?? path.join(runDir, 'export', `rank-${rank}`));
+  const data = options.retrain ? await retrainData(doc, studyFile) : undefined;
+  const out = path.resolve(options.out ?? runPaths.exportDir(runDir, rank));
 
   let test: Metrics | undefined;
   await writeFolderAtomically(
@@ -88,9 +84,7 @@ export async function exportModel(options: ExportCommandOptions): Promise<Export
       await initBackend();
       let weights = kept;
       if (data) {
-        const scratch = path.join(partial, 'retrain-checkpoint');
-        weights = await retrainTrial(data, trial, scratch);
-        await rm(scratch, { recursive: true, force: true });
+        weights = await retrainTrial(data, trial);
       }
       const model = buildLayersModel(trial.params, doc.recipe, weights!);
       try {

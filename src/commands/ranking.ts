@@ -1,5 +1,5 @@
 import { rankingJson, rankingTable } from '../report/ranking-table.js';
-import { rankTrials } from '../store/ranking.js';
+import { rankTrials } from '../study/objective.js';
 import { StudyStore, studyFilePath } from '../store/study-store.js';
 
 export interface RankingCommandOptions {

@@ -8,7 +8,7 @@ import { UserError } from '../errors.js';
 import type { SharedDataset } from '../pool/messages.js';
 import type { TrialRecord } from '../store/types.js';
 import { initBackend } from '../train/backend.js';
-import { readCheckpointWeights, type NamedWeights } from '../train/checkpoint.js';
+import { checkpointWeights, type NamedWeights } from '../checkpoints/format.js';
 import { releaseDatasets } from '../train/data-cache.js';
 import { trainSegment } from '../train/loop.js';
 
@@ -34,10 +34,10 @@ function retrainDataset(data: PreparedData, trialId: number): SharedDataset {
 
 /**
  * Trains `trial`'s configuration from its seed on training plus validation rows for
- * `trial.epochsTrained` epochs, writes the checkpoint to `checkpointOut` and returns its network weights.
+ * `trial.epochsTrained` epochs and returns its network weights.
  * @throws UserError (E_EXPORT_DIVERGED) when the loss stops being finite.
  */
-export async function retrainTrial(data: PreparedData, trial: TrialRecord, checkpointOut: string): Promise<NamedWeights[]> {
+export async function retrainTrial(data: PreparedData, trial: TrialRecord): Promise<NamedWeights[]> {
   await initBackend();
   const dataset = retrainDataset(data, trial.id);
   try {
@@ -46,9 +46,9 @@ export async function retrainTrial(data: PreparedData, trial: TrialRecord, check
       seed: trial.seed,
       params: trial.params,
       dataset,
+      datasetId: dataset.id,
       fromEpoch: 0,
       toEpoch: trial.epochsTrained,
-      checkpointOut,
     });
     if (result.status === 'diverged') {
       throw new UserError(
@@ -56,8 +56,9 @@ export async function retrainTrial(data: PreparedData, trial: TrialRecord, check
         `trial ${trial.id}: retraining on training and validation rows diverged (${result.divergence?.reason ?? 'non-finite loss'}); export it without --retrain or pick another rank`,
       );
     }
+    if (!result.checkpoint) throw new Error(`trial ${trial.id}: retraining returned no checkpoint`);
+    return checkpointWeights(result.checkpoint);
   } finally {
     releaseDatasets();
   }
-  return readCheckpointWeights(checkpointOut);
 }

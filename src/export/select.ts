@@ -1,16 +1,14 @@
-import { existsSync } from 'node:fs';
-import path from 'node:path';
+import { decodeCheckpoint, type NamedWeights } from '../checkpoints/format.js';
+import { FolderCheckpointStore } from '../checkpoints/folder-store.js';
 import { UserError } from '../errors.js';
-import { checkpointDir } from '../runner/checkpoints.js';
-import { rankTrials, type RankedTrial } from '../store/ranking.js';
+import { rankTrials, type RankedTrial } from '../study/objective.js';
+import { runPaths } from '../store/run-dir.js';
 import type { StudyDocument } from '../store/types.js';
-import { readCheckpoint, type NamedWeights } from '../train/checkpoint.js';
 
-const CHECKPOINT_MANIFEST = 'checkpoint.json';
-
-/** Ranks (1-based) of the ranked trials whose checkpoint is still on disk. */
-export function ranksWithCheckpoint(runDir: string, ranked: readonly RankedTrial[]): number[] {
-  return ranked.filter(({ trial }) => existsSync(path.join(checkpointDir(runDir, trial.id), CHECKPOINT_MANIFEST))).map(({ rank }) => rank);
+/** Ranks (1-based) of the ranked trials whose checkpoint is still in the run directory. */
+export async function ranksWithCheckpoint(runDir: string, ranked: readonly RankedTrial[]): Promise<number[]> {
+  const kept = new Set(await new FolderCheckpointStore(runDir).list());
+  return ranked.filter(({ trial }) => kept.has(trial.id)).map(({ rank }) => rank);
 }
 
 function keptList(ranks: readonly number[]): string {
@@ -41,12 +39,13 @@ export function trialAtRank(doc: StudyDocument, rank: number, studyFile: string)
  * @throws UserError (E_EXPORT_NO_CHECKPOINT) naming the ranks that can be exported as they are and suggesting --retrain.
  */
 export async function keptCheckpointWeights(runDir: string, doc: StudyDocument, chosen: RankedTrial): Promise<NamedWeights[]> {
-  const dir = checkpointDir(runDir, chosen.trial.id);
-  const ranks = ranksWithCheckpoint(runDir, rankTrials(doc.trials, doc.objective));
+  const file = runPaths.checkpoint(runDir, chosen.trial.id);
+  const ranks = await ranksWithCheckpoint(runDir, rankTrials(doc.trials, doc.objective));
   const refuse = (why: string): UserError =>
-    new UserError('E_EXPORT_NO_CHECKPOINT', `${dir}: ${why}; ${keptList(ranks)}; \`rungwise export ${runDir} --rank ${chosen.rank} --retrain\` trains it afresh`);
-  if (!existsSync(path.join(dir, CHECKPOINT_MANIFEST))) throw refuse(`rank ${chosen.rank} (trial ${chosen.trial.id}) has no kept checkpoint`);
-  const { manifest, network } = await readCheckpoint(dir);
+    new UserError('E_EXPORT_NO_CHECKPOINT', `${file}: ${why}; ${keptList(ranks)}; \`rungwise export ${runDir} --rank ${chosen.rank} --retrain\` trains it afresh`);
+  const bytes = await new FolderCheckpointStore(runDir).read(chosen.trial.id);
+  if (!bytes) throw refuse(`rank ${chosen.rank} (trial ${chosen.trial.id}) has no kept checkpoint`);
+  const { manifest, network } = decodeCheckpoint(bytes);
   if (manifest.trialId !== chosen.trial.id || manifest.epoch !== chosen.trial.epochsTrained) {
     throw refuse(`holds trial ${manifest.trialId} at epoch ${manifest.epoch}, but rank ${chosen.rank} is trial ${chosen.trial.id} after epoch ${chosen.trial.epochsTrained}`);
   }

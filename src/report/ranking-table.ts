@@ -1,5 +1,5 @@
 import type { Objective } from '../study/definition.js';
-import type { RankedTrial } from '../store/ranking.js';
+import type { RankedTrial } from '../study/objective.js';
 import { formatNumber, textTable } from './format.js';
 
 /** The ranking as a text table: rank, trial, rung, epochs, objective and the configuration. */

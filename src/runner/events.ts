@@ -1,14 +1,33 @@
-import type { EpochReport } from '../pool/messages.js';
-import type { RankedTrial } from '../store/ranking.js';
-import type { StudyDocument, TrialRecord } from '../store/types.js';
 import type { Job } from '../samplers/sampler.js';
+import type { RankedTrial } from '../study/objective.js';
+import type { StudyDocument, TrialRecord } from '../store/types.js';
+import type { EpochReport } from '../transport/types.js';
+
+/** How far a study has come, counted the same way for every sampler. */
+export interface StudyProgress {
+  /** Jobs settled (a trial under a halving sampler has one job per rung it reaches). */
+  jobsDone: number;
+  /** Epochs trained by the trials' recorded jobs. */
+  epochsDone: number;
+  /** Trials that ended (completed, stopped, diverged, failed, timed out). */
+  endedTrials: number;
+  /** What the sampler plans at most: configurations and epochs. */
+  plannedTrials: number;
+  plannedEpochs: number;
+}
 
 /** What a running study tells its observer (the CLI's progress display, a test, a library user). */
 export type StudyEvent =
-  | { type: 'study-started'; name: string; dir: string; workers: number; plannedTrials: number; resumed: boolean }
-  | { type: 'job-started'; job: Job }
+  | { type: 'study-started'; name: string; dir: string; workers: number; plannedTrials: number; plannedEpochs: number; resumed: boolean; progress: StudyProgress }
+  | { type: 'job-started'; job: Job; fromCheckpoint: boolean }
   | { type: 'epoch'; report: EpochReport }
-  | { type: 'trial-finished'; trial: TrialRecord; job: Job; best: TrialRecord | undefined; finishedTrials: number }
+  /**
+   * A job settled and is on disk. `best` is the leader of the study's one ranking (`rankTrials`) at that moment.
+   * `finishedTrials` counts ended trials (as `progress.endedTrials`).
+   */
+  | { type: 'trial-finished'; trial: TrialRecord; job: Job; best: TrialRecord | undefined; finishedTrials: number; progress: StudyProgress }
+  /** Something the user should know that is not an error, e.g. a lost checkpoint that is retrained. Said once per cause. */
+  | { type: 'note'; message: string }
   | { type: 'stopping'; reason: string }
   | { type: 'study-finished'; doc: StudyDocument; ranking: RankedTrial[] };
 

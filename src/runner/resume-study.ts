@@ -1,8 +1,6 @@
-import { isDeepStrictEqual } from 'node:util';
-import { prepareData } from '../data/index.js';
-import { UserError } from '../errors.js';
-import { rankTrials } from '../store/ranking.js';
+import { rankTrials } from '../study/objective.js';
 import { lockStudy } from '../store/lock.js';
+import { studyData } from '../store/study-data.js';
 import { StudyStore } from '../store/study-store.js';
 import { executeStudy, type ExecuteOptions, type StudyOutcome } from './execute-study.js';
 
@@ -24,13 +22,7 @@ export async function resumeStudy(dir: string, options: ExecuteOptions = {}): Pr
     if (doc.state === 'finished') {
       return { dir: store.dir, file: store.file, doc, ranking: rankTrials(doc.trials, doc.objective), alreadyFinished: true };
     }
-    const { data } = await prepareData(doc.definition.data, doc.definitionFile);
-    if (!isDeepStrictEqual(JSON.parse(JSON.stringify(data.recipe)), doc.recipe)) {
-      throw new UserError(
-        'E_DATA_CHANGED',
-        `${doc.definitionFile}: data.csv: the data no longer give the preprocessing the study started with; restore the original CSV or start a new study`,
-      );
-    }
+    const data = await studyData(doc, store.file);
     return { ...(await executeStudy(store, data, options)), alreadyFinished: false };
   } finally {
     await lock.release();

@@ -37,7 +37,7 @@ export async function runStudy(study: string | LoadedStudy, options: RunOptions 
     const now = new Date().toISOString();
     const store = await StudyStore.create(dir, {
       format: 'rungwise-study',
-      version: 1,
+      version: 2,
       name: definition.name,
       definition,
       definitionFile: file,

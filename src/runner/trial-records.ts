@@ -1,11 +1,12 @@
-import type { TrainResult } from '../pool/messages.js';
 import type { Job } from '../samplers/sampler.js';
 import type { Objective } from '../study/definition.js';
+import { objectiveAt } from '../study/objective.js';
 import type { TrialRecord } from '../store/types.js';
+import type { TrainResult } from '../transport/types.js';
 
 /** A fresh record for a trial's first job. */
 export function newTrialRecord(job: Job, seed: number): TrialRecord {
-  return {
+  const record: TrialRecord = {
     id: job.trialId,
     params: job.params,
     seed,
@@ -17,27 +18,22 @@ export function newTrialRecord(job: Job, seed: number): TrialRecord {
     objective: null,
     rungObjectives: [],
     workerSeconds: 0,
-    attempts: 0,
+    retries: 0,
+    jobs: [],
   };
+  if (job.origin) record.origin = job.origin;
+  return record;
 }
 
 /** The objective metric of the last epoch of a result, or null when it has none. */
 export function objectiveOf(result: TrainResult, objective: Objective): number | null {
   const last = result.epochs.at(-1);
-  if (!last) return null;
-  const value = objective.metric === 'validationLoss' ? last.validationLoss : last.metrics[objective.metric];
-  return value !== undefined && Number.isFinite(value) ? value : null;
+  return last ? objectiveAt(last, objective) : null;
 }
 
-/** Objective turned into a loss for samplers: smaller is better; null stays null. */
-export function orientedLoss(value: number | null, objective: Objective): number | null {
-  if (value === null) return null;
-  return objective.direction === 'maximize' ? -value : value;
-}
-
-/** Fold a worker's result for `job` into the trial's record (curve, epochs, objective, times). */
+/** Fold a transport's result for `job` into the trial's record (curve, epochs, objective, times). */
 export function applyResult(record: TrialRecord, job: Job, result: TrainResult, objective: Objective): void {
-  // A re-run of a job (after a failure or an interruption) replaces the epochs it covers.
+  // A re-run of a job (after a failure, an interruption or a lost checkpoint) replaces the epochs it covers.
   record.curve = record.curve.filter((point) => point.epoch <= job.fromEpoch);
   for (const { trialId: _trialId, ...point } of result.epochs) record.curve.push(point);
   record.workerSeconds += result.workerSeconds;

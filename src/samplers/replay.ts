@@ -1,3 +1,6 @@
+import { isDeepStrictEqual } from 'node:util';
+import { UserError } from '../errors.js';
+import type { TrialParams } from '../study/definition.js';
 import type { Job, JobOutcome, Sampler } from './sampler.js';
 
 /** What a resumed study must do after {@link replay}. */
@@ -14,6 +17,9 @@ export interface ReplayResult {
  * It asks the sampler for jobs as the run loop would; a job whose (trial, rung) has a recorded outcome
  * is reported at once, one without is kept as pending. It stops when every recorded outcome has been
  * fed, or when the sampler says 'wait' or 'done'. The order of `outcomes` does not matter.
+ * A job the sampler proposes again must carry the configuration recorded for its trial: a sampler that
+ * learns from results and proposes otherwise would train other configurations under the old records,
+ * so a mismatch with `history` (trial id to recorded configuration) is refused (the study definition or rungwise's sampler changed since the study ran).
  *
  * Exact for samplers whose decisions depend only on the set of outcomes (random, successive halving,
  * Hyperband): replaying then running the pending jobs and the rest gives the same jobs as an
@@ -21,7 +27,7 @@ export interface ReplayResult {
  * later promotions may differ from those the interrupted run would have made; recorded outcomes it no
  * longer asks for come back in `unused`.
  */
-export function replay(sampler: Sampler, outcomes: readonly JobOutcome[]): ReplayResult {
+export function replay(sampler: Sampler, outcomes: readonly JobOutcome[], history: ReadonlyMap<number, TrialParams> = new Map()): ReplayResult {
   const recorded = new Map<string, JobOutcome>();
   for (const outcome of outcomes) {
     const id = key(outcome.trialId, outcome.rung);
@@ -33,6 +39,13 @@ export function replay(sampler: Sampler, outcomes: readonly JobOutcome[]): Repla
     const job = sampler.next();
     if (job === 'wait' || job === 'done') break;
     const id = key(job.trialId, job.rung);
+    const known = history.get(job.trialId);
+    if (known && !isDeepStrictEqual(known, job.params)) {
+      throw new UserError(
+        'E_REPLAY_MISMATCH',
+        `study file: trial ${job.trialId} was trained with ${JSON.stringify(known)} but the sampler now proposes ${JSON.stringify(job.params)}; the study definition or the sampler changed since the study ran, so it cannot be resumed (start a new study)`,
+      );
+    }
     const outcome = recorded.get(id);
     if (outcome) {
       recorded.delete(id);

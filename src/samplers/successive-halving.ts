@@ -91,9 +91,17 @@ export class HalvingBracket implements Sampler {
     if (this.results.size === this.members.length) this.closeRung();
   }
 
+  /**
+   * True while a job may still continue the trial: it is promoted into the current rung and its job
+   * is not handed out yet (also in the last rung), or its job in a rung below the last is running or
+   * reported with a result that can be promoted.
+   */
   mayContinue(trialId: number): boolean {
-    if (this.finished || this.rung === this.options.plan.length - 1) return false;
-    if (!this.members.includes(trialId)) return false;
+    if (this.finished) return false;
+    const index = this.members.indexOf(trialId);
+    if (index < 0) return false;
+    if (index >= this.handedOut) return this.rung > 0;
+    if (this.rung === this.options.plan.length - 1) return false;
     // Not yet reported (undefined) may still win; a diverged result never will.
     return !this.results.has(trialId) || isPromotable(this.results.get(trialId)!);
   }

@@ -1,3 +1,4 @@
+import { CURVE_LOG_NAME, runPaths } from './run-dir.js';
 import path from 'node:path';
 import type { Adapter } from 'lowdb';
 import { CurveLog, type CurveRecord } from './curve-log.js';
@@ -5,7 +6,7 @@ import { DurableJsonFile } from './file-adapter.js';
 import type { CurvePoint, StudyDocument, TrialRecord } from './types.js';
 
 /** Name of the curve log inside a run directory. */
-export const CURVE_LOG_NAME = 'curves.jsonl';
+
 
 /** The study file as written: trials without their curves (those are in the curve log). */
 type StoredDocument = Omit<StudyDocument, 'trials'> & { trials: (Omit<TrialRecord, 'curve'> & { curve?: CurvePoint[] })[]; curveLog?: string };
@@ -22,7 +23,7 @@ export class StudyFileAdapter implements Adapter<StudyDocument> {
 
   constructor(readonly file: string) {
     this.document = new DurableJsonFile<StoredDocument>(file);
-    this.curves = new CurveLog(path.join(path.dirname(file), CURVE_LOG_NAME));
+    this.curves = new CurveLog(runPaths.curveLog(path.dirname(file)));
   }
 
   async read(): Promise<StudyDocument | null> {

@@ -1,5 +1,6 @@
 import type { DataSummary, PreprocessingRecipe } from '../data/types.js';
-import type { EpochReport } from '../pool/messages.js';
+import type { ProposalOrigin } from '../samplers/sampler.js';
+import type { EpochReport } from '../transport/types.js';
 import type { Objective, StudyDefinition, TrialParams } from '../study/definition.js';
 
 /**
@@ -32,9 +33,28 @@ export interface TrialRecord {
   workerSeconds: number;
   divergence?: { epoch: number; reason: string };
   error?: string;
-  attempts: number;
+  /** Runs of a job repeated after a failure, over all of the trial's jobs (0 when nothing failed). */
+  retries: number;
+  /** Every job of the trial, in the order they started. */
+  jobs: JobRecord[];
+  /** Which design or model proposed the configuration, for samplers that propose themselves. */
+  origin?: ProposalOrigin;
   /** Why the sampler promoted the trial out of each rung (asynchronous halving records this). */
   promotions?: { fromRung: number; reason: string }[];
+}
+
+/** One job of a trial: a stretch of epochs, as the study file records it. */
+export interface JobRecord {
+  rung: number;
+  fromEpoch: number;
+  toEpoch: number;
+  /** True when the job continued from the trial's checkpoint; false when it trained from epoch 0 (its first job, or a lost checkpoint). */
+  fromCheckpoint: boolean;
+  /** Runs of this job: 1, plus one for each retry after a failure. */
+  attempts: number;
+  status: 'running' | 'completed' | 'diverged' | 'failed' | 'timed-out' | 'cut-off';
+  /** Where its last run trained, as the transport names it. */
+  ranOn?: string;
 }
 
 export interface StudyTotals {
@@ -48,7 +68,8 @@ export interface StudyTotals {
 /** The whole study file. */
 export interface StudyDocument {
   format: 'rungwise-study';
-  version: 1;
+  /** 2 since jobs are recorded per trial; version 1 files are migrated when opened. */
+  version: 2;
   name: string;
   /** The definition as validated, with defaults applied. */
   definition: StudyDefinition;

@@ -1,16 +1,16 @@
-/**
- * Checkpoints: a directory with `checkpoint.json` (the manifest) and `weights.bin` (every network
- * variable, then every optimizer variable, float32 little-endian, concatenated in manifest order).
- */
+/** Checkpoints of tfjs networks and optimizers, in the byte format of `checkpoints/format.ts`. */
 import * as tf from '@tensorflow/tfjs';
-import { readFile, writeFile } from 'node:fs/promises';
-import { join } from 'node:path';
-import { writeFolderAtomically } from '../files/atomic-folder.js';
+import {
+  CHECKPOINT_FORMAT_VERSION,
+  decodeCheckpoint,
+  encodeCheckpoint,
+  type CheckpointManifest,
+  type NamedWeights,
+  type VariableEntry,
+} from '../checkpoints/format.js';
 import type { OptimizerName, TrialParams } from '../study/definition.js';
 
-export const CHECKPOINT_FORMAT_VERSION = 1;
-const MANIFEST_FILE = 'checkpoint.json';
-const WEIGHTS_FILE = 'weights.bin';
+export { checkpointWeights, decodeCheckpoint, type NamedWeights } from '../checkpoints/format.js';
 
 /**
  * tfjs 4.22's Adam keeps the running products beta1^t and beta2^t in these private variables.
@@ -19,28 +19,6 @@ const WEIGHTS_FILE = 'weights.bin';
  */
 const ADAM_POWERS = ['accBeta1', 'accBeta2'] as const;
 const adamPowerName = (field: string): string => `adam/${field}`;
-
-export interface VariableEntry {
-  name: string;
-  shape: number[];
-}
-
-export interface CheckpointManifest {
-  formatVersion: number;
-  trialId: number;
-  /** Epochs trained when the checkpoint was written. */
-  epoch: number;
-  params: TrialParams;
-  variables: VariableEntry[];
-  optimizer: { name: OptimizerName; iterations: number; variables: VariableEntry[] };
-}
-
-/** A network weight read back from a checkpoint. */
-export interface NamedWeights {
-  name: string;
-  shape: number[];
-  values: Float32Array;
-}
 
 /** An optimizer weight as tfjs's getWeights()/setWeights() exchange it. */
 interface NamedTensor {
@@ -68,29 +46,12 @@ function entry(named: { name: string; tensor: tf.Tensor } | tf.Variable): Variab
   return 'tensor' in named ? { name: named.name, shape: named.tensor.shape, tensor: named.tensor } : { name: named.name, shape: named.shape, tensor: named };
 }
 
-function encode(tensors: tf.Tensor[]): Buffer {
-  const total = tensors.reduce((sum, t) => sum + t.size, 0);
-  const buffer = Buffer.alloc(total * 4);
-  let offset = 0;
-  for (const tensor of tensors) {
-    for (const value of tensor.dataSync()) {
-      buffer.writeFloatLE(value, offset);
-      offset += 4;
-    }
-  }
-  return buffer;
-}
-
-/**
- * Writes the checkpoint to `dir`: first into a sibling temporary directory, then renamed into
- * place, so a reader never sees a half-written checkpoint.
- */
-export async function writeCheckpoint(
-  dir: string,
+/** The checkpoint of a network and its optimizer after `info.epoch` epochs, as bytes. */
+export async function checkpointBytes(
   info: { trialId: number; epoch: number; params: TrialParams },
   variables: tf.Variable[],
   optimizer: tf.Optimizer,
-): Promise<void> {
+): Promise<Uint8Array> {
   const state = await optimizerState(optimizer);
   try {
     const network = variables.map(entry);
@@ -101,55 +62,24 @@ export async function writeCheckpoint(
       variables: network.map(({ name, shape }) => ({ name, shape })),
       optimizer: { name: info.params.optimizer, iterations: state.iterations, variables: slots.map(({ name, shape }) => ({ name, shape })) },
     };
-    const bytes = encode([...network, ...slots].map((e) => e.tensor));
-    // A checkpoint always replaces the trial's previous one.
-    await writeFolderAtomically(dir, () => true, async (partial) => {
-      await writeFile(join(partial, WEIGHTS_FILE), bytes);
-      await writeFile(join(partial, MANIFEST_FILE), `${JSON.stringify(manifest, null, 2)}\n`);
-    }, 'checkpoint');
+    return encodeCheckpoint(manifest, [...network, ...slots].map((e) => e.tensor.dataSync() as Float32Array));
   } finally {
     tf.dispose(state.owned);
   }
 }
 
-/** Reads a checkpoint's manifest and every stored variable (network then optimizer), in manifest order. */
-export async function readCheckpoint(dir: string): Promise<{ manifest: CheckpointManifest; network: NamedWeights[]; optimizer: NamedWeights[] }> {
-  const manifest = JSON.parse(await readFile(join(dir, MANIFEST_FILE), 'utf8')) as CheckpointManifest;
-  if (manifest.formatVersion !== CHECKPOINT_FORMAT_VERSION) {
-    throw new Error(`${join(dir, MANIFEST_FILE)}: format version ${manifest.formatVersion}, expected ${CHECKPOINT_FORMAT_VERSION}`);
-  }
-  const bytes = await readFile(join(dir, WEIGHTS_FILE));
-  let offset = 0;
-  const take = (e: VariableEntry): NamedWeights => {
-    const size = e.shape.reduce((a, b) => a * b, 1);
-    if (offset + size * 4 > bytes.length) throw new Error(`${join(dir, WEIGHTS_FILE)} is shorter than its manifest says`);
-    const values = new Float32Array(size);
-    for (let i = 0; i < size; i++, offset += 4) values[i] = bytes.readFloatLE(offset);
-    return { name: e.name, shape: e.shape, values };
-  };
-  const network = manifest.variables.map(take);
-  const optimizer = manifest.optimizer.variables.map(take);
-  if (offset !== bytes.length) throw new Error(`${join(dir, WEIGHTS_FILE)} is longer than its manifest says`);
-  return { manifest, network, optimizer };
-}
-
-/** The network weights of a checkpoint, in layer order (kernel, bias per dense layer, output layer last). */
-export async function readCheckpointWeights(dir: string): Promise<NamedWeights[]> {
-  return (await readCheckpoint(dir)).network;
-}
-
 /**
- * Loads network and optimizer state from `dir` into a freshly built network and a fresh optimizer
+ * Loads network and optimizer state from checkpoint bytes into a freshly built network and a fresh optimizer
  * (one that has taken no step yet). The checkpoint must belong to `trialId` and stand at `epoch`.
  */
 export async function restoreCheckpoint(
-  dir: string,
+  bytes: Uint8Array,
   expected: { trialId: number; epoch: number; optimizer: OptimizerName },
   variables: tf.Variable[],
   optimizer: tf.Optimizer,
 ): Promise<void> {
-  const { manifest, network, optimizer: slots } = await readCheckpoint(dir);
-  const where = join(dir, MANIFEST_FILE);
+  const { manifest, network, optimizer: slots } = decodeCheckpoint(bytes);
+  const where = `checkpoint of trial ${expected.trialId}`;
   if (manifest.trialId !== expected.trialId || manifest.epoch !== expected.epoch || manifest.optimizer.name !== expected.optimizer) {
     throw new Error(
       `${where}: holds trial ${manifest.trialId} at epoch ${manifest.epoch} (${manifest.optimizer.name}), ` +

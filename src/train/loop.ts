@@ -3,7 +3,7 @@ import type { EpochReport, TrainRequest, TrainResult } from '../pool/messages.js
 import type { OptimizerName } from '../study/definition.js';
 import { permutation, stream } from '../random/streams.js';
 import { ConstantCachingAdam } from './adam.js';
-import { restoreCheckpoint, writeCheckpoint } from './checkpoint.js';
+import { checkpointBytes, restoreCheckpoint } from './checkpoint.js';
 import { datasetTensors, type DatasetTensors } from './data-cache.js';
 import { computeMetrics } from './metrics.js';
 import { createNetwork, disposeNetwork, forward, l2Penalty, lossFromLogits, networkSpec, outputFromLogits, type Network } from './network.js';
@@ -101,10 +101,10 @@ function validate(request: TrainRequest, network: Network, data: DatasetTensors)
 
 /**
  * Trains epochs `fromEpoch + 1 .. toEpoch` of one trial with a custom loop, continuing from
- * `checkpointIn` when `fromEpoch > 0` and writing `checkpointOut` (if set) when the segment completes.
+ * `checkpoint` when `fromEpoch > 0`; a completed segment returns the checkpoint at `toEpoch`.
  * Each epoch report goes to `onEpoch` and to `request.progressPort`.
  *
- * A non-finite training or validation loss ends the segment as `diverged` (no checkpoint is written,
+ * A non-finite training or validation loss ends the segment as `diverged` (no checkpoint is returned,
  * and the diverged epoch has no report since its figures are not numbers).
  * Every tensor the trial creates (network, optimizer slots) is disposed before returning, so
  * `tensorsAfter === tensorsBefore` unless something leaked; the data set's tensors are cached per
@@ -117,14 +117,15 @@ export async function trainSegment(request: TrainRequest, onEpoch?: (report: Epo
   const tensorsBefore = tf.memory().numTensors;
   const epochs: EpochReport[] = [];
   let divergence: TrainResult['divergence'];
+  let checkpoint: Uint8Array | undefined;
 
   const network = createNetwork(networkSpec(request.trialId, request.seed, params, dataset.inputCount, dataset.outputCount));
   const optimizer = createOptimizer(params.optimizer, params.learningRate);
   try {
     if (request.fromEpoch > 0) {
-      if (!request.checkpointIn) throw new Error(`trial ${request.trialId}: fromEpoch is ${request.fromEpoch} but no checkpointIn was given`);
+      if (!request.checkpoint) throw new Error(`trial ${request.trialId}: fromEpoch is ${request.fromEpoch} but no checkpoint was given`);
       const expected = { trialId: request.trialId, epoch: request.fromEpoch, optimizer: params.optimizer };
-      await restoreCheckpoint(request.checkpointIn, expected, network.variables, optimizer);
+      await restoreCheckpoint(request.checkpoint, expected, network.variables, optimizer);
     }
     for (let epoch = request.fromEpoch + 1; epoch <= request.toEpoch; epoch++) {
       const epochStarted = performance.now();
@@ -150,9 +151,7 @@ export async function trainSegment(request: TrainRequest, onEpoch?: (report: Epo
       onEpoch?.(report);
       request.progressPort?.postMessage(report);
     }
-    if (!divergence && request.checkpointOut) {
-      await writeCheckpoint(request.checkpointOut, { trialId: request.trialId, epoch: request.toEpoch, params }, network.variables, optimizer);
-    }
+    if (!divergence) checkpoint = await checkpointBytes({ trialId: request.trialId, epoch: request.toEpoch, params }, network.variables, optimizer);
   } finally {
     disposeOptimizer(optimizer);
     disposeNetwork(network);
@@ -166,5 +165,6 @@ export async function trainSegment(request: TrainRequest, onEpoch?: (report: Epo
     tensorsAfter: tf.memory().numTensors,
   };
   if (divergence) result.divergence = divergence;
+  if (checkpoint) result.checkpoint = checkpoint;
   return result;
 }

@@ -74,5 +74,5 @@ export const baseParams: TrialParams = {
 /** A fresh-start request training epochs 1..toEpoch. */
 export function trainRequest(dataset: SharedDataset, overrides: Omit<Partial<TrainRequest>, 'params'> & { params?: Partial<TrialParams> } = {}): TrainRequest {
   const { params, ...rest } = overrides;
-  return { trialId: 1, seed: 42, dataset, fromEpoch: 0, toEpoch: 3, ...rest, params: { ...baseParams, ...params } };
+  return { trialId: 1, seed: 42, dataset, datasetId: dataset.id, fromEpoch: 0, toEpoch: 3, ...rest, params: { ...baseParams, ...params } };
 }

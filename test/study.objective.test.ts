@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { rankTrials } from '../src/store/ranking.js';
+import { rankTrials } from '../src/study/objective.js';
 import type { TrialRecord } from '../src/store/types.js';
 
 function trial(id: number, objective: number | null, extra: Partial<TrialRecord> = {}): TrialRecord {
@@ -15,7 +15,8 @@ function trial(id: number, objective: number | null, extra: Partial<TrialRecord>
     objective,
     rungObjectives: [objective],
     workerSeconds: 1,
-    attempts: 1,
+    retries: 0,
+    jobs: [],
     ...extra,
   };
 }
@@ -34,20 +35,31 @@ describe('ranking', () => {
     expect(ids(ranked)).toEqual([2, 0, 1]);
   });
 
-  it('breaks ties by fewer epochs, then by lower id', () => {
-    const ranked = rankTrials(
-      [trial(3, 0.9, { epochsTrained: 10 }), trial(1, 0.9, { epochsTrained: 10 }), trial(2, 0.9, { epochsTrained: 5 })],
-      { metric: 'accuracy', direction: 'maximize' },
-    );
-    expect(ids(ranked)).toEqual([2, 1, 3]);
+  it('breaks ties by lower id', () => {
+    const ranked = rankTrials([trial(3, 0.9), trial(1, 0.9), trial(2, 0.9)], { metric: 'accuracy', direction: 'maximize' });
+    expect(ids(ranked)).toEqual([1, 2, 3]);
   });
 
-  it('puts trials that reached a higher rung first, whatever their objective', () => {
+  it('puts trials scored after more epochs first, whatever their objective', () => {
     const ranked = rankTrials(
-      [trial(0, 0.95, { rung: 0, status: 'stopped' }), trial(1, 0.7, { rung: 2 }), trial(2, 0.8, { rung: 1, status: 'stopped' })],
+      [trial(0, 0.95, { epochsTrained: 1, status: 'stopped' }), trial(1, 0.7, { epochsTrained: 9 }), trial(2, 0.8, { epochsTrained: 3, status: 'stopped' })],
       { metric: 'accuracy', direction: 'maximize' },
     );
     expect(ids(ranked)).toEqual([1, 2, 0]);
+  });
+
+  it('compares epochs, not rung indices, across Hyperband brackets', () => {
+    // Bracket 1 starts at 27 epochs (its rung 0); bracket 2 reaches 27 epochs at its rung 1, bracket 3 at its rung 2.
+    const ranked = rankTrials(
+      [
+        trial(0, 0.8569, { bracket: 2, rung: 1, epochsTrained: 27, status: 'stopped' }),
+        trial(1, 0.872, { bracket: 1, rung: 0, epochsTrained: 27, status: 'stopped' }),
+        trial(2, 0.9, { bracket: 3, rung: 1, epochsTrained: 3, status: 'stopped' }),
+        trial(3, 0.85, { bracket: 3, rung: 3, epochsTrained: 81 }),
+      ],
+      { metric: 'auc', direction: 'maximize' },
+    );
+    expect(ids(ranked)).toEqual([3, 1, 0, 2]);
   });
 
   it('leaves out diverged, failed, timed-out and running trials', () => {

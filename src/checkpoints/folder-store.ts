@@ -1,0 +1,43 @@
+import { mkdir, readdir, readFile, rm } from 'node:fs/promises';
+import writeFileAtomic from 'write-file-atomic';
+import { runPaths } from '../store/run-dir.js';
+import type { CheckpointStore } from './store.js';
+
+const FILE = /^trial-(\d+)\.ckpt$/;
+
+/** The default checkpoint store: one file per trial in the run directory's `checkpoints/`, each written atomically. */
+export class FolderCheckpointStore implements CheckpointStore {
+  constructor(private readonly runDir: string) {}
+
+  async read(trialId: number): Promise<Uint8Array | undefined> {
+    try {
+      return new Uint8Array(await readFile(runPaths.checkpoint(this.runDir, trialId)));
+    } catch (error) {
+      if ((error as NodeJS.ErrnoException).code === 'ENOENT') return undefined;
+      throw error;
+    }
+  }
+
+  async write(trialId: number, bytes: Uint8Array): Promise<void> {
+    await mkdir(runPaths.checkpoints(this.runDir), { recursive: true });
+    await writeFileAtomic(runPaths.checkpoint(this.runDir, trialId), Buffer.from(bytes.buffer, bytes.byteOffset, bytes.byteLength), { fsync: true });
+  }
+
+  async delete(trialId: number): Promise<void> {
+    await rm(runPaths.checkpoint(this.runDir, trialId), { force: true });
+  }
+
+  async list(): Promise<number[]> {
+    let names: string[];
+    try {
+      names = await readdir(runPaths.checkpoints(this.runDir));
+    } catch (error) {
+      if ((error as NodeJS.ErrnoException).code === 'ENOENT') return [];
+      throw error;
+    }
+    return names.flatMap((name) => {
+      const match = FILE.exec(name);
+      return match ? [Number(match[1])] : [];
+    }).sort((a, b) => a - b);
+  }
+}

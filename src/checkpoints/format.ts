@@ -1,0 +1,100 @@
+/**
+ * Checkpoints as bytes, so they can cross any transport and live in any checkpoint store:
+ * the 4 bytes `RWCK`, the manifest's length as a little-endian uint32, the manifest as UTF-8 JSON,
+ * zero padding to a multiple of 4, then every network variable and every optimizer variable as
+ * float32 little-endian, concatenated in manifest order. No tfjs here: the coordinator reads
+ * manifests without loading a training library.
+ */
+import type { OptimizerName, TrialParams } from '../study/definition.js';
+
+/** Version 2: one byte string (version 1 was a folder with checkpoint.json and weights.bin). */
+export const CHECKPOINT_FORMAT_VERSION = 2;
+const MAGIC = 'RWCK';
+
+export interface VariableEntry {
+  name: string;
+  shape: number[];
+}
+
+export interface CheckpointManifest {
+  formatVersion: number;
+  trialId: number;
+  /** Epochs trained when the checkpoint was written. */
+  epoch: number;
+  params: TrialParams;
+  variables: VariableEntry[];
+  optimizer: { name: OptimizerName; iterations: number; variables: VariableEntry[] };
+}
+
+/** A network weight read back from a checkpoint. */
+export interface NamedWeights {
+  name: string;
+  shape: number[];
+  values: Float32Array;
+}
+
+/** A network or optimizer variable read back from a checkpoint. */
+export interface NamedWeights {
+  name: string;
+  shape: number[];
+  values: Float32Array;
+}
+
+/** The checkpoint's bytes: the manifest, then the variables' values in manifest order. */
+export function encodeCheckpoint(manifest: CheckpointManifest, values: readonly Float32Array[]): Uint8Array {
+  const json = Buffer.from(JSON.stringify(manifest), 'utf8');
+  const headerBytes = 8 + json.length + ((4 - (json.length % 4)) % 4);
+  const floats = values.reduce((sum, v) => sum + v.length, 0);
+  const bytes = new Uint8Array(headerBytes + floats * 4);
+  const view = new DataView(bytes.buffer);
+  bytes.set(Buffer.from(MAGIC, 'ascii'), 0);
+  view.setUint32(4, json.length, true);
+  bytes.set(json, 8);
+  let offset = headerBytes;
+  for (const array of values) {
+    for (let i = 0; i < array.length; i++, offset += 4) view.setFloat32(offset, array[i]!, true);
+  }
+  return bytes;
+}
+
+/** Decodes checkpoint bytes: the manifest and every stored variable (network then optimizer), in manifest order. */
+export function decodeCheckpoint(bytes: Uint8Array): { manifest: CheckpointManifest; network: NamedWeights[]; optimizer: NamedWeights[] } {
+  const view = new DataView(bytes.buffer, bytes.byteOffset, bytes.byteLength);
+  const header = decodeHeader(bytes);
+  const manifest = header.manifest;
+  let offset = header.valuesStart;
+  const take = (e: VariableEntry): NamedWeights => {
+    const size = e.shape.reduce((a, b) => a * b, 1);
+    if (offset + size * 4 > bytes.length) throw new Error(`checkpoint of trial ${manifest.trialId} is shorter than its manifest says`);
+    const values = new Float32Array(size);
+    for (let i = 0; i < size; i++, offset += 4) values[i] = view.getFloat32(offset, true);
+    return { name: e.name, shape: e.shape, values };
+  };
+  const network = manifest.variables.map(take);
+  const optimizer = manifest.optimizer.variables.map(take);
+  if (offset !== bytes.length) throw new Error(`checkpoint of trial ${manifest.trialId} is longer than its manifest says`);
+  return { manifest, network, optimizer };
+}
+
+/** The manifest alone (trial, epoch, configuration), without decoding the values. */
+export function checkpointManifest(bytes: Uint8Array): CheckpointManifest {
+  return decodeHeader(bytes).manifest;
+}
+
+function decodeHeader(bytes: Uint8Array): { manifest: CheckpointManifest; valuesStart: number } {
+  const view = new DataView(bytes.buffer, bytes.byteOffset, bytes.byteLength);
+  if (bytes.length < 8 || Buffer.from(bytes.subarray(0, 4)).toString('ascii') !== MAGIC) throw new Error('not a rungwise checkpoint');
+  const jsonLength = view.getUint32(4, true);
+  if (8 + jsonLength > bytes.length) throw new Error('checkpoint is shorter than its header says');
+  const manifest = JSON.parse(Buffer.from(bytes.subarray(8, 8 + jsonLength)).toString('utf8')) as CheckpointManifest;
+  if (manifest.formatVersion !== CHECKPOINT_FORMAT_VERSION) {
+    throw new Error(`checkpoint format version ${manifest.formatVersion}, expected ${CHECKPOINT_FORMAT_VERSION}`);
+  }
+  return { manifest, valuesStart: 8 + jsonLength + ((4 - (jsonLength % 4)) % 4) };
+}
+
+/** The network weights of a checkpoint, in layer order (kernel, bias per dense layer, output layer last). */
+export function checkpointWeights(bytes: Uint8Array): NamedWeights[] {
+  return decodeCheckpoint(bytes).network;
+}
+

@@ -1,0 +1,161 @@
+/**
+ * The life of every trial in a run: status changes, job records, retries and the sampler's view of
+ * outcomes. Synchronous throughout, so an outcome is recorded and reported to the sampler before the
+ * run loop asks it for the next job.
+ */
+import { trialSeed } from '../random/streams.js';
+import type { Job, Sampler } from '../samplers/sampler.js';
+import type { Objective, StudyDefinition } from '../study/definition.js';
+import { orientedLoss } from '../study/objective.js';
+import { isEnded } from '../study/trial-status.js';
+import type { JobRecord, StudyDocument, TrialRecord } from '../store/types.js';
+import type { TrainResult } from '../transport/types.js';
+import type { StudyProgress } from './events.js';
+import { applyResult, newTrialRecord } from './trial-records.js';
+
+/** Why a job did not bring a result. */
+export type JobFailure = { kind: 'error'; message: string } | { kind: 'timed-out' } | { kind: 'cut-off' };
+
+export class TrialLifecycle {
+  private readonly records: Map<number, TrialRecord>;
+  /** Failed runs of each job in this session, keyed by trial and end epoch. */
+  private readonly failures = new Map<string, number>();
+  private jobsDone: number;
+  /** Ids of paused trials (a subset of the records, kept to avoid scanning them all after each outcome). */
+  private readonly paused = new Set<number>();
+
+  constructor(
+    private readonly doc: StudyDocument,
+    private readonly sampler: Sampler,
+    private readonly planned: { trials: number; epochs: number },
+  ) {
+    this.records = new Map(doc.trials.map((t) => [t.id, t]));
+    for (const t of doc.trials) if (t.status === 'paused') this.paused.add(t.id);
+    this.jobsDone = doc.trials.reduce((sum, t) => sum + t.jobs.filter((j) => j.status !== 'running' && j.status !== 'cut-off').length, 0);
+  }
+
+  private get definition(): StudyDefinition {
+    return this.doc.definition;
+  }
+
+  private get objective(): Objective {
+    return this.doc.objective;
+  }
+
+  record(trialId: number): TrialRecord {
+    const record = this.records.get(trialId);
+    if (!record) throw new Error(`no record of trial ${trialId}`);
+    return record;
+  }
+
+  /** Trials waiting at the end of a rung or training now. */
+  activeCount(): number {
+    let n = 0;
+    for (const record of this.records.values()) if (record.status === 'running' || record.status === 'paused') n++;
+    return n;
+  }
+
+  progress(): StudyProgress {
+    let epochsDone = 0;
+    let endedTrials = 0;
+    for (const record of this.records.values()) {
+      epochsDone += record.epochsTrained;
+      if (isEnded(record.status)) endedTrials++;
+    }
+    return { jobsDone: this.jobsDone, epochsDone, endedTrials, plannedTrials: this.planned.trials, plannedEpochs: this.planned.epochs };
+  }
+
+  /** Mark the job started; `fromCheckpoint` says whether it continues from the trial's checkpoint. */
+  started(job: Job, fromCheckpoint: boolean): TrialRecord {
+    let record = this.records.get(job.trialId);
+    if (!record) {
+      record = newTrialRecord(job, trialSeed(this.definition.sampler.seed, job.trialId));
+      this.records.set(job.trialId, record);
+      this.doc.trials.push(record);
+    }
+    record.status = 'running';
+    this.paused.delete(record.id);
+    record.startedAt ??= new Date().toISOString();
+    const last = record.jobs.at(-1);
+    const again = last !== undefined && last.rung === job.rung && last.toEpoch === job.toEpoch && last.status !== 'completed' && last.status !== 'diverged';
+    if (again) {
+      // The same job once more: after a failure it is a retry; after an interruption it is the same attempt.
+      if (last.status === 'failed') {
+        last.attempts += 1;
+        record.retries += 1;
+      }
+      last.status = 'running';
+      last.fromEpoch = job.fromEpoch;
+      last.fromCheckpoint = fromCheckpoint;
+    } else {
+      const entry: JobRecord = { rung: job.rung, fromEpoch: job.fromEpoch, toEpoch: job.toEpoch, fromCheckpoint, attempts: 1, status: 'running' };
+      record.jobs.push(entry);
+      if (job.reason) (record.promotions ??= []).push({ fromRung: job.rung - 1, reason: job.reason });
+    }
+    return record;
+  }
+
+  /** Fold a result in and report it to the sampler. */
+  succeeded(job: Job, result: TrainResult): TrialRecord {
+    const record = this.record(job.trialId);
+    this.failures.delete(jobKey(job));
+    applyResult(record, job, result, this.objective);
+    const entry = record.jobs.at(-1)!;
+    entry.status = result.status;
+    if (result.ranOn) entry.ranOn = result.ranOn;
+    if (record.status !== 'diverged') {
+      record.status = 'paused';
+      this.paused.add(record.id);
+    }
+    this.jobsDone++;
+    this.sampler.report({ trialId: job.trialId, rung: job.rung, loss: orientedLoss(record.objective, this.objective) });
+    this.endAbandoned();
+    return record;
+  }
+
+  /**
+   * A job ended without a result. `'retry'`: run the same job again (the study's `retries` allow it);
+   * `'ended'`: the trial is given up and the sampler told; `'kept'`: cut off by an interrupt, redone on resume.
+   */
+  failed(job: Job, failure: JobFailure): 'retry' | 'ended' | 'kept' {
+    const record = this.record(job.trialId);
+    const entry = record.jobs.at(-1)!;
+    if (failure.kind === 'cut-off') {
+      entry.status = 'cut-off';
+      return 'kept';
+    }
+    const failed = (this.failures.get(jobKey(job)) ?? 0) + 1;
+    this.failures.set(jobKey(job), failed);
+    entry.status = failure.kind === 'timed-out' ? 'timed-out' : 'failed';
+    if (failure.kind === 'error' && failed <= this.definition.retries) return 'retry';
+    record.status = failure.kind === 'timed-out' ? 'timed-out' : 'failed';
+    record.error = failure.kind === 'timed-out' ? `ran longer than trialTimeoutSeconds (${this.definition.trialTimeoutSeconds} s)` : failure.message;
+    record.endedAt = new Date().toISOString();
+    record.objective = null;
+    record.rung = job.rung;
+    record.rungObjectives[job.rung] = null;
+    this.jobsDone++;
+    this.sampler.report({ trialId: job.trialId, rung: job.rung, loss: null });
+    this.endAbandoned();
+    return 'ended';
+  }
+
+  /** At the end of a study that was not interrupted, every trial still paused is final. */
+  endAll(): void {
+    for (const id of [...this.paused]) this.end(this.record(id));
+  }
+
+  /** Every paused trial the sampler has now given up on is final. */
+  private endAbandoned(): void {
+    for (const id of [...this.paused]) if (!this.sampler.mayContinue(id)) this.end(this.record(id));
+  }
+
+  private end(record: TrialRecord): void {
+    this.paused.delete(record.id);
+    record.status = record.epochsTrained >= this.definition.budget.maxEpochs ? 'completed' : 'stopped';
+  }
+}
+
+function jobKey(job: Job): string {
+  return `${job.trialId}/${job.toEpoch}`;
+}
