@@ -147,7 +147,8 @@ export const asyncHalvingPlugin = defineSampler({
   },
   plan: (options, budget) => {
     if (options.minEpochs > budget.maxEpochs) return { trials: 0, epochs: 0 };
-    // At most floor(n_k / eta) trials leave rung k, since a promotion needs eta results there.
+    // An estimate: the synchronous schedule, floor(n_k / eta) trials leaving rung k. Asynchronous promotion
+    // can promote more (a trial promoted early stays promoted when later results push it out of the top).
     const rungs = rungEpochs(options.minEpochs, budget.maxEpochs, options.eta);
     let reaching = budget.trials;
     let epochs = 0;

@@ -87,7 +87,11 @@ export interface SamplerPlugin<Schema extends SamplerSchema = SamplerSchema> {
   traits: SamplerTraits;
   /** Build a fresh sampler. Throw a UserError for options that do not fit the budget. */
   create(options: z.output<Schema>, context: SamplerContext): Sampler;
-  /** Configurations and epochs the sampler will run at most, for progress and budget checks. */
+  /**
+   * Configurations and epochs the sampler runs, for progress and budget checks: the most it will run,
+   * or, for a sampler whose decisions depend on the order results arrive (`traits.deterministic` false),
+   * an estimate that the run may exceed.
+   */
   plan(options: z.output<Schema>, budget: Budget): { trials: number; epochs: number };
 }
 

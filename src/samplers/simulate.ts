@@ -14,6 +14,10 @@ export interface SimulationOptions {
   stopAfterReports?: number;
   /** Jobs already handed out before the simulation starts (e.g. pending after a replay); they run first. */
   running?: readonly Job[];
+  /** Called after each report to the sampler (a contract check can inspect the sampler there). */
+  afterReport?: (outcome: JobOutcome) => void;
+  /** Called after each job is handed out. */
+  afterHandOut?: (job: Job) => void;
 }
 
 export interface SimulationLog {
@@ -51,6 +55,7 @@ export function simulate(sampler: Sampler, options: SimulationOptions): Simulati
       answer = sampler.next();
       if (answer === 'wait' || answer === 'done') break;
       log.jobs.push(answer);
+      options.afterHandOut?.(answer);
       start(answer);
     }
     if (running.length === 0) {
@@ -66,6 +71,7 @@ export function simulate(sampler: Sampler, options: SimulationOptions): Simulati
     const outcome: JobOutcome = { trialId: finished.job.trialId, rung: finished.job.rung, loss: options.loss(finished.job) };
     log.outcomes.push(outcome);
     sampler.report(outcome);
+    options.afterReport?.(outcome);
   }
   log.running = running.map((entry) => entry.job);
   return log;

@@ -1,0 +1,71 @@
+import { mkdtemp } from 'node:fs/promises';
+import { tmpdir } from 'node:os';
+import path from 'node:path';
+import { describe, expect, it } from 'vitest';
+import { MemoryCheckpointStore } from '../src/checkpoints/memory-store.js';
+import { CheckpointKeeper } from '../src/runner/checkpoint-keeper.js';
+import { BatchedPersistence } from '../src/runner/persistence.js';
+import type { Sampler } from '../src/samplers/sampler.js';
+import { StudyStore } from '../src/store/study-store.js';
+import type { StudyDocument, TrialRecord, TrialStatus } from '../src/store/types.js';
+
+function trial(id: number, status: TrialStatus, objective: number | null): TrialRecord {
+  return {
+    id,
+    params: { depth: 1, width: 8, activation: 'relu', learningRate: 0.01, batchSize: 32, optimizer: 'adam', l2: 0, dropout: 0 },
+    seed: id,
+    status,
+    rung: 2,
+    bracket: 0,
+    epochsTrained: 9,
+    curve: [],
+    objective,
+    rungObjectives: [objective],
+    workerSeconds: 1,
+    retries: 0,
+    jobs: [],
+  };
+}
+
+async function setUp(trials: TrialRecord[], continuing: Set<number>) {
+  const dir = await mkdtemp(path.join(tmpdir(), 'rungwise-persistence-'));
+  const doc = { format: 'rungwise-study', version: 2, name: 'p', objective: { metric: 'accuracy', direction: 'maximize' }, state: 'running', trials } as unknown as StudyDocument;
+  const store = await StudyStore.create(dir, doc);
+  const checkpoints = new MemoryCheckpointStore();
+  for (const t of trials) await checkpoints.write(t.id, new Uint8Array([t.id]));
+  const sampler: Sampler = { next: () => 'done', report: () => undefined, mayContinue: (id) => continuing.has(id) };
+  const announced: number[] = [];
+  const persistence = new BatchedPersistence<number>(store, new CheckpointKeeper(checkpoints), sampler, (items) => announced.push(...items), trials.map((t) => t.id));
+  return { doc, checkpoints, persistence, announced };
+}
+
+describe('saving and pruning', () => {
+  it('keeps the checkpoint of a trial that is fourth only because an active trial ranks above it, and deletes it once it cannot rise', async () => {
+    // Trial 0 is paused at the top of the ranking and will be continued; trials 1-3 are stopped below it.
+    const continuing = new Set([0]);
+    const { doc, checkpoints, persistence } = await setUp(
+      [trial(0, 'paused', 0.9), trial(1, 'stopped', 0.8), trial(2, 'stopped', 0.7), trial(3, 'stopped', 0.6), trial(4, 'stopped', 0.5)],
+      continuing,
+    );
+    persistence.queue(1);
+    await persistence.flush();
+    expect(await checkpoints.list()).toEqual([0, 1, 2, 3]);
+    // Its continuation diverges: it leaves the ranking and trial 3 rises to third.
+    doc.trials[0]!.status = 'diverged';
+    doc.trials[0]!.objective = null;
+    continuing.delete(0);
+    persistence.queue(2);
+    await persistence.flush();
+    expect(await checkpoints.list()).toEqual([1, 2, 3]);
+  });
+
+  it('announces each item once, after the save that holds it', async () => {
+    const { persistence, announced } = await setUp([trial(0, 'stopped', 0.9)], new Set());
+    persistence.queue(10);
+    persistence.queue(11);
+    await persistence.flush();
+    persistence.queue(12);
+    await persistence.flush();
+    expect(announced).toEqual([10, 11, 12]);
+  });
+});

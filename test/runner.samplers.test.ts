@@ -1,0 +1,66 @@
+/**
+ * The run loop with every registered sampler on a closed-form transport: hundreds of jobs in seconds.
+ * No trial is lost, every promotion continues from a checkpoint, and the kept checkpoints and the
+ * winner follow the one ranking.
+ */
+import { readdir } from 'node:fs/promises';
+import path from 'node:path';
+import { describe, expect, it } from 'vitest';
+import { runStudy, type StudyOutcome } from '../src/runner/run-study.js';
+import { SAMPLER_PLUGINS } from '../src/samplers/index.js';
+import type { StudyDefinitionInput, TrialParams } from '../src/study/definition.js';
+import { ClosedFormTransport } from '../src/transport/closed-form.js';
+import { tinyStudy, writeTinyStudy } from './helpers/studies.js';
+
+/**
+ * Better near learning rate 0.01, with more width and more epochs. With `divergeLate`, the best
+ * configurations diverge after epoch 9: trials that led the ranking leave it near the end.
+ */
+function figures(params: TrialParams, epoch: number, divergeLate: boolean) {
+  if (divergeLate && Math.abs(Math.log10(params.learningRate) + 2) < 0.4 && epoch > 9) return { validationLoss: Infinity };
+  const loss = Math.abs(Math.log10(params.learningRate) + 2) + 4 / params.width + 2 / epoch;
+  return { validationLoss: loss, metrics: { auc: 1 / (1 + loss) } };
+}
+
+async function run(kind: string, capacity: number, options: { divergeLate?: boolean; trials?: number } = {}): Promise<StudyOutcome> {
+  const definition: StudyDefinitionInput = tinyStudy({
+    budget: { trials: options.trials ?? 18, maxEpochs: 27 },
+    sampler: { kind, seed: 4 } as StudyDefinitionInput['sampler'],
+    space: { depth: { min: 1, max: 2 }, width: { min: 4, max: 64, log: true }, activation: ['relu'], learningRate: { min: 0.001, max: 0.1 } },
+  });
+  const file = await writeTinyStudy(definition);
+  return runStudy(file, {
+    out: path.join(path.dirname(file), `run-${capacity}`),
+    transport: () => new ClosedFormTransport({ capacity, evaluate: (params, epoch) => figures(params, epoch, options.divergeLate ?? false) }),
+  });
+}
+
+describe.each(SAMPLER_PLUGINS.map((plugin) => [plugin.kind]))('run loop with %s', (kind) => {
+  it('ends with no failed trial, no retry, and every promotion continued from its checkpoint', async () => {
+    const { doc } = await run(kind, 3);
+    expect(doc.state).toBe('finished');
+    expect(doc.trials.filter((t) => t.status === 'failed' || t.status === 'running' || t.status === 'paused')).toEqual([]);
+    for (const trial of doc.trials) {
+      expect(trial.retries).toBe(0);
+      for (const job of trial.jobs) {
+        expect(job).toMatchObject({ attempts: 1, status: 'completed' });
+        if (job.rung > 0) expect({ trial: trial.id, rung: job.rung, fromCheckpoint: job.fromCheckpoint }).toEqual({ trial: trial.id, rung: job.rung, fromCheckpoint: true });
+      }
+    }
+  });
+
+  it('ranks first the best objective among the trials that trained the most epochs', async () => {
+    const { doc, ranking } = await run(kind, 2);
+    const most = Math.max(...doc.trials.map((t) => t.epochsTrained));
+    const best = Math.max(...doc.trials.filter((t) => t.epochsTrained === most).map((t) => t.objective ?? -Infinity));
+    expect(ranking[0]!.trial.epochsTrained).toBe(most);
+    expect(ranking[0]!.trial.objective).toBe(best);
+  });
+
+  it('keeps exactly the checkpoints of the best three, even when trials above them diverge later', async () => {
+    const outcome = await run(kind, 3, { divergeLate: true, trials: 40 });
+    expect(outcome.doc.trials.some((t) => t.status === 'diverged')).toBe(true);
+    const kept = (await readdir(path.join(outcome.dir, 'checkpoints'))).sort();
+    expect(kept).toEqual(outcome.ranking.slice(0, 3).map((r) => `trial-${r.trial.id}.ckpt`).sort());
+  });
+});
