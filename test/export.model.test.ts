@@ -14,7 +14,7 @@ import type { PreprocessingRecipe } from '../src/data/types.js';
 import { UserError } from '../src/errors.js';
 import { writeFolderAtomically } from '../src/files/atomic-folder.js';
 import type { ExportConfiguration } from '../src/export/configuration.js';
-import { OPTIMISM_CAUTION } from '../src/report/summary.js';
+import { OPTIMISM_CAUTION } from '../src/report/caution.js';
 import { runStudy } from '../src/runner/run-study.js';
 import { rankTrials } from '../src/study/objective.js';
 import { StudyStore } from '../src/store/study-store.js';

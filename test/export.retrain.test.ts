@@ -7,7 +7,7 @@ import { exportModel, exportReport, type ExportSummary } from '../src/commands/e
 import { prepareData } from '../src/data/prepare.js';
 import type { ExportConfiguration } from '../src/export/configuration.js';
 import { loadLayersModelFromDir, predictRows } from '../src/export/model-files.js';
-import { OPTIMISM_CAUTION } from '../src/report/summary.js';
+import { OPTIMISM_CAUTION } from '../src/report/caution.js';
 import { runStudy } from '../src/runner/run-study.js';
 import { rankTrials } from '../src/study/objective.js';
 import { StudyStore } from '../src/store/study-store.js';

@@ -3,7 +3,7 @@ import { tmpdir } from 'node:os';
 import path from 'node:path';
 import { afterEach, beforeEach, describe, expect, it } from 'vitest';
 import { plot } from '../src/commands/plot.js';
-import { CAUTION } from '../src/plot/report.js';
+import { OPTIMISM_CAUTION as CAUTION } from '../src/report/caution.js';
 import { UserError } from '../src/errors.js';
 
 const fixturePath = (name: string) => new URL(`./fixtures/studies/${name}.json`, import.meta.url);

@@ -1,6 +1,6 @@
 import { readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
-import { parallelData, progressRows, rungRows, shortNumber } from '../src/plot/data.js';
+import { parallelData, progressRows, robustDomain, rungRows, shortNumber } from '../src/plot/data.js';
 import { variedParameterAxes } from '../src/plot/labels.js';
 import { logAxisDomain } from '../src/plot/charts/parameters.js';
 import { learningCurvesChart, parallelChart, parametersChart, progressChart, rungsChart, studyCharts } from '../src/plot/specs.js';
@@ -204,5 +204,17 @@ describe('chart selection', () => {
 
   it('draws nothing for a study with no trials yet', () => {
     expect(studyCharts({ ...halvingNine, trials: [] })).toEqual([]);
+  });
+});
+
+describe('axes that a run-away trial does not flatten', () => {
+  // Source: Tukey, "Exploratory Data Analysis", 1977: "far out" beyond 3 interquartile ranges from the quartiles.
+  it('clips at the far-out fences when a value lies beyond them', () => {
+    // Nine values: quartiles at positions 2 and 6 of the sorted list, 3 and 7; IQR 4; fences 3 - 12 and 7 + 12 = 19.
+    expect(robustDomain([1, 2, 3, 4, 5, 6, 7, 8, 1.28e8])).toEqual([1, 19]);
+  });
+
+  it('leaves the axis alone when every value lies within the fences', () => {
+    expect(robustDomain([0.81, 0.83, 0.84, 0.86, 0.9])).toBeUndefined();
   });
 });

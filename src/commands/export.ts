@@ -4,7 +4,8 @@ import path from 'node:path';
 import type { PreparedData } from '../data/types.js';
 import { UserError } from '../errors.js';
 import { writeFolderAtomically } from '../files/atomic-folder.js';
-import { CONFIGURATION_FILE, EXPORT_CAUTION, buildConfiguration, lastEpochFigures } from '../export/configuration.js';
+import { CONFIGURATION_FILE, buildConfiguration, lastEpochFigures } from '../export/configuration.js';
+import { OPTIMISM_CAUTION } from '../report/caution.js';
 import { evaluateExportedModel } from '../export/evaluate.js';
 import { MODEL_FILE, WEIGHTS_FILE, buildLayersModel, saveLayersModel } from '../export/model-files.js';
 import { retrainTrial } from '../export/retrain.js';
@@ -108,7 +109,7 @@ export async function exportModel(options: ExportCommandOptions): Promise<Export
     validation: lastEpochFigures(trial).metrics,
     retrained: options.retrain === true,
     files: [CONFIGURATION_FILE, MODEL_FILE, WEIGHTS_FILE],
-    caution: EXPORT_CAUTION,
+    caution: OPTIMISM_CAUTION,
   };
   if (test) summary.test = test;
   return summary;

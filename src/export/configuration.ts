@@ -6,7 +6,7 @@ import { readFile } from 'node:fs/promises';
 import path from 'node:path';
 import type { PreprocessingRecipe } from '../data/types.js';
 import { UserError } from '../errors.js';
-import { OPTIMISM_CAUTION } from '../report/summary.js';
+import { OPTIMISM_CAUTION } from '../report/caution.js';
 import type { StudyDocument, TrialRecord } from '../store/types.js';
 import type { MetricName, Objective, TrialParams } from '../study/definition.js';
 import type { Metrics } from '../train/metrics.js';
@@ -16,8 +16,7 @@ export const CONFIGURATION_FILE = 'configuration.json';
 export const EXPORT_FORMAT = 'rungwise-export';
 export const EXPORT_FORMAT_VERSION = 1;
 
-/** Said wherever an exported model's score is shown: the shared caution of the tool. */
-export const EXPORT_CAUTION = OPTIMISM_CAUTION;
+
 
 /** The study's figures of the trial's last epoch, on the validation split. */
 export interface LastEpochFigures {
@@ -96,7 +95,7 @@ export function buildConfiguration(doc: StudyDocument, trial: TrialRecord, rank:
     inputs: inputNames(doc.recipe),
     outputs: modelOutputs(doc.recipe),
     model: { file: MODEL_FILE, weights: WEIGHTS_FILE, format: 'tfjs layers model' },
-    caution: EXPORT_CAUTION,
+    caution: OPTIMISM_CAUTION,
   };
   if (retrained) configuration.test = retrained.test;
   return configuration;

@@ -1,5 +1,6 @@
 import type { CurvePoint, StudyDocument, TrialRecord, TrialStatus } from '../store/types.js';
 import type { MetricName, Objective } from '../study/definition.js';
+import { beats, objectiveAt } from '../study/objective.js';
 import type { ParameterAxis } from './labels.js';
 
 /** One finished trial on the progress chart. */
@@ -27,11 +28,6 @@ function isScore(value: number | null | undefined): value is number {
   return typeof value === 'number' && Number.isFinite(value);
 }
 
-/** True when `a` beats `b` in the objective's direction. */
-export function beats(a: number, b: number, direction: Objective['direction']): boolean {
-  return direction === 'maximize' ? a > b : a < b;
-}
-
 /**
  * Finished trials that have a score, numbered in completion order, with the running best.
  * Trials without a score (diverged, failed) keep their place in the numbering but get no row.
@@ -49,8 +45,7 @@ export function progressRows(study: StudyDocument): ProgressRow[] {
 
 /** The objective metric's value at one epoch, or undefined when it was not recorded or is not finite. */
 export function metricAt(point: CurvePoint, metric: MetricName): number | undefined {
-  const value = metric === 'validationLoss' ? point.validationLoss : point.metrics[metric];
-  return isScore(value) ? value : undefined;
+  return objectiveAt(point, { metric }) ?? undefined;
 }
 
 export interface CurveRow {
@@ -186,4 +181,27 @@ export function rungRows(study: StudyDocument): RungRow[] {
     }
     return rows;
   });
+}
+
+/**
+ * An axis range that a run-away value does not flatten: the quartiles widened by 3 interquartile
+ * ranges on each side (Tukey's far-out fences), kept within the values' own range. Undefined when no
+ * value lies outside, so the axis is left to fit the data. Values beyond it are drawn at its edge.
+ * Source: Tukey, "Exploratory Data Analysis", 1977 (fences at 3 IQR for "far out" values).
+ */
+export function robustDomain(values: readonly number[]): [number, number] | undefined {
+  if (values.length < 4) return undefined;
+  const sorted = [...values].sort((a, b) => a - b);
+  const quantile = (q: number): number => {
+    const position = (sorted.length - 1) * q;
+    const low = Math.floor(position);
+    return sorted[low]! + (sorted[Math.min(low + 1, sorted.length - 1)]! - sorted[low]!) * (position - low);
+  };
+  const q1 = quantile(0.25);
+  const q3 = quantile(0.75);
+  const spread = q3 - q1;
+  const lo = Math.max(sorted[0]!, q1 - 3 * spread);
+  const hi = Math.min(sorted.at(-1)!, q3 + 3 * spread);
+  if (spread === 0 || (lo === sorted[0] && hi === sorted.at(-1))) return undefined;
+  return [lo, hi];
 }

@@ -1,11 +1,9 @@
 import { formatNumber } from '../report/format.js';
 import type { StudyDocument, TrialRecord } from '../store/types.js';
-import { beats } from './data.js';
+import { OPTIMISM_CAUTION } from '../report/caution.js';
+import { rankTrials } from '../study/objective.js';
 import { objectiveLabel } from './labels.js';
 
-/** Printed in every report, because picking the best of many trials flatters its validation score. */
-export const CAUTION =
-  'Validation scores of a configuration picked from many are optimistic: judge the chosen model on the held-out test split (rungwise export --retrain), and have any model whose predictions affect people reviewed before use.';
 
 /** A chart drawn to SVG, ready to inline. */
 export interface RenderedChart {
@@ -29,25 +27,9 @@ export function scopeSvgIds(svg: string, prefix: string): string {
     .replace(/(xlink:)?href="#([^"]+)"/g, (_, xlink: string | undefined, id: string) => `${xlink ?? ''}href="#${prefix}-${id}"`);
 }
 
-/**
- * The trial to recommend: among scored trials, the one trained for the most epochs, then the best
- * objective. Early rungs of a halving sampler score after fewer epochs, and rung numbers mean
- * different epoch counts in different Hyperband brackets, so epochs are what is compared.
- */
+/** The trial to recommend: the leader of the study's one ranking. */
 export function bestTrial(study: StudyDocument): TrialRecord | undefined {
-  let best: (TrialRecord & { objective: number }) | undefined;
-  for (const trial of study.trials) {
-    if (typeof trial.objective !== 'number' || !Number.isFinite(trial.objective)) continue;
-    const scored = trial as TrialRecord & { objective: number };
-    if (
-      best === undefined ||
-      scored.epochsTrained > best.epochsTrained ||
-      (scored.epochsTrained === best.epochsTrained && beats(scored.objective, best.objective, study.objective.direction))
-    ) {
-      best = scored;
-    }
-  }
-  return best;
+  return rankTrials(study.trials, study.objective)[0]?.trial;
 }
 
 function statusCounts(study: StudyDocument): string {
@@ -133,7 +115,7 @@ export function buildReport(study: StudyDocument, charts: readonly RenderedChart
 </head>
 <body>
 <h1>Study ${escapeHtml(study.name)}</h1>
-<p class="caution">${escapeHtml(CAUTION)}</p>
+<p class="caution">${escapeHtml(OPTIMISM_CAUTION)}</p>
 <table>
 ${table}
 </table>

@@ -1,9 +1,7 @@
 import type { StudyDocument } from '../store/types.js';
+import { OPTIMISM_CAUTION } from './caution.js';
 import { formatDuration, formatNumber } from './format.js';
 
-/** Validation scores of a configuration picked from many are optimistic; every place that shows a winner says so. */
-export const OPTIMISM_CAUTION =
-  'Caution: the validation score of a configuration picked from many is optimistic; judge the chosen model on the held-out test split (rungwise export --retrain), and have any model whose predictions affect people reviewed before use.';
 
 /** The closing lines of a run: trials by status, totals, the study file's path and the caution. */
 export function studySummary(doc: StudyDocument, file = ''): string {

@@ -5,6 +5,7 @@ import { permutation, stream } from '../random/streams.js';
 import { ConstantCachingAdam } from './adam.js';
 import { checkpointBytes, restoreCheckpoint } from './checkpoint.js';
 import { datasetTensors, type DatasetTensors } from './data-cache.js';
+import { divergenceReason } from './divergence.js';
 import { computeMetrics } from './metrics.js';
 import { createNetwork, disposeNetwork, forward, l2Penalty, lossFromLogits, networkSpec, outputFromLogits, type Network } from './network.js';
 
@@ -104,7 +105,7 @@ function validate(request: TrainRequest, network: Network, data: DatasetTensors)
  * `checkpoint` when `fromEpoch > 0`; a completed segment returns the checkpoint at `toEpoch`.
  * Each epoch report goes to `onEpoch` and to `request.progressPort`.
  *
- * A non-finite training or validation loss ends the segment as `diverged` (no checkpoint is returned,
+ * A loss that stops being finite or runs away (`divergenceReason`) ends the segment as `diverged` (no checkpoint is returned,
  * and the diverged epoch has no report since its figures are not numbers).
  * Every tensor the trial creates (network, optimizer slots) is disposed before returning, so
  * `tensorsAfter === tensorsBefore` unless something leaked; the data set's tensors are cached per
@@ -130,13 +131,10 @@ export async function trainSegment(request: TrainRequest, onEpoch?: (report: Epo
     for (let epoch = request.fromEpoch + 1; epoch <= request.toEpoch; epoch++) {
       const epochStarted = performance.now();
       const trainLoss = trainEpoch(request, network, optimizer, data, epoch);
-      if (!Number.isFinite(trainLoss)) {
-        divergence = { epoch, reason: `training loss became ${trainLoss} at epoch ${epoch}` };
-        break;
-      }
-      const validation = validate(request, network, data);
-      if (!Number.isFinite(validation.loss)) {
-        divergence = { epoch, reason: `validation loss became ${validation.loss} at epoch ${epoch}` };
+      const validation = Number.isFinite(trainLoss) ? validate(request, network, data) : { loss: NaN, outputs: new Float32Array(0) };
+      const reason = divergenceReason(epoch, trainLoss, validation.loss, dataset.task, dataset.outputCount);
+      if (reason) {
+        divergence = { epoch, reason };
         break;
       }
       const report: EpochReport = {

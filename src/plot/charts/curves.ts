@@ -1,5 +1,5 @@
 import type { StudyDocument } from '../../store/types.js';
-import { curveRows } from '../data.js';
+import { curveRows, robustDomain } from '../data.js';
 import { isHalving, metricLabel, statusScale } from '../labels.js';
 import { CHART_CONFIG, VEGA_LITE_SCHEMA, type Chart } from './chart.js';
 
@@ -16,18 +16,25 @@ export function learningCurvesChart(study: StudyDocument): Chart | null {
       { field: 'rung', type: 'ordinal' as const, title: 'highest rung reached', scale: { scheme: { name: 'viridis', extent: [0, 0.8] } } }
     : { field: 'status', type: 'nominal' as const, title: 'status', scale: statusScale(rows.map((r) => r.status)) };
   const title = `Learning curves: ${metricLabel(study.objective.metric)} by epoch`;
+  const domain = robustDomain(rows.map((r) => r.value));
   return {
     name: 'learning-curves',
     title,
     spec: {
       $schema: VEGA_LITE_SCHEMA,
-      title: { text: title, subtitle: `One line per trial, with a dot where it stopped${byRung ? ' (trials stopped at a low rung end early)' : ''}.` },
+      title: {
+        text: title,
+        subtitle: [
+          `One line per trial, with a dot where it stopped${byRung ? ' (trials stopped at a low rung end early)' : ''}.`,
+          ...(domain ? ['Far-out values are drawn at the edge of the axis.'] : []),
+        ],
+      },
       width: 560,
       height: 300,
       data: { values: rows },
       encoding: {
         x: { field: 'epoch', type: 'quantitative', title: 'epoch', axis: { tickMinStep: 1, format: 'd' } },
-        y: { field: 'value', type: 'quantitative', title: metricLabel(study.objective.metric), scale: { zero: false } },
+        y: { field: 'value', type: 'quantitative', title: metricLabel(study.objective.metric), scale: domain ? { zero: false, domain, clamp: true } : { zero: false } },
         color,
       },
       layer: [

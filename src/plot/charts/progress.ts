@@ -1,5 +1,5 @@
 import type { StudyDocument } from '../../store/types.js';
-import { progressRows } from '../data.js';
+import { progressRows, robustDomain } from '../data.js';
 import { metricLabel, objectiveLabel, statusScale } from '../labels.js';
 import { CHART_CONFIG, VEGA_LITE_SCHEMA, type Chart } from './chart.js';
 
@@ -17,7 +17,9 @@ export function progressChart(study: StudyDocument): Chart | null {
     ...(unscored > 0 ? [`${unscored} finished trial${unscored === 1 ? '' : 's'} without a score (diverged or failed) not shown.`] : []),
   ];
   const x = { field: 'order', type: 'quantitative' as const, title: 'trials finished (in order of finishing)', axis: { tickMinStep: 1, format: 'd' } };
-  const y = { type: 'quantitative' as const, title: objectiveLabel(study.objective), scale: { zero: false } };
+  const domain = robustDomain(rows.map((r) => r.objective));
+  if (domain) subtitle.push('Far-out values are drawn at the edge of the axis.');
+  const y = { type: 'quantitative' as const, title: objectiveLabel(study.objective), scale: domain ? { zero: false, domain, clamp: true } : { zero: false } };
   return {
     name: 'progress',
     title: 'Objective of each trial, in order of finishing',
