@@ -4,7 +4,7 @@ export * from './study/definition.js';
 export { loadStudy, validateStudy, type LoadedStudy } from './study/load.js';
 export { studyJsonSchema } from './study/json-schema.js';
 export { runStudy, type RunOptions, type StudyOutcome } from './runner/run-study.js';
-export { resumeStudy, type ResumeOutcome } from './runner/resume-study.js';
+export { resumeStudy, type ResumeOptions, type ResumeOutcome } from './runner/resume-study.js';
 export { executeStudy, type ExecuteOptions } from './runner/execute-study.js';
 export type { StudyEvent, StudyObserver } from './runner/events.js';
 export { rankTrials, type RankedTrial } from './study/objective.js';

@@ -24,6 +24,8 @@ export interface ExportCommandOptions {
   dir: string;
   /** Rank in the study's ranking. @default 1 */
   rank?: number;
+  /** With --retrain: go on although the CSV changed since the study ran. @default false */
+  allowChangedData?: boolean;
   /** Export folder. @default `<dir>/export/rank-<rank>` */
   out?: string;
   /** Train the configuration afresh on training plus validation rows, then score it once on the test split. @default false */
@@ -50,8 +52,8 @@ export interface ExportSummary {
 }
 
 /** The study's data, unchanged since the run, with a held-out test split to score a retrained model on. */
-async function retrainData(doc: StudyDocument, studyFile: string): Promise<PreparedData> {
-  const data = await studyData(doc, studyFile);
+async function retrainData(doc: StudyDocument, studyFile: string, allowChangedData: boolean): Promise<PreparedData> {
+  const data = await studyData(doc, studyFile, { command: 'export --retrain', allowChangedData });
   if (data.test.rows === 0) {
     throw new UserError('E_EXPORT_NO_TEST', `${doc.definitionFile}: data.testFraction is 0, so there is no held-out test split to score a retrained model on`);
   }
@@ -74,7 +76,7 @@ export async function exportModel(options: ExportCommandOptions): Promise<Export
   const trial = chosen.trial;
   // Every check that can refuse runs before the export folder is touched.
   const kept = options.retrain ? undefined : await keptCheckpointWeights(runDir, doc, chosen);
-  const data = options.retrain ? await retrainData(doc, studyFile) : undefined;
+  const data = options.retrain ? await retrainData(doc, studyFile, options.allowChangedData ?? false) : undefined;
   const out = path.resolve(options.out ?? runPaths.exportDir(runDir, rank));
 
   let test: Metrics | undefined;

@@ -1,10 +1,31 @@
 import { createHash } from 'node:crypto';
-import type { PreparedData } from './types.js';
+import { createReadStream } from 'node:fs';
+import type { PreparedData, SplitArrays } from './types.js';
 
 /** A content hash of the training and validation matrices: equal ids mean equal data, on any machine. */
 export function datasetId(data: Pick<PreparedData, 'recipe' | 'train' | 'validation'>): string {
-  const hash = createHash('sha256').update(JSON.stringify(data.recipe));
-  for (const split of [data.train, data.validation]) {
+  return splitsHash(data.recipe, [data.train, data.validation]);
+}
+
+/** Content hashes of the CSV file and of the prepared splits, as the study file records them. */
+export interface DataHashes {
+  /** The CSV file's bytes. */
+  csv: string;
+  /** The training and validation matrices (the {@link datasetId} workers train on). */
+  trainAndValidation: string;
+  /** The held-out test split. */
+  test: string;
+}
+
+export async function dataHashes(csvFile: string, data: PreparedData): Promise<DataHashes> {
+  const csv = createHash('sha256');
+  for await (const chunk of createReadStream(csvFile)) csv.update(chunk as Buffer);
+  return { csv: `sha256:${csv.digest('hex')}`, trainAndValidation: datasetId(data), test: splitsHash(data.recipe, [data.test]) };
+}
+
+function splitsHash(recipe: PreparedData['recipe'], splits: readonly SplitArrays[]): string {
+  const hash = createHash('sha256').update(JSON.stringify(recipe));
+  for (const split of splits) {
     hash.update(`${split.rows}/${split.x.length}/${split.y.length}`);
     hash.update(new Uint8Array(split.x.buffer, split.x.byteOffset, split.x.byteLength));
     hash.update(new Uint8Array(split.y.buffer, split.y.byteOffset, split.y.byteLength));

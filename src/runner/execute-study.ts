@@ -4,6 +4,7 @@ import type { CheckpointStore } from '../checkpoints/store.js';
 import { datasetId } from '../data/dataset-id.js';
 import { toSharedDataset } from '../data/index.js';
 import type { PreparedData } from '../data/types.js';
+import { studyStoppedError } from '../errors.js';
 import { createSampler, plannedBudget, replay } from '../samplers/index.js';
 import type { Job, JobOutcome } from '../samplers/sampler.js';
 import type { Objective } from '../study/definition.js';
@@ -72,12 +73,25 @@ function defaultTransport(options: ExecuteOptions): (context: TransportContext) 
 }
 
 /**
+ * Drive a study until its sampler is done or the signal aborts. A write that fails for lack of space
+ * or permission stops the study with a one-line error (exit code 1) naming the path, the cause and the
+ * resume command; every trial saved before it is kept and no trial is marked failed for it.
+ */
+export async function executeStudy(store: StudyStore, data: PreparedData, options: ExecuteOptions = {}): Promise<StudyOutcome> {
+  try {
+    return await drive(store, data, options);
+  } catch (error) {
+    throw studyStoppedError(error, store.dir) ?? error;
+  }
+}
+
+/**
  * Drive a study until its sampler is done or the signal aborts. Trials already in the store (a
  * resumed study) are replayed into a fresh sampler first; jobs that were running when the study
  * stopped run again, from their checkpoint when it stands where they started, else from epoch 0
  * (training is deterministic, so the result is the same).
  */
-export async function executeStudy(store: StudyStore, data: PreparedData, options: ExecuteOptions = {}): Promise<StudyOutcome> {
+async function drive(store: StudyStore, data: PreparedData, options: ExecuteOptions): Promise<StudyOutcome> {
   const doc = store.doc;
   const { definition, objective } = doc;
   const resumed = doc.trials.length > 0;
@@ -125,6 +139,7 @@ export async function executeStudy(store: StudyStore, data: PreparedData, option
   doc.state = 'running';
   await store.save();
   emit({ type: 'study-started', name: doc.name, dir: store.dir, workers, plannedTrials: planned.trials, plannedEpochs: planned.epochs, resumed, progress: lifecycle.progress() });
+  for (const message of store.notes) note(message);
 
   const transport = (options.transport ?? defaultTransport(options))({ workers });
   const running = new Map<number, Promise<void>>();

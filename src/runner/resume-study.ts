@@ -1,4 +1,5 @@
 import { rankTrials } from '../study/objective.js';
+import { studyStoppedError } from '../errors.js';
 import { lockStudy } from '../store/lock.js';
 import { studyData } from '../store/study-data.js';
 import { StudyStore } from '../store/study-store.js';
@@ -14,17 +15,27 @@ export interface ResumeOutcome extends StudyOutcome {
  * (from their last rung checkpoint where there is one), and the sampler is rebuilt from the store.
  * For random search, successive halving and Hyperband the end result equals an uninterrupted run.
  */
-export async function resumeStudy(dir: string, options: ExecuteOptions = {}): Promise<ResumeOutcome> {
-  const lock = await lockStudy(dir);
+export interface ResumeOptions extends ExecuteOptions {
+  /** Go on although the CSV changed since the study started; the study file records it. @default false */
+  allowChangedData?: boolean;
+}
+
+export async function resumeStudy(dir: string, options: ResumeOptions = {}): Promise<ResumeOutcome> {
+  const lock = await lockStudy(dir).catch((error: unknown) => {
+    throw studyStoppedError(error, dir) ?? error;
+  });
   try {
     const store = await StudyStore.open(dir);
     const doc = store.doc;
     if (doc.state === 'finished') {
       return { dir: store.dir, file: store.file, doc, ranking: rankTrials(doc.trials, doc.objective), alreadyFinished: true };
     }
-    const data = await studyData(doc, store.file);
+    const data = await studyData(doc, store.file, { command: 'resume', allowChangedData: options.allowChangedData ?? false });
     return { ...(await executeStudy(store, data, options)), alreadyFinished: false };
+  } catch (error) {
+    throw studyStoppedError(error, dir) ?? error;
   } finally {
-    await lock.release();
+    // A vanished or read-only folder may refuse even this; the lock then goes stale and the next run takes it over.
+    await lock.release().catch(() => undefined);
   }
 }

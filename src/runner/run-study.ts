@@ -1,8 +1,9 @@
 import { existsSync } from 'node:fs';
 import { mkdir, readdir, rm } from 'node:fs/promises';
 import path from 'node:path';
+import { dataHashes } from '../data/dataset-id.js';
 import { prepareData } from '../data/index.js';
-import { UserError } from '../errors.js';
+import { UserError, studyStoppedError } from '../errors.js';
 import { resolveObjective } from '../study/definition.js';
 import { loadStudy, type LoadedStudy } from '../study/load.js';
 import { LOCK_FILES, lockStudy } from '../store/lock.js';
@@ -25,8 +26,11 @@ export async function runStudy(study: string | LoadedStudy, options: RunOptions 
   const { definition, file } = typeof study === 'string' ? await loadStudy(study) : study;
   const { data, summary } = await prepareData(definition.data, file);
   const dir = path.resolve(options.out ?? path.join('runs', definition.name));
-  await mkdir(dir, { recursive: true });
-  const lock = await lockStudy(dir);
+  const lock = await mkdir(dir, { recursive: true })
+    .then(() => lockStudy(dir))
+    .catch((error: unknown) => {
+      throw studyStoppedError(error, dir) ?? error;
+    });
   try {
     if (existsSync(studyFilePath(dir))) {
       if (!options.force) {
@@ -48,10 +52,14 @@ export async function runStudy(study: string | LoadedStudy, options: RunOptions 
       createdAt: now,
       updatedAt: now,
       trials: [],
+      dataHashes: await dataHashes(path.resolve(path.dirname(file), definition.data.csv), data),
     });
     return await executeStudy(store, data, options);
+  } catch (error) {
+    throw studyStoppedError(error, dir) ?? error;
   } finally {
-    await lock.release();
+    // A vanished or read-only folder may refuse even this; the lock then goes stale and the next run takes it over.
+    await lock.release().catch(() => undefined);
   }
 }
 

@@ -1,4 +1,4 @@
-import { open, readFile } from 'node:fs/promises';
+import { open, readFile, truncate } from 'node:fs/promises';
 import { UserError } from '../errors.js';
 import type { CurvePoint } from './types.js';
 
@@ -11,10 +11,17 @@ export interface CurveRecord {
 /**
  * The per-epoch curves of a study, kept out of the study file so that rewriting the study file
  * does not cost in proportion to every epoch of every trial. Append-only JSON lines, each flushed
- * to disk before the study file that depends on it is written; a last line cut short by a kill is
- * ignored (its trial is still `running` in the study file and runs again on resume).
+ * to disk before the study file that depends on it is written. A last line cut short (a kill or a
+ * full disk in the middle of an append) is ignored, said in {@link CurveLog.tornLine}, and cut off
+ * before the next append; the study file written before it still says its trial is `running`, so
+ * that trial's job runs again on resume.
  */
 export class CurveLog {
+  /** 1-based number of a last line found cut short by {@link CurveLog.read}, if any. */
+  tornLine: number | undefined;
+  /** Bytes of whole lines read; a torn tail beyond it is cut off before the next append. */
+  private wholeBytes: number | undefined;
+
   constructor(readonly file: string) {}
 
   /** Every trial's latest curve. A missing log is an empty one. */
@@ -28,13 +35,20 @@ export class CurveLog {
     }
     const curves = new Map<number, CurvePoint[]>();
     const lines = text.split('\n');
+    this.tornLine = undefined;
+    this.wholeBytes = undefined;
     lines.forEach((line, index) => {
       if (line === '') return;
       let record: CurveRecord;
       try {
         record = JSON.parse(line) as CurveRecord;
       } catch {
-        if (index === lines.length - 1) return; // cut short by a kill while appending
+        if (index === lines.length - 1) {
+          // Cut short while appending: no newline ends it.
+          this.tornLine = index + 1;
+          this.wholeBytes = Buffer.byteLength(text) - Buffer.byteLength(line);
+          return;
+        }
         throw new UserError('E_STUDY_CORRUPT', `${this.file}: line ${index + 1}: not valid JSON; the curve log is corrupted`);
       }
       curves.set(record.trial, record.curve);
@@ -50,6 +64,10 @@ export class CurveLog {
   /** Append lines made by {@link CurveLog.lines} and flush them to disk. */
   async append(lines: string): Promise<void> {
     if (lines === '') return;
+    if (this.wholeBytes !== undefined) {
+      await truncate(this.file, this.wholeBytes);
+      this.wholeBytes = undefined;
+    }
     const handle = await open(this.file, 'a');
     try {
       await handle.appendFile(lines);

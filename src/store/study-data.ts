@@ -1,21 +1,47 @@
+import path from 'node:path';
 import { isDeepStrictEqual } from 'node:util';
+import { dataHashes } from '../data/dataset-id.js';
 import { prepareData } from '../data/index.js';
 import type { PreparedData } from '../data/types.js';
 import { UserError } from '../errors.js';
 import type { StudyDocument } from './types.js';
 
+/** The CSV a study definition names, as an absolute path. */
+export function studyCsvPath(doc: Pick<StudyDocument, 'definition' | 'definitionFile'>): string {
+  return path.resolve(path.dirname(doc.definitionFile), doc.definition.data.csv);
+}
+
+export interface StudyDataOptions {
+  /** Go on although the CSV's content hash differs from the recorded one (recorded in `doc.dataChanges`). @default false */
+  allowChangedData?: boolean;
+  /** The command that asked, for the record, e.g. `resume`. */
+  command: string;
+}
+
 /**
- * The study's data prepared again from its CSV, refused unless it gives the preprocessing recipe the
- * study recorded (same columns, categories, scaling and imputation, so the same split and encoding).
- * The one "data unchanged since the study" check: `resume` and `export --retrain` both use it.
+ * The study's data prepared again from its CSV. The one "data unchanged since the study" check:
+ * `resume` and `export --retrain` both use it. A CSV whose content hash differs from the recorded one
+ * is refused unless `allowChangedData` (then the change is recorded in the document); data that no
+ * longer gives the recorded preprocessing recipe is refused always.
  * @throws UserError (E_DATA_CHANGED) naming the CSV and the study file.
  */
-export async function studyData(doc: StudyDocument, studyFile: string): Promise<PreparedData> {
+export async function studyData(doc: StudyDocument, studyFile: string, options: StudyDataOptions): Promise<PreparedData> {
+  const csv = studyCsvPath(doc);
   const { data } = await prepareData(doc.definition.data, doc.definitionFile);
+  const hashes = await dataHashes(csv, data);
+  if (doc.dataHashes && hashes.csv !== doc.dataHashes.csv) {
+    if (!options.allowChangedData) {
+      throw new UserError(
+        'E_DATA_CHANGED',
+        `${csv}: the file changed since the study started (content hash ${hashes.csv.slice(7, 19)}, recorded ${doc.dataHashes.csv.slice(7, 19)} in ${studyFile}); restore it, or pass --allow-changed-data to go on with it (the study file will record that)`,
+      );
+    }
+    (doc.dataChanges ??= []).push({ at: new Date().toISOString(), csv: hashes.csv, command: options.command });
+  }
   if (!isDeepStrictEqual(JSON.parse(JSON.stringify(data.recipe)), doc.recipe)) {
     throw new UserError(
       'E_DATA_CHANGED',
-      `${studyFile}: the CSV ${doc.data.file} no longer gives the preprocessing the study recorded (the file changed since the study ran); restore the original CSV or start a new study`,
+      `${csv}: the data no longer give the preprocessing recorded in ${studyFile} (columns, categories or scaling changed since the study started); restore the original CSV or start a new study`,
     );
   }
   return data;

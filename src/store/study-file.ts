@@ -18,6 +18,8 @@ type StoredDocument = Omit<StudyDocument, 'trials'> & { trials: (Omit<TrialRecor
 export class StudyFileAdapter implements Adapter<StudyDocument> {
   private readonly document: DurableJsonFile<StoredDocument>;
   private readonly curves: CurveLog;
+  /** What reading found that the user should know (a torn curve-log line, a curve shorter than its trial). */
+  notes: string[] = [];
   /** Last curve written per trial: a curve is appended again only when its array or last point changed. */
   private readonly written = new Map<number, { length: number; last: CurvePoint | undefined }>();
 
@@ -32,9 +34,17 @@ export class StudyFileAdapter implements Adapter<StudyDocument> {
     if (!Array.isArray(stored.trials)) return stored as unknown as StudyDocument;
     const curves = stored.curveLog ? await this.curves.read() : new Map<number, CurvePoint[]>();
     const { curveLog: _curveLog, ...rest } = stored;
+    this.notes = [];
+    if (this.curves.tornLine !== undefined) {
+      this.notes.push(`${this.curves.file}: line ${this.curves.tornLine} was cut short (the process stopped while writing it); it is ignored and removed at the next write`);
+    }
     const trials = stored.trials.map((trial) => {
       const curve = curves.get(trial.id) ?? trial.curve ?? [];
       this.written.set(trial.id, { length: curve.length, last: curve.at(-1) });
+      const expected = trial.status === 'diverged' ? trial.epochsTrained : trial.status === 'running' ? 0 : trial.epochsTrained;
+      if (curve.length < expected) {
+        this.notes.push(`${this.curves.file}: trial ${trial.id} has ${curve.length} of its ${expected} epochs recorded (the rest of its curve was lost); its recorded objective stands`);
+      }
       return { ...trial, curve };
     });
     return { ...rest, trials } as StudyDocument;

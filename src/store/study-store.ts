@@ -48,6 +48,8 @@ export class StudyStore {
   private constructor(
     private readonly db: Low<StudyDocument>,
     readonly dir: string,
+    /** What opening the study found that the user should know (one line each), e.g. a torn curve-log line. */
+    readonly notes: readonly string[] = [],
   ) {}
 
   get file(): string {
@@ -75,7 +77,7 @@ export class StudyStore {
       throw new UserError('E_STUDY_FILE', `${file}: no study file here; run \`rungwise run <study.json> --out ${dir}\` first`);
     }
     const db = new Low(adapter, checkShape(data, file));
-    return new StudyStore(db, dir);
+    return new StudyStore(db, dir, adapter.notes);
   }
 
   /** Read a study file without keeping it open for writing. */

@@ -1,3 +1,4 @@
+import type { DataHashes } from '../data/dataset-id.js';
 import type { DataSummary, PreprocessingRecipe } from '../data/types.js';
 import type { ProposalOrigin } from '../samplers/sampler.js';
 import type { EpochReport } from '../transport/types.js';
@@ -83,4 +84,8 @@ export interface StudyDocument {
   updatedAt: string;
   trials: TrialRecord[];
   totals?: StudyTotals;
+  /** Content hashes of the CSV and of the splits when the study started (absent in files from before they were kept). */
+  dataHashes?: DataHashes;
+  /** Each time the study was continued on a CSV that differs from the recorded one, because the user said so. */
+  dataChanges?: { at: string; csv: string; command: string }[];
 }
