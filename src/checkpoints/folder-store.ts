@@ -1,5 +1,5 @@
 import { mkdir, readdir, readFile, rm } from 'node:fs/promises';
-import writeFileAtomic from 'write-file-atomic';
+import { writeFileDurably } from '../files/durable-write.js';
 import { runPaths } from '../store/run-dir.js';
 import type { CheckpointStore } from './store.js';
 
@@ -20,7 +20,7 @@ export class FolderCheckpointStore implements CheckpointStore {
 
   async write(trialId: number, bytes: Uint8Array): Promise<void> {
     await mkdir(runPaths.checkpoints(this.runDir), { recursive: true });
-    await writeFileAtomic(runPaths.checkpoint(this.runDir, trialId), Buffer.from(bytes.buffer, bytes.byteOffset, bytes.byteLength), { fsync: true });
+    await writeFileDurably(runPaths.checkpoint(this.runDir, trialId), bytes);
   }
 
   async delete(trialId: number): Promise<void> {

@@ -1,6 +1,6 @@
 import { existsSync } from 'node:fs';
 import path from 'node:path';
-import writeFileAtomic from 'write-file-atomic';
+import { writeFileDurably } from '../files/durable-write.js';
 import { readCsv } from '../data/csv.js';
 import { encodeFeatures } from '../data/recipe.js';
 import { UserError } from '../errors.js';
@@ -61,7 +61,7 @@ export async function predict(options: PredictCommandOptions): Promise<PredictSu
     model.dispose();
   }
   const predictions = predictionTable(configuration, table, outputs);
-  await writeFileAtomic(output, predictionsCsv(predictions));
+  await writeFileDurably(output, predictionsCsv(predictions));
   return { output, rows: table.rows.length, task: recipe.task, header: predictions.header };
 }
 

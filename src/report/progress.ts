@@ -56,6 +56,9 @@ export function progressObserver(options: ProgressOptions): StudyObserver {
         }
         break;
       }
+      case 'note':
+        process.stderr.write(`note: ${event.message}\n`);
+        break;
       case 'stopping':
         bar?.stop();
         bar = undefined;

@@ -117,9 +117,10 @@ async function drive(store: StudyStore, data: PreparedData, options: ExecuteOpti
   );
   const dataset = toSharedDataset(data, datasetId(data));
   const notes = new Set<string>();
-  const note = (message: string): void => {
-    if (notes.has(message)) return;
-    notes.add(message);
+  /** Say something once per `key` (the message itself unless given). */
+  const note = (message: string, key = message): void => {
+    if (notes.has(key)) return;
+    notes.add(key);
     emit({ type: 'note', message });
   };
   let busySeconds = 0;
@@ -149,7 +150,10 @@ async function drive(store: StudyStore, data: PreparedData, options: ExecuteOpti
     let job = proposed;
     const checkpoint = job.fromEpoch > 0 ? await keeper.at(job.trialId, job.fromEpoch) : undefined;
     if (job.fromEpoch > 0 && !checkpoint) {
-      note(`trial ${job.trialId}: no checkpoint at epoch ${job.fromEpoch}; training it again from epoch 0 (training is deterministic, so the result is the same)`);
+      note(
+        `trial ${job.trialId} has no checkpoint at epoch ${job.fromEpoch}; trials whose checkpoint is missing are trained again from epoch 0 (training is deterministic, so the results are the same)`,
+        'missing checkpoint',
+      );
       job = { ...job, fromEpoch: 0 };
     }
     const record = lifecycle.started(job, checkpoint !== undefined);

@@ -1,5 +1,5 @@
 import { link, readFile, unlink } from 'node:fs/promises';
-import writeFileAtomic from 'write-file-atomic';
+import { writeFileDurably } from '../files/durable-write.js';
 import type { Adapter } from 'lowdb';
 import { UserError } from '../errors.js';
 
@@ -56,7 +56,7 @@ export class DurableJsonFile<T> implements Adapter<T> {
     crashPoint('after-unlink', this.writes);
     await link(this.file, previous).catch(() => undefined);
     crashPoint('after-link', this.writes);
-    await writeFileAtomic(this.file, text, { fsync: true });
+    await writeFileDurably(this.file, text);
   }
 
   private writes = 0;

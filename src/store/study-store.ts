@@ -1,4 +1,4 @@
-import { mkdir } from 'node:fs/promises';
+import { mkdir, stat } from 'node:fs/promises';
 import path from 'node:path';
 import { Low } from 'lowdb';
 import { UserError } from '../errors.js';
@@ -71,6 +71,11 @@ export class StudyStore {
   /** Open an existing study file; a missing, corrupted or foreign file is a {@link UserError}. */
   static async open(dir: string): Promise<StudyStore> {
     const file = studyFilePath(dir);
+    const kind = await stat(dir).then(
+      (found) => (found.isDirectory() ? 'folder' : 'file'),
+      () => 'nothing',
+    );
+    if (kind === 'file') throw new UserError('E_STUDY_FILE', `${dir}: is a file, not a run directory; name the folder that holds study.json`);
     const adapter = new StudyFileAdapter(file);
     const data = await adapter.read();
     if (data === null) {

@@ -1,0 +1,182 @@
+/**
+ * What a study meets besides bad input: a full disk, a curve log cut in the middle of a line, lost
+ * checkpoints, a CSV changed between runs, a run directory that is not a folder. Each ends with the
+ * same result as an uninterrupted run, or stops with one line that says how to go on.
+ */
+import { execFileSync } from 'node:child_process';
+import { appendFile, copyFile, mkdir, mkdtemp, readFile, rm, writeFile } from 'node:fs/promises';
+import { tmpdir } from 'node:os';
+import path from 'node:path';
+import { afterAll, describe, expect, it } from 'vitest';
+import { prepareData } from '../src/data/index.js';
+import { resumeStudy } from '../src/runner/resume-study.js';
+import { loadStudy } from '../src/study/load.js';
+import { runStudy, type StudyOutcome } from '../src/runner/run-study.js';
+import type { StudyEvent } from '../src/runner/events.js';
+import type { StudyDefinitionInput } from '../src/study/definition.js';
+import { StudyStore } from '../src/store/study-store.js';
+import type { StudyDocument } from '../src/store/types.js';
+import { runCli } from './helpers/cli.js';
+import { tinyStudy, writeTinyStudy } from './helpers/studies.js';
+
+const halving: StudyDefinitionInput = tinyStudy({
+  budget: { trials: 12, maxEpochs: 9 },
+  sampler: { kind: 'successive-halving', seed: 2, eta: 3, minEpochs: 1 },
+});
+
+/** Everything about the trials that must not depend on interruptions. */
+const resultOf = (doc: StudyDocument) =>
+  doc.trials
+    .map((t) => ({ id: t.id, status: t.status, epochs: t.epochsTrained, objective: t.objective, curve: t.curve.map(({ seconds: _s, ...p }) => p) }))
+    .sort((a, b) => a.id - b.id);
+
+let reference: StudyOutcome | undefined;
+async function uninterrupted(): Promise<StudyOutcome> {
+  const file = await writeTinyStudy(halving);
+  reference ??= await runStudy(file, { out: path.join(path.dirname(file), 'reference') });
+  return reference;
+}
+
+/** Run the halving study and stop it (as Ctrl-C would) once `jobs` jobs have been saved. */
+async function interruptedAfter(jobs: number): Promise<{ file: string; dir: string }> {
+  const file = await writeTinyStudy(halving);
+  const dir = path.join(path.dirname(file), 'run');
+  const abort = new AbortController();
+  await runStudy(file, {
+    out: dir,
+    signal: abort.signal,
+    onEvent: (event) => {
+      if (event.type === 'trial-finished' && event.progress.jobsDone >= jobs) abort.abort();
+    },
+  });
+  return { file, dir };
+}
+
+/**
+ * Change one digit of one row that is not a training row: the preprocessing (learned from training rows
+ * only) stays the same, so only the content hash can see the edit.
+ */
+async function editOutsideTheTrainingRows(csv: string, definitionFile: string): Promise<void> {
+  const original = await readFile(csv, 'utf8');
+  const { definition } = await loadStudy(definitionFile);
+  const { data: before } = await prepareData(definition.data, definitionFile);
+  const lines = original.split('\n');
+  for (let row = lines.length - 1; row > 0; row--) {
+    if (!/\d/.test(lines[row] ?? '')) continue;
+    const edited = [...lines];
+    edited[row] = lines[row]!.replace(/\d(?=[^\d]*$)/, (d) => String((Number(d) + 1) % 10));
+    await writeFile(csv, edited.join('\n'));
+    const { data: after } = await prepareData(definition.data, definitionFile);
+    if (JSON.stringify(after.recipe) === JSON.stringify(before.recipe)) return;
+  }
+  throw new Error('no row could be edited without changing the preprocessing');
+}
+
+const notesOf = (events: StudyEvent[]): string[] => events.flatMap((e) => (e.type === 'note' ? [e.message] : []));
+
+describe('a curve log cut in the middle of its last line', () => {
+  it('is noted, cut off before the next append, and the resumed study ends as an uninterrupted one', async () => {
+    const { dir } = await interruptedAfter(5);
+    await appendFile(path.join(dir, 'curves.jsonl'), '{"trial":11,"curve":[{"epoch":1,"trainLo');
+    const events: StudyEvent[] = [];
+    const resumed = await resumeStudy(dir, { onEvent: (e) => events.push(e) });
+    expect(notesOf(events)).toEqual([expect.stringMatching(/curves\.jsonl: line \d+ was cut short .* it is ignored and removed at the next write$/)]);
+    expect(resultOf(resumed.doc)).toEqual(resultOf((await uninterrupted()).doc));
+    const lines = (await readFile(path.join(dir, 'curves.jsonl'), 'utf8')).trimEnd().split('\n');
+    for (const line of lines) expect(() => JSON.parse(line)).not.toThrow();
+    const ranking = await runCli(['ranking', dir]);
+    expect(ranking.code).toBe(0);
+    expect((await StudyStore.open(dir)).notes).toEqual([]);
+  });
+});
+
+describe('lost checkpoints', () => {
+  it('are trained again from epoch 0, said once, with the same result as an uninterrupted run', async () => {
+    const { dir } = await interruptedAfter(13);
+    const before = (await StudyStore.read(dir)).trials.filter((t) => t.status === 'paused');
+    expect(before.length).toBeGreaterThan(0);
+    await rm(path.join(dir, 'checkpoints'), { recursive: true, force: true });
+    const events: StudyEvent[] = [];
+    const resumed = await resumeStudy(dir, { onEvent: (e) => events.push(e) });
+    expect(notesOf(events)).toEqual([expect.stringMatching(/has no checkpoint at epoch \d+; trials whose checkpoint is missing are trained again from epoch 0/)]);
+    expect(resultOf(resumed.doc)).toEqual(resultOf((await uninterrupted()).doc));
+    expect(resumed.doc.trials.filter((t) => t.status === 'failed')).toEqual([]);
+    const retrained = resumed.doc.trials.filter((t) => t.jobs.some((j) => j.rung > 0 && !j.fromCheckpoint));
+    expect(retrained.map((t) => t.id).sort()).toEqual(expect.arrayContaining(before.map((t) => t.id).filter((id) => retrained.some((r) => r.id === id))));
+    expect(retrained.length).toBeGreaterThan(0);
+  });
+});
+
+describe('a CSV changed between runs', () => {
+  it('is refused on resume with one line naming it, unless told; going on is recorded in the study file', async () => {
+    const { file, dir } = await interruptedAfter(4);
+    const csv = path.join(path.dirname(file), 'tiny.csv');
+    await editOutsideTheTrainingRows(csv, file);
+    const refused = await runCli(['resume', dir]);
+    expect(refused.code).toBe(2);
+    expect(refused.stderr.trim().split('\n')).toEqual([expect.stringMatching(new RegExp(`^error: ${csv.replace(/[.*+?^${}()|[\]\\]/g, '\\$&')}: the file changed since the study started .*--allow-changed-data`))]);
+    const resumed = await resumeStudy(dir, { allowChangedData: true });
+    expect(resumed.doc.dataChanges).toEqual([expect.objectContaining({ command: 'resume', csv: expect.stringMatching(/^sha256:/) })]);
+    expect((await StudyStore.read(dir)).dataChanges).toHaveLength(1);
+  });
+});
+
+describe('a run directory that is not a folder', () => {
+  it('gets one line naming it and the cause', async () => {
+    const root = await mkdtemp(path.join(tmpdir(), 'rungwise-notdir-'));
+    const file = path.join(root, 'plain-file');
+    await writeFile(file, 'not a study');
+    const result = await runCli(['resume', file]);
+    expect(result.code).not.toBe(0);
+    expect(result.stderr.trim().split('\n')).toHaveLength(1);
+    expect(result.stderr).toContain(file);
+    expect(result.stderr).not.toMatch(/internal error|ENOTDIR .*study\.owner\.json/);
+  });
+});
+
+/** A real small file system where this machine allows mounting one (root with the right to mount). */
+function mountTmpfs(dir: string, size: string): boolean {
+  try {
+    execFileSync('mount', ['-t', 'tmpfs', '-o', `size=${size}`, 'tmpfs', dir], { stdio: 'ignore' });
+    return true;
+  } catch {
+    return false;
+  }
+}
+
+describe('a full disk', () => {
+  const mountPoint = path.join(tmpdir(), `rungwise-full-disk-${process.pid}`);
+  let mounted = false;
+  afterAll(() => {
+    if (mounted) execFileSync('umount', [mountPoint], { stdio: 'ignore' });
+  });
+
+  it('stops the study with one line and the resume command, fails no trial, and a resume after freeing space ends as an uninterrupted run', async (context) => {
+    await mkdir(mountPoint, { recursive: true });
+    mounted = mountTmpfs(mountPoint, '32k');
+    if (!mounted) context.skip('this machine does not allow mounting a small tmpfs (needs root with mount rights)');
+    const file = await writeTinyStudy(halving);
+    const dir = path.join(mountPoint, 'run');
+    const stopped = await runCli(['run', file, '--out', dir]);
+    expect(stopped.code).toBe(1);
+    const errors = stopped.stderr.split('\n').filter((line) => line.startsWith('error:'));
+    expect(errors).toEqual([`error: ${dir}: no space left on the device (ENOSPC); the study stopped and every trial saved so far is kept; fix that, then continue it with: rungwise resume ${dir}`]);
+    const saved = await StudyStore.read(dir);
+    expect(saved.trials.filter((t) => t.status === 'failed')).toEqual([]);
+    // Free space: the same folder on a file system with room.
+    execFileSync('mount', ['-o', 'remount,size=8m', mountPoint]);
+    const resumed = await runCli(['resume', dir]);
+    expect(resumed.code).toBe(0);
+    expect(resultOf(await StudyStore.read(dir))).toEqual(resultOf((await uninterrupted()).doc));
+  });
+});
+
+describe('copies', () => {
+  it('a study copied elsewhere still resumes (paths are kept relative to the definition)', async () => {
+    const { file, dir } = await interruptedAfter(3);
+    const elsewhere = await mkdtemp(path.join(tmpdir(), 'rungwise-copied-'));
+    await copyFile(file, path.join(elsewhere, 'unused.json'));
+    const resumed = await resumeStudy(dir);
+    expect(resumed.doc.state).toBe('finished');
+  });
+});
