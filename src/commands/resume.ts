@@ -3,6 +3,7 @@ import { rankingTable } from '../report/ranking-table.js';
 import { studySummary } from '../report/summary.js';
 import { resumeStudy, type ResumeOutcome } from '../runner/resume-study.js';
 import { StudyStore } from '../store/study-store.js';
+import { noResultError } from '../study/trial-status.js';
 
 export interface ResumeCommandOptions {
   dir: string;
@@ -27,5 +28,7 @@ export async function resume(options: ResumeCommandOptions): Promise<ResumeOutco
   }
   stdout.write(`\n${rankingTable(outcome.ranking.slice(0, options.top ?? 10), objective)}\n\n`);
   stdout.write(`${studySummary(outcome.doc, outcome.file)}\n`);
+  const noResult = outcome.doc.state === 'finished' ? noResultError(outcome.doc.trials, outcome.file) : undefined;
+  if (noResult) throw noResult;
   return outcome;
 }

@@ -4,6 +4,7 @@ import { runStudy, type StudyOutcome } from '../runner/run-study.js';
 import { loadStudy } from '../study/load.js';
 import { resolveObjective } from '../study/definition.js';
 import { studySummary } from '../report/summary.js';
+import { noResultError } from '../study/trial-status.js';
 
 export interface RunCommandOptions {
   definition: string;
@@ -31,5 +32,7 @@ export async function run(options: RunCommandOptions): Promise<StudyOutcome> {
   });
   stdout.write(`\n${rankingTable(outcome.ranking.slice(0, options.top ?? 10), objective)}\n\n`);
   stdout.write(`${studySummary(outcome.doc, outcome.file)}\n`);
+  const noResult = outcome.doc.state === 'finished' ? noResultError(outcome.doc.trials, outcome.file) : undefined;
+  if (noResult) throw noResult;
   return outcome;
 }

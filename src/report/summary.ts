@@ -1,4 +1,5 @@
 import type { StudyDocument } from '../store/types.js';
+import { unsuccessfulTrials } from '../study/trial-status.js';
 import { OPTIMISM_CAUTION } from './caution.js';
 import { formatDuration, formatNumber } from './format.js';
 
@@ -16,5 +17,9 @@ export function studySummary(doc: StudyDocument, file = ''): string {
   }
   if (file) lines.push(`study file: ${file}`);
   lines.push(OPTIMISM_CAUTION);
+  const failed = unsuccessfulTrials(doc.trials);
+  if (failed.first) {
+    lines.push(`${failed.count} of ${doc.trials.length} trials ended without a score (failed, diverged or timed out); the first: trial ${failed.first.id}: ${failed.first.reason}`);
+  }
   return lines.join('\n');
 }
