@@ -142,7 +142,7 @@ export async function storeGroup(options: BenchOptions): Promise<GroupResult> {
       },
     ],
     notes: [
-      'save() appends the changed curves to curves.jsonl (fsync) and rewrites study.json without curves (write-file-atomic with fsync, old version hard-linked to study.json.prev).',
+      'save() appends the changed curves to curves.jsonl (fsync) and rewrites study.json without curves (a durable temporary-file write and rename, old version hard-linked to study.json.prev).',
       'What still grows is the rewrite of study.json, which holds every trial record (about 400 bytes each without its curve).',
     ],
     data: rows,
