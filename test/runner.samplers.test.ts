@@ -7,6 +7,7 @@ import { readdir } from 'node:fs/promises';
 import path from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { runStudy, type StudyOutcome } from '../src/runner/run-study.js';
+import type { StudyEvent } from '../src/runner/events.js';
 import { SAMPLER_PLUGINS } from '../src/samplers/index.js';
 import type { StudyDefinitionInput, TrialParams } from '../src/study/definition.js';
 import { ClosedFormTransport } from '../src/transport/closed-form.js';
@@ -22,7 +23,11 @@ function figures(params: TrialParams, epoch: number, divergeLate: boolean) {
   return { validationLoss: loss, metrics: { auc: 1 / (1 + loss) } };
 }
 
-async function run(kind: string, capacity: number, options: { divergeLate?: boolean; trials?: number } = {}): Promise<StudyOutcome> {
+async function run(
+  kind: string,
+  capacity: number,
+  options: { divergeLate?: boolean; trials?: number; millisecondsPerEpoch?: number; onEvent?: (event: StudyEvent) => void } = {},
+): Promise<StudyOutcome> {
   const definition: StudyDefinitionInput = tinyStudy({
     budget: { trials: options.trials ?? 18, maxEpochs: 27 },
     sampler: { kind, seed: 4 } as StudyDefinitionInput['sampler'],
@@ -31,7 +36,9 @@ async function run(kind: string, capacity: number, options: { divergeLate?: bool
   const file = await writeTinyStudy(definition);
   return runStudy(file, {
     out: path.join(path.dirname(file), `run-${capacity}`),
-    transport: () => new ClosedFormTransport({ capacity, evaluate: (params, epoch) => figures(params, epoch, options.divergeLate ?? false) }),
+    ...(options.onEvent ? { onEvent: options.onEvent } : {}),
+    transport: () =>
+      new ClosedFormTransport({ capacity, millisecondsPerEpoch: options.millisecondsPerEpoch ?? 0, evaluate: (params, epoch) => figures(params, epoch, options.divergeLate ?? false) }),
   });
 }
 
@@ -55,6 +62,23 @@ describe.each(SAMPLER_PLUGINS.map((plugin) => [plugin.kind]))('run loop with %s'
     const best = Math.max(...doc.trials.filter((t) => t.epochsTrained === most).map((t) => t.objective ?? -Infinity));
     expect(ranking[0]!.trial.epochsTrained).toBe(most);
     expect(ranking[0]!.trial.objective).toBe(best);
+  });
+
+  it('announces a leader that never gets worse under the one ordering (more epochs, then a better objective)', async () => {
+    const leaders: { epochs: number; objective: number }[] = [];
+    // Epochs take time here, so continuations are still running when other outcomes are announced.
+    await run(kind, 3, {
+      millisecondsPerEpoch: 2,
+      onEvent: (event) => {
+        if (event.type === 'trial-finished' && event.best) leaders.push({ epochs: event.best.epochsTrained, objective: event.best.objective! });
+      },
+    });
+    expect(leaders.length).toBeGreaterThan(0);
+    leaders.slice(1).forEach((leader, i) => {
+      const before = leaders[i]!;
+      const notWorse = leader.epochs > before.epochs || (leader.epochs === before.epochs && leader.objective >= before.objective);
+      expect({ before, leader, notWorse }).toEqual({ before, leader, notWorse: true });
+    });
   });
 
   it('keeps exactly the checkpoints of the best three, even when trials above them diverge later', async () => {

@@ -62,17 +62,25 @@ describe('ranking', () => {
     expect(ids(ranked)).toEqual([3, 1, 0, 2]);
   });
 
-  it('leaves out diverged, failed, timed-out and running trials', () => {
+  it('leaves out diverged, failed, timed-out trials and running ones not scored yet', () => {
     const ranked = rankTrials(
       [
         trial(0, 0.5),
         trial(1, null, { status: 'diverged' }),
         trial(2, null, { status: 'failed' }),
         trial(3, null, { status: 'timed-out' }),
-        trial(4, 0.99, { status: 'running' }),
+        trial(4, null, { status: 'running', epochsTrained: 0 }),
       ],
       { metric: 'accuracy', direction: 'maximize' },
     );
     expect(ids(ranked)).toEqual([0]);
+  });
+
+  it('keeps a trial being continued at the point it was last scored, so the leader does not drop out while its next rung trains', () => {
+    const ranked = rankTrials(
+      [trial(0, 0.8, { epochsTrained: 9, status: 'stopped' }), trial(1, 0.85, { epochsTrained: 9, status: 'running' })],
+      { metric: 'accuracy', direction: 'maximize' },
+    );
+    expect(ids(ranked)).toEqual([1, 0]);
   });
 });

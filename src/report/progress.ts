@@ -14,7 +14,8 @@ function describeTrial(event: Extract<StudyEvent, { type: 'trial-finished' }>, m
   const score = trial.objective === null ? '' : ` ${metric}=${formatNumber(trial.objective)}`;
   const what = trial.status === 'paused' ? `rung ${job.rung} done` : trial.status;
   const why = trial.divergence ? ` (${trial.divergence.reason})` : trial.error ? ` (${trial.error})` : '';
-  return `trial ${trial.id} ${what} at epoch ${trial.epochsTrained}${score}${why}`;
+  const epoch = trial.divergence ? trial.divergence.epoch : trial.epochsTrained;
+  return `trial ${trial.id} ${what} at epoch ${epoch}${score}${why}`;
 }
 
 /** A study observer that shows progress: trials done of planned, best objective so far, elapsed and remaining time. */

@@ -187,7 +187,8 @@ async function drive(store: StudyStore, data: PreparedData, options: ExecuteOpti
             keeper.put(job.trialId, result.checkpoint);
             persistence.checkpointed(job.trialId);
           }
-          persistence.queue({ record: lifecycle.succeeded(job, result), job });
+          // A copy: by the time the save lands and the outcome is announced, the trial may be running again.
+          persistence.queue({ record: { ...lifecycle.succeeded(job, result) }, job });
         },
         (error: unknown) => {
           const failure: JobFailure = cutOff.signal.aborted
@@ -197,7 +198,7 @@ async function drive(store: StudyStore, data: PreparedData, options: ExecuteOpti
               : { kind: 'error', message: error instanceof Error ? error.message : String(error) };
           const next = lifecycle.failed(job, failure);
           if (next === 'retry') return startJob(job); // the same job again, from the same checkpoint
-          if (next === 'ended') persistence.queue({ record: lifecycle.record(job.trialId), job });
+          if (next === 'ended') persistence.queue({ record: { ...lifecycle.record(job.trialId) }, job });
           return undefined;
         },
       )

@@ -54,7 +54,7 @@ export interface RankedTrial {
   trial: ScoredTrial;
 }
 
-/** Ranked trials (completed, stopped, or paused at the end of a rung, with a finite score), best first. */
+/** Ranked trials (completed, stopped, paused, or running past a scored rung; with a finite score), best first. */
 export function rankTrials(trials: readonly TrialRecord[], objective: Objective): RankedTrial[] {
   return trials
     .filter((t): t is ScoredTrial => isRanked(t.status) && isScored(t))

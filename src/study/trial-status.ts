@@ -7,8 +7,12 @@ import type { TrialRecord, TrialStatus } from '../store/types.js';
 
 /** Statuses from which no job will continue the trial. */
 export const ENDED_STATUSES: readonly TrialStatus[] = ['completed', 'stopped', 'diverged', 'failed', 'timed-out'];
-/** Statuses of trials that trained to the end of a rung: they are ranked. */
-export const RANKED_STATUSES: readonly TrialStatus[] = ['completed', 'stopped', 'paused'];
+/**
+ * Statuses of trials that are ranked, at the last point they were scored: those that trained to the
+ * end of a rung, and those being continued past it (so a leader does not drop out of the ranking while
+ * its next rung trains).
+ */
+export const RANKED_STATUSES: readonly TrialStatus[] = ['completed', 'stopped', 'paused', 'running'];
 /** Statuses of trials that ended without a usable score. */
 export const UNSUCCESSFUL_STATUSES: readonly TrialStatus[] = ['diverged', 'failed', 'timed-out'];
 

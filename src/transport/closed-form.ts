@@ -14,6 +14,8 @@ export interface ClosedFormTransportOptions {
   evaluate(params: TrialParams, epoch: number, trialId: number): ClosedFormEpoch;
   /** Jobs that may run at once. @default 1 */
   capacity?: number;
+  /** Wall time each epoch takes, so that jobs overlap as they do in training. @default 0 */
+  millisecondsPerEpoch?: number;
 }
 
 /**
@@ -32,7 +34,8 @@ export class ClosedFormTransport implements TrialTransport {
   async addDataset(_dataset: SharedDataset): Promise<void> {}
 
   async run(job: TrainJob, onEpoch: (report: EpochReport) => void, signal: AbortSignal): Promise<TrainResult> {
-    await new Promise<void>((resolve) => setImmediate(resolve));
+    const wait = (this.options.millisecondsPerEpoch ?? 0) * (job.toEpoch - job.fromEpoch);
+    await new Promise<void>((resolve) => (wait > 0 ? setTimeout(resolve, wait) : setImmediate(resolve)));
     if (signal.aborted) throw new Error(`trial ${job.trialId}: stopped`);
     if (job.fromEpoch > 0) {
       if (!job.checkpoint) throw new Error(`trial ${job.trialId}: fromEpoch is ${job.fromEpoch} but no checkpoint was given`);
