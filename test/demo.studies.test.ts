@@ -10,6 +10,7 @@ const STUDY_FILES = [
   'studies/demo/study.json',
   'studies/demo/study-halving.json',
   'studies/demo/study-hyperband.json',
+  'studies/demo/study-async-halving.json',
   'studies/tiny/study.json',
   'studies/tiny/study-regression.json',
   'studies/tiny/study-multiclass.json',
