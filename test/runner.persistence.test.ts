@@ -8,23 +8,10 @@ import { BatchedPersistence } from '../src/runner/persistence.js';
 import type { Sampler } from '../src/samplers/sampler.js';
 import { StudyStore } from '../src/store/study-store.js';
 import type { StudyDocument, TrialRecord, TrialStatus } from '../src/store/types.js';
+import { trialRecord } from './helpers/trials.js';
 
 function trial(id: number, status: TrialStatus, objective: number | null): TrialRecord {
-  return {
-    id,
-    params: { depth: 1, width: 8, activation: 'relu', learningRate: 0.01, batchSize: 32, optimizer: 'adam', l2: 0, dropout: 0 },
-    seed: id,
-    status,
-    rung: 2,
-    bracket: 0,
-    epochsTrained: 9,
-    curve: [],
-    objective,
-    rungObjectives: [objective],
-    workerSeconds: 1,
-    retries: 0,
-    jobs: [],
-  };
+  return trialRecord(id, objective, { status, rung: 2, epochsTrained: 9 });
 }
 
 async function setUp(trials: TrialRecord[], continuing: Set<number>) {

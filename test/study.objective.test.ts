@@ -1,25 +1,8 @@
 import { describe, expect, it } from 'vitest';
 import { rankTrials } from '../src/study/objective.js';
-import type { TrialRecord } from '../src/store/types.js';
+import { trialRecord } from './helpers/trials.js';
 
-function trial(id: number, objective: number | null, extra: Partial<TrialRecord> = {}): TrialRecord {
-  return {
-    id,
-    params: { depth: 1, width: 8, activation: 'relu', learningRate: 0.01, batchSize: 32, optimizer: 'adam', l2: 0, dropout: 0 },
-    seed: id,
-    status: 'completed',
-    rung: 0,
-    bracket: 0,
-    epochsTrained: 10,
-    curve: [],
-    objective,
-    rungObjectives: [objective],
-    workerSeconds: 1,
-    retries: 0,
-    jobs: [],
-    ...extra,
-  };
-}
+const trial = trialRecord;
 
 const ids = (ranked: ReturnType<typeof rankTrials>): number[] => ranked.map((r) => r.trial.id);
 
