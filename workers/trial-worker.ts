@@ -4,14 +4,12 @@
  */
 import { threadId } from 'node:worker_threads';
 import type { TrainRequest, TrainResult } from '../src/pool/messages.js';
-import { initBackend } from '../src/train/backend.js';
-import { trainSegment } from '../src/train/loop.js';
+import { runTrainRequest } from '../src/train/run-request.js';
 
 export default async function trialWorker(request: TrainRequest): Promise<TrainResult> {
   // Test-only faults, checked before any work so their effect does not depend on timing.
   if (request.fault === 'throw') throw new Error(`injected fault: trial ${request.trialId} throws`);
   if (request.fault === 'hang') await new Promise<never>(() => {}); // never settles; no timer, no busy loop
   if (request.fault === 'exit') process.exit(1); // in a worker thread this ends the thread only
-  await initBackend();
-  return { ...(await trainSegment(request)), ranOn: `thread ${threadId}` };
+  return { ...(await runTrainRequest(request)), ranOn: `thread ${threadId}` };
 }

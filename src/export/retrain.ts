@@ -1,6 +1,6 @@
 /**
  * `export --retrain`: trains a chosen configuration afresh on the training and validation rows
- * together, in the calling thread, for the epochs the study gave it.
+ * together, in the calling thread, for the epochs the study gave it, on the training engine (as trials train).
  */
 import type { PreparedData, SplitArrays } from '../data/types.js';
 import { toSharedDataset } from '../data/prepare.js';
@@ -10,7 +10,7 @@ import type { TrialRecord } from '../store/types.js';
 import { initBackend } from '../train/backend.js';
 import { checkpointWeights, type NamedWeights } from '../checkpoints/format.js';
 import { releaseDatasets } from '../train/data-cache.js';
-import { trainSegment } from '../train/loop.js';
+import { runTrainRequest } from '../train/run-request.js';
 
 function concatenate(a: SplitArrays, b: SplitArrays): { rows: number; x: Float32Array; y: Float32Array } {
   const x = new Float32Array(a.x.length + b.x.length);
@@ -41,7 +41,7 @@ export async function retrainTrial(data: PreparedData, trial: TrialRecord): Prom
   await initBackend();
   const dataset = retrainDataset(data, trial.id);
   try {
-    const result = await trainSegment({
+    const result = await runTrainRequest({
       trialId: trial.id,
       seed: trial.seed,
       params: trial.params,

@@ -9,6 +9,12 @@ import type { EpochReport, SharedDataset, TrainJob, TrainResult } from '../trans
 
 export type { EpochReport, SharedDataset, TrainJob, TrainResult };
 
+/**
+ * What trains a request: the fused WebAssembly engine (src/engine/, the default) or the tfjs
+ * reference path (src/train/loop.ts).
+ */
+export type TrainerName = 'engine' | 'tfjs';
+
 /** Test-only fault injection: make this request throw, hang or end its thread. */
 export type FaultKind = 'throw' | 'hang' | 'exit';
 
@@ -17,5 +23,7 @@ export interface TrainRequest extends TrainJob {
   dataset: SharedDataset;
   /** Where epoch reports are posted as they happen. */
   progressPort?: MessagePort;
+  /** Default 'engine'. */
+  trainer?: TrainerName;
   fault?: FaultKind;
 }

@@ -18,7 +18,8 @@ export { checkpointWeights, decodeCheckpoint, type NamedWeights } from '../check
  * float32 bits from the running product; saving them keeps a resumed trial bit-exact.
  */
 const ADAM_POWERS = ['accBeta1', 'accBeta2'] as const;
-const adamPowerName = (field: string): string => `adam/${field}`;
+/** The checkpoint name of Adam's running power of beta1 ('accBeta1') or beta2 ('accBeta2'). */
+export const adamPowerName = (field: (typeof ADAM_POWERS)[number]): string => `adam/${field}`;
 
 /** An optimizer weight as tfjs's getWeights()/setWeights() exchange it. */
 interface NamedTensor {
@@ -69,16 +70,15 @@ export async function checkpointBytes(
 }
 
 /**
- * Loads network and optimizer state from checkpoint bytes into a freshly built network and a fresh optimizer
- * (one that has taken no step yet). The checkpoint must belong to `trialId` and stand at `epoch`.
+ * Throws unless the checkpoint belongs to the expected trial, epoch and optimizer and its network
+ * variables have the names and shapes of `variables`, in order.
  */
-export async function restoreCheckpoint(
-  bytes: Uint8Array,
+export function checkCheckpoint(
+  manifest: CheckpointManifest,
+  network: readonly NamedWeights[],
   expected: { trialId: number; epoch: number; optimizer: OptimizerName },
-  variables: tf.Variable[],
-  optimizer: tf.Optimizer,
-): Promise<void> {
-  const { manifest, network, optimizer: slots } = decodeCheckpoint(bytes);
+  variables: readonly { name: string; shape: readonly number[] }[],
+): void {
   const where = `checkpoint of trial ${expected.trialId}`;
   if (manifest.trialId !== expected.trialId || manifest.epoch !== expected.epoch || manifest.optimizer.name !== expected.optimizer) {
     throw new Error(
@@ -92,8 +92,22 @@ export async function restoreCheckpoint(
     if (stored.name !== variable.name || stored.shape.join('x') !== variable.shape.join('x')) {
       throw new Error(`${where}: variable ${i} is ${stored.name} [${stored.shape}], the network has ${variable.name} [${variable.shape}]`);
     }
-    tf.tidy(() => variable.assign(tf.tensor(stored.values, stored.shape)));
   });
+}
+
+/**
+ * Loads network and optimizer state from checkpoint bytes into a freshly built network and a fresh optimizer
+ * (one that has taken no step yet). The checkpoint must belong to `trialId` and stand at `epoch`.
+ */
+export async function restoreCheckpoint(
+  bytes: Uint8Array,
+  expected: { trialId: number; epoch: number; optimizer: OptimizerName },
+  variables: tf.Variable[],
+  optimizer: tf.Optimizer,
+): Promise<void> {
+  const { manifest, network, optimizer: slots } = decodeCheckpoint(bytes);
+  checkCheckpoint(manifest, network, expected, variables);
+  variables.forEach((variable, i) => tf.tidy(() => variable.assign(tf.tensor(network[i]!.values, network[i]!.shape))));
 
   const powerNames = new Set(ADAM_POWERS.map(adamPowerName));
   const created: tf.Tensor[] = [tf.scalar(manifest.optimizer.iterations, 'int32')];

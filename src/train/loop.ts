@@ -5,14 +5,11 @@ import { permutation, stream } from '../random/streams.js';
 import { ConstantCachingAdam } from './adam.js';
 import { checkpointBytes, restoreCheckpoint } from './checkpoint.js';
 import { datasetTensors, type DatasetTensors } from './data-cache.js';
-import { divergenceReason } from './divergence.js';
-import { computeMetrics } from './metrics.js';
+import { runEpochs } from './epochs.js';
+import { ADAM, MOMENTUM } from './optimizer-constants.js';
 import { createNetwork, disposeNetwork, forward, l2Penalty, lossFromLogits, networkSpec, outputFromLogits, type Network } from './network.js';
 
-/** Momentum of the 'momentum' optimizer (the study definition fixes it). */
-export const MOMENTUM = 0.9;
-/** Source: Kingma, Ba, "Adam: A Method for Stochastic Optimization", ICLR 2015, Algorithm 1 (defaults). */
-export const ADAM = { beta1: 0.9, beta2: 0.999, epsilon: 1e-8 } as const;
+export { ADAM, MOMENTUM } from './optimizer-constants.js';
 
 export function createOptimizer(name: OptimizerName, learningRate: number): tf.Optimizer {
   if (name === 'sgd') return tf.train.sgd(learningRate);
@@ -116,7 +113,7 @@ export async function trainSegment(request: TrainRequest, onEpoch?: (report: Epo
   const { dataset, params } = request;
   const data = datasetTensors(dataset);
   const tensorsBefore = tf.memory().numTensors;
-  const epochs: EpochReport[] = [];
+  let epochs: EpochReport[] = [];
   let divergence: TrainResult['divergence'];
   let checkpoint: Uint8Array | undefined;
 
@@ -128,27 +125,7 @@ export async function trainSegment(request: TrainRequest, onEpoch?: (report: Epo
       const expected = { trialId: request.trialId, epoch: request.fromEpoch, optimizer: params.optimizer };
       await restoreCheckpoint(request.checkpoint, expected, network.variables, optimizer);
     }
-    for (let epoch = request.fromEpoch + 1; epoch <= request.toEpoch; epoch++) {
-      const epochStarted = performance.now();
-      const trainLoss = trainEpoch(request, network, optimizer, data, epoch);
-      const validation = Number.isFinite(trainLoss) ? validate(request, network, data) : { loss: NaN, outputs: new Float32Array(0) };
-      const reason = divergenceReason(epoch, trainLoss, validation.loss, dataset.task, dataset.outputCount);
-      if (reason) {
-        divergence = { epoch, reason };
-        break;
-      }
-      const report: EpochReport = {
-        trialId: request.trialId,
-        epoch,
-        trainLoss,
-        validationLoss: validation.loss,
-        metrics: computeMetrics(dataset.task, dataset.validation.y, validation.outputs, dataset.outputCount, dataset.targetScaling),
-        seconds: seconds(epochStarted),
-      };
-      epochs.push(report);
-      onEpoch?.(report);
-      request.progressPort?.postMessage(report);
-    }
+    ({ epochs, divergence } = runEpochs(request, { trainEpoch: (epoch) => trainEpoch(request, network, optimizer, data, epoch), validate: () => validate(request, network, data) }, onEpoch));
     if (!divergence) checkpoint = await checkpointBytes({ trialId: request.trialId, epoch: request.toEpoch, params }, network.variables, optimizer);
   } finally {
     disposeOptimizer(optimizer);

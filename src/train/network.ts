@@ -1,9 +1,9 @@
 import * as tf from '@tensorflow/tfjs';
 import type { Activation, Task, TrialParams } from '../study/definition.js';
 import { stream, type Rng } from '../random/streams.js';
+import { initialKernel, initRuleFor, layerPrefix, type InitRule } from './initial-weights.js';
 
-/** How a layer's initial kernel is drawn. Biases always start at zero. */
-export type InitRule = 'heNormal' | 'lecunNormal' | 'glorotUniform';
+export { initialKernel, initRuleFor, type InitRule } from './initial-weights.js';
 
 /** The shape of a trial's network. */
 export interface NetworkSpec {
@@ -32,41 +32,6 @@ export interface Network {
 /** Slope of leakyRelu below zero (the tfjs layers default, fixed by the study definition). */
 export const LEAKY_RELU_SLOPE = 0.2;
 
-/**
- * Initialisation per activation.
- * Source: He, Zhang, Ren, Sun, "Delving Deep into Rectifiers", ICCV 2015, section 2.2 (std sqrt(2/fan_in));
- * Klambauer et al., "Self-Normalizing Neural Networks", NeurIPS 2017 (LeCun normal for selu);
- * Glorot, Bengio, "Understanding the difficulty of training deep feedforward neural networks", AISTATS 2010.
- */
-export function initRuleFor(activation: Activation): InitRule {
-  if (activation === 'selu') return 'lecunNormal';
-  if (activation === 'tanh' || activation === 'sigmoid') return 'glorotUniform';
-  return 'heNormal';
-}
-
-/** One standard normal draw by Box-Muller (the cosine branch only, so each draw uses exactly two uniforms). */
-function standardNormal(rng: Rng): number {
-  const u1 = 1 - rng(); // in (0, 1]: keeps log finite
-  const u2 = rng();
-  return Math.sqrt(-2 * Math.log(u1)) * Math.cos(2 * Math.PI * u2);
-}
-
-/**
- * Row-major fanIn x fanOut kernel values. Normals are untruncated (a draw beyond two standard
- * deviations is kept, unlike the truncated variants some libraries use).
- */
-export function initialKernel(rule: InitRule, fanIn: number, fanOut: number, rng: Rng): Float32Array {
-  const values = new Float32Array(fanIn * fanOut);
-  if (rule === 'glorotUniform') {
-    const limit = Math.sqrt(6 / (fanIn + fanOut));
-    for (let i = 0; i < values.length; i++) values[i] = (2 * rng() - 1) * limit;
-    return values;
-  }
-  const std = Math.sqrt((rule === 'heNormal' ? 2 : 1) / fanIn);
-  for (let i = 0; i < values.length; i++) values[i] = std * standardNormal(rng);
-  return values;
-}
-
 function denseLayer(prefix: string, fanIn: number, fanOut: number, rule: InitRule, rng: Rng): DenseLayer {
   const kernel = tf.tidy(() =>
     tf.variable(tf.tensor2d(initialKernel(rule, fanIn, fanOut, rng), [fanIn, fanOut]), true, `${prefix}/kernel`),
@@ -80,10 +45,10 @@ export function createNetwork(spec: NetworkSpec): Network {
   const hidden: DenseLayer[] = [];
   let fanIn = spec.inputCount;
   for (let i = 0; i < spec.depth; i++) {
-    hidden.push(denseLayer(`t${spec.trialId}/dense${i}`, fanIn, spec.width, initRuleFor(spec.activation), stream(spec.seed, 'init', i)));
+    hidden.push(denseLayer(layerPrefix(spec.trialId, i, spec.depth), fanIn, spec.width, initRuleFor(spec.activation), stream(spec.seed, 'init', i)));
     fanIn = spec.width;
   }
-  const output = denseLayer(`t${spec.trialId}/output`, fanIn, spec.outputCount, 'glorotUniform', stream(spec.seed, 'init', spec.depth));
+  const output = denseLayer(layerPrefix(spec.trialId, spec.depth, spec.depth), fanIn, spec.outputCount, 'glorotUniform', stream(spec.seed, 'init', spec.depth));
   const variables = [...hidden, output].flatMap((layer) => [layer.kernel, layer.bias]);
   return { spec, hidden, output, variables };
 }

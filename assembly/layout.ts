@@ -1,0 +1,75 @@
+// The trial descriptor: 32-bit words at `net` that JavaScript writes once per trial
+// (src/engine/layout.ts holds the same offsets). Pointers are byte addresses in this memory.
+
+export const DEPTH = 0;
+export const ACTIVATION = 1;
+export const TASK = 2;
+export const OPTIMIZER = 3;
+export const OUTPUTS = 4;
+export const DROPOUT = 5;
+export const UPDATE = 6;
+export const L2 = 7;
+export const TRAIN_X = 8;
+export const TRAIN_Y = 9;
+export const ORDER = 10;
+export const BATCH_X = 11;
+export const BATCH_Y = 12;
+export const SCRATCH = 13;
+
+// float32 words
+export const NEGATIVE_LEARNING_RATE = 16;
+export const TWICE_L2 = 17;
+export const MOMENTUM_FACTOR = 18;
+export const BETA1 = 19;
+export const ONE_MINUS_BETA1 = 20;
+export const BETA2 = 21;
+export const ONE_MINUS_BETA2 = 22;
+export const EPSILON = 23;
+export const POWER1 = 24;
+export const POWER2 = 25;
+
+// one record of LAYER_WORDS words per dense layer from word LAYERS on, the output layer last
+export const LAYERS = 32;
+export const LAYER_WORDS = 20;
+export const FAN_IN = 0;
+export const FAN_OUT = 1;
+export const IN_STRIDE = 2;
+export const OUT_STRIDE = 3;
+export const KERNEL = 4;
+export const BIAS = 5;
+export const KERNEL_GRADIENT = 6;
+export const BIAS_GRADIENT = 7;
+export const KERNEL_SLOT1 = 8;
+export const BIAS_SLOT1 = 9;
+export const KERNEL_SLOT2 = 10;
+export const BIAS_SLOT2 = 11;
+export const PRE_ACTIVATION = 12;
+export const ACTIVATED = 13;
+export const OUTPUT = 14;
+export const MASK = 15;
+export const DELTA = 16;
+
+// @ts-ignore: decorator
+@inline export function word(net: usize, index: i32): i32 {
+  return load<i32>(net + (<usize>index << 2));
+}
+
+// @ts-ignore: decorator
+@inline export function pointer(net: usize, index: i32): usize {
+  return <usize>load<i32>(net + (<usize>index << 2));
+}
+
+// @ts-ignore: decorator
+@inline export function constant(net: usize, index: i32): f32 {
+  return load<f32>(net + (<usize>index << 2));
+}
+
+// @ts-ignore: decorator
+@inline export function setConstant(net: usize, index: i32, value: f32): void {
+  store<f32>(net + (<usize>index << 2), value);
+}
+
+// @ts-ignore: decorator
+@inline export function layerField(net: usize, layer: i32, field: i32): i32 {
+  return load<i32>(net + (<usize>(LAYERS + layer * LAYER_WORDS + field) << 2));
+}

@@ -1,0 +1,68 @@
+/**
+ * The trial descriptor the engine reads: 32-bit words, the same offsets as assembly/layout.ts.
+ * A trial is laid out once: descriptor, shuffle order, batch buffers, then per dense layer its
+ * kernel, bias, gradients, optimizer slots and activation buffers, every buffer 16-byte aligned
+ * and every row padded to whole SIMD lanes (padding stays zero).
+ */
+export const WORD = {
+  depth: 0,
+  activation: 1,
+  task: 2,
+  optimizer: 3,
+  outputs: 4,
+  dropout: 5,
+  update: 6,
+  l2: 7,
+  trainX: 8,
+  trainY: 9,
+  order: 10,
+  batchX: 11,
+  batchY: 12,
+  scratch: 13,
+} as const;
+
+/** float32 words of the descriptor. */
+export const CONSTANT = {
+  negativeLearningRate: 16,
+  twiceL2: 17,
+  momentum: 18,
+  beta1: 19,
+  oneMinusBeta1: 20,
+  beta2: 21,
+  oneMinusBeta2: 22,
+  epsilon: 23,
+  power1: 24,
+  power2: 25,
+} as const;
+
+export const LAYERS_WORD = 32;
+export const LAYER_WORDS = 20;
+
+/** Fields of one layer record. */
+export const LAYER = {
+  fanIn: 0,
+  fanOut: 1,
+  inStride: 2,
+  outStride: 3,
+  kernel: 4,
+  bias: 5,
+  kernelGradient: 6,
+  biasGradient: 7,
+  kernelSlot1: 8,
+  biasSlot1: 9,
+  kernelSlot2: 10,
+  biasSlot2: 11,
+  preActivation: 12,
+  activated: 13,
+  output: 14,
+  mask: 15,
+  delta: 16,
+} as const;
+
+export type LayerField = keyof typeof LAYER;
+
+/** The word index of `field` of layer `layer` (the output layer is layer `depth`). */
+export const layerWord = (layer: number, field: LayerField): number => LAYERS_WORD + layer * LAYER_WORDS + LAYER[field];
+
+/** Bytes of the descriptor of a network with `depth` hidden layers. */
+export const descriptorBytes = (depth: number): number => (LAYERS_WORD + (depth + 1) * LAYER_WORDS) * 4;
