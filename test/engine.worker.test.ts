@@ -1,0 +1,25 @@
+/** The trial worker trains on the engine by default and on the tfjs path when the request asks for it. */
+import { describe, expect, it } from 'vitest';
+import { trainSegmentOnEngine } from '../src/engine/segment.js';
+import type { EpochReport } from '../src/pool/messages.js';
+import { trainSegment } from '../src/train/loop.js';
+import trialWorker from '../workers/trial-worker.js';
+import { syntheticDataset, trainRequest } from './helpers/synthetic.js';
+
+const figures = (reports: EpochReport[]) => reports.map(({ seconds: _, ...rest }) => rest);
+const dataset = syntheticDataset({ task: 'binary', rows: 120 });
+
+describe('trainer selection in the trial worker', () => {
+  it('trains on the engine when the request names no trainer', async () => {
+    const request = trainRequest(dataset, { toEpoch: 2, params: { dropout: 0.2 } });
+    const viaWorker = await trialWorker(request);
+    expect(figures(viaWorker.epochs)).toStrictEqual(figures((await trainSegmentOnEngine(request)).epochs));
+  });
+
+  it("trains on the tfjs path when the request says trainer: 'tfjs'", async () => {
+    const request = trainRequest(dataset, { toEpoch: 2, trainer: 'tfjs' });
+    const viaWorker = await trialWorker(request);
+    expect(figures(viaWorker.epochs)).toStrictEqual(figures((await trainSegment(request)).epochs));
+    expect(figures(viaWorker.epochs)).not.toStrictEqual(figures((await trainSegmentOnEngine(request)).epochs));
+  });
+});
