@@ -5,6 +5,7 @@
  */
 import path from 'node:path';
 import { budgetGroup } from './budget.js';
+import { engineGroup } from './engine.js';
 import { memoryGroup } from './memory.js';
 import { overheadGroup } from './overhead.js';
 import { poolGroup } from './pool.js';
@@ -19,6 +20,7 @@ export interface BenchOptions {
 
 const GROUPS: Record<string, (options: BenchOptions) => Promise<GroupResult>> = {
   throughput: throughputGroup,
+  engine: engineGroup,
   pool: poolGroup,
   overhead: overheadGroup,
   store: storeGroup,

@@ -14,7 +14,7 @@ import { fmt, slope, type GroupResult } from './report.js';
 import { tempDir } from './studies.js';
 import { benchDataset, sharedDataset } from './synthetic.js';
 
-const FIELDS: (keyof MemoryReading)[] = ['rss', 'heapUsed', 'wasmHeapBytes', 'tensorBytes', 'numTensors'];
+const FIELDS: (keyof MemoryReading)[] = ['rss', 'heapUsed', 'engineBytes', 'wasmHeapBytes', 'tensorBytes', 'numTensors'];
 
 /**
  * Runs the measurement in a fresh Node process (bench/memory-process), so the process-wide rss
@@ -68,6 +68,8 @@ export async function measureMemory(options: BenchOptions): Promise<GroupResult>
     await rm(dir, { recursive: true, force: true });
   }
   const half = Math.floor(trials / 2);
+  // The engine's memory only grows when a trial needs more than any before; a leak would grow it on.
+  const engineAtHalf = readings[half - 1]!.engineBytes;
   const index = readings.map((_, i) => i + 1);
   const rows = FIELDS.map((field) => {
     const values = readings.map((r) => r[field]);
@@ -91,6 +93,11 @@ export async function measureMemory(options: BenchOptions): Promise<GroupResult>
         measured: `rss slope ${fmt((rssSlope / 1024) * 100)} KiB per 100 trials (2nd half), heapUsed ${fmt((heapSlope / 1024) * 100)} KiB per 100 trials`,
         // Common practice (no source): under 1 MiB per 100 trials over the second half counts as flat, given GC noise.
         holds: rssSlope * 100 < 2 ** 20,
+      },
+      {
+        target: 'engine memory flat over the second half (it grows only to what the largest trial needs)',
+        measured: `${fmt(engineAtHalf / 2 ** 20)} MiB at trial ${half}, ${fmt(readings.at(-1)!.engineBytes / 2 ** 20)} MiB at the end`,
+        holds: readings.at(-1)!.engineBytes === engineAtHalf,
       },
     ],
     notes: [

@@ -5,12 +5,11 @@
 import { parentPort, workerData } from 'node:worker_threads';
 import * as tf from '@tensorflow/tfjs';
 import '@tensorflow/tfjs-backend-wasm';
-import { trainSegment } from '../src/train/loop.js';
-import { initBackend } from '../src/train/backend.js';
+import { runTrainRequest } from '../src/train/run-request.js';
 import type { TrainRequest } from '../src/pool/messages.js';
 import { benchDataset } from './synthetic.js';
 
-export type TrainingPath = 'fit-cpu' | 'fit-wasm' | 'rungwise-wasm';
+export type TrainingPath = 'fit-cpu' | 'fit-wasm' | 'rungwise-wasm' | 'rungwise-engine';
 
 export interface ThroughputJob {
   path: TrainingPath;
@@ -79,16 +78,16 @@ async function layersFit(backend: 'cpu' | 'wasm'): Promise<ThroughputSample> {
   );
 }
 
-async function rungwise(): Promise<ThroughputSample> {
-  await initBackend();
+/** rungwise's own loop: `trainSegment` on tfjs-wasm, or the engine. */
+async function rungwise(trainer: 'tfjs' | 'engine'): Promise<ThroughputSample> {
   const dataset = benchDataset(job.trainRows, job.validationRows, INPUTS, CLASSES);
   const warmupData = benchDataset(Math.min(WARMUP_ROWS, job.trainRows), job.validationRows, INPUTS, CLASSES);
   const params = { depth: job.depth, width: job.width, activation: 'relu', learningRate: LEARNING_RATE, batchSize: job.batchSize, optimizer: 'adam', l2: 0, dropout: 0 } as const;
   let trialId = 0;
   const time = async (data: TrainRequest['dataset'], toEpoch: number): Promise<number> => {
-    const request: TrainRequest = { trialId: ++trialId, seed: 7, dataset: data, datasetId: data.id, fromEpoch: 0, toEpoch, params };
+    const request: TrainRequest = { trialId: ++trialId, seed: 7, dataset: data, datasetId: data.id, fromEpoch: 0, toEpoch, params, trainer };
     const started = performance.now();
-    await trainSegment(request);
+    await runTrainRequest(request);
     return (performance.now() - started) / 1000;
   };
   return protocol(
@@ -97,5 +96,6 @@ async function rungwise(): Promise<ThroughputSample> {
   );
 }
 
-const run = job.path === 'rungwise-wasm' ? rungwise() : layersFit(job.path === 'fit-cpu' ? 'cpu' : 'wasm');
+const run =
+  job.path === 'rungwise-wasm' ? rungwise('tfjs') : job.path === 'rungwise-engine' ? rungwise('engine') : layersFit(job.path === 'fit-cpu' ? 'cpu' : 'wasm');
 parentPort!.postMessage(await run);

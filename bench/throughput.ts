@@ -1,7 +1,7 @@
 /**
- * Training throughput of three paths on the same networks and data: tfjs layers `fit()` on the
- * cpu backend, `fit()` on wasm, and rungwise's `trainSegment` on wasm. Each measurement runs in a
- * fresh worker thread because a tfjs backend is per-thread global state.
+ * Training throughput of four paths on the same networks and data: tfjs layers `fit()` on the
+ * cpu backend, `fit()` on wasm, rungwise's `trainSegment` on tfjs-wasm, and rungwise's engine.
+ * Each measurement runs in a fresh worker thread because a tfjs backend is per-thread global state.
  */
 import { Worker } from 'node:worker_threads';
 import type { BenchOptions } from './index.js';
@@ -16,7 +16,15 @@ const NETWORKS = [
   { depth: 4, width: 256 },
 ] as const;
 const BATCH_SIZES = [32, 256] as const;
-const PATHS: TrainingPath[] = ['fit-cpu', 'fit-wasm', 'rungwise-wasm'];
+const PATHS: TrainingPath[] = ['fit-cpu', 'fit-wasm', 'rungwise-wasm', 'rungwise-engine'];
+/** The engine's speed-up over `trainSegment` on tfjs-wasm that each network and batch size should reach. */
+const ENGINE_TARGETS = [
+  { network: '1x16', batchSize: 32, speedup: 5 },
+  { network: '2x64', batchSize: 32, speedup: 5 },
+  { network: '3x128', batchSize: 32, speedup: 4 },
+  { network: '3x128', batchSize: 256, speedup: 2 },
+  { network: '4x256', batchSize: 256, speedup: 1.5 },
+] as const;
 const INPUTS = 20;
 const CLASSES = 3;
 const REPEATS = 2;
@@ -74,7 +82,8 @@ export async function throughputGroup(options: BenchOptions): Promise<GroupResul
       console.log(`   ${row.network} batch ${batchSize}: ${PATHS.map((p) => `${p} ${fmt(row.samplesPerSecond[p])}/s`).join(', ')}`);
     }
   }
-  const ratio = (row: Row, over: TrainingPath): number => row.samplesPerSecond['rungwise-wasm'] / row.samplesPerSecond[over];
+  const ratio = (row: Row, over: TrainingPath, path: TrainingPath = 'rungwise-wasm'): number => row.samplesPerSecond[path] / row.samplesPerSecond[over];
+  const engineRatio = (row: Row): number => ratio(row, 'rungwise-wasm', 'rungwise-engine');
   const key = rows.find((r) => r.network === '3x128' && r.batchSize === 32)!;
   const slowest = rows.reduce((worst, row) => (ratio(row, 'fit-wasm') < ratio(worst, 'fit-wasm') ? row : worst));
   const targets: TargetCheck[] = [
@@ -84,6 +93,10 @@ export async function throughputGroup(options: BenchOptions): Promise<GroupResul
       measured: `lowest (c)/(b) ${fmt(ratio(slowest, 'fit-wasm'))}x at ${slowest.network} batch ${slowest.batchSize}`,
       holds: ratio(slowest, 'fit-wasm') >= 1,
     },
+    ...ENGINE_TARGETS.map(({ network, batchSize, speedup }) => {
+      const row = rows.find((r) => r.network === network && r.batchSize === batchSize)!;
+      return { target: `(d) engine >= ${speedup}x (c) trainSegment on ${network}, batch ${batchSize}`, measured: `${fmt(engineRatio(row))}x`, holds: engineRatio(row) >= speedup };
+    }),
   ];
   return {
     group: 'throughput',
@@ -91,7 +104,7 @@ export async function throughputGroup(options: BenchOptions): Promise<GroupResul
     tables: [
       {
         title: `Samples per second (GFLOP/s at 6 x parameters x samples), ${trainRows} training rows`,
-        columns: ['network', 'params', 'batch', '(a) fit cpu', '(b) fit wasm', '(c) rungwise wasm', '(c)/(a)', '(c)/(b)'],
+        columns: ['network', 'params', 'batch', '(a) fit cpu', '(b) fit wasm', '(c) trainSegment wasm', '(d) engine', '(c)/(a)', '(c)/(b)', '(d)/(c)', '(d)/(b)'],
         rows: rows.map((r) => [
           r.network,
           r.parameters,
@@ -99,13 +112,16 @@ export async function throughputGroup(options: BenchOptions): Promise<GroupResul
           ...PATHS.map((p) => `${fmt(r.samplesPerSecond[p])} (${fmt(r.gflops[p], 2)})`),
           `${fmt(ratio(r, 'fit-cpu'))}x`,
           `${fmt(ratio(r, 'fit-wasm'))}x`,
+          `${fmt(engineRatio(r))}x`,
+          `${fmt(ratio(r, 'fit-wasm', 'rungwise-engine'))}x`,
         ]),
       },
     ],
     targets,
     notes: [
-      'Each figure: the best of 2 runs, the three paths interleaved, each run in a fresh worker thread: a warm-up epoch on 512 rows, one timed calibration epoch (the measurement itself when it lasts 0.75 s or more), else as many epochs as fill about 1.5 s (at most 8) timed end to end; (c) times whole `trainSegment` calls (network set-up included).',
-      '(c) also runs a validation pass (256 rows) and the task metrics after every epoch, which fit() does not; (a) and (b) use fit() with shuffle: true and no validation.',
+      'Each figure: the best of 2 runs, the four paths interleaved, each run in a fresh worker thread: a warm-up epoch on 512 rows, one timed calibration epoch (the measurement itself when it lasts 0.75 s or more), else as many epochs as fill about 1.5 s (at most 8) timed end to end; (c) times whole `trainSegment` calls (network set-up included).',
+      '(c) and (d) also run a validation pass (256 rows) and the task metrics after every epoch, which fit() does not; (a) and (b) use fit() with shuffle: true and no validation.',
+      '(d) is the same request as (c) with the engine as trainer (one call into WebAssembly per step; the data set copied into engine memory once per thread).',
       'The machine is shared with other jobs, so single figures can be off by tens of percent; the ratios of neighbouring runs are steadier.',
     ],
     data: rows,
