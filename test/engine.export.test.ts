@@ -2,10 +2,10 @@
  * Models trained on the engine export unchanged: the tfjs Layers model built from an engine
  * checkpoint reproduces, through tfjs, the validation metrics the engine recorded.
  */
-import { mkdtemp, readFile, rm, writeFile } from 'node:fs/promises';
-import { tmpdir } from 'node:os';
+import { readFile, writeFile } from 'node:fs/promises';
 import path from 'node:path';
-import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { beforeAll, describe, expect, it } from 'vitest';
+import { checkpointWeights } from '../src/checkpoints/format.js';
 import { prepareData, toSharedDataset } from '../src/data/index.js';
 import type { PreparedData } from '../src/data/types.js';
 import { trainSegmentOnEngine } from '../src/engine/segment.js';
@@ -13,15 +13,9 @@ import { evaluateExportedModel } from '../src/export/evaluate.js';
 import { buildLayersModel } from '../src/export/model-files.js';
 import { ACTIVATIONS, dataSchema, type Task, type TrialParams } from '../src/study/definition.js';
 import { initBackend } from '../src/train/backend.js';
-import { readCheckpointWeights } from '../src/train/checkpoint.js';
 import { PENGUINS_MEASUREMENTS, PENGUINS_TARGET, writeIrisCsv, writePenguinsCsv } from './helpers/datasets.js';
 
-let dir: string;
-beforeAll(async () => {
-  dir = await mkdtemp(path.join(tmpdir(), 'rungwise-engine-export-'));
-  await initBackend();
-});
-afterAll(() => rm(dir, { recursive: true, force: true }));
+beforeAll(() => initBackend());
 
 async function prepared(csv: string, target: string, task: Task, features?: string[]): Promise<PreparedData> {
   const settings = dataSchema.parse({ csv: path.basename(csv), target, task, splitSeed: 2, ...(features ? { features } : {}) });
@@ -50,12 +44,11 @@ describe('export of engine-trained models', () => {
       it(`${task}, ${activation}: the exported tfjs model reproduces every recorded validation metric within 1e-5`, async () => {
         const data = await load();
         const params: TrialParams = { depth: 2, width: 12, activation, learningRate: 0.01, batchSize: 16, optimizer: 'adam', l2: 1e-4, dropout: 0.1 };
-        const checkpointOut = path.join(dir, `${task}-${activation}`);
         const dataset = toSharedDataset(data, `export-${task}`);
-        const result = await trainSegmentOnEngine({ trialId: 4, seed: 21, params, dataset, fromEpoch: 0, toEpoch: 4, checkpointOut });
+        const result = await trainSegmentOnEngine({ trialId: 4, seed: 21, params, dataset, datasetId: dataset.id, fromEpoch: 0, toEpoch: 4 });
         expect(result.status).toBe('completed');
         const recorded = result.epochs.at(-1)!.metrics;
-        const model = buildLayersModel(params, data.recipe, await readCheckpointWeights(checkpointOut));
+        const model = buildLayersModel(params, data.recipe, checkpointWeights(result.checkpoint!));
         try {
           const again = evaluateExportedModel(model, data.recipe, data.validation);
           expect(Object.keys(again).sort()).toEqual(Object.keys(recorded).sort());
