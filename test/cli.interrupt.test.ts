@@ -4,7 +4,7 @@ import { describe, expect, it } from 'vitest';
 import { StudyStore } from '../src/store/study-store.js';
 import { FAULT_VARIABLE } from '../src/runner/faults.js';
 import { BIN, runCli } from './helpers/cli.js';
-import { tinyStudy, writeTinyStudy } from './helpers/studies.js';
+import { longTinyStudy, writeTinyStudy } from './helpers/studies.js';
 
 interface Started {
   child: ChildProcessWithoutNullStreams;
@@ -33,14 +33,14 @@ function start(args: string[], env: NodeJS.ProcessEnv = {}): Started {
   };
 }
 
-const longStudy = () => tinyStudy({ budget: { trials: 40, maxEpochs: 5 }, workers: 1 });
+const longStudy = () => longTinyStudy(40, 1);
 
 describe('stopping a running study', () => {
   it('on SIGINT stops starting trials, saves, says how to resume and exits non-zero', async () => {
     const file = await writeTinyStudy(longStudy());
     const dir = path.join(path.dirname(file), 'run');
     const run = start(['run', file, '--out', dir]);
-    await run.waitFor(/\[1\/40\] trial/);
+    await run.waitFor(/\[\d+\/40\] trial/);
     run.child.kill('SIGINT');
     expect(await run.exited).toBe(130);
     expect(run.output().stdout).toContain(`continue it with: rungwise resume ${dir}`);
@@ -54,7 +54,7 @@ describe('stopping a running study', () => {
     const file = await writeTinyStudy(longStudy());
     const dir = path.join(path.dirname(file), 'run');
     const run = start(['run', file, '--out', dir]);
-    await run.waitFor(/\[1\/40\] trial/);
+    await run.waitFor(/\[\d+\/40\] trial/);
     run.child.kill('SIGINT');
     run.child.kill('SIGINT');
     expect(await run.exited).toBe(130);
@@ -67,7 +67,7 @@ describe('stopping a running study', () => {
     const dir = path.join(path.dirname(file), 'run');
     // Trial 1 never returns, so the first run holds the directory until it is killed.
     const first = start(['run', file, '--out', dir], { [FAULT_VARIABLE]: '1:hang' });
-    await first.waitFor(/\[1\/40\] trial/);
+    await first.waitFor(/\[\d+\/40\] trial/);
     const second = await runCli(['resume', dir]);
     const third = await runCli(['run', file, '--out', dir, '--force']);
     first.child.kill('SIGKILL');

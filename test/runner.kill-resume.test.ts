@@ -11,7 +11,7 @@ import { STORE_CRASH_VARIABLE } from '../src/store/file-adapter.js';
 import { StudyStore, studyFilePath } from '../src/store/study-store.js';
 import type { StudyDocument } from '../src/store/types.js';
 import { BIN, runCli } from './helpers/cli.js';
-import { tinyStudy, writeTinyStudy } from './helpers/studies.js';
+import { longTinyStudy, writeTinyStudy } from './helpers/studies.js';
 
 type Moment =
   | { kind: 'after-lines'; lines: number; delayMs: number }
@@ -52,7 +52,7 @@ const resultOf = (doc: StudyDocument) =>
 
 describe('killing and resuming a study', () => {
   // Enough trials that the study outlives every kill moment below.
-  const definition = tinyStudy({ budget: { trials: 20, maxEpochs: 4 }, workers: 2 });
+  const definition = longTinyStudy(40, 2);
   let studyFile: string;
   let reference: StudyDocument;
 

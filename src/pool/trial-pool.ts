@@ -52,10 +52,20 @@ export class TrialPool {
    */
   async run(request: Omit<TrainRequest, 'progressPort'>, onEpoch: (report: EpochReport) => void, signal?: AbortSignal): Promise<TrainResult> {
     const channel = new MessageChannel();
-    channel.port1.on('message', (report: EpochReport) => onEpoch(report));
+    let lastEpoch = request.fromEpoch;
+    const deliver = (report: EpochReport): void => {
+      if (report.epoch <= lastEpoch) return;
+      lastEpoch = report.epoch;
+      onEpoch(report);
+    };
+    channel.port1.on('message', deliver);
     try {
       const task: TrainRequest = { ...request, progressPort: channel.port2 };
-      return (await this.piscina.run(task, { transferList: [channel.port2], ...(signal ? { signal } : {}) })) as TrainResult;
+      const result = (await this.piscina.run(task, { transferList: [channel.port2], ...(signal ? { signal } : {}) })) as TrainResult;
+      // The result and the reports travel on different ports, so the last reports may still be on
+      // their way when a fast job resolves: they are delivered from the result, in order, once.
+      for (const report of result.epochs) deliver(report);
+      return result;
     } finally {
       channel.port1.close();
     }

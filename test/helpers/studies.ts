@@ -27,6 +27,19 @@ export function tinyStudy(overrides: Partial<StudyDefinitionInput> = {}): StudyD
   };
 }
 
+/**
+ * The tiny study with networks wide and epochs many enough that a trial lasts a few tenths of a
+ * second on the engine, so a run is still going when a test interrupts or kills it.
+ */
+export function longTinyStudy(trials: number, workers: number): StudyDefinitionInput {
+  const base = tinyStudy();
+  return tinyStudy({
+    space: { ...base.space, depth: { min: 2, max: 3 }, width: { min: 64, max: 256, log: true } },
+    budget: { trials, maxEpochs: 30 },
+    workers,
+  });
+}
+
 /** Write a definition beside a copy of the tiny CSV in a fresh temporary folder; returns the definition's path. */
 export async function writeTinyStudy(definition: StudyDefinitionInput = tinyStudy()): Promise<string> {
   const dir = await mkdtemp(path.join(tmpdir(), 'rungwise-tiny-'));
