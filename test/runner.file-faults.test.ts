@@ -19,9 +19,11 @@ import type { StudyDocument } from '../src/store/types.js';
 import { runCli } from './helpers/cli.js';
 import { tinyStudy, writeTinyStudy } from './helpers/studies.js';
 
+// Networks and rungs large enough that jobs are still running when the study is stopped, on the engine too.
 const halving: StudyDefinitionInput = tinyStudy({
-  budget: { trials: 12, maxEpochs: 9 },
-  sampler: { kind: 'successive-halving', seed: 2, eta: 3, minEpochs: 1 },
+  space: { ...tinyStudy().space, depth: { min: 2, max: 3 }, width: { min: 64, max: 256, log: true } },
+  budget: { trials: 12, maxEpochs: 90 },
+  sampler: { kind: 'successive-halving', seed: 2, eta: 3, minEpochs: 10 },
 });
 
 /** Everything about the trials that must not depend on interruptions. */
