@@ -41,7 +41,7 @@ function statusCounts(study: StudyDocument): string {
 
 function samplerText(study: StudyDocument): string {
   const sampler = study.definition.sampler;
-  if (sampler.kind === 'random') return `random (seed ${sampler.seed})`;
+  if (!('eta' in sampler)) return `${sampler.kind} (seed ${sampler.seed})`;
   return `${sampler.kind} (eta ${sampler.eta}, first rung ${sampler.minEpochs} epoch${sampler.minEpochs === 1 ? '' : 's'}, seed ${sampler.seed})`;
 }
 

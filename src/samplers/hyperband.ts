@@ -1,6 +1,6 @@
 import { z } from 'zod';
 import { halvingFields } from '../study/fields.js';
-import { defineSampler, type Job, type JobOutcome, type Sampler } from './sampler.js';
+import { defineSampler, type Job, type JobOutcome, type ProposalOrigin, type Sampler } from './sampler.js';
 import { HalvingBracket, checkHalvingBudget, type RungPlan } from './successive-halving.js';
 import { assertEta, assertPositiveInteger, type ParamsForTrial } from './rungs.js';
 
@@ -78,6 +78,16 @@ export interface HyperbandOptions {
    * @default true
    */
   overlapBrackets?: boolean;
+  /** Times the whole list of brackets s_max .. 0 runs, one pass after another. @default 1 */
+  iterations?: number;
+  /**
+   * Whether the bracket at this position (0 for the first of all passes) may hand out its first job;
+   * while false it and every later bracket wait. For samplers whose proposals for a bracket depend on
+   * earlier brackets' results. @default always
+   */
+  mayStartBracket?: (index: number) => boolean;
+  /** Recorded with each trial's first job, for samplers that propose configurations themselves. */
+  originFor?: (trialId: number) => ProposalOrigin;
 }
 
 /**
@@ -86,20 +96,43 @@ export interface HyperbandOptions {
  */
 export class HyperbandSampler implements Sampler {
   private readonly brackets: HalvingBracket[] = [];
+  private readonly started = new Set<number>();
   private readonly overlap: boolean;
 
-  constructor(options: HyperbandOptions) {
+  constructor(private readonly options: HyperbandOptions) {
     this.overlap = options.overlapBrackets ?? true;
+    const iterations = options.iterations ?? 1;
+    assertPositiveInteger('iterations', iterations);
     let firstTrialId = 0;
-    for (const plan of hyperbandSchedule(options.maxEpochs, options.eta, options.minEpochs)) {
-      this.brackets.push(new HalvingBracket({ plan: plan.rounds, firstTrialId, bracket: plan.s, paramsFor: options.paramsFor }));
-      firstTrialId += plan.rounds[0]!.configurations;
+    const schedule = hyperbandSchedule(options.maxEpochs, options.eta, options.minEpochs);
+    for (let pass = 0; pass < iterations; pass++) {
+      for (const plan of schedule) {
+        const { paramsFor, originFor } = options;
+        this.brackets.push(new HalvingBracket({ plan: plan.rounds, firstTrialId, bracket: plan.s, paramsFor, ...(originFor ? { originFor } : {}) }));
+        firstTrialId += plan.rounds[0]!.configurations;
+      }
     }
+  }
+
+  /** Position (over all passes) of the bracket that owns a trial. */
+  bracketIndexOf(trialId: number): number {
+    const index = this.brackets.findIndex((candidate) => candidate.ownsTrial(trialId));
+    if (index < 0) throw new Error(`hyperband: trial ${trialId} belongs to no bracket`);
+    return index;
+  }
+
+  /** Whether the bracket at this position has run all its rounds. */
+  isBracketFinished(index: number): boolean {
+    return this.brackets[index]?.isFinished ?? false;
   }
 
   next(): Job | 'wait' | 'done' {
     let waiting = false;
-    for (const bracket of this.brackets) {
+    for (const [index, bracket] of this.brackets.entries()) {
+      if (!this.started.has(index)) {
+        if (this.options.mayStartBracket && !this.options.mayStartBracket(index)) return 'wait';
+        this.started.add(index);
+      }
       const job = bracket.next();
       if (job === 'done') continue;
       if (job !== 'wait') return job;
@@ -118,9 +151,7 @@ export class HyperbandSampler implements Sampler {
   }
 
   private bracketOf(trialId: number): HalvingBracket {
-    const bracket = this.brackets.find((candidate) => candidate.ownsTrial(trialId));
-    if (!bracket) throw new Error(`hyperband: trial ${trialId} belongs to no bracket`);
-    return bracket;
+    return this.brackets[this.bracketIndexOf(trialId)]!;
   }
 }
 

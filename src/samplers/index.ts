@@ -14,6 +14,10 @@ export { RandomSampler } from './random.js';
 export { HalvingBracket, SuccessiveHalvingSampler, halvingSchedule } from './successive-halving.js';
 export type { RungPlan } from './successive-halving.js';
 export { replay, type ReplayResult } from './replay.js';
+export { TpeSampler, type TpeSamplerOptions } from './tpe.js';
+export { TpeHyperbandSampler, type TpeHyperbandOptions } from './tpe-hyperband.js';
+export { TpeModel, splitObservations, type Observation, type TpeModelSettings } from './tpe-model.js';
+export { spaceDesign, sobolDesign, type UnitDesign } from './design.js';
 export { simulate, type SimulationLog, type SimulationOptions } from './simulate.js';
 export { compareResults, rungEpochs } from './rungs.js';
 

@@ -1,6 +1,6 @@
 import { z } from 'zod';
 import { seedField } from '../study/fields.js';
-import { defineSampler, type Job, type JobOutcome, type Sampler } from './sampler.js';
+import { defineSampler, type Job, type JobOutcome, type ProposalOrigin, type Sampler } from './sampler.js';
 import { assertPositiveInteger, type ParamsForTrial } from './rungs.js';
 
 export interface RandomSamplerOptions {
@@ -9,6 +9,8 @@ export interface RandomSamplerOptions {
   /** Every trial trains from scratch to this many epochs in one job. */
   maxEpochs: number;
   paramsFor: ParamsForTrial;
+  /** Recorded with each trial's job (a design other than random drawing names itself here). */
+  originFor?: (trialId: number) => ProposalOrigin;
 }
 
 /**
@@ -29,14 +31,9 @@ export class RandomSampler implements Sampler {
     if (this.nextTrialId >= this.options.trials) return 'done';
     const trialId = this.nextTrialId++;
     this.outstanding.add(trialId);
-    return {
-      trialId,
-      params: this.options.paramsFor(trialId),
-      rung: 0,
-      bracket: 0,
-      fromEpoch: 0,
-      toEpoch: this.options.maxEpochs,
-    };
+    const job: Job = { trialId, params: this.options.paramsFor(trialId), rung: 0, bracket: 0, fromEpoch: 0, toEpoch: this.options.maxEpochs };
+    if (this.options.originFor) job.origin = this.options.originFor(trialId);
+    return job;
   }
 
   report(outcome: JobOutcome): void {

@@ -7,7 +7,10 @@ import { z } from 'zod';
 import { asyncHalvingPlugin } from './async-halving.js';
 import { hyperbandPlugin } from './hyperband.js';
 import { randomPlugin } from './random.js';
+import { sobolPlugin } from './sobol.js';
 import { successiveHalvingPlugin } from './successive-halving.js';
+import { tpeHyperbandPlugin } from './tpe-hyperband.js';
+import { tpePlugin } from './tpe.js';
 
 /** The `sampler` object of a study file: one of the registered kinds, chosen by `kind`. */
 export const samplerSchema = z.discriminatedUnion('kind', [
@@ -15,7 +18,18 @@ export const samplerSchema = z.discriminatedUnion('kind', [
   successiveHalvingPlugin.schema,
   hyperbandPlugin.schema,
   asyncHalvingPlugin.schema,
+  sobolPlugin.schema,
+  tpePlugin.schema,
+  tpeHyperbandPlugin.schema,
 ]);
 
 /** The registered plugins, in the order the README lists them. */
-export const SAMPLER_PLUGINS = [randomPlugin, successiveHalvingPlugin, hyperbandPlugin, asyncHalvingPlugin] as const;
+export const SAMPLER_PLUGINS = [
+  randomPlugin,
+  successiveHalvingPlugin,
+  hyperbandPlugin,
+  asyncHalvingPlugin,
+  sobolPlugin,
+  tpePlugin,
+  tpeHyperbandPlugin,
+] as const;

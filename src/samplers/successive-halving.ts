@@ -1,7 +1,7 @@
 import { z } from 'zod';
 import { UserError } from '../errors.js';
 import { halvingFields } from '../study/fields.js';
-import { defineSampler, type Job, type JobOutcome, type Sampler } from './sampler.js';
+import { defineSampler, type Job, type JobOutcome, type ProposalOrigin, type Sampler } from './sampler.js';
 import { assertEta, assertPositiveInteger, isPromotable, rank, resultsOf, rungEpochs, type ParamsForTrial } from './rungs.js';
 
 /** One rung of a plan: how many configurations train, and to how many epochs in all. */
@@ -34,6 +34,8 @@ export interface HalvingBracketOptions {
   /** Written into every job. */
   bracket: number;
   paramsFor: ParamsForTrial;
+  /** Recorded with each trial's rung-0 job, for samplers that propose configurations themselves. */
+  originFor?: (trialId: number) => ProposalOrigin;
 }
 
 /**
@@ -71,8 +73,8 @@ export class HalvingBracket implements Sampler {
     const trialId = this.members[this.handedOut];
     if (trialId === undefined) return 'wait';
     this.handedOut++;
-    const { plan, bracket, paramsFor } = this.options;
-    return {
+    const { plan, bracket, paramsFor, originFor } = this.options;
+    const job: Job = {
       trialId,
       params: paramsFor(trialId),
       rung: this.rung,
@@ -80,6 +82,8 @@ export class HalvingBracket implements Sampler {
       fromEpoch: this.rung === 0 ? 0 : plan[this.rung - 1]!.epochs,
       toEpoch: plan[this.rung]!.epochs,
     };
+    if (this.rung === 0 && originFor) job.origin = originFor(trialId);
+    return job;
   }
 
   report(outcome: JobOutcome): void {

@@ -53,11 +53,13 @@ export function logUniform(min: number, max: number, u: number): number {
   return Math.min(max, Math.max(min, value));
 }
 
-function uniform(min: number, max: number, u: number): number {
+/** A real in [min, max], uniform. */
+export function uniform(min: number, max: number, u: number): number {
   return min + u * (max - min);
 }
 
-function choose<T>(options: readonly T[], u: number): T {
+/** The entry of `options` whose share of [0, 1) holds `u`. */
+export function choose<T>(options: readonly T[], u: number): T {
   // u < 1, so the index is always in range; the schema guarantees a non-empty list.
   return options[Math.min(options.length - 1, Math.floor(u * options.length))]!;
 }

@@ -59,7 +59,7 @@ function crossFieldProblems(definition: StudyDefinition): [string, string][] {
       problems.push(['objective.metric', `found "${objective.metric}", expected for a ${data.task} task one of ${allowed.map((m) => `"${m}"`).join(', ')}`]);
     }
   }
-  if (sampler.kind !== 'random' && sampler.minEpochs > budget.maxEpochs) {
+  if ('minEpochs' in sampler && sampler.minEpochs > budget.maxEpochs) {
     problems.push(['sampler.minEpochs', `found ${sampler.minEpochs}, expected at most budget.maxEpochs (${budget.maxEpochs})`]);
   }
   if (data.features?.includes(data.target)) {

@@ -1,0 +1,168 @@
+import { z } from 'zod';
+import type { Rng } from '../random/streams.js';
+import { snap } from '../space/dimensions.js';
+import { halvingFields } from '../study/fields.js';
+import { spaceDesign, type UnitDesign } from './design.js';
+import { HyperbandSampler, hyperbandSchedule, trainedEpochs } from './hyperband.js';
+import { defineSampler, type Job, type JobOutcome, type ProposalOrigin, type Sampler } from './sampler.js';
+import { checkHalvingBudget } from './successive-halving.js';
+import { TpeModel, modelFields, type Observation, type TpeModelSettings } from './tpe-model.js';
+
+export interface TpeHyperbandOptions {
+  maxEpochs: number;
+  minEpochs: number;
+  eta: number;
+  /** Passes over Hyperband's brackets. */
+  iterations: number;
+  design: UnitDesign;
+  model: TpeModelSettings;
+  /** Share of new configurations drawn at random whatever the model says. */
+  randomFraction: number;
+  /** N_min: a budget's model needs at least minResults + 2 results there, and each group has at least minResults. */
+  minResults: number;
+  /**
+   * true: bracket k is fitted on brackets 0 .. k - 2 and may run beside bracket k - 1;
+   * false: on brackets 0 .. k - 1, and starts when they have finished.
+   */
+  overlapBrackets: boolean;
+  /** Seeded streams keyed per trial, e.g. `(purpose, trialId) => context.stream(purpose, trialId)`. */
+  stream: (purpose: string, trialId: number) => Rng;
+}
+
+interface Proposal {
+  point: number[];
+  origin: ProposalOrigin;
+}
+
+/**
+ * TPE inside Hyperband: Hyperband's brackets (see {@link HyperbandSampler}), and each new configuration
+ * proposed by a TPE model fitted on the results at the largest budget (epochs) that has at least
+ * minResults + 2 of them, or drawn at random with probability randomFraction or when no budget has
+ * enough results. Promotions continue from checkpoints as in Hyperband.
+ * Source: Falkner, Klein, Hutter, "BOHB: Robust and Efficient Hyperparameter Optimization at Scale",
+ * ICML 2018, Algorithm 2 (N_min = d + 1, |D_b| >= N_min + 2, rho = 1/3; From memory). BOHB fits one
+ * multivariate kernel density; this fits the product of one-dimensional ones, as TPE does.
+ *
+ * Deterministic: the proposals of bracket k use only results of brackets that have finished before
+ * bracket k may start (0 .. k - 2 with overlapBrackets, else 0 .. k - 1), so they do not depend on
+ * worker count, arrival order or interruption.
+ */
+export class TpeHyperbandSampler implements Sampler {
+  private readonly hyperband: HyperbandSampler;
+  private readonly proposals = new Map<number, Proposal>();
+  /** Epochs reached by each handed-out (trial, rung) job, to file its result under its budget. */
+  private readonly jobEpochs = new Map<string, number>();
+  /** Results by budget (epochs), with the bracket position they came from. */
+  private readonly results = new Map<number, (Observation & { bracketIndex: number })[]>();
+
+  constructor(private readonly options: TpeHyperbandOptions) {
+    const lag = options.overlapBrackets ? 1 : 0;
+    this.hyperband = new HyperbandSampler({
+      maxEpochs: options.maxEpochs,
+      minEpochs: options.minEpochs,
+      eta: options.eta,
+      iterations: options.iterations,
+      overlapBrackets: true,
+      paramsFor: (trialId) => options.design.paramsAt(this.proposal(trialId).point),
+      originFor: (trialId) => this.proposal(trialId).origin,
+      mayStartBracket: (index) => {
+        for (let earlier = 0; earlier < index - lag; earlier++) if (!this.hyperband.isBracketFinished(earlier)) return false;
+        return true;
+      },
+    });
+  }
+
+  /** The unit-cube point trial `trialId` was given. */
+  pointOf(trialId: number): readonly number[] | undefined {
+    return this.proposals.get(trialId)?.point;
+  }
+
+  next(): Job | 'wait' | 'done' {
+    const job = this.hyperband.next();
+    if (typeof job !== 'string') this.jobEpochs.set(`${job.trialId}/${job.rung}`, job.toEpoch);
+    return job;
+  }
+
+  report(outcome: JobOutcome): void {
+    this.hyperband.report(outcome);
+    const key = `${outcome.trialId}/${outcome.rung}`;
+    const epochs = this.jobEpochs.get(key)!;
+    this.jobEpochs.delete(key);
+    const atBudget = this.results.get(epochs) ?? [];
+    atBudget.push({ trialId: outcome.trialId, point: this.proposals.get(outcome.trialId)!.point, loss: outcome.loss, bracketIndex: this.hyperband.bracketIndexOf(outcome.trialId) });
+    this.results.set(epochs, atBudget);
+  }
+
+  mayContinue(trialId: number): boolean {
+    return this.hyperband.mayContinue(trialId);
+  }
+
+  private proposal(trialId: number): Proposal {
+    let proposal = this.proposals.get(trialId);
+    if (!proposal) {
+      proposal = this.propose(trialId);
+      this.proposals.set(trialId, proposal);
+    }
+    return proposal;
+  }
+
+  private propose(trialId: number): Proposal {
+    const { design, model, randomFraction, minResults, stream, overlapBrackets } = this.options;
+    const bracketIndex = this.hyperband.bracketIndexOf(trialId);
+    const randomDraw = stream('random', trialId);
+    const random = (): Proposal => ({ point: snap(design.dimensions, design.dimensions.map(() => randomDraw())), origin: { method: 'random', batch: bracketIndex } });
+    if (randomDraw() < randomFraction) return random();
+    const visibleBefore = bracketIndex - (overlapBrackets ? 1 : 0);
+    const budgets = [...this.results.keys()].sort((a, b) => b - a);
+    for (const epochs of budgets) {
+      const observations = this.results.get(epochs)!.filter((o) => o.bracketIndex < visibleBefore);
+      if (observations.length < minResults + 2) continue;
+      const fitted = new TpeModel(design.dimensions, observations, { ...model, minimumGroup: minResults });
+      return { point: snap(design.dimensions, fitted.propose(stream('propose', trialId)).point), origin: { method: 'tpe', batch: bracketIndex, fittedOnEpochs: epochs } };
+    }
+    return random();
+  }
+}
+
+/** Defaults of the `tpe-hyperband` kind's model options. Source: Falkner et al. 2018, section 4 / appendix (From memory). */
+const BOHB_MODEL_DEFAULTS = { gamma: 0.15, candidates: 64, bandwidth: 'scott', candidateBandwidthFactor: 3 } as const;
+
+/** `sampler.kind: "tpe-hyperband"`: Hyperband's brackets with new configurations from a TPE model (BOHB). */
+export const tpeHyperbandPlugin = defineSampler({
+  kind: 'tpe-hyperband',
+  summary: "Hyperband's brackets, new configurations from a TPE model on the largest budget with enough results (Falkner et al. 2018); ignores budget.trials",
+  schema: z.strictObject({
+    kind: z.literal('tpe-hyperband'),
+    ...halvingFields,
+    iterations: z.int().min(1).max(100).default(1).describe("Passes over Hyperband's brackets."),
+    randomFraction: z.number().min(0).max(1).default(1 / 3).describe('Share of new configurations drawn at random.'),
+    minResults: z.int().min(1).optional().describe('N_min: results a budget needs (plus 2) before its model is used; default: dimensions + 1.'),
+    overlapBrackets: z.boolean().default(true).describe('Let a bracket run beside the previous one (its model then skips that bracket).'),
+    ...modelFields(BOHB_MODEL_DEFAULTS),
+  }),
+  traits: { deterministic: true },
+  create: (options, context) => {
+    checkHalvingBudget(options, context.budget);
+    const design = spaceDesign(context.space);
+    return new TpeHyperbandSampler({
+      maxEpochs: context.budget.maxEpochs,
+      minEpochs: options.minEpochs,
+      eta: options.eta,
+      iterations: options.iterations,
+      design,
+      model: options,
+      randomFraction: options.randomFraction,
+      minResults: options.minResults ?? design.dimensions.length + 1,
+      overlapBrackets: options.overlapBrackets,
+      stream: (purpose, trialId) => context.stream(purpose, trialId),
+    });
+  },
+  plan: (options, budget) => {
+    if (options.minEpochs > budget.maxEpochs) return { trials: 0, epochs: 0 };
+    const brackets = hyperbandSchedule(budget.maxEpochs, options.eta, options.minEpochs);
+    return {
+      trials: options.iterations * brackets.reduce((sum, bracket) => sum + bracket.rounds[0]!.configurations, 0),
+      epochs: options.iterations * brackets.reduce((sum, bracket) => sum + trainedEpochs(bracket.rounds), 0),
+    };
+  },
+});

@@ -1,0 +1,126 @@
+/**
+ * The tree-structured Parzen estimator's proposal step over the unit cube: split the observations at
+ * the quantile gamma into good and rest, fit one Parzen estimator per dimension to each, draw
+ * candidates from the good density l(x), and keep the one with the largest l(x) / g(x).
+ * Source: Bergstra, Bardenet, Bengio, Kégl, "Algorithms for Hyper-Parameter Optimization", NeurIPS 2011,
+ * sections 4 and 4.1 (maximising l/g maximises expected improvement).
+ * The search space has no conditional parameters, so the "tree" is a product of independent dimensions.
+ */
+import { z } from 'zod';
+import type { Rng } from '../random/streams.js';
+import type { Dimension } from '../space/dimensions.js';
+import { BANDWIDTH_RULES, drawIndex, fitCategorical, fitNumeric, numericDensity, sampleNumeric, type BandwidthRule, type NumericParzen } from './parzen.js';
+import { rank } from './rungs.js';
+
+/** A configuration the model learns from: its unit-cube point and its loss (null: diverged, failed, or a pending trial under the constant liar). */
+export interface Observation {
+  trialId: number;
+  point: readonly number[];
+  loss: number | null;
+}
+
+export interface TpeModelSettings {
+  /** Share of observations in the good group (the quantile gamma). */
+  gamma: number;
+  /** Candidates drawn from l(x) per proposal. */
+  candidates: number;
+  priorWeight: number;
+  bandwidth: BandwidthRule;
+  /** Kernel widths are multiplied by this when drawing candidates (not when scoring them). */
+  candidateBandwidthFactor: number;
+  /** Least observations in each group; when there are fewer in all, the groups overlap. @default 1 */
+  minimumGroup?: number;
+}
+
+/**
+ * Good and rest: the best max(minimumGroup, ceil(gamma n)) observations (smaller loss first, null last,
+ * ties by lower trial id) and the others, but at least minimumGroup of the worst.
+ */
+export function splitObservations(observations: readonly Observation[], gamma: number, minimumGroup = 1): { good: Observation[]; rest: Observation[] } {
+  const byTrial = new Map(observations.map((o) => [o.trialId, o]));
+  const ranked = rank(observations.map(({ trialId, loss }) => ({ trialId, loss }))).map((r) => byTrial.get(r.trialId)!);
+  const n = ranked.length;
+  const goodCount = Math.min(n, Math.max(minimumGroup, Math.ceil(gamma * n)));
+  const restCount = Math.min(n, Math.max(minimumGroup, n - goodCount));
+  return { good: ranked.slice(0, goodCount), rest: ranked.slice(n - restCount) };
+}
+
+type DimensionDensity = { kind: 'numeric'; parzen: NumericParzen } | { kind: 'categorical'; probabilities: number[] };
+
+/** Cell index of a categorical coordinate. */
+const cellOf = (u: number, choices: number) => Math.min(choices - 1, Math.floor(u * choices));
+
+function fitDensities(dimensions: readonly Dimension[], observations: readonly Observation[], settings: TpeModelSettings): DimensionDensity[] {
+  return dimensions.map((dimension, d) => {
+    const coordinates = observations.map((o) => o.point[d]!);
+    if (dimension.kind === 'categorical') {
+      const k = dimension.choices.length;
+      return { kind: 'categorical', probabilities: fitCategorical(coordinates.map((u) => cellOf(u, k)), k, settings.priorWeight) };
+    }
+    return { kind: 'numeric', parzen: fitNumeric(coordinates, settings) };
+  });
+}
+
+function logDensity(densities: readonly DimensionDensity[], point: readonly number[]): number {
+  let sum = 0;
+  densities.forEach((density, d) => {
+    const u = point[d]!;
+    sum += Math.log(density.kind === 'numeric' ? numericDensity(density.parzen, u) : density.probabilities[cellOf(u, density.probabilities.length)]!);
+  });
+  return sum;
+}
+
+function drawCandidate(densities: readonly DimensionDensity[], rng: Rng, bandwidthFactor: number): number[] {
+  return densities.map((density) => {
+    if (density.kind === 'numeric') return sampleNumeric(density.parzen, rng, bandwidthFactor);
+    const k = density.probabilities.length;
+    return (drawIndex(density.probabilities, rng()) + 0.5) / k;
+  });
+}
+
+/** A fitted pair of densities: l(x) over the good observations and g(x) over the rest. */
+export class TpeModel {
+  private readonly good: DimensionDensity[];
+  private readonly rest: DimensionDensity[];
+
+  constructor(readonly dimensions: readonly Dimension[], observations: readonly Observation[], private readonly settings: TpeModelSettings) {
+    if (observations.length === 0) throw new RangeError('the tree-structured Parzen estimator needs at least one observation');
+    const { good, rest } = splitObservations(observations, settings.gamma, settings.minimumGroup ?? 1);
+    this.good = fitDensities(dimensions, good, settings);
+    this.rest = fitDensities(dimensions, rest, settings);
+  }
+
+  /** log l(x) - log g(x). */
+  score(point: readonly number[]): number {
+    return logDensity(this.good, point) - logDensity(this.rest, point);
+  }
+
+  /** The candidate with the largest l(x) / g(x) among `settings.candidates` drawn from l(x) (ties: the first drawn). */
+  propose(rng: Rng): { point: number[]; score: number } {
+    let best: { point: number[]; score: number } | undefined;
+    for (let i = 0; i < this.settings.candidates; i++) {
+      const point = drawCandidate(this.good, rng, this.settings.candidateBandwidthFactor);
+      const score = this.score(point);
+      if (!best || score > best.score) best = { point, score };
+    }
+    return best!;
+  }
+}
+
+interface ModelDefaults {
+  gamma: number;
+  candidates: number;
+  bandwidth: BandwidthRule;
+  candidateBandwidthFactor: number;
+}
+
+/** The model's options in a sampler's study-file schema, with the kind's own defaults. */
+export function modelFields(defaults: ModelDefaults) {
+  return {
+    gamma: z.number().gt(0).lt(1).default(defaults.gamma).describe('Share of finished trials that form the good group.'),
+    candidates: z.int().min(1).max(10000).default(defaults.candidates).describe('Candidates drawn from the good density per proposal.'),
+    priorWeight: z.number().gt(0).default(1).describe('Weight of the prior kernel against 1 per finished trial.'),
+    bandwidth: z.enum(BANDWIDTH_RULES).default(defaults.bandwidth).describe('Kernel width rule: neighbour-gap or scott.'),
+    candidateBandwidthFactor: z.number().min(1).default(defaults.candidateBandwidthFactor).describe('Kernel widths are multiplied by this when drawing candidates.'),
+  };
+}
