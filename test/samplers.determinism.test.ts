@@ -33,6 +33,9 @@ const best = (log: SimulationLog) => {
 describe.each([
   ['successive halving', { kind: 'successive-halving', eta: 3, seed: 11 }],
   ['hyperband', { kind: 'hyperband', eta: 3, seed: 11 }],
+  ['sobol', { kind: 'sobol', seed: 11 }],
+  ['tpe', { kind: 'tpe', seed: 11, startupTrials: 8, batchSize: 3 }],
+  ['tpe-hyperband', { kind: 'tpe-hyperband', eta: 3, seed: 11, minResults: 2 }],
 ])('%s with 1 worker and with 3', (_name, sampler) => {
   const one = simulate(createSampler(definition(sampler)), { workers: 1, loss, duration });
   const three = simulate(createSampler(definition(sampler)), { workers: 3, loss, duration });
@@ -54,7 +57,7 @@ describe.each([
 
 describe('createSampler', () => {
   it('runs every planned configuration once at rung 0', () => {
-    for (const sampler of [{ kind: 'random' }, { kind: 'successive-halving' }, { kind: 'hyperband' }, { kind: 'async-halving' }]) {
+    for (const sampler of [{ kind: 'random' }, { kind: 'successive-halving' }, { kind: 'hyperband' }, { kind: 'async-halving' }, { kind: 'sobol' }, { kind: 'tpe' }, { kind: 'tpe-hyperband' }]) {
       const log = simulate(createSampler(definition(sampler, 12)), { workers: 2, loss });
       expect(log.jobs.filter((j) => j.rung === 0)).toHaveLength(plannedTrialCount(definition(sampler, 12)));
     }
