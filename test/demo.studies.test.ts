@@ -11,6 +11,9 @@ const DEMO_FILES = [
   'studies/demo/study-halving.json',
   'studies/demo/study-hyperband.json',
   'studies/demo/study-async-halving.json',
+  'studies/demo/study-sobol.json',
+  'studies/demo/study-tpe.json',
+  'studies/demo/study-tpe-hyperband.json',
 ];
 const TINY_FILES = [
   'studies/tiny/study.json',
@@ -62,6 +65,16 @@ describe('the demo studies', () => {
     for (const definition of [random, ...others]) expect(definition!.objective?.metric).toBe('auc');
     expect(random!.sampler.kind).toBe('random');
     expect(random!.budget).toEqual({ trials: 16, maxEpochs: 20 });
+  });
+
+  it('search the same space and data with the Sobol design, TPE and TPE inside Hyperband', () => {
+    const random = load('studies/demo/study.json');
+    const kinds = ['study-sobol', 'study-tpe', 'study-tpe-hyperband'].map((name) => load(`studies/demo/${name}.json`));
+    for (const definition of kinds) {
+      expect(definition.space).toEqual(random.space);
+      expect(definition.data).toEqual(random.data);
+    }
+    expect(kinds.map((definition) => definition.sampler.kind)).toEqual(['sobol', 'tpe', 'tpe-hyperband']);
   });
 
   it('halve 27 configurations by 3 from 1 epoch to 27', () => {
