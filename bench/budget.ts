@@ -41,7 +41,7 @@ const fullyTrained = (trials: readonly TrialRecord[], maxEpochs: number): TrialR
 
 const bestOf = (trials: readonly TrialRecord[]): number => Math.max(...trials.map((t) => t.objective!));
 
-async function studyBase(name: string, dir: string): Promise<StudyDefinitionInput['data'] | undefined> {
+export async function studyBase(name: string, dir: string): Promise<StudyDefinitionInput['data'] | undefined> {
   if (name === 'penguins') {
     const csv = await writePenguinsCsv(dir);
     return { csv, target: 'Species', task: 'multiclass', splitSeed: 1 };

@@ -7,6 +7,7 @@ import path from 'node:path';
 import { budgetGroup } from './budget.js';
 import { engineGroup } from './engine.js';
 import { memoryGroup } from './memory.js';
+import { modelGroup } from './model.js';
 import { overheadGroup } from './overhead.js';
 import { poolGroup } from './pool.js';
 import { groupMarkdown, machineInfo, writeResults, type GroupResult } from './report.js';
@@ -27,6 +28,7 @@ const GROUPS: Record<string, (options: BenchOptions) => Promise<GroupResult>> = 
   memory: memoryGroup,
   scheduling: schedulingGroup,
   budget: budgetGroup,
+  model: modelGroup,
 };
 
 function parseArgs(argv: string[]): { quick: boolean; only: string[] } {
