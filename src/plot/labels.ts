@@ -49,7 +49,7 @@ export function statusScale(statuses: Iterable<string>): { domain: string[]; ran
   };
 }
 
-const HALVING_KINDS: ReadonlySet<SamplerKind> = new Set(['successive-halving', 'hyperband', 'async-halving']);
+const HALVING_KINDS: ReadonlySet<SamplerKind> = new Set(['successive-halving', 'hyperband', 'async-halving', 'tpe-hyperband']);
 
 /** True for samplers that stop trials at rungs (their trials carry meaningful rung numbers). */
 export function isHalving(kind: SamplerKind): boolean {

@@ -118,7 +118,7 @@ export class TpeHyperbandSampler implements Sampler {
       const observations = this.results.get(epochs)!.filter((o) => o.bracketIndex < visibleBefore);
       if (observations.length < minResults + 2) continue;
       const fitted = new TpeModel(design.dimensions, observations, { ...model, minimumGroup: minResults });
-      return { point: snap(design.dimensions, fitted.propose(stream('propose', trialId)).point), origin: { method: 'tpe', batch: bracketIndex, fittedOnEpochs: epochs } };
+      return { point: fitted.propose(stream('propose', trialId)).point, origin: { method: 'tpe', batch: bracketIndex, fittedOnEpochs: epochs } };
     }
     return random();
   }

@@ -8,7 +8,7 @@
  */
 import { z } from 'zod';
 import type { Rng } from '../random/streams.js';
-import type { Dimension } from '../space/dimensions.js';
+import { snap, type Dimension } from '../space/dimensions.js';
 import { BANDWIDTH_RULES, drawIndex, fitCategorical, fitNumeric, numericDensity, sampleNumeric, type BandwidthRule, type NumericParzen } from './parzen.js';
 import { rank } from './rungs.js';
 
@@ -95,7 +95,10 @@ export class TpeModel {
     return logDensity(this.good, point) - logDensity(this.rest, point);
   }
 
-  /** The candidate with the largest l(x) / g(x) among `settings.candidates` drawn from l(x) (ties: the first drawn). */
+  /**
+   * The candidate with the largest l(x) / g(x) among `settings.candidates` drawn from l(x) (ties: the
+   * first drawn), moved to the centres of its integer and categorical cells.
+   */
   propose(rng: Rng): { point: number[]; score: number } {
     let best: { point: number[]; score: number } | undefined;
     for (let i = 0; i < this.settings.candidates; i++) {
@@ -103,7 +106,7 @@ export class TpeModel {
       const score = this.score(point);
       if (!best || score > best.score) best = { point, score };
     }
-    return best!;
+    return { point: snap(this.dimensions, best!.point), score: best!.score };
   }
 }
 

@@ -1,6 +1,5 @@
 import { z } from 'zod';
 import type { Rng } from '../random/streams.js';
-import { snap } from '../space/dimensions.js';
 import { seedField } from '../study/fields.js';
 import { sobolDesign, spaceDesign, type UnitDesign } from './design.js';
 import { defineSampler, type Job, type JobOutcome, type ProposalOrigin, type Sampler } from './sampler.js';
@@ -115,7 +114,7 @@ export class TpeSampler implements Sampler {
 
   private model(observations: readonly Observation[], trialId: number): number[] {
     const { design, model, proposalStream } = this.options;
-    return snap(design.dimensions, new TpeModel(design.dimensions, observations, model).propose(proposalStream(trialId)).point);
+    return new TpeModel(design.dimensions, observations, model).propose(proposalStream(trialId)).point;
   }
 }
 
