@@ -102,4 +102,26 @@ describe('hyperband sampler', () => {
     const four = simulate(create(), { workers: 4, loss, duration: (j) => (j.trialId % 3) + j.toEpoch }).jobs.map(key).sort();
     expect(four).toEqual(one);
   });
+
+  it('repeats the brackets for several passes, trial ids running on', () => {
+    const twice = new HyperbandSampler({ maxEpochs: 9, minEpochs: 1, eta: 3, paramsFor, iterations: 2 });
+    const log = simulate(twice, { workers: 2, loss: (job) => job.trialId / 100 });
+    const started = log.jobs.filter((j) => j.rung === 0);
+    expect(started.map((j) => j.trialId).sort((a, b) => a - b)).toEqual([...Array(34).keys()]);
+    expect(started.filter((j) => j.trialId >= 17).map((j) => j.bracket)).toEqual([...Array(9).fill(2), ...Array(5).fill(1), ...Array(3).fill(0)]);
+  });
+
+  it('holds a bracket, and every later one, while mayStartBracket says no, and records the injected origin', () => {
+    let open = false;
+    const held = new HyperbandSampler({
+      maxEpochs: 9, minEpochs: 1, eta: 3, paramsFor,
+      mayStartBracket: (index) => index === 0 || open,
+      originFor: (trialId) => ({ method: 'test', batch: trialId }),
+    });
+    const first = Array.from({ length: 9 }, () => held.next() as Job);
+    expect(first.map((j) => j.origin)).toEqual([...Array(9).keys()].map((id) => ({ method: 'test', batch: id })));
+    expect(held.next()).toBe('wait');
+    open = true;
+    expect((held.next() as Job).bracket).toBe(1);
+  });
 });
