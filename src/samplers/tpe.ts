@@ -30,8 +30,9 @@ export interface TpeSamplerOptions {
  * result of the earlier batches. A batch starts only when every earlier batch has reported ('wait'
  * until then), and within a batch proposal j also sees proposals 0 .. j - 1 as constant liars (loss
  * null: ranked worst), so the configurations do not depend on worker count or arrival order.
- * Asynchronous mode fits on whatever has reported when asked, with every running trial as a liar:
- * no worker waits, but the configurations depend on timing.
+ * Asynchronous mode fits on whatever has reported when asked, with every running trial as a liar,
+ * and keeps to the Sobol design until startupTrials results are in (so a few more than startupTrials
+ * may come from it): no worker waits, but the configurations depend on timing.
  * Source: Bergstra, Bardenet, Bengio, Kégl, NeurIPS 2011; constant liar: Ginsbourger, Le Riche, Carraro,
  * "Kriging is well-suited to parallelize optimization", 2010 (CL-max, the worst value; From memory).
  */
