@@ -13,7 +13,7 @@ import type { Job } from '../src/samplers/sampler.js';
 import { simulate } from '../src/samplers/simulate.js';
 import { TpeHyperbandSampler, tpeHyperbandPlugin } from '../src/samplers/tpe-hyperband.js';
 import { budgetSchema, samplerSchema, spaceSchema } from '../src/study/definition.js';
-import { BRANIN, HARTMANN6, designOf, median, type TestFunction } from './helpers/test-functions.js';
+import { BRANIN, HARTMANN6, designOf, median, unevenDuration, type TestFunction } from './helpers/test-functions.js';
 
 function create(fn: TestFunction, seed: number, options: object = {}, maxEpochs = 9): TpeHyperbandSampler {
   const settings = tpeHyperbandPlugin.schema.parse({ kind: 'tpe-hyperband', seed, ...options });
@@ -32,7 +32,6 @@ function create(fn: TestFunction, seed: number, options: object = {}, maxEpochs 
 }
 
 const firstJobs = (jobs: readonly Job[]) => jobs.filter((job) => job.rung === 0).sort((a, b) => a.trialId - b.trialId);
-const uneven = (job: Job) => (job.toEpoch - job.fromEpoch) * (1 + ((job.trialId * 7) % 5));
 /** A loss that falls with the epochs trained, so short rungs rank roughly as long ones. */
 const withEpochs = (fn: TestFunction, sampler: TpeHyperbandSampler) => (job: Job) =>
   fn.evaluate(decode(fn.dimensions, sampler.pointOf(job.trialId)!) as Record<string, number>) + 1 / job.toEpoch;
@@ -41,7 +40,7 @@ describe('tpe-hyperband proposals', () => {
   // maxEpochs 9, eta 3: brackets s = 2 (9 @ 1, 3 @ 3, 1 @ 9), s = 1 (5 @ 3, 1 @ 9), s = 0 (3 @ 9): 17 trials.
   it('draws the first two brackets at random and fits the third on bracket 0 at the largest budget with N_min + 2 results', () => {
     const sampler = create(BRANIN, 2, { randomFraction: 0 });
-    const log = simulate(sampler, { workers: 2, loss: withEpochs(BRANIN, sampler), duration: uneven });
+    const log = simulate(sampler, { workers: 2, loss: withEpochs(BRANIN, sampler), duration: unevenDuration });
     const origins = firstJobs(log.jobs).map((job) => job.origin);
     expect(origins.slice(0, 14)).toEqual([...Array(9).fill({ method: 'random', batch: 0 }), ...Array(5).fill({ method: 'random', batch: 1 })]);
     // N_min = 2 dimensions + 1 = 3: a budget needs 5 results. Bracket 0 has 9 at 1 epoch, 3 at 3, 1 at 9.
@@ -80,7 +79,7 @@ describe('tpe-hyperband proposals', () => {
 describe('tpe-hyperband determinism', () => {
   const trialsOf = (workers: number) => {
     const sampler = create(HARTMANN6, 7, { iterations: 2 });
-    const log = simulate(sampler, { workers, loss: withEpochs(HARTMANN6, sampler), duration: uneven });
+    const log = simulate(sampler, { workers, loss: withEpochs(HARTMANN6, sampler), duration: unevenDuration });
     return {
       order: log.outcomes.map((o) => `${o.trialId}/${o.rung}`),
       jobs: log.jobs.map((job) => JSON.stringify([job.trialId, job.rung, job.fromEpoch, job.toEpoch, job.origin, sampler.pointOf(job.trialId)])).sort(),
@@ -102,15 +101,15 @@ describe('tpe-hyperband determinism', () => {
     };
     const loss = (job: Job) => Math.abs(Math.log10(job.params.learningRate) + 2) + job.params.width / (100 * job.toEpoch);
     const key = (job: Job) => JSON.stringify([job.trialId, job.rung, job.fromEpoch, job.toEpoch, job.params, job.origin ?? null]);
-    const whole = simulate(createSampler(definition), { workers: 3, loss, duration: uneven });
+    const whole = simulate(createSampler(definition), { workers: 3, loss, duration: unevenDuration });
     expect(whole.jobs.filter((job) => job.rung === 0)).toHaveLength(plannedBudget(definition).trials);
     expect(whole.jobs.some((job) => job.origin?.method === 'tpe')).toBe(true);
     for (const reports of [3, 12, 20, 30]) {
-      const crashed = simulate(createSampler(definition), { workers: 3, loss, duration: uneven, stopAfterReports: reports });
+      const crashed = simulate(createSampler(definition), { workers: 3, loss, duration: unevenDuration, stopAfterReports: reports });
       const resumed = createSampler(definition);
       const { pending, unused } = replay(resumed, crashed.outcomes);
       expect(unused).toEqual([]);
-      const rest = simulate(resumed, { workers: 3, loss, duration: uneven, running: pending });
+      const rest = simulate(resumed, { workers: 3, loss, duration: unevenDuration, running: pending });
       const done = new Set(crashed.outcomes.map((o) => `${o.trialId}/${o.rung}`));
       const ran = [...crashed.jobs.filter((job) => done.has(`${job.trialId}/${job.rung}`)), ...pending, ...rest.jobs];
       expect(ran.map(key).sort()).toEqual(whole.jobs.map(key).sort());

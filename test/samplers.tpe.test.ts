@@ -14,7 +14,7 @@ import { simulate } from '../src/samplers/simulate.js';
 import { TpeSampler } from '../src/samplers/tpe.js';
 import { tpePlugin } from '../src/samplers/tpe.js';
 import { budgetSchema, samplerSchema, spaceSchema } from '../src/study/definition.js';
-import { BRANIN, HARTMANN6, PLACEHOLDER_PARAMS, designOf, median, runOnFunction, type TestFunction } from './helpers/test-functions.js';
+import { BRANIN, HARTMANN6, PLACEHOLDER_PARAMS, designOf, median, runOnFunction, unevenDuration, type TestFunction } from './helpers/test-functions.js';
 
 /** A TPE sampler on a test function with the `tpe` kind's defaults (and any options given). */
 function tpeOn(fn: TestFunction, trials: number, seed: number, options: object = {}): TpeSampler {
@@ -48,15 +48,13 @@ function randomOn(fn: TestFunction, trials: number, seed: number): RandomSampler
 }
 
 const SEEDS = Array.from({ length: 20 }, (_, seed) => seed);
-/** Durations that differ by trial, so several workers report out of hand-out order. */
-const uneven = (job: Job) => 1 + ((job.trialId * 7) % 5);
 
 describe.each([
   [BRANIN, 50],
   [HARTMANN6, 100],
 ])('TPE on %s', (fn, n) => {
   // Source: REFERENCES.md, "Test functions with known minima" (Branin 0.397887; Hartmann 6-D -3.32237).
-  const tpeBest = SEEDS.map((seed) => Math.min(...runOnFunction(tpeOn(fn, n, seed), fn, 2, uneven).values));
+  const tpeBest = SEEDS.map((seed) => Math.min(...runOnFunction(tpeOn(fn, n, seed), fn, 2, unevenDuration).values));
   const randomBest = SEEDS.map((seed) => Math.min(...runOnFunction(randomOn(fn, 2 * n, seed), fn, 2).values));
 
   it(`over 20 seeds, its median best after ${n} evaluations beats random search's after ${2 * n}, by more than half the gap to the minimum`, () => {
@@ -93,7 +91,7 @@ describe('TPE batches', () => {
   it('gives the same trials whatever the worker count and arrival order', () => {
     const trialsOf = (workers: number) => {
       const sampler = tpeOn(HARTMANN6, 40, 3, { startupTrials: 8, batchSize: 4 });
-      const { log } = runOnFunction(sampler, HARTMANN6, workers, uneven);
+      const { log } = runOnFunction(sampler, HARTMANN6, workers, unevenDuration);
       return { order: log.outcomes.map((o) => o.trialId), trials: log.jobs.map((job) => [job.trialId, job.origin, sampler.pointOf(job.trialId)]).sort((a, b) => (a[0] as number) - (b[0] as number)) };
     };
     const one = trialsOf(1);
@@ -105,7 +103,7 @@ describe('TPE batches', () => {
   it('in asynchronous mode hands out a job whenever asked, so different worker counts may give different trials', () => {
     const pointsOf = (workers: number) => {
       const sampler = tpeOn(HARTMANN6, 30, 3, { startupTrials: 8, asynchronous: true });
-      const { log } = runOnFunction(sampler, HARTMANN6, workers, uneven);
+      const { log } = runOnFunction(sampler, HARTMANN6, workers, unevenDuration);
       expect(log.jobs).toHaveLength(30);
       return log.jobs.map((job) => sampler.pointOf(job.trialId));
     };
@@ -134,7 +132,7 @@ describe('the tpe kind in a study', () => {
   const key = (job: Job) => JSON.stringify([job.trialId, job.rung, job.fromEpoch, job.toEpoch, job.params, job.origin]);
 
   it('trains every trial to maxEpochs and moves towards the good region once the model proposes', () => {
-    const log = simulate(createSampler(definition), { workers: 2, loss, duration: uneven });
+    const log = simulate(createSampler(definition), { workers: 2, loss, duration: unevenDuration });
     expect(log.jobs).toHaveLength(24);
     expect(log.jobs.every((job) => job.fromEpoch === 0 && job.toEpoch === 9)).toBe(true);
     const lossOf = (from: number, to: number) => median(log.jobs.filter((job) => job.trialId >= from && job.trialId < to).map(loss));
@@ -142,14 +140,14 @@ describe('the tpe kind in a study', () => {
   });
 
   it('resumed from the recorded outcomes at any point, proposes the same configurations as an uninterrupted run', () => {
-    const whole = simulate(createSampler(definition), { workers: 3, loss, duration: uneven });
+    const whole = simulate(createSampler(definition), { workers: 3, loss, duration: unevenDuration });
     const all = whole.jobs.map(key).sort();
     for (const reports of [1, 8, 9, 13, 20]) {
-      const crashed = simulate(createSampler(definition), { workers: 3, loss, duration: uneven, stopAfterReports: reports });
+      const crashed = simulate(createSampler(definition), { workers: 3, loss, duration: unevenDuration, stopAfterReports: reports });
       const resumed = createSampler(definition);
       const { pending, unused } = replay(resumed, [...crashed.outcomes].reverse());
       expect(unused).toEqual([]);
-      const rest = simulate(resumed, { workers: 3, loss, duration: uneven, running: pending });
+      const rest = simulate(resumed, { workers: 3, loss, duration: unevenDuration, running: pending });
       const done = new Set(crashed.outcomes.map((o) => o.trialId));
       const ran = [...crashed.jobs.filter((job) => done.has(job.trialId)), ...pending, ...rest.jobs];
       expect(ran.map(key).sort()).toEqual(all);
