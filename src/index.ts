@@ -1,7 +1,10 @@
-/** rungwise's library API: everything the CLI does is callable from here. */
+/**
+ * rungwise's library API: everything the CLI does is callable from here.
+ * The README's "API" section shows each part in use.
+ */
 export { UserError, isUserError } from './errors.js';
 export * from './study/definition.js';
-export { loadStudy, validateStudy, type LoadedStudy } from './study/load.js';
+export { loadStudy, validateStudy, studyFromObject, type LoadedStudy } from './study/load.js';
 export { studyJsonSchema } from './study/json-schema.js';
 export { runStudy, type RunOptions, type StudyOutcome } from './runner/run-study.js';
 export { resumeStudy, type ResumeOptions, type ResumeOutcome } from './runner/resume-study.js';
@@ -13,9 +16,24 @@ export type { StudyDocument, TrialRecord, TrialStatus, CurvePoint, StudyTotals }
 export type { PreparedData, PreprocessingRecipe, FeatureRecipe, DataSummary } from './data/types.js';
 export type { Sampler, Job, JobOutcome } from './samplers/sampler.js';
 export type { EpochReport, TrainRequest, TrainResult, SharedDataset } from './pool/messages.js';
+export { plannedWork, type PlannedWork } from './report/budget.js';
+export { studyResultJson, type StudyResultJson, type TrialEntry } from './report/study-result.js';
 export { run, type RunCommandOptions } from './commands/run.js';
-export { ranking, type RankingCommandOptions } from './commands/ranking.js';
+export type { ProgressTarget } from './commands/observe.js';
+export { ranking, type RankingCommandOptions, type RankingResult } from './commands/ranking.js';
 export { resume, type ResumeCommandOptions } from './commands/resume.js';
 export { plot, type PlotOptions } from './commands/plot.js';
-export { exportModel, exportReport, type ExportSummary } from './commands/export.js';
-export { predict, predictReport, type PredictSummary } from './commands/predict.js';
+export { exportModel, exportReport, type ExportCommandOptions, type ExportFormat, type ExportSummary } from './commands/export.js';
+export { predictCsv, predictReport, type PredictCommandOptions, type PredictSummary } from './commands/predict.js';
+export { runDemo, copyDemo, type DemoOptions } from './commands/demo.js';
+export {
+  loadModel,
+  predict,
+  decisionThreshold,
+  type LoadedModel,
+  type InputRow,
+  type Prediction,
+  type ClassPrediction,
+  type ValuePrediction,
+} from './export/hand-off.js';
+export type { ExportConfiguration, ModelOutputs } from './export/configuration.js';

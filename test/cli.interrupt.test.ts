@@ -10,7 +10,7 @@ interface Started {
   child: ChildProcessWithoutNullStreams;
   output: () => { stdout: string; stderr: string };
   exited: Promise<number | null>;
-  /** Resolves once stdout has shown a line matching `pattern`. */
+  /** Resolves once stderr has shown a line matching `pattern`. */
   waitFor: (pattern: RegExp) => Promise<void>;
 }
 
@@ -19,17 +19,18 @@ function start(args: string[], env: NodeJS.ProcessEnv = {}): Started {
   let stdout = '';
   let stderr = '';
   const waiters: { pattern: RegExp; resolve: () => void }[] = [];
-  child.stdout.on('data', (chunk: Buffer) => {
-    stdout += chunk.toString();
-    for (const w of waiters.filter((w) => w.pattern.test(stdout))) w.resolve();
+  // Progress goes to stderr, results to stdout.
+  child.stdout.on('data', (chunk: Buffer) => (stdout += chunk.toString()));
+  child.stderr.on('data', (chunk: Buffer) => {
+    stderr += chunk.toString();
+    for (const w of waiters.filter((w) => w.pattern.test(stderr))) w.resolve();
   });
-  child.stderr.on('data', (chunk: Buffer) => (stderr += chunk.toString()));
   const exited = new Promise<number | null>((resolve) => child.on('close', (code) => resolve(code)));
   return {
     child,
     output: () => ({ stdout, stderr }),
     exited,
-    waitFor: (pattern) => (pattern.test(stdout) ? Promise.resolve() : new Promise((resolve) => waiters.push({ pattern, resolve }))),
+    waitFor: (pattern) => (pattern.test(stderr) ? Promise.resolve() : new Promise((resolve) => waiters.push({ pattern, resolve }))),
   };
 }
 
@@ -40,10 +41,11 @@ describe('stopping a running study', () => {
     const file = await writeTinyStudy(longStudy());
     const dir = path.join(path.dirname(file), 'run');
     const run = start(['run', file, '--out', dir]);
-    await run.waitFor(/\[\d+\/40\] trial/);
+    await run.waitFor(/\[\d+\/40 jobs, \d+\/200 epochs\] trial/);
     run.child.kill('SIGINT');
     expect(await run.exited).toBe(130);
-    expect(run.output().stdout).toContain(`continue it with: rungwise resume ${dir}`);
+    expect(run.output().stderr).toContain(`continue it with: rungwise resume ${dir}`);
+    expect(run.output().stdout).toMatch(/study tiny interrupted: /);
     const doc = (await StudyStore.open(dir)).doc;
     expect(doc.state).toBe('interrupted');
     expect(doc.trials.filter((t) => t.status === 'completed').length).toBeGreaterThanOrEqual(1);
@@ -54,7 +56,7 @@ describe('stopping a running study', () => {
     const file = await writeTinyStudy(longStudy());
     const dir = path.join(path.dirname(file), 'run');
     const run = start(['run', file, '--out', dir]);
-    await run.waitFor(/\[\d+\/40\] trial/);
+    await run.waitFor(/\[\d+\/40 jobs, \d+\/200 epochs\] trial/);
     run.child.kill('SIGINT');
     run.child.kill('SIGINT');
     expect(await run.exited).toBe(130);
@@ -67,7 +69,7 @@ describe('stopping a running study', () => {
     const dir = path.join(path.dirname(file), 'run');
     // Trial 1 never returns, so the first run holds the directory until it is killed.
     const first = start(['run', file, '--out', dir], { [FAULT_VARIABLE]: '1:hang' });
-    await first.waitFor(/\[\d+\/40\] trial/);
+    await first.waitFor(/\[\d+\/40 jobs, \d+\/200 epochs\] trial/);
     const second = await runCli(['resume', dir]);
     const third = await runCli(['run', file, '--out', dir, '--force']);
     first.child.kill('SIGKILL');

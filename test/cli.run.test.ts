@@ -37,8 +37,11 @@ describe('rungwise run and ranking', () => {
   it('runs a study, prints the ranking table and the study file, then ranks it again as JSON', async () => {
     const out = path.join(dir, 'run');
     const result = await runCli(['run', studyFile, '--out', out]);
-    expect(result.stderr).toBe('');
     expect(result.code).toBe(0);
+    // Progress (one line per ended job when not a terminal) goes to stderr, the result to stdout.
+    expect(result.stderr).toMatch(/^running study iris-cli on 2 workers: 3 jobs, 12 epochs planned/);
+    expect(result.stderr.match(/^\[\d\/3 jobs, \d+\/12 epochs\] trial \d done/gm)).toHaveLength(3);
+    expect(result.stdout).not.toMatch(/jobs|planned/);
     expect(result.stdout).toMatch(/rank\s+trial\s+rung\s+epochs\s+accuracy/);
     expect(result.stdout).toContain(`study file: ${path.join(out, 'study.json')}`);
     expect(result.stdout).toContain('validation score of a configuration picked from many is optimistic');

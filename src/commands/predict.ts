@@ -1,30 +1,37 @@
-import { existsSync } from 'node:fs';
 import path from 'node:path';
-import { writeFileDurably } from '../files/durable-write.js';
 import { readCsv } from '../data/csv.js';
-import { encodeFeatures } from '../data/recipe.js';
+import { writeFileDurably } from '../files/durable-write.js';
 import { UserError } from '../errors.js';
-import { readConfiguration } from '../export/configuration.js';
-import { MODEL_FILE, loadLayersModelFromDir, predictRows } from '../export/model-files.js';
+import { decisionThreshold, encodeRows, interpretOutputs, loadModel } from '../export/hand-off.js';
+import { predictRows } from '../export/model-files.js';
 import { predictionTable, predictionsCsv } from '../export/predictions.js';
 import type { Task } from '../study/definition.js';
-import { initBackend } from '../train/backend.js';
+import { didYouMean } from '../text/nearest.js';
+
+/** `--output -`: the predictions go to standard output. */
+export const STDOUT = '-';
 
 export interface PredictCommandOptions {
   /** An export folder written by `rungwise export`. */
   model: string;
   /** CSV with (at least) the model's feature columns; other columns, the target included, are ignored. */
   data: string;
-  /** Predictions CSV. @default `<data without .csv>.predictions.csv` beside the input */
+  /** Predictions CSV, or `-` for standard output. @default `<data without .csv>.predictions.csv` beside the input */
   output?: string;
+  /** Input columns copied into the predictions (identifiers), after the line number. */
+  keep?: readonly string[];
+  /** Where `--output -` writes. @default process.stdout */
+  stdout?: NodeJS.WritableStream;
 }
 
 export interface PredictSummary {
-  /** The predictions file written. */
+  /** The predictions file written, or `-` for standard output. */
   output: string;
   rows: number;
   task: Task;
   header: string[];
+  /** The decision threshold applied (binary only). */
+  threshold?: number;
 }
 
 /** `<folder>/<name>.predictions.csv` for `<folder>/<name>.csv`. */
@@ -36,36 +43,43 @@ export function defaultPredictionsPath(data: string): string {
 
 /**
  * `rungwise predict`: applies an exported model to a CSV. Each row is encoded with the export's
- * recipe (missing values imputed as the recipe says, an unseen category as all zeros) and the
- * predictions are written atomically, one row per input row with its CSV line number.
- * @throws UserError when the folder is not an export, or the CSV lacks a feature column or holds text in a numeric one.
+ * recipe (missing values imputed as the recipe says, an unseen category as all zeros); the predictions
+ * are written atomically (or to standard output), one row per input row with its CSV line number and
+ * the kept columns.
+ * @throws UserError when the folder is not an export, a kept column is absent, or the CSV lacks a feature column or holds text in a numeric one.
  */
-export async function predict(options: PredictCommandOptions): Promise<PredictSummary> {
-  const configuration = await readConfiguration(options.model);
-  const modelFile = path.join(options.model, MODEL_FILE);
-  if (!existsSync(modelFile)) throw new UserError('E_MODEL', `${modelFile}: not found; export the model again with \`rungwise export\``);
+export async function predictCsv(options: PredictCommandOptions): Promise<PredictSummary> {
   const output = options.output ?? defaultPredictionsPath(options.data);
-  if (path.resolve(output) === path.resolve(options.data)) {
+  if (output !== STDOUT && path.resolve(output) === path.resolve(options.data)) {
     throw new UserError('E_PREDICT_OUTPUT', `${output}: is the input CSV itself; choose another --output`);
   }
-  const table = await readCsv(options.data);
-  const { recipe } = configuration;
-  const x = encodeFeatures(recipe, table.rows, table.file, table.lines);
-
-  await initBackend();
-  const model = await loadLayersModelFromDir(options.model);
-  let outputs: Float32Array;
+  const model = await loadModel(options.model);
   try {
-    outputs = predictRows(model, x, table.rows.length, recipe.inputCount);
+    const { configuration } = model;
+    const table = await readCsv(options.data);
+    const keep = [...new Set(options.keep ?? [])];
+    for (const column of keep) {
+      if (!table.columns.includes(column)) {
+        throw new UserError('E_PREDICT_KEEP', `${table.file}: --keep ${column}: no such column${didYouMean(column, table.columns)} (columns: ${table.columns.join(', ')})`);
+      }
+    }
+    const x = encodeRows(configuration, table.rows, table.file, table.lines);
+    const outputs = predictRows(model.network, x, table.rows.length, configuration.recipe.inputCount);
+    const predictions = interpretOutputs(configuration, outputs, table.rows.length);
+    const result = predictionTable(configuration, table, predictions, keep);
+    const csv = predictionsCsv(result);
+    if (output === STDOUT) (options.stdout ?? process.stdout).write(csv);
+    else await writeFileDurably(output, csv);
+    const summary: PredictSummary = { output, rows: table.rows.length, task: configuration.recipe.task, header: result.header };
+    if (configuration.recipe.task === 'binary') summary.threshold = decisionThreshold(configuration);
+    return summary;
   } finally {
     model.dispose();
   }
-  const predictions = predictionTable(configuration, table, outputs);
-  await writeFileDurably(output, predictionsCsv(predictions));
-  return { output, rows: table.rows.length, task: recipe.task, header: predictions.header };
 }
 
-/** What the CLI prints after predicting. */
+/** What the CLI prints after predicting into a file. */
 export function predictReport(summary: PredictSummary): string {
-  return `wrote ${summary.rows} prediction${summary.rows === 1 ? '' : 's'} (${summary.header.join(', ')}) to ${summary.output}`;
+  const where = summary.output === STDOUT ? 'standard output' : summary.output;
+  return `wrote ${summary.rows} prediction${summary.rows === 1 ? '' : 's'} (${summary.header.join(', ')}) to ${where}`;
 }

@@ -1,18 +1,21 @@
-import { rankingJson, rankingTable } from '../report/ranking-table.js';
-import { rankTrials } from '../study/objective.js';
+import { rankTrials, type RankedTrial } from '../study/objective.js';
 import { StudyStore, studyFilePath } from '../store/study-store.js';
+import type { StudyDocument } from '../store/types.js';
 
 export interface RankingCommandOptions {
+  /** Run directory holding `study.json`. */
   dir: string;
-  top?: number;
-  json?: boolean;
 }
 
-/** `rungwise ranking`: the ranking from the saved study file alone, as a table or JSON. */
-export async function ranking(options: RankingCommandOptions): Promise<string> {
+export interface RankingResult {
+  doc: StudyDocument;
+  ranking: RankedTrial[];
+  /** The study file read. */
+  file: string;
+}
+
+/** `rungwise ranking`: the study's ranking from the saved study file alone. */
+export async function ranking(options: RankingCommandOptions): Promise<RankingResult> {
   const doc = await StudyStore.read(options.dir);
-  const ranked = rankTrials(doc.trials, doc.objective).slice(0, options.top ?? 10);
-  if (options.json) return JSON.stringify({ study: doc.name, state: doc.state, file: studyFilePath(options.dir), ...(rankingJson(ranked, doc.objective) as object) }, null, 2);
-  const header = `study ${doc.name} (${doc.state}), ${doc.trials.length} trials, ranked by ${doc.objective.metric} (${doc.objective.direction})`;
-  return `${header}\n\n${rankingTable(ranked, doc.objective)}`;
+  return { doc, ranking: rankTrials(doc.trials, doc.objective), file: studyFilePath(options.dir) };
 }

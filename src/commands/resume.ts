@@ -1,34 +1,25 @@
-import { progressObserver } from '../report/progress.js';
-import { rankingTable } from '../report/ranking-table.js';
-import { studySummary } from '../report/summary.js';
 import { resumeStudy, type ResumeOutcome } from '../runner/resume-study.js';
 import { StudyStore } from '../store/study-store.js';
-import { noResultError } from '../study/trial-status.js';
+import { studyObserver, type ProgressTarget } from './observe.js';
 
-export interface ResumeCommandOptions {
+export interface ResumeCommandOptions extends ProgressTarget {
+  /** Run directory holding `study.json`. */
   dir: string;
+  /** Worker threads. @default the study's `workers`, else available cores */
   workers?: number;
-  top?: number;
-  stdout?: NodeJS.WritableStream;
   signal?: AbortSignal;
 }
 
-/** `rungwise resume`: continue an interrupted study; a finished one is reported as such. */
+/**
+ * `rungwise resume`: continue an interrupted study (finished trials are kept). A finished study is
+ * returned as it is, with `alreadyFinished` set.
+ */
 export async function resume(options: ResumeCommandOptions): Promise<ResumeOutcome> {
-  const stdout = options.stdout ?? process.stdout;
-  const { objective } = await StudyStore.read(options.dir);
-  const outcome = await resumeStudy(options.dir, {
+  const saved = await StudyStore.read(options.dir);
+  const onEvent = studyObserver(options, saved.definition, saved.objective, saved);
+  return resumeStudy(options.dir, {
     ...(options.workers !== undefined ? { workers: options.workers } : {}),
     ...(options.signal ? { signal: options.signal } : {}),
-    onEvent: progressObserver({ objective, stream: stdout }),
+    ...(onEvent ? { onEvent } : {}),
   });
-  if (outcome.alreadyFinished) {
-    stdout.write(`study ${outcome.doc.name} is already finished; nothing to resume (see \`rungwise ranking ${outcome.dir}\`)\n`);
-    return outcome;
-  }
-  stdout.write(`\n${rankingTable(outcome.ranking.slice(0, options.top ?? 10), objective)}\n\n`);
-  stdout.write(`${studySummary(outcome.doc, outcome.file)}\n`);
-  const noResult = outcome.doc.state === 'finished' ? noResultError(outcome.doc.trials, outcome.file) : undefined;
-  if (noResult) throw noResult;
-  return outcome;
 }

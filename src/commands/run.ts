@@ -1,38 +1,50 @@
-import { progressObserver } from '../report/progress.js';
-import { rankingTable } from '../report/ranking-table.js';
+import path from 'node:path';
 import { runStudy, type StudyOutcome } from '../runner/run-study.js';
-import { loadStudy } from '../study/load.js';
-import { resolveObjective } from '../study/definition.js';
-import { studySummary } from '../report/summary.js';
-import { noResultError } from '../study/trial-status.js';
+import { resolveObjective, type StudyDefinitionInput } from '../study/definition.js';
+import { loadStudy, studyFromObject } from '../study/load.js';
+import { studyObserver, type ProgressTarget } from './observe.js';
 
-export interface RunCommandOptions {
-  definition: string;
+export interface RunCommandOptions extends ProgressTarget {
+  /** A study definition file (JSON), or the definition itself as an object. */
+  definition: string | StudyDefinitionInput;
+  /** For a definition object: the folder its `data.csv` is relative to. @default the current directory */
+  baseDir?: string;
+  /** Run directory. @default `runs/<study name>` */
   out?: string;
+  /** Worker threads. @default the study's `workers`, else available cores */
   workers?: number;
+  /** Replace a run directory that already holds a study. */
   force?: boolean;
-  top?: number;
-  /** Where progress and the final table go. @default process.stdout */
-  stdout?: NodeJS.WritableStream;
+  /** Aborting stops starting jobs; running ones finish and the study is saved as interrupted. */
   signal?: AbortSignal;
 }
 
-/** `rungwise run`: launch a study, show progress, print the top configurations and the study file's path. */
+/**
+ * `rungwise run`: validate the definition, run the study with a progress display, and return the
+ * saved study and its ranking (the CLI prints them).
+ * @throws UserError for a bad definition or CSV, before anything is written.
+ * @example
+ * import { run } from 'rungwise';
+ * const { ranking, file } = await run({
+ *   definition: { name: 'pumps', data: { csv: 'pumps.csv', target: 'fails', task: 'binary' }, space: { ... }, budget: { trials: 8, maxEpochs: 5 }, sampler: { kind: 'random', seed: 1 } },
+ *   out: 'runs/pumps',
+ *   progress: false,
+ *   onEvent: (event) => { if (event.type === 'trial-finished') console.log(event.trial.id, event.trial.objective); },
+ * });
+ */
 export async function run(options: RunCommandOptions): Promise<StudyOutcome> {
-  const stdout = options.stdout ?? process.stdout;
   // Validate before anything is drawn, so bad input gives only its one-line error.
-  const study = await loadStudy(options.definition);
+  const study =
+    typeof options.definition === 'string'
+      ? await loadStudy(options.definition)
+      : studyFromObject(options.definition, path.resolve(options.baseDir ?? '.'));
   const objective = resolveObjective(study.definition);
-  const outcome = await runStudy(study, {
+  const onEvent = studyObserver(options, study.definition, objective);
+  return runStudy(study, {
     ...(options.out !== undefined ? { out: options.out } : {}),
     ...(options.workers !== undefined ? { workers: options.workers } : {}),
     ...(options.force !== undefined ? { force: options.force } : {}),
     ...(options.signal ? { signal: options.signal } : {}),
-    onEvent: progressObserver({ objective, stream: stdout }),
+    ...(onEvent ? { onEvent } : {}),
   });
-  stdout.write(`\n${rankingTable(outcome.ranking.slice(0, options.top ?? 10), objective)}\n\n`);
-  stdout.write(`${studySummary(outcome.doc, outcome.file)}\n`);
-  const noResult = outcome.doc.state === 'finished' ? noResultError(outcome.doc.trials, outcome.file) : undefined;
-  if (noResult) throw noResult;
-  return outcome;
 }

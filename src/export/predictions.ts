@@ -1,8 +1,8 @@
 import type { CsvTable } from '../data/csv.js';
-import { argmaxRows } from '../train/metrics.js';
 import type { ExportConfiguration } from './configuration.js';
+import type { Prediction } from './hand-off.js';
 
-/** One row of predictions: the input's CSV line, then the answer (and class probabilities for a classifier). */
+/** Predictions as CSV cells: the input's CSV line, the kept columns, then the answer (and class probabilities). */
 export interface PredictionTable {
   header: string[];
   rows: string[][];
@@ -17,31 +17,17 @@ export function predictionsCsv(table: PredictionTable): string {
 }
 
 /**
- * Turns model outputs for the table's rows into prediction rows.
- * Classification: `line, predicted, p_<class>...` (binary: class 1 when its probability is at least 0.5,
- * as in the study's metrics). Regression: `line, predicted` in the target's units (the exported model
- * already answers in them).
+ * One row per input row: `line, <kept columns>, predicted` and, for a classifier, `p_<class>` per class.
+ * Regression answers are in the target's units; a binary class follows the model's decision threshold.
  */
-export function predictionTable(configuration: ExportConfiguration, input: CsvTable, outputs: Float32Array): PredictionTable {
-  const { recipe } = configuration;
-  const lines = input.lines;
-  if (recipe.task === 'regression') {
-    return { header: ['line', 'predicted'], rows: lines.map((line, r) => [String(line), String(outputs[r]!)]) };
-  }
-  const classes = recipe.classes ?? [];
-  const header = ['line', 'predicted', ...classes.map((label) => `p_${label}`)];
-  if (recipe.task === 'binary') {
-    const rows = lines.map((line, r) => {
-      const p = outputs[r]!;
-      return [String(line), classes[p >= 0.5 ? 1 : 0]!, String(1 - p), String(p)];
-    });
-    return { header, rows };
-  }
-  const predicted = argmaxRows(outputs, classes.length);
-  const rows = lines.map((line, r) => [
-    String(line),
-    classes[predicted[r]!]!,
-    ...classes.map((_, c) => String(outputs[r * classes.length + c]!)),
-  ]);
+export function predictionTable(configuration: ExportConfiguration, input: CsvTable, predictions: readonly Prediction[], keep: readonly string[] = []): PredictionTable {
+  const classes = configuration.recipe.task === 'regression' ? [] : (configuration.recipe.classes ?? []);
+  const header = ['line', ...keep, 'predicted', ...classes.map((label) => `p_${label}`)];
+  const rows = predictions.map((prediction, r) => {
+    const kept = keep.map((column) => input.rows[r]![column] ?? '');
+    const answer = [String(prediction.predicted)];
+    if ('probabilities' in prediction) for (const label of classes) answer.push(String(prediction.probabilities[label]));
+    return [String(input.lines[r]), ...kept, ...answer];
+  });
   return { header, rows };
 }

@@ -1,73 +1,175 @@
-import cliProgress from 'cli-progress';
 import type { StudyEvent, StudyObserver } from '../runner/events.js';
+import type { Job } from '../samplers/sampler.js';
+import type { TrialRecord } from '../store/types.js';
 import type { Objective } from '../study/definition.js';
+import type { PlannedWork } from './budget.js';
 import { formatDuration, formatNumber } from './format.js';
+import { fitLine, type LineSegment } from './progress-line.js';
+import { plain, type Painter } from './style.js';
+
+/** Redraw the live line at most this often (epoch events can come every millisecond). */
+const REDRAW_MS = 100;
+/** The live line never gets narrower than this, even on a narrower terminal. */
+const MIN_COLUMNS = 40;
 
 export interface ProgressOptions {
   objective: Objective;
-  /** Where to draw; a terminal gets a live bar, anything else one line per finished trial. */
-  stream: NodeJS.WriteStream | NodeJS.WritableStream;
+  /** The sampler's plan: the counters show work done of this. */
+  plan: PlannedWork;
+  /** Where to write (the CLI passes stderr). */
+  stream: NodeJS.WritableStream;
+  /** Work a resumed study had already done. @default none */
+  done?: { jobs: number; epochs: number };
+  /** A redrawn line on a terminal, else one line per ended job. @default whether `stream` is a terminal */
+  live?: boolean;
+  /** Width of the live line. @default the terminal's columns, else 80 */
+  columns?: number;
+  paint?: Painter;
+  /** Milliseconds clock. @default Date.now */
+  now?: () => number;
 }
 
-function describeTrial(event: Extract<StudyEvent, { type: 'trial-finished' }>, metric: string): string {
+type TrialFinished = Extract<StudyEvent, { type: 'trial-finished' }>;
+
+/** What came of one job, told from the job itself (the trial record may already have moved on). */
+export function describeJob(event: Pick<TrialFinished, 'trial' | 'job'>, metric: string, withRung = true): string {
   const { trial, job } = event;
-  const score = trial.objective === null ? '' : ` ${metric}=${formatNumber(trial.objective)}`;
-  const what = trial.status === 'paused' ? `rung ${job.rung} done` : trial.status;
-  const why = trial.divergence ? ` (${trial.divergence.reason})` : trial.error ? ` (${trial.error})` : '';
-  const epoch = trial.divergence ? trial.divergence.epoch : trial.epochsTrained;
-  return `trial ${trial.id} ${what} at epoch ${epoch}${score}${why}`;
+  const rung = withRung ? ` rung ${job.rung}` : '';
+  const endedHere = trial.rung === job.rung && (trial.status === 'diverged' || trial.status === 'failed' || trial.status === 'timed-out');
+  if (endedHere) {
+    const why = trial.divergence ? ` at epoch ${trial.divergence.epoch} (${trial.divergence.reason})` : trial.error ? ` (${trial.error})` : '';
+    return `trial ${trial.id}${rung} ${trial.status}${why}`;
+  }
+  const value = trial.rungObjectives[job.rung];
+  return `trial ${trial.id}${rung} done at epoch ${job.toEpoch}: ${metric} ${formatNumber(value)}`;
 }
 
-/** A study observer that shows progress: trials done of planned, best objective so far, elapsed and remaining time. */
+function leaderText(leader: TrialRecord | undefined, metric: string): LineSegment {
+  if (!leader) return { text: 'leader -', dropCost: 10 };
+  const value = formatNumber(leader.objective);
+  return { text: `leader #${leader.id} ${metric} ${value}`, short: `#${leader.id} ${value}`, shortCost: 6, dropCost: 10 };
+}
+
+/** `rung 1/2` (the rung being trained, of the top rung), with the bracket for Hyperband, a span under asynchronous halving. */
+function rungText(plan: PlannedWork, running: Iterable<Job>, last: Job | undefined): LineSegment | undefined {
+  if (plan.rungs <= 1) return undefined;
+  const jobs = [...running];
+  if (jobs.length === 0 && last) jobs.push(last);
+  if (jobs.length === 0) return undefined;
+  const rungs = jobs.map((job) => job.rung);
+  const low = Math.min(...rungs);
+  const high = Math.max(...rungs);
+  const top = plan.rungs - 1;
+  const rung = low === high ? `${high}/${top}` : `${low}-${high}/${top}`;
+  if (plan.brackets <= 1) return { text: `rung ${rung}`, short: `r${rung}`, shortCost: 3, dropCost: 8.5 };
+  const bracket = Math.max(...jobs.map((job) => job.bracket));
+  return { text: `bracket ${bracket}/${plan.brackets - 1} rung ${rung}`, short: `b${bracket} r${rung}`, shortCost: 3, dropCost: 8.5 };
+}
+
+/**
+ * A study observer that shows where the study stands: jobs and epochs done of the plan, the rung (and
+ * bracket) in training, the leader of the study's ranking (as the runner's events carry it), the
+ * elapsed time and, once it can be estimated, the time left. On a terminal it redraws one line that
+ * fits the width; elsewhere (a pipe, a file) it writes one line per ended job.
+ */
 export function progressObserver(options: ProgressOptions): StudyObserver {
-  const { objective, stream } = options;
-  const isTerminal = 'isTTY' in stream && stream.isTTY === true;
-  const started = Date.now();
-  let planned = 0;
-  let bar: cliProgress.SingleBar | undefined;
+  const { objective, plan, stream } = options;
+  const metric = objective.metric;
+  const now = options.now ?? Date.now;
+  const paint = options.paint ?? plain;
+  const live = options.live ?? (stream as Partial<NodeJS.WriteStream>).isTTY === true;
+  const columns = (): number => Math.max(MIN_COLUMNS, (options.columns ?? (stream as Partial<NodeJS.WriteStream>).columns ?? 80) - 1);
+  const approx = plan.estimate ? '~' : '';
+  let jobs = options.done?.jobs ?? 0;
+  let epochs = options.done?.epochs ?? 0;
+  const epochsAtStart = epochs;
+  let started = now();
+  let firstEnded = false;
+  let leader: TrialRecord | undefined;
+  let lastJob: Job | undefined;
+  let lastDraw = 0;
+  let drawn = false;
+  const running = new Map<number, Job>();
+  const told = new Set<string>();
+
+  const counters = (): string => `${jobs}/${approx}${plan.jobs} jobs, ${epochs}/${approx}${plan.epochs} epochs`;
+  const secondsLeft = (): number | undefined => {
+    const trained = epochs - epochsAtStart;
+    const elapsed = (now() - started) / 1000;
+    if (!firstEnded || trained <= 0 || elapsed <= 0 || epochs >= plan.epochs) return undefined;
+    return ((plan.epochs - epochs) * elapsed) / trained;
+  };
+
+  const line = (): string => {
+    const left = secondsLeft();
+    const elapsed = formatDuration((now() - started) / 1000);
+    const segments: (LineSegment | undefined)[] = [
+      { text: `${jobs}/${approx}${plan.jobs} jobs`, dropCost: 11 },
+      { text: `${epochs}/${approx}${plan.epochs} epochs`, short: `${epochs}/${approx}${plan.epochs} ep`, shortCost: 4.5, dropCost: 8 },
+      rungText(plan, running.values(), lastJob),
+      leaderText(leader, metric),
+      left === undefined ? undefined : { text: `${formatDuration(left)} left`, short: `~${formatDuration(left)}`, shortCost: 5, dropCost: 7 },
+      { text: `${elapsed} elapsed`, short: elapsed, shortCost: 1, dropCost: 2 },
+    ];
+    const text = fitLine(segments.filter((s): s is LineSegment => s !== undefined), columns());
+    return leader ? text.replace(/(leader )?#\d+ (\S+ )?\S+/, (match) => paint('leader', match)) : text;
+  };
+
+  const draw = (force: boolean): void => {
+    if (!live) return;
+    const t = now();
+    if (!force && t - lastDraw < REDRAW_MS) return;
+    lastDraw = t;
+    stream.write(`\r${line()}\x1b[K`);
+    drawn = true;
+  };
+  const clear = (): void => {
+    if (live && drawn) stream.write('\r\x1b[K');
+    drawn = false;
+  };
 
   return (event) => {
     switch (event.type) {
       case 'study-started':
-        planned = event.plannedTrials;
-        stream.write(`${event.resumed ? 'resuming' : 'running'} study ${event.name} on ${event.workers} worker(s); study file in ${event.dir}\n`);
-        if (isTerminal) {
-          bar = new cliProgress.SingleBar(
-            {
-              format: ' {bar} {value}/{total} trials | best {metric} {best} | elapsed {elapsedText} | left ~{leftText}',
-              stream: stream as NodeJS.WriteStream,
-              hideCursor: true,
-              clearOnComplete: true,
-            },
-            cliProgress.Presets.shades_classic,
-          );
-          bar.start(planned, 0, { metric: objective.metric, best: '-', elapsedText: '00:00', leftText: '--:--' });
-        }
+        started = now();
+        stream.write(
+          `${event.resumed ? 'resuming' : 'running'} study ${event.name} on ${event.workers} worker${event.workers === 1 ? '' : 's'}: ` +
+            `${approx}${plan.jobs} jobs, ${approx}${plan.epochs} epochs planned; study file in ${event.dir}\n`,
+        );
+        draw(true);
+        break;
+      case 'job-started':
+        running.set(event.job.trialId, event.job);
+        lastJob = event.job;
+        draw(false);
+        break;
+      case 'epoch':
+        epochs += 1;
+        draw(false);
         break;
       case 'trial-finished': {
-        const elapsed = (Date.now() - started) / 1000;
-        const done = event.finishedTrials;
-        const left = done > 0 && planned > done ? (elapsed / done) * (planned - done) : 0;
-        const best = formatNumber(event.best?.objective);
-        if (bar) {
-          bar.setTotal(Math.max(planned, done));
-          bar.update(done, { best, elapsedText: formatDuration(elapsed), leftText: formatDuration(left) });
-        } else {
-          stream.write(`[${done}/${planned}] ${describeTrial(event, objective.metric)}; best ${best}\n`);
+        const key = `${event.job.trialId}:${event.job.rung}`;
+        if (told.has(key)) break;
+        told.add(key);
+        jobs += 1;
+        firstEnded = true;
+        if (running.get(event.job.trialId) === event.job) running.delete(event.job.trialId);
+        leader = event.best;
+        if (live) draw(true);
+        else {
+          const lead = leader ? `; leader trial ${leader.id} ${metric} ${formatNumber(leader.objective)}` : '';
+          stream.write(`[${counters()}] ${describeJob(event, metric, plan.rungs > 1)}${lead}\n`);
         }
         break;
       }
-      case 'note':
-        process.stderr.write(`note: ${event.message}\n`);
-        break;
       case 'stopping':
-        bar?.stop();
-        bar = undefined;
-        stream.write('stopping: no new trials start; waiting for running ones\n');
+        clear();
+        stream.write(`stopping (${event.reason}): no new jobs start; waiting for ${running.size} running\n`);
+        draw(true);
         break;
       case 'study-finished':
-        bar?.stop();
-        bar = undefined;
+        clear();
+        stream.write(`study ${event.doc.state}: ${counters()} in ${formatDuration((now() - started) / 1000)}\n`);
         break;
       default:
         break;

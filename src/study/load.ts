@@ -101,3 +101,15 @@ export async function loadStudy(file: string): Promise<LoadedStudy> {
   }
   return { definition: validateStudy(parseJson(text, file), file), file: absolute };
 }
+
+/** What messages call a definition given as an object rather than a file. */
+export const DEFINITION_OBJECT_LABEL = 'study definition (object)';
+
+/**
+ * Validate a definition given as an object (the library's alternative to a file). Its `data.csv` is
+ * relative to `baseDir`; messages name it {@link DEFINITION_OBJECT_LABEL}.
+ * @throws UserError on any problem, exactly as {@link loadStudy} would for the same JSON in a file.
+ */
+export function studyFromObject(definition: unknown, baseDir: string): LoadedStudy {
+  return { definition: validateStudy(definition, DEFINITION_OBJECT_LABEL), file: path.join(path.resolve(baseDir), DEFINITION_OBJECT_LABEL) };
+}

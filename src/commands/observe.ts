@@ -1,0 +1,41 @@
+import { doneWork, plannedWork } from '../report/budget.js';
+import { progressObserver } from '../report/progress.js';
+import { painterFor } from '../report/style.js';
+import type { StudyObserver } from '../runner/events.js';
+import type { StudyDocument } from '../store/types.js';
+import type { Objective, StudyDefinition } from '../study/definition.js';
+
+/** Where a study command shows progress: a stream (the CLI passes stderr) or nowhere. */
+export interface ProgressTarget {
+  /** Progress display. `false` shows none. @default process.stderr */
+  progress?: NodeJS.WritableStream | false;
+  /** Called with every event as well (a library user's own observer). */
+  onEvent?: StudyObserver;
+}
+
+/** The observer a study command hands the runner: the progress display, then the caller's own. */
+export function studyObserver(
+  target: ProgressTarget,
+  definition: Pick<StudyDefinition, 'budget' | 'sampler'>,
+  objective: Objective,
+  previous?: Pick<StudyDocument, 'trials'>,
+): StudyObserver | undefined {
+  const stream = target.progress === undefined ? process.stderr : target.progress;
+  const observers: StudyObserver[] = [];
+  if (stream !== false) {
+    observers.push(
+      progressObserver({
+        objective,
+        plan: plannedWork(definition),
+        stream,
+        paint: painterFor(stream),
+        ...(previous ? { done: doneWork(previous) } : {}),
+      }),
+    );
+  }
+  if (target.onEvent) observers.push(target.onEvent);
+  if (observers.length === 0) return undefined;
+  return (event) => {
+    for (const observer of observers) observer(event);
+  };
+}

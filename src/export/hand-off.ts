@@ -1,0 +1,113 @@
+/**
+ * Using an exported model from code: load the folder, then predict rows given as plain objects.
+ * The preprocessing recipe is applied exactly as in the study (standardisation, one-hot encoding,
+ * imputation of missing values), and a binary model's decision threshold is applied.
+ */
+import type * as tf from '@tensorflow/tfjs';
+import path from 'node:path';
+import { existsSync } from 'node:fs';
+import { encodeFeatures } from '../data/recipe.js';
+import { UserError } from '../errors.js';
+import { argmaxRows } from '../train/metrics.js';
+import { initBackend } from '../train/backend.js';
+import { readConfiguration, type ExportConfiguration } from './configuration.js';
+import { MODEL_FILE, loadLayersModelFromDir, predictRows } from './model-files.js';
+
+/** An exported model, ready to predict. Call `dispose()` when done to free its tensors. */
+export interface LoadedModel {
+  /** The export folder (absolute). */
+  dir: string;
+  /** `configuration.json`: recipe, classes, metrics, how it was chosen. */
+  configuration: ExportConfiguration;
+  /** The tfjs Layers network (inputs already encoded, outputs as described in `configuration.outputs`). */
+  network: tf.LayersModel;
+  dispose(): void;
+}
+
+/** One input row: column name to value. Missing, `null`, `undefined` and `''` are imputed as the recipe says. */
+export type InputRow = Readonly<Record<string, string | number | boolean | null | undefined>>;
+
+/** A classifier's answer: the class and one probability per class. */
+export interface ClassPrediction {
+  predicted: string;
+  probabilities: Record<string, number>;
+}
+
+/** A regression model's answer, in the target's own units. */
+export interface ValuePrediction {
+  predicted: number;
+}
+
+export type Prediction = ClassPrediction | ValuePrediction;
+
+/** The probability at which a binary model predicts its second class: the one chosen at export, else 0.5. */
+export function decisionThreshold(configuration: ExportConfiguration): number {
+  const outputs = configuration.outputs as { threshold?: number };
+  return typeof outputs.threshold === 'number' ? outputs.threshold : 0.5;
+}
+
+/**
+ * Loads an export folder written by `rungwise export` (or `exportModel`): its `configuration.json`
+ * and the tfjs model, read from disk on the tfjs wasm backend.
+ * @throws UserError when the folder is not an export.
+ * @example
+ * import { loadModel, predict } from 'rungwise';
+ * const model = await loadModel('runs/demo/export/rank-1');
+ * const [answer] = predict(model, [{ vibration_rms_mm_s: 6.1, bearing_temp_c: 71, site_type: 'canal' }]);
+ * console.log(answer.predicted, answer.probabilities);
+ * model.dispose();
+ */
+export async function loadModel(exportDir: string): Promise<LoadedModel> {
+  const dir = path.resolve(exportDir);
+  const configuration = await readConfiguration(dir);
+  const modelFile = path.join(dir, MODEL_FILE);
+  if (!existsSync(modelFile)) throw new UserError('E_MODEL', `${modelFile}: not found; export the model again with \`rungwise export\``);
+  await initBackend();
+  const network = await loadLayersModelFromDir(dir);
+  return { dir, configuration, network, dispose: () => network.dispose() };
+}
+
+function asCell(value: InputRow[string]): string {
+  if (value === null || value === undefined) return '';
+  if (typeof value === 'number') return Number.isFinite(value) ? String(value) : '';
+  return String(value);
+}
+
+/** Encodes rows with the export's recipe: row-major `rows x inputCount` network inputs. */
+export function encodeRows(configuration: ExportConfiguration, rows: readonly InputRow[], source = 'rows', lines?: readonly number[]): Float32Array {
+  const cells = rows.map((row) => Object.fromEntries(Object.entries(row).map(([column, value]) => [column, asCell(value)])));
+  return encodeFeatures(configuration.recipe, cells, source, lines);
+}
+
+/** Turns the network's row-major outputs into answers (probabilities to classes with the threshold). */
+export function interpretOutputs(configuration: ExportConfiguration, outputs: Float32Array, rows: number): Prediction[] {
+  const { recipe } = configuration;
+  if (recipe.task === 'regression') return Array.from({ length: rows }, (_, r) => ({ predicted: outputs[r]! }));
+  const classes = recipe.classes ?? [];
+  if (recipe.task === 'binary') {
+    const threshold = decisionThreshold(configuration);
+    return Array.from({ length: rows }, (_, r) => {
+      const p = outputs[r]!;
+      return { predicted: classes[p >= threshold ? 1 : 0]!, probabilities: { [classes[0]!]: 1 - p, [classes[1]!]: p } };
+    });
+  }
+  const best = argmaxRows(outputs, classes.length);
+  return Array.from({ length: rows }, (_, r) => ({
+    predicted: classes[best[r]!]!,
+    probabilities: Object.fromEntries(classes.map((label, c) => [label, outputs[r * classes.length + c]!])),
+  }));
+}
+
+/**
+ * Predicts rows given as objects keyed by column name (other keys, the target included, are ignored).
+ * @throws UserError when a feature column is absent from the first row or a numeric one holds text.
+ * @example
+ * const predictions = predict(model, [{ speed_rpm: 2400, site_type: 'canal' }]);
+ * // classification: [{ predicted: 'yes', probabilities: { no: 0.18, yes: 0.82 } }]
+ * // regression:     [{ predicted: 41.7 }]
+ */
+export function predict(model: LoadedModel, rows: readonly InputRow[]): Prediction[] {
+  const x = encodeRows(model.configuration, rows);
+  const outputs = predictRows(model.network, x, rows.length, model.configuration.recipe.inputCount);
+  return interpretOutputs(model.configuration, outputs, rows.length);
+}

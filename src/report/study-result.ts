@@ -1,0 +1,102 @@
+import type { RankedTrial } from '../study/objective.js';
+import type { StudyDocument, TrialRecord, TrialStatus } from '../store/types.js';
+import type { Objective, TrialParams } from '../study/definition.js';
+import { rankingTable } from './ranking-table.js';
+import { OPTIMISM_CAUTION, studySummary } from './summary.js';
+
+/** Rows of the text table when `--top` is not given. */
+export const DEFAULT_TABLE_ROWS = 10;
+
+/** One trial in `--json` output: ranked ones carry their rank, the others `rank: null` and why they are not ranked. */
+export interface TrialEntry {
+  rank: number | null;
+  trial: number;
+  status: TrialStatus;
+  ranked: boolean;
+  /** Why an unranked trial is not ranked: divergence, error, or still running / waiting. */
+  reason?: string;
+  rung: number;
+  bracket: number;
+  epochs: number;
+  objective: number | null;
+  params: TrialParams;
+  seed: number;
+  /** Validation metrics of the last epoch trained. */
+  metrics: Record<string, number>;
+  workerSeconds: number;
+}
+
+/** The result of `run`, `resume` and `ranking` as plain data. */
+export interface StudyResultJson {
+  study: string;
+  state: StudyDocument['state'];
+  file: string;
+  objective: Objective;
+  counts: Partial<Record<TrialStatus, number>>;
+  totals: StudyDocument['totals'] | null;
+  /** Trials in the study, and how many `trials` holds (fewer only with `--top`). */
+  trialCount: number;
+  shown: number;
+  /** Ranked trials best first, then the unranked ones by id. */
+  trials: TrialEntry[];
+  caution: string;
+}
+
+function unrankedReason(trial: TrialRecord): string {
+  if (trial.divergence) return `diverged at epoch ${trial.divergence.epoch}: ${trial.divergence.reason}`;
+  if (trial.error) return trial.error;
+  if (trial.status === 'running') return 'did not finish its rung (the study stopped while it ran)';
+  return `no objective recorded (${trial.status})`;
+}
+
+function entry(trial: TrialRecord, rank: number | null): TrialEntry {
+  const result: TrialEntry = {
+    rank,
+    trial: trial.id,
+    status: trial.status,
+    ranked: rank !== null,
+    rung: trial.rung,
+    bracket: trial.bracket,
+    epochs: trial.epochsTrained,
+    objective: trial.objective,
+    params: trial.params,
+    seed: trial.seed,
+    metrics: { ...(trial.curve.at(-1)?.metrics ?? {}) } as Record<string, number>,
+    workerSeconds: trial.workerSeconds,
+  };
+  if (rank === null) result.reason = unrankedReason(trial);
+  return result;
+}
+
+/** Every trial of the study, ranked ones first in ranking order; `top` keeps only the first entries. */
+export function studyResultJson(doc: StudyDocument, ranking: readonly RankedTrial[], file: string, top?: number): StudyResultJson {
+  const rankedIds = new Set(ranking.map(({ trial }) => trial.id));
+  const entries = [
+    ...ranking.map(({ rank, trial }) => entry(trial, rank)),
+    ...doc.trials.filter((t) => !rankedIds.has(t.id)).sort((a, b) => a.id - b.id).map((t) => entry(t, null)),
+  ];
+  const trials = top === undefined ? entries : entries.slice(0, top);
+  const counts: Partial<Record<TrialStatus, number>> = {};
+  for (const trial of doc.trials) counts[trial.status] = (counts[trial.status] ?? 0) + 1;
+  return {
+    study: doc.name,
+    state: doc.state,
+    file,
+    objective: doc.objective,
+    counts,
+    totals: doc.totals ?? null,
+    trialCount: doc.trials.length,
+    shown: trials.length,
+    trials,
+    caution: OPTIMISM_CAUTION,
+  };
+}
+
+/** The result as text: the top of the ranking as a table, then the summary and the caution. */
+export function studyResultText(doc: StudyDocument, ranking: readonly RankedTrial[], file: string, top = DEFAULT_TABLE_ROWS): string {
+  const shown = ranking.slice(0, top);
+  const more = ranking.length - shown.length;
+  const table = shown.length > 0 ? rankingTable(shown, doc.objective) : 'no trial is ranked yet (none finished a rung)';
+  const tail = more > 0 ? `\n(${more} more ranked; --top ${ranking.length} shows all, --json gives every trial)` : '';
+  return `${table}${tail}\n\n${studySummary(doc, file)}`;
+}
