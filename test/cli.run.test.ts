@@ -48,10 +48,10 @@ describe('rungwise run and ranking', () => {
 
     const ranking = await runCli(['ranking', out, '--json']);
     expect(ranking.code).toBe(0);
-    const parsed = JSON.parse(ranking.stdout) as { ranking: { rank: number; trial: number; epochs: number; objective: number }[] };
-    expect(parsed.ranking.map((r) => r.rank)).toEqual([1, 2, 3]);
-    expect(parsed.ranking.every((r) => r.epochs === 4)).toBe(true);
-    const objectives = parsed.ranking.map((r) => r.objective);
+    const parsed = JSON.parse(ranking.stdout) as { trials: { rank: number; trial: number; epochs: number; objective: number }[] };
+    expect(parsed.trials.map((r) => r.rank)).toEqual([1, 2, 3]);
+    expect(parsed.trials.every((r) => r.epochs === 4)).toBe(true);
+    const objectives = parsed.trials.map((r) => r.objective);
     expect([...objectives].sort((a, b) => b - a)).toEqual(objectives);
 
     const doc = await StudyStore.read(out);
