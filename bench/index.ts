@@ -12,6 +12,7 @@ import { overheadGroup } from './overhead.js';
 import { poolGroup } from './pool.js';
 import { groupMarkdown, machineInfo, writeResults, type GroupResult } from './report.js';
 import { schedulingGroup } from './scheduling.js';
+import { startupGroup } from './startup.js';
 import { storeGroup } from './store.js';
 import { throughputGroup } from './throughput.js';
 
@@ -29,6 +30,7 @@ const GROUPS: Record<string, (options: BenchOptions) => Promise<GroupResult>> = 
   scheduling: schedulingGroup,
   budget: budgetGroup,
   model: modelGroup,
+  startup: startupGroup,
 };
 
 function parseArgs(argv: string[]): { quick: boolean; only: string[] } {
