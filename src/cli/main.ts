@@ -3,8 +3,8 @@
  * `--help` and `--version` never load tfjs, the chart library or the runner.
  */
 import { Command, CommanderError, InvalidArgumentError } from 'commander';
-import { readFileSync } from 'node:fs';
 import { isUserError } from '../errors.js';
+import { packageVersion } from '../files/package-files.js';
 import { painterFor } from '../report/style.js';
 import { COMMAND_EXAMPLES, PROGRAM_EXAMPLES } from './help.js';
 import { interruptSignal } from './interrupt.js';
@@ -13,19 +13,6 @@ function positiveInteger(value: string, name: string): number {
   const parsed = Number(value);
   if (!Number.isInteger(parsed) || parsed < 1) throw new InvalidArgumentError(`${name} must be a whole number from 1 up, got '${value}'`);
   return parsed;
-}
-
-/** The package's version, read from package.json beside dist/ (or beside src/ when run from source). */
-export function packageVersion(): string {
-  for (const relative of ['../../../package.json', '../../package.json']) {
-    try {
-      const parsed = JSON.parse(readFileSync(new URL(relative, import.meta.url), 'utf8')) as { name?: string; version?: string };
-      if (parsed.name === 'rungwise' && parsed.version) return parsed.version;
-    } catch {
-      // not here; try the next place
-    }
-  }
-  return 'unknown';
 }
 
 /** Where a command's output goes: results to stdout, progress and messages to stderr (none under --quiet). */

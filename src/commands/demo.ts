@@ -1,8 +1,8 @@
 import { existsSync } from 'node:fs';
 import { copyFile, mkdir } from 'node:fs/promises';
 import path from 'node:path';
-import { fileURLToPath } from 'node:url';
 import { UserError } from '../errors.js';
+import { packageRoot } from '../files/package-files.js';
 import type { StudyOutcome } from '../runner/run-study.js';
 import { StudyStore, studyFilePath } from '../store/study-store.js';
 import type { ProgressTarget } from './observe.js';
@@ -12,13 +12,11 @@ import { run } from './run.js';
 export const DEMO_FILES = ['study.json', 'pump-logs.csv'] as const;
 const DEMO_NAME = 'demo';
 
-/** The demo study's folder: `studies/demo` of the package, found from this module in `dist/src/commands` or `src/commands`. */
+/** The demo study's folder: `studies/demo` of the package. */
 export function demoFolder(): string {
-  for (const relative of ['../../../studies/demo/', '../../studies/demo/']) {
-    const folder = fileURLToPath(new URL(relative, import.meta.url));
-    if (existsSync(path.join(folder, 'study.json'))) return folder;
-  }
-  throw new Error('the demo study (studies/demo) is not in this installation of rungwise');
+  const folder = path.join(packageRoot(), 'studies', 'demo');
+  if (!existsSync(path.join(folder, 'study.json'))) throw new Error(`the demo study is not in this installation of rungwise (${folder})`);
+  return folder;
 }
 
 export interface DemoOptions extends ProgressTarget {

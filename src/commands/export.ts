@@ -4,10 +4,12 @@ import path from 'node:path';
 import type { PreparedData } from '../data/types.js';
 import { UserError } from '../errors.js';
 import { writeFolderAtomically } from '../files/atomic-folder.js';
+import { packageVersion } from '../files/package-files.js';
 import { CONFIGURATION_FILE, buildConfiguration, lastEpochFigures } from '../export/configuration.js';
 import { OPTIMISM_CAUTION } from '../report/caution.js';
 import { evaluateExportedModel } from '../export/evaluate.js';
 import { MODEL_FILE, WEIGHTS_FILE, buildLayersModel, saveLayersModel } from '../export/model-files.js';
+import { ONNX_FILE } from '../export/onnx-schema.js';
 import { retrainTrial } from '../export/retrain.js';
 import { keptCheckpointWeights, trialAtRank } from '../export/select.js';
 import { formatNumber, textTable } from '../report/format.js';
@@ -35,7 +37,7 @@ export interface ExportCommandOptions {
 }
 
 /** Formats `export --format` accepts. */
-export const EXPORT_FORMATS = ['tfjs'] as const;
+export const EXPORT_FORMATS = ['tfjs', 'onnx'] as const;
 export type ExportFormat = (typeof EXPORT_FORMATS)[number];
 
 /** Checks a `--format` value. @throws UserError naming the formats allowed. */
@@ -92,6 +94,7 @@ export async function exportModel(options: ExportCommandOptions): Promise<Export
   const kept = options.retrain ? undefined : await keptCheckpointWeights(runDir, doc, chosen);
   const data = options.retrain ? await retrainData(doc, studyFile, options.allowChangedData ?? false) : undefined;
   const out = path.resolve(options.out ?? runPaths.exportDir(runDir, rank));
+  const format = options.format ?? 'tfjs';
 
   let test: Metrics | undefined;
   await writeFolderAtomically(
@@ -107,11 +110,16 @@ export async function exportModel(options: ExportCommandOptions): Promise<Export
       try {
         if (data) test = evaluateExportedModel(model, doc.recipe, data.test);
         await saveLayersModel(model, partial);
+        const configuration = buildConfiguration(doc, trial, rank, test ? { test } : undefined);
+        if (format === 'onnx') {
+          const { describeOnnx, writeOnnxModel } = await import('../export/onnx.js');
+          configuration.onnx = describeOnnx(configuration);
+          await writeOnnxModel(model, configuration, partial, packageVersion());
+        }
+        await writeFile(path.join(partial, CONFIGURATION_FILE), `${JSON.stringify(configuration, null, 2)}\n`);
       } finally {
         model.dispose();
       }
-      const configuration = buildConfiguration(doc, trial, rank, test ? { test } : undefined);
-      await writeFile(path.join(partial, CONFIGURATION_FILE), `${JSON.stringify(configuration, null, 2)}\n`);
     },
   );
 
@@ -124,8 +132,8 @@ export async function exportModel(options: ExportCommandOptions): Promise<Export
     objective: { ...doc.objective, value: trial.objective! },
     validation: lastEpochFigures(trial).metrics,
     retrained: options.retrain === true,
-    format: options.format ?? 'tfjs',
-    files: [CONFIGURATION_FILE, MODEL_FILE, WEIGHTS_FILE],
+    format,
+    files: [CONFIGURATION_FILE, MODEL_FILE, WEIGHTS_FILE, ...(format === 'onnx' ? [ONNX_FILE] : [])],
     caution: OPTIMISM_CAUTION,
   };
   if (test) summary.test = test;

@@ -11,6 +11,7 @@ import type { StudyDocument, TrialRecord } from '../store/types.js';
 import type { MetricName, Objective, TrialParams } from '../study/definition.js';
 import type { Metrics } from '../train/metrics.js';
 import { MODEL_FILE, WEIGHTS_FILE, inputNames } from './model-files.js';
+import type { OnnxDescription } from './onnx.js';
 
 export const CONFIGURATION_FILE = 'configuration.json';
 export const EXPORT_FORMAT = 'rungwise-export';
@@ -28,7 +29,7 @@ export interface LastEpochFigures {
 
 /** What the model's outputs mean. */
 export type ModelOutputs =
-  | { task: 'binary'; meaning: string; classes: string[] }
+  | { task: 'binary'; meaning: string; classes: string[]; threshold?: number }
   | { task: 'multiclass'; meaning: string; classes: string[] }
   | { task: 'regression'; meaning: string; units: 'target' };
 
@@ -55,6 +56,8 @@ export interface ExportConfiguration {
   inputs: string[];
   outputs: ModelOutputs;
   model: { file: string; weights: string; format: 'tfjs layers model' };
+  /** With `--format onnx`: how to call `model.onnx`. */
+  onnx?: OnnxDescription;
   caution: string;
 }
 

@@ -1,0 +1,198 @@
+/**
+ * `export --format onnx`: the exported network as `model.onnx` (ONNX IR 8, operator set 13), with the
+ * numeric preprocessing folded in as its first nodes: a missing value (NaN) becomes the training mean
+ * (IsNaN, Where), then (x - mean) / std (Sub, Div). Categorical columns cannot be folded (ONNX tensors
+ * of one type per input, and a category map is not an operator of the default domain), so they come
+ * in one-hot encoded, as `configuration.json` and the model's metadata describe.
+ */
+import type * as tf from '@tensorflow/tfjs';
+import { writeFile } from 'node:fs/promises';
+import path from 'node:path';
+import protobuf from 'protobufjs';
+import type { PreprocessingRecipe } from '../data/types.js';
+import type { ExportConfiguration } from './configuration.js';
+import { inputNames, outputCount } from './model-files.js';
+import { ONNX_FILE, ONNX_FLOAT, ONNX_IR_VERSION, ONNX_OPSET, ONNX_SUBSET_PROTO } from './onnx-schema.js';
+
+export { ONNX_FILE } from './onnx-schema.js';
+export const ONNX_INPUT = 'features';
+export const ONNX_OUTPUT = 'output';
+
+/** How to call `model.onnx`, written into `configuration.json`. */
+export interface OnnxDescription {
+  file: string;
+  input: string;
+  output: string;
+  /** One float per name, in order, for each row: shape [rows, inputs.length]. */
+  inputs: string[];
+  numeric: string;
+  categorical: string;
+  outputMeaning: string;
+}
+
+interface NodeSpec {
+  opType: string;
+  input: string[];
+  output: string[];
+  attribute?: { name: string; type: number; f?: number; i?: number }[];
+}
+
+interface TensorSpec {
+  name: string;
+  dims: number[];
+  values: Float32Array;
+}
+
+const ATTRIBUTE_FLOAT = 1;
+const ATTRIBUTE_INT = 2;
+
+let modelType: protobuf.Type | undefined;
+function onnxModelType(): protobuf.Type {
+  modelType ??= protobuf.parse(ONNX_SUBSET_PROTO).root.lookupType('onnx.ModelProto');
+  return modelType;
+}
+
+function littleEndian(values: Float32Array): Uint8Array {
+  const bytes = new Uint8Array(values.length * 4);
+  const view = new DataView(bytes.buffer);
+  values.forEach((value, i) => view.setFloat32(i * 4, value, true));
+  return bytes;
+}
+
+/** The nodes that apply a dense layer's activation to `x`, named after `prefix`; returns the output name. */
+function activationNodes(activation: string, x: string, prefix: string, nodes: NodeSpec[], tensors: TensorSpec[], leakySlope?: number): string {
+  const out = `${prefix}_act`;
+  const unary = (opType: string, attribute?: NodeSpec['attribute']): string => {
+    nodes.push({ opType, input: [x], output: [out], ...(attribute ? { attribute } : {}) });
+    return out;
+  };
+  switch (activation) {
+    case 'linear':
+      return x;
+    case 'relu':
+      return unary('Relu');
+    case 'tanh':
+      return unary('Tanh');
+    case 'sigmoid':
+      return unary('Sigmoid');
+    case 'softplus':
+      return unary('Softplus');
+    case 'elu':
+      return unary('Elu', [{ name: 'alpha', type: ATTRIBUTE_FLOAT, f: 1 }]);
+    // tfjs's selu constants are the ONNX defaults (Klambauer et al., 2017).
+    case 'selu':
+      return unary('Selu');
+    case 'softmax':
+      return unary('Softmax', [{ name: 'axis', type: ATTRIBUTE_INT, i: -1 }]);
+    case 'leakyRelu':
+      return unary('LeakyRelu', [{ name: 'alpha', type: ATTRIBUTE_FLOAT, f: leakySlope ?? 0.2 }]);
+    case 'swish': {
+      nodes.push({ opType: 'Sigmoid', input: [x], output: [`${prefix}_sigmoid`] });
+      nodes.push({ opType: 'Mul', input: [x, `${prefix}_sigmoid`], output: [out] });
+      return out;
+    }
+    case 'relu6': {
+      tensors.push({ name: `${prefix}_zero`, dims: [], values: Float32Array.of(0) }, { name: `${prefix}_six`, dims: [], values: Float32Array.of(6) });
+      nodes.push({ opType: 'Clip', input: [x, `${prefix}_zero`, `${prefix}_six`], output: [out] });
+      return out;
+    }
+    default:
+      throw new Error(`activation '${activation}' has no ONNX form in rungwise's export`);
+  }
+}
+
+/** Fill, mean and std per network input: numeric inputs from the recipe, one-hot inputs pass unchanged. */
+function inputScaling(recipe: PreprocessingRecipe): { fill: Float32Array; mean: Float32Array; std: Float32Array } {
+  const fill: number[] = [];
+  const mean: number[] = [];
+  const std: number[] = [];
+  for (const feature of recipe.features) {
+    if (feature.kind === 'numeric') {
+      fill.push(feature.mean);
+      mean.push(feature.mean);
+      std.push(feature.std);
+    } else {
+      for (let i = 0; i < feature.categories.length; i++) {
+        fill.push(0);
+        mean.push(0);
+        std.push(1);
+      }
+    }
+  }
+  return { fill: Float32Array.from(fill), mean: Float32Array.from(mean), std: Float32Array.from(std) };
+}
+
+/** The ONNX model (protobuf bytes) computing what the tfjs Layers `network` computes, from raw numeric inputs. */
+export function onnxModelBytes(network: tf.LayersModel, configuration: ExportConfiguration, producerVersion: string): Uint8Array {
+  const { recipe } = configuration;
+  const nodes: NodeSpec[] = [];
+  const tensors: TensorSpec[] = [];
+  const scaling = inputScaling(recipe);
+  tensors.push({ name: 'fill', dims: [recipe.inputCount], values: scaling.fill }, { name: 'mean', dims: [recipe.inputCount], values: scaling.mean }, { name: 'std', dims: [recipe.inputCount], values: scaling.std });
+  nodes.push(
+    { opType: 'IsNaN', input: [ONNX_INPUT], output: ['missing'] },
+    { opType: 'Where', input: ['missing', 'fill', ONNX_INPUT], output: ['filled'] },
+    { opType: 'Sub', input: ['filled', 'mean'], output: ['centred'] },
+    { opType: 'Div', input: ['centred', 'std'], output: ['scaled'] },
+  );
+  let x = 'scaled';
+  for (const layer of network.layers) {
+    const name = layer.name;
+    const className = layer.getClassName();
+    if (className === 'LeakyReLU') {
+      x = activationNodes('leakyRelu', x, name, nodes, tensors, Number((layer.getConfig() as { alpha?: number }).alpha));
+      continue;
+    }
+    if (className !== 'Dense') throw new Error(`layer ${name} (${className}) has no ONNX form in rungwise's export`);
+    const [kernel, bias] = layer.getWeights();
+    tensors.push({ name: `${name}_kernel`, dims: kernel!.shape, values: Float32Array.from(kernel!.dataSync()) });
+    tensors.push({ name: `${name}_bias`, dims: bias!.shape, values: Float32Array.from(bias!.dataSync()) });
+    nodes.push({ opType: 'Gemm', input: [x, `${name}_kernel`, `${name}_bias`], output: [`${name}_dense`] });
+    x = activationNodes(String((layer.getConfig() as { activation?: string }).activation ?? 'linear'), `${name}_dense`, name, nodes, tensors);
+  }
+  // The graph's output must be a node's output under its published name.
+  nodes.push({ opType: 'Identity', input: [x], output: [ONNX_OUTPUT] });
+
+  const tensorType = (columns: number) => ({ tensorType: { elemType: ONNX_FLOAT, shape: { dim: [{ dimParam: 'rows' }, { dimValue: columns }] } } });
+  const description = describeOnnx(configuration);
+  const ModelProto = onnxModelType();
+  const message = ModelProto.fromObject({
+    irVersion: ONNX_IR_VERSION,
+    opsetImport: [{ domain: '', version: ONNX_OPSET }],
+    producerName: 'rungwise',
+    producerVersion,
+    docString: `${description.numeric} ${description.categorical} Output: ${description.outputMeaning}`,
+    graph: {
+      name: `${configuration.study}_trial_${configuration.trialId}`,
+      node: nodes.map((node, i) => ({ ...node, name: `n${i}_${node.opType.toLowerCase()}` })),
+      initializer: tensors.map((t) => ({ name: t.name, dims: t.dims, dataType: ONNX_FLOAT, rawData: littleEndian(t.values) })),
+      input: [{ name: ONNX_INPUT, type: tensorType(recipe.inputCount), docString: description.inputs.join(', ') }],
+      output: [{ name: ONNX_OUTPUT, type: tensorType(outputCount(recipe)), docString: description.outputMeaning }],
+    },
+    metadataProps: [
+      { key: 'rungwise.inputs', value: JSON.stringify(description.inputs) },
+      { key: 'rungwise.configuration', value: JSON.stringify({ study: configuration.study, trialId: configuration.trialId, outputs: configuration.outputs }) },
+    ],
+  });
+  return ModelProto.encode(message).finish();
+}
+
+/** What `configuration.json` says about `model.onnx`. */
+export function describeOnnx(configuration: ExportConfiguration): OnnxDescription {
+  return {
+    file: ONNX_FILE,
+    input: ONNX_INPUT,
+    output: ONNX_OUTPUT,
+    inputs: inputNames(configuration.recipe),
+    numeric:
+      'Numeric columns go in as they are in the CSV, NaN where missing: the graph fills a missing value with the training mean and standardises with the training mean and standard deviation.',
+    categorical:
+      "Categorical columns go in one-hot, one input per `column=category` of `inputs` (1 for the row's category, else 0): all zeros for a category unseen in training; for a missing value, the recipe's `fill` category.",
+    outputMeaning: configuration.outputs.meaning,
+  };
+}
+
+/** Writes `model.onnx` for `network` into `dir`. */
+export async function writeOnnxModel(network: tf.LayersModel, configuration: ExportConfiguration, dir: string, producerVersion: string): Promise<void> {
+  await writeFile(path.join(dir, ONNX_FILE), onnxModelBytes(network, configuration, producerVersion));
+}

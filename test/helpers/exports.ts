@@ -1,0 +1,37 @@
+/** The three tiny studies (binary, multiclass, regression) run and their winners exported, for hand-off tests. */
+import { mkdtemp } from 'node:fs/promises';
+import { tmpdir } from 'node:os';
+import path from 'node:path';
+import { fileURLToPath } from 'node:url';
+import { exportModel, type ExportFormat } from '../../src/commands/export.js';
+import { run } from '../../src/commands/run.js';
+import type { Task } from '../../src/study/definition.js';
+
+const TINY = fileURLToPath(new URL('../../studies/tiny/', import.meta.url));
+
+export interface TinyExport {
+  task: Task;
+  /** The study's CSV. */
+  csv: string;
+  /** The export folder of rank 1. */
+  exportDir: string;
+}
+
+const STUDIES: [Task, string, string][] = [
+  ['binary', 'study.json', 'tiny.csv'],
+  ['multiclass', 'study-multiclass.json', 'tiny-multiclass.csv'],
+  ['regression', 'study-regression.json', 'tiny-regression.csv'],
+];
+
+/** Runs each tiny study (4 trials, 3 epochs) into a temporary folder and exports its best trial. */
+export async function exportTinyStudies(format: ExportFormat = 'tfjs'): Promise<TinyExport[]> {
+  const root = await mkdtemp(path.join(tmpdir(), 'rungwise-hand-off-'));
+  const exports: TinyExport[] = [];
+  for (const [task, definition, csv] of STUDIES) {
+    const out = path.join(root, task);
+    await run({ definition: path.join(TINY, definition), out, progress: false });
+    const summary = await exportModel({ dir: out, format });
+    exports.push({ task, csv: path.join(TINY, csv), exportDir: summary.out });
+  }
+  return exports;
+}
