@@ -7,7 +7,7 @@ import type { Objective, StudyDefinition } from '../study/definition.js';
 
 /** Where a study command shows progress: a stream (the CLI passes stderr) or nowhere. */
 export interface ProgressTarget {
-  /** Progress display. `false` shows none. @default process.stderr */
+  /** Stream for the progress display (the CLI passes stderr), or `false` for none. @default false */
   progress?: NodeJS.WritableStream | false;
   /** Called with every event as well (a library user's own observer). */
   onEvent?: StudyObserver;
@@ -20,7 +20,7 @@ export function studyObserver(
   objective: Objective,
   previous?: Pick<StudyDocument, 'trials'>,
 ): StudyObserver | undefined {
-  const stream = target.progress === undefined ? process.stderr : target.progress;
+  const stream = target.progress ?? false;
   const observers: StudyObserver[] = [];
   if (stream !== false) {
     observers.push(

@@ -20,15 +20,15 @@ export interface RunCommandOptions extends ProgressTarget {
 }
 
 /**
- * `rungwise run`: validate the definition, run the study with a progress display, and return the
- * saved study and its ranking (the CLI prints them).
+ * `rungwise run`: validate the definition, run the study (with a progress display where one is
+ * asked for), and return the saved study and its ranking (the CLI prints them).
  * @throws UserError for a bad definition or CSV, before anything is written.
  * @example
  * import { run } from 'rungwise';
  * const { ranking, file } = await run({
  *   definition: { name: 'pumps', data: { csv: 'pumps.csv', target: 'fails', task: 'binary' }, space: { ... }, budget: { trials: 8, maxEpochs: 5 }, sampler: { kind: 'random', seed: 1 } },
  *   out: 'runs/pumps',
- *   progress: false,
+ *   progress: process.stderr,
  *   onEvent: (event) => { if (event.type === 'trial-finished') console.log(event.trial.id, event.trial.objective); },
  * });
  */
