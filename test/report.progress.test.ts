@@ -4,7 +4,7 @@ import { plannedWork } from '../src/report/budget.js';
 import { progressObserver } from '../src/report/progress.js';
 import { fitLine } from '../src/report/progress-line.js';
 import { painterFor } from '../src/report/style.js';
-import type { StudyEvent } from '../src/runner/events.js';
+import type { StudyEvent, StudyProgress } from '../src/runner/events.js';
 import type { Job } from '../src/samplers/sampler.js';
 import type { StudyDocument, TrialRecord } from '../src/store/types.js';
 import type { Objective, TrialParams } from '../src/study/definition.js';
@@ -31,23 +31,37 @@ function record(id: number, rungObjectives: (number | null)[], status: TrialReco
   const objectiveValue = rungObjectives.at(-1) ?? null;
   return {
     id, params, seed: id, status, rung: rungObjectives.length - 1, bracket: 0, epochsTrained: 0, curve: [],
-    objective: objectiveValue, rungObjectives, workerSeconds: 0, attempts: 1,
+    objective: objectiveValue, rungObjectives, workerSeconds: 0, retries: 0, jobs: [],
   };
 }
 
 const halving = plannedWork({ budget: { trials: 9, maxEpochs: 9 }, sampler: { kind: 'successive-halving', seed: 1, eta: 3, minEpochs: 1 } } as never);
 
+/** The runner's own counts, as its events carry them. */
+function progressOf(jobsDone: number, epochsDone: number): StudyProgress {
+  return { jobsDone, epochsDone, endedTrials: 0, plannedTrials: 9, plannedEpochs: 21 };
+}
+
+/** What the runner counted so far in a test: each played job adds one job and its epochs. */
+const counted = { jobs: 0, epochs: 0 };
+
 /** Plays a job through: started, its epochs, finished (with the leader the runner's ranking named). */
 function playJob(observe: (event: StudyEvent) => void, j: Job, trial: TrialRecord, best: TrialRecord, clock?: { t: number }): void {
-  observe({ type: 'job-started', job: j });
+  observe({ type: 'job-started', job: j, fromCheckpoint: j.fromEpoch > 0 });
   for (let e = j.fromEpoch + 1; e <= j.toEpoch; e++) {
     if (clock) clock.t += 1000;
     observe({ type: 'epoch', report: { trialId: j.trialId, epoch: e, trainLoss: 1, validationLoss: 1, metrics: {}, seconds: 1 } });
   }
-  observe({ type: 'trial-finished', trial, job: j, best, finishedTrials: 0 });
+  counted.jobs += 1;
+  counted.epochs += j.toEpoch - j.fromEpoch;
+  observe({ type: 'trial-finished', trial, job: j, best, finishedTrials: 0, progress: progressOf(counted.jobs, counted.epochs) });
 }
 
-const started: StudyEvent = { type: 'study-started', name: 'pumps', dir: '/runs/pumps', workers: 2, plannedTrials: 9, resumed: false };
+function started(): StudyEvent {
+  counted.jobs = 0;
+  counted.epochs = 0;
+  return { type: 'study-started', name: 'pumps', dir: '/runs/pumps', workers: 2, plannedTrials: 9, plannedEpochs: 21, resumed: false, progress: progressOf(0, 0) };
+}
 
 describe('planned work of each sampler', () => {
   it('Hyperband with R = 81, eta = 3: 206 jobs (one per configuration and round) and 1581 epochs when promoted trials continue', () => {
@@ -55,14 +69,14 @@ describe('planned work of each sampler', () => {
     // (81,1)(27,3)(9,9)(3,27)(1,81); (34,3)(11,9)(3,27)(1,81); (15,9)(5,27)(1,81); (8,27)(2,81); (5,81).
     // Jobs: 121 + 49 + 21 + 10 + 5. Epochs, each round adding r_i - r_(i-1): 297 + 276 + 279 + 324 + 405 (derived).
     const plan = plannedWork({ budget: { trials: 1, maxEpochs: 81 }, sampler: { kind: 'hyperband', seed: 1, eta: 3, minEpochs: 1 } } as never);
-    expect(plan).toEqual({ jobs: 206, epochs: 1581, rungs: 5, brackets: 5, estimate: false });
+    expect(plan).toEqual({ jobs: 206, epochs: 1581, rungs: 5, brackets: 5 });
   });
 
-  it('successive halving of 9 configurations, eta 3, 1 to 9 epochs: 9 + 3 + 1 jobs, 9 + 3*2 + 1*6 epochs; random search: trials x maxEpochs', () => {
+  it('successive halving of 9 configurations, eta 3, 1 to 9 epochs: 9 + 3 + 1 jobs, 9 + 3*2 + 1*6 epochs (asynchronous halving at most as many); random search: trials x maxEpochs', () => {
     // Source: Jamieson, Talwalkar, AISTATS 2016, as restated in Li et al., JMLR 2018 (keep floor(n / eta) per rung).
-    expect(halving).toEqual({ jobs: 13, epochs: 21, rungs: 3, brackets: 1, estimate: false });
+    expect(halving).toEqual({ jobs: 13, epochs: 21, rungs: 3, brackets: 1 });
     expect(plannedWork({ budget: { trials: 4, maxEpochs: 5 }, sampler: { kind: 'random', seed: 1 } } as never)).toMatchObject({ jobs: 4, epochs: 20 });
-    expect(plannedWork({ budget: { trials: 9, maxEpochs: 9 }, sampler: { kind: 'async-halving', seed: 1, eta: 3, minEpochs: 1 } } as never)).toMatchObject({ jobs: 13, estimate: true });
+    expect(plannedWork({ budget: { trials: 9, maxEpochs: 9 }, sampler: { kind: 'async-halving', seed: 1, eta: 3, minEpochs: 1 } } as never)).toMatchObject({ jobs: 13, epochs: 21 });
   });
 });
 
@@ -70,13 +84,13 @@ describe('progress written to a pipe', () => {
   it('writes one line per ended job with jobs and epochs of the plan, never repeating a job, telling each job from its own rung', () => {
     const out = sink();
     const observe = progressObserver({ objective, plan: halving, stream: out.stream, live: false });
-    observe(started);
+    observe(started());
     const t0 = record(0, [0.5]);
     const t1 = record(1, [0.7]);
     playJob(observe, job(0, 0, 0, 1), t0, t0);
     playJob(observe, job(1, 0, 0, 1), t1, t1);
     // The same announcement again (a batch holding it twice) is not told twice.
-    observe({ type: 'trial-finished', trial: t1, job: job(1, 0, 0, 1), best: t1, finishedTrials: 0 });
+    observe({ type: 'trial-finished', trial: t1, job: job(1, 0, 0, 1), best: t1, finishedTrials: 0, progress: progressOf(2, 2) });
     // Trial 1 promoted: by the time rung 1 is announced its record already says rung 1.
     const promoted = record(1, [0.7, 0.8], 'completed');
     playJob(observe, job(1, 1, 1, 3), promoted, promoted);
@@ -92,7 +106,7 @@ describe('progress written to a pipe', () => {
   it('names the leader the runner sent, even when another trial has a better objective (the ranking orders by rung first)', () => {
     const out = sink();
     const observe = progressObserver({ objective, plan: halving, stream: out.stream, live: false });
-    observe(started);
+    observe(started());
     const low = record(3, [0.9, 0.6]);
     const high = record(4, [0.95]);
     playJob(observe, job(4, 0, 0, 1), high, low);
@@ -102,7 +116,7 @@ describe('progress written to a pipe', () => {
   it('marks a diverged job with its epoch and reason', () => {
     const out = sink();
     const observe = progressObserver({ objective, plan: halving, stream: out.stream, live: false });
-    observe(started);
+    observe(started());
     const diverged = { ...record(2, [null], 'diverged'), divergence: { epoch: 1, reason: 'loss is NaN' } };
     playJob(observe, job(2, 0, 0, 1), diverged, record(0, [0.5]));
     expect(out.text()).toContain('trial 2 rung 0 diverged at epoch 1 (loss is NaN)');
@@ -126,13 +140,15 @@ describe('progress on a terminal', () => {
 
   it('shows no time left before a job has ended, then an estimate; every line fits a 60-column terminal', () => {
     const view = liveLines(60);
-    view.observe(started);
-    view.observe({ type: 'job-started', job: job(0, 0, 0, 1) });
+    view.observe(started());
+    view.observe({ type: 'job-started', job: job(0, 0, 0, 1), fromCheckpoint: false });
     view.clock.t += 5000;
     view.observe({ type: 'epoch', report: { trialId: 0, epoch: 1, trainLoss: 1, validationLoss: 1, metrics: {}, seconds: 1 } });
     expect(view.lines.at(-1)).not.toMatch(/left|~/);
     const t0 = record(0, [0.123456]);
-    view.observe({ type: 'trial-finished', trial: t0, job: job(0, 0, 0, 1), best: t0, finishedTrials: 0 });
+    counted.jobs = 1;
+    counted.epochs = 1;
+    view.observe({ type: 'trial-finished', trial: t0, job: job(0, 0, 0, 1), best: t0, finishedTrials: 0, progress: progressOf(1, 1) });
     // 1 epoch in 5 s, 20 epochs to go: 100 s.
     expect(view.lines.at(-1)).toMatch(/01:40 left|~01:40/);
     for (let id = 1; id < 9; id++) playJob(view.observe, job(id, 0, 0, 1), record(id, [0.5]), t0, view.clock);
@@ -145,7 +161,7 @@ describe('progress on a terminal', () => {
   it('clears its line before the study ends with a summary line', () => {
     const out = sink();
     const observe = progressObserver({ objective, plan: halving, stream: out.stream, live: true, columns: 60 });
-    observe(started);
+    observe(started());
     observe({ type: 'study-finished', doc: { state: 'finished' } as StudyDocument, ranking: [] });
     expect(out.text()).toMatch(/\r\u001b\[Kstudy finished: 0\/13 jobs, 0\/21 epochs in 00:00\n$/);
   });

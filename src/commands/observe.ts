@@ -1,8 +1,7 @@
-import { doneWork, plannedWork } from '../report/budget.js';
+import { plannedWork } from '../report/budget.js';
 import { progressObserver } from '../report/progress.js';
 import { painterFor } from '../report/style.js';
 import type { StudyObserver } from '../runner/events.js';
-import type { StudyDocument } from '../store/types.js';
 import type { Objective, StudyDefinition } from '../study/definition.js';
 
 /** Where a study command shows progress: a stream (the CLI passes stderr) or nowhere. */
@@ -18,7 +17,6 @@ export function studyObserver(
   target: ProgressTarget,
   definition: Pick<StudyDefinition, 'budget' | 'sampler'>,
   objective: Objective,
-  previous?: Pick<StudyDocument, 'trials'>,
 ): StudyObserver | undefined {
   const stream = target.progress ?? false;
   const observers: StudyObserver[] = [];
@@ -29,7 +27,6 @@ export function studyObserver(
         plan: plannedWork(definition),
         stream,
         paint: painterFor(stream),
-        ...(previous ? { done: doneWork(previous) } : {}),
       }),
     );
   }

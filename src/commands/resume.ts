@@ -16,7 +16,7 @@ export interface ResumeCommandOptions extends ProgressTarget {
  */
 export async function resume(options: ResumeCommandOptions): Promise<ResumeOutcome> {
   const saved = await StudyStore.read(options.dir);
-  const onEvent = studyObserver(options, saved.definition, saved.objective, saved);
+  const onEvent = studyObserver(options, saved.definition, saved.objective);
   return resumeStudy(options.dir, {
     ...(options.workers !== undefined ? { workers: options.workers } : {}),
     ...(options.signal ? { signal: options.signal } : {}),

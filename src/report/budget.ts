@@ -1,58 +1,42 @@
-import { halvingSchedule, hyperbandSchedule, trainedEpochs } from '../samplers/index.js';
+import { halvingSchedule, hyperbandSchedule, plannedBudget } from '../samplers/index.js';
 import type { StudyDefinition } from '../study/definition.js';
-import type { StudyDocument } from '../store/types.js';
 
-/** The work a study's sampler plans: jobs (one per configuration and rung) and epochs trained. */
+/** The work a study's sampler plans, as the progress display counts it. */
 export interface PlannedWork {
-  jobs: number;
+  /** Jobs (one per configuration and rung it trains through); undefined for a kind whose plan does not say. */
+  jobs: number | undefined;
+  /** Epochs trained at most: the sampler's own plan, as the runner reports it. */
   epochs: number;
   /** Rungs per bracket (1 for random search). */
   rungs: number;
   /** Brackets (Hyperband), else 1. */
   brackets: number;
-  /** Asynchronous halving promotes by timing: its plan is the synchronous one, an estimate. */
-  estimate: boolean;
 }
 
+type Halving = { kind: string; eta: number; minEpochs: number };
+
 /**
- * What the sampler will train if nothing diverges: random search trains every configuration to
- * maxEpochs; successive halving and Hyperband follow their schedules, promoted trials continuing from
- * their checkpoint (so a rung adds only its extra epochs); asynchronous halving is planned like
- * successive halving over the same configurations.
+ * Epochs come from the sampler's plan (`plannedBudget`); jobs, rungs and brackets from the published
+ * schedules of the halving samplers (asynchronous halving at most as many as successive halving of
+ * the same configurations); random search trains each configuration in one job.
  */
 export function plannedWork(definition: Pick<StudyDefinition, 'budget' | 'sampler'>): PlannedWork {
-  const { budget, sampler } = definition;
-  if (sampler.kind === 'random') {
-    return { jobs: budget.trials, epochs: budget.trials * budget.maxEpochs, rungs: 1, brackets: 1, estimate: false };
-  }
-  if (sampler.minEpochs > budget.maxEpochs) return { jobs: 0, epochs: 0, rungs: 0, brackets: 0, estimate: false };
+  const { budget } = definition;
+  const { epochs, trials } = plannedBudget(definition);
+  const sampler = definition.sampler as unknown as Halving;
+  if (sampler.kind === 'random') return { jobs: trials, epochs, rungs: 1, brackets: 1 };
+  const known = sampler.kind === 'hyperband' || sampler.kind === 'successive-halving' || sampler.kind === 'async-halving';
+  if (!known) return { jobs: undefined, epochs, rungs: 1, brackets: 1 };
+  if (sampler.minEpochs > budget.maxEpochs) return { jobs: 0, epochs: 0, rungs: 0, brackets: 0 };
   if (sampler.kind === 'hyperband') {
     const brackets = hyperbandSchedule(budget.maxEpochs, sampler.eta, sampler.minEpochs);
     return {
       jobs: brackets.reduce((sum, b) => sum + b.rounds.reduce((n, round) => n + round.configurations, 0), 0),
-      epochs: brackets.reduce((sum, b) => sum + trainedEpochs(b.rounds), 0),
+      epochs,
       rungs: Math.max(...brackets.map((b) => b.rounds.length)),
       brackets: brackets.length,
-      estimate: false,
     };
   }
   const rounds = halvingSchedule(budget.trials, sampler.minEpochs, budget.maxEpochs, sampler.eta);
-  return {
-    jobs: rounds.reduce((n, round) => n + round.configurations, 0),
-    epochs: trainedEpochs(rounds),
-    rungs: rounds.length,
-    brackets: 1,
-    estimate: sampler.kind === 'async-halving',
-  };
-}
-
-/** Work a saved study has already done: one job per rung a trial finished, and the epochs it trained. */
-export function doneWork(doc: Pick<StudyDocument, 'trials'>): { jobs: number; epochs: number } {
-  let jobs = 0;
-  let epochs = 0;
-  for (const trial of doc.trials) {
-    jobs += trial.rungObjectives.length;
-    epochs += trial.epochsTrained;
-  }
-  return { jobs, epochs };
+  return { jobs: rounds.reduce((n, round) => n + round.configurations, 0), epochs, rungs: rounds.length, brackets: 1 };
 }

@@ -18,8 +18,6 @@ export interface ProgressOptions {
   plan: PlannedWork;
   /** Where to write (the CLI passes stderr). */
   stream: NodeJS.WritableStream;
-  /** Work a resumed study had already done. @default none */
-  done?: { jobs: number; epochs: number };
   /** A redrawn line on a terminal, else one line per ended job. @default whether `stream` is a terminal */
   live?: boolean;
   /** Width of the live line. @default the terminal's columns, else 80 */
@@ -77,12 +75,17 @@ export function progressObserver(options: ProgressOptions): StudyObserver {
   const metric = objective.metric;
   const now = options.now ?? Date.now;
   const paint = options.paint ?? plain;
-  const live = options.live ?? (stream as Partial<NodeJS.WriteStream>).isTTY === true;
+  const redrawn = options.live ?? (stream as Partial<NodeJS.WriteStream>).isTTY === true;
   const columns = (): number => Math.max(MIN_COLUMNS, (options.columns ?? (stream as Partial<NodeJS.WriteStream>).columns ?? 80) - 1);
-  const approx = plan.estimate ? '~' : '';
-  let jobs = options.done?.jobs ?? 0;
-  let epochs = options.done?.epochs ?? 0;
-  const epochsAtStart = epochs;
+  const planned = (): string => (plan.jobs === undefined ? '' : `/${plan.jobs}`);
+  let plannedEpochs = plan.epochs;
+  /** Jobs settled and the epochs their trials trained, as the runner's last event counted them. */
+  let jobs = 0;
+  let settledEpochs = 0;
+  /** Epochs of each running job so far (its trial's earlier jobs are in settledEpochs). */
+  const liveEpochs = new Map<number, number>();
+  const epochs = (): number => settledEpochs + [...liveEpochs.values()].reduce((a, b) => a + b, 0);
+  let epochsAtStart = 0;
   let started = now();
   let firstEnded = false;
   let leader: TrialRecord | undefined;
@@ -92,20 +95,21 @@ export function progressObserver(options: ProgressOptions): StudyObserver {
   const running = new Map<number, Job>();
   const told = new Set<string>();
 
-  const counters = (): string => `${jobs}/${approx}${plan.jobs} jobs, ${epochs}/${approx}${plan.epochs} epochs`;
+  const counters = (done: { jobsDone: number; epochsDone: number }): string =>
+    `${done.jobsDone}${planned()} jobs, ${done.epochsDone}/${plannedEpochs} epochs`;
   const secondsLeft = (): number | undefined => {
-    const trained = epochs - epochsAtStart;
+    const trained = epochs() - epochsAtStart;
     const elapsed = (now() - started) / 1000;
-    if (!firstEnded || trained <= 0 || elapsed <= 0 || epochs >= plan.epochs) return undefined;
-    return ((plan.epochs - epochs) * elapsed) / trained;
+    if (!firstEnded || trained <= 0 || elapsed <= 0 || epochs() >= plannedEpochs) return undefined;
+    return ((plannedEpochs - epochs()) * elapsed) / trained;
   };
 
   const line = (): string => {
     const left = secondsLeft();
     const elapsed = formatDuration((now() - started) / 1000);
     const segments: (LineSegment | undefined)[] = [
-      { text: `${jobs}/${approx}${plan.jobs} jobs`, dropCost: 11 },
-      { text: `${epochs}/${approx}${plan.epochs} epochs`, short: `${epochs}/${approx}${plan.epochs} ep`, shortCost: 4.5, dropCost: 8 },
+      { text: `${jobs}${planned()} jobs`, dropCost: 11 },
+      { text: `${epochs()}/${plannedEpochs} epochs`, short: `${epochs()}/${plannedEpochs} ep`, shortCost: 4.5, dropCost: 8 },
       rungText(plan, running.values(), lastJob),
       leaderText(leader, metric),
       left === undefined ? undefined : { text: `${formatDuration(left)} left`, short: `~${formatDuration(left)}`, shortCost: 5, dropCost: 7 },
@@ -116,7 +120,7 @@ export function progressObserver(options: ProgressOptions): StudyObserver {
   };
 
   const draw = (force: boolean): void => {
-    if (!live) return;
+    if (!redrawn) return;
     const t = now();
     if (!force && t - lastDraw < REDRAW_MS) return;
     lastDraw = t;
@@ -124,7 +128,7 @@ export function progressObserver(options: ProgressOptions): StudyObserver {
     drawn = true;
   };
   const clear = (): void => {
-    if (live && drawn) stream.write('\r\x1b[K');
+    if (redrawn && drawn) stream.write('\r\x1b[K');
     drawn = false;
   };
 
@@ -132,36 +136,53 @@ export function progressObserver(options: ProgressOptions): StudyObserver {
     switch (event.type) {
       case 'study-started':
         started = now();
+        plannedEpochs = event.plannedEpochs;
+        jobs = event.progress.jobsDone;
+        settledEpochs = event.progress.epochsDone;
+        epochsAtStart = settledEpochs;
         stream.write(
           `${event.resumed ? 'resuming' : 'running'} study ${event.name} on ${event.workers} worker${event.workers === 1 ? '' : 's'}: ` +
-            `${approx}${plan.jobs} jobs, ${approx}${plan.epochs} epochs planned; study file in ${event.dir}\n`,
+            `${plan.jobs === undefined ? '' : `${plan.jobs} jobs, `}${plannedEpochs} epochs planned; study file in ${event.dir}\n`,
         );
         draw(true);
         break;
       case 'job-started':
         running.set(event.job.trialId, event.job);
+        liveEpochs.set(event.job.trialId, 0);
         lastJob = event.job;
         draw(false);
         break;
       case 'epoch':
-        epochs += 1;
+        if (liveEpochs.has(event.report.trialId)) liveEpochs.set(event.report.trialId, liveEpochs.get(event.report.trialId)! + 1);
         draw(false);
         break;
       case 'trial-finished': {
-        const key = `${event.job.trialId}:${event.job.rung}`;
+        const { job } = event;
+        const key = `${job.trialId}:${job.rung}`;
         if (told.has(key)) break;
         told.add(key);
-        jobs += 1;
+        jobs = event.progress.jobsDone;
+        settledEpochs = event.progress.epochsDone;
         firstEnded = true;
-        if (running.get(event.job.trialId) === event.job) running.delete(event.job.trialId);
+        const current = running.get(job.trialId);
+        // The trial may already train its next rung: only the job that ended leaves.
+        if (current && current.rung === job.rung && current.toEpoch === job.toEpoch) {
+          running.delete(job.trialId);
+          liveEpochs.delete(job.trialId);
+        }
         leader = event.best;
-        if (live) draw(true);
+        if (redrawn) draw(true);
         else {
           const lead = leader ? `; leader trial ${leader.id} ${metric} ${formatNumber(leader.objective)}` : '';
-          stream.write(`[${counters()}] ${describeJob(event, metric, plan.rungs > 1)}${lead}\n`);
+          stream.write(`[${counters(event.progress)}] ${describeJob(event, metric, plan.rungs > 1)}${lead}\n`);
         }
         break;
       }
+      case 'note':
+        clear();
+        stream.write(`note: ${event.message}\n`);
+        draw(true);
+        break;
       case 'stopping':
         clear();
         stream.write(`stopping (${event.reason}): no new jobs start; waiting for ${running.size} running\n`);
@@ -169,7 +190,7 @@ export function progressObserver(options: ProgressOptions): StudyObserver {
         break;
       case 'study-finished':
         clear();
-        stream.write(`study ${event.doc.state}: ${counters()} in ${formatDuration((now() - started) / 1000)}\n`);
+        stream.write(`study ${event.doc.state}: ${counters({ jobsDone: jobs, epochsDone: epochs() })} in ${formatDuration((now() - started) / 1000)}\n`);
         break;
       default:
         break;
