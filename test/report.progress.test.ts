@@ -69,14 +69,14 @@ describe('planned work of each sampler', () => {
     // (81,1)(27,3)(9,9)(3,27)(1,81); (34,3)(11,9)(3,27)(1,81); (15,9)(5,27)(1,81); (8,27)(2,81); (5,81).
     // Jobs: 121 + 49 + 21 + 10 + 5. Epochs, each round adding r_i - r_(i-1): 297 + 276 + 279 + 324 + 405 (derived).
     const plan = plannedWork({ budget: { trials: 1, maxEpochs: 81 }, sampler: { kind: 'hyperband', seed: 1, eta: 3, minEpochs: 1 } } as never);
-    expect(plan).toEqual({ jobs: 206, epochs: 1581, rungs: 5, brackets: 5 });
+    expect(plan).toEqual({ jobs: 206, epochs: 1581, rungs: 5, brackets: 5, estimate: false });
   });
 
-  it('successive halving of 9 configurations, eta 3, 1 to 9 epochs: 9 + 3 + 1 jobs, 9 + 3*2 + 1*6 epochs (asynchronous halving at most as many); random search: trials x maxEpochs', () => {
+  it('successive halving of 9 configurations, eta 3, 1 to 9 epochs: 9 + 3 + 1 jobs, 9 + 3*2 + 1*6 epochs (asynchronous halving the same, as an estimate); random search: trials x maxEpochs', () => {
     // Source: Jamieson, Talwalkar, AISTATS 2016, as restated in Li et al., JMLR 2018 (keep floor(n / eta) per rung).
-    expect(halving).toEqual({ jobs: 13, epochs: 21, rungs: 3, brackets: 1 });
+    expect(halving).toEqual({ jobs: 13, epochs: 21, rungs: 3, brackets: 1, estimate: false });
     expect(plannedWork({ budget: { trials: 4, maxEpochs: 5 }, sampler: { kind: 'random', seed: 1 } } as never)).toMatchObject({ jobs: 4, epochs: 20 });
-    expect(plannedWork({ budget: { trials: 9, maxEpochs: 9 }, sampler: { kind: 'async-halving', seed: 1, eta: 3, minEpochs: 1 } } as never)).toMatchObject({ jobs: 13, epochs: 21 });
+    expect(plannedWork({ budget: { trials: 9, maxEpochs: 9 }, sampler: { kind: 'async-halving', seed: 1, eta: 3, minEpochs: 1 } } as never)).toMatchObject({ jobs: 13, epochs: 21, estimate: true });
   });
 });
 
@@ -154,6 +154,8 @@ describe('progress on a terminal', () => {
     for (let id = 1; id < 9; id++) playJob(view.observe, job(id, 0, 0, 1), record(id, [0.5]), t0, view.clock);
     playJob(view.observe, job(0, 1, 1, 3), record(0, [0.1234, 0.98765]), record(0, [0.1234, 0.98765]), view.clock);
     for (const line of view.lines) expect(line.length, line).toBeLessThanOrEqual(59);
+    const epochCounts = view.lines.map((line) => Number(/ (\d+)\/21 ep/.exec(line)?.[1]));
+    expect(epochCounts.every((n, i) => i === 0 || n >= epochCounts[i - 1]!), epochCounts.join(' ')).toBe(true);
     expect(view.lines.at(-1)).toMatch(/^10\/13 jobs {2}1[0-9]\/21 ep(ochs)? {2}(rung|r)/);
     expect(view.lines.at(-1)).toContain('0.9877');
   });

@@ -11,23 +11,28 @@ export interface PlannedWork {
   rungs: number;
   /** Brackets (Hyperband), else 1. */
   brackets: number;
+  /**
+   * Asynchronous halving promotes by timing, and can promote more than the synchronous plan
+   * (a promoted trial may fall out of the top later, and another is promoted): its plan is an estimate.
+   */
+  estimate: boolean;
 }
 
 type Halving = { kind: string; eta: number; minEpochs: number };
 
 /**
  * Epochs come from the sampler's plan (`plannedBudget`); jobs, rungs and brackets from the published
- * schedules of the halving samplers (asynchronous halving at most as many as successive halving of
- * the same configurations); random search trains each configuration in one job.
+ * schedules of the halving samplers (for asynchronous halving, successive halving's of the same
+ * configurations, as an estimate); random search trains each configuration in one job.
  */
 export function plannedWork(definition: Pick<StudyDefinition, 'budget' | 'sampler'>): PlannedWork {
   const { budget } = definition;
   const { epochs, trials } = plannedBudget(definition);
   const sampler = definition.sampler as unknown as Halving;
-  if (sampler.kind === 'random') return { jobs: trials, epochs, rungs: 1, brackets: 1 };
+  if (sampler.kind === 'random') return { jobs: trials, epochs, rungs: 1, brackets: 1, estimate: false };
   const known = sampler.kind === 'hyperband' || sampler.kind === 'successive-halving' || sampler.kind === 'async-halving';
-  if (!known) return { jobs: undefined, epochs, rungs: 1, brackets: 1 };
-  if (sampler.minEpochs > budget.maxEpochs) return { jobs: 0, epochs: 0, rungs: 0, brackets: 0 };
+  if (!known) return { jobs: undefined, epochs, rungs: 1, brackets: 1, estimate: false };
+  if (sampler.minEpochs > budget.maxEpochs) return { jobs: 0, epochs: 0, rungs: 0, brackets: 0, estimate: false };
   if (sampler.kind === 'hyperband') {
     const brackets = hyperbandSchedule(budget.maxEpochs, sampler.eta, sampler.minEpochs);
     return {
@@ -35,8 +40,9 @@ export function plannedWork(definition: Pick<StudyDefinition, 'budget' | 'sample
       epochs,
       rungs: Math.max(...brackets.map((b) => b.rounds.length)),
       brackets: brackets.length,
+      estimate: false,
     };
   }
   const rounds = halvingSchedule(budget.trials, sampler.minEpochs, budget.maxEpochs, sampler.eta);
-  return { jobs: rounds.reduce((n, round) => n + round.configurations, 0), epochs, rungs: rounds.length, brackets: 1 };
+  return { jobs: rounds.reduce((n, round) => n + round.configurations, 0), epochs, rungs: rounds.length, brackets: 1, estimate: sampler.kind === 'async-halving' };
 }

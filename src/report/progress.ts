@@ -77,14 +77,18 @@ export function progressObserver(options: ProgressOptions): StudyObserver {
   const paint = options.paint ?? plain;
   const redrawn = options.live ?? (stream as Partial<NodeJS.WriteStream>).isTTY === true;
   const columns = (): number => Math.max(MIN_COLUMNS, (options.columns ?? (stream as Partial<NodeJS.WriteStream>).columns ?? 80) - 1);
-  const planned = (): string => (plan.jobs === undefined ? '' : `/${plan.jobs}`);
+  const approx = plan.estimate ? '~' : '';
+  const planned = (): string => (plan.jobs === undefined ? '' : `/${approx}${plan.jobs}`);
   let plannedEpochs = plan.epochs;
-  /** Jobs settled and the epochs their trials trained, as the runner's last event counted them. */
+  /** Jobs settled, as the runner's last event counted them. */
   let jobs = 0;
-  let settledEpochs = 0;
-  /** Epochs of each running job so far (its trial's earlier jobs are in settledEpochs). */
-  const liveEpochs = new Map<number, number>();
-  const epochs = (): number => settledEpochs + [...liveEpochs.values()].reduce((a, b) => a + b, 0);
+  /**
+   * Epochs trained: the runner's count when the study started, then one per epoch event, and never
+   * less than the runner's count at a job's end (an epoch report can arrive after its job settled, or
+   * not at all); it never goes back.
+   */
+  let trained = 0;
+  const epochs = (): number => trained;
   let epochsAtStart = 0;
   let started = now();
   let firstEnded = false;
@@ -96,12 +100,12 @@ export function progressObserver(options: ProgressOptions): StudyObserver {
   const told = new Set<string>();
 
   const counters = (done: { jobsDone: number; epochsDone: number }): string =>
-    `${done.jobsDone}${planned()} jobs, ${done.epochsDone}/${plannedEpochs} epochs`;
+    `${done.jobsDone}${planned()} jobs, ${done.epochsDone}/${approx}${plannedEpochs} epochs`;
   const secondsLeft = (): number | undefined => {
-    const trained = epochs() - epochsAtStart;
+    const sinceStart = trained - epochsAtStart;
     const elapsed = (now() - started) / 1000;
-    if (!firstEnded || trained <= 0 || elapsed <= 0 || epochs() >= plannedEpochs) return undefined;
-    return ((plannedEpochs - epochs()) * elapsed) / trained;
+    if (!firstEnded || sinceStart <= 0 || elapsed <= 0 || trained >= plannedEpochs) return undefined;
+    return ((plannedEpochs - trained) * elapsed) / sinceStart;
   };
 
   const line = (): string => {
@@ -109,7 +113,7 @@ export function progressObserver(options: ProgressOptions): StudyObserver {
     const elapsed = formatDuration((now() - started) / 1000);
     const segments: (LineSegment | undefined)[] = [
       { text: `${jobs}${planned()} jobs`, dropCost: 11 },
-      { text: `${epochs()}/${plannedEpochs} epochs`, short: `${epochs()}/${plannedEpochs} ep`, shortCost: 4.5, dropCost: 8 },
+      { text: `${epochs()}/${approx}${plannedEpochs} epochs`, short: `${epochs()}/${approx}${plannedEpochs} ep`, shortCost: 4.5, dropCost: 8 },
       rungText(plan, running.values(), lastJob),
       leaderText(leader, metric),
       left === undefined ? undefined : { text: `${formatDuration(left)} left`, short: `~${formatDuration(left)}`, shortCost: 5, dropCost: 7 },
@@ -138,22 +142,21 @@ export function progressObserver(options: ProgressOptions): StudyObserver {
         started = now();
         plannedEpochs = event.plannedEpochs;
         jobs = event.progress.jobsDone;
-        settledEpochs = event.progress.epochsDone;
-        epochsAtStart = settledEpochs;
+        trained = event.progress.epochsDone;
+        epochsAtStart = trained;
         stream.write(
           `${event.resumed ? 'resuming' : 'running'} study ${event.name} on ${event.workers} worker${event.workers === 1 ? '' : 's'}: ` +
-            `${plan.jobs === undefined ? '' : `${plan.jobs} jobs, `}${plannedEpochs} epochs planned; study file in ${event.dir}\n`,
+            `${plan.jobs === undefined ? '' : `${approx}${plan.jobs} jobs, `}${approx}${plannedEpochs} epochs planned; study file in ${event.dir}\n`,
         );
         draw(true);
         break;
       case 'job-started':
         running.set(event.job.trialId, event.job);
-        liveEpochs.set(event.job.trialId, 0);
         lastJob = event.job;
         draw(false);
         break;
       case 'epoch':
-        if (liveEpochs.has(event.report.trialId)) liveEpochs.set(event.report.trialId, liveEpochs.get(event.report.trialId)! + 1);
+        trained += 1;
         draw(false);
         break;
       case 'trial-finished': {
@@ -161,14 +164,13 @@ export function progressObserver(options: ProgressOptions): StudyObserver {
         const key = `${job.trialId}:${job.rung}`;
         if (told.has(key)) break;
         told.add(key);
-        jobs = event.progress.jobsDone;
-        settledEpochs = event.progress.epochsDone;
+        jobs = Math.max(jobs, event.progress.jobsDone);
+        trained = Math.max(trained, event.progress.epochsDone);
         firstEnded = true;
         const current = running.get(job.trialId);
         // The trial may already train its next rung: only the job that ended leaves.
         if (current && current.rung === job.rung && current.toEpoch === job.toEpoch) {
           running.delete(job.trialId);
-          liveEpochs.delete(job.trialId);
         }
         leader = event.best;
         if (redrawn) draw(true);
