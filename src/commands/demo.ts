@@ -30,6 +30,9 @@ export interface DemoOptions extends ProgressTarget {
 /**
  * `rungwise demo`: runs the shipped demo study. An earlier demo run in the same folder is replaced;
  * a folder that holds another study is refused.
+ * @example
+ * import { runDemo } from 'rungwise';
+ * const { ranking } = await runDemo({ out: 'runs/demo', progress: process.stderr });
  */
 export async function runDemo(options: DemoOptions = {}): Promise<StudyOutcome> {
   const out = path.resolve(options.out ?? path.join('runs', DEMO_NAME));

@@ -82,6 +82,10 @@ async function retrainData(doc: StudyDocument, studyFile: string, allowChangedDa
  * Without --retrain the kept checkpoint is exported; with it, the configuration is retrained and
  * scored once on the held-out test split (the only place the tool touches that split).
  * @throws UserError for a rank that does not exist or, without --retrain, has no kept checkpoint.
+ * @example
+ * import { exportModel } from 'rungwise';
+ * const { out, files } = await exportModel({ dir: 'runs/demo', rank: 1, format: 'onnx' });
+ * // out: runs/demo/export/rank-1; files: configuration.json, model.json, weights.bin, model.onnx
  */
 export async function exportModel(options: ExportCommandOptions): Promise<ExportSummary> {
   const rank = options.rank ?? 1;

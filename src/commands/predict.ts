@@ -47,6 +47,9 @@ export function defaultPredictionsPath(data: string): string {
  * are written atomically (or to standard output), one row per input row with its CSV line number and
  * the kept columns.
  * @throws UserError when the folder is not an export, a kept column is absent, or the CSV lacks a feature column or holds text in a numeric one.
+ * @example
+ * import { predictCsv } from 'rungwise';
+ * await predictCsv({ model: 'runs/demo/export/rank-1', data: 'new-logs.csv', keep: ['pump_id'], output: 'predictions.csv' });
  */
 export async function predictCsv(options: PredictCommandOptions): Promise<PredictSummary> {
   const output = options.output ?? defaultPredictionsPath(options.data);

@@ -14,7 +14,13 @@ export interface RankingResult {
   file: string;
 }
 
-/** `rungwise ranking`: the study's ranking from the saved study file alone. */
+/**
+ * `rungwise ranking`: the study's ranking from the saved study file alone.
+ * @example
+ * import { ranking } from 'rungwise';
+ * const { ranking: ranked } = await ranking({ dir: 'runs/demo' });
+ * console.log(ranked[0]?.trial.params);
+ */
 export async function ranking(options: RankingCommandOptions): Promise<RankingResult> {
   const doc = await StudyStore.read(options.dir);
   return { doc, ranking: rankTrials(doc.trials, doc.objective), file: studyFilePath(options.dir) };

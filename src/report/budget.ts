@@ -24,6 +24,9 @@ type Halving = { kind: string; eta: number; minEpochs: number };
  * Epochs come from the sampler's plan (`plannedBudget`); jobs, rungs and brackets from the published
  * schedules of the halving samplers (for asynchronous halving, successive halving's of the same
  * configurations, as an estimate); random search trains each configuration in one job.
+ * @example
+ * plannedWork({ budget: { trials: 9, maxEpochs: 9 }, sampler: { kind: 'successive-halving', seed: 1, eta: 3, minEpochs: 1 } });
+ * // { jobs: 13, epochs: 21, rungs: 3, brackets: 1, estimate: false }
  */
 export function plannedWork(definition: Pick<StudyDefinition, 'budget' | 'sampler'>): PlannedWork {
   const { budget } = definition;

@@ -68,7 +68,12 @@ function entry(trial: TrialRecord, rank: number | null): TrialEntry {
   return result;
 }
 
-/** Every trial of the study, ranked ones first in ranking order; `top` keeps only the first entries. */
+/**
+ * Every trial of the study, ranked ones first in ranking order; `top` keeps only the first entries.
+ * @example
+ * const doc = await StudyStore.read('runs/demo');
+ * const json = studyResultJson(doc, rankTrials(doc.trials, doc.objective), studyFilePath('runs/demo'));
+ */
 export function studyResultJson(doc: StudyDocument, ranking: readonly RankedTrial[], file: string, top?: number): StudyResultJson {
   const rankedIds = new Set(ranking.map(({ trial }) => trial.id));
   const entries = [
