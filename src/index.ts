@@ -9,7 +9,7 @@ export { studyJsonSchema } from './study/json-schema.js';
 export { runStudy, type RunOptions, type StudyOutcome } from './runner/run-study.js';
 export { resumeStudy, type ResumeOptions, type ResumeOutcome } from './runner/resume-study.js';
 export { executeStudy, type ExecuteOptions } from './runner/execute-study.js';
-export type { StudyEvent, StudyObserver } from './runner/events.js';
+export type { StudyEvent, StudyObserver, StudyProgress } from './runner/events.js';
 export { rankTrials, type RankedTrial } from './study/objective.js';
 export { StudyStore, STUDY_FILE_NAME, studyFilePath } from './store/study-store.js';
 export type { StudyDocument, TrialRecord, TrialStatus, CurvePoint, StudyTotals } from './store/types.js';
