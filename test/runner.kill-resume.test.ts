@@ -30,9 +30,10 @@ function runAndKill(args: string[], moment: Moment): Promise<void> {
       killed = true;
       child.kill('SIGKILL');
     };
-    child.stdout.on('data', (chunk: Buffer) => {
+    // Progress goes to stderr: one line per ended job.
+    child.stderr.on('data', (chunk: Buffer) => {
       if (moment.kind !== 'after-lines') return;
-      lines += chunk.toString().split('\n').filter((l) => /^\[\d+\/\d+\] trial/.test(l)).length;
+      lines += chunk.toString().split('\n').filter((l) => /^\[\d+\/\d+ jobs, \d+\/\d+ epochs\] trial/.test(l)).length;
       if (lines >= moment.lines) setTimeout(kill, moment.delayMs);
     });
     if (moment.kind === 'after-lines' && moment.lines === 0) setTimeout(kill, moment.delayMs);
@@ -95,14 +96,14 @@ describe('killing and resuming a study', () => {
     }
     expect(kills).toBeGreaterThanOrEqual(10);
 
-    const last = await runCli(existsSync(studyFilePath(dir)) ? ['resume', dir] : ['run', studyFile, '--out', dir]);
+    const last = await runCli([...(existsSync(studyFilePath(dir)) ? ['resume', dir] : ['run', studyFile, '--out', dir]), '--quiet']);
     expect(last.stderr).toBe('');
     expect(last.code).toBe(0);
     const final = (await StudyStore.open(dir)).doc;
     expect(final.state).toBe('finished');
     expect(resultOf(final)).toEqual(resultOf(reference));
 
-    const rankingOf = async (d: string) => JSON.parse((await runCli(['ranking', d, '--json'])).stdout).ranking;
+    const rankingOf = async (d: string) => JSON.parse((await runCli(['ranking', d, '--json'])).stdout).trials;
     expect(await rankingOf(dir)).toEqual(await rankingOf(path.join(path.dirname(studyFile), 'reference')));
   }, 600_000);
 });

@@ -80,7 +80,7 @@ export function progressObserver(options: ProgressOptions): StudyObserver {
   const approx = plan.estimate ? '~' : '';
   const planned = (): string => (plan.jobs === undefined ? '' : `/${approx}${plan.jobs}`);
   let plannedEpochs = plan.epochs;
-  /** Jobs settled, as the runner's last event counted them. */
+  /** Jobs ended: the runner's count when the study started, then one per announced job (so each piped line has its own). */
   let jobs = 0;
   /**
    * Epochs trained: the runner's count when the study started, then one per epoch event, and never
@@ -88,7 +88,6 @@ export function progressObserver(options: ProgressOptions): StudyObserver {
    * not at all); it never goes back.
    */
   let trained = 0;
-  const epochs = (): number => trained;
   let epochsAtStart = 0;
   let started = now();
   let firstEnded = false;
@@ -113,7 +112,7 @@ export function progressObserver(options: ProgressOptions): StudyObserver {
     const elapsed = formatDuration((now() - started) / 1000);
     const segments: (LineSegment | undefined)[] = [
       { text: `${jobs}${planned()} jobs`, dropCost: 11 },
-      { text: `${epochs()}/${approx}${plannedEpochs} epochs`, short: `${epochs()}/${approx}${plannedEpochs} ep`, shortCost: 4.5, dropCost: 8 },
+      { text: `${trained}/${approx}${plannedEpochs} epochs`, short: `${trained}/${approx}${plannedEpochs} ep`, shortCost: 4.5, dropCost: 8 },
       rungText(plan, running.values(), lastJob),
       leaderText(leader, metric),
       left === undefined ? undefined : { text: `${formatDuration(left)} left`, short: `~${formatDuration(left)}`, shortCost: 5, dropCost: 7 },
@@ -164,7 +163,7 @@ export function progressObserver(options: ProgressOptions): StudyObserver {
         const key = `${job.trialId}:${job.rung}`;
         if (told.has(key)) break;
         told.add(key);
-        jobs = Math.max(jobs, event.progress.jobsDone);
+        jobs += 1;
         trained = Math.max(trained, event.progress.epochsDone);
         firstEnded = true;
         const current = running.get(job.trialId);
@@ -176,7 +175,7 @@ export function progressObserver(options: ProgressOptions): StudyObserver {
         if (redrawn) draw(true);
         else {
           const lead = leader ? `; leader trial ${leader.id} ${metric} ${formatNumber(leader.objective)}` : '';
-          stream.write(`[${counters(event.progress)}] ${describeJob(event, metric, plan.rungs > 1)}${lead}\n`);
+          stream.write(`[${counters({ jobsDone: jobs, epochsDone: trained })}] ${describeJob(event, metric, plan.rungs > 1)}${lead}\n`);
         }
         break;
       }
@@ -192,7 +191,7 @@ export function progressObserver(options: ProgressOptions): StudyObserver {
         break;
       case 'study-finished':
         clear();
-        stream.write(`study ${event.doc.state}: ${counters({ jobsDone: jobs, epochsDone: epochs() })} in ${formatDuration((now() - started) / 1000)}\n`);
+        stream.write(`study ${event.doc.state}: ${counters({ jobsDone: jobs, epochsDone: trained })} in ${formatDuration((now() - started) / 1000)}\n`);
         break;
       default:
         break;

@@ -7,7 +7,10 @@ import { OPTIMISM_CAUTION, studySummary } from './summary.js';
 /** Rows of the text table when `--top` is not given. */
 export const DEFAULT_TABLE_ROWS = 10;
 
-/** One trial in `--json` output: ranked ones carry their rank, the others `rank: null` and why they are not ranked. */
+/**
+ * One trial in `--json` output: ranked ones carry their rank, the others `rank: null` and why they are
+ * not ranked. No timings: the same study gives the same entries, interrupted or not (totals hold the times).
+ */
 export interface TrialEntry {
   rank: number | null;
   trial: number;
@@ -23,7 +26,6 @@ export interface TrialEntry {
   seed: number;
   /** Validation metrics of the last epoch trained. */
   metrics: Record<string, number>;
-  workerSeconds: number;
 }
 
 /** The result of `run`, `resume` and `ranking` as plain data. */
@@ -62,7 +64,6 @@ function entry(trial: TrialRecord, rank: number | null): TrialEntry {
     params: trial.params,
     seed: trial.seed,
     metrics: { ...(trial.curve.at(-1)?.metrics ?? {}) } as Record<string, number>,
-    workerSeconds: trial.workerSeconds,
   };
   if (rank === null) result.reason = unrankedReason(trial);
   return result;
