@@ -1,5 +1,5 @@
 import { existsSync, readFileSync } from 'node:fs';
-import { copyFile, mkdtemp, readFile } from 'node:fs/promises';
+import { copyFile, mkdtemp, readFile, writeFile } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
 import path from 'node:path';
 import { fileURLToPath } from 'node:url';
@@ -151,6 +151,21 @@ describe('results on stdout, progress and messages on stderr', () => {
     expect(readFileSync(files[1]!, 'utf8')).toBe(readFileSync(path.join(ROOT, 'studies/demo/pump-logs.csv'), 'utf8'));
     const again = await runCli(['demo', '--copy', dir]);
     expect(again.code).toBe(2);
+  });
+
+  it('export --retrain refuses a changed CSV in one line, and --allow-changed-data goes on', async () => {
+    const folder = path.dirname(studyFile);
+    const changedDir = path.join(folder, 'changed');
+    expect((await runCli(['run', studyFile, '--out', changedDir, '--quiet'])).code).toBe(0);
+    // The same rows with a blank line at the end: another file, the same data and recipe.
+    await writeFile(csv, `${await readFile(csv, 'utf8')}\n`);
+    const refused = await runCli(['export', changedDir, '--retrain', '--out', path.join(changedDir, 'r1')]);
+    expect(refused.code).toBe(2);
+    expect(refused.stderr.trim().split('\n')).toHaveLength(1);
+    expect(refused.stderr).toContain('--allow-changed-data');
+    const allowed = await runCli(['export', changedDir, '--retrain', '--allow-changed-data', '--out', path.join(changedDir, 'r2'), '--json']);
+    expect(allowed.code).toBe(0);
+    expect(JSON.parse(allowed.stdout)).toMatchObject({ retrained: true });
   });
 
   it('writes no colour codes into a pipe or under NO_COLOR', async () => {

@@ -110,11 +110,18 @@ export function buildProgram(stdout: NodeJS.WritableStream = process.stdout, std
     .option('--workers <n>', "worker threads (default: the study's, else available cores)", workers)
     .option('--top <n>', 'configurations in the result (default: 10 in the table, all in JSON)', top)
     .option('--json', 'print the result as JSON: every trial, ranked ones first')
-    .action(async (dir: string, flags: { workers?: number; top?: number; json?: boolean }) => {
+    .option('--allow-changed-data', 'go on although the CSV changed since the study started (the study file records it)')
+    .action(async (dir: string, flags: { workers?: number; top?: number; json?: boolean; allowChangedData?: boolean }) => {
       const target = io();
       const { resume } = await import('../commands/resume.js');
       const outcome = await untilInterrupted(target, (signal) =>
-        resume({ dir, ...(flags.workers !== undefined ? { workers: flags.workers } : {}), progress: target.err, signal }),
+        resume({
+          dir,
+          ...(flags.workers !== undefined ? { workers: flags.workers } : {}),
+          ...(flags.allowChangedData ? { allowChangedData: true } : {}),
+          progress: target.err,
+          signal,
+        }),
       );
       if (outcome.alreadyFinished) target.note(`study ${outcome.doc.name} is already finished; nothing to resume`);
       await printStudy(target, outcome, flags);
@@ -156,11 +163,19 @@ export function buildProgram(stdout: NodeJS.WritableStream = process.stdout, std
     .option('--out <dir>', 'export folder (default: <dir>/export/rank-<n>)')
     .option('--retrain', 'train afresh on training + validation rows, then score once on the held-out test split')
     .option('--format <format>', "'tfjs' (model.json, weights.bin) or 'onnx' (model.onnx as well)", 'tfjs')
+    .option('--allow-changed-data', 'with --retrain: go on although the CSV changed since the study ran')
     .option('--json', 'print the export summary as JSON')
-    .action(async (dir: string, flags: { rank: number; out?: string; retrain?: boolean; format: string; json?: boolean }) => {
+    .action(async (dir: string, flags: { rank: number; out?: string; retrain?: boolean; format: string; json?: boolean; allowChangedData?: boolean }) => {
       const target = io();
       const { exportModel, exportReport, parseExportFormat } = await import('../commands/export.js');
-      const summary = await exportModel({ dir, rank: flags.rank, format: parseExportFormat(flags.format), ...(flags.out !== undefined ? { out: flags.out } : {}), ...(flags.retrain ? { retrain: true } : {}) });
+      const summary = await exportModel({
+        dir,
+        rank: flags.rank,
+        format: parseExportFormat(flags.format),
+        ...(flags.out !== undefined ? { out: flags.out } : {}),
+        ...(flags.retrain ? { retrain: true } : {}),
+        ...(flags.allowChangedData ? { allowChangedData: true } : {}),
+      });
       target.out(flags.json ? json(summary) : `${exportReport(summary)}\n`);
     });
 
@@ -227,13 +242,15 @@ export async function main(argv: readonly string[]): Promise<number> {
       // Help and version are "errors" with exit code 0; usage errors are user errors.
       return error.exitCode === 0 ? 0 : 2;
     }
+    // On a terminal a progress line may stand where the message goes: clear it first.
+    const lineStart = process.stderr.isTTY ? '\r\x1b[K' : '';
     if (isUserError(error)) {
       // One line per problem, each marked, so every line can be read (and grepped) alone.
-      process.stderr.write(error.message.split('\n').map((line) => `${paint('error', 'error:')} ${line}\n`).join(''));
+      process.stderr.write(lineStart + error.message.split('\n').map((line) => `${paint('error', 'error:')} ${line}\n`).join(''));
       return error.exitCode;
     }
     const message = error instanceof Error ? error.message : String(error);
-    process.stderr.write(`${paint('error', 'internal error:')} ${message}\n`);
+    process.stderr.write(`${lineStart}${paint('error', 'internal error:')} ${message}\n`);
     if (debug && error instanceof Error && error.stack) process.stderr.write(`${error.stack}\n`);
     else process.stderr.write('(run again with --debug for the stack)\n');
     return 1;

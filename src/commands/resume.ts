@@ -7,6 +7,8 @@ export interface ResumeCommandOptions extends ProgressTarget {
   dir: string;
   /** Worker threads. @default the study's `workers`, else available cores */
   workers?: number;
+  /** Go on although the CSV changed since the study started (the study file records it). @default false */
+  allowChangedData?: boolean;
   signal?: AbortSignal;
 }
 
@@ -20,6 +22,7 @@ export async function resume(options: ResumeCommandOptions): Promise<ResumeOutco
   return resumeStudy(options.dir, {
     ...(options.workers !== undefined ? { workers: options.workers } : {}),
     ...(options.signal ? { signal: options.signal } : {}),
+    ...(options.allowChangedData ? { allowChangedData: true } : {}),
     ...(onEvent ? { onEvent } : {}),
   });
 }

@@ -2,7 +2,8 @@ import type { RankedTrial } from '../study/objective.js';
 import type { StudyDocument, TrialRecord, TrialStatus } from '../store/types.js';
 import type { Objective, TrialParams } from '../study/definition.js';
 import { rankingTable } from './ranking-table.js';
-import { OPTIMISM_CAUTION, studySummary } from './summary.js';
+import { OPTIMISM_CAUTION } from './caution.js';
+import { studySummary } from './summary.js';
 
 /** Rows of the text table when `--top` is not given. */
 export const DEFAULT_TABLE_ROWS = 10;
