@@ -17,7 +17,8 @@ describe('a study without a result', () => {
     const file = await writeTinyStudy();
     const result = await runCli(['run', file, '--out', path.join(path.dirname(file), 'run')], { env: { [FAULT_VARIABLE]: '2:throw' } });
     expect(result.code).toBe(0);
-    const output = `${result.stdout}${result.stderr}`.trimEnd().split('\n');
+    // The result, summary last, is on stdout (progress is on stderr).
+    const output = result.stdout.trimEnd().split('\n');
     expect(output.at(-1)).toBe('1 of 4 trials ended without a score (failed, diverged or timed out); the first: trial 2: injected fault: trial 2 throws');
   });
 });

@@ -87,6 +87,13 @@ export function buildProgram(stdout: NodeJS.WritableStream = process.stdout, std
     const { studyResultJson, studyResultText } = await import('../report/study-result.js');
     target.out(flags.json ? json(studyResultJson(outcome.doc, outcome.ranking, outcome.file, flags.top)) : `${studyResultText(outcome.doc, outcome.ranking, outcome.file, flags.top)}\n`);
   };
+  /** After a study ran: its result on stdout, then exit 1 when every trial ended without a score. */
+  const finishStudy = async (target: CliIo, outcome: Parameters<typeof printStudy>[1], flags: { top?: number; json?: boolean }): Promise<void> => {
+    await printStudy(target, outcome, flags);
+    const { noResultError } = await import('../study/trial-status.js');
+    const noResult = outcome.doc.state === 'finished' ? noResultError(outcome.doc.trials, outcome.file) : undefined;
+    if (noResult) throw noResult;
+  };
 
   command('run')
     .description('launch a study from its definition file')
@@ -101,7 +108,7 @@ export function buildProgram(stdout: NodeJS.WritableStream = process.stdout, std
       const { run } = await import('../commands/run.js');
       const { json: _json, top: _top, ...options } = flags;
       const outcome = await untilInterrupted(target, (signal) => run({ definition, ...options, progress: target.err, signal }));
-      await printStudy(target, outcome, flags);
+      await finishStudy(target, outcome, flags);
     });
 
   command('resume')
@@ -124,7 +131,7 @@ export function buildProgram(stdout: NodeJS.WritableStream = process.stdout, std
         }),
       );
       if (outcome.alreadyFinished) target.note(`study ${outcome.doc.name} is already finished; nothing to resume`);
-      await printStudy(target, outcome, flags);
+      await finishStudy(target, outcome, flags);
     });
 
   command('ranking')
@@ -218,7 +225,7 @@ export function buildProgram(stdout: NodeJS.WritableStream = process.stdout, std
       const outcome = await untilInterrupted(target, (signal) =>
         runDemo({ out: flags.out, ...(flags.workers !== undefined ? { workers: flags.workers } : {}), progress: target.err, signal }),
       );
-      await printStudy(target, outcome, flags);
+      await finishStudy(target, outcome, flags);
     });
 
   return program;
