@@ -6,7 +6,7 @@
  * README's own, `npx rungwise` run as `node bin/rungwise.js` (what npx resolves it to in a clone).
  */
 import { execFile, execFileSync } from 'node:child_process';
-import { cp, mkdir, mkdtemp, readFile, symlink, writeFile } from 'node:fs/promises';
+import { cp, mkdir, mkdtemp, readdir, readFile, symlink, writeFile } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
 import path from 'node:path';
 import { fileURLToPath } from 'node:url';
@@ -54,15 +54,11 @@ async function freshCopy(): Promise<string> {
   }
   await cp(path.join(ROOT, 'dist'), path.join(copy, 'dist'), { recursive: true });
   await symlink(path.join(ROOT, 'node_modules'), path.join(copy, 'node_modules'), 'dir');
-  // Small budgets, same data and search spaces.
-  const shrink: Record<string, object> = {
-    'study.json': { budget: { trials: 3, maxEpochs: 2 } },
-    'study-halving.json': { budget: { trials: 3, maxEpochs: 3 } },
-    'study-hyperband.json': { budget: { trials: 3, maxEpochs: 3 } },
-  };
-  for (const [name, change] of Object.entries(shrink)) {
-    const file = path.join(copy, 'studies/demo', name);
-    await writeFile(file, JSON.stringify({ ...(JSON.parse(await readFile(file, 'utf8')) as object), ...change }, null, 2));
+  // Small budgets, same data and search spaces, for every demo study.
+  const demo = path.join(copy, 'studies/demo');
+  for (const name of (await readdir(demo)).filter((f) => f.endsWith('.json'))) {
+    const file = path.join(demo, name);
+    await writeFile(file, JSON.stringify({ ...(JSON.parse(await readFile(file, 'utf8')) as object), budget: { trials: 3, maxEpochs: 3 } }, null, 2));
   }
   return copy;
 }
