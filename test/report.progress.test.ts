@@ -8,6 +8,7 @@ import type { StudyEvent, StudyProgress } from '../src/runner/events.js';
 import type { Job } from '../src/samplers/sampler.js';
 import type { StudyDocument, TrialRecord } from '../src/store/types.js';
 import type { Objective, TrialParams } from '../src/study/definition.js';
+import { trialRecord } from './helpers/trials.js';
 
 const objective: Objective = { metric: 'accuracy', direction: 'maximize' };
 const params = { depth: 1, width: 8, activation: 'relu', learningRate: 0.01, batchSize: 16, optimizer: 'adam', l2: 0, dropout: 0 } as TrialParams;
@@ -27,12 +28,9 @@ function job(trialId: number, rung: number, fromEpoch: number, toEpoch: number, 
   return { trialId, params, rung, bracket, fromEpoch, toEpoch };
 }
 
+/** A trial paused (or in `status`) after the rungs whose objectives are given. */
 function record(id: number, rungObjectives: (number | null)[], status: TrialRecord['status'] = 'paused'): TrialRecord {
-  const objectiveValue = rungObjectives.at(-1) ?? null;
-  return {
-    id, params, seed: id, status, rung: rungObjectives.length - 1, bracket: 0, epochsTrained: 0, curve: [],
-    objective: objectiveValue, rungObjectives, workerSeconds: 0, retries: 0, jobs: [],
-  };
+  return trialRecord(id, rungObjectives.at(-1) ?? null, { status, rung: rungObjectives.length - 1, rungObjectives });
 }
 
 const halving = plannedWork({ budget: { trials: 9, maxEpochs: 9 }, sampler: { kind: 'successive-halving', seed: 1, eta: 3, minEpochs: 1 } } as never);
