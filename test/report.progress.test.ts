@@ -74,6 +74,8 @@ describe('planned work of each sampler', () => {
     // Source: Jamieson, Talwalkar, AISTATS 2016, as restated in Li et al., JMLR 2018 (keep floor(n / eta) per rung).
     expect(halving).toEqual({ jobs: 13, epochs: 21, rungs: 3, brackets: 1, estimate: false });
     expect(plannedWork({ budget: { trials: 4, maxEpochs: 5 }, sampler: { kind: 'random', seed: 1 } } as never)).toMatchObject({ jobs: 4, epochs: 20 });
+    const tpeHyperband = plannedWork({ budget: { trials: 1, maxEpochs: 81 }, sampler: { kind: 'tpe-hyperband', seed: 1, eta: 3, minEpochs: 1 } } as never);
+    expect(tpeHyperband).toMatchObject({ jobs: 206, rungs: 5, brackets: 5 });
     expect(plannedWork({ budget: { trials: 9, maxEpochs: 9 }, sampler: { kind: 'async-halving', seed: 1, eta: 3, minEpochs: 1 } } as never)).toMatchObject({ jobs: 13, epochs: 21, estimate: true });
   });
 });

@@ -23,7 +23,8 @@ type Halving = { kind: string; eta: number; minEpochs: number };
 /**
  * Epochs come from the sampler's plan (`plannedBudget`); jobs, rungs and brackets from the published
  * schedules of the halving samplers (for asynchronous halving, successive halving's of the same
- * configurations, as an estimate); random search trains each configuration in one job.
+ * configurations, as an estimate; Hyperband's for TPE inside Hyperband); random search and TPE train
+ * each configuration in one job; another kind's jobs are not counted against a plan.
  * @example
  * plannedWork({ budget: { trials: 9, maxEpochs: 9 }, sampler: { kind: 'successive-halving', seed: 1, eta: 3, minEpochs: 1 } });
  * // { jobs: 13, epochs: 21, rungs: 3, brackets: 1, estimate: false }
@@ -32,11 +33,13 @@ export function plannedWork(definition: Pick<StudyDefinition, 'budget' | 'sample
   const { budget } = definition;
   const { epochs, trials } = plannedBudget(definition);
   const sampler = definition.sampler as unknown as Halving;
-  if (sampler.kind === 'random') return { jobs: trials, epochs, rungs: 1, brackets: 1, estimate: false };
-  const known = sampler.kind === 'hyperband' || sampler.kind === 'successive-halving' || sampler.kind === 'async-halving';
+  // One job per configuration, to maxEpochs.
+  if (sampler.kind === 'random' || sampler.kind === 'tpe') return { jobs: trials, epochs, rungs: 1, brackets: 1, estimate: false };
+  const hyperbandLike = sampler.kind === 'hyperband' || sampler.kind === 'tpe-hyperband';
+  const known = hyperbandLike || sampler.kind === 'successive-halving' || sampler.kind === 'async-halving';
   if (!known) return { jobs: undefined, epochs, rungs: 1, brackets: 1, estimate: false };
   if (sampler.minEpochs > budget.maxEpochs) return { jobs: 0, epochs: 0, rungs: 0, brackets: 0, estimate: false };
-  if (sampler.kind === 'hyperband') {
+  if (hyperbandLike) {
     const brackets = hyperbandSchedule(budget.maxEpochs, sampler.eta, sampler.minEpochs);
     return {
       jobs: brackets.reduce((sum, b) => sum + b.rounds.reduce((n, round) => n + round.configurations, 0), 0),
