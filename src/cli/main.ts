@@ -7,6 +7,23 @@ import { plot } from '../commands/plot.js';
 import { exportModel, exportReport } from '../commands/export.js';
 import { predict, predictReport } from '../commands/predict.js';
 import { interruptSignal } from './interrupt.js';
+import { worker } from '../commands/worker.js';
+import { QueueUnavailableError } from '../transport/redis-study.js';
+import { workerStopSignal } from './worker-signal.js';
+
+function wholeNumber(value: string, name: string): number {
+  const parsed = Number(value);
+  if (!Number.isInteger(parsed) || parsed < 0) throw new InvalidArgumentError(`${name} must be a whole number from 0 up, got '${value}'`);
+  return parsed;
+}
+
+/** `--queue` and its companions, the same on `run` and `resume`. */
+function queueOptions(command: Command): Command {
+  return command
+    .option('--queue <url>', 'serve the study over Redis to `rungwise worker` processes (redis://HOST:PORT/DB or rediss://)')
+    .option('--threads <n>', 'with --queue: local threads training beside the workers (default 0)', (v) => wholeNumber(v, '--threads'))
+    .option('--queue-wait-seconds <s>', 'with --queue: how long to wait for an unreachable Redis before saving and stopping (default 120)', (v) => positiveInteger(v, '--queue-wait-seconds'));
+}
 
 function positiveInteger(value: string, name: string): number {
   const parsed = Number(value);
@@ -63,6 +80,21 @@ export function buildProgram(write: (text: string) => void): Command {
     });
 
   program
+    .command('worker')
+    .description('train jobs of every study served on a Redis, until SIGINT or SIGTERM')
+    .argument('<url>', 'redis://HOST:PORT/DB or rediss://HOST:PORT/DB (a password as redis://:PASSWORD@HOST...)')
+    .option('--threads <n>', 'jobs trained at once (default: available cores)', (v) => positiveInteger(v, '--threads'))
+    .option('--stall-seconds <s>', 'a job whose worker stops renewing its lock is taken back after this long (default 30)', (v) => positiveInteger(v, '--stall-seconds'))
+    .action(async (url: string, flags: { threads?: number; stallSeconds?: number }) => {
+      const stop = workerStopSignal();
+      try {
+        await worker({ url, ...flags, signal: stop.signal });
+      } finally {
+        stop.dispose();
+      }
+    });
+
+  program
     .command('ranking')
     .description('print the ranking from a saved study file')
     .argument('<dir>', 'run directory')
@@ -104,6 +136,9 @@ export function buildProgram(write: (text: string) => void): Command {
       write(`${predictReport(await predict({ model, data, ...flags }))}\n`);
     });
 
+  // The many-machines flags, on both study commands (their actions pass every flag on).
+  for (const name of ['run', 'resume']) queueOptions(program.commands.find((command) => command.name() === name)!);
+
   return program;
 }
 
@@ -128,6 +163,10 @@ export async function main(argv: readonly string[]): Promise<number> {
       // One line per problem, each marked, so every line can be read (and grepped) alone.
       process.stderr.write(error.message.split('\n').map((line) => `error: ${line}\n`).join(''));
       return error.exitCode;
+    }
+    if (error instanceof QueueUnavailableError) {
+      process.stderr.write(`error: ${error.message}\n`);
+      return 1;
     }
     const message = error instanceof Error ? error.message : String(error);
     process.stderr.write(`internal error: ${message}\n`);

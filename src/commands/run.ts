@@ -5,8 +5,10 @@ import { loadStudy } from '../study/load.js';
 import { resolveObjective } from '../study/definition.js';
 import { studySummary } from '../report/summary.js';
 import { noResultError } from '../study/trial-status.js';
+import path from 'node:path';
+import { queueRun, type QueueFlags } from './queue.js';
 
-export interface RunCommandOptions {
+export interface RunCommandOptions extends QueueFlags {
   definition: string;
   out?: string;
   workers?: number;
@@ -15,6 +17,8 @@ export interface RunCommandOptions {
   /** Where progress and the final table go. @default process.stdout */
   stdout?: NodeJS.WritableStream;
   signal?: AbortSignal;
+  /** Where notes of the queue go. @default process.stderr */
+  stderr?: NodeJS.WritableStream;
 }
 
 /** `rungwise run`: launch a study, show progress, print the top configurations and the study file's path. */
@@ -23,13 +27,20 @@ export async function run(options: RunCommandOptions): Promise<StudyOutcome> {
   // Validate before anything is drawn, so bad input gives only its one-line error.
   const study = await loadStudy(options.definition);
   const objective = resolveObjective(study.definition);
+  const dir = path.resolve(options.out ?? path.join('runs', study.definition.name));
+  const queue = queueRun(options, { name: study.definition.name, dir, fresh: true }, options.stderr ?? process.stderr, options.signal);
   const outcome = await runStudy(study, {
     ...(options.out !== undefined ? { out: options.out } : {}),
     ...(options.workers !== undefined ? { workers: options.workers } : {}),
     ...(options.force !== undefined ? { force: options.force } : {}),
-    ...(options.signal ? { signal: options.signal } : {}),
+    ...(queue.signal ? { signal: queue.signal } : {}),
+    ...(queue.transport ? { transport: queue.transport } : {}),
     onEvent: progressObserver({ objective, stream: stdout }),
+  }).catch((error: unknown) => {
+    queue.check(dir);
+    throw error;
   });
+  queue.check(outcome.dir);
   stdout.write(`\n${rankingTable(outcome.ranking.slice(0, options.top ?? 10), objective)}\n\n`);
   stdout.write(`${studySummary(outcome.doc, outcome.file)}\n`);
   const noResult = outcome.doc.state === 'finished' ? noResultError(outcome.doc.trials, outcome.file) : undefined;

@@ -15,7 +15,8 @@ function describeTrial(event: Extract<StudyEvent, { type: 'trial-finished' }>, m
   const what = trial.status === 'paused' ? `rung ${job.rung} done` : trial.status;
   const why = trial.divergence ? ` (${trial.divergence.reason})` : trial.error ? ` (${trial.error})` : '';
   const epoch = trial.divergence ? trial.divergence.epoch : trial.epochsTrained;
-  return `trial ${trial.id} ${what} at epoch ${epoch}${score}${why}`;
+  const where = trial.jobs.at(-1)?.ranOn;
+  return `trial ${trial.id} ${what} at epoch ${epoch}${score}${why}${where ? ` on ${where}` : ''}`;
 }
 
 /** A study observer that shows progress: trials done of planned, best objective so far, elapsed and remaining time. */
