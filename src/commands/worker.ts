@@ -1,5 +1,7 @@
 import { availableParallelism } from 'node:os';
+import { faultPlan } from '../runner/faults.js';
 import { QueueWorker } from '../transport/redis-worker.js';
+import { ThreadTransport } from '../transport/threads.js';
 
 export interface WorkerCommandOptions {
   /** `redis://[:password@]HOST:PORT/DB` or `rediss://...`. */
@@ -21,6 +23,7 @@ export async function worker(options: WorkerCommandOptions): Promise<{ jobsDone:
   const queueWorker = new QueueWorker({
     url: options.url,
     threads,
+    transport: new ThreadTransport({ threads, faults: faultPlan().faultFor }),
     ...(options.stallSeconds !== undefined ? { stallSeconds: options.stallSeconds } : {}),
     onNote: (message) => stderr.write(`${message}\n`),
   });

@@ -43,6 +43,8 @@ export class QueueWorker {
   private stopping = false;
   /** Jobs trained to the end by this worker. */
   jobsDone = 0;
+  /** Data sets fetched from Redis (each once, then kept). */
+  datasetsFetched = 0;
 
   constructor(private readonly options: QueueWorkerOptions) {
     this.address = typeof options.url === 'string' ? parseRedisUrl(options.url, 'worker address') : options.url;
@@ -140,6 +142,7 @@ export class QueueWorker {
       const cancelKey = keys.cancel(queue, String(job.id));
       if ((await this.redis.exists(cancelKey)) === 1) throw new UnrecoverableError('stopped by the coordinator');
       await this.dataset(trainJob.datasetId);
+      this.options.onNote?.(`job ${job.id} of ${queue}: trial ${trainJob.trialId}, epochs ${trainJob.fromEpoch + 1}..${trainJob.toEpoch}`);
       const result = await this.local.run(
         trainJob,
         (report) => {
@@ -170,6 +173,7 @@ export class QueueWorker {
     if (!entry) {
       entry = (async () => {
         const bytes = await this.redis.getBuffer(keys.dataset(id));
+        this.datasetsFetched++;
         if (!bytes) throw new Error(`data set ${id} is not on Redis (its coordinator publishes it when the study starts)`);
         const dataset = decodeDataset(bytes, id);
         await this.local.addDataset(dataset);

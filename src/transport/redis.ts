@@ -107,8 +107,13 @@ export class RedisTransport implements TrialTransport {
       const onAbort = (): void => {
         if (this.pending.get(id) !== entry) return;
         this.pending.delete(id);
-        void this.cancel(id);
-        reject(new Error(`trial ${job.trialId}: stopped`));
+        // Reject once the job is off the queue (or flagged), or after a second when Redis does not answer.
+        let timer: NodeJS.Timeout | undefined;
+        const late = new Promise<void>((resolve) => (timer = setTimeout(resolve, 1000)));
+        void Promise.race([this.cancel(id), late]).then(() => {
+          clearTimeout(timer);
+          reject(new Error(`trial ${job.trialId}: stopped`));
+        });
       };
       const entry: PendingJob = {
         id,
@@ -208,6 +213,7 @@ export class RedisTransport implements TrialTransport {
         if (state !== 'failed') return; // waiting or being trained: its result will come
         await existing.remove(); // a failure from before: this is a new attempt
       }
+      if (this.pending.get(entry.id) !== entry) return; // stopped meanwhile
       await this.queue.add('train', encodeJob(entry.job), { jobId: entry.id, attempts: 1, removeOnComplete: false, removeOnFail: false });
     } catch (error) {
       if (!this.closed) this.note(`job ${entry.id}: could not be queued yet (${error instanceof Error ? error.message : String(error)}); trying again`);
@@ -262,6 +268,7 @@ export class RedisTransport implements TrialTransport {
       for (const entry of [...this.pending.values()]) {
         if (entry.submitting || this.pending.get(entry.id) !== entry) continue;
         const state = await this.queue.getJobState(entry.id);
+        if (this.pending.get(entry.id) !== entry) continue; // settled or stopped meanwhile
         if (state === 'completed' || state === 'failed') {
           const job = await this.queue.getJob(entry.id);
           if (state === 'completed') this.collect(entry.id, job?.returnvalue as unknown);
