@@ -10,6 +10,9 @@ import { ThreadTransport } from './threads.js';
 import type { TrialTransport } from './transport.js';
 import type { SharedDataset } from './types.js';
 
+/** Heartbeats a study may be missing from the registry before a worker leaves its queue. */
+const DETACH_AFTER_TICKS = 30;
+
 export interface QueueWorkerOptions {
   url: string | RedisAddress;
   /** Jobs trained at once, one per thread. */
@@ -37,6 +40,7 @@ export class QueueWorker {
   private readonly queues = new Map<string, Worker>();
   private readonly datasets = new Map<string, Promise<SharedDataset>>();
   private readonly running = new Set<AbortController>();
+  private readonly missingTicks = new Map<string, number>();
   private readonly noted = new Set<string>();
   private readonly id: string;
   private timer: NodeJS.Timeout | undefined;
@@ -102,8 +106,12 @@ export class QueueWorker {
         this.attach(queue);
       }
       for (const [queue, worker] of this.queues) {
-        if (protocols[queue] === undefined) {
+        // A study gone from the registry for a while has ended (a restarted Redis is re-filled within a heartbeat).
+        const missing = protocols[queue] === undefined ? (this.missingTicks.get(queue) ?? 0) + 1 : 0;
+        this.missingTicks.set(queue, missing);
+        if (missing >= DETACH_AFTER_TICKS) {
           this.queues.delete(queue);
+          this.missingTicks.delete(queue);
           void worker.close();
         }
       }
