@@ -54,6 +54,22 @@ describe('a study over Redis survives the faults of many machines', () => {
     expect(outcome.doc.trials.some((t) => t.jobs.some((j) => j.fromCheckpoint && j.fromEpoch > 0))).toBe(true);
   });
 
+  it('a worker stopped with SIGTERM hands its running job back, and another worker takes it without waiting for a stall', async () => {
+    redis = await startRedis();
+    const dir = path.join(base, 'worker-stopped');
+    // A stall time far beyond the test's timeout: only a handed-back job can be taken up in time.
+    const first = spawnWorker(redis.url, ['--threads', '1', '--stall-seconds', '3600'], { RUNGWISE_FAULT: '3:hang:1' });
+    const served = queuedStudy({ url: redis.url, studyName: definition.name, runDir: dir, fresh: true });
+    const study = runStudy(studyFile, { out: dir, transport: served.transport });
+    await first.printed(/trial 3, epochs 1\.\.1/);
+    first.child.kill('SIGTERM');
+    expect(await first.exited).toEqual({ code: 0, signal: null });
+    expect(first.output()).toMatch(/stopping; running jobs go back to the queue/);
+    spawnWorker(redis.url, ['--threads', '1', '--stall-seconds', '3600']);
+    expect((await study).doc.state).toBe('finished');
+    expect(await studyOutcome(dir)).toEqual(reference);
+  });
+
   it('the coordinator killed: resume --queue continues with the worker still attached, losing no finished trial and counting none twice', async () => {
     redis = await startRedis();
     const dir = path.join(base, 'coordinator-killed');
