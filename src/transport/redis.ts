@@ -22,6 +22,9 @@ export interface RedisTransportOptions {
   onUnavailable?: () => void;
 }
 
+/** One attempt per job (the run loop decides on retries); kept after it ends until the coordinator has collected it. */
+const JOB_OPTIONS = (jobId: string) => ({ jobId, attempts: 1, removeOnComplete: false, removeOnFail: false });
+
 interface PendingJob {
   id: string;
   job: TrainJob;
@@ -49,6 +52,8 @@ export class RedisTransport implements TrialTransport {
   private readonly pending = new Map<string, PendingJob>();
   private readonly datasets = new Map<string, Buffer>();
   private readonly noted = new Set<string>();
+  /** Job ids put on the queue in this session. */
+  private readonly submitted = new Set<string>();
   private readonly started: Promise<void>;
   private rejectStart: (error: Error) => void = () => undefined;
   private workerThreads = 0;
@@ -205,6 +210,14 @@ export class RedisTransport implements TrialTransport {
   private async submit(entry: PendingJob): Promise<void> {
     entry.submitting = true;
     try {
+      // A new study's queue was emptied: a job seen for the first time needs no look for an earlier one.
+      const seenBefore = !this.options.fresh || this.submitted.has(entry.id);
+      this.submitted.add(entry.id);
+      if (!seenBefore) {
+        await this.queue.add('train', encodeJob(entry.job), JOB_OPTIONS(entry.id));
+        if (this.pending.get(entry.id) !== entry) await this.cancel(entry.id); // stopped while it was being added
+        return;
+      }
       await this.redis.del(keys.cancel(this.options.queue, entry.id));
       const existing = await this.queue.getJob(entry.id);
       if (existing) {
@@ -214,7 +227,7 @@ export class RedisTransport implements TrialTransport {
         await existing.remove(); // a failure from before: this is a new attempt
       }
       if (this.pending.get(entry.id) !== entry) return; // stopped meanwhile
-      await this.queue.add('train', encodeJob(entry.job), { jobId: entry.id, attempts: 1, removeOnComplete: false, removeOnFail: false });
+      await this.queue.add('train', encodeJob(entry.job), JOB_OPTIONS(entry.id));
     } catch (error) {
       if (!this.closed) this.note(`job ${entry.id}: could not be queued yet (${error instanceof Error ? error.message : String(error)}); trying again`);
     } finally {

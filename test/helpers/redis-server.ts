@@ -4,79 +4,20 @@
  * recorded and stopped by {@link stopStarted}, which the test files call in afterEach/afterAll, so
  * nothing outlives a failed test. No test uses a server the machine already runs.
  */
-import { spawn, spawnSync, type ChildProcess } from 'node:child_process';
-import { mkdtemp, rm } from 'node:fs/promises';
-import { createServer } from 'node:net';
-import { tmpdir } from 'node:os';
-import path from 'node:path';
+import { spawn, type ChildProcess } from 'node:child_process';
+import { startPrivateRedis, type PrivateRedis } from '../../scripts/redis-server.js';
 import { BIN } from './cli.js';
 
 const started = new Set<ChildProcess>();
-const folders = new Set<string>();
+const servers = new Set<PrivateRedis>();
 
-/** Fails with one clear line when Debian's redis-server is not installed (CI installs it in `.ci/run`). */
-export function requireRedisServer(): void {
-  const probe = spawnSync('redis-server', ['--version'], { encoding: 'utf8' });
-  if (probe.error || probe.status !== 0) {
-    throw new Error('redis-server is not installed; these tests need it (apt-get install redis-server, as .ci/run does)');
-  }
-}
+export type TestRedis = PrivateRedis;
 
-async function freePort(): Promise<number> {
-  return new Promise((resolve, reject) => {
-    const server = createServer();
-    server.once('error', reject);
-    server.listen(0, '127.0.0.1', () => {
-      const address = server.address();
-      const port = typeof address === 'object' && address ? address.port : 0;
-      server.close(() => resolve(port));
-    });
-  });
-}
-
-export interface TestRedis {
-  port: number;
-  /** `redis://127.0.0.1:PORT/0` (with the password when one was asked for). */
-  url: string;
-  /** Stop the server (SIGTERM, nothing saved) and wait until it has ended. */
-  stop(): Promise<void>;
-  /** Start it again on the same port, empty. */
-  start(): Promise<void>;
-}
-
-/** Start a private redis-server; `password` sets `requirepass`. */
+/** Start a private redis-server, stopped by {@link stopStarted}; `password` sets `requirepass`. */
 export async function startRedis(options: { password?: string } = {}): Promise<TestRedis> {
-  requireRedisServer();
-  const dir = await mkdtemp(path.join(tmpdir(), 'rungwise-redis-'));
-  folders.add(dir);
-  const port = await freePort();
-  let child: ChildProcess | undefined;
-  const start = async (): Promise<void> => {
-    const args = ['--port', String(port), '--bind', '127.0.0.1', '--dir', dir, '--save', '', '--appendonly', 'no', '--daemonize', 'no'];
-    if (options.password) args.push('--requirepass', options.password);
-    const server = spawn('redis-server', args, { stdio: ['ignore', 'pipe', 'pipe'] });
-    child = server;
-    started.add(server);
-    await new Promise<void>((resolve, reject) => {
-      let output = '';
-      server.stdout!.on('data', (chunk: Buffer) => {
-        output += chunk.toString();
-        if (output.includes('Ready to accept connections')) resolve();
-      });
-      server.once('error', reject);
-      server.once('exit', (code) => reject(new Error(`redis-server on port ${port} ended (code ${code}) before it was ready:\n${output}`)));
-    });
-  };
-  await start();
-  const secret = options.password ? `:${encodeURIComponent(options.password)}@` : '';
-  return {
-    port,
-    url: `redis://${secret}127.0.0.1:${port}/0`,
-    start,
-    stop: async () => {
-      if (child) await stopProcess(child, 'SIGTERM');
-    },
-  };
+  const redis = await startPrivateRedis({ ...options, onSpawn: (child) => started.add(child) });
+  servers.add(redis);
+  return redis;
 }
 
 /** A `rungwise worker` process with its output collected; `exited` settles when it ends. */
@@ -140,9 +81,9 @@ async function stopProcess(child: ChildProcess, signal: NodeJS.Signals): Promise
   started.delete(child);
 }
 
-/** Stop (SIGKILL) every process these helpers started and remove their folders. */
+/** Stop (SIGKILL) every process these helpers started and remove the servers' folders. */
 export async function stopStarted(): Promise<void> {
   await Promise.all([...started].map((child) => stopProcess(child, 'SIGKILL')));
-  await Promise.all([...folders].map((dir) => rm(dir, { recursive: true, force: true })));
-  folders.clear();
+  await Promise.all([...servers].map((server) => server.dispose()));
+  servers.clear();
 }
