@@ -75,7 +75,7 @@ async function roundTrips(url: string, jobs: number, children: ChildProcess[]): 
 }
 
 /** A random-search study of `trials` one-epoch trials, served to `workers` simulated workers in two processes. */
-async function capacity(url: string, trials: number, workers: number, children: ChildProcess[]): Promise<{ perSecond: number; saved: number; seconds: number }> {
+async function capacity(url: string, trials: number, workers: number, children: ChildProcess[]): Promise<{ perSecond: number; saved: number; seconds: number; cpuMsPerJob: number }> {
   await Promise.all([startProcess([SIMULATED, url, String(workers / 2)], /ready/, children), startProcess([SIMULATED, url, String(workers / 2)], /ready/, children)]);
   const dir = await tempDir('queue-capacity');
   try {
@@ -89,6 +89,7 @@ async function capacity(url: string, trials: number, workers: number, children: 
     });
     const out = path.join(dir, 'run');
     let first: number | undefined;
+    const cpu = process.cpuUsage(); // this process holds the coordinator only (workers and Redis run apart)
     const outcome = await runStudy(file, {
       out,
       transport: queuedStudy({ url, studyName: 'bench-capacity', runDir: out, fresh: true }).transport,
@@ -97,9 +98,10 @@ async function capacity(url: string, trials: number, workers: number, children: 
       },
     });
     const seconds = (performance.now() - first!) / 1000;
+    const used = process.cpuUsage(cpu);
     const saved = (await StudyStore.open(out)).doc.trials.filter((t) => t.status === 'completed').length;
     if (outcome.doc.state !== 'finished') throw new Error('capacity study did not finish');
-    return { perSecond: (saved - 1) / seconds, saved, seconds };
+    return { perSecond: (saved - 1) / seconds, saved, seconds, cpuMsPerJob: (used.user + used.system) / 1000 / saved };
   } finally {
     await stopProcesses(children);
   }
@@ -160,7 +162,7 @@ export async function queueGroup(options: BenchOptions): Promise<GroupResult> {
       title: 'Many machines: a study served over Redis (loopback)',
       tables: [
         { title: 'Job round trip through Redis (worker process that trains nothing)', columns: ['jobs', 'median ms', 'p95 ms', 'max ms'], rows: [[trips.length, tripMedian, tripP95, Math.max(...trips)]] },
-        { title: 'Coordinator capacity, 64 simulated workers that train nothing', columns: ['trials saved', 'seconds', 'completions/s'], rows: [[cap.saved, cap.seconds, cap.perSecond]] },
+        { title: 'Coordinator capacity, 64 simulated workers that train nothing', columns: ['trials saved', 'seconds', 'completions/s', 'coordinator CPU ms/job', 'jobs/s per coordinator core'], rows: [[cap.saved, cap.seconds, cap.perSecond, cap.cpuMsPerJob, 1000 / cap.cpuMsPerJob]] },
         {
           title: 'Real training (demo data): 2 local threads vs coordinator + 2 worker processes',
           columns: ['span', '2 local threads s', 'queue + 2 workers s', 'ratio'],

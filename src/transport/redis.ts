@@ -22,6 +22,12 @@ export interface RedisTransportOptions {
   onUnavailable?: () => void;
 }
 
+/**
+ * Queue events kept in Redis. A completion event carries the result (checkpoint included), so this
+ * bounds their memory; an event trimmed before the coordinator read it is found by the next sweep.
+ */
+const EVENTS_KEPT = 200;
+
 /** One attempt per job (the run loop decides on retries); kept after it ends until the coordinator has collected it. */
 const JOB_OPTIONS = (jobId: string) => ({ jobId, attempts: 1, removeOnComplete: false, removeOnFail: false });
 
@@ -69,7 +75,7 @@ export class RedisTransport implements TrialTransport {
     this.address = typeof options.url === 'string' ? parseRedisUrl(options.url) : options.url;
     const connection = { ...this.address.options, maxRetriesPerRequest: null };
     this.redis = new Redis(connection);
-    this.queue = new Queue(options.queue, { connection: this.redis, prefix: KEY_PREFIX, streams: { events: { maxLen: 1000 } } });
+    this.queue = new Queue(options.queue, { connection: this.redis, prefix: KEY_PREFIX, streams: { events: { maxLen: EVENTS_KEPT } } });
     this.events = new QueueEvents(options.queue, { connection, prefix: KEY_PREFIX });
     // Connection errors are reported by the watch on `this.redis`; an unheard 'error' would end the process.
     this.queue.on('error', () => undefined);
