@@ -125,7 +125,8 @@ describe('the Redis transport', () => {
     const transport = coordinator(queue);
     await transport.addDataset(irisDataset());
     const inspector = new Queue(queue, { connection: parseRedisUrl(redis.url).options, prefix: KEY_PREFIX });
-    const events = new QueueEvents(queue, { connection: parseRedisUrl(redis.url).options, prefix: KEY_PREFIX });
+    // From the start of the queue's event stream, so the job's 'waiting' event cannot pass unseen.
+    const events = new QueueEvents(queue, { connection: parseRedisUrl(redis.url).options, prefix: KEY_PREFIX, lastEventId: '0-0' });
     closers.push(() => inspector.close(), () => events.close());
     await events.waitUntilReady();
     const queued = new Promise((resolve) => events.once('waiting', resolve));
