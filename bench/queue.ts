@@ -175,7 +175,8 @@ export async function queueGroup(options: BenchOptions): Promise<GroupResult> {
       targets: [
         { target: 'round trip median < 5 ms', measured: `${fmt(tripMedian)} ms (p95 ${fmt(tripP95)} ms)`, holds: tripMedian < 5 },
         { target: '>= 1,000 completions/s handled and saved with 64 workers', measured: `${fmt(cap.perSecond)}/s`, holds: cap.perSecond >= 1000 },
-        { target: 'queue overhead < 10% (whole-run ratio < 1.1)', measured: `${fmt(ratio)}x (steady state ${fmt(steadyRatio)}x)`, holds: ratio < 1.1 },
+        { target: 'queue overhead < 10%, steady state (first trial saved to last, ratio < 1.1)', measured: `${fmt(steadyRatio)}x`, holds: steadyRatio < 1.1 },
+        { target: 'queue overhead < 10%, whole run with worker processes starting (ratio < 1.1)', measured: `${fmt(ratio)}x`, holds: ratio < 1.1 },
       ],
       notes: [
         'Everything on one machine: Redis, the coordinator and every worker share its cores, so the figures are an upper bound on the coordinator\'s own cost.',

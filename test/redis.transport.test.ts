@@ -135,7 +135,7 @@ describe('the Redis transport', () => {
     await queued;
     abort.abort();
     await expect(running).rejects.toThrow(/trial 1: stopped/);
-    expect(await inspector.getJobState('t1-e3')).toBe('unknown');
+    expect(await inspector.getJobState('t1-f0-e3')).toBe('unknown');
     expect(await inspector.count()).toBe(0);
   });
 

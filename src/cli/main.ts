@@ -8,7 +8,6 @@ import { exportModel, exportReport } from '../commands/export.js';
 import { predict, predictReport } from '../commands/predict.js';
 import { interruptSignal } from './interrupt.js';
 import { worker } from '../commands/worker.js';
-import { QueueUnavailableError } from '../transport/redis-study.js';
 import { workerStopSignal } from './worker-signal.js';
 
 function wholeNumber(value: string, name: string): number {
@@ -163,10 +162,6 @@ export async function main(argv: readonly string[]): Promise<number> {
       // One line per problem, each marked, so every line can be read (and grepped) alone.
       process.stderr.write(error.message.split('\n').map((line) => `error: ${line}\n`).join(''));
       return error.exitCode;
-    }
-    if (error instanceof QueueUnavailableError) {
-      process.stderr.write(`error: ${error.message}\n`);
-      return 1;
     }
     const message = error instanceof Error ? error.message : String(error);
     process.stderr.write(`internal error: ${message}\n`);

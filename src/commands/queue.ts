@@ -1,4 +1,5 @@
-import { QueueUnavailableError, queuedStudy } from '../transport/redis-study.js';
+import { UserError } from '../errors.js';
+import { queuedStudy } from '../transport/redis-study.js';
 import type { TrialTransport } from '../transport/transport.js';
 
 /** The flags `run` and `resume` share for a study served over Redis. */
@@ -15,7 +16,7 @@ export interface QueueFlags {
 export interface QueueRun {
   transport?: () => TrialTransport;
   signal?: AbortSignal;
-  /** Throws a {@link QueueUnavailableError} naming the resume command when Redis was lost for good. */
+  /** Throws a one-line error (exit code 1) naming the resume command when Redis was lost for good. */
   check(dir: string): void;
 }
 
@@ -36,8 +37,10 @@ export function queueRun(flags: QueueFlags, study: { name: string; dir: string; 
     signal: signal ? AbortSignal.any([signal, served.unavailable]) : served.unavailable,
     check: (dir) => {
       if (!served.unavailable.aborted) return;
-      throw new QueueUnavailableError(
+      throw new UserError(
+        'E_QUEUE_UNAVAILABLE',
         `Redis at ${served.address.display} stayed unreachable; the study is saved; continue it with: rungwise resume ${dir} --queue ${served.address.display}`,
+        { exitCode: 1 },
       );
     },
   };

@@ -55,9 +55,12 @@ export function studyQueueName(studyName: string, runDir: string): string {
   return `${studyName.replace(/[^A-Za-z0-9._-]/g, '_')}-${hash}`;
 }
 
-/** A job's id on the queue: one per trial and end epoch, so a job added again is the same job. */
-export function queueJobId(job: Pick<TrainJob, 'trialId' | 'toEpoch'>): string {
-  return `t${job.trialId}-e${job.toEpoch}`;
+/**
+ * A job's id on the queue: one per trial and epoch range, so a job added again (a resume, a retry)
+ * is the same job, and one that starts elsewhere (its checkpoint was lost) is another.
+ */
+export function queueJobId(job: Pick<TrainJob, 'trialId' | 'fromEpoch' | 'toEpoch'>): string {
+  return `t${job.trialId}-f${job.fromEpoch}-e${job.toEpoch}`;
 }
 
 export function encodeJob(job: TrainJob): QueuedJob {

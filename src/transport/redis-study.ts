@@ -44,11 +44,3 @@ export function queuedStudy(options: QueuedStudyOptions): QueuedStudy {
   };
   return { address, transport, unavailable: unavailable.signal };
 }
-
-/** Redis stayed unreachable: the study was saved as interrupted. Exit code 1. */
-export class QueueUnavailableError extends Error {
-  constructor(message: string) {
-    super(message);
-    this.name = 'QueueUnavailableError';
-  }
-}
