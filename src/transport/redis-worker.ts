@@ -151,14 +151,17 @@ export class QueueWorker {
       if ((await this.redis.exists(cancelKey)) === 1) throw new UnrecoverableError('stopped by the coordinator');
       await this.dataset(trainJob.datasetId);
       this.options.onNote?.(`job ${job.id} of ${queue}: trial ${trainJob.trialId}, epochs ${trainJob.fromEpoch + 1}..${trainJob.toEpoch}`);
+      // Progress goes out in epoch order and before the result.
+      let progress = Promise.resolve();
       const result = await this.local.run(
         trainJob,
         (report) => {
-          job.updateProgress(report as unknown as Record<string, unknown>).catch(() => undefined);
+          progress = progress.then(() => job.updateProgress(report as unknown as Record<string, unknown>)).catch(() => undefined);
           this.redis.exists(cancelKey).then((n) => n === 1 && abort.abort(), () => undefined);
         },
         abort.signal,
       );
+      await progress;
       this.jobsDone++;
       return encodeResult({ ...result, ranOn: this.name });
     } catch (error) {

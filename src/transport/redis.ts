@@ -34,7 +34,8 @@ const JOB_OPTIONS = (jobId: string) => ({ jobId, attempts: 1, removeOnComplete: 
 interface PendingJob {
   id: string;
   job: TrainJob;
-  onEpoch: (report: EpochReport) => void;
+  /** Pass an epoch report on once (progress events may repeat after a rerun, or be missed). */
+  report: (report: EpochReport) => void;
   resolve: (result: TrainResult) => void;
   reject: (error: Error) => void;
   /** A submission is under way: the sweep leaves the job alone. */
@@ -85,7 +86,7 @@ export class RedisTransport implements TrialTransport {
     this.events.on('failed', ({ jobId, failedReason }) => this.fail(jobId, failedReason));
     this.events.on('progress', ({ jobId, data }) => {
       const report = data as unknown as EpochReport;
-      if (typeof report === 'object' && report !== null && typeof report.epoch === 'number') this.pending.get(jobId)?.onEpoch(report);
+      if (typeof report === 'object' && report !== null && typeof report.epoch === 'number') this.pending.get(jobId)?.report(report);
     });
     this.started = new Promise<void>((resolve, reject) => {
       this.rejectStart = reject;
@@ -126,10 +127,15 @@ export class RedisTransport implements TrialTransport {
           reject(new Error(`trial ${job.trialId}: stopped`));
         });
       };
+      const reported = new Set<number>();
       const entry: PendingJob = {
         id,
         job,
-        onEpoch,
+        report: (report) => {
+          if (reported.has(report.epoch)) return;
+          reported.add(report.epoch);
+          onEpoch(report);
+        },
         submitting: false,
         resolve: (result) => {
           signal.removeEventListener('abort', onAbort);
@@ -247,7 +253,9 @@ export class RedisTransport implements TrialTransport {
     this.pending.delete(jobId);
     try {
       const value = (typeof returnvalue === 'string' ? JSON.parse(returnvalue) : returnvalue) as QueuedResult;
-      entry.resolve(decodeResult(value));
+      const result = decodeResult(value);
+      for (const report of result.epochs) entry.report(report); // any whose progress event was missed
+      entry.resolve(result);
     } catch (error) {
       entry.reject(error instanceof Error ? error : new Error(String(error)));
     }
