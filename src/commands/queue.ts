@@ -22,7 +22,11 @@ export interface QueueRun {
 
 /** Wire `--queue` into a study command; without it, nothing changes. */
 export function queueRun(flags: QueueFlags, study: { name: string; dir: string; fresh: boolean }, stderr: NodeJS.WritableStream, signal?: AbortSignal): QueueRun {
-  if (flags.queue === undefined) return { ...(signal ? { signal } : {}), check: () => undefined };
+  if (flags.queue === undefined) {
+    const stray = flags.threads !== undefined ? '--threads' : flags.queueWaitSeconds !== undefined ? '--queue-wait-seconds' : undefined;
+    if (stray) throw new UserError('E_QUEUE_FLAGS', `${stray} goes with --queue; without a queue, --workers sets the local threads`);
+    return { ...(signal ? { signal } : {}), check: () => undefined };
+  }
   const served = queuedStudy({
     url: flags.queue,
     studyName: study.name,

@@ -31,15 +31,16 @@ export function queuedStudy(options: QueuedStudyOptions): QueuedStudy {
   const address = parseRedisUrl(options.url);
   const unavailable = new AbortController();
   const transport = (): TrialTransport => {
+    const threads = options.threads ?? 0;
     const remote = new RedisTransport({
       url: address,
+      minimumCapacity: threads > 0 ? 0 : 1,
       queue: studyQueueName(options.studyName, options.runDir),
       fresh: options.fresh,
       ...(options.queueWaitSeconds !== undefined ? { queueWaitSeconds: options.queueWaitSeconds } : {}),
       ...(options.onNote ? { onNote: options.onNote } : {}),
       onUnavailable: () => unavailable.abort(),
     });
-    const threads = options.threads ?? 0;
     return threads > 0 ? new RoutedTransport(new ThreadTransport({ threads }), remote) : remote;
   };
   return { address, transport, unavailable: unavailable.signal };

@@ -18,6 +18,11 @@ export interface RedisTransportOptions {
   queueWaitSeconds?: number;
   /** Messages for the user (Redis lost and found, workers attached, protocol mismatches). */
   onNote?: (message: string) => void;
+  /**
+   * Capacity while no worker is attached. 1 lets the first job wait on the queue for a worker; 0 suits
+   * a queue beside local threads, which then take every job until workers come. @default 1
+   */
+  minimumCapacity?: 0 | 1;
   /** Redis stayed unreachable for `queueWaitSeconds`: the caller should stop the study (running jobs stay pending until aborted). */
   onUnavailable?: () => void;
 }
@@ -47,7 +52,7 @@ interface PendingJob {
  * study, `rungwise worker` processes on any machine train them, epoch reports come back as job
  * progress and results as return values (checkpoints inside, as base64). Data sets are published
  * once per id. Capacity is the number of threads of the live workers of this protocol on the Redis
- * (at least 1, so the first job waits on the queue for a worker). Every {@link HEARTBEAT_SECONDS} a
+ * (at least {@link RedisTransportOptions.minimumCapacity}). Every {@link HEARTBEAT_SECONDS} a
  * sweep also checks each job in flight, so a lost event, a Redis restart that emptied the queue, or
  * a job finished while no coordinator was listening is settled or the job added again.
  */
@@ -101,7 +106,7 @@ export class RedisTransport implements TrialTransport {
   }
 
   get capacity(): number {
-    return Math.max(1, this.workerThreads);
+    return Math.max(this.options.minimumCapacity ?? 1, this.workerThreads);
   }
 
   async addDataset(dataset: SharedDataset): Promise<void> {
