@@ -152,7 +152,7 @@ export async function queueGroup(options: BenchOptions): Promise<GroupResult> {
   try {
     const trips = await roundTrips(redis.url, options.quick ? 100 : 500, children);
     const cap = await capacity(redis.url, options.quick ? 1000 : 5000, 64, children);
-    const training = await realTraining(redis.url, options.quick ? 4 : 10, options.quick ? 2 : 6, children);
+    const training = await realTraining(redis.url, options.quick ? 4 : 16, options.quick ? 2 : 12, children);
     const tripMedian = median(trips);
     const tripP95 = quantile(trips, 0.95);
     const ratio = training.queue.wholeSeconds / training.local.wholeSeconds;
