@@ -10,6 +10,7 @@ import { memoryGroup } from './memory.js';
 import { modelGroup } from './model.js';
 import { overheadGroup } from './overhead.js';
 import { poolGroup } from './pool.js';
+import { queueGroup } from './queue.js';
 import { groupMarkdown, machineInfo, writeResults, type GroupResult } from './report.js';
 import { schedulingGroup } from './scheduling.js';
 import { startupGroup } from './startup.js';
@@ -31,6 +32,7 @@ const GROUPS: Record<string, (options: BenchOptions) => Promise<GroupResult>> = 
   budget: budgetGroup,
   model: modelGroup,
   startup: startupGroup,
+  queue: queueGroup,
 };
 
 function parseArgs(argv: string[]): { quick: boolean; only: string[] } {

@@ -8,6 +8,36 @@ import { packageVersion } from '../files/package-files.js';
 import { painterFor } from '../report/style.js';
 import { COMMAND_EXAMPLES, PROGRAM_EXAMPLES } from './help.js';
 import { interruptSignal } from './interrupt.js';
+import { workerStopSignal } from './worker-signal.js';
+
+function wholeNumber(value: string, name: string): number {
+  const parsed = Number(value);
+  if (!Number.isInteger(parsed) || parsed < 0) throw new InvalidArgumentError(`${name} must be a whole number from 0 up, got '${value}'`);
+  return parsed;
+}
+
+/** `--queue` and its companions, the same on `run` and `resume`. */
+function queueOptions(command: Command): Command {
+  return command
+    .option('--queue <url>', 'serve the study over Redis to `rungwise worker` processes (redis://HOST:PORT/DB or rediss://)')
+    .option('--threads <n>', 'with --queue: local threads training beside the workers (default 0)', (v) => wholeNumber(v, '--threads'))
+    .option('--queue-wait-seconds <s>', 'with --queue: how long to wait for an unreachable Redis before saving and stopping (default 120)', (v) => positiveInteger(v, '--queue-wait-seconds'));
+}
+
+interface QueueFlagValues {
+  queue?: string;
+  threads?: number;
+  queueWaitSeconds?: number;
+}
+
+/** The queue flags that were given, for the study commands. */
+function queueFlags(flags: QueueFlagValues): QueueFlagValues {
+  return {
+    ...(flags.queue !== undefined ? { queue: flags.queue } : {}),
+    ...(flags.threads !== undefined ? { threads: flags.threads } : {}),
+    ...(flags.queueWaitSeconds !== undefined ? { queueWaitSeconds: flags.queueWaitSeconds } : {}),
+  };
+}
 
 function positiveInteger(value: string, name: string): number {
   const parsed = Number(value);
@@ -103,13 +133,15 @@ export function buildProgram(stdout: NodeJS.WritableStream = process.stdout, std
     .option('--top <n>', 'configurations in the result (default: 10 in the table, all in JSON)', top)
     .option('--force', 'replace a run directory that already holds a study')
     .option('--json', 'print the result as JSON: every trial, ranked ones first')
-    .action(async (definition: string, flags: { out?: string; workers?: number; top?: number; force?: boolean; json?: boolean }) => {
+    .action(async (definition: string, flags: { out?: string; workers?: number; top?: number; force?: boolean; json?: boolean } & QueueFlagValues) => {
       const target = io();
       const { run } = await import('../commands/run.js');
       const { json: _json, top: _top, ...options } = flags;
       const outcome = await untilInterrupted(target, (signal) => run({ definition, ...options, progress: target.err, signal }));
       await finishStudy(target, outcome, flags);
     });
+
+  queueOptions(program.commands.at(-1)!);
 
   command('resume')
     .description('continue an interrupted study')
@@ -118,7 +150,7 @@ export function buildProgram(stdout: NodeJS.WritableStream = process.stdout, std
     .option('--top <n>', 'configurations in the result (default: 10 in the table, all in JSON)', top)
     .option('--json', 'print the result as JSON: every trial, ranked ones first')
     .option('--allow-changed-data', 'go on although the CSV changed since the study started (the study file records it)')
-    .action(async (dir: string, flags: { workers?: number; top?: number; json?: boolean; allowChangedData?: boolean }) => {
+    .action(async (dir: string, flags: { workers?: number; top?: number; json?: boolean; allowChangedData?: boolean } & QueueFlagValues) => {
       const target = io();
       const { resume } = await import('../commands/resume.js');
       const outcome = await untilInterrupted(target, (signal) =>
@@ -126,12 +158,30 @@ export function buildProgram(stdout: NodeJS.WritableStream = process.stdout, std
           dir,
           ...(flags.workers !== undefined ? { workers: flags.workers } : {}),
           ...(flags.allowChangedData ? { allowChangedData: true } : {}),
+          ...queueFlags(flags),
           progress: target.err,
           signal,
         }),
       );
       if (outcome.alreadyFinished) target.note(`study ${outcome.doc.name} is already finished; nothing to resume`);
       await finishStudy(target, outcome, flags);
+    });
+
+  queueOptions(program.commands.at(-1)!);
+
+  command('worker')
+    .description('train jobs of every study served on a Redis, until SIGINT or SIGTERM')
+    .argument('<url>', 'redis://HOST:PORT/DB or rediss://HOST:PORT/DB (a password as redis://:PASSWORD@HOST...)')
+    .option('--threads <n>', 'jobs trained at once (default: available cores)', (v) => positiveInteger(v, '--threads'))
+    .option('--stall-seconds <s>', 'a job whose worker stops renewing its lock is taken back after this long (default 30)', (v) => positiveInteger(v, '--stall-seconds'))
+    .action(async (url: string, flags: { threads?: number; stallSeconds?: number }) => {
+      const { worker } = await import('../commands/worker.js');
+      const stop = workerStopSignal();
+      try {
+        await worker({ url, ...flags, signal: stop.signal });
+      } finally {
+        stop.dispose();
+      }
     });
 
   command('ranking')

@@ -1,8 +1,10 @@
+import path from 'node:path';
 import { resumeStudy, type ResumeOutcome } from '../runner/resume-study.js';
 import { StudyStore } from '../store/study-store.js';
 import { studyObserver, type ProgressTarget } from './observe.js';
+import { queueRun, type QueueFlags } from './queue.js';
 
-export interface ResumeCommandOptions extends ProgressTarget {
+export interface ResumeCommandOptions extends ProgressTarget, QueueFlags {
   /** Run directory holding `study.json`. */
   dir: string;
   /** Worker threads. @default the study's `workers`, else available cores */
@@ -10,6 +12,8 @@ export interface ResumeCommandOptions extends ProgressTarget {
   /** Go on although the CSV changed since the study started (the study file records it). @default false */
   allowChangedData?: boolean;
   signal?: AbortSignal;
+  /** Where notes of the queue go. @default process.stderr */
+  stderr?: NodeJS.WritableStream;
 }
 
 /**
@@ -19,10 +23,18 @@ export interface ResumeCommandOptions extends ProgressTarget {
 export async function resume(options: ResumeCommandOptions): Promise<ResumeOutcome> {
   const saved = await StudyStore.read(options.dir);
   const onEvent = studyObserver(options, saved.definition, saved.objective);
-  return resumeStudy(options.dir, {
+  const dir = path.resolve(options.dir);
+  const queue = queueRun(options, { name: saved.name, dir, fresh: false }, options.stderr ?? process.stderr, options.signal);
+  const outcome = await resumeStudy(options.dir, {
     ...(options.workers !== undefined ? { workers: options.workers } : {}),
-    ...(options.signal ? { signal: options.signal } : {}),
+    ...(queue.signal ? { signal: queue.signal } : {}),
+    ...(queue.transport ? { transport: queue.transport } : {}),
     ...(options.allowChangedData ? { allowChangedData: true } : {}),
     ...(onEvent ? { onEvent } : {}),
+  }).catch((error: unknown) => {
+    queue.check(dir);
+    throw error;
   });
+  queue.check(dir);
+  return outcome;
 }

@@ -3,8 +3,9 @@ import { runStudy, type StudyOutcome } from '../runner/run-study.js';
 import { resolveObjective, type StudyDefinitionInput } from '../study/definition.js';
 import { loadStudy, studyFromObject } from '../study/load.js';
 import { studyObserver, type ProgressTarget } from './observe.js';
+import { queueRun, type QueueFlags } from './queue.js';
 
-export interface RunCommandOptions extends ProgressTarget {
+export interface RunCommandOptions extends ProgressTarget, QueueFlags {
   /** A study definition file (JSON), or the definition itself as an object. */
   definition: string | StudyDefinitionInput;
   /** For a definition object: the folder its `data.csv` is relative to. @default the current directory */
@@ -17,6 +18,8 @@ export interface RunCommandOptions extends ProgressTarget {
   force?: boolean;
   /** Aborting stops starting jobs; running ones finish and the study is saved as interrupted. */
   signal?: AbortSignal;
+  /** Where notes of the queue go. @default process.stderr */
+  stderr?: NodeJS.WritableStream;
 }
 
 /**
@@ -40,11 +43,19 @@ export async function run(options: RunCommandOptions): Promise<StudyOutcome> {
       : studyFromObject(options.definition, path.resolve(options.baseDir ?? '.'));
   const objective = resolveObjective(study.definition);
   const onEvent = studyObserver(options, study.definition, objective);
-  return runStudy(study, {
+  const dir = path.resolve(options.out ?? path.join('runs', study.definition.name));
+  const queue = queueRun(options, { name: study.definition.name, dir, fresh: true }, options.stderr ?? process.stderr, options.signal);
+  const outcome = await runStudy(study, {
     ...(options.out !== undefined ? { out: options.out } : {}),
     ...(options.workers !== undefined ? { workers: options.workers } : {}),
     ...(options.force !== undefined ? { force: options.force } : {}),
-    ...(options.signal ? { signal: options.signal } : {}),
+    ...(queue.signal ? { signal: queue.signal } : {}),
+    ...(queue.transport ? { transport: queue.transport } : {}),
     ...(onEvent ? { onEvent } : {}),
+  }).catch((error: unknown) => {
+    queue.check(dir);
+    throw error;
   });
+  queue.check(outcome.dir);
+  return outcome;
 }

@@ -39,7 +39,8 @@ export function describeJob(event: Pick<TrialFinished, 'trial' | 'job'>, metric:
     return `trial ${trial.id}${rung} ${trial.status}${why}`;
   }
   const value = trial.rungObjectives[job.rung];
-  return `trial ${trial.id}${rung} done at epoch ${job.toEpoch}: ${metric} ${formatNumber(value)}`;
+  const where = trial.jobs.find((j) => j.rung === job.rung && j.toEpoch === job.toEpoch)?.ranOn;
+  return `trial ${trial.id}${rung} done at epoch ${job.toEpoch}: ${metric} ${formatNumber(value)}${where ? ` on ${where}` : ''}`;
 }
 
 function leaderText(leader: TrialRecord | undefined, metric: string): LineSegment {

@@ -1,3 +1,4 @@
+import { setMaxListeners } from 'node:events';
 import { availableParallelism } from 'node:os';
 import { FolderCheckpointStore } from '../checkpoints/folder-store.js';
 import type { CheckpointStore } from '../checkpoints/store.js';
@@ -128,6 +129,7 @@ async function drive(store: StudyStore, data: PreparedData, options: ExecuteOpti
   let stopping = options.signal?.aborted === true;
   // Ends running jobs once the grace time after an interrupt has passed; they stay `running` and are redone on resume.
   const cutOff = new AbortController();
+  setMaxListeners(Infinity, cutOff.signal); // one listener per running job, and a queue may run hundreds
   let graceTimer: NodeJS.Timeout | undefined;
   const onAbort = (): void => {
     stopping = true;

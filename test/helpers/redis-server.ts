@@ -1,0 +1,89 @@
+/**
+ * Real processes for the many-machines tests: a `redis-server` of the test's own on a free loopback
+ * port (temporary directory, persistence off) and `rungwise worker` processes. Everything started is
+ * recorded and stopped by {@link stopStarted}, which the test files call in afterEach/afterAll, so
+ * nothing outlives a failed test. No test uses a server the machine already runs.
+ */
+import { spawn, type ChildProcess } from 'node:child_process';
+import { startPrivateRedis, type PrivateRedis } from '../../scripts/redis-server.js';
+import { BIN } from './cli.js';
+
+const started = new Set<ChildProcess>();
+const servers = new Set<PrivateRedis>();
+
+export type TestRedis = PrivateRedis;
+
+/** Start a private redis-server, stopped by {@link stopStarted}; `password` sets `requirepass`. */
+export async function startRedis(options: { password?: string } = {}): Promise<TestRedis> {
+  const redis = await startPrivateRedis({ ...options, onSpawn: (child) => started.add(child) });
+  servers.add(redis);
+  return redis;
+}
+
+/** A `rungwise worker` process with its output collected; `exited` settles when it ends. */
+export interface WorkerProcess {
+  child: ChildProcess;
+  output: () => string;
+  /** Resolves once a line matching `pattern` has been printed. */
+  printed(pattern: RegExp): Promise<void>;
+  exited: Promise<{ code: number | null; signal: NodeJS.Signals | null }>;
+}
+
+/** Spawn a worker process (`node bin/rungwise.js worker URL ...`); the default stall time is 2 s. */
+export function spawnWorker(url: string, args: readonly string[] = [], env: NodeJS.ProcessEnv = {}): WorkerProcess {
+  return spawnCli(['worker', url, '--stall-seconds', '2', ...args], env);
+}
+
+/** Spawn any CLI command as a recorded process. */
+export function spawnCli(args: readonly string[], env: NodeJS.ProcessEnv = {}): WorkerProcess {
+  const child = spawn(process.execPath, [BIN, ...args], { env: { ...process.env, ...env }, stdio: ['ignore', 'pipe', 'pipe'] });
+  started.add(child);
+  let text = '';
+  const listeners = new Set<() => void>();
+  const onData = (chunk: Buffer): void => {
+    text += chunk.toString();
+    for (const listener of listeners) listener();
+  };
+  child.stdout!.on('data', onData);
+  child.stderr!.on('data', onData);
+  const exited = new Promise<{ code: number | null; signal: NodeJS.Signals | null }>((resolve) => {
+    child.on('close', (code, signal) => resolve({ code, signal }));
+  });
+  return {
+    child,
+    output: () => text,
+    exited,
+    printed: (pattern) =>
+      new Promise<void>((resolve, reject) => {
+        const check = (): void => {
+          if (pattern.test(text)) {
+            listeners.delete(check);
+            resolve();
+          }
+        };
+        listeners.add(check);
+        check();
+        void exited.then(() => {
+          if (!pattern.test(text)) reject(new Error(`process ended before printing ${pattern}:\n${text}`));
+        });
+      }),
+  };
+}
+
+async function stopProcess(child: ChildProcess, signal: NodeJS.Signals): Promise<void> {
+  if (child.exitCode !== null || child.signalCode !== null) {
+    started.delete(child);
+    return;
+  }
+  const ended = new Promise<void>((resolve) => child.once('exit', () => resolve()));
+  child.kill(signal);
+  await ended;
+  started.delete(child);
+}
+
+/** Stop (SIGKILL) every process these helpers started and remove the servers' folders. */
+export async function stopStarted(): Promise<void> {
+  await Promise.all([...started].map((child) => stopProcess(child, 'SIGKILL')));
+  await Promise.all([...servers].map((server) => server.dispose()));
+  servers.clear();
+}
