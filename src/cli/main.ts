@@ -21,7 +21,16 @@ async function untilInterrupted(
 ): Promise<void> {
   const interrupt = interruptSignal();
   try {
-    const outcome = await command(interrupt.signal);
+    let outcome: { dir: string; doc: { state: string } };
+    try {
+      outcome = await command(interrupt.signal);
+    } catch (error) {
+      // Interrupted while the data loaded: nothing was written yet.
+      if (!interrupt.signal.aborted || (error as Error).name !== 'AbortError') throw error;
+      process.stderr.write('interrupted before the first trial; nothing was written\n');
+      process.exitCode = 130;
+      return;
+    }
     if (outcome.doc.state === 'interrupted') {
       write(`study interrupted; continue it with: rungwise resume ${outcome.dir}\n`);
       process.exitCode = 130;

@@ -1,3 +1,4 @@
+import { dataProgressObserver } from '../report/data-progress.js';
 import { progressObserver } from '../report/progress.js';
 import { rankingTable } from '../report/ranking-table.js';
 import { studySummary } from '../report/summary.js';
@@ -10,6 +11,8 @@ export interface ResumeCommandOptions {
   workers?: number;
   top?: number;
   stdout?: NodeJS.WritableStream;
+  /** Where data-loading progress and notes on the reading go. @default process.stderr */
+  stderr?: NodeJS.WritableStream;
   signal?: AbortSignal;
 }
 
@@ -21,6 +24,7 @@ export async function resume(options: ResumeCommandOptions): Promise<ResumeOutco
     ...(options.workers !== undefined ? { workers: options.workers } : {}),
     ...(options.signal ? { signal: options.signal } : {}),
     onEvent: progressObserver({ objective, stream: stdout }),
+    onDataEvent: dataProgressObserver({ stream: options.stderr ?? process.stderr }),
   });
   if (outcome.alreadyFinished) {
     stdout.write(`study ${outcome.doc.name} is already finished; nothing to resume (see \`rungwise ranking ${outcome.dir}\`)\n`);

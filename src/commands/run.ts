@@ -1,3 +1,4 @@
+import { dataProgressObserver } from '../report/data-progress.js';
 import { progressObserver } from '../report/progress.js';
 import { rankingTable } from '../report/ranking-table.js';
 import { runStudy, type StudyOutcome } from '../runner/run-study.js';
@@ -14,6 +15,8 @@ export interface RunCommandOptions {
   top?: number;
   /** Where progress and the final table go. @default process.stdout */
   stdout?: NodeJS.WritableStream;
+  /** Where data-loading progress and notes on the reading go. @default process.stderr */
+  stderr?: NodeJS.WritableStream;
   signal?: AbortSignal;
 }
 
@@ -29,6 +32,7 @@ export async function run(options: RunCommandOptions): Promise<StudyOutcome> {
     ...(options.force !== undefined ? { force: options.force } : {}),
     ...(options.signal ? { signal: options.signal } : {}),
     onEvent: progressObserver({ objective, stream: stdout }),
+    onDataEvent: dataProgressObserver({ stream: options.stderr ?? process.stderr }),
   });
   stdout.write(`\n${rankingTable(outcome.ranking.slice(0, options.top ?? 10), objective)}\n\n`);
   stdout.write(`${studySummary(outcome.doc, outcome.file)}\n`);

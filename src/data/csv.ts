@@ -27,10 +27,11 @@ const DECIMAL = /^[+-]?(\d+\.?\d*|\.\d+)([eE][+-]?\d+)?$/;
 
 /** The finite number a cell spells, or undefined when it is not a plain decimal number. */
 export function parseNumber(value: string): number | undefined {
+  // Number() alone would also take '', hex, binary, octal and 'Infinity'; the pattern leaves only decimals.
+  const number = Number(value);
+  if (!Number.isFinite(number)) return undefined;
   const text = value.trim();
-  if (!DECIMAL.test(text)) return undefined;
-  const number = Number(text);
-  return Number.isFinite(number) ? number : undefined;
+  return DECIMAL.test(text) ? number : undefined;
 }
 
 /** Checks a header row: every name non-empty and unique. */

@@ -4,6 +4,7 @@ import { Readable, Writable } from 'node:stream';
 import { pipeline } from 'node:stream/promises';
 import { CsvError, parse } from 'csv-parse';
 import { UserError } from '../errors.js';
+import { utf16Kind } from '../text/encoding.js';
 import type { DataObserver } from './events.js';
 import { LineCounter } from './lines.js';
 
@@ -55,15 +56,6 @@ async function readStart(file: string): Promise<{ start: Buffer; bytes: number }
   } finally {
     await handle?.close();
   }
-}
-
-/** UTF-16 shows as a byte order mark, or as a NUL next to every ASCII character. */
-function utf16Kind(start: Buffer): string | undefined {
-  if (start[0] === 0xff && start[1] === 0xfe) return 'UTF-16 (little-endian byte order mark)';
-  if (start[0] === 0xfe && start[1] === 0xff) return 'UTF-16 (big-endian byte order mark)';
-  if (start.length >= 4 && start[0] !== 0 && start[1] === 0 && start[2] !== 0 && start[3] === 0) return 'UTF-16 (little-endian, no byte order mark)';
-  if (start.length >= 4 && start[0] === 0 && start[1] !== 0 && start[2] === 0 && start[3] !== 0) return 'UTF-16 (big-endian, no byte order mark)';
-  return undefined;
 }
 
 /** The delimiter of the header line: the candidate found most often outside quotes (',' when none is). */
