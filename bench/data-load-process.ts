@@ -1,9 +1,10 @@
 /**
  * Child-process entry of the data-load benchmark: `<study.json>` prepares that study's data and
- * reports time, peak resident memory and the prepared size; `--baseline` only loads the modules,
- * giving the constant part of the resident memory.
+ * reports time, peak resident memory and the prepared size; `--baseline` only loads the modules;
+ * `--read-only <file.csv>` streams the file through the parser keeping nothing.
  */
 import { prepareData } from '../src/data/prepare.js';
+import { streamCsv } from '../src/data/source.js';
 import { loadStudy } from '../src/study/load.js';
 
 export interface LoadMeasurement {
@@ -23,6 +24,11 @@ const argument = process.argv[2]!;
 let result: LoadMeasurement;
 if (argument === '--baseline') {
   result = { seconds: 0, peakRssBytes: peak(), rows: 0, inputCount: 0, preparedBytes: 0, progressEvents: 0 };
+} else if (argument === '--read-only') {
+  let rows = 0;
+  const started = performance.now();
+  await streamCsv(process.argv[3]!, { header: () => undefined, row: () => void rows++ });
+  result = { seconds: (performance.now() - started) / 1000, peakRssBytes: peak(), rows, inputCount: 0, preparedBytes: 0, progressEvents: 0 };
 } else {
   const study = await loadStudy(argument);
   let progressEvents = 0;

@@ -5,6 +5,7 @@
  */
 import path from 'node:path';
 import { budgetGroup } from './budget.js';
+import { dataGroup } from './data.js';
 import { memoryGroup } from './memory.js';
 import { overheadGroup } from './overhead.js';
 import { poolGroup } from './pool.js';
@@ -12,6 +13,7 @@ import { groupMarkdown, machineInfo, writeResults, type GroupResult } from './re
 import { schedulingGroup } from './scheduling.js';
 import { storeGroup } from './store.js';
 import { throughputGroup } from './throughput.js';
+import { viewsGroup } from './views.js';
 
 export interface BenchOptions {
   quick: boolean;
@@ -25,6 +27,8 @@ const GROUPS: Record<string, (options: BenchOptions) => Promise<GroupResult>> = 
   memory: memoryGroup,
   scheduling: schedulingGroup,
   budget: budgetGroup,
+  data: dataGroup,
+  views: viewsGroup,
 };
 
 function parseArgs(argv: string[]): { quick: boolean; only: string[] } {
