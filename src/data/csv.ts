@@ -1,4 +1,4 @@
-import { dataError, streamCsv, streamCsvBytes, type CsvDialect, type RecordSink, type StreamOptions } from './source.js';
+import { dataError, streamCsv, streamCsvBytes, type RecordSink, type StreamOptions } from './source.js';
 
 /** A parsed CSV file: every value kept as text, every row with its CSV line number. */
 export interface CsvTable {
@@ -10,8 +10,6 @@ export interface CsvTable {
   rows: Record<string, string>[];
   /** 1-based line on which each row starts (the header is line 1 when the file has no leading blank lines). */
   lines: number[];
-  /** The delimiter the header line uses. */
-  delimiter: string;
 }
 
 /** Values that count as missing, compared after trimming and lower-casing. */
@@ -79,20 +77,22 @@ class TableSink implements RecordSink {
     this.lines.push(line);
   }
 
-  table(dialect: CsvDialect): CsvTable {
+  table(): CsvTable {
     if (this.rows.length === 0) throw noDataRows(this.file, this.headerLine);
-    return { file: this.file, columns: this.columns, rows: this.rows, lines: this.lines, delimiter: dialect.delimiter };
+    return { file: this.file, columns: this.columns, rows: this.rows, lines: this.lines };
   }
 }
 
 /** Reads and parses a CSV file; every problem is a UserError (code E_DATA) naming the file and the line. */
 export async function readCsv(file: string, options: StreamOptions = {}): Promise<CsvTable> {
   const sink = new TableSink(file);
-  return sink.table(await streamCsv(file, sink, options));
+  await streamCsv(file, sink, options);
+  return sink.table();
 }
 
 /** Parses CSV bytes (UTF-8, optional BOM) with the same reader as files. `file` only names the source in messages. */
 export async function parseCsv(bytes: Uint8Array, file: string): Promise<CsvTable> {
   const sink = new TableSink(file);
-  return sink.table(await streamCsvBytes(bytes, file, sink));
+  await streamCsvBytes(bytes, file, sink);
+  return sink.table();
 }
