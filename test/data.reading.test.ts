@@ -4,6 +4,7 @@ import path from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { DataEvent } from '../src/data/events.js';
 import { prepareData } from '../src/data/prepare.js';
+import { encodeFeatures } from '../src/data/recipe.js';
 import { TEXT_SHARE_IN_NUMERIC } from '../src/data/typing.js';
 import { dataSchema, type DataSettings } from '../src/study/definition.js';
 
@@ -170,5 +171,18 @@ describe('progress and interruption', () => {
     await expect(prepareData(settings, studyFile, { signal: whileReading.signal, onDataEvent: (e) => e.type === 'reading' && whileReading.abort() })).rejects.toMatchObject({ name: 'AbortError' });
     const whilePreparing = new AbortController();
     await expect(prepareData(settings, studyFile, { signal: whilePreparing.signal, onDataEvent: (e) => e.type === 'preparing' && whilePreparing.abort() })).rejects.toMatchObject({ name: 'AbortError' });
+  });
+});
+
+describe('rows given to a model (predict) are read as a study reads them', () => {
+  it('decimal commas in a column without points, non-finite values as missing, other text an error', async () => {
+    const settings = await withCsv('predict-base.csv', csv(20));
+    const { recipe } = (await prepareData(settings, studyFile)).data;
+    const feature = recipe.features[0]!;
+    if (feature.kind !== 'numeric') throw new Error('x should be numeric');
+    const x = encodeFeatures(recipe, [{ x: '3,5' }, { x: 'Infinity' }, { x: '7' }], 'new.csv');
+    expect(Array.from(x)).toEqual([Math.fround((3.5 - feature.mean) / feature.std), 0, Math.fround((7 - feature.mean) / feature.std)]);
+    // With a point elsewhere in the column, a comma is not a decimal mark.
+    expect(() => encodeFeatures(recipe, [{ x: '3,5' }, { x: '7.5' }], 'new.csv', [2, 3])).toThrow("new.csv: line 2: column 'x' holds '3,5', expected a number or a missing value");
   });
 });

@@ -1,6 +1,7 @@
 import { UserError } from '../errors.js';
 import type { Task } from '../study/definition.js';
 import { isMissing, parseNumber } from './csv.js';
+import { decimalCommaNumber, isNotFinite } from './typing.js';
 import type { FeatureRecipe, PreprocessingRecipe } from './types.js';
 import type { FeatureValues } from './values.js';
 
@@ -152,9 +153,23 @@ function labelsOf(values: readonly string[], missingIs: (value: string) => boole
   return { codes, labels };
 }
 
-function rowValues(feature: FeatureColumn, rows: readonly Record<string, string>[], numberAt: (value: string, r: number) => number): FeatureValues {
+/**
+ * A numeric column of row-wise input read as the column typing reads one (README, "How the CSV is
+ * read"): decimal commas when no number of the column has a point, non-finite values as missing;
+ * `otherwise` decides for any other cell.
+ */
+function numericCells(cells: readonly string[], otherwise: (value: string, r: number) => number): Float64Array {
+  const points = cells.some((value) => value.includes('.') && parseNumber(value) !== undefined);
+  return Float64Array.from(cells, (value, r) => {
+    if (isMissing(value) || isNotFinite(value)) return Number.NaN;
+    const number = parseNumber(value) ?? (points ? undefined : decimalCommaNumber(value));
+    return number ?? otherwise(value, r);
+  });
+}
+
+function rowValues(feature: FeatureColumn, rows: readonly Record<string, string>[], otherwise: (value: string, r: number) => number): FeatureValues {
   const cells = rows.map((row) => row[feature.name] ?? '');
-  if (feature.kind === 'numeric') return { kind: 'numeric', name: feature.name, values: Float64Array.from(cells, (value, r) => (isMissing(value) ? Number.NaN : numberAt(value, r))) };
+  if (feature.kind === 'numeric') return { kind: 'numeric', name: feature.name, values: numericCells(cells, otherwise) };
   return { kind: 'categorical', name: feature.name, ...labelsOf(cells, isMissing) };
 }
 
@@ -171,7 +186,7 @@ export interface RecipeOptions {
 /** Builds the preprocessing recipe from training rows given as records (see {@link buildColumnRecipe}). */
 export function buildRecipe(options: RecipeOptions): PreprocessingRecipe {
   const { task, target, trainingRows } = options;
-  const features = options.features.map((feature) => rowValues(feature, trainingRows, (value) => parseNumber(value) ?? Number.NaN));
+  const features = options.features.map((feature) => rowValues(feature, trainingRows, () => Number.NaN));
   const targets = trainingRows.map((row) => row[target] ?? '');
   const targetValues: TargetValues =
     task === 'regression' ? { kind: 'numbers', values: Float64Array.from(targets, (value) => parseNumber(value) ?? Number.NaN) } : { kind: 'labels', ...labelsOf(targets, () => false) };
@@ -179,7 +194,8 @@ export function buildRecipe(options: RecipeOptions): PreprocessingRecipe {
 }
 
 /**
- * Turns raw rows into model inputs with {@link encodeColumns}. Extra columns are ignored.
+ * Turns raw rows into model inputs with {@link encodeColumns}; numeric cells are read as a study reads
+ * them (decimal commas, non-finite values as missing). Extra columns are ignored.
  * @throws UserError (E_DATA) when a recipe column is absent or a numeric cell holds text.
  */
 export function encodeFeatures(recipe: PreprocessingRecipe, rows: readonly Record<string, string>[], file: string, lines?: readonly number[]): Float32Array {
@@ -195,11 +211,7 @@ export function encodeFeatures(recipe: PreprocessingRecipe, rows: readonly Recor
   }
   const features = recipe.features.map((feature) =>
     rowValues(feature, rows, (value, r) => {
-      const number = parseNumber(value);
-      if (number === undefined) {
-        throw new UserError('E_DATA', `${file}: line ${lineOf(lines, r)}: column '${feature.name}' holds '${value}', expected a number or a missing value`);
-      }
-      return number;
+      throw new UserError('E_DATA', `${file}: line ${lineOf(lines, r)}: column '${feature.name}' holds '${value}', expected a number or a missing value`);
     }),
   );
   return encodeColumns(recipe, features, allRows(rows.length));

@@ -9,6 +9,17 @@ const NOT_FINITE = /^[+-]?(inf|infinity)$/i;
 const OVERFLOW = /^[+-]?(\d+\.?\d*|\.\d+)[eE][+-]?\d+$/;
 const DECIMAL_COMMA = /^[+-]?\d*,\d+$/;
 
+/** The number a decimal-comma spelling stands for ('3,5' → 3.5), else undefined. */
+export function decimalCommaNumber(text: string): number | undefined {
+  const trimmed = text.trim();
+  return DECIMAL_COMMA.test(trimmed) ? Number(trimmed.replace(',', '.')) : undefined;
+}
+
+/** 'Infinity', '-inf', or a decimal too large for a float64 ('1e999'). */
+export function isNotFinite(text: string): boolean {
+  return spellingKind(text) === 'not-finite';
+}
+
 function spellingKind(text: string): SpellingKind {
   if (isMissing(text)) return 'missing';
   const trimmed = text.trim();
@@ -98,10 +109,11 @@ export function typeColumn(column: RawColumn, lines: Int32Array, file: string): 
   if (readCommas) {
     for (let i = 0; i < column.spelledRows.length; i++) {
       const spelling = column.spellings[column.spelledCodes[i]!]!;
-      if (spellingKind(spelling) === 'decimal-comma') values[column.spelledRows[i]!] = Number(spelling.trim().replace(',', '.'));
+      const number = decimalCommaNumber(spelling);
+      if (number !== undefined) values[column.spelledRows[i]!] = number;
     }
     const example = commas[0]!;
-    notes.push(`${where}: ${plural(sum(commas), 'value')} written with a decimal comma read as numbers ('${example.text}' on line ${example.lines[0]} as ${Number(example.text.trim().replace(',', '.'))})`);
+    notes.push(`${where}: ${plural(sum(commas), 'value')} written with a decimal comma read as numbers ('${example.text}' on line ${example.lines[0]} as ${decimalCommaNumber(example.text)})`);
   }
   const unread = [...notFinite, ...(readCommas ? [] : commas), ...text];
   if (unread.length > 0) {
