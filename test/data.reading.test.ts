@@ -1,4 +1,5 @@
-import { mkdir, mkdtemp, rm, writeFile } from 'node:fs/promises';
+import { createHash } from 'node:crypto';
+import { mkdir, mkdtemp, readFile, rm, writeFile } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
 import path from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
@@ -163,6 +164,12 @@ describe('progress and interruption', () => {
     expect(reading.at(-1)).toMatchObject({ bytesRead: Buffer.byteLength(csv(200)), totalBytes: Buffer.byteLength(csv(200)) });
     expect(new Set(events.filter((e) => e.type === 'preparing').map((e) => e.type === 'preparing' && e.step))).toEqual(new Set(['typing', 'splitting', 'encoding']));
     expect(events.at(-1)).toMatchObject({ type: 'ready', rows: 200, columns: 2 });
+  });
+
+  it("gives the SHA-256 of the file's bytes as read, byte order mark included", async () => {
+    const settings = await withCsv('hashed.csv', `\ufeff${csv(30)}`);
+    const { csvSha256 } = await prepareData(settings, studyFile);
+    expect(csvSha256).toBe(createHash('sha256').update(await readFile(path.join(folder, 'hashed.csv'))).digest('hex'));
   });
 
   it('stops with the signal while reading, and while preparing', async () => {

@@ -169,14 +169,15 @@ async function readFeatures(
  * Reads the study's CSV (path relative to the definition file's folder) as a stream into typed
  * columns, checks it against the settings, splits it and encodes every split with a recipe built
  * from the training split alone. Rows whose target is missing are an error (naming the line), not
- * silently dropped. How odd cells were read comes back as `notes` (also sent as 'note' events).
+ * silently dropped. How odd cells were read comes back as `notes` (also sent as 'note' events), and
+ * `csvSha256` is the SHA-256 of the CSV's bytes as they were read.
  * @throws UserError (E_DATA) with one line naming the study field or the CSV line; the signal's reason when aborted.
  */
 export async function prepareData(
   settings: DataSettings,
   definitionFile: string,
   options: DataLoadOptions = {},
-): Promise<{ data: PreparedData; summary: DataSummary; notes: string[] }> {
+): Promise<{ data: PreparedData; summary: DataSummary; notes: string[]; csvSha256: string }> {
   const started = performance.now();
   const emit = (event: DataEvent): void => options.onDataEvent?.(event);
   const csvFile = displayPath(path.resolve(path.dirname(definitionFile), settings.csv));
@@ -248,7 +249,7 @@ export async function prepareData(
   if (counts !== undefined) summary.classCounts = counts;
   for (const message of notes) emit({ type: 'note', file: csvFile, message });
   emit({ type: 'ready', file: csvFile, rows: table.rows, columns: table.columns.length, seconds: (performance.now() - started) / 1000 });
-  return { data, summary, notes };
+  return { data, summary, notes, csvSha256: dialect.sha256 ?? '' };
 }
 
 function shared(values: Float32Array): Float32Array {

@@ -1,3 +1,4 @@
+import { createHash } from 'node:crypto';
 import { createReadStream } from 'node:fs';
 import { open } from 'node:fs/promises';
 import { Readable, Writable } from 'node:stream';
@@ -25,6 +26,8 @@ export interface CsvDialect {
   delimiter: string;
   /** Bytes in the file. */
   bytes: number;
+  /** SHA-256 of the bytes read (hex), computed while streaming. */
+  sha256?: string;
 }
 
 /** Delimiters tried on the header line, in order of preference when counts tie. */
@@ -122,8 +125,10 @@ async function streamFrom(source: Readable, file: string, sink: RecordSink, dial
   const decoder = new TextDecoder('utf-8', { fatal: true });
   let bytesRead = 0;
   let first = true;
+  const hash = createHash('sha256');
   const checked = async function* (chunks: AsyncIterable<Buffer>): AsyncGenerator<Buffer> {
     for await (let chunk of chunks) {
+      hash.update(chunk);
       if (first && chunk[0] === 0xef && chunk[1] === 0xbb && chunk[2] === 0xbf) chunk = chunk.subarray(3);
       first = false;
       const nul = chunk.indexOf(0);
@@ -169,6 +174,6 @@ async function streamFrom(source: Readable, file: string, sink: RecordSink, dial
     throw error;
   }
   if (records === 0) throw dataError(file, 'the file has no rows; expected a header row and data rows');
-  return dialect;
+  return { ...dialect, sha256: hash.digest('hex') };
 }
 
