@@ -26,7 +26,7 @@ export interface RunOptions extends ExecuteOptions, Pick<DataLoadOptions, 'onDat
  */
 export async function runStudy(study: string | LoadedStudy, options: RunOptions = {}): Promise<StudyOutcome> {
   const { definition, file } = typeof study === 'string' ? await loadStudy(study) : study;
-  const { data, summary } = await prepareData(definition.data, file, {
+  const { data, summary, csvSha256 } = await prepareData(definition.data, file, {
     ...(options.signal ? { signal: options.signal } : {}),
     ...(options.onDataEvent ? { onDataEvent: options.onDataEvent } : {}),
   });
@@ -59,7 +59,7 @@ export async function runStudy(study: string | LoadedStudy, options: RunOptions 
       createdAt: now,
       updatedAt: now,
       trials: [],
-      dataHashes: await dataHashes(path.resolve(path.dirname(file), definition.data.csv), data),
+      dataHashes: await dataHashes(path.resolve(path.dirname(file), definition.data.csv), data, csvSha256),
     });
     return await executeStudy(store, data, options);
   } catch (error) {

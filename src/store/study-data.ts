@@ -28,11 +28,11 @@ export interface StudyDataOptions extends DataLoadOptions {
  */
 export async function studyData(doc: StudyDocument, studyFile: string, options: StudyDataOptions): Promise<PreparedData> {
   const csv = studyCsvPath(doc);
-  const { data } = await prepareData(doc.definition.data, doc.definitionFile, {
+  const { data, csvSha256 } = await prepareData(doc.definition.data, doc.definitionFile, {
     ...(options.signal ? { signal: options.signal } : {}),
     ...(options.onDataEvent ? { onDataEvent: options.onDataEvent } : {}),
   });
-  const hashes = await dataHashes(csv, data);
+  const hashes = await dataHashes(csv, data, csvSha256);
   if (doc.dataHashes && hashes.csv !== doc.dataHashes.csv) {
     if (!options.allowChangedData) {
       throw new UserError(
