@@ -24,7 +24,7 @@ describe('a file given where a run directory belongs', () => {
     const result = await runCli([command, definition]);
     expect(result.code).toBe(2);
     expect(result.stdout).toBe('');
-    expect(result.stderr).toBe(`error: ${definition}: is a file, not a run directory; give the folder that holds study.json (a study definition is started with \`rungwise run\`)\n`);
+    expect(result.stderr).toBe(`error: ${definition}: is a file, not a run directory; name the folder that holds study.json\n`);
   });
 });
 

@@ -70,7 +70,6 @@ export class StudyStore {
 
   /** Open an existing study file; a missing, corrupted or foreign file is a {@link UserError}. */
   static async open(dir: string): Promise<StudyStore> {
-    await checkRunDirectory(dir);
     const file = studyFilePath(dir);
     const kind = await stat(dir).then(
       (found) => (found.isDirectory() ? 'folder' : 'file'),
@@ -108,13 +107,5 @@ export class StudyStore {
     } finally {
       this.pending = undefined;
     }
-  }
-}
-
-/** A run directory given as a file (a study definition, a CSV) is a user error, not a failed read. */
-async function checkRunDirectory(dir: string): Promise<void> {
-  const info = await stat(dir).catch(() => undefined);
-  if (info !== undefined && !info.isDirectory()) {
-    throw new UserError('E_STUDY_FILE', `${dir}: is a file, not a run directory; give the folder that holds study.json (a study definition is started with \`rungwise run\`)`);
   }
 }
