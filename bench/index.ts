@@ -6,6 +6,7 @@
 import path from 'node:path';
 import { budgetGroup } from './budget.js';
 import { engineGroup } from './engine.js';
+import { dataGroup } from './data.js';
 import { memoryGroup } from './memory.js';
 import { modelGroup } from './model.js';
 import { overheadGroup } from './overhead.js';
@@ -16,6 +17,7 @@ import { schedulingGroup } from './scheduling.js';
 import { startupGroup } from './startup.js';
 import { storeGroup } from './store.js';
 import { throughputGroup } from './throughput.js';
+import { viewsGroup } from './views.js';
 
 export interface BenchOptions {
   quick: boolean;
@@ -33,6 +35,8 @@ const GROUPS: Record<string, (options: BenchOptions) => Promise<GroupResult>> = 
   model: modelGroup,
   startup: startupGroup,
   queue: queueGroup,
+  data: dataGroup,
+  views: viewsGroup,
 };
 
 function parseArgs(argv: string[]): { quick: boolean; only: string[] } {

@@ -14,7 +14,7 @@ import { tempDir } from './studies.js';
 
 const EPOCHS = 50;
 
-function baseDocument(): StudyDocument {
+export function baseDocument(): StudyDocument {
   const definition: StudyDefinition = studySchema.parse({
     name: 'bench-store',
     data: { csv: 'data.csv', target: 'y', task: 'binary' },
@@ -38,8 +38,8 @@ function baseDocument(): StudyDocument {
   };
 }
 
-/** A finished trial with a full curve of plausible, full-precision figures. */
-function trialRecord(id: number): TrialRecord {
+/** A finished trial (also used by the reports group) with a full curve of plausible, full-precision figures. */
+export function trialRecord(id: number): TrialRecord {
   const rng = stream('bench', 'store', id);
   const curve: CurvePoint[] = Array.from({ length: EPOCHS }, (_, i) => ({
     epoch: i + 1,

@@ -14,10 +14,22 @@ import { runCli } from './helpers/cli.js';
  */
 const ROOT = fileURLToPath(new URL('..', import.meta.url));
 const CORPUS = path.join(ROOT, 'test', 'corpus');
-const CASES = readdirSync(CORPUS, { withFileTypes: true })
+const FOLDERS = readdirSync(CORPUS, { withFileTypes: true })
   .filter((entry) => entry.isDirectory())
   .map((entry) => entry.name)
   .sort();
+/** Bad input: a folder with `expected.txt`. */
+const CASES = FOLDERS.filter((name) => existsSync(path.join(CORPUS, name, 'expected.txt')));
+/** Valid but odd input: a folder with `reading.json`, the notes and the reading the run must give. */
+const ODD_CASES = FOLDERS.filter((name) => existsSync(path.join(CORPUS, name, 'reading.json')));
+
+interface ExpectedReading {
+  /** Substrings of the `note:` lines on stderr, one per note expected. */
+  notes: string[];
+  /** Must match the recipe and the data summary saved in the study file. */
+  recipe: Record<string, unknown>;
+  summary: Record<string, unknown>;
+}
 
 // The brief's list of bad inputs has 36 kinds; the corpus must not silently shrink below it.
 const MINIMUM_CASES = 36;
@@ -44,6 +56,11 @@ afterAll(async () => {
 describe('the bad-input corpus', () => {
   it(`holds at least ${MINIMUM_CASES} cases`, () => {
     expect(CASES.length).toBeGreaterThanOrEqual(MINIMUM_CASES);
+  });
+
+  it('gives every folder either an expected error or an expected reading', () => {
+    expect([...CASES, ...ODD_CASES].sort()).toEqual(FOLDERS);
+    expect(ODD_CASES.length).toBeGreaterThanOrEqual(8);
   });
 
   it('does not reject the valid tiny study (the corpus cases are bad for their own reasons)', async () => {
@@ -82,5 +99,26 @@ describe('rungwise run on bad input: exit 2, one error line per violation, nothi
     for (const substring of expected) expect(result.stderr).toContain(substring);
 
     expect(existsSync(out)).toBe(false);
+  });
+});
+
+describe('rungwise run on valid but odd input: exit 0, the reading stated in note lines and saved in the study file', () => {
+  it.each(ODD_CASES)('%s', async (name) => {
+    const expected = JSON.parse(await readFile(path.join(CORPUS, name, 'reading.json'), 'utf8')) as ExpectedReading;
+    const definition = path.join('test', 'corpus', name, 'study.json');
+    const out = path.join(outRoot, name);
+    const result = await runCli(['run', definition, '--out', out], { cwd: ROOT });
+
+    expect(result.stderr.startsWith('note: ') || result.stderr === '', result.stderr).toBe(true);
+    expect(result.code, result.stderr).toBe(0);
+    const notes = result.stderr.split('\n').filter((line) => line !== '');
+    for (const line of notes) expect(line).toMatch(/^note: /);
+    for (const substring of expected.notes) expect(notes.some((line) => line.includes(substring)), `no note contains: ${substring}\n${result.stderr}`).toBe(true);
+    if (expected.notes.length === 0) expect(notes).toEqual([]);
+
+    const saved = JSON.parse(await readFile(path.join(out, 'study.json'), 'utf8')) as { recipe: unknown; data: unknown; trials: { status: string }[] };
+    expect(saved.recipe).toMatchObject(expected.recipe);
+    expect(saved.data).toMatchObject(expected.summary);
+    expect(saved.trials.map((trial) => trial.status)).toEqual(['completed']);
   });
 });

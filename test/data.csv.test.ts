@@ -10,9 +10,9 @@ const FILE = 'cases.csv';
 const csv = (text: string): Buffer => Buffer.from(text, 'utf8');
 
 /** The UserError thrown by `action`; fails the test when nothing (or something else) is thrown. */
-function userErrorOf(action: () => unknown): UserError {
+async function userErrorOf(action: () => Promise<unknown>): Promise<UserError> {
   try {
-    action();
+    await action();
   } catch (error) {
     if (isUserError(error)) return error;
     throw error;
@@ -21,8 +21,8 @@ function userErrorOf(action: () => unknown): UserError {
 }
 
 describe('parseCsv', () => {
-  it('reads the header and keeps each row with its 1-based line (header is line 1)', () => {
-    const table = parseCsv(csv('a,b\n1,x\n2,y\n'), FILE);
+  it('reads the header and keeps each row with its 1-based line (header is line 1)', async () => {
+    const table = await parseCsv(csv('a,b\n1,x\n2,y\n'), FILE);
     expect(table.columns).toEqual(['a', 'b']);
     expect(table.rows).toEqual([
       { a: '1', b: 'x' },
@@ -31,20 +31,20 @@ describe('parseCsv', () => {
     expect(table.lines).toEqual([2, 3]);
   });
 
-  it('keeps the starting line of each row when quoted fields hold line breaks, and skips blank lines', () => {
-    const table = parseCsv(csv('a,b\n"two\nlines",1\n\n"three\r\nline\nnote",2\r\nlast,3'), FILE);
+  it('keeps the starting line of each row when quoted fields hold line breaks, and skips blank lines', async () => {
+    const table = await parseCsv(csv('a,b\n"two\nlines",1\n\n"three\r\nline\nnote",2\r\nlast,3'), FILE);
     expect(table.rows.map((row) => row.a)).toEqual(['two\nlines', 'three\r\nline\nnote', 'last']);
     expect(table.lines).toEqual([2, 5, 8]);
   });
 
-  it('keeps spaces inside quotes and drops spaces around delimiters', () => {
-    const table = parseCsv(csv('name , code\n" padded ", 7 \n'), FILE);
+  it('keeps spaces inside quotes and drops spaces around delimiters', async () => {
+    const table = await parseCsv(csv('name , code\n" padded ", 7 \n'), FILE);
     expect(table.columns).toEqual(['name', 'code']);
     expect(table.rows[0]).toEqual({ name: ' padded ', code: '7' });
   });
 
-  it('drops a UTF-8 byte order mark from the first header name', () => {
-    expect(parseCsv(csv('\ufeffa,b\n1,2\n'), FILE).columns).toEqual(['a', 'b']);
+  it('drops a UTF-8 byte order mark from the first header name', async () => {
+    expect((await parseCsv(csv('\ufeffa,b\n1,2\n'), FILE)).columns).toEqual(['a', 'b']);
   });
 });
 
@@ -59,10 +59,15 @@ describe('CSV errors are UserErrors (E_DATA) naming the file and the line', () =
     ['a row with too many fields after a quoted line break', csv('a,b\n"x\ny",1\n1,2,3\n'), 'cases.csv: line 4: has 3 fields, the header has 2'],
     ['a duplicate header name', csv('a,b,a\n1,2,3\n'), "cases.csv: line 1: header name 'a' appears twice (columns 1 and 3)"],
     ['an empty header name', csv('a,,c\n1,2,3\n'), 'cases.csv: line 1: column 2 of the header has no name'],
-    ['an unclosed quote', csv('a,b\n1,2\n3,"open\n'), 'cases.csv: line 3: Quote Not Closed'],
+    ['an unclosed quote', csv('a,b\n1,2\n3,"open\n'), 'cases.csv: line 3: a quoted field opens on this line and is never closed'],
+    ['an unclosed quote followed by more rows', csv('a,b\n1,2\n3,"open\n4,5\n6,7\n'), 'cases.csv: line 3: a quoted field opens on this line and is never closed'],
+    ['a quote inside an unquoted field', csv('a,b\n1,2\n3,ab"c\n'), 'cases.csv: line 3: a quote appears inside an unquoted field (field 2)'],
+    ['text after a closing quote', csv('a,b\n1,2\n"x"y,3\n'), 'cases.csv: line 3: text follows the closing quote of a field'],
+    ['UTF-16 with a byte order mark', Buffer.from('\ufeffa,b\n1,2\n', 'utf16le'), 'cases.csv: is UTF-16 (little-endian byte order mark) text; save the CSV as UTF-8'],
+    ['UTF-16 without a byte order mark', Buffer.from('a,b\n1,2\n', 'utf16le'), 'cases.csv: is UTF-16 (little-endian, no byte order mark) text; save the CSV as UTF-8'],
   ];
-  it.each(cases)('rejects %s', (_, bytes, message) => {
-    const error = userErrorOf(() => parseCsv(bytes, FILE));
+  it.each(cases)('rejects %s', async (_, bytes, message) => {
+    const error = await userErrorOf(() => parseCsv(bytes, FILE));
     expect(error.code).toBe('E_DATA');
     expect(error.message).toContain(message);
     expect(error.message).not.toContain('\n');

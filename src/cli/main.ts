@@ -75,10 +75,19 @@ function ioFor(flags: GlobalFlags, stdout: NodeJS.WritableStream, stderr: NodeJS
 }
 
 /** Run a study command with Ctrl-C handling; an interrupted study says how to go on and exits 130. */
-async function untilInterrupted<T extends { dir: string; doc: { state: string } }>(io: CliIo, command: (signal: AbortSignal) => Promise<T>): Promise<T> {
+async function untilInterrupted<T extends { dir: string; doc: { state: string } }>(io: CliIo, command: (signal: AbortSignal) => Promise<T>): Promise<T | undefined> {
   const interrupt = interruptSignal();
   try {
-    const outcome = await command(interrupt.signal);
+    let outcome: T;
+    try {
+      outcome = await command(interrupt.signal);
+    } catch (error) {
+      // Interrupted while the data loaded: nothing was written yet.
+      if (!interrupt.signal.aborted || (error as Error).name !== 'AbortError') throw error;
+      io.warn('interrupted before the first trial; nothing was written');
+      process.exitCode = 130;
+      return undefined;
+    }
     if (outcome.doc.state === 'interrupted') {
       io.warn(`study interrupted; continue it with: rungwise resume ${outcome.dir}`);
       process.exitCode = 130;
@@ -138,7 +147,7 @@ export function buildProgram(stdout: NodeJS.WritableStream = process.stdout, std
       const { run } = await import('../commands/run.js');
       const { json: _json, top: _top, ...options } = flags;
       const outcome = await untilInterrupted(target, (signal) => run({ definition, ...options, progress: target.err, signal }));
-      await finishStudy(target, outcome, flags);
+      if (outcome) await finishStudy(target, outcome, flags);
     });
 
   queueOptions(program.commands.at(-1)!);
@@ -163,8 +172,8 @@ export function buildProgram(stdout: NodeJS.WritableStream = process.stdout, std
           signal,
         }),
       );
-      if (outcome.alreadyFinished) target.note(`study ${outcome.doc.name} is already finished; nothing to resume`);
-      await finishStudy(target, outcome, flags);
+      if (outcome?.alreadyFinished) target.note(`study ${outcome.doc.name} is already finished; nothing to resume`);
+      if (outcome) await finishStudy(target, outcome, flags);
     });
 
   queueOptions(program.commands.at(-1)!);
@@ -275,7 +284,7 @@ export function buildProgram(stdout: NodeJS.WritableStream = process.stdout, std
       const outcome = await untilInterrupted(target, (signal) =>
         runDemo({ out: flags.out, ...(flags.workers !== undefined ? { workers: flags.workers } : {}), progress: target.err, signal }),
       );
-      await finishStudy(target, outcome, flags);
+      if (outcome) await finishStudy(target, outcome, flags);
     });
 
   return program;

@@ -1,4 +1,5 @@
 import path from 'node:path';
+import { dataProgressObserver } from '../report/data-progress.js';
 import { resumeStudy, type ResumeOutcome } from '../runner/resume-study.js';
 import { StudyStore } from '../store/study-store.js';
 import { studyObserver, type ProgressTarget } from './observe.js';
@@ -31,6 +32,7 @@ export async function resume(options: ResumeCommandOptions): Promise<ResumeOutco
     ...(queue.transport ? { transport: queue.transport } : {}),
     ...(options.allowChangedData ? { allowChangedData: true } : {}),
     ...(onEvent ? { onEvent } : {}),
+    ...(options.progress ? { onDataEvent: dataProgressObserver({ stream: options.progress }) } : {}),
   }).catch((error: unknown) => {
     queue.check(dir);
     throw error;

@@ -1,4 +1,5 @@
 import path from 'node:path';
+import { dataProgressObserver } from '../report/data-progress.js';
 import { runStudy, type StudyOutcome } from '../runner/run-study.js';
 import { resolveObjective, type StudyDefinitionInput } from '../study/definition.js';
 import { loadStudy, studyFromObject } from '../study/load.js';
@@ -52,6 +53,7 @@ export async function run(options: RunCommandOptions): Promise<StudyOutcome> {
     ...(queue.signal ? { signal: queue.signal } : {}),
     ...(queue.transport ? { transport: queue.transport } : {}),
     ...(onEvent ? { onEvent } : {}),
+    ...(options.progress ? { onDataEvent: dataProgressObserver({ stream: options.progress }) } : {}),
   }).catch((error: unknown) => {
     queue.check(dir);
     throw error;

@@ -17,10 +17,18 @@ export interface DataHashes {
   test: string;
 }
 
-export async function dataHashes(csvFile: string, data: PreparedData): Promise<DataHashes> {
-  const csv = createHash('sha256');
-  for await (const chunk of createReadStream(csvFile)) csv.update(chunk as Buffer);
-  return { csv: `sha256:${csv.digest('hex')}`, trainAndValidation: datasetId(data), test: splitsHash(data.recipe, [data.test]) };
+/**
+ * `csvSha256` is the hash `prepareData` computed while it read the file (so the hash is of the very
+ * bytes the data came from); without it the file is read again.
+ */
+export async function dataHashes(csvFile: string, data: PreparedData, csvSha256?: string): Promise<DataHashes> {
+  let hex = csvSha256;
+  if (hex === undefined) {
+    const csv = createHash('sha256');
+    for await (const chunk of createReadStream(csvFile)) csv.update(chunk as Buffer);
+    hex = csv.digest('hex');
+  }
+  return { csv: `sha256:${hex}`, trainAndValidation: datasetId(data), test: splitsHash(data.recipe, [data.test]) };
 }
 
 function splitsHash(recipe: PreparedData['recipe'], splits: readonly SplitArrays[]): string {

@@ -13,3 +13,6 @@ export {
 } from './recipe.js';
 export { prepareData, toSharedDataset } from './prepare.js';
 export type { DataSummary, FeatureRecipe, PreparedData, PreprocessingRecipe, SplitArrays } from './types.js';
+export { streamCsv, type CsvDialect, type RecordSink, type StreamOptions } from './source.js';
+export { typeColumn, TEXT_SHARE_IN_NUMERIC, type ColumnReading } from './typing.js';
+export type { DataEvent, DataLoadOptions, DataObserver } from './events.js';

@@ -1,27 +1,37 @@
 import { stat } from 'node:fs/promises';
 import path from 'node:path';
+import { setImmediate as nextTurn } from 'node:timers/promises';
 import { UserError } from '../errors.js';
 import type { SharedDataset } from '../pool/messages.js';
 import type { DataSettings } from '../study/definition.js';
 import { didYouMean } from '../text/nearest.js';
-import { isMissing, parseNumber, readCsv, type CsvTable } from './csv.js';
-import { buildRecipe, columnKind, encodeFeatures, encodeTarget, sortLabels, type FeatureColumn } from './recipe.js';
+import { isMissing } from './csv.js';
+import { ColumnSink, type ColumnTable, type RawColumn } from './columns.js';
+import type { DataEvent, DataLoadOptions } from './events.js';
+import { buildColumnRecipe, encodeColumns, encodeTargetValues, sortLabels, type TargetValues } from './recipe.js';
+import { delimiterName, streamCsv } from './source.js';
 import { splitRows, splitSizes } from './split.js';
+import { categoricalValues, typeColumn } from './typing.js';
 import type { DataSummary, PreparedData, SplitArrays } from './types.js';
+import type { FeatureValues } from './values.js';
 
 function studyError(definitionFile: string, field: string, message: string): UserError {
   return new UserError('E_DATA', `${definitionFile}: ${field}: ${message}`);
 }
 
-/** The feature columns in use: the listed ones (checked against the CSV), else every column but the target. */
-function featureNames(settings: DataSettings, table: CsvTable, definitionFile: string): string[] {
-  if (settings.features === undefined) return table.columns.filter((name) => name !== settings.target);
+/** Column names for a message: all of a short header, the first 12 of a long one. */
+export function listColumns(columns: readonly string[]): string {
+  const shown = columns.slice(0, 12).join(', ');
+  return columns.length > 12 ? `${shown} and ${columns.length - 12} more` : shown;
+}
+
+/** The feature columns in use: the listed ones (checked against the header), else every column but the target. */
+function featureNames(settings: DataSettings, columns: readonly string[], csvFile: string, definitionFile: string): string[] {
+  if (settings.features === undefined) return columns.filter((name) => name !== settings.target);
   const seen = new Set<string>();
   settings.features.forEach((name, index) => {
     const field = `data.features[${index}]`;
-    if (!table.columns.includes(name)) {
-      throw studyError(definitionFile, field, `column '${name}' is not in ${table.file}${didYouMean(name, table.columns)} (columns: ${table.columns.join(', ')})`);
-    }
+    if (!columns.includes(name)) throw studyError(definitionFile, field, `column '${name}' is not in ${csvFile}${didYouMean(name, columns)} (columns: ${listColumns(columns)})`);
     if (name === settings.target) throw studyError(definitionFile, field, `'${name}' is the target column; a feature cannot also be the target`);
     if (seen.has(name)) throw studyError(definitionFile, field, `'${name}' is listed twice`);
     seen.add(name);
@@ -29,44 +39,78 @@ function featureNames(settings: DataSettings, table: CsvTable, definitionFile: s
   return [...settings.features];
 }
 
-/** Checks every target value against the task; returns the class labels (classification) in output order. */
-function checkTarget(settings: DataSettings, table: CsvTable, definitionFile: string): string[] | undefined {
-  const { target, task } = settings;
-  table.rows.forEach((row, r) => {
-    const value = row[target]!;
-    const where = `${table.file}: line ${table.lines[r]}: target '${target}'`;
-    // Rows without a target are reported rather than dropped: silently losing rows would change the data set.
-    if (isMissing(value)) throw new UserError('E_DATA', `${where} is missing; every row needs a target value (remove or fill the row)`);
-    if (task === 'regression' && parseNumber(value) === undefined) {
-      throw new UserError('E_DATA', `${where} holds '${value}', expected a number for task 'regression'`);
-    }
-  });
-  if (task === 'regression') return undefined;
+/** Checks the header against the settings before any row is read. */
+function checkHeader(settings: DataSettings, columns: readonly string[], csvFile: string, definitionFile: string): void {
+  const { target } = settings;
+  if (!columns.includes(target)) {
+    const hint = columns.length === 1 ? sniffHint(columns[0]!) : '';
+    throw studyError(definitionFile, 'data.target', `column '${target}' is not in ${csvFile} (columns: ${listColumns(columns)})${hint}`);
+  }
+  if (featureNames(settings, columns, csvFile, definitionFile).length === 0) {
+    throw studyError(definitionFile, 'data.features', `${csvFile} has no column besides the target '${target}'`);
+  }
+}
 
-  const classes = sortLabels(table.rows.map((row) => row[target]!));
+/** A one-column header that holds a space: the delimiter may be one rungwise does not try. */
+function sniffHint(header: string): string {
+  return / /.test(header) ? `; the header was read as one column: is the file delimited by spaces? Use ',', ';', tab or '|'` : '';
+}
+
+/** The target as read, with every row checked: a class label or a number in each row. */
+function readTarget(settings: DataSettings, table: ColumnTable, notes: string[]): TargetValues {
+  const { target, task } = settings;
+  const column = table.column.get(target)!;
+  const where = (row: number): string => `${table.file}: line ${table.lines[row]}: target '${target}'`;
+  // Rows without a target are reported rather than dropped: silently losing rows would change the data set.
+  const missing = (row: number): UserError => new UserError('E_DATA', `${where(row)} is missing; every row needs a target value (remove or fill the row)`);
+  if (task !== 'regression') {
+    const { values } = categoricalValues(column);
+    const row = values.codes.indexOf(-1);
+    if (row >= 0) throw missing(row);
+    return { kind: 'labels', codes: values.codes, labels: values.labels };
+  }
+  const reading = typeColumn(column, table.lines, table.file);
+  const values = reading.kind === 'numeric' ? reading.values.values : column.numbers;
+  const row = values.findIndex((value) => Number.isNaN(value));
+  if (row >= 0) {
+    const text = spellingAt(column, row);
+    if (isMissing(text)) throw missing(row);
+    throw new UserError('E_DATA', `${where(row)} holds '${text}', expected a number for task 'regression'`);
+  }
+  if (reading.kind === 'numeric') notes.push(...reading.notes);
+  return { kind: 'numbers', values };
+}
+
+/** The text of a cell kept as a spelling ('' when the cell is a number). */
+function spellingAt(column: RawColumn, row: number): string {
+  const position = column.spelledRows.indexOf(row);
+  return position < 0 ? '' : column.spellings[column.spelledCodes[position]!]!;
+}
+
+/** Class labels in output order and rows per class; checks them against the task and the split. */
+function checkClasses(
+  settings: DataSettings,
+  target: Extract<TargetValues, { kind: 'labels' }>,
+  file: string,
+  definitionFile: string,
+): { classes: string[]; counts: Record<string, number> } {
+  const { task } = settings;
+  const classes = sortLabels(target.labels);
   const found = `found ${classes.length} (${classes.slice(0, 10).join(', ')}${classes.length > 10 ? ', ...' : ''})`;
   if (classes.length < 2) {
-    throw studyError(definitionFile, 'data.target', `column '${target}' of ${table.file} has a single class (${classes[0]}); a classifier needs at least 2`);
+    throw studyError(definitionFile, 'data.target', `column '${settings.target}' of ${file} has a single class (${classes[0]}); a classifier needs at least 2`);
   }
   if (task === 'binary' && classes.length !== 2) {
-    throw studyError(definitionFile, 'data.task', `'binary' needs exactly 2 classes in column '${target}' of ${table.file}, ${found}; use 'multiclass'`);
+    throw studyError(definitionFile, 'data.task', `'binary' needs exactly 2 classes in column '${settings.target}' of ${file}, ${found}; use 'multiclass'`);
   }
   if (task === 'multiclass' && classes.length < 3) {
-    throw studyError(definitionFile, 'data.task', `'multiclass' needs at least 3 classes in column '${target}' of ${table.file}, ${found}; use 'binary'`);
+    throw studyError(definitionFile, 'data.task', `'multiclass' needs at least 3 classes in column '${settings.target}' of ${file}, ${found}; use 'binary'`);
   }
-  return classes;
-}
-
-function classCounts(table: CsvTable, target: string, classes: readonly string[]): Record<string, number> {
+  const perLabel = new Array<number>(target.labels.length).fill(0);
+  for (const code of target.codes) perLabel[code]!++;
   const counts: Record<string, number> = Object.fromEntries(classes.map((label) => [label, 0]));
-  for (const row of table.rows) counts[row[target]!]! += 1;
-  return counts;
-}
-
-function splitArrays(table: CsvTable, indices: readonly number[], encode: (rows: Record<string, string>[], lines: number[]) => { x: Float32Array; y: Float32Array }): SplitArrays {
-  const rows = indices.map((i) => table.rows[i]!);
-  const lines = indices.map((i) => table.lines[i]!);
-  return { rows: rows.length, ...encode(rows, lines), lines: Int32Array.from(lines) };
+  target.labels.forEach((label, code) => (counts[label] = perLabel[code]!));
+  return { classes, counts };
 }
 
 /** The CSV path for messages: relative to the working directory when inside it, else absolute. */
@@ -75,78 +119,137 @@ function displayPath(file: string): string {
   return relative !== '' && !relative.startsWith('..') && !path.isAbsolute(relative) ? relative : file;
 }
 
-/**
- * Reads the study's CSV (path relative to the definition file's folder), checks it against the
- * settings, splits it and encodes every split with a recipe built from the training split alone.
- * Rows whose target is missing are an error (naming the line), not silently dropped.
- * @throws UserError (E_DATA) with one line naming the study field or the CSV line.
- */
-export async function prepareData(settings: DataSettings, definitionFile: string): Promise<{ data: PreparedData; summary: DataSummary }> {
-  const csvFile = displayPath(path.resolve(path.dirname(definitionFile), settings.csv));
-  const found = await stat(csvFile).then(
-    () => true,
-    () => false,
-  );
-  if (!found) throw studyError(definitionFile, 'data.csv', `${csvFile} not found (the path is relative to the study file's folder)`);
-  const table = await readCsv(csvFile);
-  const { target, task } = settings;
-  if (!table.columns.includes(target)) {
-    throw studyError(definitionFile, 'data.target', `column '${target}' is not in ${table.file} (columns: ${table.columns.join(', ')})`);
-  }
-  const names = featureNames(settings, table, definitionFile);
-  if (names.length === 0) throw studyError(definitionFile, 'data.features', `${table.file} has no column besides the target '${target}'`);
-  const classes = checkTarget(settings, table, definitionFile);
+/** Lets a signal or a progress line through between long steps; stops when aborted. */
+async function checkpoint(signal: AbortSignal | undefined): Promise<void> {
+  signal?.throwIfAborted();
+  await nextTurn();
+  signal?.throwIfAborted();
+}
 
+/** Types every feature column; columns that turn out categorical after some number cells are read again as text. */
+async function readFeatures(
+  names: readonly string[],
+  table: ColumnTable,
+  context: { definitionFile: string; notes: string[]; options: DataLoadOptions; emit: (event: DataEvent) => void },
+): Promise<{ features: FeatureValues[]; missing: number }> {
+  const { definitionFile, notes, options, emit } = context;
+  const kinds = new Map<string, 'numeric' | 'categorical'>();
+  const reread: string[] = [];
+  for (const [done, name] of names.entries()) {
+    emit({ type: 'preparing', file: table.file, step: 'typing', done, total: names.length });
+    const reading = typeColumn(table.column.get(name)!, table.lines, table.file);
+    if (reading.kind === 'empty') {
+      throw studyError(definitionFile, 'data.features', `column '${name}' of ${table.file} has no value in any of its ${table.rows} rows; fill it or leave it out of data.features`);
+    }
+    notes.push(...reading.notes);
+    kinds.set(name, reading.kind);
+    if (reading.kind === 'categorical' && !reading.exact) reread.push(name);
+    if (done % 16 === 15) await checkpoint(options.signal);
+  }
+  if (reread.length > 0) {
+    const again = new ColumnSink(table.file, { only: new Set(reread), asText: new Set(reread) });
+    await streamCsv(table.file, again, options);
+    for (const [name, column] of again.table().column) table.column.set(name, column);
+  }
+  let missing = 0;
+  const features = names.map((name): FeatureValues => {
+    const column = table.column.get(name)!;
+    if (kinds.get(name) === 'numeric') {
+      for (const value of column.numbers) if (Number.isNaN(value)) missing++;
+      return { kind: 'numeric', name, values: column.numbers };
+    }
+    const read = categoricalValues(column);
+    missing += read.missing;
+    return read.values;
+  });
+  return { features, missing };
+}
+
+/**
+ * Reads the study's CSV (path relative to the definition file's folder) as a stream into typed
+ * columns, checks it against the settings, splits it and encodes every split with a recipe built
+ * from the training split alone. Rows whose target is missing are an error (naming the line), not
+ * silently dropped. How odd cells were read comes back as `notes` (also sent as 'note' events), and
+ * `csvSha256` is the SHA-256 of the CSV's bytes as they were read.
+ * @throws UserError (E_DATA) with one line naming the study field or the CSV line; the signal's reason when aborted.
+ */
+export async function prepareData(
+  settings: DataSettings,
+  definitionFile: string,
+  options: DataLoadOptions = {},
+): Promise<{ data: PreparedData; summary: DataSummary; notes: string[]; csvSha256: string }> {
+  const started = performance.now();
+  const emit = (event: DataEvent): void => options.onDataEvent?.(event);
+  const csvFile = displayPath(path.resolve(path.dirname(definitionFile), settings.csv));
+  const info = await stat(csvFile).catch(() => undefined);
+  if (info === undefined) throw studyError(definitionFile, 'data.csv', `${csvFile} not found (the path is relative to the study file's folder)`);
+  if (info.isDirectory()) throw studyError(definitionFile, 'data.csv', `${csvFile} is a directory; expected a CSV file (the path is relative to the study file's folder)`);
+
+  const sink = new ColumnSink(csvFile, {
+    asText: new Set(settings.task === 'regression' ? [] : [settings.target]),
+    totalBytes: info.size,
+    onHeader: (columns) => checkHeader(settings, columns, csvFile, definitionFile),
+  });
+  const dialect = await streamCsv(csvFile, sink, { ...(options.signal ? { signal: options.signal } : {}), onEvent: emit });
+  const table = sink.table();
+  const notes: string[] = [];
+  if (dialect.delimiter !== ',') notes.push(`${csvFile}: read with ${delimiterName(dialect.delimiter)} as the delimiter (the header line holds more of it than of ',')`);
+  await checkpoint(options.signal);
+
+  const target = readTarget(settings, table, notes);
+  const classes = target.kind === 'labels' ? checkClasses(settings, target, csvFile, definitionFile) : undefined;
+  const counts = classes?.counts;
   const fractions = { validationFraction: settings.validationFraction, testFraction: settings.testFraction };
-  let counts: Record<string, number> | undefined;
-  if (classes !== undefined) {
-    counts = classCounts(table, target, classes);
-    const splits = splitSizes({ rows: table.rows.length, ...fractions, file: table.file }).filter((size) => size > 0).length;
-    const small = classes.find((label) => counts![label]! < splits);
+  if (counts !== undefined) {
+    const splits = splitSizes({ rows: table.rows, ...fractions, file: csvFile }).filter((size) => size > 0).length;
+    const small = classes!.classes.find((label) => counts[label]! < splits);
     if (small !== undefined) {
       throw studyError(
         definitionFile,
         'data',
-        `class '${small}' of column '${target}' has ${counts[small]} row${counts[small] === 1 ? '' : 's'} in ${table.file}; ` +
+        `class '${small}' of column '${settings.target}' has ${counts[small]} row${counts[small] === 1 ? '' : 's'} in ${csvFile}; ` +
           `the stratified split into ${splits === 3 ? 'training, validation and test' : 'training and validation'} needs at least ${splits} rows of each class`,
       );
     }
   }
+  const names = featureNames(settings, table.columns, csvFile, definitionFile);
+  const { features, missing } = await readFeatures(names, table, { definitionFile, notes, options, emit });
 
+  emit({ type: 'preparing', file: csvFile, step: 'splitting', done: 0, total: 1 });
   const indices = splitRows({
-    rows: table.rows.length,
-    ...(classes === undefined ? {} : { strata: table.rows.map((row) => row[target]!) }),
+    rows: table.rows,
+    ...(target.kind === 'labels' ? { strata: Array.from(target.codes, (code) => target.labels[code]!) } : {}),
     ...fractions,
     splitSeed: settings.splitSeed,
-    file: table.file,
+    file: csvFile,
   });
-  const features: FeatureColumn[] = names.map((name) => ({ name, kind: columnKind(table.rows.map((row) => row[name]!)) }));
-  const recipe = buildRecipe({ task, target, features, trainingRows: indices.train.map((i) => table.rows[i]!) });
-  const encode = (rows: Record<string, string>[], lines: number[]): { x: Float32Array; y: Float32Array } => ({
-    x: encodeFeatures(recipe, rows, table.file, lines),
-    y: encodeTarget(recipe, rows.map((row) => row[target]!), table.file, lines),
-  });
+  const recipe = buildColumnRecipe({ task: settings.task, target: settings.target, features, targetValues: target, trainingRows: indices.train });
+  const splitArrays = async (rows: readonly number[], done: number): Promise<SplitArrays> => {
+    emit({ type: 'preparing', file: csvFile, step: 'encoding', done, total: 3 });
+    await checkpoint(options.signal);
+    return { rows: rows.length, x: encodeColumns(recipe, features, rows), y: encodeTargetValues(recipe, target, rows), lines: Int32Array.from(rows, (row) => table.lines[row]!) };
+  };
   const data: PreparedData = {
     recipe,
-    train: splitArrays(table, indices.train, encode),
-    validation: splitArrays(table, indices.validation, encode),
-    test: splitArrays(table, indices.test, encode),
+    train: await splitArrays(indices.train, 0),
+    validation: await splitArrays(indices.validation, 1),
+    test: await splitArrays(indices.test, 2),
   };
 
-  let missingValues = 0;
-  for (const row of table.rows) for (const name of names) if (isMissing(row[name]!)) missingValues++;
   const summary: DataSummary = {
-    file: table.file,
-    rows: table.rows.length,
+    file: csvFile,
+    rows: table.rows,
     columns: table.columns.length,
     trainRows: data.train.rows,
     validationRows: data.validation.rows,
     testRows: data.test.rows,
     inputCount: recipe.inputCount,
-    missingValues,
+    missingValues: missing,
   };
   if (counts !== undefined) summary.classCounts = counts;
-  return { data, summary };
+  for (const message of notes) emit({ type: 'note', file: csvFile, message });
+  emit({ type: 'ready', file: csvFile, rows: table.rows, columns: table.columns.length, seconds: (performance.now() - started) / 1000 });
+  return { data, summary, notes, csvSha256: dialect.sha256 ?? '' };
 }
 
 function shared(values: Float32Array): Float32Array {

@@ -1,7 +1,9 @@
 import { UserError } from '../errors.js';
 import type { Task } from '../study/definition.js';
 import { isMissing, parseNumber } from './csv.js';
+import { decimalCommaNumber, isNotFinite } from './typing.js';
 import type { FeatureRecipe, PreprocessingRecipe } from './types.js';
+import type { FeatureValues } from './values.js';
 
 /** How a feature column is typed: decided once over the whole file (a schema fact, not a statistic). */
 export interface FeatureColumn {
@@ -9,7 +11,7 @@ export interface FeatureColumn {
   kind: 'numeric' | 'categorical';
 }
 
-/** A column is numeric when every non-missing value is a finite decimal number; otherwise categorical. */
+/** A column is numeric when every non-missing value is a finite decimal number; otherwise categorical (the strict rule for row-wise input). */
 export function columnKind(values: Iterable<string>): FeatureColumn['kind'] {
   for (const value of values) {
     if (!isMissing(value) && parseNumber(value) === undefined) return 'categorical';
@@ -27,13 +29,151 @@ export function sortLabels(labels: Iterable<string>): string[] {
 }
 
 /** Mean and population standard deviation; std is 1 for a constant (or empty) column so encoding never divides by 0. */
-export function meanAndStd(values: readonly number[]): { mean: number; std: number } {
+export function meanAndStd(values: readonly number[] | Float64Array): { mean: number; std: number } {
   if (values.length === 0) return { mean: 0, std: 1 };
-  const mean = values.reduce((a, b) => a + b, 0) / values.length;
-  const variance = values.reduce((sum, v) => sum + (v - mean) ** 2, 0) / values.length;
-  const std = Math.sqrt(variance);
+  let total = 0;
+  for (const v of values) total += v;
+  const mean = total / values.length;
+  let squares = 0;
+  for (const v of values) squares += (v - mean) ** 2;
+  const std = Math.sqrt(squares / values.length);
   return { mean, std: std > 0 ? std : 1 };
 }
+
+/** The target as read: class labels (classification) or numbers (regression). */
+export type TargetValues = { kind: 'labels'; codes: Int32Array; labels: string[] } | { kind: 'numbers'; values: Float64Array };
+
+export interface ColumnRecipeOptions {
+  task: Task;
+  target: string;
+  features: readonly FeatureValues[];
+  targetValues: TargetValues;
+  /** Row indices of the TRAINING split, ascending: every statistic of the recipe comes from them. */
+  trainingRows: ArrayLike<number>;
+}
+
+function presentNumbers(values: Float64Array, rows: ArrayLike<number>): Float64Array {
+  const present: number[] = [];
+  for (let i = 0; i < rows.length; i++) {
+    const value = values[rows[i]!]!;
+    if (!Number.isNaN(value)) present.push(value);
+  }
+  return Float64Array.from(present);
+}
+
+/** Builds the preprocessing recipe from the training rows of typed columns, so validation and test rows never leak into it. */
+export function buildColumnRecipe(options: ColumnRecipeOptions): PreprocessingRecipe {
+  const { task, target, trainingRows, targetValues } = options;
+  const features: FeatureRecipe[] = options.features.map((column): FeatureRecipe => {
+    if (column.kind === 'numeric') return { kind: 'numeric', name: column.name, ...meanAndStd(presentNumbers(column.values, trainingRows)) };
+    const counts = new Map<string, number>();
+    for (let i = 0; i < trainingRows.length; i++) {
+      const code = column.codes[trainingRows[i]!]!;
+      if (code >= 0) counts.set(column.labels[code]!, (counts.get(column.labels[code]!) ?? 0) + 1);
+    }
+    const categories = [...counts.keys()].sort();
+    // Most frequent; ties go to the first in sorted order so the fill is stable.
+    let fill = categories[0] ?? '';
+    for (const category of categories) if (counts.get(category)! > counts.get(fill)!) fill = category;
+    return { kind: 'categorical', name: column.name, categories, fill };
+  });
+  const inputCount = features.reduce((total, f) => total + (f.kind === 'numeric' ? 1 : f.categories.length), 0);
+  const recipe: PreprocessingRecipe = { task, target, features, inputCount };
+  if (targetValues.kind === 'numbers') {
+    recipe.targetScaling = meanAndStd(Float64Array.from({ length: trainingRows.length }, (_, i) => targetValues.values[trainingRows[i]!]!));
+  } else {
+    const seen = new Set<string>();
+    for (let i = 0; i < trainingRows.length; i++) seen.add(targetValues.labels[targetValues.codes[trainingRows[i]!]!]!);
+    recipe.classes = sortLabels(seen);
+  }
+  return recipe;
+}
+
+/**
+ * Model inputs for the given rows of typed columns (row-major, `rows.length x recipe.inputCount`):
+ * numeric values standardised with the training mean and std (missing → training mean → 0),
+ * categories one-hot (missing → the training mode, unseen → all zeros). `features` follow the recipe's order.
+ */
+export function encodeColumns(recipe: PreprocessingRecipe, features: readonly FeatureValues[], rows: ArrayLike<number>): Float32Array {
+  const x = new Float32Array(rows.length * recipe.inputCount);
+  let offset = 0;
+  recipe.features.forEach((feature, f) => {
+    const column = features[f]!;
+    if (feature.kind === 'numeric' && column.kind === 'numeric') {
+      for (let r = 0; r < rows.length; r++) {
+        const value = column.values[rows[r]!]!;
+        if (!Number.isNaN(value)) x[r * recipe.inputCount + offset] = (value - feature.mean) / feature.std;
+      }
+      offset += 1;
+    } else if (feature.kind === 'categorical' && column.kind === 'categorical') {
+      const fill = feature.categories.indexOf(feature.fill);
+      const index = column.labels.map((label) => feature.categories.indexOf(label));
+      for (let r = 0; r < rows.length; r++) {
+        const code = column.codes[rows[r]!]!;
+        const hot = code < 0 ? fill : index[code]!;
+        if (hot >= 0) x[r * recipe.inputCount + offset + hot] = 1;
+      }
+      offset += feature.categories.length;
+    } else {
+      throw new Error(`column '${feature.name}' is ${column.kind} but the recipe says ${feature.kind}`);
+    }
+  });
+  return x;
+}
+
+/** Model targets for the given rows: the class index (classification) or the standardised value (regression). */
+export function encodeTargetValues(recipe: PreprocessingRecipe, target: TargetValues, rows: ArrayLike<number>): Float32Array {
+  const y = new Float32Array(rows.length);
+  if (target.kind === 'numbers') {
+    const { mean, std } = recipe.targetScaling ?? { mean: 0, std: 1 };
+    for (let r = 0; r < rows.length; r++) y[r] = (target.values[rows[r]!]! - mean) / std;
+    return y;
+  }
+  const index = target.labels.map((label) => recipe.classes?.indexOf(label) ?? -1);
+  for (let r = 0; r < rows.length; r++) y[r] = index[target.codes[rows[r]!]!]!;
+  return y;
+}
+
+// Row-wise input (predictions, small tables): adapters onto the column functions above.
+
+function lineOf(lines: readonly number[] | undefined, index: number): number {
+  // Without line numbers, assume one line per row after a header on line 1.
+  return lines?.[index] ?? index + 2;
+}
+
+function labelsOf(values: readonly string[], missingIs: (value: string) => boolean): { codes: Int32Array; labels: string[] } {
+  const labels: string[] = [];
+  const index = new Map<string, number>();
+  const codes = Int32Array.from(values, (value) => {
+    if (missingIs(value)) return -1;
+    let code = index.get(value);
+    if (code === undefined) index.set(value, (code = labels.push(value) - 1));
+    return code;
+  });
+  return { codes, labels };
+}
+
+/**
+ * A numeric column of row-wise input read as the column typing reads one (README, "How the CSV is
+ * read"): decimal commas when no number of the column has a point, non-finite values as missing;
+ * `otherwise` decides for any other cell.
+ */
+function numericCells(cells: readonly string[], otherwise: (value: string, r: number) => number): Float64Array {
+  const points = cells.some((value) => value.includes('.') && parseNumber(value) !== undefined);
+  return Float64Array.from(cells, (value, r) => {
+    if (isMissing(value) || isNotFinite(value)) return Number.NaN;
+    const number = parseNumber(value) ?? (points ? undefined : decimalCommaNumber(value));
+    return number ?? otherwise(value, r);
+  });
+}
+
+function rowValues(feature: FeatureColumn, rows: readonly Record<string, string>[], otherwise: (value: string, r: number) => number): FeatureValues {
+  const cells = rows.map((row) => row[feature.name] ?? '');
+  if (feature.kind === 'numeric') return { kind: 'numeric', name: feature.name, values: numericCells(cells, otherwise) };
+  return { kind: 'categorical', name: feature.name, ...labelsOf(cells, isMissing) };
+}
+
+const allRows = (count: number): Int32Array => Int32Array.from({ length: count }, (_, i) => i);
 
 export interface RecipeOptions {
   task: Task;
@@ -43,44 +183,22 @@ export interface RecipeOptions {
   trainingRows: readonly Record<string, string>[];
 }
 
-/** Builds the preprocessing recipe from the training rows alone, so validation and test rows never leak into it. */
+/** Builds the preprocessing recipe from training rows given as records (see {@link buildColumnRecipe}). */
 export function buildRecipe(options: RecipeOptions): PreprocessingRecipe {
   const { task, target, trainingRows } = options;
-  const features: FeatureRecipe[] = options.features.map((column): FeatureRecipe => {
-    const present = trainingRows.map((row) => row[column.name] ?? '').filter((value) => !isMissing(value));
-    if (column.kind === 'numeric') {
-      return { kind: 'numeric', name: column.name, ...meanAndStd(present.map((value) => parseNumber(value)!)) };
-    }
-    const counts = new Map<string, number>();
-    // Values are compared as parsed: csv-parse already trimmed unquoted cells, quoted text is kept as written.
-    for (const value of present) counts.set(value, (counts.get(value) ?? 0) + 1);
-    const categories = [...counts.keys()].sort();
-    // Most frequent; ties go to the first in sorted order so the fill is stable.
-    let fill = categories[0] ?? '';
-    for (const category of categories) if (counts.get(category)! > counts.get(fill)!) fill = category;
-    return { kind: 'categorical', name: column.name, categories, fill };
-  });
-  const inputCount = features.reduce((sum, f) => sum + (f.kind === 'numeric' ? 1 : f.categories.length), 0);
-  const recipe: PreprocessingRecipe = { task, target, features, inputCount };
+  const features = options.features.map((feature) => rowValues(feature, trainingRows, () => Number.NaN));
   const targets = trainingRows.map((row) => row[target] ?? '');
-  if (task === 'regression') recipe.targetScaling = meanAndStd(targets.map((value) => parseNumber(value) ?? Number.NaN));
-  else recipe.classes = sortLabels(targets);
-  return recipe;
-}
-
-function lineOf(lines: readonly number[] | undefined, index: number): number {
-  // Without line numbers, assume one line per row after a header on line 1.
-  return lines?.[index] ?? index + 2;
+  const targetValues: TargetValues =
+    task === 'regression' ? { kind: 'numbers', values: Float64Array.from(targets, (value) => parseNumber(value) ?? Number.NaN) } : { kind: 'labels', ...labelsOf(targets, () => false) };
+  return buildColumnRecipe({ task, target, features, targetValues, trainingRows: allRows(trainingRows.length) });
 }
 
 /**
- * Turns raw rows into model inputs (row-major, `rows.length x recipe.inputCount`): numeric values
- * standardised with the training mean and std (missing → training mean → 0), categories one-hot
- * (missing → the training mode, unseen → all zeros). Extra columns are ignored.
+ * Turns raw rows into model inputs with {@link encodeColumns}; numeric cells are read as a study reads
+ * them (decimal commas, non-finite values as missing). Extra columns are ignored.
  * @throws UserError (E_DATA) when a recipe column is absent or a numeric cell holds text.
  */
 export function encodeFeatures(recipe: PreprocessingRecipe, rows: readonly Record<string, string>[], file: string, lines?: readonly number[]): Float32Array {
-  const x = new Float32Array(rows.length * recipe.inputCount);
   const first = rows[0];
   if (first !== undefined) {
     const absent = recipe.features.filter((f) => !Object.hasOwn(first, f.name)).map((f) => f.name);
@@ -91,28 +209,12 @@ export function encodeFeatures(recipe: PreprocessingRecipe, rows: readonly Recor
       );
     }
   }
-  rows.forEach((row, r) => {
-    let offset = r * recipe.inputCount;
-    for (const feature of recipe.features) {
-      const value = row[feature.name] ?? '';
-      if (feature.kind === 'numeric') {
-        if (!isMissing(value)) {
-          const number = parseNumber(value);
-          if (number === undefined) {
-            throw new UserError('E_DATA', `${file}: line ${lineOf(lines, r)}: column '${feature.name}' holds '${value}', expected a number or a missing value`);
-          }
-          x[offset] = (number - feature.mean) / feature.std;
-        }
-        offset += 1;
-      } else {
-        const category = isMissing(value) ? feature.fill : value;
-        const index = feature.categories.indexOf(category);
-        if (index >= 0) x[offset + index] = 1;
-        offset += feature.categories.length;
-      }
-    }
-  });
-  return x;
+  const features = recipe.features.map((feature) =>
+    rowValues(feature, rows, (value, r) => {
+      throw new UserError('E_DATA', `${file}: line ${lineOf(lines, r)}: column '${feature.name}' holds '${value}', expected a number or a missing value`);
+    }),
+  );
+  return encodeColumns(recipe, features, allRows(rows.length));
 }
 
 /**
@@ -120,21 +222,17 @@ export function encodeFeatures(recipe: PreprocessingRecipe, rows: readonly Recor
  * @throws UserError (E_DATA) naming the line for a missing value, an unknown class or a non-numeric regression target.
  */
 export function encodeTarget(recipe: PreprocessingRecipe, values: readonly string[], file: string, lines?: readonly number[]): Float32Array {
-  const y = new Float32Array(values.length);
   values.forEach((raw, r) => {
     const where = `${file}: line ${lineOf(lines, r)}: target '${recipe.target}'`;
     if (isMissing(raw)) throw new UserError('E_DATA', `${where} is missing; every row needs a target value`);
-    if (recipe.targetScaling !== undefined) {
-      const number = parseNumber(raw);
-      if (number === undefined) throw new UserError('E_DATA', `${where} holds '${raw}', expected a number for a regression task`);
-      y[r] = (number - recipe.targetScaling.mean) / recipe.targetScaling.std;
-    } else {
-      const index = recipe.classes?.indexOf(raw) ?? -1;
-      if (index < 0) throw new UserError('E_DATA', `${where} holds '${raw}', expected one of the classes ${(recipe.classes ?? []).join(', ')}`);
-      y[r] = index;
+    if (recipe.targetScaling !== undefined && parseNumber(raw) === undefined) throw new UserError('E_DATA', `${where} holds '${raw}', expected a number for a regression task`);
+    if (recipe.targetScaling === undefined && !(recipe.classes ?? []).includes(raw)) {
+      throw new UserError('E_DATA', `${where} holds '${raw}', expected one of the classes ${(recipe.classes ?? []).join(', ')}`);
     }
   });
-  return y;
+  const target: TargetValues =
+    recipe.targetScaling !== undefined ? { kind: 'numbers', values: Float64Array.from(values, (value) => parseNumber(value)!) } : { kind: 'labels', ...labelsOf(values, () => false) };
+  return encodeTargetValues(recipe, target, allRows(values.length));
 }
 
 /** A standardised regression output back in the target's own units (identity without scaling). */

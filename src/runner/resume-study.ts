@@ -1,3 +1,4 @@
+import type { DataLoadOptions } from '../data/events.js';
 import { rankTrials } from '../study/objective.js';
 import { studyStoppedError } from '../errors.js';
 import { lockStudy } from '../store/lock.js';
@@ -15,7 +16,7 @@ export interface ResumeOutcome extends StudyOutcome {
  * (from their last rung checkpoint where there is one), and the sampler is rebuilt from the store.
  * For random search, successive halving and Hyperband the end result equals an uninterrupted run.
  */
-export interface ResumeOptions extends ExecuteOptions {
+export interface ResumeOptions extends ExecuteOptions, Pick<DataLoadOptions, 'onDataEvent'> {
   /** Go on although the CSV changed since the study started; the study file records it. @default false */
   allowChangedData?: boolean;
 }
@@ -30,7 +31,12 @@ export async function resumeStudy(dir: string, options: ResumeOptions = {}): Pro
     if (doc.state === 'finished') {
       return { dir: store.dir, file: store.file, doc, ranking: rankTrials(doc.trials, doc.objective), alreadyFinished: true };
     }
-    const data = await studyData(doc, store.file, { command: 'resume', allowChangedData: options.allowChangedData ?? false });
+    const data = await studyData(doc, store.file, {
+      command: 'resume',
+      allowChangedData: options.allowChangedData ?? false,
+      ...(options.signal ? { signal: options.signal } : {}),
+      ...(options.onDataEvent ? { onDataEvent: options.onDataEvent } : {}),
+    });
     return { ...(await executeStudy(store, data, options)), alreadyFinished: false };
   } catch (error) {
     throw studyStoppedError(error, dir) ?? error;

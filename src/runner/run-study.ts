@@ -3,14 +3,16 @@ import { mkdir, readdir, rm } from 'node:fs/promises';
 import path from 'node:path';
 import { dataHashes } from '../data/dataset-id.js';
 import { prepareData } from '../data/index.js';
+import type { DataLoadOptions } from '../data/events.js';
 import { UserError, studyStoppedError } from '../errors.js';
+import { checkCapacity } from '../study/capacity.js';
 import { resolveObjective } from '../study/definition.js';
 import { loadStudy, type LoadedStudy } from '../study/load.js';
 import { LOCK_FILES, lockStudy } from '../store/lock.js';
 import { StudyStore, studyFilePath } from '../store/study-store.js';
 import { executeStudy, type ExecuteOptions, type StudyOutcome } from './execute-study.js';
 
-export interface RunOptions extends ExecuteOptions {
+export interface RunOptions extends ExecuteOptions, Pick<DataLoadOptions, 'onDataEvent'> {
   /** Run directory. @default `runs/<study name>` under the current directory */
   out?: string;
   /** Replace a run directory that already holds a study. @default false */
@@ -24,7 +26,12 @@ export interface RunOptions extends ExecuteOptions {
  */
 export async function runStudy(study: string | LoadedStudy, options: RunOptions = {}): Promise<StudyOutcome> {
   const { definition, file } = typeof study === 'string' ? await loadStudy(study) : study;
-  const { data, summary } = await prepareData(definition.data, file);
+  const { data, summary, csvSha256 } = await prepareData(definition.data, file, {
+    ...(options.signal ? { signal: options.signal } : {}),
+    ...(options.onDataEvent ? { onDataEvent: options.onDataEvent } : {}),
+  });
+  const outputCount = data.recipe.task === 'multiclass' ? (data.recipe.classes?.length ?? 0) : 1;
+  checkCapacity({ definition, inputCount: data.recipe.inputCount, outputCount, ...(options.workers !== undefined ? { workers: options.workers } : {}) }, file);
   const dir = path.resolve(options.out ?? path.join('runs', definition.name));
   const lock = await mkdir(dir, { recursive: true })
     .then(() => lockStudy(dir))
@@ -52,7 +59,7 @@ export async function runStudy(study: string | LoadedStudy, options: RunOptions 
       createdAt: now,
       updatedAt: now,
       trials: [],
-      dataHashes: await dataHashes(path.resolve(path.dirname(file), definition.data.csv), data),
+      dataHashes: await dataHashes(path.resolve(path.dirname(file), definition.data.csv), data, csvSha256),
     });
     return await executeStudy(store, data, options);
   } catch (error) {

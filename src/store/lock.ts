@@ -67,8 +67,13 @@ export async function lockStudy(dir: string): Promise<StudyLock> {
       await rm(path.join(dir, LOCK_NAME), { recursive: true, force: true });
       release = await acquire(dir);
       tookOverFrom = owner;
+    } else if (!owner) {
+      throw new UserError(
+        'E_STUDY_LOCKED',
+        `${dir}: the study is locked (${LOCK_NAME}) but no process is named as its owner (${OWNER_NAME} is missing): another rungwise may be starting on it, or one stopped while taking the lock; if none is running, delete ${path.join(dir, LOCK_NAME)} and try again`,
+      );
     } else {
-      const who = owner ? `process ${owner.pid} on ${owner.host}, since ${owner.since}` : 'another process';
+      const who = `process ${owner.pid} on ${owner.host}, since ${owner.since}`;
       throw new UserError('E_STUDY_LOCKED', `${dir}: the study is in use by ${who}; wait for it to finish or stop it first`);
     }
   }

@@ -1,6 +1,7 @@
 import path from 'node:path';
 import { isDeepStrictEqual } from 'node:util';
 import { dataHashes } from '../data/dataset-id.js';
+import type { DataLoadOptions } from '../data/events.js';
 import { prepareData } from '../data/index.js';
 import type { PreparedData } from '../data/types.js';
 import { UserError } from '../errors.js';
@@ -11,7 +12,7 @@ export function studyCsvPath(doc: Pick<StudyDocument, 'definition' | 'definition
   return path.resolve(path.dirname(doc.definitionFile), doc.definition.data.csv);
 }
 
-export interface StudyDataOptions {
+export interface StudyDataOptions extends DataLoadOptions {
   /** Go on although the CSV's content hash differs from the recorded one (recorded in `doc.dataChanges`). @default false */
   allowChangedData?: boolean;
   /** The command that asked, for the record, e.g. `resume`. */
@@ -27,8 +28,11 @@ export interface StudyDataOptions {
  */
 export async function studyData(doc: StudyDocument, studyFile: string, options: StudyDataOptions): Promise<PreparedData> {
   const csv = studyCsvPath(doc);
-  const { data } = await prepareData(doc.definition.data, doc.definitionFile);
-  const hashes = await dataHashes(csv, data);
+  const { data, csvSha256 } = await prepareData(doc.definition.data, doc.definitionFile, {
+    ...(options.signal ? { signal: options.signal } : {}),
+    ...(options.onDataEvent ? { onDataEvent: options.onDataEvent } : {}),
+  });
+  const hashes = await dataHashes(csv, data, csvSha256);
   if (doc.dataHashes && hashes.csv !== doc.dataHashes.csv) {
     if (!options.allowChangedData) {
       throw new UserError(

@@ -10,6 +10,7 @@ import {
   type MetricName,
   type StudyDefinition,
 } from './definition.js';
+import { utf16Kind } from '../text/encoding.js';
 import { formatIssue } from './issues.js';
 
 export interface LoadedStudy {
@@ -85,13 +86,18 @@ export function validateStudy(raw: unknown, file: string): StudyDefinition {
 /** Read, parse and validate a study definition file. Throws a {@link UserError} on any problem. */
 export async function loadStudy(file: string): Promise<LoadedStudy> {
   const absolute = path.resolve(file);
-  let text: string;
+  let bytes: Buffer;
   try {
-    text = await readFile(absolute, 'utf8');
+    bytes = await readFile(absolute);
   } catch (error) {
     const reason = (error as NodeJS.ErrnoException).code === 'ENOENT' ? 'no such file' : (error as Error).message;
     throw new UserError('E_STUDY_FILE', `${file}: cannot read the study definition (${reason})`);
   }
+  const utf16 = utf16Kind(bytes.subarray(0, 4));
+  if (utf16 !== undefined) throw new UserError('E_STUDY_JSON', `${file}: is ${utf16} text; save the study definition as UTF-8`);
+  // A byte order mark is not JSON, but editors write one; it is dropped as it is for a CSV.
+  let text = bytes.toString('utf8');
+  if (text.startsWith('\ufeff')) text = text.slice(1);
   if (text.trim() === '') throw new UserError('E_STUDY_JSON', `${file}: the file is empty; expected a JSON study definition`);
   // A NUL byte never occurs in JSON text; name the likely cause instead of a JSON parse code.
   const nul = text.indexOf('\u0000');
