@@ -10,7 +10,7 @@ import { plot } from '../src/commands/plot.js';
 const CHROMIUM = '/usr/bin/chromium';
 const ROOT = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '..');
 const FIXTURE = path.join(ROOT, 'test/fixtures/studies/hyperband-generated.json');
-const SCREENSHOT = path.join(ROOT, 'test-output/report.png');
+const SCREENSHOTS = path.join(ROOT, 'test-output');
 
 // Under CI the lead's script installs chromium, so a missing browser there is a failure, not a skip.
 const runsHere = existsSync(CHROMIUM) || (process.env.CI ?? '') !== '';
@@ -36,34 +36,54 @@ describe.runIf(runsHere)('report.html in headless Chromium', () => {
     if (dir) await rm(dir, { recursive: true, force: true });
   });
 
-  it('opens offline with no console errors, requests nothing but itself, and draws marks in every chart', async () => {
-    const page = await browser.newPage({ viewport: { width: 1200, height: 900 } });
-    const errors: string[] = [];
-    const requests: string[] = [];
-    page.on('console', (message) => {
-      if (message.type() === 'error') errors.push(message.text());
+  for (const width of [1400, 800]) {
+    it(`opens offline at ${width} px with no console errors, requests nothing but itself, draws marks in every chart and cuts nothing off`, async () => {
+      const page = await browser.newPage({ viewport: { width, height: 900 } });
+      const errors: string[] = [];
+      const requests: string[] = [];
+      page.on('console', (message) => {
+        if (message.type() === 'error') errors.push(message.text());
+      });
+      page.on('pageerror', (error) => errors.push(error.message));
+      page.on('request', (request) => requests.push(request.url()));
+
+      await page.goto(reportUrl, { waitUntil: 'load' });
+
+      expect(errors).toEqual([]);
+      expect(requests).toEqual([reportUrl]);
+      const marksPerChart = await page.$$eval('section.chart', (sections) =>
+        sections.map((section) => ({
+          id: section.id,
+          marks: section.querySelectorAll('svg g.role-mark > path, svg g.role-mark > line, svg g.role-mark > text, svg g.role-mark > rect').length,
+        })),
+      );
+      expect(marksPerChart.map((c) => c.id)).toEqual([
+        'chart-budget',
+        'chart-rung-budget',
+        'chart-rung-agreement',
+        'chart-importance',
+        'chart-good-values',
+        'chart-learning-curves',
+      ]);
+      for (const chart of marksPerChart) expect(chart.marks, chart.id).toBeGreaterThan(0);
+      expect(await page.textContent('body')).toContain('judge the chosen model on the held-out test split');
+      // The winner's star is in the table and in every chart that shows trials.
+      expect(await page.textContent('table.top tr.winner')).toContain('★');
+
+      // Nothing is cut off: the page does not scroll sideways and every chart and table fits the window.
+      const overflow = await page.evaluate(() => ({
+        page: document.documentElement.scrollWidth - window.innerWidth,
+        boxes: [...document.querySelectorAll('figure svg, table')].map((el) => Math.ceil(el.getBoundingClientRect().right) - window.innerWidth).filter((over) => over > 0),
+      }));
+      expect(overflow.page).toBeLessThanOrEqual(0);
+      expect(overflow.boxes).toEqual([]);
+
+      await mkdir(SCREENSHOTS, { recursive: true });
+      const screenshot = path.join(SCREENSHOTS, `report-${width}.png`);
+      await page.screenshot({ path: screenshot, fullPage: true });
+      expect(existsSync(screenshot)).toBe(true);
     });
-    page.on('pageerror', (error) => errors.push(error.message));
-    page.on('request', (request) => requests.push(request.url()));
-
-    await page.goto(reportUrl, { waitUntil: 'load' });
-
-    expect(errors).toEqual([]);
-    expect(requests).toEqual([reportUrl]);
-    const marksPerChart = await page.$$eval('section.chart', (sections) =>
-      sections.map((section) => ({
-        id: section.id,
-        marks: section.querySelectorAll('svg g.role-mark > path, svg g.role-mark > line, svg g.role-mark > text').length,
-      })),
-    );
-    expect(marksPerChart.map((c) => c.id)).toEqual(['chart-progress', 'chart-learning-curves', 'chart-parameters', 'chart-parallel', 'chart-rungs']);
-    for (const chart of marksPerChart) expect(chart.marks, chart.id).toBeGreaterThan(0);
-    expect(await page.textContent('body')).toContain('judge the chosen model on the held-out test split');
-
-    await mkdir(path.dirname(SCREENSHOT), { recursive: true });
-    await page.screenshot({ path: SCREENSHOT, fullPage: true });
-    expect(existsSync(SCREENSHOT)).toBe(true);
-  });
+  }
 });
 
 if (!runsHere) {

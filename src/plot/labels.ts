@@ -1,5 +1,5 @@
 import type { MetricName, Objective, SamplerKind, TrialParams } from '../study/definition.js';
-import type { StudyDocument, TrialStatus } from '../store/types.js';
+import type { StudyDocument } from '../store/types.js';
 
 /** Metric names as a reader says them, with units where the metric has one. */
 const METRIC_LABELS: Record<MetricName, string> = {
@@ -22,31 +22,6 @@ export function objectiveLabel(objective: Objective): string {
 /** "validation AUC", without the direction, for legends and short titles. */
 export function metricLabel(metric: MetricName): string {
   return metric === 'validationLoss' ? METRIC_LABELS.validationLoss : `validation ${METRIC_LABELS[metric]}`;
-}
-
-/** Statuses in legend order, each with a fixed colour so every chart agrees. */
-const STATUS_COLOURS: readonly (readonly [TrialStatus, string])[] = [
-  ['completed', '#2f6fb3'],
-  ['stopped', '#9aa4b1'],
-  ['running', '#3a9a5b'],
-  ['paused', '#8fc79f'],
-  ['diverged', '#d64541'],
-  ['failed', '#7d4fc2'],
-  ['timed-out', '#e07b24'],
-];
-
-/** Colour of a status the list above does not know (a study file written by a newer version). */
-const OTHER_STATUS_COLOUR = '#555b63';
-
-/** Colour scale for the statuses that occur: known ones in a fixed order, then any others. */
-export function statusScale(statuses: Iterable<string>): { domain: string[]; range: string[] } {
-  const present = new Set(statuses);
-  const used = STATUS_COLOURS.filter(([status]) => present.delete(status));
-  const others = [...present].sort();
-  return {
-    domain: [...used.map(([status]) => status), ...others],
-    range: [...used.map(([, colour]) => colour), ...others.map(() => OTHER_STATUS_COLOUR)],
-  };
 }
 
 const HALVING_KINDS: ReadonlySet<SamplerKind> = new Set(['successive-halving', 'hyperband', 'async-halving', 'tpe-hyperband']);

@@ -73,6 +73,8 @@ export function objectiveAtEpoch(trial: TrialRecord, study: StudyDocument, epoch
 export interface ParameterImportance {
   key: keyof TrialParams;
   title: string;
+  /** A few words, for crowded places. */
+  shortTitle: string;
   share: number;
   kind: 'continuous' | 'choice';
   /** The forest's marginal: the predicted objective at each value, the other hyperparameters averaged out. */
@@ -120,7 +122,7 @@ export function studyImportance(study: StudyDocument): StudyImportance | undefin
     const worst = marginal.reduce((w, m) => (beats(w, m.objective, direction) ? m.objective : w), marginal[0]!.objective);
     const threshold = best + (worst - best) * 0.25;
     const good = marginal.filter((m) => (direction === 'maximize' ? m.objective >= threshold : m.objective <= threshold)).map((m) => m.value);
-    return { key: c.axis.key, title: c.axis.title, share: effect.share, kind: c.input.kind, marginal, good };
+    return { key: c.axis.key, title: c.axis.title, shortTitle: c.axis.shortTitle, share: effect.share, kind: c.input.kind, marginal, good };
   });
   return { epoch, configurations: scored.length, parameters: parameters.sort((a, b) => b.share - a.share) };
 }
