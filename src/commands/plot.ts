@@ -1,4 +1,4 @@
-import { existsSync, unwatchFile, watchFile } from 'node:fs';
+import { existsSync, statSync, unwatchFile, watchFile } from 'node:fs';
 import { writeFile } from 'node:fs/promises';
 import path from 'node:path';
 import { studyImportance } from '../plot/analysis/study-importance.js';
@@ -80,10 +80,12 @@ async function drawOnce(options: PlotOptions, out: string): Promise<string[]> {
  */
 export async function plot(options: PlotOptions): Promise<{ files: string[] }> {
   const out = path.resolve(options.out ?? path.join(options.dir, 'plots'));
+  const studyFile = studyFilePath(options.dir);
+  const modifiedAt = (): number => (existsSync(studyFile) ? statSync(studyFile).mtimeMs : 0);
+  const drawnFrom = modifiedAt();
   let files = await drawOnce(options, out);
   options.onWritten?.(files);
   if (!options.watch || options.signal?.aborted) return { files };
-  const studyFile = studyFilePath(options.dir);
   await new Promise<void>((resolve, reject) => {
     let drawing: Promise<void> | undefined;
     let again = false;
@@ -122,6 +124,8 @@ export async function plot(options: PlotOptions): Promise<{ files: string[] }> {
     };
     watchFile(studyFile, { interval: options.pollMilliseconds ?? 2000, persistent: true }, listener);
     options.signal?.addEventListener('abort', finish, { once: true });
+    // A change while the first report was being drawn.
+    if (modifiedAt() !== drawnFrom) redraw();
   });
   return { files };
 }

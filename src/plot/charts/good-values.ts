@@ -48,7 +48,7 @@ export function goodValuesChart(study: StudyDocument, importance: StudyImportanc
       field: 'value',
       type: xType,
       title: parameter.title,
-      ...(continuous ? { scale: { type: log ? ('log' as const) : ('linear' as const), zero: false, nice: false } } : { sort: parameter.marginal.map((m) => String(m.value)), axis: { labelAngle: 0 } }),
+      ...(continuous ? { scale: log ? { type: 'log' as const, nice: false } : { type: 'linear' as const, zero: false, nice: false } } : { sort: parameter.marginal.map((m) => String(m.value)), axis: { labelAngle: 0 } }),
     };
     const y = { field: 'objective', type: 'quantitative' as const, title: `${metric} at epoch ${importance.epoch}`, scale: { zero: false } };
     const asText = (rows: { value: string | number }[]) => (continuous ? rows : rows.map((r) => ({ ...r, value: String(r.value) })));
