@@ -5,11 +5,13 @@ import path from 'node:path';
 import { fileURLToPath, pathToFileURL } from 'node:url';
 import { chromium, type Browser } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { compare } from '../src/commands/compare.js';
 import { plot } from '../src/commands/plot.js';
 
 const CHROMIUM = '/usr/bin/chromium';
 const ROOT = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '..');
 const FIXTURE = path.join(ROOT, 'test/fixtures/studies/hyperband-generated.json');
+const OTHER_FIXTURE = path.join(ROOT, 'test/fixtures/studies/random-five.json');
 const SCREENSHOTS = path.join(ROOT, 'test-output');
 
 // Under CI the lead's script installs chromium, so a missing browser there is a failure, not a skip.
@@ -19,12 +21,17 @@ describe.runIf(runsHere)('report.html in headless Chromium', () => {
   let dir: string;
   let browser: Browser;
   let reportUrl: string;
+  let comparisonUrl: string;
 
   beforeAll(async () => {
     dir = await mkdtemp(path.join(tmpdir(), 'rungwise-plot-browser-'));
     await copyFile(FIXTURE, path.join(dir, 'study.json'));
     const { files } = await plot({ dir });
     reportUrl = pathToFileURL(files.find((f) => f.endsWith('report.html'))!).href;
+    await mkdir(path.join(dir, 'other'));
+    await copyFile(OTHER_FIXTURE, path.join(dir, 'other', 'study.json'));
+    const compared = await compare({ dirs: [dir, path.join(dir, 'other')] });
+    comparisonUrl = pathToFileURL(compared.files.find((f) => f.endsWith('report.html'))!).href;
     browser = await chromium.launch({
       executablePath: CHROMIUM,
       args: ['--headless', '--no-sandbox', '--disable-gpu', '--disable-quic', '--no-first-run', '--disable-background-networking', '--disable-component-update', '--disable-sync'],
@@ -36,8 +43,23 @@ describe.runIf(runsHere)('report.html in headless Chromium', () => {
     if (dir) await rm(dir, { recursive: true, force: true });
   });
 
+  const pages = [
+    {
+      page: 'report',
+      url: () => reportUrl,
+      charts: ['chart-budget', 'chart-rung-budget', 'chart-rung-agreement', 'chart-importance', 'chart-good-values', 'chart-learning-curves'],
+      table: 'table.top',
+    },
+    {
+      page: 'comparison',
+      url: () => comparisonUrl,
+      charts: ['chart-budget', 'chart-rung-budget', 'chart-rung-agreement-1', 'chart-importance', 'chart-learning-curves-1', 'chart-learning-curves-2'],
+      table: 'table.side-by-side',
+    },
+  ];
+  for (const { page: pageName, url, charts, table } of pages)
   for (const width of [1400, 800]) {
-    it(`opens offline at ${width} px with no console errors, requests nothing but itself, draws marks in every chart and cuts nothing off`, async () => {
+    it(`${pageName}: opens offline at ${width} px with no console errors, requests nothing but itself, draws marks in every chart and cuts nothing off`, async () => {
       const page = await browser.newPage({ viewport: { width, height: 900 } });
       const errors: string[] = [];
       const requests: string[] = [];
@@ -47,28 +69,22 @@ describe.runIf(runsHere)('report.html in headless Chromium', () => {
       page.on('pageerror', (error) => errors.push(error.message));
       page.on('request', (request) => requests.push(request.url()));
 
-      await page.goto(reportUrl, { waitUntil: 'load' });
+      await page.goto(url(), { waitUntil: 'load' });
 
       expect(errors).toEqual([]);
-      expect(requests).toEqual([reportUrl]);
+      expect(requests).toEqual([url()]);
       const marksPerChart = await page.$$eval('section.chart', (sections) =>
         sections.map((section) => ({
           id: section.id,
           marks: section.querySelectorAll('svg g.role-mark > path, svg g.role-mark > line, svg g.role-mark > text, svg g.role-mark > rect').length,
         })),
       );
-      expect(marksPerChart.map((c) => c.id)).toEqual([
-        'chart-budget',
-        'chart-rung-budget',
-        'chart-rung-agreement',
-        'chart-importance',
-        'chart-good-values',
-        'chart-learning-curves',
-      ]);
+      expect(marksPerChart.map((c) => c.id)).toEqual(charts);
       for (const chart of marksPerChart) expect(chart.marks, chart.id).toBeGreaterThan(0);
       expect(await page.textContent('body')).toContain('judge the chosen model on the held-out test split');
       // The winner's star is in the table and in every chart that shows trials.
-      expect(await page.textContent('table.top tr.winner')).toContain('★');
+      if (pageName === 'report') expect(await page.textContent('table.top tr.winner')).toContain('★');
+      expect(await page.$(table)).not.toBeNull();
 
       // Nothing is cut off: the page does not scroll sideways and every chart and table fits the window.
       const overflow = await page.evaluate(() => ({
@@ -79,7 +95,7 @@ describe.runIf(runsHere)('report.html in headless Chromium', () => {
       expect(overflow.boxes).toEqual([]);
 
       await mkdir(SCREENSHOTS, { recursive: true });
-      const screenshot = path.join(SCREENSHOTS, `report-${width}.png`);
+      const screenshot = path.join(SCREENSHOTS, `${pageName}-${width}.png`);
       await page.screenshot({ path: screenshot, fullPage: true });
       expect(existsSync(screenshot)).toBe(true);
     });

@@ -4,6 +4,7 @@ import { run } from '../commands/run.js';
 import { ranking } from '../commands/ranking.js';
 import { resume } from '../commands/resume.js';
 import { plot } from '../commands/plot.js';
+import { compare } from '../commands/compare.js';
 import { exportModel, exportReport } from '../commands/export.js';
 import { predict, predictReport } from '../commands/predict.js';
 import { interruptSignal } from './interrupt.js';
@@ -77,10 +78,23 @@ export function buildProgram(write: (text: string) => void): Command {
     .description('draw charts and an offline HTML report from a saved study file')
     .argument('<dir>', 'run directory')
     .option('--out <dir>', 'folder for the charts (default: <dir>/plots)')
-    .action(async (dir: string, flags: { out?: string }) => {
-      const { files } = await plot({ dir, ...flags });
-      const report = files.find((f) => f.endsWith('report.html'));
-      write(`wrote ${files.length} files${report ? `; open ${report}` : ''}\n`);
+    .option('--watch', 'draw the report again each time the study file changes, until Ctrl-C')
+    .action(async (dir: string, flags: { out?: string; watch?: boolean }) => {
+      const stop = new AbortController();
+      if (flags.watch) process.once('SIGINT', () => stop.abort());
+      const said = (files: string[]): void => write(`wrote ${files.length} files; open ${files.find((f) => f.endsWith('report.html'))}\n`);
+      const { files } = await plot({ dir, ...flags, signal: stop.signal, ...(flags.watch ? { onWritten: said } : {}) });
+      if (!flags.watch) said(files);
+    });
+
+  program
+    .command('compare')
+    .description('answer the report\'s questions for several studies side by side')
+    .argument('<dirs...>', 'two or more run directories')
+    .option('--out <dir>', 'folder for the comparison report (default: <first dir>/comparison)')
+    .action(async (dirs: string[], flags: { out?: string }) => {
+      const { table, files } = await compare({ dirs, ...flags });
+      write(`${table}\n\nopen ${files.find((f) => f.endsWith('report.html'))}\n`);
     });
 
   program

@@ -2,6 +2,7 @@ import { formatNumber } from '../report/format.js';
 import type { StudyDocument, TrialRecord } from '../store/types.js';
 import { OPTIMISM_CAUTION } from '../report/caution.js';
 import { objectiveLabel } from './labels.js';
+import { escapeHtml } from './html.js';
 import { WINNER_SYMBOL } from './palette.js';
 import { topConfigurations } from './top-table.js';
 import { bestTrial } from './winner.js';
@@ -15,9 +16,6 @@ export interface RenderedChart {
   svg: string;
 }
 
-function escapeHtml(text: string): string {
-  return text.replace(/[&<>"']/g, (c) => `&#${c.charCodeAt(0)};`);
-}
 
 /**
  * Several SVGs in one page share one id namespace: vega names clip paths and gradients the same
