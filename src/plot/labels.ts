@@ -38,7 +38,7 @@ export interface ParameterAxis {
   key: keyof TrialParams;
   /** Axis title in plain words, with the unit or scale. */
   title: string;
-  /** A few words for crowded places (the parallel-coordinates axes). */
+  /** A few words for crowded places (the importance bars). */
   shortTitle: string;
   kind: AxisKind;
   /** Category order for ordinal and nominal axes (the search space's own order when known). */

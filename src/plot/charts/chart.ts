@@ -2,7 +2,7 @@ import type { TopLevelSpec } from 'vega-lite';
 
 /** One chart of the report: a file name, a heading, and its Vega-Lite specification with data inlined. */
 export interface Chart {
-  /** File stem, e.g. `progress` for `progress.svg`. */
+  /** File stem, e.g. `budget` for `budget.svg`. */
   name: string;
   /** Heading in the report. */
   title: string;
