@@ -87,10 +87,11 @@ describe.runIf(runsHere)('report.html in headless Chromium', () => {
       expect(await page.$(table)).not.toBeNull();
 
       // Nothing is cut off: the page does not scroll sideways and every chart and table fits the window.
-      const overflow = await page.evaluate(() => ({
+      // Written as page source: the test project is typed for Node, without the DOM.
+      const overflow = (await page.evaluate(`({
         page: document.documentElement.scrollWidth - window.innerWidth,
         boxes: [...document.querySelectorAll('figure svg, table')].map((el) => Math.ceil(el.getBoundingClientRect().right) - window.innerWidth).filter((over) => over > 0),
-      }));
+      })`)) as { page: number; boxes: number[] };
       expect(overflow.page).toBeLessThanOrEqual(0);
       expect(overflow.boxes).toEqual([]);
 
