@@ -4,7 +4,7 @@ import { robustDomain } from '../data.js';
 import { objectiveLabel } from '../labels.js';
 import { BUDGET_END, WINNER_MARK, studyColour } from '../palette.js';
 import { bestTrial } from '../winner.js';
-import { CHART_CONFIG, VEGA_LITE_SCHEMA, type Chart } from './chart.js';
+import { titledChart, type Chart } from './chart.js';
 
 /**
  * The leader's objective against the epochs spent, one line per study, with each study's planned
@@ -30,48 +30,38 @@ export function budgetChart(studies: readonly StudyDocument[]): Chart | null {
   const x = { field: 'epochsSpent', type: 'quantitative' as const, title: 'epochs trained so far, all trials together', scale: { domainMin: 0 } };
   const y = { field: 'objective', type: 'quantitative' as const, title: objectiveLabel(objective), scale: domain ? { zero: false, domain, clamp: true } : { zero: false } };
   const title = 'Best configuration so far against compute spent';
-  return {
-    name: 'budget',
-    title,
-    spec: {
-      $schema: VEGA_LITE_SCHEMA,
-      title: {
-        text: title,
-        subtitle: [
-          "The line is the ranking's leader after each job ended (more epochs rank first, so the line may step down when a",
-          'longer-trained configuration takes the lead). Dashed: the epochs the sampler planned. Star: where the winner took the lead.',
-        ],
+  return titledChart('budget', title, [
+    "The line is the ranking's leader after each job ended (more epochs rank first, so the line may step down when a",
+    'longer-trained configuration takes the lead). Dashed: the epochs the sampler planned. Star: where the winner took the lead.',
+  ], {
+    width: 560,
+    height: 280,
+    layer: [
+      {
+        data: { values: rows },
+        mark: { type: 'line', interpolate: 'step-after', strokeWidth: 2 },
+        encoding: { x, y, color },
       },
-      width: 560,
-      height: 280,
-      layer: [
-        {
-          data: { values: rows },
-          mark: { type: 'line', interpolate: 'step-after', strokeWidth: 2 },
-          encoding: { x, y, color },
-        },
-        {
-          data: { values: rows },
-          mark: { type: 'point', filled: true, size: 28 },
-          encoding: { x, y, color, tooltip: [{ field: 'label', type: 'nominal' }] },
-        },
-        { data: { values: rows }, transform: [{ filter: 'datum.winner' }], mark: WINNER_MARK, encoding: { x, y } },
-        ...(budgets.length > 0
-          ? [
-              {
-                data: { values: budgets },
-                mark: { type: 'rule' as const, strokeDash: [5, 4], color: BUDGET_END },
-                encoding: { x: { field: 'epochs', type: 'quantitative' as const } },
-              },
-              {
-                data: { values: budgets },
-                mark: { type: 'text' as const, align: 'right' as const, baseline: 'top' as const, dx: -4, y: 4, color: BUDGET_END, fontSize: 11 },
-                encoding: { x: { field: 'epochs', type: 'quantitative' as const }, text: { field: 'label', type: 'nominal' as const } },
-              },
-            ]
-          : []),
-      ],
-      config: CHART_CONFIG,
-    },
-  };
+      {
+        data: { values: rows },
+        mark: { type: 'point', filled: true, size: 28 },
+        encoding: { x, y, color, tooltip: [{ field: 'label', type: 'nominal' }] },
+      },
+      { data: { values: rows }, transform: [{ filter: 'datum.winner' }], mark: WINNER_MARK, encoding: { x, y } },
+      ...(budgets.length > 0
+        ? [
+            {
+              data: { values: budgets },
+              mark: { type: 'rule' as const, strokeDash: [5, 4], color: BUDGET_END },
+              encoding: { x: { field: 'epochs', type: 'quantitative' as const } },
+            },
+            {
+              data: { values: budgets },
+              mark: { type: 'text' as const, align: 'right' as const, baseline: 'top' as const, dx: -4, y: 4, color: BUDGET_END, fontSize: 11 },
+              encoding: { x: { field: 'epochs', type: 'quantitative' as const }, text: { field: 'label', type: 'nominal' as const } },
+            },
+          ]
+        : []),
+    ],
+  });
 }

@@ -3,7 +3,7 @@ import { rankTrials } from '../../study/objective.js';
 import { curveRows, robustDomain } from '../data.js';
 import { metricLabel } from '../labels.js';
 import { FADED, INK, WINNER_MARK, studyColour } from '../palette.js';
-import { CHART_CONFIG, VEGA_LITE_SCHEMA, type Chart } from './chart.js';
+import { titledChart, type Chart } from './chart.js';
 
 /** Configurations drawn in colour and named; the rest are context. */
 export const HIGHLIGHTED_CURVES = 5;
@@ -47,34 +47,24 @@ export function learningCurvesChart(study: StudyDocument, colourIndex = 0, name 
     mark: { type: 'line' as const, color, strokeWidth: width, opacity },
     encoding: { x, y, detail: { field: 'trialId', type: 'nominal' as const }, order: { field: 'epoch', type: 'quantitative' as const } },
   });
-  return {
-    name,
-    title,
-    spec: {
-      $schema: VEGA_LITE_SCHEMA,
-      title: {
-        text: title,
-        subtitle: [
-          `Coloured and named: the top ${HIGHLIGHTED_CURVES} of the ranking (#1, the winner, in black with a star); grey: every other trial.`,
-          ...(domain ? ['Far-out values are drawn at the edge of the axis, so one run-away trial does not flatten the rest.'] : []),
-        ],
+  return titledChart(name, title, [
+    `Coloured and named: the top ${HIGHLIGHTED_CURVES} of the ranking (#1, the winner, in black with a star); grey: every other trial.`,
+    ...(domain ? ['Far-out values are drawn at the edge of the axis, so one run-away trial does not flatten the rest.'] : []),
+  ], {
+    width: 560,
+    height: 300,
+    data: { values: rows },
+    layer: [
+      line('other', FADED, 1, 0.8),
+      line('top', studyColour(colourIndex), 2, 0.95),
+      line('winner', INK, 2.5, 1),
+      { transform: [{ filter: "datum.last && datum.group == 'top'" }], mark: { type: 'point' as const, filled: true, size: 30, color: studyColour(colourIndex) }, encoding: { x, y } },
+      { transform: [{ filter: "datum.last && datum.group == 'winner'" }], mark: WINNER_MARK, encoding: { x, y } },
+      {
+        data: { values: labels },
+        mark: { type: 'text' as const, align: 'left' as const, dx: 8, fontSize: 10, color: INK },
+        encoding: { x: { ...x, field: 'epoch' }, y: { ...y, field: 'labelAt' }, text: { field: 'label', type: 'nominal' as const } },
       },
-      width: 560,
-      height: 300,
-      data: { values: rows },
-      layer: [
-        line('other', FADED, 1, 0.8),
-        line('top', studyColour(colourIndex), 2, 0.95),
-        line('winner', INK, 2.5, 1),
-        { transform: [{ filter: "datum.last && datum.group == 'top'" }], mark: { type: 'point' as const, filled: true, size: 30, color: studyColour(colourIndex) }, encoding: { x, y } },
-        { transform: [{ filter: "datum.last && datum.group == 'winner'" }], mark: WINNER_MARK, encoding: { x, y } },
-        {
-          data: { values: labels },
-          mark: { type: 'text' as const, align: 'left' as const, dx: 8, fontSize: 10, color: INK },
-          encoding: { x: { ...x, field: 'epoch' }, y: { ...y, field: 'labelAt' }, text: { field: 'label', type: 'nominal' as const } },
-        },
-      ],
-      config: CHART_CONFIG,
-    },
-  };
+    ],
+  });
 }

@@ -3,7 +3,7 @@ import { objectiveAtEpoch, type StudyImportance } from '../analysis/study-import
 import { metricLabel } from '../labels.js';
 import { FADED, GOOD_REGION, INK, WINNER_MARK, studyColour } from '../palette.js';
 import { bestTrial } from '../winner.js';
-import { CHART_CONFIG, VEGA_LITE_SCHEMA, type Chart } from './chart.js';
+import { titledChart, type Chart } from './chart.js';
 
 /** Hyperparameters drawn in the good-values chart: the most important ones. */
 export const GOOD_VALUE_PANELS = 3;
@@ -70,21 +70,11 @@ export function goodValuesChart(study: StudyDocument, importance: StudyImportanc
       ],
     };
   });
-  return {
-    name: 'good-values',
-    title,
-    spec: {
-      $schema: VEGA_LITE_SCHEMA,
-      title: {
-        text: title,
-        subtitle: [
-          `Grey: each configuration's ${metric} at epoch ${importance.epoch}. Line: the forest's prediction at that value with the other hyperparameters averaged out.`,
-          'Shaded: where that prediction is in the better quarter of its range. Star: the winner.',
-        ],
-      },
-      columns: 3,
-      concat: panels,
-      config: CHART_CONFIG,
-    },
-  };
+  return titledChart('good-values', title, [
+    `Grey: each configuration's ${metric} at epoch ${importance.epoch}. Line: the forest's prediction at that value with the other hyperparameters averaged out.`,
+    'Shaded: where that prediction is in the better quarter of its range. Star: the winner.',
+  ], {
+    columns: 3,
+    concat: panels,
+  });
 }

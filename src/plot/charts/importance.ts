@@ -1,7 +1,7 @@
 import type { StudyDocument } from '../../store/types.js';
 import { FEWEST_FOR_IMPORTANCE, type StudyImportance } from '../analysis/study-importance.js';
 import { studyColour } from '../palette.js';
-import { CHART_CONFIG, VEGA_LITE_SCHEMA, type Chart } from './chart.js';
+import { titledChart, type Chart } from './chart.js';
 
 /**
  * Each hyperparameter's share of the objective's variance (main effects of a random forest's
@@ -18,34 +18,24 @@ export function importanceChart(studies: readonly StudyDocument[], importances: 
   const epochs = [...new Set(importances.flatMap((imp) => (imp ? [imp.epoch] : [])))];
   const several = studies.length > 1;
   const title = 'Which hyperparameters matter';
-  return {
-    name: 'importance',
-    title,
-    spec: {
-      $schema: VEGA_LITE_SCHEMA,
-      title: {
-        text: title,
-        subtitle: [
-          `Share of the variance of the objective at epoch ${epochs.join(' / ')} that each hyperparameter explains alone (functional ANOVA main effects`,
-          `of a random forest fitted to the configurations; Hutter, Hoos and Leyton-Brown, 2014). The rest is interactions. At least ${FEWEST_FOR_IMPORTANCE} configurations.`,
-        ],
-      },
-      width: 460,
-      height: { step: several ? 14 : 22 },
-      data: { values: rows },
-      encoding: {
-        y: { field: 'parameter', type: 'nominal', title: null, sort: order, axis: { labelLimit: 220 } },
-        x: { field: 'share', type: 'quantitative', title: 'share of the variance explained alone', axis: { format: '.0%' }, scale: { domain: [0, 1] } },
-        ...(several ? { yOffset: { field: 'study', type: 'nominal' as const, sort: names } } : {}),
-      },
-      layer: [
-        {
-          mark: { type: 'bar', height: { band: several ? 0.9 : 0.7 } },
-          encoding: { color: { field: 'study', type: 'nominal', title: 'study', scale: { domain: names, range: names.map((_, i) => studyColour(i)) }, legend: several ? {} : null } },
-        },
-        { mark: { type: 'text', align: 'left', dx: 4, fontSize: 10 }, encoding: { text: { field: 'percent', type: 'nominal' } } },
-      ],
-      config: CHART_CONFIG,
+  return titledChart('importance', title, [
+    `Share of the variance of the objective at epoch ${epochs.join(' / ')} that each hyperparameter explains alone (functional ANOVA main effects`,
+    `of a random forest fitted to the configurations; Hutter, Hoos and Leyton-Brown, 2014). The rest is interactions. At least ${FEWEST_FOR_IMPORTANCE} configurations.`,
+  ], {
+    width: 460,
+    height: { step: several ? 14 : 22 },
+    data: { values: rows },
+    encoding: {
+      y: { field: 'parameter', type: 'nominal', title: null, sort: order, axis: { labelLimit: 220 } },
+      x: { field: 'share', type: 'quantitative', title: 'share of the variance explained alone', axis: { format: '.0%' }, scale: { domain: [0, 1] } },
+      ...(several ? { yOffset: { field: 'study', type: 'nominal' as const, sort: names } } : {}),
     },
-  };
+    layer: [
+      {
+        mark: { type: 'bar', height: { band: several ? 0.9 : 0.7 } },
+        encoding: { color: { field: 'study', type: 'nominal', title: 'study', scale: { domain: names, range: names.map((_, i) => studyColour(i)) }, legend: several ? {} : null } },
+      },
+      { mark: { type: 'text', align: 'left', dx: 4, fontSize: 10 }, encoding: { text: { field: 'percent', type: 'nominal' } } },
+    ],
+  });
 }

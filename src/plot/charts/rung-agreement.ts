@@ -3,7 +3,7 @@ import { rungAgreements, rungStandings } from '../analysis/rung-agreement.js';
 import { isHalving } from '../labels.js';
 import { FADED, INK, WINNER_MARK, rungScale } from '../palette.js';
 import { bestTrial } from '../winner.js';
-import { CHART_CONFIG, VEGA_LITE_SCHEMA, type Chart } from './chart.js';
+import { titledChart, type Chart } from './chart.js';
 
 /** "rho 0.80 (5)", or "too few" when fewer than three configurations were scored at both rungs. */
 export function agreementText(rho: number, configurations: number): string {
@@ -57,21 +57,11 @@ export function rungAgreementChart(study: StudyDocument): Chart | null {
       ],
     };
   };
-  return {
-    name: 'rung-agreement',
-    title,
-    spec: {
-      $schema: VEGA_LITE_SCHEMA,
-      title: {
-        text: title,
-        subtitle: [
-          "Each line is one configuration's place among those scored at a rung; between rungs, Spearman's rho of the promoted",
-          "configurations' places (1: the earlier rung ordered them as the later did) and how many there were. Star: the winner.",
-        ],
-      },
-      columns: 2,
-      concat: brackets.map(panel),
-      config: { ...CHART_CONFIG, concat: { spacing: 28 } },
-    },
-  };
+  return titledChart('rung-agreement', title, [
+    "Each line is one configuration's place among those scored at a rung; between rungs, Spearman's rho of the promoted",
+    "configurations' places (1: the earlier rung ordered them as the later did) and how many there were. Star: the winner.",
+  ], {
+    columns: 2,
+    concat: brackets.map(panel),
+  }, { concat: { spacing: 28 } });
 }
