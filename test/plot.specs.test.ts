@@ -108,9 +108,14 @@ describe('learning curves', () => {
     expect(JSON.stringify(chart.spec)).toContain(studyColour(0));
   });
 
-  it('moves end labels apart so that none overlaps the next', () => {
-    const labels = endLabels([{ value: 0.9 }, { value: 0.899 }, { value: 0.5 }], [0, 1.5]);
-    expect(labels.map((l) => l.labelAt)).toEqual([0.9, 0.8, 0.5]);
+  it('moves end labels at the same epoch apart so that none overlaps the next', () => {
+    const labels = endLabels([{ value: 0.9, epoch: 9 }, { value: 0.899, epoch: 9 }, { value: 0.5, epoch: 9 }, { value: 0.898, epoch: 3 }], [0, 1.5]);
+    expect(labels.map((l) => [l.epoch, l.labelAt])).toEqual([
+      [3, 0.898],
+      [9, 0.9],
+      [9, 0.8],
+      [9, 0.5],
+    ]);
   });
 });
 

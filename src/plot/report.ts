@@ -79,10 +79,11 @@ h2 { font-size: 18px; margin: 34px 0 6px; border-top: 1px solid #d0d4d9; padding
 p { font-size: 14px; line-height: 1.45; max-width: 900px; }
 table { border-collapse: collapse; font-size: 13px; }
 th, td { text-align: left; vertical-align: top; padding: 4px 12px 4px 0; border-bottom: 1px solid #e3e6ea; }
-th { font-weight: 600; white-space: nowrap; }
+th { font-weight: 600; }
+th[scope="row"] { white-space: nowrap; }
 .scroll { overflow-x: auto; max-width: 100%; }
-table.top th { white-space: nowrap; }
-table.top td:last-child { min-width: 200px; }
+table.top th, table.top td { padding-right: 8px; }
+table.top td:last-child { min-width: 150px; }
 table.top tr.winner td { font-weight: 600; }
 .caution { background: #fff6e0; border-left: 4px solid #e0a526; padding: 8px 12px; font-size: 14px; }
 section.chart { margin-top: 18px; }

@@ -9,16 +9,17 @@ import { titledChart, type Chart } from './chart.js';
 export const HIGHLIGHTED_CURVES = 5;
 
 /**
- * Names at the curves' ends, moved apart vertically so that none overlaps the next: at least a
- * fifteenth of the axis between neighbours, the highest staying where it is.
+ * Names at the curves' ends, moved apart vertically so that none overlaps the next one ending at the
+ * same epoch: at least a fifteenth of the axis between neighbours, the highest staying where it is.
  */
-export function endLabels<T extends { value: number }>(ends: readonly T[], [low, high]: [number, number]): (T & { labelAt: number })[] {
+export function endLabels<T extends { value: number; epoch: number }>(ends: readonly T[], [low, high]: [number, number]): (T & { labelAt: number })[] {
   const gap = (high - low) / 15;
-  const sorted = [...ends].sort((a, b) => b.value - a.value);
-  let previous = Number.POSITIVE_INFINITY;
+  const sorted = [...ends].sort((a, b) => a.epoch - b.epoch || b.value - a.value);
+  let previous: { epoch: number; labelAt: number } | undefined;
   return sorted.map((end) => {
-    const labelAt = Math.min(Math.min(Math.max(end.value, low), high), previous - gap);
-    previous = labelAt;
+    const within = Math.min(Math.max(end.value, low), high);
+    const labelAt = previous && previous.epoch === end.epoch ? Math.min(within, previous.labelAt - gap) : within;
+    previous = { epoch: end.epoch, labelAt };
     return { ...end, labelAt };
   });
 }
