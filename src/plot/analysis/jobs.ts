@@ -1,5 +1,6 @@
 import type { StudyDocument, TrialRecord, TrialStatus } from '../../store/types.js';
 import { objectiveAt } from '../../study/objective.js';
+import { isUnsuccessful } from '../../study/trial-status.js';
 
 /** One job of a trial as the report reads it: the epochs it trained and where it left the trial. */
 export interface JobSpent {
@@ -27,7 +28,7 @@ export interface JobSpent {
 export function rungEndEpochs(study: StudyDocument): Map<number, number[]> {
   const ends = new Map<number, number[]>();
   for (const trial of study.trials) {
-    if (trial.status === 'diverged' || trial.status === 'failed' || trial.status === 'timed-out' || trial.status === 'running') continue;
+    if (isUnsuccessful(trial.status) || trial.status === 'running') continue;
     const row = ends.get(trial.bracket) ?? [];
     row[trial.rung] = Math.max(row[trial.rung] ?? 0, trial.epochsTrained);
     ends.set(trial.bracket, row);
@@ -57,7 +58,7 @@ function jobSpans(trial: TrialRecord, rungEnds: Map<number, number[]>): JobSpan[
   for (let rung = 0; rung <= top; rung++) {
     const last = rung === top;
     const to = last ? Math.max(trial.epochsTrained, from) : (ends[rung] ?? from);
-    const result: JobSpan['result'] = last && (trial.status === 'diverged' || trial.status === 'failed' || trial.status === 'timed-out') ? trial.status : 'completed';
+    const result = last && isUnsuccessful(trial.status) ? (trial.status as JobSpan['result']) : 'completed';
     spans.push({ rung, fromEpoch: from, toEpoch: to, result });
     from = to;
   }
