@@ -32,7 +32,7 @@ describe('rungwise compare', () => {
     expect(table).toContain('winner');
     expect(table).toMatch(/trial 48: auc 0\.9473 after 27 epochs\s+trial 5: auc 0\.86 after 3 epochs/);
     expect(table).toContain('328 epochs of 357 planned (92%)');
-    expect(table).toContain('one rung (random search)');
+    expect(table).toContain('one rung (no halving)');
     expect(files.map((f) => path.basename(f))).toContain('report.html');
     expect(path.dirname(files[0]!)).toBe(path.join(a, 'comparison'));
     const html = await readFile(files.find((f) => f.endsWith('report.html'))!, 'utf8');

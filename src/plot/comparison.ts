@@ -13,7 +13,7 @@ import { OPTIMISM_CAUTION } from '../report/caution.js';
 import { studyColour } from './palette.js';
 
 /** The rows of the side-by-side table: what each row says, and where in a digest it is. */
-const DIGEST_ROWS: readonly [string, keyof StudyDigest][] = [
+const DIGEST_ROWS: readonly [string, Exclude<keyof StudyDigest, 'halving'>][] = [
   ['sampler', 'sampler'],
   ['winner', 'winner'],
   ['compute spent', 'spent'],

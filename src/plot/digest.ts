@@ -12,6 +12,8 @@ import { bestTrial } from './winner.js';
 export interface StudyDigest {
   name: string;
   sampler: string;
+  /** Whether the sampler stops configurations at rungs. */
+  halving: boolean;
   winner: string;
   spent: string;
   winnerFound: string;
@@ -41,10 +43,11 @@ export function studyDigest(study: StudyDocument, importance: StudyImportance | 
   return {
     name: study.name,
     sampler: study.definition.sampler.kind,
+    halving,
     winner: winner ? `trial ${winner.id}: ${study.objective.metric} ${formatNumber(winner.objective)} after ${winner.epochsTrained} epochs` : 'none yet',
     spent: `${spent.epochs} epochs${planned ? ` of ${planned} planned (${percent(spent.epochs / planned)})` : ''}, ${formatNumber(spent.workerSeconds)} worker-seconds`,
     winnerFound: crowned && spent.epochs > 0 ? `after ${crowned.epochsSpent} epochs (${percent(crowned.epochsSpent / spent.epochs)} of those spent)` : '-',
-    rungShares: halving ? [...byRung].map(([rung, share]) => `rung ${rung} ${percent(share)}`).join(', ') : 'one rung (random search)',
+    rungShares: halving ? [...byRung].map(([rung, share]) => `rung ${rung} ${percent(share)}`).join(', ') : 'one rung (no halving)',
     rungAgreement: halving && agreements.length > 0 ? agreements.map((a) => `b${a.bracket} r${a.fromRung}>${a.fromRung + 1}: ${agreementText(a.rho, a.configurations)}`).join('; ') : '-',
     winnerAtRungs: standings.length > 0 ? standings.map((s) => `${s.place} of ${s.of} at rung ${s.rung}`).join(', ') : '-',
     importance: importance ? importance.parameters.slice(0, 3).map((p) => `${p.key} ${percent(p.share)}`).join(', ') : 'too few configurations',
@@ -58,7 +61,7 @@ export function digestFindings(digest: StudyDigest): Map<string, string[]> {
   const findings = new Map<string, string[]>();
   findings.set(budget!, [
     `Spent ${digest.spent}. The winner took the lead ${digest.winnerFound}.`,
-    ...(digest.sampler === 'random' ? [] : [`Compute by rung: ${digest.rungShares}.`]),
+    ...(digest.halving ? [`Compute by rung: ${digest.rungShares}.`] : []),
   ]);
   if (digest.rungAgreement !== '-') findings.set(rungs!, [`Agreement between consecutive rungs (b: bracket, r: rung): ${digest.rungAgreement}.`, `The winner stood ${digest.winnerAtRungs}.`]);
   findings.set(importance!, [`Largest shares of the objective's variance: ${digest.importance}.`]);
