@@ -58,6 +58,28 @@ describe('budget spent', () => {
     expect(plannedEpochs(halvingNine)).toBe(21);
   });
 
+  it('counts recorded jobs by their epochs, a job that trained again from epoch 0 in full', () => {
+    const study = structuredClone(halvingNine);
+    const winner = study.trials.find((t) => t.id === 5)!;
+    // Rung 1 continued from the checkpoint (epochs 2..3); rung 2 found its checkpoint lost and trained 1..9 again.
+    winner.jobs = [
+      { rung: 0, fromEpoch: 0, toEpoch: 1, fromCheckpoint: false, attempts: 1, status: 'completed' },
+      { rung: 1, fromEpoch: 1, toEpoch: 3, fromCheckpoint: true, attempts: 1, status: 'completed' },
+      { rung: 2, fromEpoch: 0, toEpoch: 9, fromCheckpoint: false, attempts: 1, status: 'completed' },
+    ];
+    const jobs = studyJobs(study).filter((j) => j.trialId === 5);
+    expect(jobs.map((j) => [j.rung, j.epochs, j.objective])).toEqual([
+      [0, 1, 0.38],
+      [1, 2, 0.34],
+      [2, 9, 0.22],
+    ]);
+    // 21 epochs as planned, and 3 more for the rung-2 job that started again from epoch 0.
+    expect(computeSpent(study).epochs).toBe(24);
+    // A job still running has not ended: it spends nothing yet and scores nothing.
+    winner.jobs[2]!.status = 'running';
+    expect(studyJobs(study).filter((j) => j.trialId === 5)).toHaveLength(2);
+  });
+
   it("ends the leader's replay at the study's rank 1", () => {
     for (const study of [randomFive, halvingNine, hyperband]) {
       const steps = leaderSteps(study);
