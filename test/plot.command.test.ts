@@ -1,3 +1,4 @@
+import { readFileSync, writeFileSync } from 'node:fs';
 import { copyFile, mkdtemp, readdir, readFile, rm, writeFile } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
 import path from 'node:path';
@@ -17,10 +18,53 @@ afterEach(async () => {
 });
 
 describe('rungwise plot', () => {
+  it('opens a version 1 study file and answers each question from it, leaving the file as it was', async () => {
+    await copyFile(fixturePath('hyperband-generated'), path.join(dir, 'study.json'));
+    const before = await readFile(path.join(dir, 'study.json'), 'utf8');
+    expect(JSON.parse(before)).toMatchObject({ version: 1 });
+    await plot({ dir });
+    const html = await readFile(path.join(dir, 'plots', 'report.html'), 'utf8');
+    for (const heading of ['Which configuration should I ship', 'Was the budget well spent?', 'Did the early rungs judge well?', 'Which hyperparameters matter', 'What did training look like?']) {
+      expect(html).toContain(heading);
+    }
+    // Hyperband, 27 epochs, eta 3: brackets of 27/9/3/1, 12/4/1, 6/2 and 4 configurations plan 357 epochs (derived from Algorithm 1 of Li et al., JMLR 2018).
+    expect(html).toContain('of 357 planned');
+    expect(await readFile(path.join(dir, 'study.json'), 'utf8')).toBe(before);
+  });
+
+  it('draws the report again when the study file changes under --watch, never writing the study file', async () => {
+    await copyFile(fixturePath('halving-nine'), path.join(dir, 'study.json'));
+    const controller = new AbortController();
+    const written: string[] = [];
+    let changed = '';
+    const watching = plot({
+      dir,
+      watch: true,
+      pollMilliseconds: 20,
+      signal: controller.signal,
+      onWritten: (files) => {
+        const html = readFileSync(files.find((f) => f.endsWith('report.html'))!, 'utf8');
+        written.push(html);
+        if (written.length === 1) {
+          // The first report is out: a trial finishes elsewhere and the study file is rewritten.
+          const study = JSON.parse(readFileSync(path.join(dir, 'study.json'), 'utf8')) as { name: string };
+          changed = JSON.stringify({ ...study, name: 'halving-nine-later' });
+          writeFileSync(path.join(dir, 'study.json'), changed);
+        } else controller.abort();
+      },
+    });
+    await watching;
+    expect(written.length).toBeGreaterThanOrEqual(2);
+    expect(written[0]).toContain('<meta http-equiv="refresh"');
+    expect(written[0]).toContain('Study halving-nine</h1>');
+    expect(written.at(-1)).toContain('Study halving-nine-later</h1>');
+    expect(await readFile(path.join(dir, 'study.json'), 'utf8')).toBe(changed);
+  });
+
   it('writes one SVG and one spec per chart and report.html to <dir>/plots by default', async () => {
     await copyFile(fixturePath('halving-nine'), path.join(dir, 'study.json'));
     const { files } = await plot({ dir });
-    const names = ['progress', 'learning-curves', 'parameters', 'parallel', 'rungs'];
+    const names = ['budget', 'rung-budget', 'rung-agreement', 'importance', 'good-values', 'learning-curves'];
     expect(files).toEqual([...names.flatMap((n) => [`${n}.svg`, `${n}.vl.json`]), 'report.html'].map((f) => path.join(dir, 'plots', f)));
     expect((await readdir(path.join(dir, 'plots'))).sort()).toEqual(files.map((f) => path.basename(f)).sort());
     // The staging folder is gone: the run directory holds only the study file and the plots.
@@ -32,7 +76,7 @@ describe('rungwise plot', () => {
     const out = path.join(dir, 'elsewhere', 'charts');
     const { files } = await plot({ dir, out });
     expect(files.every((f) => path.dirname(f) === out)).toBe(true);
-    expect(files.map((f) => path.basename(f))).not.toContain('rungs.svg');
+    expect(files.map((f) => path.basename(f))).not.toContain('rung-budget.svg');
   });
 
   it('builds a self-contained report with the summary, the caution and every chart inlined', async () => {
@@ -49,7 +93,10 @@ describe('rungwise plot', () => {
     expect(html).toContain('<th scope="row">trials by status</th><td>completed 4, diverged 1</td>');
     expect(html).toContain('<th scope="row">best trial</th><td>trial 5: 0.86 after 3 epochs</td>');
     expect(html).toContain('2 hidden layers of 32 units, tanh activation, adam with learning rate 0.003, batch size 32, L2 penalty 0.01, dropout 0.3');
-    expect(html.match(/<svg\b/g)).toHaveLength(4);
+    // Five trials are too few for the importance charts; random search has no rungs.
+    expect(html.match(/<svg\b/g)).toHaveLength(2);
+    expect(html).toContain('<h2>Which configuration should I ship, and how sure is that?</h2>');
+    expect(html).toContain('<h2>Was the budget well spent?</h2>');
     // Nothing to fetch: no scripts, no external sources or links, no web fonts.
     expect(html).not.toMatch(/<script|<link|@import|@font-face/i);
     expect(html).not.toMatch(/(src|href)\s*=\s*["']?https?:|url\(\s*["']?https?:/i);

@@ -214,12 +214,37 @@ export function buildProgram(stdout: NodeJS.WritableStream = process.stdout, std
     .argument('<dir>', 'run directory')
     .option('--out <dir>', 'folder for the charts (default: <dir>/plots)')
     .option('--json', 'print the files written as JSON')
-    .action(async (dir: string, flags: { out?: string; json?: boolean }) => {
+    .option('--watch', 'draw the report again each time the study file changes, until Ctrl-C')
+    .action(async (dir: string, flags: { out?: string; json?: boolean; watch?: boolean }) => {
       const target = io();
       const { plot } = await import('../commands/plot.js');
-      const { files } = await plot({ dir, ...(flags.out !== undefined ? { out: flags.out } : {}) });
-      const report = files.find((f) => f.endsWith('report.html')) ?? null;
-      target.out(flags.json ? json({ report, files }) : `wrote ${files.length} files${report ? `; open ${report}` : ''}\n`);
+      const stop = new AbortController();
+      if (flags.watch) process.once('SIGINT', () => stop.abort());
+      const reportOf = (files: string[]): string | null => files.find((f) => f.endsWith('report.html')) ?? null;
+      const said = (files: string[]): void => {
+        const report = reportOf(files);
+        target.out(flags.json ? json({ report, files }) : `wrote ${files.length} files${report ? `; open ${report}` : ''}\n`);
+      };
+      const { files } = await plot({
+        dir,
+        ...(flags.out !== undefined ? { out: flags.out } : {}),
+        signal: stop.signal,
+        ...(flags.watch ? { watch: true, onWritten: said } : {}),
+      });
+      if (!flags.watch) said(files);
+    });
+
+  command('compare')
+    .description("answer the report's questions for several studies side by side")
+    .argument('<dirs...>', 'two or more run directories')
+    .option('--out <dir>', 'folder for the comparison report (default: <first dir>/comparison)')
+    .option('--json', 'print the comparison as JSON')
+    .action(async (dirs: string[], flags: { out?: string; json?: boolean }) => {
+      const target = io();
+      const { compare } = await import('../commands/compare.js');
+      const result = await compare({ dirs, ...(flags.out !== undefined ? { out: flags.out } : {}) });
+      const report = result.files.find((f) => f.endsWith('report.html')) ?? null;
+      target.out(flags.json ? json({ report, files: result.files }) : `${result.table}\n\nopen ${report}\n`);
     });
 
   command('export')

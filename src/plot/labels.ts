@@ -1,5 +1,5 @@
 import type { MetricName, Objective, SamplerKind, TrialParams } from '../study/definition.js';
-import type { StudyDocument, TrialStatus } from '../store/types.js';
+import type { StudyDocument } from '../store/types.js';
 
 /** Metric names as a reader says them, with units where the metric has one. */
 const METRIC_LABELS: Record<MetricName, string> = {
@@ -24,31 +24,6 @@ export function metricLabel(metric: MetricName): string {
   return metric === 'validationLoss' ? METRIC_LABELS.validationLoss : `validation ${METRIC_LABELS[metric]}`;
 }
 
-/** Statuses in legend order, each with a fixed colour so every chart agrees. */
-const STATUS_COLOURS: readonly (readonly [TrialStatus, string])[] = [
-  ['completed', '#2f6fb3'],
-  ['stopped', '#9aa4b1'],
-  ['running', '#3a9a5b'],
-  ['paused', '#8fc79f'],
-  ['diverged', '#d64541'],
-  ['failed', '#7d4fc2'],
-  ['timed-out', '#e07b24'],
-];
-
-/** Colour of a status the list above does not know (a study file written by a newer version). */
-const OTHER_STATUS_COLOUR = '#555b63';
-
-/** Colour scale for the statuses that occur: known ones in a fixed order, then any others. */
-export function statusScale(statuses: Iterable<string>): { domain: string[]; range: string[] } {
-  const present = new Set(statuses);
-  const used = STATUS_COLOURS.filter(([status]) => present.delete(status));
-  const others = [...present].sort();
-  return {
-    domain: [...used.map(([status]) => status), ...others],
-    range: [...used.map(([, colour]) => colour), ...others.map(() => OTHER_STATUS_COLOUR)],
-  };
-}
-
 const HALVING_KINDS: ReadonlySet<SamplerKind> = new Set(['successive-halving', 'hyperband', 'async-halving', 'tpe-hyperband']);
 
 /** True for samplers that stop trials at rungs (their trials carry meaningful rung numbers). */
@@ -63,7 +38,7 @@ export interface ParameterAxis {
   key: keyof TrialParams;
   /** Axis title in plain words, with the unit or scale. */
   title: string;
-  /** A few words for crowded places (the parallel-coordinates axes). */
+  /** A few words for crowded places (the importance bars). */
   shortTitle: string;
   kind: AxisKind;
   /** Category order for ordinal and nominal axes (the search space's own order when known). */

@@ -1,9 +1,13 @@
 import { formatNumber } from '../report/format.js';
 import type { StudyDocument, TrialRecord } from '../store/types.js';
 import { OPTIMISM_CAUTION } from '../report/caution.js';
-import { rankTrials } from '../study/objective.js';
 import { objectiveLabel } from './labels.js';
+import { escapeHtml } from './html.js';
+import { WINNER_SYMBOL } from './palette.js';
+import { topConfigurations } from './top-table.js';
+import { bestTrial } from './winner.js';
 
+export { bestTrial } from './winner.js';
 
 /** A chart drawn to SVG, ready to inline. */
 export interface RenderedChart {
@@ -12,9 +16,6 @@ export interface RenderedChart {
   svg: string;
 }
 
-function escapeHtml(text: string): string {
-  return text.replace(/[&<>"']/g, (c) => `&#${c.charCodeAt(0)};`);
-}
 
 /**
  * Several SVGs in one page share one id namespace: vega names clip paths and gradients the same
@@ -25,11 +26,6 @@ export function scopeSvgIds(svg: string, prefix: string): string {
     .replace(/\bid="([^"]+)"/g, (_, id: string) => `id="${prefix}-${id}"`)
     .replace(/url\(#([^)]+)\)/g, (_, id: string) => `url(#${prefix}-${id})`)
     .replace(/(xlink:)?href="#([^"]+)"/g, (_, xlink: string | undefined, id: string) => `${xlink ?? ''}href="#${prefix}-${id}"`);
-}
-
-/** The trial to recommend: the leader of the study's one ranking. */
-export function bestTrial(study: StudyDocument): TrialRecord | undefined {
-  return rankTrials(study.trials, study.objective)[0]?.trial;
 }
 
 function statusCounts(study: StudyDocument): string {
@@ -77,50 +73,96 @@ function summaryRows(study: StudyDocument): [string, string][] {
 }
 
 const STYLE = `
-body { font-family: Helvetica, Arial, sans-serif; color: #1d2126; margin: 24px auto; max-width: 1100px; padding: 0 16px; }
+body { font-family: Helvetica, Arial, sans-serif; color: #1d2126; margin: 24px auto; max-width: 1240px; padding: 0 16px; }
 h1 { font-size: 22px; margin: 0 0 12px; }
-h2 { font-size: 17px; margin: 28px 0 8px; }
-table { border-collapse: collapse; font-size: 14px; }
+h2 { font-size: 18px; margin: 34px 0 6px; border-top: 1px solid #d0d4d9; padding-top: 14px; }
+p { font-size: 14px; line-height: 1.45; max-width: 900px; }
+table { border-collapse: collapse; font-size: 13px; }
 th, td { text-align: left; vertical-align: top; padding: 4px 12px 4px 0; border-bottom: 1px solid #e3e6ea; }
-th { font-weight: 600; white-space: nowrap; }
+th { font-weight: 600; }
+th[scope="row"] { white-space: nowrap; }
+.scroll { overflow-x: auto; max-width: 100%; }
+table.top th, table.top td { padding-right: 8px; }
+table.top td:last-child { min-width: 150px; }
+table.top tr.winner td { font-weight: 600; }
 .caution { background: #fff6e0; border-left: 4px solid #e0a526; padding: 8px 12px; font-size: 14px; }
-section.chart { margin-top: 28px; }
-figure { margin: 0; overflow-x: auto; }
+section.chart { margin-top: 18px; }
+figure { margin: 0; overflow-x: auto; max-width: 100%; }
 figure svg { max-width: 100%; height: auto; }
 `;
 
-/**
- * One self-contained HTML page: summary table, caution, and every chart's SVG inlined. It loads
- * nothing (the content security policy forbids it), so it opens the same offline.
- */
-export function buildReport(study: StudyDocument, charts: readonly RenderedChart[]): string {
-  const table = summaryRows(study)
-    .map(([key, value]) => `<tr><th scope="row">${escapeHtml(key)}</th><td>${escapeHtml(value)}</td></tr>`)
+/** A table of text cells, with its header; a row whose first cell starts with the winner's star is marked. */
+export function htmlTable(header: readonly string[], rows: readonly Record<string, string>[], className: string): string {
+  const head = `<tr>${header.map((h) => `<th scope="col">${escapeHtml(h)}</th>`).join('')}</tr>`;
+  const body = rows
+    .map((row) => `<tr${Object.values(row)[0]?.startsWith(WINNER_SYMBOL) ? ' class="winner"' : ''}>${header.map((h) => `<td>${escapeHtml(row[h] ?? '')}</td>`).join('')}</tr>`)
     .join('\n');
-  const sections = charts
-    .map(
-      (chart) =>
-        // The chart's own title is drawn inside the SVG, so the section only names it for screen readers.
-        `<section class="chart" id="chart-${escapeHtml(chart.name)}" aria-label="${escapeHtml(chart.title)}">\n<figure>${scopeSvgIds(chart.svg, chart.name)}</figure>\n</section>`,
-    )
-    .join('\n');
+  return `<div class="scroll"><table class="${className}">\n${head}\n${body}\n</table></div>`;
+}
+
+/** One chart inlined as a section, its ids scoped so several SVGs share the page. */
+export function chartSection(chart: RenderedChart): string {
+  // The chart's own title is drawn inside the SVG, so the section only names it for screen readers.
+  return `<section class="chart" id="chart-${escapeHtml(chart.name)}" aria-label="${escapeHtml(chart.title)}">\n<figure>${scopeSvgIds(chart.svg, chart.name)}</figure>\n</section>`;
+}
+
+/** The page around a body: nothing loaded (the content security policy forbids it), so it opens the same offline. */
+export function htmlPage(title: string, body: string, refreshSeconds?: number): string {
+  const refresh = refreshSeconds ? `\n<meta http-equiv="refresh" content="${refreshSeconds}">` : '';
   return `<!doctype html>
 <html lang="en">
 <head>
 <meta charset="utf-8">
-<meta http-equiv="Content-Security-Policy" content="default-src 'none'; style-src 'unsafe-inline'; img-src data:">
+<meta http-equiv="Content-Security-Policy" content="default-src 'none'; style-src 'unsafe-inline'; img-src data:">${refresh}
 <meta name="viewport" content="width=device-width, initial-scale=1">
-<title>${escapeHtml(study.name)}: rungwise study report</title>
+<title>${escapeHtml(title)}</title>
 <style>${STYLE}</style>
 </head>
 <body>
-<h1>Study ${escapeHtml(study.name)}</h1>
-<p class="caution">${escapeHtml(OPTIMISM_CAUTION)}</p>
-<table>
-${table}
-</table>
-${sections.length > 0 ? sections : '<p>No trial has a score yet, so there is nothing to plot.</p>'}
+${body}
 </body>
 </html>
 `;
+}
+
+/** The report's questions, in order, each with the charts that answer it. */
+export const QUESTIONS: readonly { heading: string; charts: readonly string[] }[] = [
+  { heading: 'Was the budget well spent?', charts: ['budget', 'rung-budget'] },
+  { heading: 'Did the early rungs judge well?', charts: ['rung-agreement'] },
+  { heading: 'Which hyperparameters matter, and which values are good?', charts: ['importance', 'good-values'] },
+  { heading: 'What did training look like?', charts: ['learning-curves'] },
+];
+
+export interface ReportOptions {
+  /** Sentences under each question's heading, by heading. */
+  findings?: ReadonlyMap<string, readonly string[]>;
+  /** Set while `plot --watch` runs: the page reloads itself this often. */
+  refreshSeconds?: number;
+}
+
+/**
+ * One self-contained HTML page: the summary, the caution, the top configurations, then each
+ * question with its findings and charts. It loads nothing, so it opens the same offline.
+ */
+export function buildReport(study: StudyDocument, charts: readonly RenderedChart[], options: ReportOptions = {}): string {
+  const summary = summaryRows(study)
+    .map(([key, value]) => `<tr><th scope="row">${escapeHtml(key)}</th><td>${escapeHtml(value)}</td></tr>`)
+    .join('\n');
+  const top = topConfigurations(study);
+  const byName = new Map(charts.map((chart) => [chart.name, chart]));
+  const questions = QUESTIONS.map(({ heading, charts: names }) => {
+    const drawn = names.flatMap((name) => (byName.has(name) ? [chartSection(byName.get(name)!)] : []));
+    const said = (options.findings?.get(heading) ?? []).map((text) => `<p>${escapeHtml(text)}</p>`);
+    if (drawn.length === 0 && said.length === 0) return '';
+    return `<h2>${escapeHtml(heading)}</h2>\n${[...said, ...drawn].join('\n')}`;
+  }).filter((section) => section !== '');
+  const body = `<h1>Study ${escapeHtml(study.name)}</h1>
+<p class="caution">${escapeHtml(OPTIMISM_CAUTION)}</p>
+<table>
+${summary}
+</table>
+<h2>Which configuration should I ship, and how sure is that?</h2>
+${top.rows.length > 0 ? `<p>The top of the ranking (more epochs rank first, then the objective). ${WINNER_SYMBOL} marks the winner here and in every chart.</p>\n${htmlTable(top.header, top.rows, 'top')}` : ''}
+${charts.length > 0 ? questions.join('\n') : '<p>No trial has a score yet, so there is nothing to plot.</p>'}`;
+  return htmlPage(`${study.name}: rungwise study report`, body, options.refreshSeconds);
 }

@@ -1,0 +1,128 @@
+import type { StudyDocument, TrialRecord } from '../../store/types.js';
+import type { TrialParams } from '../../study/definition.js';
+import { beats, objectiveAt } from '../../study/objective.js';
+import { variedParameterAxes, type ParameterAxis } from '../labels.js';
+import { forestImportance, type InputKind } from './importance.js';
+
+/** Fewest scored configurations worth fitting a forest to. */
+export const FEWEST_FOR_IMPORTANCE = 8;
+
+/** How one hyperparameter is coded as a forest input. */
+interface Coding {
+  axis: ParameterAxis;
+  input: InputKind;
+  /** The value coded into [0, 1] (continuous) or a choice index. */
+  encode: (value: string | number) => number;
+  /** A grid position or choice index turned back into the hyperparameter's value. */
+  decode: (coded: number) => string | number;
+}
+
+function coding(axis: ParameterAxis, study: StudyDocument): Coding {
+  const space = study.definition.space;
+  const range = (): { min: number; max: number; log: boolean } | undefined => {
+    switch (axis.key) {
+      case 'learningRate':
+        return { ...space.learningRate, log: true };
+      case 'l2':
+        return space.l2 ? { ...space.l2, log: true } : undefined;
+      case 'width':
+        return { min: space.width.min, max: space.width.max, log: space.width.log };
+      case 'dropout':
+        return space.dropout ? { ...space.dropout, log: false } : undefined;
+      default:
+        return undefined;
+    }
+  };
+  const bounds = range();
+  if (bounds && bounds.max > bounds.min) {
+    const f = (v: number): number => (bounds.log ? Math.log(v) : v);
+    const lo = f(bounds.min);
+    const hi = f(bounds.max);
+    return {
+      axis,
+      input: { kind: 'continuous' },
+      encode: (value) => Math.min(1, Math.max(0, (f(Number(value)) - lo) / (hi - lo))),
+      decode: (coded) => (bounds.log ? Math.exp(lo + coded * (hi - lo)) : lo + coded * (hi - lo)),
+    };
+  }
+  const seen = [...new Set(study.trials.map((t) => t.params[axis.key]))];
+  const depths = axis.key === 'depth' ? Array.from({ length: space.depth.max - space.depth.min + 1 }, (_, i) => space.depth.min + i) : [];
+  const levels: (string | number)[] = [...new Set([...(axis.key === 'depth' ? depths : (axis.categories ?? [])), ...seen])];
+  return { axis, input: { kind: 'choice', levels: levels.length }, encode: (value) => levels.indexOf(value), decode: (coded) => levels[coded]! };
+}
+
+/**
+ * The epoch at which the most configurations have a score (ties: the later): the only point where
+ * configurations of every rung can be compared. Undefined when no epoch is scored.
+ */
+export function comparableEpoch(study: StudyDocument): number | undefined {
+  const counts = new Map<number, number>();
+  for (const trial of study.trials) for (const point of trial.curve) if (objectiveAt(point, study.objective) !== null) counts.set(point.epoch, (counts.get(point.epoch) ?? 0) + 1);
+  let best: [number, number] | undefined;
+  for (const [epoch, count] of counts) if (!best || count > best[1] || (count === best[1] && epoch > best[0])) best = [epoch, count];
+  return best?.[0];
+}
+
+/** Objective of a trial at one epoch, or undefined. */
+export function objectiveAtEpoch(trial: TrialRecord, study: StudyDocument, epoch: number): number | undefined {
+  const point = trial.curve.find((p) => p.epoch === epoch);
+  return point ? (objectiveAt(point, study.objective) ?? undefined) : undefined;
+}
+
+/** One hyperparameter's share of the objective's variance, and its marginal for the value chart. */
+export interface ParameterImportance {
+  key: keyof TrialParams;
+  title: string;
+  /** A few words, for crowded places. */
+  shortTitle: string;
+  share: number;
+  kind: 'continuous' | 'choice';
+  /** The forest's marginal: the predicted objective at each value, the other hyperparameters averaged out. */
+  marginal: { value: string | number; objective: number }[];
+  /** Values where the marginal lies in the better quarter of its own range (the shaded good region). */
+  good: (string | number)[];
+}
+
+export interface StudyImportance {
+  /** The epoch at which configurations were compared. */
+  epoch: number;
+  configurations: number;
+  parameters: ParameterImportance[];
+}
+
+/**
+ * Importance of each varied hyperparameter for the objective at {@link comparableEpoch}: a random
+ * forest fitted to the scored configurations, decomposed by {@link forestImportance} over the search
+ * space (uniform on each range, log ranges on the log scale). Undefined with fewer than
+ * {@link FEWEST_FOR_IMPORTANCE} scored configurations or nothing varied. Sorted by share, largest first.
+ */
+export function studyImportance(study: StudyDocument): StudyImportance | undefined {
+  const epoch = comparableEpoch(study);
+  const axes = variedParameterAxes(study);
+  if (epoch === undefined || axes.length === 0) return undefined;
+  const scored = study.trials.flatMap((t) => {
+    const value = objectiveAtEpoch(t, study, epoch);
+    return value === undefined ? [] : [{ trial: t, value }];
+  });
+  if (scored.length < FEWEST_FOR_IMPORTANCE) return undefined;
+  const codings = axes.map((axis) => coding(axis, study));
+  const rows = scored.map(({ trial }) => codings.map((c) => c.encode(trial.params[c.axis.key])));
+  const values = scored.map((s) => s.value);
+  const { effects } = forestImportance(
+    rows,
+    values,
+    codings.map((c) => c.input),
+    { seedKey: [study.definition.sampler.seed, 'report', 'importance'] },
+  );
+  const direction = study.objective.direction;
+  const parameters = effects.map((effect, i): ParameterImportance => {
+    const c = codings[i]!;
+    const marginal = effect.at.map((at, k) => ({ value: c.decode(at), objective: effect.marginal[k]! }));
+    const best = marginal.reduce((b, m) => (beats(m.objective, b, direction) ? m.objective : b), marginal[0]!.objective);
+    const worst = marginal.reduce((w, m) => (beats(w, m.objective, direction) ? m.objective : w), marginal[0]!.objective);
+    const threshold = best + (worst - best) * 0.25;
+    const good = marginal.filter((m) => (direction === 'maximize' ? m.objective >= threshold : m.objective <= threshold)).map((m) => m.value);
+    return { key: c.axis.key, title: c.axis.title, shortTitle: c.axis.shortTitle, share: effect.share, kind: c.input.kind, marginal, good };
+  });
+  return { epoch, configurations: scored.length, parameters: parameters.sort((a, b) => b.share - a.share) };
+}

@@ -1,0 +1,69 @@
+import { formatNumber } from '../report/format.js';
+import type { StudyDocument } from '../store/types.js';
+import { computeSpent, leaderSteps, plannedEpochs, rungShares } from './analysis/budget.js';
+import { rungAgreements, rungStandings } from './analysis/rung-agreement.js';
+import type { StudyImportance } from './analysis/study-importance.js';
+import { agreementText } from './charts/rung-agreement.js';
+import { isHalving } from './labels.js';
+import { QUESTIONS } from './report.js';
+import { bestTrial } from './winner.js';
+
+/** The answers of one study to the report's questions, as short texts (for `compare` and the report's findings). */
+export interface StudyDigest {
+  name: string;
+  sampler: string;
+  /** Whether the sampler stops configurations at rungs. */
+  halving: boolean;
+  winner: string;
+  spent: string;
+  winnerFound: string;
+  rungShares: string;
+  rungAgreement: string;
+  winnerAtRungs: string;
+  importance: string;
+  unscored: string;
+}
+
+const percent = (share: number): string => `${Math.round(share * 100)}%`;
+
+/** What the study's charts show, in words. */
+export function studyDigest(study: StudyDocument, importance: StudyImportance | undefined): StudyDigest {
+  const winner = bestTrial(study);
+  const spent = computeSpent(study);
+  const planned = plannedEpochs(study);
+  const steps = leaderSteps(study);
+  const crowned = steps.find((s, i) => s.leaderId === winner?.id && steps.slice(i).every((later) => later.leaderId === winner?.id));
+  const halving = isHalving(study.definition.sampler.kind);
+  const shares = halving ? rungShares(study) : [];
+  const byRung = new Map<number, number>();
+  for (const share of shares) byRung.set(share.rung, (byRung.get(share.rung) ?? 0) + share.share);
+  const agreements = halving ? rungAgreements(study) : [];
+  const standings = winner && halving ? rungStandings(study).filter((s) => s.trialId === winner.id) : [];
+  const unscored = study.trials.filter((t) => !(typeof t.objective === 'number' && Number.isFinite(t.objective))).length;
+  return {
+    name: study.name,
+    sampler: study.definition.sampler.kind,
+    halving,
+    winner: winner ? `trial ${winner.id}: ${study.objective.metric} ${formatNumber(winner.objective)} after ${winner.epochsTrained} epochs` : 'none yet',
+    spent: `${spent.epochs} epochs${planned ? ` of ${planned} planned (${percent(spent.epochs / planned)})` : ''}, ${formatNumber(spent.workerSeconds)} worker-seconds`,
+    winnerFound: crowned && spent.epochs > 0 ? `after ${crowned.epochsSpent} epochs (${percent(crowned.epochsSpent / spent.epochs)} of those spent)` : '-',
+    rungShares: halving ? [...byRung].map(([rung, share]) => `rung ${rung} ${percent(share)}`).join(', ') : 'one rung (no halving)',
+    rungAgreement: halving && agreements.length > 0 ? agreements.map((a) => `b${a.bracket} r${a.fromRung}>${a.fromRung + 1}: ${agreementText(a.rho, a.configurations)}`).join('; ') : '-',
+    winnerAtRungs: standings.length > 0 ? standings.map((s) => `${s.place} of ${s.of} at rung ${s.rung}`).join(', ') : '-',
+    importance: importance ? importance.parameters.slice(0, 3).map((p) => `${p.key} ${percent(p.share)}`).join(', ') : 'too few configurations',
+    unscored: `${unscored} of ${study.trials.length}`,
+  };
+}
+
+/** The digest as sentences under the report's question headings. */
+export function digestFindings(digest: StudyDigest): Map<string, string[]> {
+  const [budget, rungs, importance] = QUESTIONS.map((q) => q.heading);
+  const findings = new Map<string, string[]>();
+  findings.set(budget!, [
+    `Spent ${digest.spent}. The winner took the lead ${digest.winnerFound}.`,
+    ...(digest.halving ? [`Compute by rung: ${digest.rungShares}.`] : []),
+  ]);
+  if (digest.rungAgreement !== '-') findings.set(rungs!, [`Agreement between consecutive rungs (b: bracket, r: rung): ${digest.rungAgreement}.`, `The winner stood ${digest.winnerAtRungs}.`]);
+  findings.set(importance!, [`Largest shares of the objective's variance: ${digest.importance}.`]);
+  return findings;
+}

@@ -1,0 +1,49 @@
+/**
+ * The report's colours, one meaning each. Hues come from the colour-blind-safe set of Okabe and Ito
+ * ("Color Universal Design: how to make figures and presentations that are friendly to colorblind
+ * people", 2008): orange #E69F00, sky blue #56B4E9, bluish green #009E73, yellow #F0E442, blue
+ * #0072B2, vermillion #D55E00, reddish purple #CC79A7, black. Meanings:
+ * - rungs: a lightness ramp from sky blue to a dark blue (rung 0 lightest); lightness order survives
+ *   every kind of colour-vision deficiency, so rung order reads without hue;
+ * - studies: vermillion, bluish green, reddish purple, orange (no blue: that is the rungs');
+ * - the winner: ink with a star, never a colour alone; other trials: a light grey.
+ */
+
+/** Ink for the winner, the leader line and text. */
+export const INK = '#1d2126';
+/** Everything that is context, not the point: the trials outside the top few. */
+export const FADED = '#c3c8cf';
+/** The shaded good region of a hyperparameter. */
+export const GOOD_REGION = '#f3e6a6';
+/** The planned end of the budget. */
+export const BUDGET_END = '#6b7280';
+
+const RUNG_RAMP = ['#9fd3f3', '#56b4e9', '#2a8fcf', '#0072b2', '#03517f', '#022f4d'] as const;
+
+/** Colour of a rung index; rungs past the ramp share its darkest step. */
+export function rungColour(rung: number): string {
+  return RUNG_RAMP[Math.min(Math.max(rung, 0), RUNG_RAMP.length - 1)]!;
+}
+
+/** A Vega-Lite scale for rung indices 0..top. */
+export function rungScale(top: number): { domain: number[]; range: string[] } {
+  const domain = Array.from({ length: top + 1 }, (_, rung) => rung);
+  return { domain, range: domain.map(rungColour) };
+}
+
+const STUDY_COLOURS = ['#d55e00', '#009e73', '#cc79a7', '#e69f00'] as const;
+
+/** Colour of the study at a position in a comparison (the first is the one a single report uses). */
+export function studyColour(index: number): string {
+  return STUDY_COLOURS[index % STUDY_COLOURS.length]!;
+}
+
+/** A five-pointed star, as an SVG path on the unit square vega scales symbols to: the winner's mark. */
+export const WINNER_SHAPE =
+  'M0,-1L0.2245,-0.309L0.9511,-0.309L0.3633,0.118L0.5878,0.809L0,0.382L-0.5878,0.809L-0.3633,0.118L-0.9511,-0.309L-0.2245,-0.309Z';
+
+/** The winner's mark in any chart: an ink star with a white edge, so it reads over lines and points. */
+export const WINNER_MARK = { type: 'point' as const, shape: WINNER_SHAPE, filled: true, color: INK, stroke: 'white', strokeWidth: 0.8, size: 170, opacity: 1 };
+
+/** The winner's mark in text (tables, legends). */
+export const WINNER_SYMBOL = '★';

@@ -1,0 +1,7 @@
+import type { StudyDocument, TrialRecord } from '../store/types.js';
+import { rankTrials } from '../study/objective.js';
+
+/** The trial to recommend: the leader of the study's one ranking (rank 1 of {@link rankTrials}). */
+export function bestTrial(study: StudyDocument): TrialRecord | undefined {
+  return rankTrials(study.trials, study.objective)[0]?.trial;
+}
