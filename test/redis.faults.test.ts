@@ -16,7 +16,7 @@ import { studyOutcome } from './helpers/study-outcome.js';
 import { tinyStudy, writeTinyStudy } from './helpers/studies.js';
 
 /** Resolves once `count` finished-trial lines have been printed. */
-const trialLines = (process: WorkerProcess, count: number) => process.printed(new RegExp(`(\\[\\d+/\\d+\\] trial [^\\n]*\\n[^]*){${count}}`));
+const trialLines = (process: WorkerProcess, count: number) => process.printed(new RegExp(`(\\[\\d+/\\d+ jobs[^\\]]*\\] trial [^\\n]*\\n[^]*){${count}}`));
 
 describe('a study over Redis survives the faults of many machines', () => {
   // Successive halving, so jobs after the first rung continue from checkpoints that cross Redis.
