@@ -30,7 +30,8 @@ function job(trialId: number, rung: number, fromEpoch: number, toEpoch: number, 
 
 /** A trial paused (or in `status`) after the rungs whose objectives are given. */
 function record(id: number, rungObjectives: (number | null)[], status: TrialRecord['status'] = 'paused'): TrialRecord {
-  return trialRecord(id, rungObjectives.at(-1) ?? null, { status, rung: rungObjectives.length - 1, rungObjectives });
+  // Rungs of the halving plan below end at 1, 3 and 9 epochs.
+  return trialRecord(id, rungObjectives.at(-1) ?? null, { status, rung: rungObjectives.length - 1, rungObjectives, epochsTrained: [1, 3, 9][rungObjectives.length - 1]! });
 }
 
 const halving = plannedWork({ budget: { trials: 9, maxEpochs: 9 }, sampler: { kind: 'successive-halving', seed: 1, eta: 3, minEpochs: 1 } } as never);
@@ -97,20 +98,20 @@ describe('progress written to a pipe', () => {
     const lines = out.text().trim().split('\n');
     expect(lines[0]).toBe('running study pumps on 2 workers: 13 jobs, 21 epochs planned; study file in /runs/pumps');
     expect(lines.slice(1)).toEqual([
-      '[1/13 jobs, 1/21 epochs] trial 0 rung 0 done at epoch 1: accuracy 0.5; leader trial 0 accuracy 0.5',
-      '[2/13 jobs, 2/21 epochs] trial 1 rung 0 done at epoch 1: accuracy 0.7; leader trial 1 accuracy 0.7',
-      '[3/13 jobs, 4/21 epochs] trial 1 rung 1 done at epoch 3: accuracy 0.8; leader trial 1 accuracy 0.8',
+      '[1/13 jobs, 1/21 epochs] trial 0 rung 0 done at epoch 1: accuracy 0.5; leader trial 0 accuracy 0.5 after 1 epoch',
+      '[2/13 jobs, 2/21 epochs] trial 1 rung 0 done at epoch 1: accuracy 0.7; leader trial 1 accuracy 0.7 after 1 epoch',
+      '[3/13 jobs, 4/21 epochs] trial 1 rung 1 done at epoch 3: accuracy 0.8; leader trial 1 accuracy 0.8 after 3 epochs',
     ]);
   });
 
-  it('names the leader the runner sent, even when another trial has a better objective (the ranking orders by rung first)', () => {
+  it('names the leader the runner sent, even when another trial has a better objective (the ranking orders by epochs first)', () => {
     const out = sink();
     const observe = progressObserver({ objective, plan: halving, stream: out.stream, live: false });
     observe(started());
     const low = record(3, [0.9, 0.6]);
     const high = record(4, [0.95]);
     playJob(observe, job(4, 0, 0, 1), high, low);
-    expect(out.text()).toContain('leader trial 3 accuracy 0.6');
+    expect(out.text()).toContain('leader trial 3 accuracy 0.6 after 3 epochs');
   });
 
   it('marks a diverged job with its epoch and reason', () => {

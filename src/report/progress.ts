@@ -46,7 +46,8 @@ export function describeJob(event: Pick<TrialFinished, 'trial' | 'job'>, metric:
 function leaderText(leader: TrialRecord | undefined, metric: string): LineSegment {
   if (!leader) return { text: 'leader -', dropCost: 10 };
   const value = formatNumber(leader.objective);
-  return { text: `leader #${leader.id} ${metric} ${value}`, short: `#${leader.id} ${value}`, shortCost: 6, dropCost: 10 };
+  // The epochs say why a lower value can lead: the one ordering puts longer-trained trials first.
+  return { text: `leader #${leader.id} ${metric} ${value} @${leader.epochsTrained}ep`, short: `#${leader.id} ${value}`, shortCost: 6, dropCost: 10 };
 }
 
 /** `rung 1/2` (the rung being trained, of the top rung), with the bracket for Hyperband, a span under asynchronous halving. */
@@ -175,7 +176,7 @@ export function progressObserver(options: ProgressOptions): StudyObserver {
         leader = event.best;
         if (redrawn) draw(true);
         else {
-          const lead = leader ? `; leader trial ${leader.id} ${metric} ${formatNumber(leader.objective)}` : '';
+          const lead = leader ? `; leader trial ${leader.id} ${metric} ${formatNumber(leader.objective)} after ${leader.epochsTrained} epoch${leader.epochsTrained === 1 ? '' : 's'}` : '';
           stream.write(`[${counters({ jobsDone: jobs, epochsDone: trained })}] ${describeJob(event, metric, plan.rungs > 1)}${lead}\n`);
         }
         break;
