@@ -1,17 +1,13 @@
 import path from 'node:path';
-import { afterEach, describe, expect, it } from 'vitest';
+import { describe, expect, it } from 'vitest';
 import { runStudy } from '../src/runner/run-study.js';
-import { FAULT_VARIABLE } from '../src/runner/faults.js';
+import { faultPlan } from '../src/runner/faults.js';
 import { tinyStudy, writeTinyStudy } from './helpers/studies.js';
 
-afterEach(() => {
-  delete process.env[FAULT_VARIABLE];
-});
-
+/** Run the tiny study with faults injected into its trials (the library's test-only option). */
 async function runTiny(fault: string, overrides: Parameters<typeof tinyStudy>[0] = {}) {
-  process.env[FAULT_VARIABLE] = fault;
   const file = await writeTinyStudy(tinyStudy(overrides));
-  return runStudy(file, { out: path.join(path.dirname(file), 'run') });
+  return runStudy(file, { out: path.join(path.dirname(file), 'run'), faults: faultPlan(fault).faultFor });
 }
 
 const statuses = (outcome: Awaited<ReturnType<typeof runTiny>>) => outcome.doc.trials.map((t) => [t.id, t.status]).sort((a, b) => Number(a[0]) - Number(b[0]));

@@ -9,6 +9,7 @@ import { painterFor } from '../report/style.js';
 import { COMMAND_EXAMPLES, PROGRAM_EXAMPLES } from './help.js';
 import { interruptSignal } from './interrupt.js';
 import { workerStopSignal } from './worker-signal.js';
+import type { FaultInjector } from '../transport/threads.js';
 
 function wholeNumber(value: string, name: string): number {
   const parsed = Number(value);
@@ -103,7 +104,17 @@ function json(value: unknown): string {
 }
 
 /** Declares the commands and flags; each action calls one function of `src/commands`. */
-export function buildProgram(stdout: NodeJS.WritableStream = process.stdout, stderr: NodeJS.WritableStream = process.stderr): Command {
+/** What a test entry point may inject into the commands (never set by the shipped `bin/rungwise.js`). */
+export interface CliInjections {
+  /** Faults injected into trials (see `runner/faults.ts`). */
+  faults?: FaultInjector;
+}
+
+export function buildProgram(
+  stdout: NodeJS.WritableStream = process.stdout,
+  stderr: NodeJS.WritableStream = process.stderr,
+  inject: CliInjections = {},
+): Command {
   const program = new Command('rungwise')
     .description('Tune small neural networks on ordinary CPUs.')
     .version(packageVersion(), '-V, --version', 'print the version and exit')
@@ -146,7 +157,7 @@ export function buildProgram(stdout: NodeJS.WritableStream = process.stdout, std
       const target = io();
       const { run } = await import('../commands/run.js');
       const { json: _json, top: _top, ...options } = flags;
-      const outcome = await untilInterrupted(target, (signal) => run({ definition, ...options, progress: target.err, signal }));
+      const outcome = await untilInterrupted(target, (signal) => run({ definition, ...options, ...inject, progress: target.err, signal }));
       if (outcome) await finishStudy(target, outcome, flags);
     });
 
@@ -165,6 +176,7 @@ export function buildProgram(stdout: NodeJS.WritableStream = process.stdout, std
       const outcome = await untilInterrupted(target, (signal) =>
         resume({
           dir,
+          ...inject,
           ...(flags.workers !== undefined ? { workers: flags.workers } : {}),
           ...(flags.allowChangedData ? { allowChangedData: true } : {}),
           ...queueFlags(flags),
@@ -187,7 +199,7 @@ export function buildProgram(stdout: NodeJS.WritableStream = process.stdout, std
       const { worker } = await import('../commands/worker.js');
       const stop = workerStopSignal();
       try {
-        await worker({ url, ...flags, signal: stop.signal });
+        await worker({ url, ...flags, ...inject, signal: stop.signal });
       } finally {
         stop.dispose();
       }
@@ -316,13 +328,13 @@ export function buildProgram(stdout: NodeJS.WritableStream = process.stdout, std
 }
 
 /** Runs the CLI; the only place that turns errors into exit codes. Returns the exit code. */
-export async function main(argv: readonly string[]): Promise<number> {
+export async function main(argv: readonly string[], inject: CliInjections = {}): Promise<number> {
   const debug = argv.includes('--debug');
   // Output piped into a command that stops reading (`| head`) is not an error: a study goes on.
   process.stdout.on('error', (error: NodeJS.ErrnoException) => {
     if (error.code !== 'EPIPE') throw error;
   });
-  const program = buildProgram();
+  const program = buildProgram(process.stdout, process.stderr, inject);
   const paint = painterFor(process.stderr);
   try {
     process.exitCode = undefined;

@@ -1,3 +1,4 @@
+import type { FaultInjector } from '../transport/threads.js';
 import path from 'node:path';
 import { dataProgressObserver } from '../report/data-progress.js';
 import { resumeStudy, type ResumeOutcome } from '../runner/resume-study.js';
@@ -15,6 +16,8 @@ export interface ResumeCommandOptions extends ProgressTarget, QueueFlags {
   signal?: AbortSignal;
   /** Where notes of the queue go. @default process.stderr */
   stderr?: NodeJS.WritableStream;
+  /** Test-only: faults to inject into trials (see `runner/faults.ts`). @default none */
+  faults?: FaultInjector;
 }
 
 /**
@@ -32,6 +35,7 @@ export async function resume(options: ResumeCommandOptions): Promise<ResumeOutco
     ...(queue.transport ? { transport: queue.transport } : {}),
     ...(options.allowChangedData ? { allowChangedData: true } : {}),
     ...(onEvent ? { onEvent } : {}),
+    ...(options.faults ? { faults: options.faults } : {}),
     ...(options.progress ? { onDataEvent: dataProgressObserver({ stream: options.progress }) } : {}),
   }).catch((error: unknown) => {
     queue.check(dir);

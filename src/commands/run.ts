@@ -1,3 +1,4 @@
+import type { FaultInjector } from '../transport/threads.js';
 import path from 'node:path';
 import { dataProgressObserver } from '../report/data-progress.js';
 import { runStudy, type StudyOutcome } from '../runner/run-study.js';
@@ -21,6 +22,8 @@ export interface RunCommandOptions extends ProgressTarget, QueueFlags {
   signal?: AbortSignal;
   /** Where notes of the queue go. @default process.stderr */
   stderr?: NodeJS.WritableStream;
+  /** Test-only: faults to inject into trials (see `runner/faults.ts`). @default none */
+  faults?: FaultInjector;
 }
 
 /**
@@ -53,6 +56,7 @@ export async function run(options: RunCommandOptions): Promise<StudyOutcome> {
     ...(queue.signal ? { signal: queue.signal } : {}),
     ...(queue.transport ? { transport: queue.transport } : {}),
     ...(onEvent ? { onEvent } : {}),
+    ...(options.faults ? { faults: options.faults } : {}),
     ...(options.progress ? { onDataEvent: dataProgressObserver({ stream: options.progress }) } : {}),
   }).catch((error: unknown) => {
     queue.check(dir);

@@ -1,7 +1,6 @@
 import { availableParallelism } from 'node:os';
-import { faultPlan } from '../runner/faults.js';
 import { QueueWorker } from '../transport/redis-worker.js';
-import { ThreadTransport } from '../transport/threads.js';
+import { ThreadTransport, type FaultInjector } from '../transport/threads.js';
 
 export interface WorkerCommandOptions {
   /** `redis://[:password@]HOST:PORT/DB` or `rediss://...`. */
@@ -14,6 +13,8 @@ export interface WorkerCommandOptions {
   stderr?: NodeJS.WritableStream;
   /** Aborting stops the worker: running jobs are handed back to the queue. */
   signal: AbortSignal;
+  /** Test-only: faults to inject into the jobs it trains (see `runner/faults.ts`). @default none */
+  faults?: FaultInjector;
 }
 
 /** `rungwise worker`: train jobs of every study on a Redis until the signal aborts; returns the jobs trained. */
@@ -23,7 +24,7 @@ export async function worker(options: WorkerCommandOptions): Promise<{ jobsDone:
   const queueWorker = new QueueWorker({
     url: options.url,
     threads,
-    transport: new ThreadTransport({ threads, faults: faultPlan().faultFor }),
+    transport: new ThreadTransport({ threads, ...(options.faults ? { faults: options.faults } : {}) }),
     ...(options.stallSeconds !== undefined ? { stallSeconds: options.stallSeconds } : {}),
     onNote: (message) => stderr.write(`${message}\n`),
   });

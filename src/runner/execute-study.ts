@@ -12,11 +12,10 @@ import type { Objective } from '../study/definition.js';
 import { orientedLoss, rankTrials, type RankedTrial } from '../study/objective.js';
 import type { StudyStore } from '../store/study-store.js';
 import type { StudyDocument, TrialRecord } from '../store/types.js';
-import { ThreadTransport } from '../transport/threads.js';
+import { ThreadTransport, type FaultInjector } from '../transport/threads.js';
 import type { TrialTransport } from '../transport/transport.js';
 import { CheckpointKeeper } from './checkpoint-keeper.js';
 import type { StudyObserver } from './events.js';
-import { faultPlan } from './faults.js';
 import { TrialLifecycle, type JobFailure } from './lifecycle.js';
 import { BatchedPersistence } from './persistence.js';
 
@@ -43,6 +42,8 @@ export interface ExecuteOptions {
   transport?: (context: TransportContext) => TrialTransport;
   /** Where checkpoints live between jobs. @default the run directory's `checkpoints/` ({@link FolderCheckpointStore}) */
   checkpoints?: CheckpointStore;
+  /** Test-only: faults the default transport injects into trials (see `runner/faults.ts`). @default none */
+  faults?: FaultInjector;
   /** Worker entry point of the default transport (tests and benchmarks use fixture workers). */
   workerFile?: string;
   /** Seconds running jobs may take to finish after an interrupt. @default {@link GRACE_SECONDS} */
@@ -68,9 +69,12 @@ export function recordedOutcomes(trials: readonly TrialRecord[], objective: Obje
 }
 
 function defaultTransport(options: ExecuteOptions): (context: TransportContext) => TrialTransport {
-  const plan = faultPlan();
   return ({ workers }) =>
-    new ThreadTransport({ threads: workers, faults: plan.faultFor, ...(options.workerFile ? { workerFile: options.workerFile } : {}) });
+    new ThreadTransport({
+      threads: workers,
+      ...(options.faults ? { faults: options.faults } : {}),
+      ...(options.workerFile ? { workerFile: options.workerFile } : {}),
+    });
 }
 
 /**

@@ -1,6 +1,11 @@
 import type { FaultKind } from '../pool/messages.js';
 
-/** Test-only: `RUNGWISE_FAULT="3:throw,5:exit:1"` makes trial 3 throw on every attempt and trial 5 end its thread on its first. */
+/**
+ * Test-only fault switches, injected through options (`ExecuteOptions.faults`, the CLI's `main(argv,
+ * { faults })`); production code never reads them from the environment. Tests start the CLI through
+ * `test/fixtures/rungwise-test-bin.mjs`, which reads `RUNGWISE_FAULT="3:throw,5:exit:1"` (trial 3 throws
+ * on every attempt, trial 5 ends its thread on its first) and injects it.
+ */
 export const FAULT_VARIABLE = 'RUNGWISE_FAULT';
 
 export interface FaultPlan {
@@ -11,7 +16,7 @@ export interface FaultPlan {
 const KINDS: readonly FaultKind[] = ['throw', 'hang', 'exit'];
 
 /** Parse the fault switch; an unset or empty variable injects nothing. A malformed one is an internal error. */
-export function faultPlan(value: string | undefined = process.env[FAULT_VARIABLE]): FaultPlan {
+export function faultPlan(value: string | undefined): FaultPlan {
   const rules = new Map<number, { kind: FaultKind; attempts: number }>();
   for (const part of (value ?? '').split(',').map((p) => p.trim()).filter(Boolean)) {
     const [id, kind, attempts] = part.split(':');

@@ -1,8 +1,11 @@
 import { spawn } from 'node:child_process';
 import { fileURLToPath } from 'node:url';
 
-/** The project's `bin/rungwise.js`, which runs the compiled CLI (`npm test` builds first). */
-export const BIN = fileURLToPath(new URL('../../bin/rungwise.js', import.meta.url));
+/**
+ * The compiled CLI as tests start it (`npm test` builds first): `bin/rungwise.js` with the test-only
+ * fault switch `RUNGWISE_FAULT` injected (`test/fixtures/rungwise-test-bin.mjs`).
+ */
+export const BIN = fileURLToPath(new URL('../fixtures/rungwise-test-bin.mjs', import.meta.url));
 
 export interface CliResult {
   code: number | null;
