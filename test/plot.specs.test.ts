@@ -1,6 +1,6 @@
 import { readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
-import { robustDomain } from '../src/plot/data.js';
+import { extent, robustDomain } from '../src/plot/data.js';
 import { endLabels } from '../src/plot/charts/curves.js';
 import { agreementText } from '../src/plot/charts/rung-agreement.js';
 import { rungColour, studyColour, WINNER_SHAPE } from '../src/plot/palette.js';
@@ -139,5 +139,12 @@ describe('axes that a run-away trial does not flatten', () => {
 
   it('leaves the axis alone when every value lies within the fences', () => {
     expect(robustDomain([0.81, 0.83, 0.84, 0.86, 0.9])).toBeUndefined();
+  });
+});
+
+describe('long studies', () => {
+  it('finds the range of more values than a call can take as arguments', () => {
+    const values = Array.from({ length: 500_000 }, (_, i) => (i % 1000) / 10);
+    expect(extent(values)).toEqual([0, 99.9]);
   });
 });

@@ -52,3 +52,14 @@ export function robustDomain(values: readonly number[]): [number, number] | unde
   if (spread === 0 || (lo === sorted[0] && hi === sorted.at(-1))) return undefined;
   return [lo, hi];
 }
+
+/** The smallest and largest of `values`, by a loop (spreading a long array into Math.min overflows the stack). */
+export function extent(values: Iterable<number>): [number, number] {
+  let low = Infinity;
+  let high = -Infinity;
+  for (const value of values) {
+    if (value < low) low = value;
+    if (value > high) high = value;
+  }
+  return [low, high];
+}

@@ -1,6 +1,6 @@
 import type { StudyDocument } from '../../store/types.js';
 import { rankTrials } from '../../study/objective.js';
-import { curveRows, robustDomain } from '../data.js';
+import { curveRows, extent, robustDomain } from '../data.js';
 import { metricLabel } from '../labels.js';
 import { FADED, INK, WINNER_MARK, studyColour } from '../palette.js';
 import { titledChart, type Chart } from './chart.js';
@@ -39,7 +39,7 @@ export function learningCurvesChart(study: StudyDocument, colourIndex = 0, name 
   });
   if (rows.length === 0) return null;
   const domain = robustDomain(rows.map((r) => r.value));
-  const labels = endLabels(rows.filter((r) => r.last && r.group !== 'other'), domain ?? [Math.min(...rows.map((r) => r.value)), Math.max(...rows.map((r) => r.value))]);
+  const labels = endLabels(rows.filter((r) => r.last && r.group !== 'other'), domain ?? extent(rows.map((r) => r.value)));
   const title = `Learning curves: ${metricLabel(study.objective.metric)} by epoch${name === 'learning-curves' ? '' : ` (${study.name})`}`;
   const x = { field: 'epoch', type: 'quantitative' as const, title: 'epoch', axis: { tickMinStep: 1, format: 'd' } };
   const y = { field: 'value', type: 'quantitative' as const, title: metricLabel(study.objective.metric), scale: domain ? { zero: false, domain, clamp: true } : { zero: false } };

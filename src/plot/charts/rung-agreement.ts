@@ -1,5 +1,6 @@
 import type { StudyDocument } from '../../store/types.js';
 import { rungAgreements, rungStandings } from '../analysis/rung-agreement.js';
+import { extent } from '../data.js';
 import { isHalving } from '../labels.js';
 import { FADED, INK, WINNER_MARK, rungScale } from '../palette.js';
 import { bestTrial } from '../winner.js';
@@ -25,11 +26,11 @@ export function rungAgreementChart(study: StudyDocument): Chart | null {
   if (brackets.length === 0) return null;
   const title = 'How well each rung foretold the next';
   const rhoRows = agreements.map((a) => ({ bracket: a.bracket, rung: a.fromRung + 0.5, text: agreementText(a.rho, a.configurations) }));
-  const top = Math.max(...standings.map((s) => s.rung));
+  const top = extent(standings.map((s) => s.rung))[1];
   const panel = (bracket: number) => {
     const placesHere = standings.filter((s) => s.bracket === bracket);
-    const most = Math.max(...placesHere.map((s) => s.of));
-    const rungs = Math.max(...placesHere.map((s) => s.rung));
+    const most = extent(placesHere.map((s) => s.of))[1];
+    const rungs = extent(placesHere.map((s) => s.rung))[1];
     const x = { field: 'rung', type: 'quantitative' as const, title: 'rung', scale: { domain: [-0.25, rungs + 0.25] }, axis: { values: Array.from({ length: rungs + 1 }, (_, r) => r), format: 'd' } };
     const y = { field: 'place', type: 'quantitative' as const, title: 'place at the rung (1 = best)', scale: { reverse: true, domain: [1, most], nice: false }, axis: { tickMinStep: 1, format: 'd' } };
     return {

@@ -1,5 +1,6 @@
 import type { StudyDocument } from '../../store/types.js';
 import { rungShares } from '../analysis/budget.js';
+import { extent } from '../data.js';
 import { isHalving } from '../labels.js';
 import { INK, rungScale } from '../palette.js';
 import { titledChart, type Chart } from './chart.js';
@@ -19,7 +20,7 @@ export function rungBudgetChart(studies: readonly StudyDocument[]): Chart | null
     })),
   );
   if (rows.length === 0) return null;
-  const top = Math.max(...rows.map((r) => r.rung));
+  const top = extent(rows.map((r) => r.rung))[1];
   const title = 'Share of the compute each rung took';
   const subtitle = 'Epochs trained at each rung, as a share of all epochs the study trained. Rung 0 is the first, cheapest look at a configuration.';
   return titledChart('rung-budget', title, subtitle, {
