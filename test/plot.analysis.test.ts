@@ -149,6 +149,19 @@ describe('hyperparameter importance', () => {
     expect(effects[2]!.share).toBeLessThan(0.05);
   });
 
+  it('fits a long study on a seeded sample of configurations and still finds the same shares, the same way each time', () => {
+    const rng = stream('test', 'forest-data-long');
+    const rows = Array.from({ length: 1200 }, () => [rng(), rng(), rng()]);
+    const values = rows.map(([x1, x2]) => 2 * x1! + x2!);
+    const options = { seedKey: ['test'], trees: 20, maxRows: 150 };
+    const { effects } = forestImportance(rows, values, [...continuous, { kind: 'continuous' }], options);
+    expect(effects[0]!.share).toBeGreaterThan(0.65);
+    expect(effects[0]!.share).toBeLessThan(0.9);
+    expect(effects[1]!.share).toBeGreaterThan(0.1);
+    expect(effects[1]!.share).toBeLessThan(0.3);
+    expect(forestImportance(rows, values, [...continuous, { kind: 'continuous' }], options).effects.map((e) => e.share)).toEqual(effects.map((e) => e.share));
+  });
+
   it('is the same on every run of the same study file', () => {
     const first = studyImportance(hyperband)!;
     expect(first.parameters.map((p) => p.share)).toEqual(studyImportance(hyperband)!.parameters.map((p) => p.share));
