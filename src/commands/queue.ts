@@ -20,6 +20,16 @@ export interface QueueRun {
   check(dir: string): void;
 }
 
+/** Await a study command's run, then say (in place of any other error) that Redis was lost for good, when it was. */
+export async function settleQueued<T>(queue: QueueRun, dir: string, running: Promise<T>): Promise<T> {
+  const outcome = await running.catch((error: unknown) => {
+    queue.check(dir);
+    throw error;
+  });
+  queue.check(dir);
+  return outcome;
+}
+
 /** Wire `--queue` into a study command; without it, nothing changes. */
 export function queueRun(flags: QueueFlags, study: { name: string; dir: string; fresh: boolean }, stderr: NodeJS.WritableStream, signal?: AbortSignal): QueueRun {
   if (flags.queue === undefined) {

@@ -4,7 +4,7 @@ import { dataProgressObserver } from '../report/data-progress.js';
 import { resumeStudy, type ResumeOutcome } from '../runner/resume-study.js';
 import { StudyStore } from '../store/study-store.js';
 import { studyObserver, type ProgressTarget } from './observe.js';
-import { queueRun, type QueueFlags } from './queue.js';
+import { queueRun, settleQueued, type QueueFlags } from './queue.js';
 
 export interface ResumeCommandOptions extends ProgressTarget, QueueFlags {
   /** Run directory holding `study.json`. */
@@ -29,7 +29,7 @@ export async function resume(options: ResumeCommandOptions): Promise<ResumeOutco
   const onEvent = studyObserver(options, saved.definition, saved.objective);
   const dir = path.resolve(options.dir);
   const queue = queueRun(options, { name: saved.name, dir, fresh: false }, options.stderr ?? process.stderr, options.signal);
-  const outcome = await resumeStudy(options.dir, {
+  return settleQueued(queue, dir, resumeStudy(options.dir, {
     ...(options.workers !== undefined ? { workers: options.workers } : {}),
     ...(queue.signal ? { signal: queue.signal } : {}),
     ...(queue.transport ? { transport: queue.transport } : {}),
@@ -37,10 +37,5 @@ export async function resume(options: ResumeCommandOptions): Promise<ResumeOutco
     ...(onEvent ? { onEvent } : {}),
     ...(options.faults ? { faults: options.faults } : {}),
     ...(options.progress ? { onDataEvent: dataProgressObserver({ stream: options.progress }) } : {}),
-  }).catch((error: unknown) => {
-    queue.check(dir);
-    throw error;
-  });
-  queue.check(dir);
-  return outcome;
+  }));
 }

@@ -5,7 +5,7 @@ import { runStudy, type StudyOutcome } from '../runner/run-study.js';
 import { resolveObjective, type StudyDefinitionInput } from '../study/definition.js';
 import { loadStudy, studyFromObject } from '../study/load.js';
 import { studyObserver, type ProgressTarget } from './observe.js';
-import { queueRun, type QueueFlags } from './queue.js';
+import { queueRun, settleQueued, type QueueFlags } from './queue.js';
 
 export interface RunCommandOptions extends ProgressTarget, QueueFlags {
   /** A study definition file (JSON), or the definition itself as an object. */
@@ -49,7 +49,7 @@ export async function run(options: RunCommandOptions): Promise<StudyOutcome> {
   const onEvent = studyObserver(options, study.definition, objective);
   const dir = path.resolve(options.out ?? path.join('runs', study.definition.name));
   const queue = queueRun(options, { name: study.definition.name, dir, fresh: true }, options.stderr ?? process.stderr, options.signal);
-  const outcome = await runStudy(study, {
+  return settleQueued(queue, dir, runStudy(study, {
     ...(options.out !== undefined ? { out: options.out } : {}),
     ...(options.workers !== undefined ? { workers: options.workers } : {}),
     ...(options.force !== undefined ? { force: options.force } : {}),
@@ -58,10 +58,5 @@ export async function run(options: RunCommandOptions): Promise<StudyOutcome> {
     ...(onEvent ? { onEvent } : {}),
     ...(options.faults ? { faults: options.faults } : {}),
     ...(options.progress ? { onDataEvent: dataProgressObserver({ stream: options.progress }) } : {}),
-  }).catch((error: unknown) => {
-    queue.check(dir);
-    throw error;
-  });
-  queue.check(outcome.dir);
-  return outcome;
+  }));
 }
