@@ -37,9 +37,9 @@ const SPACE: StudyDefinitionInput['space'] = {
 };
 
 const fullyTrained = (trials: readonly TrialRecord[], maxEpochs: number): TrialRecord[] =>
-  trials.filter((t) => t.epochsTrained >= maxEpochs && t.objective !== null && ['completed', 'stopped'].includes(t.status));
+  trials.filter((t) => t.epochsTrained >= maxEpochs && t.score !== null && ['completed', 'stopped'].includes(t.status));
 
-const bestOf = (trials: readonly TrialRecord[]): number => Math.max(...trials.map((t) => t.objective!));
+const bestOf = (trials: readonly TrialRecord[]): number => Math.max(...trials.map((t) => t.score!));
 
 export async function studyBase(name: string, dir: string): Promise<StudyDefinitionInput['data'] | undefined> {
   if (name === 'penguins') {
@@ -72,7 +72,7 @@ export async function budgetGroup(options: BenchOptions): Promise<GroupResult> {
         space: SPACE,
         budget: { trials, maxEpochs },
         sampler: kind === 'random' ? { kind, seed: 5 } : { kind, seed: 5, eta: 3, minEpochs: 1 },
-        objective: { metric: 'accuracy', direction: 'maximize' },
+        goal: { metric: 'accuracy', better: 'higher' },
         workers,
       });
       const hyperbandCount = plannedTrialCount({ budget: { trials: 1, maxEpochs }, sampler: { kind: 'hyperband', seed: 5, eta: 3, minEpochs: 1 } });

@@ -80,15 +80,15 @@ async function writeCarsCsv(dir: string): Promise<string> {
 interface Dataset {
   name: string;
   data: StudyDefinitionInput['data'];
-  objective: NonNullable<StudyDefinitionInput['objective']>;
+  goal: NonNullable<StudyDefinitionInput['goal']>;
 }
 
 async function datasets(dir: string): Promise<Dataset[]> {
   const list: Dataset[] = [];
   const demo = await studyBase('demo', dir);
-  if (demo) list.push({ name: 'demo', data: demo, objective: { metric: 'auc', direction: 'maximize' } });
-  list.push({ name: 'penguins', data: { csv: await writePenguinsCsv(dir), target: 'Species', task: 'multiclass', splitSeed: 1 }, objective: { metric: 'logLoss', direction: 'minimize' } });
-  list.push({ name: 'cars', data: { csv: await writeCarsCsv(dir), target: 'Miles_per_Gallon', task: 'regression', splitSeed: 1 }, objective: { metric: 'rmse', direction: 'minimize' } });
+  if (demo) list.push({ name: 'demo', data: demo, goal: { metric: 'auc', better: 'higher' } });
+  list.push({ name: 'penguins', data: { csv: await writePenguinsCsv(dir), target: 'Species', task: 'multiclass', splitSeed: 1 }, goal: { metric: 'logLoss', better: 'lower' } });
+  list.push({ name: 'cars', data: { csv: await writeCarsCsv(dir), target: 'Miles_per_Gallon', task: 'regression', splitSeed: 1 }, goal: { metric: 'rmse', better: 'lower' } });
   return list;
 }
 
@@ -101,7 +101,7 @@ interface Progress {
 
 async function runProgress(dir: string, name: string, definition: StudyDefinitionInput, workers: number): Promise<Progress> {
   const file = await writeDefinition(dir, definition, `${name}.json`);
-  const sign = definition.objective?.direction === 'minimize' ? -1 : 1;
+  const sign = definition.goal?.better === 'lower' ? -1 : 1;
   const maxEpochs = definition.budget.maxEpochs;
   const steps: Progress['steps'] = [];
   let epochs = 0;
@@ -114,7 +114,7 @@ async function runProgress(dir: string, name: string, definition: StudyDefinitio
       if (event.type !== 'trial-finished') return;
       epochs += event.job.toEpoch - event.job.fromEpoch;
       if (event.job.rung === 0) trials++;
-      if (event.job.toEpoch === maxEpochs && event.trial.objective !== null) best = Math.max(best, sign * event.trial.objective);
+      if (event.job.toEpoch === maxEpochs && event.trial.score !== null) best = Math.max(best, sign * event.trial.score);
       steps.push({ trials, epochs, best });
     },
   });
@@ -143,7 +143,7 @@ export async function modelGroup(options: BenchOptions): Promise<GroupResult> {
       const entry = { dataset: dataset.name, trials: [] as number[], epochs: [] as number[] };
       for (const seed of seeds) {
         const base = (sampler: NonNullable<StudyDefinitionInput['sampler']>, budget: StudyDefinitionInput['budget']): StudyDefinitionInput => ({
-          name: `bench-model-${dataset.name}`, data: dataset.data, space: SPACE, budget, sampler, objective: dataset.objective, workers,
+          name: `bench-model-${dataset.name}`, data: dataset.data, space: SPACE, budget, sampler, goal: dataset.goal, workers,
         });
         const random = await runProgress(dir, `random-${dataset.name}-${seed}`, base({ kind: 'random', seed }, { trials, maxEpochs }), workers);
         const tpe = await runProgress(dir, `tpe-${dataset.name}-${seed}`, base({ kind: 'tpe', seed, startupTrials: 6, batchSize: workers }, { trials, maxEpochs }), workers);
@@ -155,7 +155,7 @@ export async function modelGroup(options: BenchOptions): Promise<GroupResult> {
         entry.trials.push((tpeTrials ?? Infinity) / trials);
         entry.epochs.push((tpeHbEpochs ?? Infinity) / hbEpochs);
         const shown = (x: number) => fmt(Math.abs(x), 4);
-        rows.push([dataset.name, seed, `${dataset.objective.metric} ${shown(random.final)}`, `${shown(tpe.final)}`, tpeTrials === null ? `not reached in ${trials}` : `${tpeTrials} of ${trials}`,
+        rows.push([dataset.name, seed, `${dataset.goal.metric} ${shown(random.final)}`, `${shown(tpe.final)}`, tpeTrials === null ? `not reached in ${trials}` : `${tpeTrials} of ${trials}`,
           `${shown(hyperband.final)} (${hbEpochs} epochs)`, shown(tpeHyperband.final), tpeHbEpochs === null ? `not reached in ${tpeHyperband.steps.at(-1)!.epochs}` : `${tpeHbEpochs}`]);
         console.log(`   ${rows.at(-1)!.join(' | ')}`);
       }

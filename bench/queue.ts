@@ -99,7 +99,7 @@ async function capacity(url: string, trials: number, workers: number, children: 
     });
     const seconds = (performance.now() - first!) / 1000;
     const used = process.cpuUsage(cpu);
-    const saved = (await StudyStore.open(out)).doc.trials.filter((t) => t.status === 'completed').length;
+    const saved = (await StudyStore.open(out)).doc.trials.filter((t) => t.status === 'trained').length;
     if (outcome.doc.state !== 'finished') throw new Error('capacity study did not finish');
     return { perSecond: (saved - 1) / seconds, saved, seconds, cpuMsPerJob: (used.user + used.system) / 1000 / saved };
   } finally {

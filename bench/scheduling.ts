@@ -4,7 +4,7 @@
  */
 import { availableParallelism } from 'node:os';
 import { createSampler, simulate, type Job } from '../src/samplers/index.js';
-import { studySchema, type SamplerKind, type TrialParams } from '../src/study/definition.js';
+import { studySchema, type SamplerKind, type TrialConfiguration } from '../src/study/definition.js';
 import { stream } from '../src/random/streams.js';
 import type { BenchOptions } from './index.js';
 import { fmt, type GroupResult } from './report.js';
@@ -13,7 +13,7 @@ import { parameterCount } from './synthetic.js';
 const ROWS = 2000;
 
 /** Virtual seconds per epoch: a fixed cost per batch plus 6 FLOPs per parameter per row at 1 GFLOP/s. */
-export function epochSeconds(params: TrialParams): number {
+export function epochSeconds(params: TrialConfiguration): number {
   const batches = Math.ceil(ROWS / params.batchSize);
   return 0.02 + batches * 3e-4 + (6 * parameterCount(10, params.depth, params.width, 1) * ROWS) / 1e9;
 }

@@ -24,11 +24,11 @@ export function baseDocument(): StudyDocument {
   const now = new Date().toISOString();
   return {
     format: 'rungwise-study',
-    version: 2,
+    version: 3,
     name: definition.name,
     definition,
     definitionFile: '/bench/study.json',
-    objective: { metric: 'auc', direction: 'maximize' },
+    goal: { metric: 'auc', better: 'higher' },
     data: { file: 'data.csv', rows: 3000, columns: 5, trainRows: 1950, validationRows: 600, testRows: 450, inputCount: 6, missingValues: 0 },
     recipe: { task: 'binary', target: 'y', inputCount: 6, classes: ['no', 'yes'], features: [{ kind: 'numeric', name: 'a', mean: 1.5, std: 0.5 }] },
     state: 'running',
@@ -50,20 +50,20 @@ export function trialRecord(id: number): TrialRecord {
   }));
   return {
     id,
-    params: { depth: 2, width: 64, activation: 'relu', learningRate: 0.001 + rng() * 0.01, batchSize: 32, optimizer: 'adam', l2: 0, dropout: 0 },
+    configuration: { depth: 2, width: 64, activation: 'relu', learningRate: 0.001 + rng() * 0.01, batchSize: 32, optimizer: 'adam', l2: 0, dropout: 0 },
     seed: Math.floor(rng() * 2 ** 31),
-    status: 'completed',
+    status: 'trained',
     rung: 0,
     bracket: 0,
     epochsTrained: EPOCHS,
     curve,
-    objective: curve.at(-1)!.metrics.auc!,
-    rungObjectives: [curve.at(-1)!.metrics.auc!],
+    score: curve.at(-1)!.metrics.auc!,
+    rungScores: [curve.at(-1)!.metrics.auc!],
     startedAt: new Date().toISOString(),
     endedAt: new Date().toISOString(),
     workerSeconds: 3,
     retries: 0,
-    jobs: [{ rung: 0, fromEpoch: 0, toEpoch: EPOCHS, fromCheckpoint: false, attempts: 1, status: 'completed' }],
+    jobs: [{ rung: 0, fromEpoch: 0, toEpoch: EPOCHS, fromCheckpoint: false, attempts: 1, status: 'done' }],
   };
 }
 

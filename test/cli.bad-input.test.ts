@@ -120,6 +120,6 @@ describe('rungwise run on valid but odd input: exit 0, the reading stated in not
     const saved = JSON.parse(await readFile(path.join(out, 'study.json'), 'utf8')) as { recipe: unknown; data: unknown; trials: { status: string }[] };
     expect(saved.recipe).toMatchObject(expected.recipe);
     expect(saved.data).toMatchObject(expected.summary);
-    expect(saved.trials.map((trial) => trial.status)).toEqual(['completed']);
+    expect(saved.trials.map((trial) => trial.status)).toEqual(['trained']);
   });
 });

@@ -58,7 +58,7 @@ describe('results on stdout, progress and messages on stderr', () => {
     expect(quiet.code).toBe(0);
     expect(quiet.stderr).toBe('');
     const doc = await StudyStore.read(runDir);
-    const expected = studyResultText(doc, rankTrials(doc.trials, doc.objective), studyFilePath(runDir));
+    const expected = studyResultText(doc, rankTrials(doc.trials, doc.goal), studyFilePath(runDir));
     expect(quiet.stdout).toBe(`${expected}\n`);
   });
 
@@ -88,7 +88,7 @@ describe('results on stdout, progress and messages on stderr', () => {
     expect(parsed.trials.filter((t) => t.status === 'diverged').every((t) => t.rank === null && t.reason?.startsWith('diverged at epoch'))).toBe(true);
     expect(parsed.trials.filter((t) => t.status === 'diverged')).toHaveLength(2);
     expect(parsed.trials.filter((t) => t.status === 'failed')).toHaveLength(1);
-    const ranked = rankTrials(doc.trials, doc.objective);
+    const ranked = rankTrials(doc.trials, doc.goal);
     expect(parsed.trials.filter((t) => t.ranked).map((t) => t.trial)).toEqual(ranked.map((r) => r.trial.id));
 
     const top = JSON.parse((await runCli(['ranking', dir, '--json', '--top', '3'])).stdout) as StudyResultJson;

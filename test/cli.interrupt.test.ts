@@ -48,7 +48,7 @@ describe('stopping a running study', () => {
     expect(run.output().stdout).toMatch(/study tiny interrupted: /);
     const doc = (await StudyStore.open(dir)).doc;
     expect(doc.state).toBe('interrupted');
-    expect(doc.trials.filter((t) => t.status === 'completed').length).toBeGreaterThanOrEqual(1);
+    expect(doc.trials.filter((t) => t.status === 'trained').length).toBeGreaterThanOrEqual(1);
     expect(doc.trials.length).toBeLessThan(40);
   });
 
@@ -61,7 +61,7 @@ describe('stopping a running study', () => {
     run.child.kill('SIGINT');
     expect(await run.exited).toBe(130);
     const doc = (await StudyStore.open(dir)).doc;
-    expect(doc.trials.some((t) => t.status === 'completed')).toBe(true);
+    expect(doc.trials.some((t) => t.status === 'trained')).toBe(true);
   });
 
   it('refuses a second run or resume on the same directory, naming the process that holds it', async () => {

@@ -48,15 +48,15 @@ describe('rungwise run and ranking', () => {
 
     const ranking = await runCli(['ranking', out, '--json']);
     expect(ranking.code).toBe(0);
-    const parsed = JSON.parse(ranking.stdout) as { trials: { rank: number; trial: number; epochs: number; objective: number }[] };
+    const parsed = JSON.parse(ranking.stdout) as { trials: { rank: number; trial: number; epochs: number; score: number }[] };
     expect(parsed.trials.map((r) => r.rank)).toEqual([1, 2, 3]);
     expect(parsed.trials.every((r) => r.epochs === 4)).toBe(true);
-    const objectives = parsed.trials.map((r) => r.objective);
-    expect([...objectives].sort((a, b) => b - a)).toEqual(objectives);
+    const scores = parsed.trials.map((r) => r.score);
+    expect([...scores].sort((a, b) => b - a)).toEqual(scores);
 
     const doc = await StudyStore.read(out);
     expect(doc.trials).toHaveLength(3);
-    expect(doc.trials.every((t) => t.status === 'completed' && t.curve.length === 4)).toBe(true);
+    expect(doc.trials.every((t) => t.status === 'trained' && t.curve.length === 4)).toBe(true);
   });
 
   it('refuses to run over a directory that already holds a study', async () => {

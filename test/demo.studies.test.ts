@@ -62,7 +62,7 @@ describe('the demo studies', () => {
   it('search the same space with the AUC objective', () => {
     const [random, ...others] = DEMO_FILES.map(load);
     for (const definition of others) expect(definition!.space).toEqual(random!.space);
-    for (const definition of [random, ...others]) expect(definition!.objective?.metric).toBe('auc');
+    for (const definition of [random, ...others]) expect(definition!.goal?.metric).toBe('auc');
     expect(random!.sampler.kind).toBe('random');
     expect(random!.budget).toEqual({ trials: 16, maxEpochs: 20 });
   });

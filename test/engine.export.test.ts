@@ -11,7 +11,7 @@ import type { PreparedData } from '../src/data/types.js';
 import { trainSegmentOnEngine } from '../src/engine/segment.js';
 import { evaluateExportedModel } from '../src/export/evaluate.js';
 import { buildLayersModel } from '../src/export/model-files.js';
-import { ACTIVATIONS, dataSchema, type Task, type TrialParams } from '../src/study/definition.js';
+import { ACTIVATIONS, dataSchema, type Task, type TrialConfiguration } from '../src/study/definition.js';
 import { initBackend } from '../src/train/backend.js';
 import { PENGUINS_MEASUREMENTS, PENGUINS_TARGET, writeIrisCsv, writePenguinsCsv } from './helpers/datasets.js';
 
@@ -43,7 +43,7 @@ describe('export of engine-trained models', () => {
     for (const activation of ACTIVATIONS) {
       it(`${task}, ${activation}: the exported tfjs model reproduces every recorded validation metric within 1e-5`, async () => {
         const data = await load();
-        const params: TrialParams = { depth: 2, width: 12, activation, learningRate: 0.01, batchSize: 16, optimizer: 'adam', l2: 1e-4, dropout: 0.1 };
+        const params: TrialConfiguration = { depth: 2, width: 12, activation, learningRate: 0.01, batchSize: 16, optimizer: 'adam', l2: 1e-4, dropout: 0.1 };
         const dataset = toSharedDataset(data, `export-${task}`);
         const result = await trainSegmentOnEngine({ trialId: 4, seed: 21, params, dataset, datasetId: dataset.id, fromEpoch: 0, toEpoch: 4 });
         expect(result.status).toBe('completed');

@@ -57,7 +57,7 @@ const studies: Record<string, StudyDefinitionInput> = {
     space: space(['leakyRelu']),
     budget: { trials: 2, maxEpochs: 3 },
     sampler: { kind: 'random', seed: 5 },
-    objective: { metric: 'logLoss' },
+    goal: { metric: 'logLoss' },
     workers: 1,
   },
   regression: {
@@ -114,7 +114,7 @@ async function validationOutputs(doc: StudyDocument, exportDir: string): Promise
 
 async function bestTrialMetrics(runDir: string): Promise<{ doc: StudyDocument; metrics: Record<string, number> }> {
   const doc = await StudyStore.read(runDir);
-  const best = rankTrials(doc.trials, doc.objective)[0]!.trial;
+  const best = rankTrials(doc.trials, doc.goal)[0]!.trial;
   return { doc, metrics: best.curve.at(-1)!.metrics as Record<string, number> };
 }
 
@@ -165,18 +165,19 @@ describe('rungwise export of a kept checkpoint', () => {
     }
   });
 
-  it('records the trial, its objective, the recipe, the input order and the caution in configuration.json', async () => {
+  it('records the trial, its score, the recipe, the input order and the caution in configuration.json', async () => {
     const { doc, metrics } = await bestTrialMetrics(runs.multiclass!);
-    const best = rankTrials(doc.trials, doc.objective)[0]!.trial;
+    const best = rankTrials(doc.trials, doc.goal)[0]!.trial;
     const configuration = JSON.parse(await readFile(path.join(summary.out, 'configuration.json'), 'utf8')) as ExportConfiguration;
     expect(configuration).toMatchObject({
       study: 'iris-export',
       trialId: best.id,
       rank: 1,
-      params: best.params,
+      configuration: best.configuration,
       epochsTrained: 4,
       seed: best.seed,
-      objective: { metric: 'accuracy', direction: 'maximize', value: best.objective },
+      goal: { metric: 'accuracy', better: 'higher' },
+      score: best.score,
       validation: { epoch: 4, metrics },
       trainedOn: 'training split',
       caution: OPTIMISM_CAUTION,
@@ -245,7 +246,7 @@ describe('rungwise export refusals', () => {
     await cp(runs.multiclass!, copy, { recursive: true });
     await rm(path.join(copy, 'export'), { recursive: true, force: true });
     const doc = await StudyStore.read(copy);
-    const best = rankTrials(doc.trials, doc.objective)[0]!.trial;
+    const best = rankTrials(doc.trials, doc.goal)[0]!.trial;
     const file = path.join(copy, 'checkpoints', `trial-${best.id}.ckpt`);
     await truncate(file, (await stat(file)).size - 8);
     await expect(exportModel({ dir: copy })).rejects.toThrow(/shorter than its manifest says/);

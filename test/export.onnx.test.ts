@@ -13,7 +13,7 @@ import { loadModel, predict, type ClassPrediction, type ValuePrediction } from '
 import type { ExportConfiguration } from '../src/export/configuration.js';
 import { buildLayersModel, predictRows } from '../src/export/model-files.js';
 import { onnxModelBytes } from '../src/export/onnx.js';
-import { ACTIVATIONS, type StudyDefinitionInput, type TrialParams } from '../src/study/definition.js';
+import { ACTIVATIONS, type StudyDefinitionInput, type TrialConfiguration } from '../src/study/definition.js';
 import { initBackend } from '../src/train/backend.js';
 import { exportTinyStudies, type TinyExport } from './helpers/exports.js';
 
@@ -136,7 +136,7 @@ describe('export --format onnx, run by onnxruntime-node', () => {
     raw[4] = Number.NaN; // a missing 'a' in row 1
     const encoded = Float32Array.from(raw, (v, i) => (i % 4 === 0 ? (Number.isNaN(v) ? 0 : (v - 3) / 2) : i % 4 === 3 ? (v + 1) / 0.5 : v));
     for (const activation of ACTIVATIONS) {
-      const params = { depth: 2, width: 5, activation, learningRate: 0.01, batchSize: 16, optimizer: 'adam', l2: 0, dropout: 0 } as TrialParams;
+      const params = { depth: 2, width: 5, activation, learningRate: 0.01, batchSize: 16, optimizer: 'adam', l2: 0, dropout: 0 } as TrialConfiguration;
       const shapes: number[][] = [[4, 5], [5], [5, 5], [5], [5, 3], [3]];
       const weights = shapes.map((shape, i) => ({ name: `w${i}`, shape, values: Float32Array.from({ length: shape.reduce((a, b) => a * b, 1) }, () => next() * 1.5) }));
       const network = buildLayersModel(params, recipe, weights);

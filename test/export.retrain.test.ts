@@ -61,7 +61,7 @@ describe('rungwise export --retrain', () => {
   });
 
   it('reports the held-out test metrics beside the validation metrics the study recorded', () => {
-    const trial = rankTrials(doc.trials, doc.objective)[3]!.trial;
+    const trial = rankTrials(doc.trials, doc.goal)[3]!.trial;
     expect(summary.retrained).toBe(true);
     expect(summary.trialId).toBe(trial.id);
     expect(summary.validation).toEqual(trial.curve.at(-1)!.metrics);

@@ -8,12 +8,9 @@ import { studyImportance } from '../src/plot/analysis/study-importance.js';
 import { stream } from '../src/random/streams.js';
 import type { StudyDocument } from '../src/store/types.js';
 import { rankTrials } from '../src/study/objective.js';
+import { studyFixture } from './helpers/study-fixtures.js';
 
-function fixture(name: string): StudyDocument {
-  const doc = JSON.parse(readFileSync(new URL(`./fixtures/studies/${name}.json`, import.meta.url), 'utf8')) as StudyDocument & { version: number };
-  // The fixtures are version 1 (no job records), as the store's migration leaves them.
-  return { ...doc, version: 2, trials: doc.trials.map((t) => ({ ...t, retries: 0, jobs: t.jobs ?? [] })) };
-}
+const fixture = studyFixture;
 
 const randomFive = fixture('random-five');
 const halvingNine = fixture('halving-nine');
@@ -39,7 +36,7 @@ describe('rank agreement between rungs', () => {
   });
 
   it("places the winner at every rung it reached, among the bracket's trials scored there", () => {
-    const winner = rankTrials(halvingNine.trials, halvingNine.objective)[0]!.trial.id;
+    const winner = rankTrials(halvingNine.trials, halvingNine.goal)[0]!.trial.id;
     expect(winner).toBe(5);
     expect(rungStandings(halvingNine).filter((s) => s.trialId === winner).map((s) => [s.rung, s.rungEpochs, s.place, s.of])).toEqual([
       [0, 1, 1, 9],
@@ -63,12 +60,12 @@ describe('budget spent', () => {
     const winner = study.trials.find((t) => t.id === 5)!;
     // Rung 1 continued from the checkpoint (epochs 2..3); rung 2 found its checkpoint lost and trained 1..9 again.
     winner.jobs = [
-      { rung: 0, fromEpoch: 0, toEpoch: 1, fromCheckpoint: false, attempts: 1, status: 'completed' },
-      { rung: 1, fromEpoch: 1, toEpoch: 3, fromCheckpoint: true, attempts: 1, status: 'completed' },
-      { rung: 2, fromEpoch: 0, toEpoch: 9, fromCheckpoint: false, attempts: 1, status: 'completed' },
+      { rung: 0, fromEpoch: 0, toEpoch: 1, fromCheckpoint: false, attempts: 1, status: 'done' },
+      { rung: 1, fromEpoch: 1, toEpoch: 3, fromCheckpoint: true, attempts: 1, status: 'done' },
+      { rung: 2, fromEpoch: 0, toEpoch: 9, fromCheckpoint: false, attempts: 1, status: 'done' },
     ];
     const jobs = studyJobs(study).filter((j) => j.trialId === 5);
-    expect(jobs.map((j) => [j.rung, j.epochs, j.objective])).toEqual([
+    expect(jobs.map((j) => [j.rung, j.epochs, j.score])).toEqual([
       [0, 1, 0.38],
       [1, 2, 0.34],
       [2, 9, 0.22],
@@ -76,14 +73,14 @@ describe('budget spent', () => {
     // 21 epochs as planned, and 3 more for the rung-2 job that started again from epoch 0.
     expect(computeSpent(study).epochs).toBe(24);
     // A job still running has not ended: it spends nothing yet and scores nothing.
-    winner.jobs[2]!.status = 'running';
+    winner.jobs[2]!.status = 'training';
     expect(studyJobs(study).filter((j) => j.trialId === 5)).toHaveLength(2);
   });
 
   it("ends the leader's replay at the study's rank 1", () => {
     for (const study of [randomFive, halvingNine, hyperband]) {
       const steps = leaderSteps(study);
-      expect(steps.at(-1)!.leaderId).toBe(rankTrials(study.trials, study.objective)[0]!.trial.id);
+      expect(steps.at(-1)!.leaderId).toBe(rankTrials(study.trials, study.goal)[0]!.trial.id);
       expect(steps.at(-1)!.epochsSpent).toBe(computeSpent(study).epochs);
       // Compute only grows along the replay.
       for (let i = 1; i < steps.length; i++) expect(steps[i]!.epochsSpent).toBeGreaterThanOrEqual(steps[i - 1]!.epochsSpent);

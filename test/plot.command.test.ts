@@ -89,7 +89,7 @@ describe('rungwise plot', () => {
     );
     expect(html).toContain('<th scope="row">study</th><td>random-five</td>');
     expect(html).toContain('<th scope="row">sampler</th><td>random (seed 0)</td>');
-    expect(html).toContain('<th scope="row">objective</th><td>validation AUC, higher is better</td>');
+    expect(html).toContain('<th scope="row">goal</th><td>validation AUC, higher is better</td>');
     expect(html).toContain('<th scope="row">trials by status</th><td>completed 4, diverged 1</td>');
     expect(html).toContain('<th scope="row">best trial</th><td>trial 5: 0.86 after 3 epochs</td>');
     expect(html).toContain('2 hidden layers of 32 units, tanh activation, adam with learning rate 0.003, batch size 32, L2 penalty 0.01, dropout 0.3');
@@ -102,7 +102,7 @@ describe('rungwise plot', () => {
     expect(html).not.toMatch(/(src|href)\s*=\s*["']?https?:|url\(\s*["']?https?:/i);
   });
 
-  it('names as best the trial trained for the most epochs, then the best objective, under a halving sampler', async () => {
+  it('names as best the trial trained for the most epochs, then the best score, under a halving sampler', async () => {
     await copyFile(fixturePath('halving-nine'), path.join(dir, 'study.json'));
     await plot({ dir });
     const html = await readFile(path.join(dir, 'plots', 'report.html'), 'utf8');

@@ -49,13 +49,13 @@ describe('rungwise compare', () => {
     expect(table.split('\n')[0]).toMatch(/random-five \(1\)\s+random-five \(2\)$/);
   });
 
-  it('refuses studies ranked by different objectives, naming the study file', async () => {
+  it('refuses studies ranked by different goals, naming the study file', async () => {
     const a = await runDir('a', 'random-five');
     const b = await runDir('b', 'halving-nine');
     const error = await compare({ dirs: [a, b] }).catch((e: unknown) => e);
     expect(error).toBeInstanceOf(UserError);
     expect((error as UserError).message).toBe(
-      `${path.join(b, 'study.json')}: ranked by logLoss (minimize), but ${path.join(a, 'study.json')} by auc (maximize); compare needs studies ranked by the same objective`,
+      `${path.join(b, 'study.json')}: ranked by logLoss (lower is better), but ${path.join(a, 'study.json')} by auc (higher is better); compare needs studies ranked by the same goal`,
     );
   });
 

@@ -4,11 +4,9 @@ import { compileSpec, renderSvg } from '../src/plot/render.js';
 import { scopeSvgIds } from '../src/plot/report.js';
 import { studyCharts } from '../src/plot/specs.js';
 import type { StudyDocument } from '../src/store/types.js';
+import { studyFixture } from './helpers/study-fixtures.js';
 
-function fixture(name: string): StudyDocument {
-  const doc = JSON.parse(readFileSync(new URL(`./fixtures/studies/${name}.json`, import.meta.url), 'utf8')) as StudyDocument;
-  return { ...doc, trials: doc.trials.map((t) => ({ ...t, retries: 0, jobs: t.jobs ?? [] })) };
-}
+const fixture = studyFixture;
 
 /** Items drawn per vega mark type: vega writes each mark as `<g class="mark-<type> role-mark">` holding one element per item. */
 function drawnMarks(svg: string): Record<string, number> {

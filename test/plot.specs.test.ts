@@ -7,11 +7,9 @@ import { rungColour, studyColour, WINNER_SHAPE } from '../src/plot/palette.js';
 import { budgetChart, learningCurvesChart, rungAgreementChart, rungBudgetChart, studyCharts } from '../src/plot/specs.js';
 import { topConfigurations } from '../src/plot/top-table.js';
 import type { StudyDocument } from '../src/store/types.js';
+import { studyFixture } from './helpers/study-fixtures.js';
 
-function fixture(name: string): StudyDocument {
-  const doc = JSON.parse(readFileSync(new URL(`./fixtures/studies/${name}.json`, import.meta.url), 'utf8')) as StudyDocument;
-  return { ...doc, trials: doc.trials.map((t) => ({ ...t, retries: 0, jobs: t.jobs ?? [] })) };
-}
+const fixture = studyFixture;
 
 /** Random search, maximise AUC, 5 trials (trial 4 diverged). */
 const randomFive = fixture('random-five');
@@ -44,8 +42,8 @@ describe('top configurations', () => {
   it('gives the spread of repeats of one configuration trained equally long', () => {
     const study = structuredClone(randomFive);
     // Trial 1 repeats trial 5's configuration and scores 0.8 at the same 3 epochs.
-    study.trials[0]!.params = { ...study.trials[4]!.params };
-    study.trials[0]!.objective = 0.8;
+    study.trials[0]!.configuration = { ...study.trials[4]!.configuration };
+    study.trials[0]!.score = 0.8;
     const { rows } = topConfigurations(study);
     expect(rows[0]!['repeats (range)']).toBe('2 (0.8 to 0.86)');
     expect(rows.find((r) => r['trial'] === '3')!['repeats (range)']).toBe('1');
@@ -57,7 +55,7 @@ describe('budget chart', () => {
     const spec = budgetChart([halvingNine])!.spec as unknown as Layered & { layer: { encoding?: { x?: { field: string } } }[] };
     const steps = spec.layer[0]!.data!.values;
     expect(spec.layer[0]!.mark).toMatchObject({ type: 'line', interpolate: 'step-after' });
-    expect(steps.at(-1)).toMatchObject({ epochsSpent: 21, leaderId: 5, objective: 0.22 });
+    expect(steps.at(-1)).toMatchObject({ epochsSpent: 21, leaderId: 5, score: 0.22 });
     expect(steps.filter((s) => s['winner']).map((s) => s['leaderId'])).toEqual([5]);
     const rule = spec.layer.find((l) => (l.mark as { type: string }).type === 'rule')!;
     expect(rule.data!.values).toEqual([{ study: 'halving-nine', epochs: 21, label: 'planned: 21 epochs' }]);

@@ -53,7 +53,7 @@ async function studyAndExport(name: string, data: object): Promise<Exported> {
   await runStudy(file, { out: runDir });
   const doc = await StudyStore.read(runDir);
   const exported = await exportModel({ dir: runDir });
-  const best = rankTrials(doc.trials, doc.objective)[0]!.trial;
+  const best = rankTrials(doc.trials, doc.goal)[0]!.trial;
   return { doc, data: (await prepareData(doc.definition.data, doc.definitionFile)).data, model: exported.out, recorded: best.curve.at(-1)!.metrics as Record<string, number> };
 }
 

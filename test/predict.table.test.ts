@@ -71,16 +71,16 @@ describe('configuration of an export', () => {
     };
     const trial = {
       id: 7,
-      params: { depth: 1, width: 4, activation: 'relu', learningRate: 0.01, batchSize: 16, optimizer: 'adam', l2: 0, dropout: 0 },
+      configuration: { depth: 1, width: 4, activation: 'relu', learningRate: 0.01, batchSize: 16, optimizer: 'adam', l2: 0, dropout: 0 },
       seed: 123,
       epochsTrained: 2,
-      objective: 0.8,
+      score: 0.8,
       curve: [{ epoch: 2, trainLoss: 0.5, validationLoss: 0.6, metrics: { auc: 0.8 }, seconds: 0.1 }],
     } as unknown as TrialRecord;
-    const doc = { name: 'pumps', objective: { metric: 'auc', direction: 'maximize' }, recipe } as unknown as StudyDocument;
+    const doc = { name: 'pumps', goal: { metric: 'auc', better: 'higher' }, recipe } as unknown as StudyDocument;
     const configuration = buildConfiguration(doc, trial, 2, undefined);
     expect(configuration.inputs).toEqual(['hours', 'site=north', 'site=south', 'temp']);
-    expect(configuration.objective).toEqual({ metric: 'auc', direction: 'maximize', value: 0.8 });
+    expect(configuration).toMatchObject({ goal: { metric: 'auc', better: 'higher' }, score: 0.8 });
     expect(configuration.validation).toEqual({ epoch: 2, trainLoss: 0.5, validationLoss: 0.6, metrics: { auc: 0.8 } });
     expect(configuration.outputs).toMatchObject({ task: 'binary', classes: ['no', 'yes'] });
     expect(configuration.outputs.meaning).toContain("probability of class 'yes'");

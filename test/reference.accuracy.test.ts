@@ -26,12 +26,12 @@ async function bestAccuracy(csv: string, data: Omit<StudyDefinitionInput['data']
     space,
     budget: { trials, maxEpochs: 40 },
     sampler: { kind: 'random', seed: 1 },
-    objective: { metric: 'accuracy' },
+    goal: { metric: 'accuracy' },
     workers,
   };
   await writeFile(file, JSON.stringify(definition));
   const outcome = await runStudy(file, { out: path.join(path.dirname(csv), `run-${workers}`) });
-  return { best: outcome.ranking[0]!.trial.objective!, ids: outcome.ranking.map((r) => r.trial.id) };
+  return { best: outcome.ranking[0]!.trial.score!, ids: outcome.ranking.map((r) => r.trial.id) };
 }
 
 describe('accuracy on reference data sets', () => {

@@ -7,11 +7,11 @@ import { painterFor } from '../src/report/style.js';
 import type { StudyEvent, StudyProgress } from '../src/runner/events.js';
 import type { Job } from '../src/samplers/sampler.js';
 import type { StudyDocument, TrialRecord } from '../src/store/types.js';
-import type { Objective, TrialParams } from '../src/study/definition.js';
+import type { Goal, TrialConfiguration } from '../src/study/definition.js';
 import { trialRecord } from './helpers/trials.js';
 
-const objective: Objective = { metric: 'accuracy', direction: 'maximize' };
-const params = { depth: 1, width: 8, activation: 'relu', learningRate: 0.01, batchSize: 16, optimizer: 'adam', l2: 0, dropout: 0 } as TrialParams;
+const goal: Goal = { metric: 'accuracy', better: 'higher' };
+const params = { depth: 1, width: 8, activation: 'relu', learningRate: 0.01, batchSize: 16, optimizer: 'adam', l2: 0, dropout: 0 } as TrialConfiguration;
 
 function sink(): { stream: Writable; text: () => string } {
   let text = '';
@@ -28,10 +28,10 @@ function job(trialId: number, rung: number, fromEpoch: number, toEpoch: number, 
   return { trialId, params, rung, bracket, fromEpoch, toEpoch };
 }
 
-/** A trial paused (or in `status`) after the rungs whose objectives are given. */
-function record(id: number, rungObjectives: (number | null)[], status: TrialRecord['status'] = 'paused'): TrialRecord {
+/** A trial waiting (or in `status`) after the rungs whose scores are given. */
+function record(id: number, rungScores: (number | null)[], status: TrialRecord['status'] = 'waiting'): TrialRecord {
   // Rungs of the halving plan below end at 1, 3 and 9 epochs.
-  return trialRecord(id, rungObjectives.at(-1) ?? null, { status, rung: rungObjectives.length - 1, rungObjectives, epochsTrained: [1, 3, 9][rungObjectives.length - 1]! });
+  return trialRecord(id, rungScores.at(-1) ?? null, { status, rung: rungScores.length - 1, rungScores, epochsTrained: [1, 3, 9][rungScores.length - 1]! });
 }
 
 const halving = plannedWork({ budget: { trials: 9, maxEpochs: 9 }, sampler: { kind: 'successive-halving', seed: 1, eta: 3, minEpochs: 1 } } as never);
@@ -84,7 +84,7 @@ describe('planned work of each sampler', () => {
 describe('progress written to a pipe', () => {
   it('writes one line per ended job with jobs and epochs of the plan, never repeating a job, telling each job from its own rung', () => {
     const out = sink();
-    const observe = progressObserver({ objective, plan: halving, stream: out.stream, live: false });
+    const observe = progressObserver({ goal, plan: halving, stream: out.stream, live: false });
     observe(started());
     const t0 = record(0, [0.5]);
     const t1 = record(1, [0.7]);
@@ -93,7 +93,7 @@ describe('progress written to a pipe', () => {
     // The same announcement again (a batch holding it twice) is not told twice.
     observe({ type: 'trial-finished', trial: t1, job: job(1, 0, 0, 1), best: t1, finishedTrials: 0, progress: progressOf(2, 2) });
     // Trial 1 promoted: by the time rung 1 is announced its record already says rung 1.
-    const promoted = record(1, [0.7, 0.8], 'completed');
+    const promoted = record(1, [0.7, 0.8], 'trained');
     playJob(observe, job(1, 1, 1, 3), promoted, promoted);
     const lines = out.text().trim().split('\n');
     expect(lines[0]).toBe('running study pumps on 2 workers: 13 jobs, 21 epochs planned; study file in /runs/pumps');
@@ -106,7 +106,7 @@ describe('progress written to a pipe', () => {
 
   it('names the leader the runner sent, even when another trial has a better objective (the ranking orders by epochs first)', () => {
     const out = sink();
-    const observe = progressObserver({ objective, plan: halving, stream: out.stream, live: false });
+    const observe = progressObserver({ goal, plan: halving, stream: out.stream, live: false });
     observe(started());
     const low = record(3, [0.9, 0.6]);
     const high = record(4, [0.95]);
@@ -116,7 +116,7 @@ describe('progress written to a pipe', () => {
 
   it('marks a diverged job with its epoch and reason', () => {
     const out = sink();
-    const observe = progressObserver({ objective, plan: halving, stream: out.stream, live: false });
+    const observe = progressObserver({ goal, plan: halving, stream: out.stream, live: false });
     observe(started());
     const diverged = { ...record(2, [null], 'diverged'), divergence: { epoch: 1, reason: 'loss is NaN' } };
     playJob(observe, job(2, 0, 0, 1), diverged, record(0, [0.5]));
@@ -128,7 +128,7 @@ describe('progress on a terminal', () => {
   function liveLines(columns: number): { lines: string[]; observe: (e: StudyEvent) => void; clock: { t: number } } {
     const out = sink();
     const clock = { t: 0 };
-    const observe = progressObserver({ objective, plan: halving, stream: out.stream, live: true, columns, now: () => clock.t });
+    const observe = progressObserver({ goal, plan: halving, stream: out.stream, live: true, columns, now: () => clock.t });
     const result = {
       observe,
       clock,
@@ -163,7 +163,7 @@ describe('progress on a terminal', () => {
 
   it('clears its line before the study ends with a summary line', () => {
     const out = sink();
-    const observe = progressObserver({ objective, plan: halving, stream: out.stream, live: true, columns: 60 });
+    const observe = progressObserver({ goal, plan: halving, stream: out.stream, live: true, columns: 60 });
     observe(started());
     observe({ type: 'study-finished', doc: { state: 'finished' } as StudyDocument, ranking: [] });
     expect(out.text()).toMatch(/\r\u001b\[Kstudy finished: 0\/13 jobs, 0\/21 epochs in 00:00\n$/);

@@ -29,7 +29,7 @@ const halving: StudyDefinitionInput = tinyStudy({
 /** Everything about the trials that must not depend on interruptions. */
 const resultOf = (doc: StudyDocument) =>
   doc.trials
-    .map((t) => ({ id: t.id, status: t.status, epochs: t.epochsTrained, objective: t.objective, curve: t.curve.map(({ seconds: _s, ...p }) => p) }))
+    .map((t) => ({ id: t.id, status: t.status, epochs: t.epochsTrained, objective: t.score, curve: t.curve.map(({ seconds: _s, ...p }) => p) }))
     .sort((a, b) => a.id - b.id);
 
 let reference: StudyOutcome | undefined;
@@ -103,7 +103,7 @@ describe('a curve log cut in the middle of its last line', () => {
 describe('lost checkpoints', () => {
   it('are trained again from epoch 0, said once, with the same result as an uninterrupted run', async () => {
     const { dir } = await interruptedAtFirstPromotion();
-    const before = (await StudyStore.read(dir)).trials.filter((t) => t.status === 'paused');
+    const before = (await StudyStore.read(dir)).trials.filter((t) => t.status === 'waiting');
     expect(before.length).toBeGreaterThan(0);
     await rm(path.join(dir, 'checkpoints'), { recursive: true, force: true });
     const events: StudyEvent[] = [];

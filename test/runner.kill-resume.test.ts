@@ -43,12 +43,12 @@ function runAndKill(args: string[], moment: Moment): Promise<void> {
 }
 
 function finishedIds(doc: StudyDocument | undefined): number[] {
-  return (doc?.trials ?? []).filter((t) => t.status === 'completed').map((t) => t.id).sort((a, b) => a - b);
+  return (doc?.trials ?? []).filter((t) => t.status === 'trained').map((t) => t.id).sort((a, b) => a - b);
 }
 
 const resultOf = (doc: StudyDocument) =>
   doc.trials
-    .map((t) => ({ id: t.id, status: t.status, epochs: t.epochsTrained, objective: t.objective, params: t.params, curve: t.curve.map(({ seconds: _s, ...p }) => p) }))
+    .map((t) => ({ id: t.id, status: t.status, epochs: t.epochsTrained, objective: t.score, params: t.configuration, curve: t.curve.map(({ seconds: _s, ...p }) => p) }))
     .sort((a, b) => a.id - b.id);
 
 describe('killing and resuming a study', () => {

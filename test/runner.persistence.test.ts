@@ -16,7 +16,7 @@ function trial(id: number, status: TrialStatus, objective: number | null): Trial
 
 async function setUp(trials: TrialRecord[], continuing: Set<number>) {
   const dir = await mkdtemp(path.join(tmpdir(), 'rungwise-persistence-'));
-  const doc = { format: 'rungwise-study', version: 2, name: 'p', objective: { metric: 'accuracy', direction: 'maximize' }, state: 'running', trials } as unknown as StudyDocument;
+  const doc = { format: 'rungwise-study', version: 3, name: 'p', goal: { metric: 'accuracy', better: 'higher' }, state: 'running', trials } as unknown as StudyDocument;
   const store = await StudyStore.create(dir, doc);
   const checkpoints = new MemoryCheckpointStore();
   for (const t of trials) await checkpoints.write(t.id, new Uint8Array([t.id]));
@@ -31,7 +31,7 @@ describe('saving and pruning', () => {
     // Trial 0 is paused at the top of the ranking and will be continued; trials 1-3 are stopped below it.
     const continuing = new Set([0]);
     const { doc, checkpoints, persistence } = await setUp(
-      [trial(0, 'paused', 0.9), trial(1, 'stopped', 0.8), trial(2, 'stopped', 0.7), trial(3, 'stopped', 0.6), trial(4, 'stopped', 0.5)],
+      [trial(0, 'waiting', 0.9), trial(1, 'dropped', 0.8), trial(2, 'dropped', 0.7), trial(3, 'dropped', 0.6), trial(4, 'dropped', 0.5)],
       continuing,
     );
     persistence.queue(1);
@@ -39,7 +39,7 @@ describe('saving and pruning', () => {
     expect(await checkpoints.list()).toEqual([0, 1, 2, 3]);
     // Its continuation diverges: it leaves the ranking and trial 3 rises to third.
     doc.trials[0]!.status = 'diverged';
-    doc.trials[0]!.objective = null;
+    doc.trials[0]!.score = null;
     continuing.delete(0);
     persistence.queue(2);
     await persistence.flush();
@@ -47,7 +47,7 @@ describe('saving and pruning', () => {
   });
 
   it('announces each item once, after the save that holds it', async () => {
-    const { persistence, announced } = await setUp([trial(0, 'stopped', 0.9)], new Set());
+    const { persistence, announced } = await setUp([trial(0, 'dropped', 0.9)], new Set());
     persistence.queue(10);
     persistence.queue(11);
     await persistence.flush();

@@ -9,7 +9,7 @@ import { describe, expect, it } from 'vitest';
 import { runStudy, type StudyOutcome } from '../src/runner/run-study.js';
 import type { StudyEvent } from '../src/runner/events.js';
 import { SAMPLER_PLUGINS } from '../src/samplers/index.js';
-import type { StudyDefinitionInput, TrialParams } from '../src/study/definition.js';
+import type { StudyDefinitionInput, TrialConfiguration } from '../src/study/definition.js';
 import { ClosedFormTransport } from '../src/transport/closed-form.js';
 import { tinyStudy, writeTinyStudy } from './helpers/studies.js';
 
@@ -17,7 +17,7 @@ import { tinyStudy, writeTinyStudy } from './helpers/studies.js';
  * Better near learning rate 0.01, with more width and more epochs. With `divergeLate`, the best
  * configurations diverge after epoch 9: trials that led the ranking leave it near the end.
  */
-function figures(params: TrialParams, epoch: number, divergeLate: boolean) {
+function figures(params: TrialConfiguration, epoch: number, divergeLate: boolean) {
   if (divergeLate && Math.abs(Math.log10(params.learningRate) + 2) < 0.4 && epoch > 9) return { validationLoss: Infinity };
   const loss = Math.abs(Math.log10(params.learningRate) + 2) + 4 / params.width + 2 / epoch;
   return { validationLoss: loss, metrics: { auc: 1 / (1 + loss) } };
@@ -46,11 +46,11 @@ describe.each(SAMPLER_PLUGINS.map((plugin) => [plugin.kind]))('run loop with %s'
   it('ends with no failed trial, no retry, and every promotion continued from its checkpoint', async () => {
     const { doc } = await run(kind, 3);
     expect(doc.state).toBe('finished');
-    expect(doc.trials.filter((t) => t.status === 'failed' || t.status === 'running' || t.status === 'paused')).toEqual([]);
+    expect(doc.trials.filter((t) => t.status === 'failed' || t.status === 'training' || t.status === 'waiting')).toEqual([]);
     for (const trial of doc.trials) {
       expect(trial.retries).toBe(0);
       for (const job of trial.jobs) {
-        expect(job).toMatchObject({ attempts: 1, status: 'completed' });
+        expect(job).toMatchObject({ attempts: 1, status: 'done' });
         if (job.rung > 0) expect({ trial: trial.id, rung: job.rung, fromCheckpoint: job.fromCheckpoint }).toEqual({ trial: trial.id, rung: job.rung, fromCheckpoint: true });
       }
     }
@@ -59,24 +59,24 @@ describe.each(SAMPLER_PLUGINS.map((plugin) => [plugin.kind]))('run loop with %s'
   it('ranks first the best objective among the trials that trained the most epochs', async () => {
     const { doc, ranking } = await run(kind, 2);
     const most = Math.max(...doc.trials.map((t) => t.epochsTrained));
-    const best = Math.max(...doc.trials.filter((t) => t.epochsTrained === most).map((t) => t.objective ?? -Infinity));
+    const best = Math.max(...doc.trials.filter((t) => t.epochsTrained === most).map((t) => t.score ?? -Infinity));
     expect(ranking[0]!.trial.epochsTrained).toBe(most);
-    expect(ranking[0]!.trial.objective).toBe(best);
+    expect(ranking[0]!.trial.score).toBe(best);
   });
 
   it('announces a leader that never gets worse under the one ordering (more epochs, then a better objective)', async () => {
-    const leaders: { epochs: number; objective: number }[] = [];
+    const leaders: { epochs: number; score: number }[] = [];
     // Epochs take time here, so continuations are still running when other outcomes are announced.
     await run(kind, 3, {
       millisecondsPerEpoch: 2,
       onEvent: (event) => {
-        if (event.type === 'trial-finished' && event.best) leaders.push({ epochs: event.best.epochsTrained, objective: event.best.objective! });
+        if (event.type === 'trial-finished' && event.best) leaders.push({ epochs: event.best.epochsTrained, score: event.best.score! });
       },
     });
     expect(leaders.length).toBeGreaterThan(0);
     leaders.slice(1).forEach((leader, i) => {
       const before = leaders[i]!;
-      const notWorse = leader.epochs > before.epochs || (leader.epochs === before.epochs && leader.objective >= before.objective);
+      const notWorse = leader.epochs > before.epochs || (leader.epochs === before.epochs && leader.score >= before.score);
       expect({ before, leader, notWorse }).toEqual({ before, leader, notWorse: true });
     });
   });

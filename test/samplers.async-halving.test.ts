@@ -2,9 +2,9 @@
 import { describe, expect, it } from 'vitest';
 import { AsyncHalvingSampler } from '../src/samplers/async-halving.js';
 import type { Job } from '../src/samplers/sampler.js';
-import type { TrialParams } from '../src/study/definition.js';
+import type { TrialConfiguration } from '../src/study/definition.js';
 
-const paramsFor = (trialId: number): TrialParams => ({
+const paramsFor = (trialId: number): TrialConfiguration => ({
   depth: 1, width: 8 + trialId, activation: 'relu', learningRate: 0.01, batchSize: 32, optimizer: 'adam', l2: 0, dropout: 0,
 });
 const create = (trials: number, maxEpochs = 9) => new AsyncHalvingSampler({ trials, minEpochs: 1, maxEpochs, eta: 3, paramsFor });

@@ -5,7 +5,7 @@
 import { describe, expect, it } from 'vitest';
 import { createSampler, plannedBudget, replay, samplerPlugin, SAMPLER_PLUGINS, simulate } from '../src/samplers/index.js';
 import type { Job, JobOutcome } from '../src/samplers/sampler.js';
-import { budgetSchema, samplerSchema, spaceSchema, type StudyDefinition, type TrialParams } from '../src/study/definition.js';
+import { budgetSchema, samplerSchema, spaceSchema, type StudyDefinition, type TrialConfiguration } from '../src/study/definition.js';
 
 const definitionFor = (kind: string): Pick<StudyDefinition, 'space' | 'budget' | 'sampler'> => ({
   space: spaceSchema.parse({
@@ -68,7 +68,7 @@ describe.each(SAMPLER_PLUGINS.map((plugin) => [plugin.kind]))('sampler contract:
 
   it('never trains a job past maxEpochs, and gives each trial one configuration', () => {
     const { jobs } = simulate(createSampler(definition), { workers: 2, loss });
-    const params = new Map<number, TrialParams>();
+    const params = new Map<number, TrialConfiguration>();
     for (const job of jobs) {
       expect(job.toEpoch).toBeLessThanOrEqual(definition.budget.maxEpochs);
       if (params.has(job.trialId)) expect(job.params).toEqual(params.get(job.trialId));

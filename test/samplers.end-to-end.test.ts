@@ -24,7 +24,7 @@ const resultOf = (outcome: StudyOutcome) =>
       rung: t.rung,
       bracket: t.bracket,
       epochs: t.epochsTrained,
-      rungObjectives: t.rungObjectives,
+      rungScores: t.rungScores,
       curve: t.curve.map(({ seconds: _seconds, ...point }) => point),
     }))
     .sort((a, b) => a.id - b.id);
@@ -52,8 +52,8 @@ describe('successive halving on real training', () => {
     const winner = outcome.ranking[0]!.trial;
     expect(winner.epochsTrained).toBe(9);
     expect(winner.curve.map((p) => p.epoch)).toEqual([1, 2, 3, 4, 5, 6, 7, 8, 9]);
-    expect(winner.rungObjectives).toHaveLength(3);
-    expect(winner.rungObjectives[2]).toBe(winner.objective);
+    expect(winner.rungScores).toHaveLength(3);
+    expect(winner.rungScores[2]).toBe(winner.score);
   });
 
   it('keeps the checkpoints of the best few trials only', async () => {

@@ -8,23 +8,23 @@ import { describe, expect, it } from 'vitest';
 import { resumeStudy } from '../src/runner/resume-study.js';
 import { runStudy } from '../src/runner/run-study.js';
 import type { StudyDocument } from '../src/store/types.js';
-import type { StudyDefinitionInput, TrialParams } from '../src/study/definition.js';
+import type { StudyDefinitionInput, TrialConfiguration } from '../src/study/definition.js';
 import { ClosedFormTransport } from '../src/transport/closed-form.js';
 import { tinyStudy, writeTinyStudy } from './helpers/studies.js';
 
 /** Best near learning rate 0.02 and narrow nets; falls with the epochs. */
-const evaluate = (params: TrialParams, epoch: number) => ({
+const evaluate = (params: TrialConfiguration, epoch: number) => ({
   validationLoss: Math.abs(Math.log10(params.learningRate) + 1.7) + params.width / 64 + (params.activation === 'tanh' ? 0.2 : 0) + 1 / epoch,
 });
 const transport = (capacity: number) => () => new ClosedFormTransport({ evaluate, capacity });
 
 const definitions: [string, StudyDefinitionInput][] = [
-  ['tpe', tinyStudy({ budget: { trials: 14, maxEpochs: 3 }, sampler: { kind: 'tpe', seed: 4, startupTrials: 6, batchSize: 2 }, objective: { metric: 'validationLoss' } })],
-  ['tpe-hyperband', tinyStudy({ budget: { trials: 1, maxEpochs: 9 }, sampler: { kind: 'tpe-hyperband', seed: 4, iterations: 2, minResults: 2 }, objective: { metric: 'validationLoss' } })],
+  ['tpe', tinyStudy({ budget: { trials: 14, maxEpochs: 3 }, sampler: { kind: 'tpe', seed: 4, startupTrials: 6, batchSize: 2 }, goal: { metric: 'validationLoss' } })],
+  ['tpe-hyperband', tinyStudy({ budget: { trials: 1, maxEpochs: 9 }, sampler: { kind: 'tpe-hyperband', seed: 4, iterations: 2, minResults: 2 }, goal: { metric: 'validationLoss' } })],
 ];
 
 const trialsOf = (doc: StudyDocument) =>
-  doc.trials.map((t) => ({ id: t.id, params: t.params, origin: t.origin, epochs: t.epochsTrained, objective: t.objective })).sort((a, b) => a.id - b.id);
+  doc.trials.map((t) => ({ id: t.id, params: t.configuration, origin: t.origin, epochs: t.epochsTrained, objective: t.score })).sort((a, b) => a.id - b.id);
 
 async function uninterrupted(definition: StudyDefinitionInput, capacity: number): Promise<StudyDocument> {
   const file = await writeTinyStudy(definition);

@@ -8,11 +8,11 @@ import type { StudyDocument } from '../src/store/types.js';
 function documentNamed(name: string): StudyDocument {
   return {
     format: 'rungwise-study',
-    version: 2,
+    version: 3,
     name,
     definition: {} as StudyDocument['definition'],
     definitionFile: '/x/study.json',
-    objective: { metric: 'accuracy', direction: 'maximize' },
+    goal: { metric: 'accuracy', better: 'higher' },
     data: { file: 'x.csv', rows: 0, columns: 0, trainRows: 0, validationRows: 0, testRows: 0, inputCount: 0, missingValues: 0 },
     recipe: { task: 'binary', target: 'y', features: [], inputCount: 0 },
     state: 'running',
@@ -72,7 +72,7 @@ describe('the study file', () => {
 describe('the curve log', () => {
   const point = (epoch: number) => ({ epoch, trainLoss: 1 / epoch, validationLoss: 1 / epoch, metrics: { accuracy: epoch / 10 }, seconds: 0.1 });
   const trialWith = (id: number, epochs: number) =>
-    ({ id, status: 'paused', curve: Array.from({ length: epochs }, (_, i) => point(i + 1)) }) as unknown as StudyDocument['trials'][number];
+    ({ id, status: 'waiting', curve: Array.from({ length: epochs }, (_, i) => point(i + 1)) }) as unknown as StudyDocument['trials'][number];
 
   it('keeps curves out of study.json and gives them back on reading', async () => {
     const dir = await mkdtemp(path.join(tmpdir(), 'rungwise-store-'));
@@ -112,14 +112,14 @@ describe('a write under way', () => {
   it('records the document as it was when the write began, even if it changes while the write waits', async () => {
     const dir = await mkdtemp(path.join(tmpdir(), 'rungwise-store-'));
     const store = await StudyStore.create(dir, documentNamed('s'));
-    const trial = { id: 0, status: 'running', epochsTrained: 0, rungObjectives: [] as number[], curve: [] } as unknown as StudyDocument['trials'][number];
+    const trial = { id: 0, status: 'training', epochsTrained: 0, rungScores: [] as number[], curve: [] } as unknown as StudyDocument['trials'][number];
     store.doc.trials.push(trial);
     const saving = store.save();
     // The run loop settles the trial while the save waits for the disk.
-    trial.rungObjectives.push(0.9);
+    trial.rungScores.push(0.9);
     trial.epochsTrained = 4;
     await saving;
     const written = JSON.parse(await readFile(studyFilePath(dir), 'utf8')) as StudyDocument;
-    expect(written.trials[0]).toMatchObject({ status: 'running', epochsTrained: 0, rungObjectives: [] });
+    expect(written.trials[0]).toMatchObject({ status: 'training', epochsTrained: 0, rungScores: [] });
   });
 });

@@ -4,7 +4,7 @@ import path from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { UserError } from '../src/errors.js';
 import { loadStudy, validateStudy } from '../src/study/load.js';
-import { resolveObjective } from '../src/study/definition.js';
+import { resolveGoal } from '../src/study/definition.js';
 
 const valid = {
   name: 'pumps',
@@ -104,10 +104,10 @@ describe('study definition validation', () => {
 
   it('picks a sensible objective per task', () => {
     const base = validateStudy(valid, 'study.json');
-    expect(resolveObjective(base)).toEqual({ metric: 'auc', direction: 'maximize' });
-    expect(resolveObjective({ ...base, data: { ...base.data, task: 'multiclass' } })).toEqual({ metric: 'accuracy', direction: 'maximize' });
-    expect(resolveObjective({ ...base, data: { ...base.data, task: 'regression' } })).toEqual({ metric: 'rmse', direction: 'minimize' });
-    expect(resolveObjective({ ...base, objective: { metric: 'logLoss' } })).toEqual({ metric: 'logLoss', direction: 'minimize' });
+    expect(resolveGoal(base)).toEqual({ metric: 'auc', better: 'higher' });
+    expect(resolveGoal({ ...base, data: { ...base.data, task: 'multiclass' } })).toEqual({ metric: 'accuracy', better: 'higher' });
+    expect(resolveGoal({ ...base, data: { ...base.data, task: 'regression' } })).toEqual({ metric: 'rmse', better: 'lower' });
+    expect(resolveGoal({ ...base, goal: { metric: 'logLoss' } })).toEqual({ metric: 'logLoss', better: 'lower' });
   });
 });
 

@@ -3,14 +3,14 @@
  * with a factory of its own; a new transport is proven by the same checks as the old ones.
  */
 import { afterEach, describe, expect, it } from 'vitest';
-import type { TrialParams } from '../src/study/definition.js';
+import type { TrialConfiguration } from '../src/study/definition.js';
 import type { TrialTransport } from '../src/transport/transport.js';
 import type { EpochReport, SharedDataset, TrainJob } from '../src/transport/types.js';
 import { syntheticDataset } from './helpers/synthetic.js';
 
 export const contractDataset: SharedDataset = syntheticDataset({ task: 'binary', rows: 96, inputs: 3, seed: 5 });
 
-const params: TrialParams = { depth: 1, width: 6, activation: 'tanh', learningRate: 0.05, batchSize: 16, optimizer: 'adam', l2: 0, dropout: 0 };
+const params: TrialConfiguration = { depth: 1, width: 6, activation: 'tanh', learningRate: 0.05, batchSize: 16, optimizer: 'adam', l2: 0, dropout: 0 };
 
 const job = (overrides: Partial<TrainJob> = {}): TrainJob => ({
   trialId: 7,

@@ -5,7 +5,7 @@
  * float32 little-endian, concatenated in manifest order. No tfjs here: the coordinator reads
  * manifests without loading a training library.
  */
-import type { OptimizerName, TrialParams } from '../study/definition.js';
+import type { OptimizerName, TrialConfiguration } from '../study/definition.js';
 
 /** Version 2: one byte string (version 1 was a folder with checkpoint.json and weights.bin). */
 export const CHECKPOINT_FORMAT_VERSION = 2;
@@ -21,7 +21,7 @@ export interface CheckpointManifest {
   trialId: number;
   /** Epochs trained when the checkpoint was written. */
   epoch: number;
-  params: TrialParams;
+  params: TrialConfiguration;
   variables: VariableEntry[];
   optimizer: { name: OptimizerName; iterations: number; variables: VariableEntry[] };
 }

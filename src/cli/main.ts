@@ -216,7 +216,8 @@ export function buildProgram(
       const result = await ranking({ dir });
       if (!flags.json) {
         const { doc } = result;
-        target.out(`study ${doc.name} (${doc.state}), ${doc.trials.length} trials, ranked by ${doc.objective.metric} (${doc.objective.direction})\n\n`);
+        const { goalInWords } = await import('../study/objective.js');
+        target.out(`study ${doc.name} (${doc.state}), ${doc.trials.length} trials, ranked by ${goalInWords(doc.goal)}\n\n`);
       }
       await printStudy(target, result, flags);
     });

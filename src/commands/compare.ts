@@ -3,6 +3,7 @@ import { UserError } from '../errors.js';
 import { buildComparisonReport, comparisonCharts, comparisonTable, distinctNames } from '../plot/comparison.js';
 import { textTable } from '../report/format.js';
 import { StudyStore, studyFilePath } from '../store/study-store.js';
+import { goalInWords } from '../study/objective.js';
 import { renderCharts, writeReportFolder } from './plot.js';
 
 export interface CompareOptions {
@@ -15,17 +16,17 @@ export interface CompareOptions {
 /**
  * `rungwise compare`: the report's questions answered side by side for several studies, as a
  * terminal table and as a report folder (charts and `comparison.html`... written as `report.html`).
- * Reads only the study files. The studies must be ranked by the same objective.
+ * Reads only the study files. The studies must be ranked by the same goal.
  */
 export async function compare(options: CompareOptions): Promise<{ table: string; files: string[] }> {
   if (options.dirs.length < 2) throw new UserError('E_COMPARE_ARGS', `compare needs at least two run directories, got ${options.dirs.length}`);
   const studies = distinctNames(await Promise.all(options.dirs.map((dir) => StudyStore.read(dir))));
   const first = studies[0]!;
   studies.forEach((study, i) => {
-    if (study.objective.metric !== first.objective.metric || study.objective.direction !== first.objective.direction) {
+    if (study.goal.metric !== first.goal.metric || study.goal.better !== first.goal.better) {
       throw new UserError(
-        'E_COMPARE_OBJECTIVE',
-        `${studyFilePath(options.dirs[i]!)}: ranked by ${study.objective.metric} (${study.objective.direction}), but ${studyFilePath(options.dirs[0]!)} by ${first.objective.metric} (${first.objective.direction}); compare needs studies ranked by the same objective`,
+        'E_COMPARE_GOAL',
+        `${studyFilePath(options.dirs[i]!)}: ranked by ${goalInWords(study.goal)}, but ${studyFilePath(options.dirs[0]!)} by ${goalInWords(first.goal)}; compare needs studies ranked by the same goal`,
       );
     }
   });

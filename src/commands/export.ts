@@ -17,7 +17,7 @@ import { runPaths } from '../store/run-dir.js';
 import { studyData } from '../store/study-data.js';
 import { StudyStore, studyFilePath } from '../store/study-store.js';
 import type { StudyDocument } from '../store/types.js';
-import type { MetricName, Objective } from '../study/definition.js';
+import type { MetricName, Goal } from '../study/definition.js';
 import { initBackend } from '../train/backend.js';
 import type { Metrics } from '../train/metrics.js';
 
@@ -55,7 +55,9 @@ export interface ExportSummary {
   study: string;
   trialId: number;
   rank: number;
-  objective: Objective & { value: number };
+  goal: Goal;
+  /** The trial's score: the goal's metric at its last epoch, on the validation split. */
+  score: number;
   /** Metrics the study recorded for the trial's last epoch, on the validation split. */
   validation: Metrics;
   /** With --retrain: the retrained model's metrics on the held-out test split. */
@@ -110,7 +112,7 @@ export async function exportModel(options: ExportCommandOptions): Promise<Export
       if (data) {
         weights = await retrainTrial(data, trial);
       }
-      const model = buildLayersModel(trial.params, doc.recipe, weights!);
+      const model = buildLayersModel(trial.configuration, doc.recipe, weights!);
       try {
         if (data) test = evaluateExportedModel(model, doc.recipe, data.test);
         await saveLayersModel(model, partial);
@@ -133,7 +135,8 @@ export async function exportModel(options: ExportCommandOptions): Promise<Export
     study: doc.name,
     trialId: trial.id,
     rank,
-    objective: { ...doc.objective, value: trial.objective! },
+    goal: doc.goal,
+    score: trial.score!,
     validation: lastEpochFigures(trial).metrics,
     retrained: options.retrain === true,
     format,

@@ -2,7 +2,7 @@ import { plannedWork } from '../report/budget.js';
 import { progressObserver } from '../report/progress.js';
 import { painterFor } from '../report/style.js';
 import type { StudyObserver } from '../runner/events.js';
-import type { Objective, StudyDefinition } from '../study/definition.js';
+import type { Goal, StudyDefinition } from '../study/definition.js';
 
 /** Where a study command shows progress: a stream (the CLI passes stderr) or nowhere. */
 export interface ProgressTarget {
@@ -16,14 +16,14 @@ export interface ProgressTarget {
 export function studyObserver(
   target: ProgressTarget,
   definition: Pick<StudyDefinition, 'budget' | 'sampler'>,
-  objective: Objective,
+  goal: Goal,
 ): StudyObserver | undefined {
   const stream = target.progress ?? false;
   const observers: StudyObserver[] = [];
   if (stream !== false) {
     observers.push(
       progressObserver({
-        objective,
+        goal,
         plan: plannedWork(definition),
         stream,
         paint: painterFor(stream),

@@ -19,9 +19,9 @@ export interface RankingResult {
  * @example
  * import { ranking } from 'rungwise';
  * const { ranking: ranked } = await ranking({ dir: 'runs/demo' });
- * console.log(ranked[0]?.trial.params);
+ * console.log(ranked[0]?.trial.configuration);
  */
 export async function ranking(options: RankingCommandOptions): Promise<RankingResult> {
   const doc = await StudyStore.read(options.dir);
-  return { doc, ranking: rankTrials(doc.trials, doc.objective), file: studyFilePath(options.dir) };
+  return { doc, ranking: rankTrials(doc.trials, doc.goal), file: studyFilePath(options.dir) };
 }

@@ -26,7 +26,7 @@ export interface ResumeCommandOptions extends ProgressTarget, QueueFlags {
  */
 export async function resume(options: ResumeCommandOptions): Promise<ResumeOutcome> {
   const saved = await StudyStore.read(options.dir);
-  const onEvent = studyObserver(options, saved.definition, saved.objective);
+  const onEvent = studyObserver(options, saved.definition, saved.goal);
   const dir = path.resolve(options.dir);
   const queue = queueRun(options, { name: saved.name, dir, fresh: false }, options.stderr ?? process.stderr, options.signal);
   return settleQueued(queue, dir, resumeStudy(options.dir, {

@@ -2,7 +2,7 @@ import type { FaultInjector } from '../transport/threads.js';
 import path from 'node:path';
 import { dataProgressObserver } from '../report/data-progress.js';
 import { runStudy, type StudyOutcome } from '../runner/run-study.js';
-import { resolveObjective, type StudyDefinitionInput } from '../study/definition.js';
+import { resolveGoal, type StudyDefinitionInput } from '../study/definition.js';
 import { loadStudy, studyFromObject } from '../study/load.js';
 import { studyObserver, type ProgressTarget } from './observe.js';
 import { queueRun, settleQueued, type QueueFlags } from './queue.js';
@@ -36,7 +36,7 @@ export interface RunCommandOptions extends ProgressTarget, QueueFlags {
  *   definition: { name: 'pumps', data: { csv: 'pumps.csv', target: 'fails', task: 'binary' }, space: { ... }, budget: { trials: 8, maxEpochs: 5 }, sampler: { kind: 'random', seed: 1 } },
  *   out: 'runs/pumps',
  *   progress: process.stderr,
- *   onEvent: (event) => { if (event.type === 'trial-finished') console.log(event.trial.id, event.trial.objective); },
+ *   onEvent: (event) => { if (event.type === 'trial-finished') console.log(event.trial.id, event.trial.score); },
  * });
  */
 export async function run(options: RunCommandOptions): Promise<StudyOutcome> {
@@ -45,8 +45,8 @@ export async function run(options: RunCommandOptions): Promise<StudyOutcome> {
     typeof options.definition === 'string'
       ? await loadStudy(options.definition)
       : studyFromObject(options.definition, path.resolve(options.baseDir ?? '.'));
-  const objective = resolveObjective(study.definition);
-  const onEvent = studyObserver(options, study.definition, objective);
+  const goal = resolveGoal(study.definition);
+  const onEvent = studyObserver(options, study.definition, goal);
   const dir = path.resolve(options.out ?? path.join('runs', study.definition.name));
   const queue = queueRun(options, { name: study.definition.name, dir, fresh: true }, options.stderr ?? process.stderr, options.signal);
   return settleQueued(queue, dir, runStudy(study, {

@@ -6,7 +6,7 @@
  */
 import type { SharedDataset } from '../pool/messages.js';
 import { permutation, stream, type Rng } from '../random/streams.js';
-import { ACTIVATIONS, OPTIMIZERS, TASKS, type TrialParams } from '../study/definition.js';
+import { ACTIVATIONS, OPTIMIZERS, TASKS, type TrialConfiguration } from '../study/definition.js';
 import { initialKernel, initRuleFor } from '../train/initial-weights.js';
 import { ADAM, MOMENTUM } from '../train/optimizer-constants.js';
 import { CONSTANT, descriptorBytes, layerWord, WORD, type LayerField } from './layout.js';
@@ -20,7 +20,7 @@ export const EVALUATION_CHUNK_ROWS = 256;
 export interface EngineTrialSpec {
   trialId: number;
   seed: number;
-  params: TrialParams;
+  params: TrialConfiguration;
   dataset: SharedDataset;
 }
 

@@ -8,7 +8,7 @@ import type { PreprocessingRecipe } from '../data/types.js';
 import { UserError } from '../errors.js';
 import { OPTIMISM_CAUTION } from '../report/caution.js';
 import type { StudyDocument, TrialRecord } from '../store/types.js';
-import type { MetricName, Objective, TrialParams } from '../study/definition.js';
+import type { MetricName, Goal, TrialConfiguration } from '../study/definition.js';
 import type { Metrics } from '../train/metrics.js';
 import { MODEL_FILE, WEIGHTS_FILE, inputNames } from './model-files.js';
 import type { OnnxDescription } from './onnx.js';
@@ -40,11 +40,13 @@ export interface ExportConfiguration {
   trialId: number;
   /** Rank in the study's ranking when exported. */
   rank: number;
-  params: TrialParams;
+  configuration: TrialConfiguration;
   epochsTrained: number;
   /** Trial seed: initial weights, dropout masks and each epoch's shuffle. */
   seed: number;
-  objective: Objective & { value: number };
+  goal: Goal;
+  /** The trial's score: the goal's metric at its last epoch, on the validation split. */
+  score: number;
   /** Figures the study recorded for the trial's last epoch (validation split). */
   validation: LastEpochFigures;
   /** Set with --retrain: metrics of the retrained model on the held-out test split, computed once. */
@@ -88,10 +90,11 @@ export function buildConfiguration(doc: StudyDocument, trial: TrialRecord, rank:
     study: doc.name,
     trialId: trial.id,
     rank,
-    params: { ...trial.params },
+    configuration: { ...trial.configuration },
     epochsTrained: trial.epochsTrained,
     seed: trial.seed,
-    objective: { ...doc.objective, value: trial.objective! },
+    goal: doc.goal,
+    score: trial.score!,
     validation: lastEpochFigures(trial),
     trainedOn: retrained ? 'training and validation splits' : 'training split',
     recipe: doc.recipe,

@@ -7,7 +7,7 @@ import * as tf from '@tensorflow/tfjs';
 import { readFile, writeFile } from 'node:fs/promises';
 import path from 'node:path';
 import type { PreprocessingRecipe } from '../data/types.js';
-import type { Activation, TrialParams } from '../study/definition.js';
+import type { Activation, TrialConfiguration } from '../study/definition.js';
 import type { NamedWeights } from '../train/checkpoint.js';
 import { LEAKY_RELU_SLOPE } from '../train/network.js';
 
@@ -49,7 +49,7 @@ function unscaledOutput(recipe: PreprocessingRecipe, kernel: NamedWeights, bias:
  * kernel, bias per hidden layer, then the output layer). Layer names are fixed (`hidden_1`, ...,
  * `output`) so the weight names in model.json do not depend on tfjs's global layer counter.
  */
-export function buildLayersModel(params: TrialParams, recipe: PreprocessingRecipe, weights: readonly NamedWeights[]): tf.Sequential {
+export function buildLayersModel(params: TrialConfiguration, recipe: PreprocessingRecipe, weights: readonly NamedWeights[]): tf.Sequential {
   const expected = 2 * (params.depth + 1);
   if (weights.length !== expected) throw new Error(`the checkpoint holds ${weights.length} weights, a network of depth ${params.depth} has ${expected}`);
   const model = tf.sequential({ name: 'rungwise_mlp' });

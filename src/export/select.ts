@@ -21,7 +21,7 @@ function keptList(ranks: readonly number[]): string {
  */
 export function trialAtRank(doc: StudyDocument, rank: number, studyFile: string): RankedTrial {
   if (!Number.isInteger(rank) || rank < 1) throw new UserError('E_EXPORT_RANK', `--rank must be a whole number from 1 up, got '${rank}'`);
-  const ranked = rankTrials(doc.trials, doc.objective);
+  const ranked = rankTrials(doc.trials, doc.goal);
   const chosen = ranked[rank - 1];
   if (chosen === undefined) {
     const unranked = doc.trials.length - ranked.length;
@@ -40,7 +40,7 @@ export function trialAtRank(doc: StudyDocument, rank: number, studyFile: string)
  */
 export async function keptCheckpointWeights(runDir: string, doc: StudyDocument, chosen: RankedTrial): Promise<NamedWeights[]> {
   const file = runPaths.checkpoint(runDir, chosen.trial.id);
-  const ranks = await ranksWithCheckpoint(runDir, rankTrials(doc.trials, doc.objective));
+  const ranks = await ranksWithCheckpoint(runDir, rankTrials(doc.trials, doc.goal));
   const refuse = (why: string): UserError =>
     new UserError('E_EXPORT_NO_CHECKPOINT', `${file}: ${why}; ${keptList(ranks)}; \`rungwise export ${runDir} --rank ${chosen.rank} --retrain\` trains it afresh`);
   const bytes = await new FolderCheckpointStore(runDir).read(chosen.trial.id);

@@ -1,10 +1,10 @@
 import type { CurvePoint, StudyDocument, TrialStatus } from '../store/types.js';
 import type { MetricName } from '../study/definition.js';
-import { objectiveAt } from '../study/objective.js';
+import { scoreAt } from '../study/objective.js';
 
 /** The objective metric's value at one epoch, or undefined when it was not recorded or is not finite. */
 export function metricAt(point: CurvePoint, metric: MetricName): number | undefined {
-  return objectiveAt(point, { metric }) ?? undefined;
+  return scoreAt(point, { metric }) ?? undefined;
 }
 
 export interface CurveRow {
@@ -21,7 +21,7 @@ export interface CurveRow {
 export function curveRows(study: StudyDocument): CurveRow[] {
   return study.trials.flatMap((trial) => {
     const rows = trial.curve.flatMap((point) => {
-      const value = metricAt(point, study.objective.metric);
+      const value = metricAt(point, study.goal.metric);
       return value === undefined ? [] : [{ trialId: trial.id, epoch: point.epoch, value, rung: trial.rung, status: trial.status, last: false }];
     });
     const last = rows.reduce<CurveRow | undefined>((latest, row) => (latest === undefined || row.epoch > latest.epoch ? row : latest), undefined);

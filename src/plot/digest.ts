@@ -39,12 +39,12 @@ export function studyDigest(study: StudyDocument, importance: StudyImportance | 
   for (const share of shares) byRung.set(share.rung, (byRung.get(share.rung) ?? 0) + share.share);
   const agreements = halving ? rungAgreements(study) : [];
   const standings = winner && halving ? rungStandings(study).filter((s) => s.trialId === winner.id) : [];
-  const unscored = study.trials.filter((t) => !(typeof t.objective === 'number' && Number.isFinite(t.objective))).length;
+  const unscored = study.trials.filter((t) => !(typeof t.score === 'number' && Number.isFinite(t.score))).length;
   return {
     name: study.name,
     sampler: study.definition.sampler.kind,
     halving,
-    winner: winner ? `trial ${winner.id}: ${study.objective.metric} ${formatNumber(winner.objective)} after ${winner.epochsTrained} epochs` : 'none yet',
+    winner: winner ? `trial ${winner.id}: ${study.goal.metric} ${formatNumber(winner.score)} after ${winner.epochsTrained} epochs` : 'none yet',
     spent: `${spent.epochs} epochs${planned ? ` of ${planned} planned (${percent(spent.epochs / planned)})` : ''}, ${formatNumber(spent.workerSeconds)} worker-seconds`,
     winnerFound: crowned && spent.epochs > 0 ? `after ${crowned.epochsSpent} epochs (${percent(crowned.epochsSpent / spent.epochs)} of those spent)` : '-',
     rungShares: halving ? [...byRung].map(([rung, share]) => `rung ${rung} ${percent(share)}`).join(', ') : 'one rung (no halving)',

@@ -1,4 +1,4 @@
-import type { MetricName, Objective, SamplerKind, TrialParams } from '../study/definition.js';
+import type { MetricName, Goal, SamplerKind, TrialConfiguration } from '../study/definition.js';
 import type { StudyDocument } from '../store/types.js';
 
 /** Metric names as a reader says them, with units where the metric has one. */
@@ -14,9 +14,9 @@ const METRIC_LABELS: Record<MetricName, string> = {
 };
 
 /** "validation AUC (higher is better)". */
-export function objectiveLabel(objective: Objective): string {
-  const better = objective.direction === 'maximize' ? 'higher is better' : 'lower is better';
-  return `validation ${METRIC_LABELS[objective.metric]}, ${better}`;
+export function goalLabel(goal: Goal): string {
+  const better = goal.better === 'higher' ? 'higher is better' : 'lower is better';
+  return `validation ${METRIC_LABELS[goal.metric]}, ${better}`;
 }
 
 /** "validation AUC", without the direction, for legends and short titles. */
@@ -35,7 +35,7 @@ export function isHalving(kind: SamplerKind): boolean {
 export type AxisKind = 'log' | 'linear' | 'ordinal' | 'nominal';
 
 export interface ParameterAxis {
-  key: keyof TrialParams;
+  key: keyof TrialConfiguration;
   /** Axis title in plain words, with the unit or scale. */
   title: string;
   /** A few words for crowded places (the importance bars). */
@@ -55,9 +55,9 @@ export function parameterAxes(study: StudyDocument): ParameterAxis[] {
   return [
     { key: 'learningRate', title: 'learning rate (log scale)', shortTitle: 'learning rate (log)', kind: 'log' },
     { key: 'l2', title: 'L2 weight penalty (log scale)', shortTitle: 'L2 penalty (log)', kind: 'log' },
-    { key: 'depth', title: 'hidden layers', shortTitle: 'hidden layers', kind: 'ordinal', categories: sortedNumbers(study.trials.map((t) => t.params.depth)) },
+    { key: 'depth', title: 'hidden layers', shortTitle: 'hidden layers', kind: 'ordinal', categories: sortedNumbers(study.trials.map((t) => t.configuration.depth)) },
     { key: 'width', title: space.width.log ? 'units per hidden layer (log scale)' : 'units per hidden layer', shortTitle: space.width.log ? 'units (log)' : 'units', kind: space.width.log ? 'log' : 'linear' },
-    { key: 'batchSize', title: 'batch size (rows)', shortTitle: 'batch size', kind: 'ordinal', categories: sortedNumbers([...space.batchSize, ...study.trials.map((t) => t.params.batchSize)]) },
+    { key: 'batchSize', title: 'batch size (rows)', shortTitle: 'batch size', kind: 'ordinal', categories: sortedNumbers([...space.batchSize, ...study.trials.map((t) => t.configuration.batchSize)]) },
     { key: 'dropout', title: 'dropout rate (fraction of units)', shortTitle: 'dropout', kind: 'linear' },
     { key: 'activation', title: 'activation', shortTitle: 'activation', kind: 'nominal', categories: [...space.activation] },
     { key: 'optimizer', title: 'optimizer', shortTitle: 'optimizer', kind: 'nominal', categories: [...space.optimizer] },
@@ -70,7 +70,7 @@ export function parameterAxes(study: StudyDocument): ParameterAxis[] {
  */
 export function variedParameterAxes(study: StudyDocument): ParameterAxis[] {
   return parameterAxes(study).filter((axis) => {
-    const values = study.trials.map((t) => t.params[axis.key]);
+    const values = study.trials.map((t) => t.configuration[axis.key]);
     if (axis.kind === 'log' && values.some((v) => typeof v !== 'number' || !(v > 0))) return false;
     return new Set(values).size > 1;
   });

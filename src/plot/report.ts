@@ -1,7 +1,7 @@
 import { formatNumber } from '../report/format.js';
 import type { StudyDocument, TrialRecord } from '../store/types.js';
 import { OPTIMISM_CAUTION } from '../report/caution.js';
-import { objectiveLabel } from './labels.js';
+import { goalLabel } from './labels.js';
 import { escapeHtml } from './html.js';
 import { WINNER_SYMBOL } from './palette.js';
 import { topConfigurations } from './top-table.js';
@@ -42,7 +42,7 @@ function samplerText(study: StudyDocument): string {
 }
 
 function configurationText(trial: TrialRecord): string {
-  const p = trial.params;
+  const p = trial.configuration;
   return [
     `${p.depth} hidden layer${p.depth === 1 ? '' : 's'} of ${p.width} units`,
     `${p.activation} activation`,
@@ -60,11 +60,11 @@ function summaryRows(study: StudyDocument): [string, string][] {
     ['state', study.state],
     ['data', `${study.data.file}: ${study.data.rows} rows (training ${study.data.trainRows}, validation ${study.data.validationRows}, held-out test ${study.data.testRows})`],
     ['sampler', samplerText(study)],
-    ['objective', objectiveLabel(study.objective)],
+    ['goal', goalLabel(study.goal)],
     ['trials by status', statusCounts(study)],
   ];
   if (best) {
-    rows.push(['best trial', `trial ${best.id}: ${Number(best.objective!.toPrecision(4))} after ${best.epochsTrained} epoch${best.epochsTrained === 1 ? '' : 's'}`]);
+    rows.push(['best trial', `trial ${best.id}: ${Number(best.score!.toPrecision(4))} after ${best.epochsTrained} epoch${best.epochsTrained === 1 ? '' : 's'}`]);
     rows.push(['its configuration', configurationText(best)]);
   } else {
     rows.push(['best trial', 'no trial has a score yet']);
@@ -162,7 +162,7 @@ export function buildReport(study: StudyDocument, charts: readonly RenderedChart
 ${summary}
 </table>
 <h2>Which configuration should I ship, and how sure is that?</h2>
-${top.rows.length > 0 ? `<p>The top of the ranking (more epochs rank first, then the objective). ${WINNER_SYMBOL} marks the winner here and in every chart.</p>\n${htmlTable(top.header, top.rows, 'top')}` : ''}
+${top.rows.length > 0 ? `<p>The top of the ranking (more epochs rank first, then the score). ${WINNER_SYMBOL} marks the winner here and in every chart.</p>\n${htmlTable(top.header, top.rows, 'top')}` : ''}
 ${charts.length > 0 ? questions.join('\n') : '<p>No trial has a score yet, so there is nothing to plot.</p>'}`;
   return htmlPage(`${study.name}: rungwise study report`, body, options.refreshSeconds);
 }

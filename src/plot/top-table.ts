@@ -19,10 +19,10 @@ function otherMetrics(trial: TrialRecord, objective: MetricName): [MetricName, n
 
 /** Trials that trained the same configuration to the same epochs: repeats of one another. */
 function repeatsOf(study: StudyDocument, trial: TrialRecord): number[] {
-  const key = JSON.stringify(trial.params);
-  return rankTrials(study.trials, study.objective)
-    .filter(({ trial: other }) => other.epochsTrained === trial.epochsTrained && JSON.stringify(other.params) === key)
-    .map(({ trial: other }) => other.objective);
+  const key = JSON.stringify(trial.configuration);
+  return rankTrials(study.trials, study.goal)
+    .filter(({ trial: other }) => other.epochsTrained === trial.epochsTrained && JSON.stringify(other.configuration) === key)
+    .map(({ trial: other }) => other.score);
 }
 
 /**
@@ -31,18 +31,18 @@ function repeatsOf(study: StudyDocument, trial: TrialRecord): number[] {
  * and the spread over repeats of the same configuration where the study has any.
  */
 export function topConfigurations(study: StudyDocument, top = TOP_CONFIGURATIONS): { header: string[]; rows: TableRow[] } {
-  const ranked = rankTrials(study.trials, study.objective).slice(0, top);
+  const ranked = rankTrials(study.trials, study.goal).slice(0, top);
   const leader = ranked[0]?.trial;
-  const metricNames = [...new Set(ranked.flatMap(({ trial }) => otherMetrics(trial, study.objective.metric).map(([name]) => name)))];
+  const metricNames = [...new Set(ranked.flatMap(({ trial }) => otherMetrics(trial, study.goal.metric).map(([name]) => name)))];
   const anyRepeats = ranked.some(({ trial }) => repeatsOf(study, trial).length > 1);
   const rows = ranked.map(({ rank, trial }): TableRow => {
-    const metrics = new Map(otherMetrics(trial, study.objective.metric));
-    const p = trial.params;
+    const metrics = new Map(otherMetrics(trial, study.goal.metric));
+    const p = trial.configuration;
     const row: TableRow = {
       place: rank === 1 ? `${WINNER_SYMBOL} 1` : String(rank),
       trial: String(trial.id),
-      [study.objective.metric]: formatNumber(trial.objective),
-      'gap to #1': rank === 1 || !leader ? '' : formatNumber(trial.objective - leader.objective!),
+      [study.goal.metric]: formatNumber(trial.score),
+      'gap to #1': rank === 1 || !leader ? '' : formatNumber(trial.score - leader.score!),
       epochs: String(trial.epochsTrained),
       'worker s': formatNumber(trial.workerSeconds),
       ...Object.fromEntries(metricNames.map((name) => [name, formatNumber(metrics.get(name))])),

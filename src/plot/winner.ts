@@ -3,5 +3,5 @@ import { rankTrials } from '../study/objective.js';
 
 /** The trial to recommend: the leader of the study's one ranking (rank 1 of {@link rankTrials}). */
 export function bestTrial(study: StudyDocument): TrialRecord | undefined {
-  return rankTrials(study.trials, study.objective)[0]?.trial;
+  return rankTrials(study.trials, study.goal)[0]?.trial;
 }

@@ -1,7 +1,7 @@
 import type { StudyEvent, StudyObserver } from '../runner/events.js';
 import type { Job } from '../samplers/sampler.js';
 import type { TrialRecord } from '../store/types.js';
-import type { Objective } from '../study/definition.js';
+import type { Goal } from '../study/definition.js';
 import type { PlannedWork } from './budget.js';
 import { formatDuration, formatNumber } from './format.js';
 import { fitLine, type LineSegment } from './progress-line.js';
@@ -13,7 +13,7 @@ const REDRAW_MS = 100;
 const MIN_COLUMNS = 40;
 
 export interface ProgressOptions {
-  objective: Objective;
+  goal: Goal;
   /** The sampler's plan: the counters show work done of this. */
   plan: PlannedWork;
   /** Where to write (the CLI passes stderr). */
@@ -38,14 +38,14 @@ export function describeJob(event: Pick<TrialFinished, 'trial' | 'job'>, metric:
     const why = trial.divergence ? ` at epoch ${trial.divergence.epoch} (${trial.divergence.reason})` : trial.error ? ` (${trial.error})` : '';
     return `trial ${trial.id}${rung} ${trial.status}${why}`;
   }
-  const value = trial.rungObjectives[job.rung];
+  const value = trial.rungScores[job.rung];
   const where = trial.jobs.find((j) => j.rung === job.rung && j.toEpoch === job.toEpoch)?.ranOn;
   return `trial ${trial.id}${rung} done at epoch ${job.toEpoch}: ${metric} ${formatNumber(value)}${where ? ` on ${where}` : ''}`;
 }
 
 function leaderText(leader: TrialRecord | undefined, metric: string): LineSegment {
   if (!leader) return { text: 'leader -', dropCost: 10 };
-  const value = formatNumber(leader.objective);
+  const value = formatNumber(leader.score);
   // The epochs say why a lower value can lead: the one ordering puts longer-trained trials first.
   return { text: `leader #${leader.id} ${metric} ${value} @${leader.epochsTrained}ep`, short: `#${leader.id} ${value}`, shortCost: 6, dropCost: 10 };
 }
@@ -73,8 +73,8 @@ function rungText(plan: PlannedWork, running: Iterable<Job>, last: Job | undefin
  * fits the width; elsewhere (a pipe, a file) it writes one line per ended job.
  */
 export function progressObserver(options: ProgressOptions): StudyObserver {
-  const { objective, plan, stream } = options;
-  const metric = objective.metric;
+  const { goal, plan, stream } = options;
+  const metric = goal.metric;
   const now = options.now ?? Date.now;
   const paint = options.paint ?? plain;
   const redrawn = options.live ?? (stream as Partial<NodeJS.WriteStream>).isTTY === true;
@@ -176,7 +176,7 @@ export function progressObserver(options: ProgressOptions): StudyObserver {
         leader = event.best;
         if (redrawn) draw(true);
         else {
-          const lead = leader ? `; leader trial ${leader.id} ${metric} ${formatNumber(leader.objective)} after ${leader.epochsTrained} epoch${leader.epochsTrained === 1 ? '' : 's'}` : '';
+          const lead = leader ? `; leader trial ${leader.id} ${metric} ${formatNumber(leader.score)} after ${leader.epochsTrained} epoch${leader.epochsTrained === 1 ? '' : 's'}` : '';
           stream.write(`[${counters({ jobsDone: jobs, epochsDone: trained })}] ${describeJob(event, metric, plan.rungs > 1)}${lead}\n`);
         }
         break;

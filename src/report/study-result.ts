@@ -1,6 +1,6 @@
 import type { RankedTrial } from '../study/objective.js';
 import type { StudyDocument, TrialRecord, TrialStatus } from '../store/types.js';
-import type { Objective, TrialParams } from '../study/definition.js';
+import type { Goal, TrialConfiguration } from '../study/definition.js';
 import { rankingTable } from './ranking-table.js';
 import { OPTIMISM_CAUTION } from './caution.js';
 import { studySummary } from './summary.js';
@@ -17,13 +17,13 @@ export interface TrialEntry {
   trial: number;
   status: TrialStatus;
   ranked: boolean;
-  /** Why an unranked trial is not ranked: divergence, error, or still running / waiting. */
+  /** Why an unranked trial is not ranked: divergence, error, or still training / waiting. */
   reason?: string;
   rung: number;
   bracket: number;
   epochs: number;
-  objective: number | null;
-  params: TrialParams;
+  score: number | null;
+  configuration: TrialConfiguration;
   seed: number;
   /** Validation metrics of the last epoch trained. */
   metrics: Record<string, number>;
@@ -34,7 +34,7 @@ export interface StudyResultJson {
   study: string;
   state: StudyDocument['state'];
   file: string;
-  objective: Objective;
+  goal: Goal;
   counts: Partial<Record<TrialStatus, number>>;
   totals: StudyDocument['totals'] | null;
   /** Trials in the study, and how many `trials` holds (fewer only with `--top`). */
@@ -48,8 +48,8 @@ export interface StudyResultJson {
 function unrankedReason(trial: TrialRecord): string {
   if (trial.divergence) return `diverged at epoch ${trial.divergence.epoch}: ${trial.divergence.reason}`;
   if (trial.error) return trial.error;
-  if (trial.status === 'running') return 'did not finish its rung (the study stopped while it ran)';
-  return `no objective recorded (${trial.status})`;
+  if (trial.status === 'training') return 'did not finish its rung (the study stopped while it ran)';
+  return `no score recorded (${trial.status})`;
 }
 
 function entry(trial: TrialRecord, rank: number | null): TrialEntry {
@@ -61,8 +61,8 @@ function entry(trial: TrialRecord, rank: number | null): TrialEntry {
     rung: trial.rung,
     bracket: trial.bracket,
     epochs: trial.epochsTrained,
-    objective: trial.objective,
-    params: trial.params,
+    score: trial.score,
+    configuration: trial.configuration,
     seed: trial.seed,
     metrics: { ...(trial.curve.at(-1)?.metrics ?? {}) } as Record<string, number>,
   };
@@ -74,7 +74,7 @@ function entry(trial: TrialRecord, rank: number | null): TrialEntry {
  * Every trial of the study, ranked ones first in ranking order; `top` keeps only the first entries.
  * @example
  * const doc = await StudyStore.read('runs/demo');
- * const json = studyResultJson(doc, rankTrials(doc.trials, doc.objective), studyFilePath('runs/demo'));
+ * const json = studyResultJson(doc, rankTrials(doc.trials, doc.goal), studyFilePath('runs/demo'));
  */
 export function studyResultJson(doc: StudyDocument, ranking: readonly RankedTrial[], file: string, top?: number): StudyResultJson {
   const rankedIds = new Set(ranking.map(({ trial }) => trial.id));
@@ -89,7 +89,7 @@ export function studyResultJson(doc: StudyDocument, ranking: readonly RankedTria
     study: doc.name,
     state: doc.state,
     file,
-    objective: doc.objective,
+    goal: doc.goal,
     counts,
     totals: doc.totals ?? null,
     trialCount: doc.trials.length,
@@ -103,7 +103,7 @@ export function studyResultJson(doc: StudyDocument, ranking: readonly RankedTria
 export function studyResultText(doc: StudyDocument, ranking: readonly RankedTrial[], file: string, top = DEFAULT_TABLE_ROWS): string {
   const shown = ranking.slice(0, top);
   const more = ranking.length - shown.length;
-  const table = shown.length > 0 ? rankingTable(shown, doc.objective) : 'no trial is ranked yet (none finished a rung)';
+  const table = shown.length > 0 ? rankingTable(shown, doc.goal) : 'no trial is ranked yet (none finished a rung)';
   const tail = more > 0 ? `\n(${more} more ranked; --top ${ranking.length} shows all, --json gives every trial)` : '';
   return `${table}${tail}\n\n${studySummary(doc, file)}`;
 }

@@ -9,7 +9,7 @@ export interface StudyProgress {
   jobsDone: number;
   /** Epochs trained by the trials' recorded jobs. */
   epochsDone: number;
-  /** Trials that ended (completed, stopped, diverged, failed, timed out). */
+  /** Trials that ended (trained, dropped, diverged, failed, timed out). */
   endedTrials: number;
   /** What the sampler plans at most: configurations and epochs. */
   plannedTrials: number;

@@ -8,7 +8,7 @@ import type { PreparedData } from '../data/types.js';
 import { studyStoppedError } from '../errors.js';
 import { createSampler, plannedBudget, replay } from '../samplers/index.js';
 import type { Job, JobOutcome } from '../samplers/sampler.js';
-import type { Objective } from '../study/definition.js';
+import type { Goal } from '../study/definition.js';
 import { orientedLoss, rankTrials, type RankedTrial } from '../study/objective.js';
 import type { StudyStore } from '../store/study-store.js';
 import type { StudyDocument, TrialRecord } from '../store/types.js';
@@ -58,11 +58,11 @@ export interface StudyOutcome {
 }
 
 /** The outcomes a study file records, one per (trial, rung) finished, for rebuilding a sampler. */
-export function recordedOutcomes(trials: readonly TrialRecord[], objective: Objective): JobOutcome[] {
+export function recordedOutcomes(trials: readonly TrialRecord[], goal: Goal): JobOutcome[] {
   const outcomes: JobOutcome[] = [];
   for (const trial of trials) {
-    trial.rungObjectives.forEach((value, rung) => {
-      outcomes.push({ trialId: trial.id, rung, loss: orientedLoss(value ?? null, objective) });
+    trial.rungScores.forEach((value, rung) => {
+      outcomes.push({ trialId: trial.id, rung, loss: orientedLoss(value ?? null, goal) });
     });
   }
   return outcomes;
@@ -98,14 +98,14 @@ export async function executeStudy(store: StudyStore, data: PreparedData, option
  */
 async function drive(store: StudyStore, data: PreparedData, options: ExecuteOptions): Promise<StudyOutcome> {
   const doc = store.doc;
-  const { definition, objective } = doc;
+  const { definition, goal } = doc;
   const resumed = doc.trials.length > 0;
   const workers = options.workers ?? definition.workers ?? availableParallelism();
   const emit = options.onEvent ?? (() => undefined);
   const sampler = createSampler(definition);
   const planned = plannedBudget(definition);
-  const history = new Map(doc.trials.map((t) => [t.id, t.params]));
-  const queue = replay(sampler, recordedOutcomes(doc.trials, objective), history).pending;
+  const history = new Map(doc.trials.map((t) => [t.id, t.configuration]));
+  const queue = replay(sampler, recordedOutcomes(doc.trials, goal), history).pending;
   const lifecycle = new TrialLifecycle(doc, sampler, planned);
   const keeper = new CheckpointKeeper(options.checkpoints ?? new FolderCheckpointStore(store.dir));
   const persistence = new BatchedPersistence<{ record: TrialRecord; job: Job }>(
@@ -252,7 +252,7 @@ async function drive(store: StudyStore, data: PreparedData, options: ExecuteOpti
     workers,
   };
   await persistence.saveNow();
-  const ranking = rankTrials(doc.trials, objective);
+  const ranking = rankTrials(doc.trials, goal);
   emit({ type: 'study-finished', doc, ranking });
   return { dir: store.dir, file: store.file, doc, ranking };
 }

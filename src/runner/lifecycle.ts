@@ -5,7 +5,7 @@
  */
 import { trialSeed } from '../random/streams.js';
 import type { Job, Sampler } from '../samplers/sampler.js';
-import type { Objective, StudyDefinition } from '../study/definition.js';
+import type { Goal, StudyDefinition } from '../study/definition.js';
 import { orientedLoss } from '../study/objective.js';
 import { isEnded } from '../study/trial-status.js';
 import type { JobRecord, StudyDocument, TrialRecord } from '../store/types.js';
@@ -21,8 +21,8 @@ export class TrialLifecycle {
   /** Failed runs of each job in this session, keyed by trial and end epoch. */
   private readonly failures = new Map<string, number>();
   private jobsDone: number;
-  /** Ids of paused trials (a subset of the records, kept to avoid scanning them all after each outcome). */
-  private readonly paused = new Set<number>();
+  /** Ids of waiting trials (a subset of the records, kept to avoid scanning them all after each outcome). */
+  private readonly waiting = new Set<number>();
 
   constructor(
     private readonly doc: StudyDocument,
@@ -30,16 +30,16 @@ export class TrialLifecycle {
     private readonly planned: { trials: number; epochs: number },
   ) {
     this.records = new Map(doc.trials.map((t) => [t.id, t]));
-    for (const t of doc.trials) if (t.status === 'paused') this.paused.add(t.id);
-    this.jobsDone = doc.trials.reduce((sum, t) => sum + t.jobs.filter((j) => j.status !== 'running' && j.status !== 'cut-off').length, 0);
+    for (const t of doc.trials) if (t.status === 'waiting') this.waiting.add(t.id);
+    this.jobsDone = doc.trials.reduce((sum, t) => sum + t.jobs.filter((j) => j.status !== 'training' && j.status !== 'cut-off').length, 0);
   }
 
   private get definition(): StudyDefinition {
     return this.doc.definition;
   }
 
-  private get objective(): Objective {
-    return this.doc.objective;
+  private get goal(): Goal {
+    return this.doc.goal;
   }
 
   record(trialId: number): TrialRecord {
@@ -51,7 +51,7 @@ export class TrialLifecycle {
   /** Trials waiting at the end of a rung or training now. */
   activeCount(): number {
     let n = 0;
-    for (const record of this.records.values()) if (record.status === 'running' || record.status === 'paused') n++;
+    for (const record of this.records.values()) if (record.status === 'training' || record.status === 'waiting') n++;
     return n;
   }
 
@@ -73,22 +73,22 @@ export class TrialLifecycle {
       this.records.set(job.trialId, record);
       this.doc.trials.push(record);
     }
-    record.status = 'running';
-    this.paused.delete(record.id);
+    record.status = 'training';
+    this.waiting.delete(record.id);
     record.startedAt ??= new Date().toISOString();
     const last = record.jobs.at(-1);
-    const again = last !== undefined && last.rung === job.rung && last.toEpoch === job.toEpoch && last.status !== 'completed' && last.status !== 'diverged';
+    const again = last !== undefined && last.rung === job.rung && last.toEpoch === job.toEpoch && last.status !== 'done' && last.status !== 'diverged';
     if (again) {
       // The same job once more: after a failure it is a retry; after an interruption it is the same attempt.
       if (last.status === 'failed') {
         last.attempts += 1;
         record.retries += 1;
       }
-      last.status = 'running';
+      last.status = 'training';
       last.fromEpoch = job.fromEpoch;
       last.fromCheckpoint = fromCheckpoint;
     } else {
-      const entry: JobRecord = { rung: job.rung, fromEpoch: job.fromEpoch, toEpoch: job.toEpoch, fromCheckpoint, attempts: 1, status: 'running' };
+      const entry: JobRecord = { rung: job.rung, fromEpoch: job.fromEpoch, toEpoch: job.toEpoch, fromCheckpoint, attempts: 1, status: 'training' };
       record.jobs.push(entry);
       if (job.reason) (record.promotions ??= []).push({ fromRung: job.rung - 1, reason: job.reason });
     }
@@ -99,16 +99,16 @@ export class TrialLifecycle {
   succeeded(job: Job, result: TrainResult): TrialRecord {
     const record = this.record(job.trialId);
     this.failures.delete(jobKey(job));
-    applyResult(record, job, result, this.objective);
+    applyResult(record, job, result, this.goal);
     const entry = record.jobs.at(-1)!;
-    entry.status = result.status;
+    entry.status = result.status === 'completed' ? 'done' : 'diverged';
     if (result.ranOn) entry.ranOn = result.ranOn;
     if (record.status !== 'diverged') {
-      record.status = 'paused';
-      this.paused.add(record.id);
+      record.status = 'waiting';
+      this.waiting.add(record.id);
     }
     this.jobsDone++;
-    this.sampler.report({ trialId: job.trialId, rung: job.rung, loss: orientedLoss(record.objective, this.objective) });
+    this.sampler.report({ trialId: job.trialId, rung: job.rung, loss: orientedLoss(record.score, this.goal) });
     this.endAbandoned();
     return record;
   }
@@ -131,28 +131,28 @@ export class TrialLifecycle {
     record.status = failure.kind === 'timed-out' ? 'timed-out' : 'failed';
     record.error = failure.kind === 'timed-out' ? `ran longer than trialTimeoutSeconds (${this.definition.trialTimeoutSeconds} s)` : failure.message;
     record.endedAt = new Date().toISOString();
-    record.objective = null;
+    record.score = null;
     record.rung = job.rung;
-    record.rungObjectives[job.rung] = null;
+    record.rungScores[job.rung] = null;
     this.jobsDone++;
     this.sampler.report({ trialId: job.trialId, rung: job.rung, loss: null });
     this.endAbandoned();
     return 'ended';
   }
 
-  /** At the end of a study that was not interrupted, every trial still paused is final. */
+  /** At the end of a study that was not interrupted, every trial still waiting is final. */
   endAll(): void {
-    for (const id of [...this.paused]) this.end(this.record(id));
+    for (const id of [...this.waiting]) this.end(this.record(id));
   }
 
-  /** Every paused trial the sampler has now given up on is final. */
+  /** Every waiting trial the sampler has now given up on is final. */
   private endAbandoned(): void {
-    for (const id of [...this.paused]) if (!this.sampler.mayContinue(id)) this.end(this.record(id));
+    for (const id of [...this.waiting]) if (!this.sampler.mayContinue(id)) this.end(this.record(id));
   }
 
   private end(record: TrialRecord): void {
-    this.paused.delete(record.id);
-    record.status = record.epochsTrained >= this.definition.budget.maxEpochs ? 'completed' : 'stopped';
+    this.waiting.delete(record.id);
+    record.status = record.epochsTrained >= this.definition.budget.maxEpochs ? 'trained' : 'dropped';
   }
 }
 

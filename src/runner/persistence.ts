@@ -52,7 +52,7 @@ export class BatchedPersistence<Item> {
   /** Save now (outside the batches) and prune with the final ranking. */
   async saveNow(): Promise<void> {
     await this.flush();
-    await this.prune(rankTrials(this.store.doc.trials, this.store.doc.objective));
+    await this.prune(rankTrials(this.store.doc.trials, this.store.doc.goal));
     await this.keeper.settled();
     await this.store.save();
   }
@@ -62,7 +62,7 @@ export class BatchedPersistence<Item> {
       await new Promise<void>((resolve) => setImmediate(resolve));
       while (this.unsaved.length > 0 && !this.failure) {
         const batch = this.unsaved.splice(0);
-        const ranking = rankTrials(this.store.doc.trials, this.store.doc.objective);
+        const ranking = rankTrials(this.store.doc.trials, this.store.doc.goal);
         await this.prune(ranking);
         await this.keeper.settled();
         await this.store.save();

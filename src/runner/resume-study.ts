@@ -29,7 +29,7 @@ export async function resumeStudy(dir: string, options: ResumeOptions = {}): Pro
     const store = await StudyStore.open(dir);
     const doc = store.doc;
     if (doc.state === 'finished') {
-      return { dir: store.dir, file: store.file, doc, ranking: rankTrials(doc.trials, doc.objective), alreadyFinished: true };
+      return { dir: store.dir, file: store.file, doc, ranking: rankTrials(doc.trials, doc.goal), alreadyFinished: true };
     }
     const data = await studyData(doc, store.file, {
       command: 'resume',

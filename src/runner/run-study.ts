@@ -6,7 +6,7 @@ import { prepareData } from '../data/index.js';
 import type { DataLoadOptions } from '../data/events.js';
 import { UserError, studyStoppedError } from '../errors.js';
 import { checkCapacity } from '../study/capacity.js';
-import { resolveObjective } from '../study/definition.js';
+import { resolveGoal } from '../study/definition.js';
 import { loadStudy, type LoadedStudy } from '../study/load.js';
 import { LOCK_FILES, lockStudy } from '../store/lock.js';
 import { StudyStore, studyFilePath } from '../store/study-store.js';
@@ -25,7 +25,8 @@ export interface RunOptions extends ExecuteOptions, Pick<DataLoadOptions, 'onDat
  * anything is written.
  */
 export async function runStudy(study: string | LoadedStudy, options: RunOptions = {}): Promise<StudyOutcome> {
-  const { definition, file } = typeof study === 'string' ? await loadStudy(study) : study;
+  const { definition, file, notes } = typeof study === 'string' ? await loadStudy(study) : study;
+  for (const message of notes ?? []) options.onEvent?.({ type: 'note', message });
   const { data, summary, csvSha256 } = await prepareData(definition.data, file, {
     ...(options.signal ? { signal: options.signal } : {}),
     ...(options.onDataEvent ? { onDataEvent: options.onDataEvent } : {}),
@@ -48,11 +49,11 @@ export async function runStudy(study: string | LoadedStudy, options: RunOptions 
     const now = new Date().toISOString();
     const store = await StudyStore.create(dir, {
       format: 'rungwise-study',
-      version: 2,
+      version: 3,
       name: definition.name,
       definition,
       definitionFile: file,
-      objective: resolveObjective(definition),
+      goal: resolveGoal(definition),
       data: summary,
       recipe: data.recipe,
       state: 'running',

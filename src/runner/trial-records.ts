@@ -1,6 +1,6 @@
 import type { Job } from '../samplers/sampler.js';
-import type { Objective } from '../study/definition.js';
-import { objectiveAt } from '../study/objective.js';
+import type { Goal } from '../study/definition.js';
+import { scoreAt } from '../study/objective.js';
 import type { TrialRecord } from '../store/types.js';
 import type { TrainResult } from '../transport/types.js';
 
@@ -8,15 +8,15 @@ import type { TrainResult } from '../transport/types.js';
 export function newTrialRecord(job: Job, seed: number): TrialRecord {
   const record: TrialRecord = {
     id: job.trialId,
-    params: job.params,
+    configuration: job.params,
     seed,
-    status: 'running',
+    status: 'training',
     rung: job.rung,
     bracket: job.bracket,
     epochsTrained: 0,
     curve: [],
-    objective: null,
-    rungObjectives: [],
+    score: null,
+    rungScores: [],
     workerSeconds: 0,
     retries: 0,
     jobs: [],
@@ -25,14 +25,14 @@ export function newTrialRecord(job: Job, seed: number): TrialRecord {
   return record;
 }
 
-/** The objective metric of the last epoch of a result, or null when it has none. */
-export function objectiveOf(result: TrainResult, objective: Objective): number | null {
+/** The goal metric at the last epoch of a result, or null when it has none. */
+export function scoreOf(result: TrainResult, goal: Goal): number | null {
   const last = result.epochs.at(-1);
-  return last ? objectiveAt(last, objective) : null;
+  return last ? scoreAt(last, goal) : null;
 }
 
-/** Fold a transport's result for `job` into the trial's record (curve, epochs, objective, times). */
-export function applyResult(record: TrialRecord, job: Job, result: TrainResult, objective: Objective): void {
+/** Fold a transport's result for `job` into the trial's record (curve, epochs, score, times). */
+export function applyResult(record: TrialRecord, job: Job, result: TrainResult, goal: Goal): void {
   // A re-run of a job (after a failure, an interruption or a lost checkpoint) replaces the epochs it covers.
   record.curve = record.curve.filter((point) => point.epoch <= job.fromEpoch);
   for (const { trialId: _trialId, ...point } of result.epochs) record.curve.push(point);
@@ -42,13 +42,13 @@ export function applyResult(record: TrialRecord, job: Job, result: TrainResult, 
   record.endedAt = new Date().toISOString();
   if (result.status === 'diverged') {
     record.status = 'diverged';
-    record.objective = null;
+    record.score = null;
     record.epochsTrained = result.epochs.length > 0 ? result.epochs.at(-1)!.epoch : job.fromEpoch;
     if (result.divergence) record.divergence = result.divergence;
-    record.rungObjectives[job.rung] = null;
+    record.rungScores[job.rung] = null;
     return;
   }
   record.epochsTrained = job.toEpoch;
-  record.objective = objectiveOf(result, objective);
-  record.rungObjectives[job.rung] = record.objective;
+  record.score = scoreOf(result, goal);
+  record.rungScores[job.rung] = record.score;
 }

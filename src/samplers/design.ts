@@ -6,12 +6,12 @@
 import type { Rng } from '../random/streams.js';
 import { paramsAt, snap, spaceDimensions, type Dimension } from '../space/dimensions.js';
 import { SobolSequence, digitalShift } from '../space/sobol.js';
-import type { SearchSpace, TrialParams } from '../study/definition.js';
+import type { SearchSpace, TrialConfiguration } from '../study/definition.js';
 
 export interface UnitDesign {
   dimensions: readonly Dimension[];
   /** The configuration a trial at this point trains. */
-  paramsAt(point: readonly number[]): TrialParams;
+  paramsAt(point: readonly number[]): TrialConfiguration;
 }
 
 /** The design of a rungwise search space (see `space/dimensions.ts`). */

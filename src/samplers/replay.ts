@@ -1,6 +1,6 @@
 import { isDeepStrictEqual } from 'node:util';
 import { UserError } from '../errors.js';
-import type { TrialParams } from '../study/definition.js';
+import type { TrialConfiguration } from '../study/definition.js';
 import type { Job, JobOutcome, Sampler } from './sampler.js';
 
 /** What a resumed study must do after {@link replay}. */
@@ -27,7 +27,7 @@ export interface ReplayResult {
  * later promotions may differ from those the interrupted run would have made; recorded outcomes it no
  * longer asks for come back in `unused`.
  */
-export function replay(sampler: Sampler, outcomes: readonly JobOutcome[], history: ReadonlyMap<number, TrialParams> = new Map()): ReplayResult {
+export function replay(sampler: Sampler, outcomes: readonly JobOutcome[], history: ReadonlyMap<number, TrialConfiguration> = new Map()): ReplayResult {
   const recorded = new Map<string, JobOutcome>();
   for (const outcome of outcomes) {
     const id = key(outcome.trialId, outcome.rung);

@@ -1,7 +1,7 @@
-import type { TrialParams } from '../study/definition.js';
+import type { TrialConfiguration } from '../study/definition.js';
 
 /** Gives the configuration of a trial id; samplers never draw parameters themselves. */
-export type ParamsForTrial = (trialId: number) => TrialParams;
+export type ParamsForTrial = (trialId: number) => TrialConfiguration;
 
 /** One result inside a rung. */
 export interface RungResult {

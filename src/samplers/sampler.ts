@@ -1,6 +1,6 @@
 import type { z } from 'zod';
 import type { Rng } from '../random/streams.js';
-import type { Budget, SearchSpace, TrialParams } from '../study/definition.js';
+import type { Budget, SearchSpace, TrialConfiguration } from '../study/definition.js';
 
 /** Which model or design proposed a configuration, recorded per trial (e.g. to show when a search began to exploit). */
 export interface ProposalOrigin {
@@ -15,7 +15,7 @@ export interface ProposalOrigin {
 /** A unit of work: train one configuration from one epoch count to another. */
 export interface Job {
   trialId: number;
-  params: TrialParams;
+  params: TrialConfiguration;
   /** Rung index within the trial's bracket (0 for the first; random search uses 0 only). */
   rung: number;
   /** Bracket index for Hyperband; 0 elsewhere. */
@@ -59,7 +59,7 @@ export interface SamplerContext {
   /** The sampler's seed (`sampler.seed` in the study file). */
   seed: number;
   /** The configuration drawn at random for a trial id: the same for the same seed and id, in any order. */
-  randomParams(trialId: number): TrialParams;
+  randomParams(trialId: number): TrialConfiguration;
   /** A seeded stream keyed by the sampler's seed and the given parts, e.g. `stream('tpe', batch)`. */
   stream(...key: (string | number)[]): Rng;
 }

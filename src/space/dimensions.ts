@@ -7,7 +7,7 @@
  * coordinate falls in one of `choices.length` equal cells. The mapping from a coordinate to a value is
  * the same as random drawing's (`sample.ts`), so a uniform point gives a uniformly drawn configuration.
  */
-import type { SearchSpace, TrialParams } from '../study/definition.js';
+import type { SearchSpace, TrialConfiguration } from '../study/definition.js';
 import { choose, drawInteger, logUniform, uniform } from './sample.js';
 
 export interface NumericDimension {
@@ -100,22 +100,22 @@ export function spaceDimensions(space: SearchSpace): Dimension[] {
 }
 
 /** The configuration at a point of the unit cube over {@link spaceDimensions}. */
-export function paramsAt(space: SearchSpace, point: readonly number[]): TrialParams {
+export function paramsAt(space: SearchSpace, point: readonly number[]): TrialConfiguration {
   const values = decode(spaceDimensions(space), point);
   return {
     depth: values['depth'] as number,
     width: values['width'] as number,
-    activation: values['activation'] as TrialParams['activation'],
+    activation: values['activation'] as TrialConfiguration['activation'],
     learningRate: values['learningRate'] as number,
     batchSize: values['batchSize'] as number,
-    optimizer: values['optimizer'] as TrialParams['optimizer'],
+    optimizer: values['optimizer'] as TrialConfiguration['optimizer'],
     l2: space.l2 ? (values['l2'] as number) : 0,
     dropout: space.dropout ? (values['dropout'] as number) : 0,
   };
 }
 
 /** The point of the unit cube of a configuration (cell centres for integers and categories). */
-export function pointOfParams(space: SearchSpace, params: TrialParams): number[] {
+export function pointOfParams(space: SearchSpace, params: TrialConfiguration): number[] {
   const values: Record<string, DimensionValue> = { ...params };
   return encode(spaceDimensions(space), values);
 }

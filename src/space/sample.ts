@@ -1,4 +1,4 @@
-import type { SearchSpace, TrialParams } from '../study/definition.js';
+import type { SearchSpace, TrialConfiguration } from '../study/definition.js';
 import { stream, type Rng } from '../random/streams.js';
 
 /**
@@ -8,7 +8,7 @@ import { stream, type Rng } from '../random/streams.js';
  * learningRate, batchSize, optimizer, l2, dropout), even when the field is fixed or absent. So
  * adding `l2` to a space, or giving a list a single entry, leaves every other field's draw unchanged.
  */
-export function sampleParams(space: SearchSpace, rng: Rng): TrialParams {
+export function sampleParams(space: SearchSpace, rng: Rng): TrialConfiguration {
   const depth = drawInteger(space.depth, rng());
   const width = drawInteger(space.width, rng());
   const activation = choose(space.activation, rng());
@@ -33,7 +33,7 @@ export function sampleParams(space: SearchSpace, rng: Rng): TrialParams {
  * The configuration of trial `trialId`: depends only on the space, the study seed and the id,
  * never on the order in which trials run.
  */
-export function paramsForTrial(space: SearchSpace, studySeed: number, trialId: number): TrialParams {
+export function paramsForTrial(space: SearchSpace, studySeed: number, trialId: number): TrialConfiguration {
   return sampleParams(space, stream(studySeed, 'params', trialId));
 }
 

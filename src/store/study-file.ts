@@ -41,9 +41,9 @@ export class StudyFileAdapter implements Adapter<StudyDocument> {
     const trials = stored.trials.map((trial) => {
       const curve = curves.get(trial.id) ?? trial.curve ?? [];
       this.written.set(trial.id, { length: curve.length, last: curve.at(-1) });
-      const expected = trial.status === 'diverged' ? trial.epochsTrained : trial.status === 'running' ? 0 : trial.epochsTrained;
+      const expected = trial.status === 'diverged' ? trial.epochsTrained : trial.status === 'training' ? 0 : trial.epochsTrained;
       if (curve.length < expected) {
-        this.notes.push(`${this.curves.file}: trial ${trial.id} has ${curve.length} of its ${expected} epochs recorded (the rest of its curve was lost); its recorded objective stands`);
+        this.notes.push(`${this.curves.file}: trial ${trial.id} has ${curve.length} of its ${expected} epochs recorded (the rest of its curve was lost); its recorded score stands`);
       }
       return { ...trial, curve };
     });

@@ -2,9 +2,10 @@ import { mkdir, stat } from 'node:fs/promises';
 import path from 'node:path';
 import { Low } from 'lowdb';
 import { UserError } from '../errors.js';
+import { READABLE_VERSIONS, migrateStudyDocument } from './migrate.js';
 import { STUDY_FILE_NAME, runPaths } from './run-dir.js';
 import { StudyFileAdapter } from './study-file.js';
-import type { StudyDocument, TrialRecord } from './types.js';
+import type { StudyDocument } from './types.js';
 
 export { STUDY_FILE_NAME };
 
@@ -18,23 +19,14 @@ function checkShape(data: unknown, file: string): StudyDocument {
   if (!doc || typeof doc !== 'object' || doc.format !== 'rungwise-study' || !Array.isArray(doc.trials)) {
     throw new UserError('E_STUDY_CORRUPT', `${file}: not a rungwise study file (no "format": "rungwise-study" with a trials list)`);
   }
-  if ((doc.version as number | undefined) === 1) return migrateFromVersion1(doc as unknown as VersionOneDocument);
-  if (doc.version !== 2) {
-    throw new UserError('E_STUDY_VERSION', `${file}: study file version ${String(doc.version)} is not supported (this rungwise reads versions 1 and 2)`);
+  const version = doc.version as number | undefined;
+  if (version === undefined || !READABLE_VERSIONS.includes(version)) {
+    throw new UserError(
+      'E_STUDY_VERSION',
+      `${file}: study file version ${String(version)} is not supported (this rungwise reads versions ${READABLE_VERSIONS.join(', ')})`,
+    );
   }
-  return doc as StudyDocument;
-}
-
-type VersionOneTrial = Omit<TrialRecord, 'retries' | 'jobs'> & { attempts?: number };
-type VersionOneDocument = Omit<StudyDocument, 'version' | 'trials'> & { version: 1; trials: VersionOneTrial[] };
-
-/**
- * Version 1 counted every job start in `attempts` (not retries) and recorded no jobs: a migrated trial
- * has 0 retries and an empty job list (what its jobs were is not known).
- */
-function migrateFromVersion1(doc: VersionOneDocument): StudyDocument {
-  const trials = doc.trials.map(({ attempts: _attempts, ...trial }): TrialRecord => ({ ...trial, retries: 0, jobs: [] }));
-  return { ...doc, version: 2, trials };
+  return migrateStudyDocument({ ...doc, version });
 }
 
 /**

@@ -2,21 +2,21 @@ import type { DataHashes } from '../data/dataset-id.js';
 import type { DataSummary, PreprocessingRecipe } from '../data/types.js';
 import type { ProposalOrigin } from '../samplers/sampler.js';
 import type { EpochReport } from '../transport/types.js';
-import type { Objective, StudyDefinition, TrialParams } from '../study/definition.js';
+import type { Goal, StudyDefinition, TrialConfiguration } from '../study/definition.js';
 
 /**
- * Life of a trial. `stopped`: finished its rung but was not promoted (halving samplers).
- * `completed`: trained to the most epochs the sampler gives it. `paused`: finished a rung, waiting for the
- * sampler's promotion decision (its checkpoint is kept).
+ * Life of a trial. `training`: a job trains it. `waiting`: finished a rung, waiting for the sampler's
+ * promotion decision (its checkpoint is kept). `trained`: trained to the most epochs the sampler gives
+ * it. `dropped`: finished its rung but was not promoted (halving samplers).
  */
-export type TrialStatus = 'running' | 'paused' | 'completed' | 'stopped' | 'diverged' | 'failed' | 'timed-out';
+export type TrialStatus = 'training' | 'waiting' | 'trained' | 'dropped' | 'diverged' | 'failed' | 'timed-out';
 
 /** One epoch of a trial's curve, as stored (the trial id is implied). */
 export type CurvePoint = Omit<EpochReport, 'trialId'>;
 
 export interface TrialRecord {
   id: number;
-  params: TrialParams;
+  configuration: TrialConfiguration;
   seed: number;
   status: TrialStatus;
   /** Highest rung reached (0 for random search). */
@@ -24,10 +24,10 @@ export interface TrialRecord {
   bracket: number;
   epochsTrained: number;
   curve: CurvePoint[];
-  /** Objective metric at the last epoch trained (null until an epoch completes, or when diverged). */
-  objective: number | null;
-  /** Objective at the end of each rung reached, by rung index. */
-  rungObjectives: (number | null)[];
+  /** The goal's metric at the last epoch trained (null until an epoch completes, or when diverged). */
+  score: number | null;
+  /** Score at the end of each rung reached, by rung index. */
+  rungScores: (number | null)[];
   startedAt?: string;
   endedAt?: string;
   /** Sum of worker wall time over all of the trial's jobs, seconds. */
@@ -53,7 +53,7 @@ export interface JobRecord {
   fromCheckpoint: boolean;
   /** Runs of this job: 1, plus one for each retry after a failure. */
   attempts: number;
-  status: 'running' | 'completed' | 'diverged' | 'failed' | 'timed-out' | 'cut-off';
+  status: 'training' | 'done' | 'diverged' | 'failed' | 'timed-out' | 'cut-off';
   /** Where its last run trained, as the transport names it. */
   ranOn?: string;
 }
@@ -69,14 +69,14 @@ export interface StudyTotals {
 /** The whole study file. */
 export interface StudyDocument {
   format: 'rungwise-study';
-  /** 2 since jobs are recorded per trial; version 1 files are migrated when opened. */
-  version: 2;
+  /** 3 since the vocabulary of format 3 (`goal`, `score`, `configuration`, the status words); versions 1 and 2 are migrated when opened. */
+  version: 3;
   name: string;
   /** The definition as validated, with defaults applied. */
   definition: StudyDefinition;
   /** Absolute path of the definition file the study was launched from. */
   definitionFile: string;
-  objective: Objective;
+  goal: Goal;
   data: DataSummary;
   recipe: PreprocessingRecipe;
   state: 'running' | 'interrupted' | 'finished';

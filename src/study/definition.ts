@@ -73,9 +73,9 @@ export const budgetSchema = z.strictObject({
   maxEpochs: z.int().min(1).describe('Epochs a configuration trains for at most (every trial, for random search).'),
 });
 
-export const objectiveSchema = z.strictObject({
+export const goalSchema = z.strictObject({
   metric: z.enum(METRICS).describe('Validation metric to rank trials by.'),
-  direction: z.enum(['maximize', 'minimize']).optional().describe('Default follows the metric.'),
+  better: z.enum(['higher', 'lower']).optional().describe('Whether a higher or a lower value of the metric is better; default follows the metric.'),
 });
 
 export const studySchema = z.strictObject({
@@ -88,7 +88,7 @@ export const studySchema = z.strictObject({
   space: spaceSchema,
   budget: budgetSchema,
   sampler: samplerSchema.default({ kind: 'random', seed: 0 }),
-  objective: objectiveSchema.optional().describe('Default: auc for binary, accuracy for multiclass, rmse for regression.'),
+  goal: goalSchema.optional().describe('Default: auc for binary, accuracy for multiclass, rmse for regression.'),
   workers: z.int().min(1).max(256).optional().describe('Worker threads; default: available cores.'),
   trialTimeoutSeconds: z.number().positive().optional().describe('A trial running longer is stopped and marked timed-out.'),
   retries: z.int().min(0).max(10).default(0).describe('Times a failed trial is run again before it is given up.'),
@@ -104,8 +104,8 @@ export type SearchSpace = z.output<typeof spaceSchema>;
 export type Budget = z.output<typeof budgetSchema>;
 export type DataSettings = StudyDefinition['data'];
 
-/** One point of the search space: what a trial trains. */
-export interface TrialParams {
+/** One point of the search space: what a trial trains (a trial's configuration). */
+export interface TrialConfiguration {
   depth: number;
   width: number;
   activation: Activation;
@@ -116,20 +116,21 @@ export interface TrialParams {
   dropout: number;
 }
 
-export interface Objective {
+/** What the study ranks trials by: a validation metric and which way is better. */
+export interface Goal {
   metric: MetricName;
-  direction: 'maximize' | 'minimize';
+  better: 'higher' | 'lower';
 }
 
-const MINIMIZED: ReadonlySet<MetricName> = new Set(['logLoss', 'rmse', 'mae', 'validationLoss']);
+const LOWER_IS_BETTER: ReadonlySet<MetricName> = new Set(['logLoss', 'rmse', 'mae', 'validationLoss']);
 
-/** The objective in force: the study's own, else the task's default; direction follows the metric unless given. */
-export function resolveObjective(definition: Pick<StudyDefinition, 'objective' | 'data'>): Objective {
+/** The goal in force: the study's own, else the task's default; which way is better follows the metric unless given. */
+export function resolveGoal(definition: Pick<StudyDefinition, 'goal' | 'data'>): Goal {
   const metric: MetricName =
-    definition.objective?.metric ??
+    definition.goal?.metric ??
     (definition.data.task === 'binary' ? 'auc' : definition.data.task === 'multiclass' ? 'accuracy' : 'rmse');
-  const direction = definition.objective?.direction ?? (MINIMIZED.has(metric) ? 'minimize' : 'maximize');
-  return { metric, direction };
+  const better = definition.goal?.better ?? (LOWER_IS_BETTER.has(metric) ? 'lower' : 'higher');
+  return { metric, better };
 }
 
 /** Metrics each task reports every epoch (besides training and validation loss). */

@@ -8,6 +8,6 @@ export function studyJsonSchema(): Record<string, unknown> {
     ...schema,
     $id: 'https://rungwise.invalid/schema/study.schema.json',
     title: 'rungwise study definition',
-    description: 'A study: the data, the search space, the budget, the sampler and the objective.',
+    description: 'A study: the data, the search space, the budget, the sampler and the goal.',
   };
 }

@@ -17,6 +17,36 @@ export interface LoadedStudy {
   definition: StudyDefinition;
   /** Absolute path of the definition file. */
   file: string;
+  /** What reading found that the user should know, one line each: old key names that were translated. */
+  notes?: readonly string[];
+}
+
+/** Format 2's names for `better`'s values. */
+const OLD_DIRECTIONS: Readonly<Record<string, StudyGoal['better']>> = { maximize: 'higher', minimize: 'lower' };
+
+type StudyGoal = NonNullable<StudyDefinition['goal']>;
+
+/**
+ * Definitions written for format 2 name the goal `objective: { metric, direction }`. Such a definition
+ * is read as `goal: { metric, better }` (direction "maximize" is better "higher", "minimize" "lower"),
+ * with a note saying what to rename; the JSON Schema shows only the new names. A definition that has
+ * both keys is left as it is, so validation names the old one as unknown.
+ */
+function translateOldKeys(raw: unknown, file: string): { raw: unknown; notes: string[] } {
+  if (raw === null || typeof raw !== 'object' || Array.isArray(raw) || !('objective' in raw) || 'goal' in raw) return { raw, notes: [] };
+  const { objective, ...rest } = raw as Record<string, unknown>;
+  let goal = objective;
+  let direction = '';
+  if (objective !== null && typeof objective === 'object' && !Array.isArray(objective) && 'direction' in objective) {
+    const { direction: old, ...others } = objective as Record<string, unknown>;
+    const better = typeof old === 'string' ? OLD_DIRECTIONS[old] : undefined;
+    goal = { ...others, better: better ?? old };
+    direction = better ? ` and its "direction": "${String(old)}" to "better": "${better}"` : ' and its "direction" to "better" ("higher" or "lower")';
+  }
+  return {
+    raw: { ...rest, goal },
+    notes: [`${file}: "objective" is the key's old name; it was read as "goal"; rename it to "goal"${direction}`],
+  };
 }
 
 function lineAndColumn(text: string, offset: number): { line: number; column: number } {
@@ -47,17 +77,17 @@ function metricsAllowed(task: StudyDefinition['data']['task']): readonly MetricN
 /** Rules that span several fields, each as `[json path, message]`. */
 function crossFieldProblems(definition: StudyDefinition): [string, string][] {
   const problems: [string, string][] = [];
-  const { data, sampler, budget, objective } = definition;
+  const { data, sampler, budget, goal } = definition;
   if (data.validationFraction + data.testFraction > 0.9) {
     problems.push([
       'data.validationFraction',
       `validation (${data.validationFraction}) and test (${data.testFraction}) fractions add up to more than 0.9; leave at least 10% for training`,
     ]);
   }
-  if (objective) {
+  if (goal) {
     const allowed = metricsAllowed(data.task);
-    if (!allowed.includes(objective.metric)) {
-      problems.push(['objective.metric', `found "${objective.metric}", expected for a ${data.task} task one of ${allowed.map((m) => `"${m}"`).join(', ')}`]);
+    if (!allowed.includes(goal.metric)) {
+      problems.push(['goal.metric', `found "${goal.metric}", expected for a ${data.task} task one of ${allowed.map((m) => `"${m}"`).join(', ')}`]);
     }
   }
   if ('minEpochs' in sampler && sampler.minEpochs > budget.maxEpochs) {
@@ -69,8 +99,12 @@ function crossFieldProblems(definition: StudyDefinition): [string, string][] {
   return problems;
 }
 
-/** Validate an already parsed definition; `file` is used in messages only. */
+/** Validate an already parsed definition; `file` is used in messages only. Old key names are translated silently. */
 export function validateStudy(raw: unknown, file: string): StudyDefinition {
+  return validated(translateOldKeys(raw, file).raw, file);
+}
+
+function validated(raw: unknown, file: string): StudyDefinition {
   const result = studySchema.safeParse(raw);
   if (!result.success) {
     const lines = result.error.issues.map((issue) => formatIssue(file, issue, raw, studySchema));
@@ -105,7 +139,8 @@ export async function loadStudy(file: string): Promise<LoadedStudy> {
     const { line } = lineAndColumn(text, nul);
     throw new UserError('E_STUDY_JSON', `${file}: line ${line}: contains a NUL byte; this looks like a binary file, expected a JSON study definition (UTF-8 text)`);
   }
-  return { definition: validateStudy(parseJson(text, file), file), file: absolute };
+  const { raw, notes } = translateOldKeys(parseJson(text, file), file);
+  return { definition: validated(raw, file), file: absolute, notes };
 }
 
 /** What messages call a definition given as an object rather than a file. */
@@ -117,5 +152,6 @@ export const DEFINITION_OBJECT_LABEL = 'study definition (object)';
  * @throws UserError on any problem, exactly as {@link loadStudy} would for the same JSON in a file.
  */
 export function studyFromObject(definition: unknown, baseDir: string): LoadedStudy {
-  return { definition: validateStudy(definition, DEFINITION_OBJECT_LABEL), file: path.join(path.resolve(baseDir), DEFINITION_OBJECT_LABEL) };
+  const { raw, notes } = translateOldKeys(definition, DEFINITION_OBJECT_LABEL);
+  return { definition: validated(raw, DEFINITION_OBJECT_LABEL), file: path.join(path.resolve(baseDir), DEFINITION_OBJECT_LABEL), notes };
 }

@@ -1,18 +1,18 @@
 /**
- * The one definition of a trial's status groups. A trial is `running` while a job trains it, `paused`
+ * The one definition of a trial's status groups. A trial is `training` while a job trains it, `waiting`
  * at the end of a rung while the sampler may still continue it, and ends in one of the ended statuses.
  */
 import { UserError } from '../errors.js';
 import type { TrialRecord, TrialStatus } from '../store/types.js';
 
 /** Statuses from which no job will continue the trial. */
-export const ENDED_STATUSES: readonly TrialStatus[] = ['completed', 'stopped', 'diverged', 'failed', 'timed-out'];
+export const ENDED_STATUSES: readonly TrialStatus[] = ['trained', 'dropped', 'diverged', 'failed', 'timed-out'];
 /**
  * Statuses of trials that are ranked, at the last point they were scored: those that trained to the
  * end of a rung, and those being continued past it (so a leader does not drop out of the ranking while
  * its next rung trains).
  */
-export const RANKED_STATUSES: readonly TrialStatus[] = ['completed', 'stopped', 'paused', 'running'];
+export const RANKED_STATUSES: readonly TrialStatus[] = ['trained', 'dropped', 'waiting', 'training'];
 /** Statuses of trials that ended without a usable score. */
 export const UNSUCCESSFUL_STATUSES: readonly TrialStatus[] = ['diverged', 'failed', 'timed-out'];
 
@@ -30,7 +30,7 @@ export function isUnsuccessful(status: TrialStatus): boolean {
 
 /** A job may still come for the trial: it is training or waiting at the end of a rung. */
 export function isActive(status: TrialStatus): boolean {
-  return status === 'running' || status === 'paused';
+  return status === 'training' || status === 'waiting';
 }
 
 /** How many trials ended without a usable score, and the first of them (by id) with its reason. */

@@ -8,7 +8,7 @@ import {
   type NamedWeights,
   type VariableEntry,
 } from '../checkpoints/format.js';
-import type { OptimizerName, TrialParams } from '../study/definition.js';
+import type { OptimizerName, TrialConfiguration } from '../study/definition.js';
 
 export { checkpointWeights, decodeCheckpoint, type NamedWeights } from '../checkpoints/format.js';
 
@@ -49,7 +49,7 @@ function entry(named: { name: string; tensor: tf.Tensor } | tf.Variable): Variab
 
 /** The checkpoint of a network and its optimizer after `info.epoch` epochs, as bytes. */
 export async function checkpointBytes(
-  info: { trialId: number; epoch: number; params: TrialParams },
+  info: { trialId: number; epoch: number; params: TrialConfiguration },
   variables: tf.Variable[],
   optimizer: tf.Optimizer,
 ): Promise<Uint8Array> {

@@ -1,5 +1,5 @@
 import * as tf from '@tensorflow/tfjs';
-import type { Activation, Task, TrialParams } from '../study/definition.js';
+import type { Activation, Task, TrialConfiguration } from '../study/definition.js';
 import { stream, type Rng } from '../random/streams.js';
 import { initialKernel, initRuleFor, layerPrefix, type InitRule } from './initial-weights.js';
 
@@ -154,6 +154,6 @@ export function l2Penalty(network: Network, l2: number): tf.Scalar {
 }
 
 /** The network shape a request describes. */
-export function networkSpec(trialId: number, seed: number, params: TrialParams, inputCount: number, outputCount: number): NetworkSpec {
+export function networkSpec(trialId: number, seed: number, params: TrialConfiguration, inputCount: number, outputCount: number): NetworkSpec {
   return { trialId, seed, inputCount, outputCount, depth: params.depth, width: params.width, activation: params.activation };
 }

@@ -1,5 +1,5 @@
 import { CHECKPOINT_FORMAT_VERSION, checkpointManifest, encodeCheckpoint } from '../checkpoints/format.js';
-import type { MetricName, TrialParams } from '../study/definition.js';
+import type { MetricName, TrialConfiguration } from '../study/definition.js';
 import type { TrialTransport } from './transport.js';
 import type { EpochReport, SharedDataset, TrainJob, TrainResult } from './types.js';
 
@@ -11,7 +11,7 @@ export interface ClosedFormEpoch {
 
 export interface ClosedFormTransportOptions {
   /** The figures of `params` after `epoch` epochs (1-based). A non-finite loss is reported as divergence. */
-  evaluate(params: TrialParams, epoch: number, trialId: number): ClosedFormEpoch;
+  evaluate(params: TrialConfiguration, epoch: number, trialId: number): ClosedFormEpoch;
   /** Jobs that may run at once. @default 1 */
   capacity?: number;
   /** Wall time each epoch takes, so that jobs overlap as they do in training. @default 0 */

@@ -4,7 +4,7 @@
  * {@link TrainResult} settles it. A failure rejects the run; a non-finite loss is not a failure but a
  * `diverged` result. These are domain types: no message port, no shared buffer, no file path.
  */
-import type { MetricName, Task, TrialParams } from '../study/definition.js';
+import type { MetricName, Task, TrialConfiguration } from '../study/definition.js';
 
 /** Training and validation matrices of a study, named by an id so a worker can fetch or cache them once. */
 export interface SharedDataset {
@@ -25,7 +25,7 @@ export interface TrainJob {
   trialId: number;
   /** Fixes the initial weights, dropout masks and each epoch's shuffle (together with the epoch number). */
   seed: number;
-  params: TrialParams;
+  params: TrialConfiguration;
   /** The {@link SharedDataset.id} to train on; the transport provides the data. */
   datasetId: string;
   /** Epochs already trained (0 for a fresh start); training runs epochs fromEpoch+1 .. toEpoch. */

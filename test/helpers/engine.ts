@@ -3,7 +3,7 @@ import * as tf from '@tensorflow/tfjs';
 import { EngineTrial } from '../../src/engine/trial.js';
 import { networkWeights } from '../../src/engine/checkpoint-state.js';
 import type { SharedDataset } from '../../src/pool/messages.js';
-import type { TrialParams } from '../../src/study/definition.js';
+import type { TrialConfiguration } from '../../src/study/definition.js';
 import { createNetwork, networkSpec, type Network } from '../../src/train/network.js';
 import type { Rng } from '../../src/random/streams.js';
 
@@ -25,7 +25,7 @@ export function engineGradients(trial: EngineTrial): Float32Array[] {
  * An engine trial and a tfjs network with the same weights: the seeded initial kernels, and
  * biases drawn from `rng` (so that bias paths are exercised with non-zero values).
  */
-export function twinNetworks(params: TrialParams, dataset: SharedDataset, seed: number, rng: Rng): { trial: EngineTrial; network: Network } {
+export function twinNetworks(params: TrialConfiguration, dataset: SharedDataset, seed: number, rng: Rng): { trial: EngineTrial; network: Network } {
   const trial = EngineTrial.create({ trialId: 1, seed, params, dataset });
   for (const layer of trial.layers) {
     trial.writeMatrix(layer.at.bias, layer.outStride, Float32Array.from({ length: layer.fanOut }, () => rng() - 0.5), layer.fanOut);

@@ -21,7 +21,7 @@ export function tinyStudy(overrides: Partial<StudyDefinitionInput> = {}): StudyD
     },
     budget: { trials: 4, maxEpochs: 3 },
     sampler: { kind: 'random', seed: 1 },
-    objective: { metric: 'auc' },
+    goal: { metric: 'auc' },
     workers: 2,
     ...overrides,
   };

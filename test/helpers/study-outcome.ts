@@ -5,12 +5,12 @@ import type { StudyDocument } from '../../src/store/types.js';
 /** What must not depend on where or how a study ran: each trial's configuration, status, epochs, objective and curve. */
 export function trialsOf(doc: StudyDocument) {
   return doc.trials
-    .map((t) => ({ id: t.id, status: t.status, epochs: t.epochsTrained, objective: t.objective, params: t.params, curve: t.curve.map(({ seconds: _s, ...p }) => p) }))
+    .map((t) => ({ id: t.id, status: t.status, epochs: t.epochsTrained, objective: t.score, params: t.configuration, curve: t.curve.map(({ seconds: _s, ...p }) => p) }))
     .sort((a, b) => a.id - b.id);
 }
 
 /** The trials and ranking (trial ids in rank order) of the study saved in `dir`. */
 export async function studyOutcome(dir: string): Promise<{ state: string; trials: ReturnType<typeof trialsOf>; ranking: number[] }> {
   const doc = (await StudyStore.open(dir)).doc;
-  return { state: doc.state, trials: trialsOf(doc), ranking: rankTrials(doc.trials, doc.objective).map((r) => r.trial.id) };
+  return { state: doc.state, trials: trialsOf(doc), ranking: rankTrials(doc.trials, doc.goal).map((r) => r.trial.id) };
 }

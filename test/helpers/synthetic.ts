@@ -1,6 +1,6 @@
 /** Small seeded synthetic data sets for training tests. */
 import type { SharedDataset, TrainRequest } from '../../src/pool/messages.js';
-import type { Task, TrialParams } from '../../src/study/definition.js';
+import type { Task, TrialConfiguration } from '../../src/study/definition.js';
 import { stream, type Rng } from '../../src/random/streams.js';
 
 export interface SyntheticOptions {
@@ -60,7 +60,7 @@ export function syntheticDataset(options: SyntheticOptions): SharedDataset {
   return dataset;
 }
 
-export const baseParams: TrialParams = {
+export const baseParams: TrialConfiguration = {
   depth: 2,
   width: 8,
   activation: 'relu',
@@ -72,7 +72,7 @@ export const baseParams: TrialParams = {
 };
 
 /** A fresh-start request training epochs 1..toEpoch. */
-export function trainRequest(dataset: SharedDataset, overrides: Omit<Partial<TrainRequest>, 'params'> & { params?: Partial<TrialParams> } = {}): TrainRequest {
+export function trainRequest(dataset: SharedDataset, overrides: Omit<Partial<TrainRequest>, 'params'> & { params?: Partial<TrialConfiguration> } = {}): TrainRequest {
   const { params, ...rest } = overrides;
   return { trialId: 1, seed: 42, dataset, datasetId: dataset.id, fromEpoch: 0, toEpoch: 3, ...rest, params: { ...baseParams, ...params } };
 }

@@ -6,7 +6,7 @@ import { decode, type Dimension } from '../../src/space/dimensions.js';
 import type { UnitDesign } from '../../src/samplers/design.js';
 import type { Job, Sampler } from '../../src/samplers/sampler.js';
 import { simulate, type SimulationLog } from '../../src/samplers/simulate.js';
-import type { TrialParams } from '../../src/study/definition.js';
+import type { TrialConfiguration } from '../../src/study/definition.js';
 
 export interface TestFunction {
   name: string;
@@ -70,7 +70,7 @@ export const HARTMANN6: TestFunction = {
 };
 
 /** Every job trains the same placeholder configuration: the function reads the trial's point instead. */
-export const PLACEHOLDER_PARAMS: TrialParams = { depth: 1, width: 8, activation: 'relu', learningRate: 0.01, batchSize: 32, optimizer: 'adam', l2: 0, dropout: 0 };
+export const PLACEHOLDER_PARAMS: TrialConfiguration = { depth: 1, width: 8, activation: 'relu', learningRate: 0.01, batchSize: 32, optimizer: 'adam', l2: 0, dropout: 0 };
 
 export const designOf = (fn: TestFunction): UnitDesign => ({ dimensions: fn.dimensions, paramsAt: () => PLACEHOLDER_PARAMS });
 

@@ -9,15 +9,15 @@ export interface LeaderStep {
   epochsSpent: number;
   workerSecondsSpent: number;
   leaderId: number;
-  /** The leader's objective at its scored point. */
-  objective: number;
+  /** The leader's score at its scored point. */
+  score: number;
   /** Epochs the leader had trained when scored. */
   leaderEpochs: number;
 }
 
 /** The trial as it stood once one of its jobs had ended. */
 function standing(trial: TrialRecord, job: JobSpent): TrialRecord {
-  return { ...trial, status: job.statusAfter, epochsTrained: job.toEpoch, objective: job.objective };
+  return { ...trial, status: job.statusAfter, epochsTrained: job.toEpoch, score: job.score };
 }
 
 /**
@@ -39,11 +39,11 @@ export function leaderSteps(study: StudyDocument): LeaderStep[] {
     standings.set(job.trialId, now);
     // Only the changed trial can take the lead, unless the leader itself changed: then rank everyone.
     const candidates = leader === undefined || leader.id === job.trialId ? [...standings.values()] : [leader, now];
-    leader = rankTrials(candidates, study.objective)[0]?.trial;
+    leader = rankTrials(candidates, study.goal)[0]?.trial;
     if (!leader) continue;
     const previous = steps.at(-1);
-    const step = { epochsSpent, workerSecondsSpent, leaderId: leader.id, objective: leader.objective!, leaderEpochs: leader.epochsTrained };
-    if (previous && previous.leaderId === step.leaderId && previous.objective === step.objective && previous.leaderEpochs === step.leaderEpochs) {
+    const step = { epochsSpent, workerSecondsSpent, leaderId: leader.id, score: leader.score!, leaderEpochs: leader.epochsTrained };
+    if (previous && previous.leaderId === step.leaderId && previous.score === step.score && previous.leaderEpochs === step.leaderEpochs) {
       continue;
     }
     steps.push(step);

@@ -1,5 +1,5 @@
 import type { StudyDocument, TrialRecord, TrialStatus } from '../../store/types.js';
-import { objectiveAt } from '../../study/objective.js';
+import { scoreAt } from '../../study/objective.js';
 import { isUnsuccessful } from '../../study/trial-status.js';
 
 /** One job of a trial as the report reads it: the epochs it trained and where it left the trial. */
@@ -13,9 +13,9 @@ export interface JobSpent {
   workerSeconds: number;
   /** Epochs the trial had trained when the job ended. */
   toEpoch: number;
-  /** Objective at the job's last epoch; null when it diverged or failed. */
-  objective: number | null;
-  /** The trial's status once this job had ended: its final status after its last job, else paused. */
+  /** Score at the job's last epoch; null when it diverged or failed. */
+  score: number | null;
+  /** The trial's status once this job had ended: its final status after its last job, else waiting. */
   statusAfter: TrialStatus;
   /** When the job ended, in milliseconds since 1970, estimated as described in {@link studyJobs}. */
   endedAtMs: number;
@@ -23,12 +23,12 @@ export interface JobSpent {
 
 /**
  * Epochs at the end of each rung, per bracket, read from the trials: the most epochs trained by a
- * trial that ended or paused at that rung. Only files without job records need it.
+ * trial that ended or waited at that rung. Only files without job records need it.
  */
 export function rungEndEpochs(study: StudyDocument): Map<number, number[]> {
   const ends = new Map<number, number[]>();
   for (const trial of study.trials) {
-    if (isUnsuccessful(trial.status) || trial.status === 'running') continue;
+    if (isUnsuccessful(trial.status) || trial.status === 'training') continue;
     const row = ends.get(trial.bracket) ?? [];
     row[trial.rung] = Math.max(row[trial.rung] ?? 0, trial.epochsTrained);
     ends.set(trial.bracket, row);
@@ -40,25 +40,25 @@ interface JobSpan {
   rung: number;
   fromEpoch: number;
   toEpoch: number;
-  result: 'completed' | 'diverged' | 'failed' | 'timed-out';
+  result: 'done' | 'diverged' | 'failed' | 'timed-out';
 }
 
 /** A trial's jobs that ended: the recorded ones, or for files from before jobs were recorded, one per rung reached. */
 function jobSpans(trial: TrialRecord, rungEnds: Map<number, number[]>): JobSpan[] {
   if (trial.jobs.length > 0) {
     return trial.jobs.flatMap((job): JobSpan[] =>
-      job.status === 'running' || job.status === 'cut-off' ? [] : [{ rung: job.rung, fromEpoch: job.fromEpoch, toEpoch: job.toEpoch, result: job.status }],
+      job.status === 'training' || job.status === 'cut-off' ? [] : [{ rung: job.rung, fromEpoch: job.fromEpoch, toEpoch: job.toEpoch, result: job.status }],
     );
   }
-  // A running trial's current rung has not ended yet.
-  const top = trial.status === 'running' ? trial.rung - 1 : trial.rung;
+  // A training trial's current rung has not ended yet.
+  const top = trial.status === 'training' ? trial.rung - 1 : trial.rung;
   const ends = rungEnds.get(trial.bracket) ?? [];
   const spans: JobSpan[] = [];
   let from = 0;
   for (let rung = 0; rung <= top; rung++) {
     const last = rung === top;
     const to = last ? Math.max(trial.epochsTrained, from) : (ends[rung] ?? from);
-    const result = last && isUnsuccessful(trial.status) ? (trial.status as JobSpan['result']) : 'completed';
+    const result = last && isUnsuccessful(trial.status) ? (trial.status as JobSpan['result']) : 'done';
     spans.push({ rung, fromEpoch: from, toEpoch: to, result });
     from = to;
   }
@@ -83,7 +83,7 @@ export function studyJobs(study: StudyDocument): JobSpent[] {
     const end = trial.endedAt ? Date.parse(trial.endedAt) : Number.NaN;
     spans.forEach((span, index) => {
       const trained = trial.curve.filter((p) => p.epoch > span.fromEpoch && p.epoch <= span.toEpoch);
-      const lastEpoch = span.result === 'completed' ? span.toEpoch : Math.max(span.fromEpoch, ...trained.map((p) => p.epoch));
+      const lastEpoch = span.result === 'done' ? span.toEpoch : Math.max(span.fromEpoch, ...trained.map((p) => p.epoch));
       const point = points.get(span.toEpoch);
       const last = index === spans.length - 1;
       let endedAtMs: number;
@@ -98,8 +98,8 @@ export function studyJobs(study: StudyDocument): JobSpent[] {
         epochs: lastEpoch - span.fromEpoch,
         workerSeconds: trained.reduce((sum, p) => sum + p.seconds, 0),
         toEpoch: lastEpoch,
-        objective: span.result === 'completed' && point ? objectiveAt(point, study.objective) : null,
-        statusAfter: last ? trial.status : span.result === 'completed' ? 'paused' : span.result,
+        score: span.result === 'done' && point ? scoreAt(point, study.goal) : null,
+        statusAfter: last ? trial.status : span.result === 'done' ? 'waiting' : span.result,
         endedAtMs,
       });
     });

@@ -30,14 +30,14 @@ export function spearman(ranksA: readonly number[], ranksB: readonly number[]): 
 
 /** A trial as it stood at the end of one rung, for ranking within the rung. */
 function atRung(trial: TrialRecord, rung: number, epochs: number): TrialRecord {
-  return { ...trial, status: 'stopped', epochsTrained: epochs, objective: trial.rungObjectives[rung] ?? null };
+  return { ...trial, status: 'dropped', epochsTrained: epochs, score: trial.rungScores[rung] ?? null };
 }
 
 /** The one ranking of a bracket's trials by their scores at the end of one rung: trial id to 1-based place. */
 export function rungPlaces(study: StudyDocument, bracket: number, rung: number): Map<number, number> {
   const epochs = rungEndEpochs(study).get(bracket)?.[rung] ?? 0;
   const trials = study.trials.filter((t) => t.bracket === bracket && t.rung >= rung).map((t) => atRung(t, rung, epochs));
-  return new Map(rankTrials(trials, study.objective).map(({ rank, trial }) => [trial.id, rank]));
+  return new Map(rankTrials(trials, study.goal).map(({ rank, trial }) => [trial.id, rank]));
 }
 
 /** How the order at one rung agreed with the order at the next, among the configurations scored at both. */

@@ -1,6 +1,6 @@
 import type { StudyDocument, TrialRecord } from '../../store/types.js';
-import type { TrialParams } from '../../study/definition.js';
-import { beats, objectiveAt } from '../../study/objective.js';
+import type { TrialConfiguration } from '../../study/definition.js';
+import { beats, scoreAt } from '../../study/objective.js';
 import { variedParameterAxes, type ParameterAxis } from '../labels.js';
 import { forestImportance, type InputKind } from './importance.js';
 
@@ -45,7 +45,7 @@ function coding(axis: ParameterAxis, study: StudyDocument): Coding {
       decode: (coded) => (bounds.log ? Math.exp(lo + coded * (hi - lo)) : lo + coded * (hi - lo)),
     };
   }
-  const seen = [...new Set(study.trials.map((t) => t.params[axis.key]))];
+  const seen = [...new Set(study.trials.map((t) => t.configuration[axis.key]))];
   const depths = axis.key === 'depth' ? Array.from({ length: space.depth.max - space.depth.min + 1 }, (_, i) => space.depth.min + i) : [];
   const levels: (string | number)[] = [...new Set([...(axis.key === 'depth' ? depths : (axis.categories ?? [])), ...seen])];
   return { axis, input: { kind: 'choice', levels: levels.length }, encode: (value) => levels.indexOf(value), decode: (coded) => levels[coded]! };
@@ -57,28 +57,28 @@ function coding(axis: ParameterAxis, study: StudyDocument): Coding {
  */
 export function comparableEpoch(study: StudyDocument): number | undefined {
   const counts = new Map<number, number>();
-  for (const trial of study.trials) for (const point of trial.curve) if (objectiveAt(point, study.objective) !== null) counts.set(point.epoch, (counts.get(point.epoch) ?? 0) + 1);
+  for (const trial of study.trials) for (const point of trial.curve) if (scoreAt(point, study.goal) !== null) counts.set(point.epoch, (counts.get(point.epoch) ?? 0) + 1);
   let best: [number, number] | undefined;
   for (const [epoch, count] of counts) if (!best || count > best[1] || (count === best[1] && epoch > best[0])) best = [epoch, count];
   return best?.[0];
 }
 
 /** Objective of a trial at one epoch, or undefined. */
-export function objectiveAtEpoch(trial: TrialRecord, study: StudyDocument, epoch: number): number | undefined {
+export function scoreAtEpoch(trial: TrialRecord, study: StudyDocument, epoch: number): number | undefined {
   const point = trial.curve.find((p) => p.epoch === epoch);
-  return point ? (objectiveAt(point, study.objective) ?? undefined) : undefined;
+  return point ? (scoreAt(point, study.goal) ?? undefined) : undefined;
 }
 
 /** One hyperparameter's share of the objective's variance, and its marginal for the value chart. */
 export interface ParameterImportance {
-  key: keyof TrialParams;
+  key: keyof TrialConfiguration;
   title: string;
   /** A few words, for crowded places. */
   shortTitle: string;
   share: number;
   kind: 'continuous' | 'choice';
-  /** The forest's marginal: the predicted objective at each value, the other hyperparameters averaged out. */
-  marginal: { value: string | number; objective: number }[];
+  /** The forest's marginal: the predicted score at each value, the other hyperparameters averaged out. */
+  marginal: { value: string | number; score: number }[];
   /** Values where the marginal lies in the better quarter of its own range (the shaded good region). */
   good: (string | number)[];
 }
@@ -101,12 +101,12 @@ export function studyImportance(study: StudyDocument): StudyImportance | undefin
   const axes = variedParameterAxes(study);
   if (epoch === undefined || axes.length === 0) return undefined;
   const scored = study.trials.flatMap((t) => {
-    const value = objectiveAtEpoch(t, study, epoch);
+    const value = scoreAtEpoch(t, study, epoch);
     return value === undefined ? [] : [{ trial: t, value }];
   });
   if (scored.length < FEWEST_FOR_IMPORTANCE) return undefined;
   const codings = axes.map((axis) => coding(axis, study));
-  const rows = scored.map(({ trial }) => codings.map((c) => c.encode(trial.params[c.axis.key])));
+  const rows = scored.map(({ trial }) => codings.map((c) => c.encode(trial.configuration[c.axis.key])));
   const values = scored.map((s) => s.value);
   const { effects } = forestImportance(
     rows,
@@ -114,14 +114,14 @@ export function studyImportance(study: StudyDocument): StudyImportance | undefin
     codings.map((c) => c.input),
     { seedKey: [study.definition.sampler.seed, 'report', 'importance'] },
   );
-  const direction = study.objective.direction;
+  const better = study.goal.better;
   const parameters = effects.map((effect, i): ParameterImportance => {
     const c = codings[i]!;
-    const marginal = effect.at.map((at, k) => ({ value: c.decode(at), objective: effect.marginal[k]! }));
-    const best = marginal.reduce((b, m) => (beats(m.objective, b, direction) ? m.objective : b), marginal[0]!.objective);
-    const worst = marginal.reduce((w, m) => (beats(w, m.objective, direction) ? m.objective : w), marginal[0]!.objective);
+    const marginal = effect.at.map((at, k) => ({ value: c.decode(at), score: effect.marginal[k]! }));
+    const best = marginal.reduce((b, m) => (beats(m.score, b, better) ? m.score : b), marginal[0]!.score);
+    const worst = marginal.reduce((w, m) => (beats(w, m.score, better) ? m.score : w), marginal[0]!.score);
     const threshold = best + (worst - best) * 0.25;
-    const good = marginal.filter((m) => (direction === 'maximize' ? m.objective >= threshold : m.objective <= threshold)).map((m) => m.value);
+    const good = marginal.filter((m) => (better === 'higher' ? m.score >= threshold : m.score <= threshold)).map((m) => m.value);
     return { key: c.axis.key, title: c.axis.title, shortTitle: c.axis.shortTitle, share: effect.share, kind: c.input.kind, marginal, good };
   });
   return { epoch, configurations: scored.length, parameters: parameters.sort((a, b) => b.share - a.share) };

@@ -1,7 +1,7 @@
 import type { StudyDocument } from '../../store/types.js';
 import { leaderSteps, plannedEpochs } from '../analysis/budget.js';
 import { robustDomain } from '../data.js';
-import { objectiveLabel } from '../labels.js';
+import { goalLabel } from '../labels.js';
 import { BUDGET_END, WINNER_MARK, studyColour } from '../palette.js';
 import { bestTrial } from '../winner.js';
 import { titledChart, type Chart } from './chart.js';
@@ -24,12 +24,12 @@ export function budgetChart(studies: readonly StudyDocument[]): Chart | null {
     const epochs = plannedEpochs(study);
     return epochs === undefined ? [] : [{ study: study.name, epochs, label: `planned: ${epochs} epochs${studies.length > 1 ? ` (${study.name})` : ''}` }];
   });
-  const objective = studies[0]!.objective;
-  const domain = robustDomain(rows.map((r) => r.objective));
+  const goal = studies[0]!.goal;
+  const domain = robustDomain(rows.map((r) => r.score));
   const color = { field: 'study', type: 'nominal' as const, title: 'study', scale: { domain: names, range: names.map((_, i) => studyColour(i)) }, legend: studies.length > 1 ? {} : null };
   const x = { field: 'epochsSpent', type: 'quantitative' as const, title: 'epochs trained so far, all trials together', scale: { domainMin: 0 } };
-  const y = { field: 'objective', type: 'quantitative' as const, title: objectiveLabel(objective), scale: domain ? { zero: false, domain, clamp: true } : { zero: false } };
-  const title = 'Best configuration so far against compute spent';
+  const y = { field: 'score', type: 'quantitative' as const, title: goalLabel(goal), scale: domain ? { zero: false, domain, clamp: true } : { zero: false } };
+  const title = 'The leader against compute spent';
   return titledChart('budget', title, [
     "The line is the ranking's leader after each job ended (more epochs rank first, so the line may step down when a",
     'longer-trained configuration takes the lead). Dashed: the epochs the sampler planned. Star: where the winner took the lead.',

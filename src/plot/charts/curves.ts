@@ -31,7 +31,7 @@ export function endLabels<T extends { value: number; epoch: number }>(ends: read
  * rest. Null when no epoch has been recorded.
  */
 export function learningCurvesChart(study: StudyDocument, colourIndex = 0, name = 'learning-curves'): Chart | null {
-  const ranked = rankTrials(study.trials, study.objective).slice(0, HIGHLIGHTED_CURVES);
+  const ranked = rankTrials(study.trials, study.goal).slice(0, HIGHLIGHTED_CURVES);
   const place = new Map(ranked.map(({ rank, trial }) => [trial.id, rank]));
   const rows = curveRows(study).map((row) => {
     const rank = place.get(row.trialId);
@@ -40,9 +40,9 @@ export function learningCurvesChart(study: StudyDocument, colourIndex = 0, name 
   if (rows.length === 0) return null;
   const domain = robustDomain(rows.map((r) => r.value));
   const labels = endLabels(rows.filter((r) => r.last && r.group !== 'other'), domain ?? extent(rows.map((r) => r.value)));
-  const title = `Learning curves: ${metricLabel(study.objective.metric)} by epoch${name === 'learning-curves' ? '' : ` (${study.name})`}`;
+  const title = `Learning curves: ${metricLabel(study.goal.metric)} by epoch${name === 'learning-curves' ? '' : ` (${study.name})`}`;
   const x = { field: 'epoch', type: 'quantitative' as const, title: 'epoch', axis: { tickMinStep: 1, format: 'd' } };
-  const y = { field: 'value', type: 'quantitative' as const, title: metricLabel(study.objective.metric), scale: domain ? { zero: false, domain, clamp: true } : { zero: false } };
+  const y = { field: 'value', type: 'quantitative' as const, title: metricLabel(study.goal.metric), scale: domain ? { zero: false, domain, clamp: true } : { zero: false } };
   const line = (group: string, color: string, width: number, opacity: number) => ({
     transform: [{ filter: { field: 'group', equal: group } }],
     mark: { type: 'line' as const, color, strokeWidth: width, opacity },

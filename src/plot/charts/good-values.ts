@@ -1,5 +1,5 @@
 import type { StudyDocument } from '../../store/types.js';
-import { objectiveAtEpoch, type StudyImportance } from '../analysis/study-importance.js';
+import { scoreAtEpoch, type StudyImportance } from '../analysis/study-importance.js';
 import { metricLabel } from '../labels.js';
 import { FADED, GOOD_REGION, INK, WINNER_MARK, studyColour } from '../palette.js';
 import { bestTrial } from '../winner.js';
@@ -34,12 +34,12 @@ export function goodValuesChart(study: StudyDocument, importance: StudyImportanc
   if (!importance) return null;
   const winner = bestTrial(study)?.id;
   const chosen = importance.parameters.slice(0, GOOD_VALUE_PANELS);
-  const metric = metricLabel(study.objective.metric);
+  const metric = metricLabel(study.goal.metric);
   const title = 'Good values of the hyperparameters that matter most';
   const panels = chosen.map((parameter) => {
     const points = study.trials.flatMap((t) => {
-      const objective = objectiveAtEpoch(t, study, importance.epoch);
-      return objective === undefined ? [] : [{ value: t.params[parameter.key], objective, winner: t.id === winner, trial: t.id }];
+      const objective = scoreAtEpoch(t, study, importance.epoch);
+      return objective === undefined ? [] : [{ value: t.configuration[parameter.key], objective, winner: t.id === winner, trial: t.id }];
     });
     const continuous = parameter.kind === 'continuous';
     const log = continuous && /log scale/.test(parameter.title);
