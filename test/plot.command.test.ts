@@ -91,7 +91,7 @@ describe('rungwise plot', () => {
     expect(html).toContain('<th scope="row">sampler</th><td>random (seed 0)</td>');
     expect(html).toContain('<th scope="row">goal</th><td>validation AUC, higher is better</td>');
     expect(html).toContain('<th scope="row">trials by status</th><td>completed 4, diverged 1</td>');
-    expect(html).toContain('<th scope="row">best trial</th><td>trial 5: 0.86 after 3 epochs</td>');
+    expect(html).toContain('<th scope="row">winner</th><td>trial 5: 0.86 after 3 epochs</td>');
     expect(html).toContain('2 hidden layers of 32 units, tanh activation, adam with learning rate 0.003, batch size 32, L2 penalty 0.01, dropout 0.3');
     // Five trials are too few for the importance charts; random search has no rungs.
     expect(html.match(/<svg\b/g)).toHaveLength(2);
@@ -106,7 +106,7 @@ describe('rungwise plot', () => {
     await copyFile(fixturePath('halving-nine'), path.join(dir, 'study.json'));
     await plot({ dir });
     const html = await readFile(path.join(dir, 'plots', 'report.html'), 'utf8');
-    expect(html).toContain('<th scope="row">best trial</th><td>trial 5: 0.22 after 9 epochs</td>');
+    expect(html).toContain('<th scope="row">winner</th><td>trial 5: 0.22 after 9 epochs</td>');
     expect(html).toContain('successive-halving (eta 3, first rung 1 epoch, seed 0)');
   });
 

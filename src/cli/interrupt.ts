@@ -5,7 +5,7 @@ export interface StopMessages {
 }
 
 const STUDY_MESSAGES: StopMessages = {
-  first: (name) => `${name}: finishing running trials, then saving (press Ctrl-C again to stop at once)\n`,
+  first: (name) => `${name}: finishing the trials in training, then saving (press Ctrl-C again to stop at once)\n`,
   again: (name) => `${name} again: stopping now; the study file holds every trial finished so far\n`,
 };
 

@@ -2,7 +2,7 @@ import type { CurvePoint, StudyDocument, TrialStatus } from '../store/types.js';
 import type { MetricName } from '../study/definition.js';
 import { scoreAt } from '../study/objective.js';
 
-/** The objective metric's value at one epoch, or undefined when it was not recorded or is not finite. */
+/** The goal metric's value at one epoch, or undefined when it was not recorded or is not finite. */
 export function metricAt(point: CurvePoint, metric: MetricName): number | undefined {
   return scoreAt(point, { metric }) ?? undefined;
 }
@@ -17,7 +17,7 @@ export interface CurveRow {
   last: boolean;
 }
 
-/** Every trial's objective metric at every epoch it trained. */
+/** Every trial's goal metric at every epoch it trained. */
 export function curveRows(study: StudyDocument): CurveRow[] {
   return study.trials.flatMap((trial) => {
     const rows = trial.curve.flatMap((point) => {

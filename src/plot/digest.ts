@@ -64,6 +64,6 @@ export function digestFindings(digest: StudyDigest): Map<string, string[]> {
     ...(digest.halving ? [`Compute by rung: ${digest.rungShares}.`] : []),
   ]);
   if (digest.rungAgreement !== '-') findings.set(rungs!, [`Agreement between consecutive rungs (b: bracket, r: rung): ${digest.rungAgreement}.`, `The winner stood ${digest.winnerAtRungs}.`]);
-  findings.set(importance!, [`Largest shares of the objective's variance: ${digest.importance}.`]);
+  findings.set(importance!, [`Largest shares of the score's variance: ${digest.importance}.`]);
   return findings;
 }

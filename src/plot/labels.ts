@@ -19,7 +19,7 @@ export function goalLabel(goal: Goal): string {
   return `validation ${METRIC_LABELS[goal.metric]}, ${better}`;
 }
 
-/** "validation AUC", without the direction, for legends and short titles. */
+/** "validation AUC", without which way is better, for legends and short titles. */
 export function metricLabel(metric: MetricName): string {
   return metric === 'validationLoss' ? METRIC_LABELS.validationLoss : `validation ${METRIC_LABELS[metric]}`;
 }

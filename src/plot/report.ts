@@ -64,10 +64,10 @@ function summaryRows(study: StudyDocument): [string, string][] {
     ['trials by status', statusCounts(study)],
   ];
   if (best) {
-    rows.push(['best trial', `trial ${best.id}: ${Number(best.score!.toPrecision(4))} after ${best.epochsTrained} epoch${best.epochsTrained === 1 ? '' : 's'}`]);
+    rows.push(['winner', `trial ${best.id}: ${Number(best.score!.toPrecision(4))} after ${best.epochsTrained} epoch${best.epochsTrained === 1 ? '' : 's'}`]);
     rows.push(['its configuration', configurationText(best)]);
   } else {
-    rows.push(['best trial', 'no trial has a score yet']);
+    rows.push(['winner', 'no trial has a score yet']);
   }
   return rows;
 }

@@ -10,11 +10,11 @@ export const TOP_CONFIGURATIONS = 8;
 /** One row of the top-configurations table, as text. */
 export type TableRow = Record<string, string>;
 
-/** The metrics recorded at a trial's scored point, other than the objective's. */
-function otherMetrics(trial: TrialRecord, objective: MetricName): [MetricName, number][] {
+/** The metrics recorded at a trial's scored point, other than the goal's. */
+function otherMetrics(trial: TrialRecord, goalMetric: MetricName): [MetricName, number][] {
   const point = trial.curve.find((p) => p.epoch === trial.epochsTrained);
   if (!point) return [];
-  return (Object.entries(point.metrics) as [MetricName, number][]).filter(([name, value]) => name !== objective && Number.isFinite(value));
+  return (Object.entries(point.metrics) as [MetricName, number][]).filter(([name, value]) => name !== goalMetric && Number.isFinite(value));
 }
 
 /** Trials that trained the same configuration to the same epochs: repeats of one another. */
@@ -26,7 +26,7 @@ function repeatsOf(study: StudyDocument, trial: TrialRecord): number[] {
 }
 
 /**
- * The top of the one ranking as table rows: place (the winner starred), trial, objective, the gap
+ * The top of the one ranking as table rows: place (the winner starred), trial, score, the gap
  * to the winner, epochs, worker seconds, the other metrics at the scored point, the hyperparameters,
  * and the spread over repeats of the same configuration where the study has any.
  */

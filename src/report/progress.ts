@@ -188,7 +188,7 @@ export function progressObserver(options: ProgressOptions): StudyObserver {
         break;
       case 'stopping':
         clear();
-        stream.write(`stopping (${event.reason}): no new jobs start; waiting for ${running.size} running\n`);
+        stream.write(`stopping (${event.reason}): no new jobs start; waiting for ${running.size} job${running.size === 1 ? "" : "s"} in training\n`);
         draw(true);
         break;
       case 'study-finished':

@@ -63,13 +63,13 @@ export function comparableEpoch(study: StudyDocument): number | undefined {
   return best?.[0];
 }
 
-/** Objective of a trial at one epoch, or undefined. */
+/** Score of a trial at one epoch, or undefined. */
 export function scoreAtEpoch(trial: TrialRecord, study: StudyDocument, epoch: number): number | undefined {
   const point = trial.curve.find((p) => p.epoch === epoch);
   return point ? (scoreAt(point, study.goal) ?? undefined) : undefined;
 }
 
-/** One hyperparameter's share of the objective's variance, and its marginal for the value chart. */
+/** One hyperparameter's share of the score's variance, and its marginal for the value chart. */
 export interface ParameterImportance {
   key: keyof TrialConfiguration;
   title: string;
@@ -91,7 +91,7 @@ export interface StudyImportance {
 }
 
 /**
- * Importance of each varied hyperparameter for the objective at {@link comparableEpoch}: a random
+ * Importance of each varied hyperparameter for the score at {@link comparableEpoch}: a random
  * forest fitted to the scored configurations, decomposed by {@link forestImportance} over the search
  * space (uniform on each range, log ranges on the log scale). Undefined with fewer than
  * {@link FEWEST_FOR_IMPORTANCE} scored configurations or nothing varied. Sorted by share, largest first.

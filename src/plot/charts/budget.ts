@@ -7,9 +7,9 @@ import { bestTrial } from '../winner.js';
 import { titledChart, type Chart } from './chart.js';
 
 /**
- * The leader's objective against the epochs spent, one line per study, with each study's planned
+ * The leader's score against the epochs spent, one line per study, with each study's planned
  * budget as a dashed rule and a star where the eventual winner took the lead. Null when no study
- * has a leader yet. The studies share one objective (the caller checks).
+ * has a leader yet. The studies share one goal (the caller checks).
  */
 export function budgetChart(studies: readonly StudyDocument[]): Chart | null {
   const names = studies.map((s) => s.name);

@@ -25,7 +25,7 @@ export function endLabels<T extends { value: number; epoch: number }>(ends: read
 }
 
 /**
- * The objective metric against epoch for every trial: the top few of the ranking in the study's
+ * The goal's metric against epoch for every trial: the top few of the ranking in the study's
  * colour and named at their last epoch, the winner in ink with a star, the rest faded. The axis is
  * cut at Tukey's far-out fences ({@link robustDomain}), so one run-away trial does not flatten the
  * rest. Null when no epoch has been recorded.

@@ -26,7 +26,7 @@ function bands(marginal: readonly { value: string | number }[], good: readonly (
 }
 
 /**
- * For the most important hyperparameters: each configuration's objective (at the epoch the
+ * For the most important hyperparameters: each configuration's score (at the epoch the
  * importance compared) against its value, the forest's marginal as a line, the good region shaded
  * and the winner starred. Null without an importance.
  */
@@ -38,8 +38,8 @@ export function goodValuesChart(study: StudyDocument, importance: StudyImportanc
   const title = 'Good values of the hyperparameters that matter most';
   const panels = chosen.map((parameter) => {
     const points = study.trials.flatMap((t) => {
-      const objective = scoreAtEpoch(t, study, importance.epoch);
-      return objective === undefined ? [] : [{ value: t.configuration[parameter.key], objective, winner: t.id === winner, trial: t.id }];
+      const score = scoreAtEpoch(t, study, importance.epoch);
+      return score === undefined ? [] : [{ value: t.configuration[parameter.key], score, winner: t.id === winner, trial: t.id }];
     });
     const continuous = parameter.kind === 'continuous';
     const log = continuous && /log scale/.test(parameter.title);
@@ -50,9 +50,9 @@ export function goodValuesChart(study: StudyDocument, importance: StudyImportanc
       title: parameter.title,
       ...(continuous ? { scale: log ? { type: 'log' as const, nice: false } : { type: 'linear' as const, zero: false, nice: false } } : { sort: parameter.marginal.map((m) => String(m.value)), axis: { labelAngle: 0 } }),
     };
-    const y = { field: 'objective', type: 'quantitative' as const, title: `${metric} at epoch ${importance.epoch}`, scale: { zero: false } };
+    const y = { field: 'score', type: 'quantitative' as const, title: `${metric} at epoch ${importance.epoch}`, scale: { zero: false } };
     const asText = (rows: { value: string | number }[]) => (continuous ? rows : rows.map((r) => ({ ...r, value: String(r.value) })));
-    // The shade spans the panel's height whatever the objective's range.
+    // The shade spans the panel's height whatever the score's range.
     const shade = {
       data: { values: continuous ? bands(parameter.marginal, parameter.good) : parameter.good.map((value) => ({ value: String(value) })) },
       mark: { type: 'rect' as const, color: GOOD_REGION },

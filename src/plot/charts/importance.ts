@@ -4,7 +4,7 @@ import { studyColour } from '../palette.js';
 import { titledChart, type Chart } from './chart.js';
 
 /**
- * Each hyperparameter's share of the objective's variance (main effects of a random forest's
+ * Each hyperparameter's share of the score's variance (main effects of a random forest's
  * functional ANOVA), one bar per hyperparameter and study, largest first. Null when no study has an
  * importance (too few scored configurations).
  */
@@ -19,7 +19,7 @@ export function importanceChart(studies: readonly StudyDocument[], importances: 
   const several = studies.length > 1;
   const title = 'Which hyperparameters matter';
   return titledChart('importance', title, [
-    `Share of the variance of the objective at epoch ${epochs.join(' / ')} that each hyperparameter explains alone (functional ANOVA main effects`,
+    `Share of the variance of the score at epoch ${epochs.join(' / ')} that each hyperparameter explains alone (functional ANOVA main effects`,
     `of a random forest fitted to the configurations; Hutter, Hoos and Leyton-Brown, 2014). The rest is interactions. At least ${FEWEST_FOR_IMPORTANCE} configurations.`,
   ], {
     width: 460,
