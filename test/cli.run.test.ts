@@ -59,6 +59,18 @@ describe('rungwise run and ranking', () => {
     expect(doc.trials.every((t) => t.status === 'trained' && t.curve.length === 4)).toBe(true);
   });
 
+  it('runs a definition with the old objective key, printing one note on what to rename', async () => {
+    const old = path.join(dir, 'old-keys.json');
+    await writeFile(old, JSON.stringify({ ...study, objective: { metric: 'logLoss', direction: 'minimize' } }));
+    const out = path.join(dir, 'old-keys');
+    const result = await runCli(['run', old, '--out', out]);
+    expect(result.code).toBe(0);
+    const notes = result.stderr.split('\n').filter((line) => line.startsWith('note: '));
+    expect(notes).toEqual([`note: ${old}: "objective" is the key's old name; it was read as "goal"; rename it to "goal" and its "direction": "minimize" to "better": "lower"`]);
+    expect(result.stdout).toMatch(/rank\s+trial\s+rung\s+epochs\s+logLoss/);
+    expect((await StudyStore.read(out)).goal).toEqual({ metric: 'logLoss', better: 'lower' });
+  });
+
   it('refuses to run over a directory that already holds a study', async () => {
     const out = path.join(dir, 'taken');
     expect((await runCli(['run', studyFile, '--out', out])).code).toBe(0);

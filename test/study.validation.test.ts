@@ -92,9 +92,14 @@ describe('study definition validation', () => {
     expect(error.message).toBe('study.json: data.target: missing, expected a string');
   });
 
-  it('rejects an objective metric the task does not report', () => {
-    const error = errorOf(withChange((d) => (d.objective = { metric: 'rmse' })));
-    expect(error.message).toMatch(/^study\.json: objective\.metric: found "rmse", expected for a binary task one of "accuracy"/);
+  it('rejects a goal metric the task does not report', () => {
+    const error = errorOf(withChange((d) => (d.goal = { metric: 'rmse' })));
+    expect(error.message).toMatch(/^study\.json: goal\.metric: found "rmse", expected for a binary task one of "accuracy"/);
+  });
+
+  it('rejects a "better" other than higher or lower', () => {
+    const error = errorOf(withChange((d) => (d.goal = { metric: 'auc', better: 'maximize' })));
+    expect(error.message).toMatch(/^study\.json: goal\.better: found "maximize", expected one of "higher", "lower"/);
   });
 
   it('rejects validation and test fractions that leave too little for training', () => {
@@ -102,7 +107,7 @@ describe('study definition validation', () => {
     expect(error.message).toMatch(/^study\.json: data\.validationFraction: validation \(0\.5\) and test \(0\.45\) fractions add up to more than 0\.9/);
   });
 
-  it('picks a sensible objective per task', () => {
+  it('picks a sensible goal per task', () => {
     const base = validateStudy(valid, 'study.json');
     expect(resolveGoal(base)).toEqual({ metric: 'auc', better: 'higher' });
     expect(resolveGoal({ ...base, data: { ...base.data, task: 'multiclass' } })).toEqual({ metric: 'accuracy', better: 'higher' });
@@ -128,5 +133,45 @@ describe('reading a study definition file', () => {
     const file = path.join(dir, 'empty.json');
     await writeFile(file, '');
     await expect(loadStudy(file)).rejects.toThrow(`${file}: the file is empty`);
+  });
+});
+
+describe('a definition written with the old key names', () => {
+  const old = { ...valid, objective: { metric: 'logLoss', direction: 'minimize' } };
+
+  async function written(definition: unknown): Promise<string> {
+    const dir = await mkdtemp(path.join(tmpdir(), 'rungwise-study-'));
+    const file = path.join(dir, 'old.json');
+    await writeFile(file, JSON.stringify(definition));
+    return file;
+  }
+
+  it('reads objective as goal and direction as better, with one note naming the file and what to rename', async () => {
+    const file = await written(old);
+    const { definition, notes } = await loadStudy(file);
+    expect(definition.goal).toEqual({ metric: 'logLoss', better: 'lower' });
+    expect(definition).not.toHaveProperty('objective');
+    expect(notes).toEqual([`${file}: "objective" is the key's old name; it was read as "goal"; rename it to "goal" and its "direction": "minimize" to "better": "lower"`]);
+  });
+
+  it('reads direction "maximize" as better "higher", and an objective without a direction as a goal', async () => {
+    expect((await loadStudy(await written({ ...valid, objective: { metric: 'auc', direction: 'maximize' } }))).definition.goal).toEqual({ metric: 'auc', better: 'higher' });
+    const bare = await loadStudy(await written({ ...valid, objective: { metric: 'accuracy' } }));
+    expect(bare.definition.goal).toEqual({ metric: 'accuracy' });
+    expect(bare.notes).toEqual([`${bare.file}: "objective" is the key's old name; it was read as "goal"; rename it to "goal"`]);
+  });
+
+  it('gives a new definition no note', async () => {
+    expect((await loadStudy(await written({ ...valid, goal: { metric: 'auc' } }))).notes).toEqual([]);
+  });
+
+  it('names an old key beside the new one as unknown', () => {
+    const error = errorOf({ ...valid, goal: { metric: 'auc' }, objective: { metric: 'auc' } });
+    expect(error.message).toMatch(/^study\.json: objective: unknown key/);
+  });
+
+  it('names the new field when an old direction has a value neither name allows', () => {
+    const error = errorOf({ ...valid, objective: { metric: 'auc', direction: 'up' } });
+    expect(error.message).toMatch(/^study\.json: goal\.better: found "up", expected one of "higher", "lower"/);
   });
 });
