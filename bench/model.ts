@@ -45,12 +45,12 @@ function proposalCost(seed: number): { tpe: number; tpeHyperbandModel: number } 
     sampler: samplerSchema.parse({ kind: 'tpe', seed, startupTrials: 1000 }),
   };
   const sampler = createSampler(definition);
-  const loss = (job: Job) => Math.abs(Math.log10(job.params.learningRate) + 2) + job.params.width / 128 + stream(seed, 'noise', job.trialId)() * 0.1;
+  const loss = (job: Job) => Math.abs(Math.log10(job.configuration.learningRate) + 2) + job.configuration.width / 128 + stream(seed, 'noise', job.trialId)() * 0.1;
   const observations: Observation[] = [];
   for (let trialId = 0; trialId < 1000; trialId++) {
     const job = sampler.next() as Job;
     sampler.report({ trialId, rung: 0, loss: loss(job) });
-    observations.push({ trialId, point: pointOfParams(definition.space, job.params), loss: loss(job) });
+    observations.push({ trialId, point: pointOfParams(definition.space, job.configuration), loss: loss(job) });
   }
   let started = performance.now();
   const proposal = sampler.next();

@@ -41,7 +41,7 @@ export async function poolGroup(options: BenchOptions): Promise<GroupResult> {
   const dataset = sharedDataset(benchDataset(options.quick ? 512 : 2048, 256));
   // 3x128: on the engine a trial lasts about 0.1-0.2 s, long enough that thread hand-offs do not dominate.
   const params: TrialConfiguration = { depth: 3, width: 128, activation: 'relu', learningRate: 0.01, batchSize: 32, optimizer: 'adam', l2: 0, dropout: 0 };
-  const requests: Request[] = Array.from({ length: trials }, (_, i) => ({ trialId: i + 1, seed: 100 + i, params, dataset, datasetId: dataset.id, fromEpoch: 0, toEpoch: epochs }));
+  const requests: Request[] = Array.from({ length: trials }, (_, i) => ({ trialId: i + 1, seed: 100 + i, configuration: params, dataset, datasetId: dataset.id, fromEpoch: 0, toEpoch: epochs }));
   const all = availableParallelism();
   const counts = all > 1 ? [1, all] : [1];
   const runs: ScalingRun[] = [];

@@ -64,7 +64,7 @@ async function roundTrips(url: string, jobs: number, children: ChildProcess[]): 
     const times: number[] = [];
     for (let i = 0; i < jobs + 20; i++) {
       const started = performance.now();
-      await transport.run({ trialId: i, seed: i, params, datasetId: emptyDataset.id, fromEpoch: 0, toEpoch: 1 }, () => undefined, signal);
+      await transport.run({ trialId: i, seed: i, configuration: params, datasetId: emptyDataset.id, fromEpoch: 0, toEpoch: 1 }, () => undefined, signal);
       if (i >= 20) times.push(performance.now() - started); // the first 20 warm up connections and scripts
     }
     return times;

@@ -20,7 +20,7 @@ export function epochSeconds(params: TrialConfiguration): number {
 
 /** A smooth learning curve per configuration (better learning rates near 1e-2 and mid widths), with seeded noise. */
 function simulatedLoss(job: Job): number {
-  const { params } = job;
+  const { configuration: params } = job;
   const quality = Math.abs(Math.log10(params.learningRate) + 2) * 0.1 + Math.abs(Math.log2(params.width) - 5) * 0.02;
   const noise = 0.02 * stream('bench', 'simulated-loss', job.trialId, job.toEpoch)();
   return quality + 0.5 / Math.sqrt(job.toEpoch) + noise;
@@ -52,7 +52,7 @@ function runOne(kind: Exclude<SamplerKind, 'random'>, workers: number, trials: n
   const log = simulate(createSampler(definition), {
     workers,
     loss: simulatedLoss,
-    duration: (job) => (job.toEpoch - job.fromEpoch) * epochSeconds(job.params),
+    duration: (job) => (job.toEpoch - job.fromEpoch) * epochSeconds(job.configuration),
   });
   return {
     sampler: kind,

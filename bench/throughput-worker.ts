@@ -85,7 +85,7 @@ async function rungwise(trainer: 'tfjs' | 'engine'): Promise<ThroughputSample> {
   const params = { depth: job.depth, width: job.width, activation: 'relu', learningRate: LEARNING_RATE, batchSize: job.batchSize, optimizer: 'adam', l2: 0, dropout: 0 } as const;
   let trialId = 0;
   const time = async (data: TrainRequest['dataset'], toEpoch: number): Promise<number> => {
-    const request: TrainRequest = { trialId: ++trialId, seed: 7, dataset: data, datasetId: data.id, fromEpoch: 0, toEpoch, params, trainer };
+    const request: TrainRequest = { trialId: ++trialId, seed: 7, dataset: data, datasetId: data.id, fromEpoch: 0, toEpoch, configuration: params, trainer };
     const started = performance.now();
     await runTrainRequest(request);
     return (performance.now() - started) / 1000;

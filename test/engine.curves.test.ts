@@ -49,7 +49,7 @@ describe('engine training curves against the tfjs path', () => {
   for (const { name, load, params, accuracy } of cases) {
     it(`${name}: validation loss within ${LOSS_TOLERANCE} of the tfjs path every epoch, accuracy at least ${accuracy}`, async () => {
       const data = await load();
-      const request = { trialId: 1, seed: 17, params, dataset: data, datasetId: data.id, fromEpoch: 0, toEpoch: EPOCHS };
+      const request = { trialId: 1, seed: 17, configuration: params, dataset: data, datasetId: data.id, fromEpoch: 0, toEpoch: EPOCHS };
       const engine = await trainSegmentOnEngine(request);
       const reference = await trainSegment(request);
       expect(engine.epochs).toHaveLength(EPOCHS);

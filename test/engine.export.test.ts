@@ -45,7 +45,7 @@ describe('export of engine-trained models', () => {
         const data = await load();
         const params: TrialConfiguration = { depth: 2, width: 12, activation, learningRate: 0.01, batchSize: 16, optimizer: 'adam', l2: 1e-4, dropout: 0.1 };
         const dataset = toSharedDataset(data, `export-${task}`);
-        const result = await trainSegmentOnEngine({ trialId: 4, seed: 21, params, dataset, datasetId: dataset.id, fromEpoch: 0, toEpoch: 4 });
+        const result = await trainSegmentOnEngine({ trialId: 4, seed: 21, configuration: params, dataset, datasetId: dataset.id, fromEpoch: 0, toEpoch: 4 });
         expect(result.status).toBe('completed');
         const recorded = result.epochs.at(-1)!.metrics;
         const model = buildLayersModel(params, data.recipe, checkpointWeights(result.checkpoint!));

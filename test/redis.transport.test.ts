@@ -36,7 +36,7 @@ const params: TrialConfiguration = { depth: 1, width: 4, activation: 'relu', lea
 const job = (trialId: number, fromEpoch: number, toEpoch: number, checkpoint?: Uint8Array): TrainJob => ({
   trialId,
   seed: trialId,
-  params,
+  configuration: params,
   datasetId: 'iris',
   fromEpoch,
   toEpoch,

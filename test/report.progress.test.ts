@@ -25,7 +25,7 @@ function sink(): { stream: Writable; text: () => string } {
 }
 
 function job(trialId: number, rung: number, fromEpoch: number, toEpoch: number, bracket = 0): Job {
-  return { trialId, params, rung, bracket, fromEpoch, toEpoch };
+  return { trialId, configuration: params, rung, bracket, fromEpoch, toEpoch };
 }
 
 /** A trial waiting (or in `status`) after the rungs whose scores are given. */

@@ -23,7 +23,7 @@ const definitionFor = (kind: string): Pick<StudyDefinition, 'space' | 'budget' |
 
 /** Deterministic stand-in for training: better near learning rate 0.01 and with more epochs; very high rates diverge. */
 function loss(job: Job): number | null {
-  const { learningRate, width, dropout } = job.params;
+  const { learningRate, width, dropout } = job.configuration;
   if (learningRate > 0.25 && job.toEpoch > 3) return null;
   return Math.abs(Math.log10(learningRate) + 2) + 1 / Math.sqrt(width) + dropout / 4 + 1 / job.toEpoch;
 }
@@ -36,7 +36,7 @@ const durations: Record<string, (job: Job) => number> = {
 /** Kinds that train every trial to maxEpochs in one job, so no trial ever continues. */
 const SINGLE_JOB_KINDS = new Set(['random', 'sobol', 'tpe']);
 
-const key = (job: Job): string => `${job.trialId}/${job.rung}/${job.fromEpoch}-${job.toEpoch}/${JSON.stringify(job.params)}`;
+const key = (job: Job): string => `${job.trialId}/${job.rung}/${job.fromEpoch}-${job.toEpoch}/${JSON.stringify(job.configuration)}`;
 
 describe.each(SAMPLER_PLUGINS.map((plugin) => [plugin.kind]))('sampler contract: %s', (kind) => {
   const definition = definitionFor(kind);
@@ -71,8 +71,8 @@ describe.each(SAMPLER_PLUGINS.map((plugin) => [plugin.kind]))('sampler contract:
     const params = new Map<number, TrialConfiguration>();
     for (const job of jobs) {
       expect(job.toEpoch).toBeLessThanOrEqual(definition.budget.maxEpochs);
-      if (params.has(job.trialId)) expect(job.params).toEqual(params.get(job.trialId));
-      params.set(job.trialId, job.params);
+      if (params.has(job.trialId)) expect(job.configuration).toEqual(params.get(job.trialId));
+      params.set(job.trialId, job.configuration);
     }
   });
 
@@ -117,7 +117,7 @@ describe.each(SAMPLER_PLUGINS.map((plugin) => [plugin.kind]))('sampler contract:
       const expected = whole.jobs.map(key).sort();
       for (let cut = 0; cut <= whole.outcomes.length; cut += 1) {
         const crashed = simulate(createSampler(definition), { workers: 2, loss, duration: durations.uneven, stopAfterReports: cut });
-        const history = new Map(crashed.jobs.map((job) => [job.trialId, job.params]));
+        const history = new Map(crashed.jobs.map((job) => [job.trialId, job.configuration]));
         const resumed = createSampler(definition);
         const { pending } = replay(resumed, crashed.outcomes, history);
         const rest = simulate(resumed, { workers: 2, loss, duration: durations.uneven, running: pending });
@@ -130,7 +130,7 @@ describe.each(SAMPLER_PLUGINS.map((plugin) => [plugin.kind]))('sampler contract:
 
   it('refuses to replay a history whose configurations it would not propose', () => {
     const first = simulate(createSampler(definition), { workers: 1, loss, stopAfterReports: 2 });
-    const tampered = new Map(first.jobs.map((job) => [job.trialId, { ...job.params, width: job.params.width + 1 }]));
+    const tampered = new Map(first.jobs.map((job) => [job.trialId, { ...job.configuration, width: job.configuration.width + 1 }]));
     expect(() => replay(createSampler(definition), first.outcomes, tampered)).toThrow(/was trained with .* but the sampler now proposes/);
   });
 });

@@ -18,11 +18,11 @@ const definition = (sampler: object, trials = 27): Definition => ({
 
 /** A fake training curve: best near learning rate 1e-2; wide nets start slower but end lower, so rankings cross. */
 const loss = (job: Job): number => {
-  const { learningRate, width, depth } = job.params;
+  const { learningRate, width, depth } = job.configuration;
   return Math.abs(Math.log10(learningRate) + 2) + 0.1 * depth + (width / 128) * (3 / job.toEpoch) - width / 1280;
 };
 /** Durations that depend on the configuration, so several workers report in a different order than one. */
-const duration = (job: Job): number => (job.toEpoch - job.fromEpoch) * (1 + job.params.width / 32);
+const duration = (job: Job): number => (job.toEpoch - job.fromEpoch) * (1 + job.configuration.width / 32);
 const jobKey = (job: Job) => `${job.trialId}/${job.rung}/${job.fromEpoch}-${job.toEpoch}/b${job.bracket}`;
 const best = (log: SimulationLog) => {
   const maxRung = Math.max(...log.outcomes.map((o) => o.rung));
@@ -46,7 +46,7 @@ describe.each([
 
   it('hands out the same set of jobs with the same configurations', () => {
     expect(three.jobs.map(jobKey).sort()).toEqual(one.jobs.map(jobKey).sort());
-    const params = (log: SimulationLog) => Object.fromEntries(log.jobs.map((j) => [j.trialId, j.params]));
+    const params = (log: SimulationLog) => Object.fromEntries(log.jobs.map((j) => [j.trialId, j.configuration]));
     expect(params(three)).toEqual(params(one));
   });
 
@@ -64,7 +64,7 @@ describe('createSampler', () => {
   });
 
   it('draws configurations from the sampler seed', () => {
-    const first = (seed: number) => (createSampler(definition({ kind: 'random', seed })).next() as Job).params;
+    const first = (seed: number) => (createSampler(definition({ kind: 'random', seed })).next() as Job).configuration;
     expect(first(1)).toEqual(first(1));
     expect(first(1)).not.toEqual(first(2));
   });

@@ -16,7 +16,7 @@ describe('random sampler', () => {
       { trialId: 1, rung: 0, bracket: 0, fromEpoch: 0, toEpoch: 20 },
       { trialId: 2, rung: 0, bracket: 0, fromEpoch: 0, toEpoch: 20 },
     ]);
-    expect(jobs[2]!.params).toEqual(paramsFor(2));
+    expect(jobs[2]!.configuration).toEqual(paramsFor(2));
     // Done while jobs are still outstanding: the run loop waits for them itself.
     expect(sampler.next()).toBe('done');
   });

@@ -10,7 +10,7 @@ const definition = (sampler: object): Pick<StudyDefinition, 'space' | 'budget' |
   budget: budgetSchema.parse({ trials: 10, maxEpochs: 9 }),
   sampler: samplerSchema.parse(sampler),
 });
-const loss = (job: Job) => Math.abs(Math.log10(job.params.learningRate) + 2) + job.params.width / (100 * job.toEpoch);
+const loss = (job: Job) => Math.abs(Math.log10(job.configuration.learningRate) + 2) + job.configuration.width / (100 * job.toEpoch);
 const duration = (job: Job) => (job.toEpoch - job.fromEpoch) * (1 + (job.trialId % 4));
 const key = (job: Job) => `${job.trialId}/${job.rung}/${job.fromEpoch}-${job.toEpoch}/b${job.bracket}`;
 const outcomeKey = (o: { trialId: number; rung: number }) => `${o.trialId}/${o.rung}`;

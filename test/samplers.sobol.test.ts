@@ -25,25 +25,25 @@ describe('sobol sampler', () => {
   it('unscrambled, starts at the lowest corner and then the centre of the space', () => {
     // Source: REFERENCES.md, Sobol points (0, 0, ...), (0.5, 0.5, ...) (confirmed), mapped onto the ranges.
     const [first, second] = drain({ kind: 'sobol', scramble: 'none' });
-    expect(first!.params).toMatchObject({ depth: 1, width: 8, activation: 'relu', batchSize: 32, optimizer: 'adam' });
-    expect(first!.params.learningRate).toBeCloseTo(1e-4, 15);
+    expect(first!.configuration).toMatchObject({ depth: 1, width: 8, activation: 'relu', batchSize: 32, optimizer: 'adam' });
+    expect(first!.configuration.learningRate).toBeCloseTo(1e-4, 15);
     // 0.5 on [1, 4] is depth 3 (cells of 1/4); log width [8, 129): 8 * (129 / 8)^0.5 = 32.1 -> 32; learning rate 1e-3.
-    expect(second!.params).toMatchObject({ depth: 3, width: 32, activation: 'tanh', batchSize: 64 });
-    expect(second!.params.learningRate).toBeCloseTo(1e-3, 12);
+    expect(second!.configuration).toMatchObject({ depth: 3, width: 32, activation: 'tanh', batchSize: 64 });
+    expect(second!.configuration.learningRate).toBeCloseTo(1e-3, 12);
   });
 
   it('spreads each integer and category evenly: 16 points give each depth 4 times', () => {
     const jobs = drain({ kind: 'sobol', seed: 9 });
-    const counts = [1, 2, 3, 4].map((depth) => jobs.filter((job) => job.params.depth === depth).length);
+    const counts = [1, 2, 3, 4].map((depth) => jobs.filter((job) => job.configuration.depth === depth).length);
     expect(counts).toEqual([4, 4, 4, 4]);
-    expect(jobs.filter((job) => job.params.activation === 'relu')).toHaveLength(8);
+    expect(jobs.filter((job) => job.configuration.activation === 'relu')).toHaveLength(8);
   });
 
   it('trains each trial once to maxEpochs, records the design, and differs by seed', () => {
     const jobs = drain({ kind: 'sobol', seed: 1 });
     expect(jobs).toHaveLength(16);
     expect(jobs.every((job) => job.toEpoch === 5 && job.origin?.method === 'sobol')).toBe(true);
-    expect(drain({ kind: 'sobol', seed: 1 }).map((j) => j.params)).toEqual(jobs.map((j) => j.params));
-    expect(drain({ kind: 'sobol', seed: 2 }).map((j) => j.params)).not.toEqual(jobs.map((j) => j.params));
+    expect(drain({ kind: 'sobol', seed: 1 }).map((j) => j.configuration)).toEqual(jobs.map((j) => j.configuration));
+    expect(drain({ kind: 'sobol', seed: 2 }).map((j) => j.configuration)).not.toEqual(jobs.map((j) => j.configuration));
   });
 });

@@ -99,8 +99,8 @@ describe('tpe-hyperband determinism', () => {
       budget: budgetSchema.parse({ trials: 1, maxEpochs: 9 }),
       sampler: samplerSchema.parse({ kind: 'tpe-hyperband', seed: 3, iterations: 2, minResults: 2 }),
     };
-    const loss = (job: Job) => Math.abs(Math.log10(job.params.learningRate) + 2) + job.params.width / (100 * job.toEpoch);
-    const key = (job: Job) => JSON.stringify([job.trialId, job.rung, job.fromEpoch, job.toEpoch, job.params, job.origin ?? null]);
+    const loss = (job: Job) => Math.abs(Math.log10(job.configuration.learningRate) + 2) + job.configuration.width / (100 * job.toEpoch);
+    const key = (job: Job) => JSON.stringify([job.trialId, job.rung, job.fromEpoch, job.toEpoch, job.configuration, job.origin ?? null]);
     const whole = simulate(createSampler(definition), { workers: 3, loss, duration: unevenDuration });
     expect(whole.jobs.filter((job) => job.rung === 0)).toHaveLength(plannedBudget(definition).trials);
     expect(whole.jobs.some((job) => job.origin?.method === 'tpe')).toBe(true);

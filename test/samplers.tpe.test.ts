@@ -128,8 +128,8 @@ describe('the tpe kind in a study', () => {
     budget: budgetSchema.parse({ trials: 24, maxEpochs: 9 }),
     sampler: samplerSchema.parse({ kind: 'tpe', seed: 4, startupTrials: 8, batchSize: 3 }),
   };
-  const loss = (job: Job) => Math.abs(Math.log10(job.params.learningRate) + 2) + job.params.width / 256 + (job.params.activation === 'tanh' ? 0.3 : 0);
-  const key = (job: Job) => JSON.stringify([job.trialId, job.rung, job.fromEpoch, job.toEpoch, job.params, job.origin]);
+  const loss = (job: Job) => Math.abs(Math.log10(job.configuration.learningRate) + 2) + job.configuration.width / 256 + (job.configuration.activation === 'tanh' ? 0.3 : 0);
+  const key = (job: Job) => JSON.stringify([job.trialId, job.rung, job.fromEpoch, job.toEpoch, job.configuration, job.origin]);
 
   it('trains every trial to maxEpochs and moves towards the good region once the model proposes', () => {
     const log = simulate(createSampler(definition), { workers: 2, loss, duration: unevenDuration });

@@ -63,6 +63,12 @@ describe('the study file', () => {
     await expect(StudyStore.open(dir)).rejects.toThrow('not a rungwise study file');
   });
 
+  it('refuses a study file of a version it does not know, naming the versions it reads', async () => {
+    const dir = await mkdtemp(path.join(tmpdir(), 'rungwise-store-'));
+    await writeFile(studyFilePath(dir), JSON.stringify({ ...documentNamed('s'), version: 4 }));
+    await expect(StudyStore.open(dir)).rejects.toThrow(`${studyFilePath(dir)}: study file version 4 is not supported (this rungwise reads versions 1, 2, 3)`);
+  });
+
   it('tells how to create a study when the directory holds none', async () => {
     const dir = await mkdtemp(path.join(tmpdir(), 'rungwise-store-'));
     await expect(StudyStore.open(dir)).rejects.toThrow('no study file here; run `rungwise run <study.json>');

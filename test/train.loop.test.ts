@@ -97,7 +97,7 @@ describe('trainSegment', () => {
     const rows = multiclass.train.rows;
     const request = trainRequest(multiclass, { toEpoch: 1, params: { batchSize: rows } });
     const result = await trainSegment(request);
-    const { params, dataset, seed, trialId } = request;
+    const { configuration: params, dataset, seed, trialId } = request;
     const network = createNetwork(networkSpec(trialId, seed, params, dataset.inputCount, dataset.outputCount));
     const data = datasetTensors(dataset);
     const initialLoss = tf.tidy(() => lossFromLogits('multiclass', forward(network, data.trainX), data.trainY).dataSync()[0]!);

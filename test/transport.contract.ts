@@ -15,7 +15,7 @@ const params: TrialConfiguration = { depth: 1, width: 6, activation: 'tanh', lea
 const job = (overrides: Partial<TrainJob> = {}): TrainJob => ({
   trialId: 7,
   seed: 99,
-  params,
+  configuration: params,
   datasetId: contractDataset.id,
   fromEpoch: 0,
   toEpoch: 3,

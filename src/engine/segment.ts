@@ -15,8 +15,8 @@ import { EngineTrial } from './trial.js';
  */
 export async function trainSegmentOnEngine(request: TrainRequest, onEpoch?: (report: EpochReport) => void): Promise<TrainResult> {
   const started = performance.now();
-  const { dataset, params } = request;
-  const trial = EngineTrial.create({ trialId: request.trialId, seed: request.seed, params, dataset });
+  const { dataset, configuration } = request;
+  const trial = EngineTrial.create({ trialId: request.trialId, seed: request.seed, params: configuration, dataset });
   if (request.fromEpoch > 0) {
     if (!request.checkpoint) throw new Error(`trial ${request.trialId}: fromEpoch is ${request.fromEpoch} but no checkpoint was given`);
     restoreTrialCheckpoint(request.checkpoint, trial, request.fromEpoch);

@@ -44,7 +44,7 @@ export async function retrainTrial(data: PreparedData, trial: TrialRecord): Prom
     const result = await runTrainRequest({
       trialId: trial.id,
       seed: trial.seed,
-      params: trial.configuration,
+      configuration: trial.configuration,
       dataset,
       datasetId: dataset.id,
       fromEpoch: 0,

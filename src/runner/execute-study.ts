@@ -178,7 +178,7 @@ async function drive(store: StudyStore, data: PreparedData, options: ExecuteOpti
     const trainJob = {
       trialId: job.trialId,
       seed: record.seed,
-      params: job.params,
+      configuration: job.configuration,
       datasetId: dataset.id,
       fromEpoch: job.fromEpoch,
       toEpoch: job.toEpoch,

@@ -8,7 +8,7 @@ import type { TrainResult } from '../transport/types.js';
 export function newTrialRecord(job: Job, seed: number): TrialRecord {
   const record: TrialRecord = {
     id: job.trialId,
-    configuration: job.params,
+    configuration: job.configuration,
     seed,
     status: 'training',
     rung: job.rung,

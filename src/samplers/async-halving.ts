@@ -120,7 +120,7 @@ export class AsyncHalvingSampler implements Sampler {
     this.outstanding.set(trialId, rung);
     const job: Job = {
       trialId,
-      params: this.options.paramsFor(trialId),
+      configuration: this.options.paramsFor(trialId),
       rung,
       bracket: 0,
       fromEpoch: rung === 0 ? 0 : this.rungs[rung - 1]!,

@@ -31,7 +31,7 @@ export class RandomSampler implements Sampler {
     if (this.nextTrialId >= this.options.trials) return 'done';
     const trialId = this.nextTrialId++;
     this.outstanding.add(trialId);
-    const job: Job = { trialId, params: this.options.paramsFor(trialId), rung: 0, bracket: 0, fromEpoch: 0, toEpoch: this.options.maxEpochs };
+    const job: Job = { trialId, configuration: this.options.paramsFor(trialId), rung: 0, bracket: 0, fromEpoch: 0, toEpoch: this.options.maxEpochs };
     if (this.options.originFor) job.origin = this.options.originFor(trialId);
     return job;
   }

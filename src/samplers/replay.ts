@@ -40,10 +40,10 @@ export function replay(sampler: Sampler, outcomes: readonly JobOutcome[], histor
     if (job === 'wait' || job === 'done') break;
     const id = key(job.trialId, job.rung);
     const known = history.get(job.trialId);
-    if (known && !isDeepStrictEqual(known, job.params)) {
+    if (known && !isDeepStrictEqual(known, job.configuration)) {
       throw new UserError(
         'E_REPLAY_MISMATCH',
-        `study file: trial ${job.trialId} was trained with ${JSON.stringify(known)} but the sampler now proposes ${JSON.stringify(job.params)}; the study definition or the sampler changed since the study ran, so it cannot be resumed (start a new study)`,
+        `study file: trial ${job.trialId} was trained with ${JSON.stringify(known)} but the sampler now proposes ${JSON.stringify(job.configuration)}; the study definition or the sampler changed since the study ran, so it cannot be resumed (start a new study)`,
       );
     }
     const outcome = recorded.get(id);

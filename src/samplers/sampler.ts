@@ -15,7 +15,7 @@ export interface ProposalOrigin {
 /** A unit of work: train one configuration from one epoch count to another. */
 export interface Job {
   trialId: number;
-  params: TrialConfiguration;
+  configuration: TrialConfiguration;
   /** Rung index within the trial's bracket (0 for the first; random search uses 0 only). */
   rung: number;
   /** Bracket index for Hyperband; 0 elsewhere. */

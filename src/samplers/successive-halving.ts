@@ -76,7 +76,7 @@ export class HalvingBracket implements Sampler {
     const { plan, bracket, paramsFor, originFor } = this.options;
     const job: Job = {
       trialId,
-      params: paramsFor(trialId),
+      configuration: paramsFor(trialId),
       rung: this.rung,
       bracket,
       fromEpoch: this.rung === 0 ? 0 : plan[this.rung - 1]!.epochs,

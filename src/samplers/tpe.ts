@@ -70,7 +70,7 @@ export class TpeSampler implements Sampler {
     this.outstanding.add(trialId);
     return {
       trialId,
-      params: this.options.design.paramsAt(proposal.point),
+      configuration: this.options.design.paramsAt(proposal.point),
       rung: 0,
       bracket: 0,
       fromEpoch: 0,

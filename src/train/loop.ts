@@ -42,7 +42,7 @@ const seconds = (since: number): number => (performance.now() - since) / 1000;
  * order as gathering per batch, and the sum adds the losses in batch order, as `addN` did.
  */
 function trainEpoch(request: TrainRequest, network: Network, optimizer: tf.Optimizer, data: DatasetTensors, epoch: number): number {
-  const { params, seed, dataset } = request;
+  const { configuration: params, seed, dataset } = request;
   const rows = dataset.train.rows;
   const order = permutation(rows, stream(seed, 'shuffle', epoch));
   const { x: shuffledX, y: shuffledY } = tf.tidy(() => {
@@ -110,7 +110,7 @@ function validate(request: TrainRequest, network: Network, data: DatasetTensors)
  */
 export async function trainSegment(request: TrainRequest, onEpoch?: (report: EpochReport) => void): Promise<TrainResult> {
   const started = performance.now();
-  const { dataset, params } = request;
+  const { dataset, configuration: params } = request;
   const data = datasetTensors(dataset);
   const tensorsBefore = tf.memory().numTensors;
   let epochs: EpochReport[] = [];

@@ -46,7 +46,7 @@ export class ClosedFormTransport implements TrialTransport {
     }
     const epochs: EpochReport[] = [];
     for (let epoch = job.fromEpoch + 1; epoch <= job.toEpoch; epoch++) {
-      const figures = this.options.evaluate(job.params, epoch, job.trialId);
+      const figures = this.options.evaluate(job.configuration, epoch, job.trialId);
       if (!Number.isFinite(figures.validationLoss)) {
         return { trialId: job.trialId, status: 'diverged', epochs, divergence: { epoch, reason: `validation loss became ${figures.validationLoss} at epoch ${epoch}` }, workerSeconds: 0, ranOn: 'closed form' };
       }
@@ -59,9 +59,9 @@ export class ClosedFormTransport implements TrialTransport {
         formatVersion: CHECKPOINT_FORMAT_VERSION,
         trialId: job.trialId,
         epoch: job.toEpoch,
-        params: job.params,
+        params: job.configuration,
         variables: [],
-        optimizer: { name: job.params.optimizer, iterations: 0, variables: [] },
+        optimizer: { name: job.configuration.optimizer, iterations: 0, variables: [] },
       },
       [],
     );

@@ -9,7 +9,7 @@ import path from 'node:path';
 import type { TrainJob, TrainResult } from './types.js';
 
 /** Raised whenever the job, result, data-set or registry layout changes. */
-export const QUEUE_PROTOCOL_VERSION = 1;
+export const QUEUE_PROTOCOL_VERSION = 2;
 
 /** BullMQ's key prefix and ours: everything rungwise keeps in Redis starts with it. */
 export const KEY_PREFIX = 'rungwise';

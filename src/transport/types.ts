@@ -25,7 +25,7 @@ export interface TrainJob {
   trialId: number;
   /** Fixes the initial weights, dropout masks and each epoch's shuffle (together with the epoch number). */
   seed: number;
-  params: TrialConfiguration;
+  configuration: TrialConfiguration;
   /** The {@link SharedDataset.id} to train on; the transport provides the data. */
   datasetId: string;
   /** Epochs already trained (0 for a fresh start); training runs epochs fromEpoch+1 .. toEpoch. */

@@ -72,7 +72,7 @@ export const baseParams: TrialConfiguration = {
 };
 
 /** A fresh-start request training epochs 1..toEpoch. */
-export function trainRequest(dataset: SharedDataset, overrides: Omit<Partial<TrainRequest>, 'params'> & { params?: Partial<TrialConfiguration> } = {}): TrainRequest {
+export function trainRequest(dataset: SharedDataset, overrides: Omit<Partial<TrainRequest>, 'configuration'> & { params?: Partial<TrialConfiguration> } = {}): TrainRequest {
   const { params, ...rest } = overrides;
-  return { trialId: 1, seed: 42, dataset, datasetId: dataset.id, fromEpoch: 0, toEpoch: 3, ...rest, params: { ...baseParams, ...params } };
+  return { trialId: 1, seed: 42, dataset, datasetId: dataset.id, fromEpoch: 0, toEpoch: 3, ...rest, configuration: { ...baseParams, ...params } };
 }
