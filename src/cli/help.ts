@@ -32,7 +32,7 @@ export const COMMAND_EXAMPLES: Record<string, string> = {
     ['rungwise plot runs/demo --out charts --json', 'into charts/, the list of files as JSON'],
   ]),
   export: examples([
-    ['rungwise export runs/demo', 'the best trial as a tfjs model with its recipe'],
+    ['rungwise export runs/demo', 'rank 1 as a tfjs model with its recipe'],
     ['rungwise export runs/demo --rank 2 --retrain', 'retrain on training + validation rows, score on the test split'],
     ['rungwise export runs/demo --format onnx', 'model.onnx beside the tfjs files'],
   ]),
