@@ -3,7 +3,7 @@
 // src/engine/. Nothing here allocates.
 import { activateRows, backRows, multiplyRows } from './activations';
 import {
-  ACTIVATED, ACTIVATION, BATCH_X, BATCH_Y, BETA1, BETA2, BIAS, BIAS_GRADIENT, BIAS_SLOT1, BIAS_SLOT2, constant, DELTA, DEPTH, DROPOUT,
+  ACTIVATED, ACTIVATION, BATCH_X, BATCH_Y, BETA1, BETA2, BIAS, BIAS_GRADIENT, BIAS_SLOT1, BIAS_SLOT2, CLASS_WEIGHTS, constant, DELTA, DEPTH, DROPOUT,
   FAN_IN, FAN_OUT, IN_STRIDE, KERNEL, KERNEL_GRADIENT, KERNEL_SLOT1, KERNEL_SLOT2, L2, layerField, MASK, OPTIMIZER, ORDER, OUT_STRIDE,
   OUTPUT, OUTPUTS, POWER1, POWER2, PRE_ACTIVATION, SCRATCH, setConstant, TASK, TRAIN_X, TRAIN_Y, TWICE_L2, UPDATE, word, pointer,
 } from './layout';
@@ -70,7 +70,7 @@ export function trainStep(net: usize, start: i32, rows: i32): f64 {
   }
   forward(net, batchX, rows, true);
   const lastStride = field(net, depth, OUT_STRIDE);
-  const loss = outputLoss(word(net, TASK), address(net, depth, PRE_ACTIVATION), address(net, depth, ACTIVATED), address(net, depth, DELTA), lastStride, rows, word(net, OUTPUTS), batchY, rows);
+  const loss = outputLoss(word(net, TASK), address(net, depth, PRE_ACTIVATION), address(net, depth, ACTIVATED), address(net, depth, DELTA), lastStride, rows, word(net, OUTPUTS), batchY, rows, pointer(net, CLASS_WEIGHTS));
 
   const kind = word(net, ACTIVATION);
   const optimizer = word(net, OPTIMIZER);
@@ -110,7 +110,7 @@ export function trainStep(net: usize, start: i32, rows: i32): f64 {
 
 /**
  * Mean loss over `rows` rows of x (first-layer stride) and labels y, in chunks of at most `chunk`
- * rows; the output function's values go to `out` (rows x outputs, no padding).
+ * rows, every row weighing the same (class weights are for training only); the output function's values go to `out` (rows x outputs, no padding).
  */
 export function evaluate(net: usize, x: usize, y: usize, rows: i32, chunk: i32, out: usize): f64 {
   const depth = word(net, DEPTH);
@@ -122,7 +122,7 @@ export function evaluate(net: usize, x: usize, y: usize, rows: i32, chunk: i32, 
   for (let s = 0; s < rows; s += chunk) {
     const n = min(chunk, rows - s);
     forward(net, x + <usize>s * rowBytes, n, false);
-    total += outputLoss(word(net, TASK), address(net, depth, PRE_ACTIVATION), probabilities, 0, stride, n, outputs, y + (<usize>s << 2), n);
+    total += outputLoss(word(net, TASK), address(net, depth, PRE_ACTIVATION), probabilities, 0, stride, n, outputs, y + (<usize>s << 2), n, 0);
     for (let r = 0; r < n; r++) {
       memory.copy(out + ((<usize>(s + r) * <usize>outputs) << 2), probabilities + ((<usize>r * <usize>stride) << 2), <usize>outputs << 2);
     }

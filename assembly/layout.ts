@@ -15,6 +15,8 @@ export const ORDER = 10;
 export const BATCH_X = 11;
 export const BATCH_Y = 12;
 export const SCRATCH = 13;
+/** Per-class training-loss weights (one float32 per class, two for binary), 0 when rows weigh the same. */
+export const CLASS_WEIGHTS = 14;
 
 // float32 words
 export const NEGATIVE_LEARNING_RATE = 16;

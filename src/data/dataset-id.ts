@@ -2,9 +2,12 @@ import { createHash } from 'node:crypto';
 import { createReadStream } from 'node:fs';
 import type { PreparedData, SplitArrays } from './types.js';
 
-/** A content hash of the training and validation matrices: equal ids mean equal data, on any machine. */
-export function datasetId(data: Pick<PreparedData, 'recipe' | 'train' | 'validation'>): string {
-  return splitsHash(data.recipe, [data.train, data.validation]);
+/**
+ * A content hash of the training and validation matrices (and the class weights, when there are
+ * any): equal ids mean equal data, on any machine.
+ */
+export function datasetId(data: Pick<PreparedData, 'recipe' | 'train' | 'validation' | 'classWeights'>): string {
+  return splitsHash(data.recipe, [data.train, data.validation], data.classWeights);
 }
 
 /** Content hashes of the CSV file and of the prepared splits, as the study file records them. */
@@ -31,8 +34,9 @@ export async function dataHashes(csvFile: string, data: PreparedData, csvSha256?
   return { csv: `sha256:${hex}`, trainAndValidation: datasetId(data), test: splitsHash(data.recipe, [data.test]) };
 }
 
-function splitsHash(recipe: PreparedData['recipe'], splits: readonly SplitArrays[]): string {
+function splitsHash(recipe: PreparedData['recipe'], splits: readonly SplitArrays[], classWeights?: readonly number[]): string {
   const hash = createHash('sha256').update(JSON.stringify(recipe));
+  if (classWeights) hash.update(`classWeights:${JSON.stringify(classWeights)}`);
   for (const split of splits) {
     hash.update(`${split.rows}/${split.x.length}/${split.y.length}`);
     hash.update(new Uint8Array(split.x.buffer, split.x.byteOffset, split.x.byteLength));

@@ -5,6 +5,7 @@ import { UserError } from '../errors.js';
 import type { SharedDataset } from '../pool/messages.js';
 import type { DataSettings } from '../study/definition.js';
 import { didYouMean } from '../text/nearest.js';
+import { checkClassWeightLabels, trainingClassWeights } from './class-weights.js';
 import { isMissing } from './csv.js';
 import { ColumnSink, type ColumnTable, type RawColumn } from './columns.js';
 import type { DataEvent, DataLoadOptions } from './events.js';
@@ -198,6 +199,7 @@ export async function prepareData(
 
   const target = readTarget(settings, table, notes);
   const classes = target.kind === 'labels' ? checkClasses(settings, target, csvFile, definitionFile) : undefined;
+  if (classes && settings.classWeights) checkClassWeightLabels(settings.classWeights, classes.classes, settings.target, definitionFile);
   const counts = classes?.counts;
   const fractions = { validationFraction: settings.validationFraction, testFraction: settings.testFraction };
   if (counts !== undefined) {
@@ -235,6 +237,8 @@ export async function prepareData(
     validation: await splitArrays(indices.validation, 1),
     test: await splitArrays(indices.test, 2),
   };
+  const weights = recipe.classes && settings.classWeights ? trainingClassWeights(settings.classWeights, recipe.classes, data.train.y) : undefined;
+  if (weights) data.classWeights = weights;
 
   const summary: DataSummary = {
     file: csvFile,
@@ -273,5 +277,6 @@ export function toSharedDataset(data: PreparedData, id: string): SharedDataset {
     validation: { rows: data.validation.rows, x: shared(data.validation.x), y: shared(data.validation.y) },
   };
   if (recipe.targetScaling !== undefined) dataset.targetScaling = { ...recipe.targetScaling };
+  if (data.classWeights) dataset.classWeights = [...data.classWeights];
   return dataset;
 }

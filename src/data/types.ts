@@ -50,6 +50,8 @@ export interface PreparedData {
   validation: SplitArrays;
   /** Held out: used only by `export --retrain` for the final check. */
   test: SplitArrays;
+  /** The training loss's weight per class index (`data.classWeights`, from the training rows); absent: all rows weigh the same. */
+  classWeights?: number[];
 }
 
 /** A short description of the data set, kept in the study file. */

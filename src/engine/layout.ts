@@ -19,6 +19,8 @@ export const WORD = {
   batchX: 11,
   batchY: 12,
   scratch: 13,
+  /** Per-class training-loss weights, 0 when rows weigh the same. */
+  classWeights: 14,
 } as const;
 
 /** float32 words of the descriptor. */

@@ -107,6 +107,7 @@ export class EngineTrial {
     }
     const scratch = memory.take(scratchFloats * 4);
     const outputsAt = memory.take(dataset.validation.rows * dataset.outputCount * 4);
+    const classWeights = dataset.classWeights ? memory.take(dataset.classWeights.length * 4) : 0;
     reserve(memory.end());
     new Uint8Array(engine().memory.buffer, data.end, memory.end() - data.end).fill(0);
 
@@ -126,6 +127,8 @@ export class EngineTrial {
     words[WORD.batchX] = batchX;
     words[WORD.batchY] = batchY;
     words[WORD.scratch] = scratch;
+    words[WORD.classWeights] = classWeights;
+    if (dataset.classWeights) new Float32Array(engine().memory.buffer, classWeights, dataset.classWeights.length).set(dataset.classWeights);
     // float32 constants computed as tfjs computes its scalars (in double, then rounded)
     floats[CONSTANT.negativeLearningRate] = -params.learningRate;
     floats[CONSTANT.twiceL2] = 2 * params.l2;

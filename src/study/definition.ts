@@ -55,6 +55,15 @@ export const dataSchema = z.strictObject({
   validationFraction: z.number().gt(0).lt(1).default(0.2).describe('Share of rows used to score trials.'),
   testFraction: z.number().min(0).lt(1).default(0.15).describe('Share of rows held back untouched for the final check.'),
   splitSeed: seed.default(0).describe('Seed of the train/validation/test split.'),
+  classWeights: z
+    .union([
+      z.enum(['none', 'balanced']),
+      z.record(z.string().min(1), z.number().positive().describe('Weight of this class in the training loss (greater than 0).')),
+    ])
+    .optional()
+    .describe(
+      'Classification only: how much each class weighs in the training loss. "none" (default): every row the same; "balanced": n / (classes x rows of the class), from the training rows; or an object of class label to weight (classes it does not name weigh 1). Weights are scaled so the training rows\' mean weight is 1.',
+    ),
 });
 
 export const spaceSchema = z.strictObject({
@@ -78,6 +87,18 @@ export const goalSchema = z.strictObject({
   better: z.enum(['higher', 'lower']).optional().describe('Whether a higher or a lower value of the metric is better; default follows the metric.'),
 });
 
+const thresholdShare = z.number().gt(0).max(1).describe('A share between 0 (exclusive) and 1.');
+
+export const decisionThresholdSchema = z
+  .discriminatedUnion('choose', [
+    z.strictObject({ choose: z.literal('largest-f1').describe('The threshold with the largest F1 of the positive class.') }),
+    z.strictObject({ choose: z.literal('min-precision').describe('The threshold with the largest recall among those reaching this precision.'), value: thresholdShare }),
+    z.strictObject({ choose: z.literal('min-recall').describe('The threshold with the largest precision among those reaching this recall.'), value: thresholdShare }),
+  ])
+  .describe('Binary only: how the exported model\'s decision threshold is chosen on the validation rows; absent means 0.5.');
+
+export type DecisionThresholdRule = z.output<typeof decisionThresholdSchema>;
+
 export const studySchema = z.strictObject({
   $schema: z.string().optional(),
   name: z
@@ -92,6 +113,7 @@ export const studySchema = z.strictObject({
   workers: z.int().min(1).max(256).optional().describe('Worker threads; default: available cores.'),
   trialTimeoutSeconds: z.number().positive().optional().describe('A trial running longer is stopped and marked timed-out.'),
   retries: z.int().min(0).max(10).default(0).describe('Times a failed trial is run again before it is given up.'),
+  decisionThreshold: decisionThresholdSchema.optional(),
 });
 
 /** A study definition as written in the file (defaults not yet applied). */

@@ -93,6 +93,12 @@ function crossFieldProblems(definition: StudyDefinition): [string, string][] {
   if ('minEpochs' in sampler && sampler.minEpochs > budget.maxEpochs) {
     problems.push(['sampler.minEpochs', `found ${sampler.minEpochs}, expected at most budget.maxEpochs (${budget.maxEpochs})`]);
   }
+  if (data.task === 'regression' && data.classWeights !== undefined && data.classWeights !== 'none') {
+    problems.push(['data.classWeights', `is for classification; a regression task takes "none" or no classWeights`]);
+  }
+  if (definition.decisionThreshold && data.task !== 'binary') {
+    problems.push(['decisionThreshold', `is for binary tasks; this study's task is ${data.task}`]);
+  }
   if (data.features?.includes(data.target)) {
     problems.push(['data.features', `lists the target column "${data.target}"; the target cannot be an input`]);
   }

@@ -8,6 +8,8 @@ export interface DatasetTensors {
   trainY: tf.Tensor2D;
   validationX: tf.Tensor2D;
   validationY: tf.Tensor2D;
+  /** rows x 1: each training row's class weight, when the data set has class weights. */
+  trainWeights?: tf.Tensor2D;
 }
 
 /** At most this many data sets stay on the device; the least recently used one is released first. */
@@ -38,10 +40,12 @@ export function datasetTensors(dataset: SharedDataset): DatasetTensors {
     validationX: tf.keep(tf.tensor2d(validation.x, [validation.rows, inputCount])),
     validationY: tf.keep(labels(dataset, validation.y, validation.rows)),
   }));
+  const { classWeights } = dataset;
+  if (classWeights) tensors.trainWeights = tf.keep(tf.tensor2d(Float32Array.from(train.y, (label) => classWeights[label]!), [train.rows, 1]));
   cache.set(dataset.id, tensors);
   while (cache.size > CACHED_DATASETS) {
     const [oldest, old] = cache.entries().next().value as [string, DatasetTensors];
-    tf.dispose(Object.values(old));
+    tf.dispose(Object.values(old) as tf.Tensor[]);
     cache.delete(oldest);
   }
   return tensors;
@@ -49,6 +53,6 @@ export function datasetTensors(dataset: SharedDataset): DatasetTensors {
 
 /** Releases every cached data set (for tests and for a thread about to end). */
 export function releaseDatasets(): void {
-  for (const tensors of cache.values()) tf.dispose(Object.values(tensors));
+  for (const tensors of cache.values()) tf.dispose(Object.values(tensors) as tf.Tensor[]);
   cache.clear();
 }

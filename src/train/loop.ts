@@ -45,9 +45,9 @@ function trainEpoch(request: TrainRequest, network: Network, optimizer: tf.Optim
   const { configuration: params, seed, dataset } = request;
   const rows = dataset.train.rows;
   const order = permutation(rows, stream(seed, 'shuffle', epoch));
-  const { x: shuffledX, y: shuffledY } = tf.tidy(() => {
+  const { x: shuffledX, y: shuffledY, weights: shuffledWeights } = tf.tidy(() => {
     const index = tf.tensor1d(order, 'int32');
-    return { x: tf.gather(data.trainX, index), y: tf.gather(data.trainY, index) };
+    return { x: tf.gather(data.trainX, index), y: tf.gather(data.trainY, index), weights: data.trainWeights && tf.gather(data.trainWeights, index) };
   });
   let lossSum: tf.Scalar | undefined;
   let batches = 0;
@@ -59,11 +59,12 @@ function trainEpoch(request: TrainRequest, network: Network, optimizer: tf.Optim
       lossSum = tf.tidy(() => {
         const x = tf.slice(shuffledX, [start, 0], [size, -1]);
         const y = tf.slice(shuffledY, [start, 0], [size, -1]);
+        const weights = shuffledWeights && tf.slice(shuffledWeights, [start, 0], [size, -1]);
         const dropout = params.dropout > 0 ? { rate: params.dropout, rng: stream(seed, 'dropout', epoch, batch) } : undefined;
         let batchLoss: tf.Scalar | undefined;
         optimizer.minimize(
           () => {
-            const dataLoss = lossFromLogits(dataset.task, forward(network, x, dropout), y);
+            const dataLoss = lossFromLogits(dataset.task, forward(network, x, dropout), y, weights);
             // A copy is kept: minimize() disposes the tensor f returns.
             batchLoss = tf.keep(tf.clone(dataLoss));
             return params.l2 > 0 ? tf.add(dataLoss, l2Penalty(network, params.l2)) : dataLoss;
@@ -84,6 +85,7 @@ function trainEpoch(request: TrainRequest, network: Network, optimizer: tf.Optim
     lossSum?.dispose();
     shuffledX.dispose();
     shuffledY.dispose();
+    shuffledWeights?.dispose();
   }
 }
 

@@ -131,16 +131,19 @@ export function outputFromLogits(task: Task, logits: tf.Tensor2D): tf.Tensor2D {
 /**
  * Mean loss over the rows, computed from logits for numerical stability: binary cross-entropy
  * (labels rows x 1 of 0/1), softmax cross-entropy (labels one-hot rows x classes), or mean squared error.
+ * `rowWeights` (rows x 1, classification only) multiplies each row's loss before the mean over
+ * the rows: the weighted sum divided by the row count (src/data/class-weights.ts normalises them).
  */
-export function lossFromLogits(task: Task, logits: tf.Tensor2D, labels: tf.Tensor2D): tf.Scalar {
+export function lossFromLogits(task: Task, logits: tf.Tensor2D, labels: tf.Tensor2D, rowWeights?: tf.Tensor2D): tf.Scalar {
   return tf.tidy((): tf.Scalar => {
+    const weighted = (perRow: tf.Tensor): tf.Tensor => (rowWeights ? tf.mul(perRow, rowWeights) : perRow);
     if (task === 'binary') {
       // max(z, 0) - z*y + log(1 + exp(-|z|)): never exponentiates a large positive number.
       const z = logits;
       const perRow = tf.add(tf.sub(tf.relu(z), tf.mul(z, labels)), tf.log1p(tf.exp(tf.neg(tf.abs(z)))));
-      return tf.mean(perRow) as tf.Scalar;
+      return tf.mean(weighted(perRow)) as tf.Scalar;
     }
-    if (task === 'multiclass') return tf.neg(tf.mean(tf.sum(tf.mul(labels, tf.logSoftmax(logits)), 1))) as tf.Scalar;
+    if (task === 'multiclass') return tf.neg(tf.mean(weighted(tf.sum(tf.mul(labels, tf.logSoftmax(logits)), 1, rowWeights !== undefined)))) as tf.Scalar;
     return tf.mean(tf.square(tf.sub(logits, labels))) as tf.Scalar;
   });
 }

@@ -18,6 +18,7 @@ interface DatasetHeader {
   inputCount: number;
   outputCount: number;
   targetScaling?: { mean: number; std: number };
+  classWeights?: number[];
   /** Rows and element counts of x and y, training split then validation split. */
   splits: { rows: number; x: number; y: number }[];
 }
@@ -38,6 +39,7 @@ export function encodeDataset(dataset: SharedDataset): Buffer {
     inputCount: dataset.inputCount,
     outputCount: dataset.outputCount,
     ...(dataset.targetScaling ? { targetScaling: dataset.targetScaling } : {}),
+    ...(dataset.classWeights ? { classWeights: dataset.classWeights } : {}),
     splits: [dataset.train, dataset.validation].map((s) => ({ rows: s.rows, x: s.x.length, y: s.y.length })),
   };
   const json = Buffer.from(JSON.stringify(header), 'utf8');
@@ -87,5 +89,6 @@ export function decodeDataset(bytes: Buffer, expectedId: string): SharedDataset 
     train: train!,
     validation: validation!,
     ...(header.targetScaling ? { targetScaling: header.targetScaling } : {}),
+    ...(header.classWeights ? { classWeights: header.classWeights } : {}),
   };
 }

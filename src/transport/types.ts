@@ -18,6 +18,12 @@ export interface SharedDataset {
   validation: { rows: number; x: Float32Array; y: Float32Array };
   /** Regression only: to report RMSE, MAE and R² in the target's own units. */
   targetScaling?: { mean: number; std: number };
+  /**
+   * Classification only: the training loss's weight of each class (index = label: 0/1 for binary,
+   * the class index for multiclass), normalised so the training rows' mean weight is 1
+   * (src/data/class-weights.ts). Absent: every row weighs the same.
+   */
+  classWeights?: number[];
 }
 
 /** Train one trial's configuration from one epoch count to another. */
