@@ -3,6 +3,7 @@
  * path's `trainSegment` (src/train/loop.ts), which stays the reference it is tested against.
  */
 import type { EpochReport, TrainRequest, TrainResult } from '../pool/messages.js';
+import { jobClassFigures } from '../train/class-figures.js';
 import { runEpochs } from '../train/epochs.js';
 import { restoreTrialCheckpoint, trialCheckpoint } from './checkpoint-state.js';
 import { EngineTrial } from './trial.js';
@@ -24,6 +25,10 @@ export async function trainSegmentOnEngine(request: TrainRequest, onEpoch?: (rep
   const { epochs, divergence } = runEpochs(request, { trainEpoch: (epoch) => trial.trainEpoch(epoch), validate: () => trial.evaluate() }, onEpoch);
   const result: TrainResult = { trialId: request.trialId, status: divergence ? 'diverged' : 'completed', epochs, workerSeconds: (performance.now() - started) / 1000 };
   if (divergence) result.divergence = divergence;
-  else result.checkpoint = trialCheckpoint(trial, request.toEpoch);
+  else {
+    result.checkpoint = trialCheckpoint(trial, request.toEpoch);
+    const figures = jobClassFigures(dataset, trial.evaluate().outputs, request.toEpoch);
+    if (figures) result.classFigures = figures;
+  }
   return result;
 }

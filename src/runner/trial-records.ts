@@ -40,6 +40,8 @@ export function applyResult(record: TrialRecord, job: Job, result: TrainResult, 
   record.rung = job.rung;
   record.bracket = job.bracket;
   record.endedAt = new Date().toISOString();
+  if (result.classFigures) record.classFigures = result.classFigures;
+  else delete record.classFigures;
   if (result.status === 'diverged') {
     record.status = 'diverged';
     record.score = null;

@@ -3,6 +3,7 @@ import type { DataSummary, PreprocessingRecipe } from '../data/types.js';
 import type { ProposalOrigin } from '../samplers/sampler.js';
 import type { EpochReport } from '../transport/types.js';
 import type { Goal, StudyDefinition, TrialConfiguration } from '../study/definition.js';
+import type { ClassFigures } from '../train/class-figures.js';
 
 /**
  * Life of a trial. `training`: a job trains it. `waiting`: finished a rung, waiting for the sampler's
@@ -40,6 +41,8 @@ export interface TrialRecord {
   jobs: JobRecord[];
   /** Which design or model proposed the configuration, for samplers that propose themselves. */
   origin?: ProposalOrigin;
+  /** Classification: confusion matrix and average precision per class on the validation split at the last epoch trained (absent for older files and after a divergence). */
+  classFigures?: ClassFigures;
   /** Why the sampler promoted the trial out of each rung (asynchronous halving records this). */
   promotions?: { fromRung: number; reason: string }[];
 }

@@ -4,6 +4,7 @@ import type { OptimizerName } from '../study/definition.js';
 import { permutation, stream } from '../random/streams.js';
 import { ConstantCachingAdam } from './adam.js';
 import { checkpointBytes, restoreCheckpoint } from './checkpoint.js';
+import { jobClassFigures } from './class-figures.js';
 import { datasetTensors, type DatasetTensors } from './data-cache.js';
 import { runEpochs } from './epochs.js';
 import { ADAM, MOMENTUM } from './optimizer-constants.js';
@@ -118,6 +119,7 @@ export async function trainSegment(request: TrainRequest, onEpoch?: (report: Epo
   let epochs: EpochReport[] = [];
   let divergence: TrainResult['divergence'];
   let checkpoint: Uint8Array | undefined;
+  let figures: TrainResult['classFigures'];
 
   const network = createNetwork(networkSpec(request.trialId, request.seed, params, dataset.inputCount, dataset.outputCount));
   const optimizer = createOptimizer(params.optimizer, params.learningRate);
@@ -128,7 +130,10 @@ export async function trainSegment(request: TrainRequest, onEpoch?: (report: Epo
       await restoreCheckpoint(request.checkpoint, expected, network.variables, optimizer);
     }
     ({ epochs, divergence } = runEpochs(request, { trainEpoch: (epoch) => trainEpoch(request, network, optimizer, data, epoch), validate: () => validate(request, network, data) }, onEpoch));
-    if (!divergence) checkpoint = await checkpointBytes({ trialId: request.trialId, epoch: request.toEpoch, params }, network.variables, optimizer);
+    if (!divergence) {
+      checkpoint = await checkpointBytes({ trialId: request.trialId, epoch: request.toEpoch, params }, network.variables, optimizer);
+      figures = jobClassFigures(dataset, validate(request, network, data).outputs, request.toEpoch);
+    }
   } finally {
     disposeOptimizer(optimizer);
     disposeNetwork(network);
@@ -143,5 +148,6 @@ export async function trainSegment(request: TrainRequest, onEpoch?: (report: Epo
   };
   if (divergence) result.divergence = divergence;
   if (checkpoint) result.checkpoint = checkpoint;
+  if (figures) result.classFigures = figures;
   return result;
 }

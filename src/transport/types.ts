@@ -5,6 +5,7 @@
  * `diverged` result. These are domain types: no message port, no shared buffer, no file path.
  */
 import type { MetricName, Task, TrialConfiguration } from '../study/definition.js';
+import type { ClassFigures } from '../train/class-figures.js';
 
 /** Training and validation matrices of a study, named by an id so a worker can fetch or cache them once. */
 export interface SharedDataset {
@@ -62,6 +63,8 @@ export interface TrainResult {
   divergence?: { epoch: number; reason: string };
   /** The trial's checkpoint at `toEpoch` (network and optimizer state), when it completed. */
   checkpoint?: Uint8Array;
+  /** Classification, when it completed: confusion matrix and average precision per class on the validation split, for the checkpointed weights. */
+  classFigures?: ClassFigures;
   /** Worker wall time of the whole job, seconds. */
   workerSeconds: number;
   /** Where the job ran, e.g. `thread 2` or `host-a/4711`, for the study file and the progress display. */
