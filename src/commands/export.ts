@@ -1,14 +1,18 @@
 import { existsSync } from 'node:fs';
 import { writeFile } from 'node:fs/promises';
 import path from 'node:path';
-import type { PreparedData } from '../data/types.js';
+import type { PreparedData, SplitArrays } from '../data/types.js';
 import { UserError } from '../errors.js';
 import { writeFolderAtomically } from '../files/atomic-folder.js';
 import { packageVersion } from '../files/package-files.js';
-import { CONFIGURATION_FILE, buildConfiguration, lastEpochFigures } from '../export/configuration.js';
+import type * as tf from '@tensorflow/tfjs';
+import { CONFIGURATION_FILE, buildConfiguration, lastEpochFigures, type ExportFigures } from '../export/configuration.js';
 import { OPTIMISM_CAUTION } from '../report/caution.js';
 import { evaluateExportedModel } from '../export/evaluate.js';
-import { MODEL_FILE, WEIGHTS_FILE, buildLayersModel, saveLayersModel } from '../export/model-files.js';
+import { MODEL_FILE, WEIGHTS_FILE, buildLayersModel, outputCount, predictRows, saveLayersModel } from '../export/model-files.js';
+import { DEFAULT_THRESHOLD, chooseThreshold, describeRule, type ThresholdChoice } from '../export/threshold.js';
+import { classReport, classReportText, trialClassReport, type ClassReport } from '../report/class-report.js';
+import { classFigures } from '../train/class-figures.js';
 import { ONNX_FILE } from '../export/onnx-schema.js';
 import { retrainTrial } from '../export/retrain.js';
 import { keptCheckpointWeights, trialAtRank } from '../export/select.js';
@@ -16,8 +20,8 @@ import { formatNumber, textTable } from '../report/format.js';
 import { runPaths } from '../store/run-dir.js';
 import { studyData } from '../store/study-data.js';
 import { StudyStore, studyFilePath } from '../store/study-store.js';
-import type { StudyDocument } from '../store/types.js';
-import type { MetricName, Goal } from '../study/definition.js';
+import type { StudyDocument, TrialRecord } from '../store/types.js';
+import type { DecisionThresholdRule, MetricName, Goal } from '../study/definition.js';
 import { initBackend } from '../train/backend.js';
 import type { Metrics } from '../train/metrics.js';
 
@@ -62,6 +66,10 @@ export interface ExportSummary {
   validation: Metrics;
   /** With --retrain: the retrained model's metrics on the held-out test split. */
   test?: Metrics;
+  /** Binary: the decision threshold and how it was chosen. */
+  threshold?: ThresholdChoice;
+  /** Classification: per-class figures on the validation split (and the test split with --retrain). */
+  classes?: { validation?: ClassReport; test?: ClassReport };
   retrained: boolean;
   format: ExportFormat;
   /** Files written into `out`. */
@@ -69,10 +77,13 @@ export interface ExportSummary {
   caution: string;
 }
 
-/** The study's data, unchanged since the run, with a held-out test split to score a retrained model on. */
-async function retrainData(doc: StudyDocument, studyFile: string, allowChangedData: boolean): Promise<PreparedData> {
-  const data = await studyData(doc, studyFile, { command: 'export --retrain', allowChangedData });
-  if (data.test.rows === 0) {
+/**
+ * The study's data, unchanged since the run: for --retrain (with a held-out test split to score the
+ * retrained model on) and for choosing a binary model's decision threshold on the validation split.
+ */
+async function exportData(doc: StudyDocument, studyFile: string, allowChangedData: boolean, retrain: boolean): Promise<PreparedData> {
+  const data = await studyData(doc, studyFile, { command: retrain ? 'export --retrain' : 'export', allowChangedData });
+  if (retrain && data.test.rows === 0) {
     throw new UserError('E_EXPORT_NO_TEST', `${doc.definitionFile}: data.testFraction is 0, so there is no held-out test split to score a retrained model on`);
   }
   return data;
@@ -98,25 +109,24 @@ export async function exportModel(options: ExportCommandOptions): Promise<Export
   const trial = chosen.trial;
   // Every check that can refuse runs before the export folder is touched.
   const kept = options.retrain ? undefined : await keptCheckpointWeights(runDir, doc, chosen);
-  const data = options.retrain ? await retrainData(doc, studyFile, options.allowChangedData ?? false) : undefined;
+  const rule = doc.recipe.task === 'binary' ? doc.definition.decisionThreshold : undefined;
+  const retrain = options.retrain === true;
+  const data = retrain || rule ? await exportData(doc, studyFile, options.allowChangedData ?? false, retrain) : undefined;
   const out = path.resolve(options.out ?? runPaths.exportDir(runDir, rank));
   const format = options.format ?? 'tfjs';
 
-  let test: Metrics | undefined;
+  let figures: ExportFigures = {};
   await writeFolderAtomically(
     out,
     (existing) => existsSync(path.join(existing, CONFIGURATION_FILE)),
     async (partial) => {
       await initBackend();
-      let weights = kept;
-      if (data) {
-        weights = await retrainTrial(data, trial);
-      }
-      const model = buildLayersModel(trial.configuration, doc.recipe, weights!);
+      const weights = retrain ? await retrainTrial(data!, trial) : kept!;
+      const model = buildLayersModel(trial.configuration, doc.recipe, weights);
       try {
-        if (data) test = evaluateExportedModel(model, doc.recipe, data.test);
+        figures = exportFigures(model, doc, trial, data, rule, retrain);
         await saveLayersModel(model, partial);
-        const configuration = buildConfiguration(doc, trial, rank, test ? { test } : undefined);
+        const configuration = buildConfiguration(doc, trial, rank, figures);
         if (format === 'onnx') {
           const { describeOnnx, writeOnnxModel } = await import('../export/onnx.js');
           configuration.onnx = describeOnnx(configuration);
@@ -138,13 +148,49 @@ export async function exportModel(options: ExportCommandOptions): Promise<Export
     goal: doc.goal,
     score: trial.score!,
     validation: lastEpochFigures(trial).metrics,
-    retrained: options.retrain === true,
+    retrained: retrain,
     format,
     files: [CONFIGURATION_FILE, MODEL_FILE, WEIGHTS_FILE, ...(format === 'onnx' ? [ONNX_FILE] : [])],
     caution: OPTIMISM_CAUTION,
   };
-  if (test) summary.test = test;
+  if (figures.test) summary.test = figures.test;
+  if (figures.threshold) summary.threshold = figures.threshold;
+  if (figures.classes) summary.classes = figures.classes;
   return summary;
+}
+
+/**
+ * Test metrics (with --retrain), the decision threshold (binary, by the study's rule, on the
+ * validation split) and the per-class reports of the exported model. Without data the validation
+ * report is the one the study recorded for the trial.
+ */
+function exportFigures(model: tf.LayersModel, doc: StudyDocument, trial: TrialRecord, data: PreparedData | undefined, rule: DecisionThresholdRule | undefined, retrain: boolean): ExportFigures {
+  const { recipe } = doc;
+  const figures: ExportFigures = {};
+  if (!data) {
+    const validation = trialClassReport(doc, trial);
+    if (validation) figures.classes = { validation };
+    return figures;
+  }
+  const outputsOf = (split: SplitArrays): Float32Array => predictRows(model, split.x, split.rows, recipe.inputCount);
+  const validationOutputs = recipe.task === 'regression' ? undefined : outputsOf(data.validation);
+  if (rule && validationOutputs) figures.threshold = chooseThreshold(rule, data.validation.y, validationOutputs);
+  const threshold = figures.threshold?.threshold ?? DEFAULT_THRESHOLD;
+  const reportOf = (split: SplitArrays, outputs: Float32Array): ClassReport | undefined => {
+    const counted = classFigures(recipe.task, split.y, outputs, outputCount(recipe), trial.epochsTrained, threshold);
+    return counted && recipe.classes ? classReport(recipe.task, recipe.classes, counted) : undefined;
+  };
+  const classes: NonNullable<ExportFigures['classes']> = {};
+  const validation = validationOutputs && reportOf(data.validation, validationOutputs);
+  if (validation) classes.validation = validation;
+  if (retrain) {
+    const testOutputs = outputsOf(data.test);
+    figures.test = evaluateExportedModel(model, recipe, data.test, threshold, testOutputs);
+    const test = reportOf(data.test, testOutputs);
+    if (test) classes.test = test;
+  }
+  if (classes.validation || classes.test) figures.classes = classes;
+  return figures;
 }
 
 /** What the CLI prints after an export: where it went, the metrics (validation beside test) and the caution. */
@@ -162,7 +208,31 @@ export function exportReport(summary: ExportSummary): string {
     return row;
   });
   lines.push(textTable(header, rows), '');
+  lines.push(...thresholdLines(summary));
+  if (summary.classes?.validation) lines.push(classReportText(summary.classes.validation).replace(/^validation rows/, 'validation split'), '');
+  if (summary.classes?.test) lines.push(classReportText(summary.classes.test).replace(/^validation rows/, 'test split (retrained model)'), '');
   if (!summary.test) lines.push(`No test metrics: \`rungwise export ${summary.dir} --rank ${summary.rank} --retrain\` scores the configuration on the held-out test split.`);
   lines.push(summary.caution);
   return lines.join('\n');
+}
+
+const figure = (value: number | null): string => (value === null ? '-' : value.toFixed(3));
+const formatThreshold = (value: number): string => String(Number(value.toPrecision(4)));
+
+/** What the export says of a binary model's decision threshold: its value, how it was chosen, and why it is optimistic. */
+function thresholdLines(summary: ExportSummary): string[] {
+  if (summary.classes?.validation?.threshold === undefined && !summary.threshold) return [];
+  const choice = summary.threshold;
+  if (!choice) return [`decision threshold: ${DEFAULT_THRESHOLD} (the default; the study gives no decisionThreshold rule)`, ''];
+  const lines = [
+    `decision threshold: ${formatThreshold(choice.threshold)} (${describeRule(choice.rule)}), chosen on the ${choice.rows} validation rows: precision ${figure(choice.precision)}, recall ${figure(choice.recall)}, F1 ${figure(choice.f1)}`,
+  ];
+  if (!choice.ruleMet) lines.push(`note: no threshold reaches ${describeRule(choice.rule)} on the validation rows; the most precise one was taken`);
+  lines.push(
+    summary.retrained
+      ? 'These validation figures are optimistic (the threshold was fitted to those rows, which the retrained model was also trained on); the test split figures below, at this threshold, are the honest check.'
+      : `These validation figures are optimistic (the threshold was fitted to those rows); \`rungwise export ${summary.dir} --rank ${summary.rank} --retrain\` scores the model once on the held-out test split at this threshold.`,
+    '',
+  );
+  return lines;
 }

@@ -84,5 +84,6 @@ export async function predictCsv(options: PredictCommandOptions): Promise<Predic
 /** What the CLI prints after predicting into a file. */
 export function predictReport(summary: PredictSummary): string {
   const where = summary.output === STDOUT ? 'standard output' : summary.output;
-  return `wrote ${summary.rows} prediction${summary.rows === 1 ? '' : 's'} (${summary.header.join(', ')}) to ${where}`;
+  const threshold = summary.threshold === undefined ? '' : `; decision threshold ${Number(summary.threshold.toPrecision(4))} (from the export)`;
+  return `wrote ${summary.rows} prediction${summary.rows === 1 ? '' : 's'} (${summary.header.join(', ')}) to ${where}${threshold}`;
 }

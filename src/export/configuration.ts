@@ -9,7 +9,9 @@ import { UserError } from '../errors.js';
 import { OPTIMISM_CAUTION } from '../report/caution.js';
 import type { StudyDocument, TrialRecord } from '../store/types.js';
 import type { MetricName, Goal, TrialConfiguration } from '../study/definition.js';
+import type { ClassReport } from '../report/class-report.js';
 import type { Metrics } from '../train/metrics.js';
+import { DEFAULT_THRESHOLD, describeRule, type ThresholdChoice } from './threshold.js';
 import { MODEL_FILE, WEIGHTS_FILE, inputNames } from './model-files.js';
 import type { OnnxDescription } from './onnx.js';
 
@@ -29,7 +31,7 @@ export interface LastEpochFigures {
 
 /** What the model's outputs mean. */
 export type ModelOutputs =
-  | { task: 'binary'; meaning: string; classes: string[]; threshold?: number }
+  | { task: 'binary'; meaning: string; classes: string[]; threshold: number; thresholdChoice: ThresholdChoice }
   | { task: 'multiclass'; meaning: string; classes: string[] }
   | { task: 'regression'; meaning: string; units: 'target' };
 
@@ -49,8 +51,10 @@ export interface ExportConfiguration {
   score: number;
   /** Figures the study recorded for the trial's last epoch (validation split). */
   validation: LastEpochFigures;
-  /** Set with --retrain: metrics of the retrained model on the held-out test split, computed once. */
+  /** Set with --retrain: metrics of the retrained model on the held-out test split, computed once (a binary model's at its threshold). */
   test?: Metrics;
+  /** Classification: per-class figures and the confusion matrix on the validation split (at the decision threshold for a binary model), and on the test split with --retrain. */
+  classes?: { validation?: ClassReport; test?: ClassReport };
   /** Rows the exported weights were trained on. */
   trainedOn: 'training split' | 'training and validation splits';
   recipe: PreprocessingRecipe;
@@ -63,10 +67,18 @@ export interface ExportConfiguration {
   caution: string;
 }
 
-function modelOutputs(recipe: PreprocessingRecipe): ModelOutputs {
+function modelOutputs(recipe: PreprocessingRecipe, threshold: ThresholdChoice | undefined): ModelOutputs {
   const classes = recipe.classes ?? [];
   if (recipe.task === 'binary') {
-    return { task: 'binary', classes, meaning: `one output: the probability of class '${classes[1]}' (sigmoid); '${classes[1]}' is predicted when it is at least 0.5` };
+    const choice = threshold ?? defaultThresholdChoice();
+    const how = choice.rule === 'none' ? 'the default: the study gives no decisionThreshold rule' : `chosen on the validation split for ${describeRule(choice.rule)}`;
+    return {
+      task: 'binary',
+      classes,
+      threshold: choice.threshold,
+      thresholdChoice: choice,
+      meaning: `one output: the probability of class '${classes[1]}' (sigmoid); '${classes[1]}' is predicted when it is at least ${choice.threshold} (${how})`,
+    };
   }
   if (recipe.task === 'multiclass') return { task: 'multiclass', classes, meaning: 'one probability per class, in the order of classes (softmax)' };
   return {
@@ -83,7 +95,22 @@ export function lastEpochFigures(trial: TrialRecord): LastEpochFigures {
   return { epoch: last.epoch, trainLoss: last.trainLoss, validationLoss: last.validationLoss, metrics: { ...last.metrics } };
 }
 
-export function buildConfiguration(doc: StudyDocument, trial: TrialRecord, rank: number, retrained: { test: Metrics } | undefined): ExportConfiguration {
+/** What an export adds to the study's record of the trial. */
+export interface ExportFigures {
+  /** With --retrain: the retrained model's metrics on the test split. */
+  test?: Metrics;
+  /** Binary: the threshold chosen by the study's rule (absent: 0.5, no rule). */
+  threshold?: ThresholdChoice;
+  classes?: ExportConfiguration['classes'];
+}
+
+/** The record of the 0.5 default when the study gives no rule (no figures: nothing was chosen). */
+function defaultThresholdChoice(): ThresholdChoice {
+  return { rule: 'none', threshold: DEFAULT_THRESHOLD, chosenOn: 'validation split', rows: 0, precision: null, recall: null, f1: null, ruleMet: true };
+}
+
+export function buildConfiguration(doc: StudyDocument, trial: TrialRecord, rank: number, figures: ExportFigures = {}): ExportConfiguration {
+  const retrained = figures.test ? { test: figures.test } : undefined;
   const configuration: ExportConfiguration = {
     format: EXPORT_FORMAT,
     version: EXPORT_FORMAT_VERSION,
@@ -99,11 +126,12 @@ export function buildConfiguration(doc: StudyDocument, trial: TrialRecord, rank:
     trainedOn: retrained ? 'training and validation splits' : 'training split',
     recipe: doc.recipe,
     inputs: inputNames(doc.recipe),
-    outputs: modelOutputs(doc.recipe),
+    outputs: modelOutputs(doc.recipe, figures.threshold),
     model: { file: MODEL_FILE, weights: WEIGHTS_FILE, format: 'tfjs layers model' },
     caution: OPTIMISM_CAUTION,
   };
   if (retrained) configuration.test = retrained.test;
+  if (figures.classes) configuration.classes = figures.classes;
   return configuration;
 }
 

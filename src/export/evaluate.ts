@@ -5,13 +5,14 @@ import { computeMetrics, regressionMetrics, type Metrics } from '../train/metric
 import { outputCount, predictRows } from './model-files.js';
 
 /**
- * The task's metrics of an exported model on one encoded split. The exported regression model
- * answers in the target's units, so the split's standardised targets are unscaled to compare.
+ * The task's metrics of an exported model on one encoded split (a binary model's classes at
+ * `threshold`). The exported regression model answers in the target's units, so the split's
+ * standardised targets are unscaled to compare. `outputs`: the model's outputs on the split, when
+ * already computed.
  */
-export function evaluateExportedModel(model: tf.LayersModel, recipe: PreprocessingRecipe, split: SplitArrays): Metrics {
-  const outputs = predictRows(model, split.x, split.rows, recipe.inputCount);
+export function evaluateExportedModel(model: tf.LayersModel, recipe: PreprocessingRecipe, split: SplitArrays, threshold = 0.5, outputs = predictRows(model, split.x, split.rows, recipe.inputCount)): Metrics {
   if (recipe.task === 'regression') {
     return regressionMetrics(Float64Array.from(split.y, (y) => unscaleTarget(recipe, y)), outputs);
   }
-  return computeMetrics(recipe.task, split.y, outputs, outputCount(recipe));
+  return computeMetrics(recipe.task, split.y, outputs, outputCount(recipe), undefined, threshold);
 }

@@ -1,6 +1,7 @@
 import type { RankedTrial } from '../study/objective.js';
 import type { StudyDocument, TrialRecord, TrialStatus } from '../store/types.js';
 import type { Goal, TrialConfiguration } from '../study/definition.js';
+import { trialClassReport, type ClassReport } from './class-report.js';
 import { rankingTable } from './ranking-table.js';
 import { OPTIMISM_CAUTION } from './caution.js';
 import { studySummary } from './summary.js';
@@ -27,6 +28,8 @@ export interface TrialEntry {
   seed: number;
   /** Validation metrics of the last epoch trained. */
   metrics: Record<string, number>;
+  /** Ranked classification trials: per-class figures and the confusion matrix on the validation split. */
+  classes?: ClassReport;
 }
 
 /** The result of `run`, `resume` and `ranking` as plain data. */
@@ -52,7 +55,7 @@ function unrankedReason(trial: TrialRecord): string {
   return `no score recorded (${trial.status})`;
 }
 
-function entry(trial: TrialRecord, rank: number | null): TrialEntry {
+function entry(doc: StudyDocument, trial: TrialRecord, rank: number | null): TrialEntry {
   const result: TrialEntry = {
     rank,
     trial: trial.id,
@@ -67,6 +70,8 @@ function entry(trial: TrialRecord, rank: number | null): TrialEntry {
     metrics: { ...(trial.curve.at(-1)?.metrics ?? {}) } as Record<string, number>,
   };
   if (rank === null) result.reason = unrankedReason(trial);
+  const classes = rank === null ? undefined : trialClassReport(doc, trial);
+  if (classes) result.classes = classes;
   return result;
 }
 
@@ -79,8 +84,8 @@ function entry(trial: TrialRecord, rank: number | null): TrialEntry {
 export function studyResultJson(doc: StudyDocument, ranking: readonly RankedTrial[], file: string, top?: number): StudyResultJson {
   const rankedIds = new Set(ranking.map(({ trial }) => trial.id));
   const entries = [
-    ...ranking.map(({ rank, trial }) => entry(trial, rank)),
-    ...doc.trials.filter((t) => !rankedIds.has(t.id)).sort((a, b) => a.id - b.id).map((t) => entry(t, null)),
+    ...ranking.map(({ rank, trial }) => entry(doc, trial, rank)),
+    ...doc.trials.filter((t) => !rankedIds.has(t.id)).sort((a, b) => a.id - b.id).map((t) => entry(doc, t, null)),
   ];
   const trials = top === undefined ? entries : entries.slice(0, top);
   const counts: Partial<Record<TrialStatus, number>> = {};

@@ -125,6 +125,7 @@ export function regressionMetrics(truth: ArrayLike<number>, predictions: ArrayLi
  * P(class 1) per row (binary), rows x outputCount probabilities (multiclass), or the standardised
  * prediction (regression, mapped back to the target's units with `targetScaling`).
  * Metrics that are undefined for the data (AUC with one class present, R² of a constant target) are omitted.
+ * A binary model predicts class 1 from `threshold` on (0.5 during the study; an exported model's own threshold after).
  */
 export function computeMetrics(
   task: Task,
@@ -132,6 +133,7 @@ export function computeMetrics(
   outputs: Float32Array,
   outputCount: number,
   targetScaling?: { mean: number; std: number },
+  threshold = 0.5,
 ): Metrics {
   if (task === 'regression') {
     const scale = targetScaling ?? { mean: 0, std: 1 };
@@ -141,7 +143,7 @@ export function computeMetrics(
   const trueClasses = Int32Array.from(yTrue);
   const metrics: Metrics = {};
   if (task === 'binary') {
-    const predicted = Int32Array.from(outputs, (p) => (p >= 0.5 ? 1 : 0));
+    const predicted = Int32Array.from(outputs, (p) => (p >= threshold ? 1 : 0));
     metrics.accuracy = accuracy(trueClasses, predicted);
     metrics.macroF1 = macroF1(trueClasses, predicted, 2);
     metrics.auc = auc(trueClasses, outputs);
