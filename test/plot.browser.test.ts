@@ -1,5 +1,5 @@
 import { existsSync } from 'node:fs';
-import { copyFile, mkdir, mkdtemp, rm } from 'node:fs/promises';
+import { copyFile, mkdir, mkdtemp, readFile, rm, writeFile } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
 import path from 'node:path';
 import { fileURLToPath, pathToFileURL } from 'node:url';
@@ -25,7 +25,12 @@ describe.runIf(runsHere)('report.html in headless Chromium', () => {
 
   beforeAll(async () => {
     dir = await mkdtemp(path.join(tmpdir(), 'rungwise-plot-browser-'));
-    await copyFile(FIXTURE, path.join(dir, 'study.json'));
+    // The fixture predates per-class figures: its scored trials get one confusion matrix, so the per-class section is drawn too.
+    const study = JSON.parse(await readFile(FIXTURE, 'utf8')) as { trials: { objective: number | null; epochsTrained: number; classFigures?: unknown }[] };
+    for (const trial of study.trials) {
+      if (trial.objective !== null) trial.classFigures = { epoch: trial.epochsTrained, confusion: [[410, 31], [62, 97]], averagePrecision: [0.93, 0.71], threshold: 0.5 };
+    }
+    await writeFile(path.join(dir, 'study.json'), JSON.stringify(study));
     const { files } = await plot({ dir });
     reportUrl = pathToFileURL(files.find((f) => f.endsWith('report.html'))!).href;
     await mkdir(path.join(dir, 'other'));
@@ -84,6 +89,7 @@ describe.runIf(runsHere)('report.html in headless Chromium', () => {
       expect(await page.textContent('body')).toContain('judge the chosen model on the held-out test split');
       // The winner's star is in the table and in every chart that shows trials.
       if (pageName === 'report') expect(await page.textContent('table.top tr.winner')).toContain('★');
+      if (pageName === 'report') expect(await page.textContent('table.confusion')).toContain('410 (93%)');
       expect(await page.$(table)).not.toBeNull();
 
       // Nothing is cut off: the page does not scroll sideways and every chart and table fits the window.

@@ -29,3 +29,20 @@ describe('report', () => {
     expect(html).not.toContain('<b>data');
   });
 });
+
+describe('report: per-class section', () => {
+  it('shows the winner\'s per-class figures and confusion matrix, rows shaded by their share, for a classification study', () => {
+    const study = fixture('random-five');
+    for (const trial of study.trials) trial.classFigures = { epoch: trial.epochsTrained, confusion: [[8, 2], [1, 3]], averagePrecision: [0.9, 0.6], threshold: 0.5 };
+    const html = buildReport(study, []);
+    expect(html).toContain('How does it do on each class?');
+    // Worked by hand: class 'yes' (second row) precision 3 / 5, recall 3 / 4, F1 2 x 0.6 x 0.75 / 1.35 = 0.6667.
+    expect(html).toMatch(/<th scope="row">yes<\/th><td class="number">4<\/td><td class="number">0\.6<\/td><td class="number">0\.75<\/td><td class="number">0\.6667<\/td><td class="number">0\.6<\/td>/);
+    expect(html).toContain('>8 (80%)</td>');
+    expect(html).toContain('>3 (75%)</td>');
+  });
+
+  it('is left out when no trial has per-class figures (a study file from before they were kept)', () => {
+    expect(buildReport(fixture('random-five'), [])).not.toContain('How does it do on each class?');
+  });
+});

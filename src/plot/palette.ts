@@ -47,3 +47,14 @@ export const WINNER_MARK = { type: 'point' as const, shape: WINNER_SHAPE, filled
 
 /** The winner's mark in text (tables, legends). */
 export const WINNER_SYMBOL = '★';
+
+/**
+ * A table cell's shade for a share in [0, 1]: white to ink in lightness (so it reads without hue),
+ * with white text on the darker half.
+ */
+export function shareShade(share: number): { background: string; text: string } {
+  const clamped = Math.min(1, Math.max(0, share));
+  const [r, g, b] = [0x1d, 0x21, 0x26].map((ink) => Math.round(255 - (255 - ink) * clamped * 0.85));
+  const hex = (value: number): string => value.toString(16).padStart(2, '0');
+  return { background: `#${hex(r!)}${hex(g!)}${hex(b!)}`, text: clamped > 0.5 ? '#ffffff' : INK };
+}

@@ -4,6 +4,7 @@ import { OPTIMISM_CAUTION } from '../report/caution.js';
 import { goalLabel } from './labels.js';
 import { escapeHtml } from './html.js';
 import { WINNER_SYMBOL } from './palette.js';
+import { CLASS_TABLE_STYLE, classSection } from './class-table.js';
 import { topConfigurations } from './top-table.js';
 import { bestTrial } from './winner.js';
 
@@ -116,7 +117,7 @@ export function htmlPage(title: string, body: string, refreshSeconds?: number): 
 <meta http-equiv="Content-Security-Policy" content="default-src 'none'; style-src 'unsafe-inline'; img-src data:">${refresh}
 <meta name="viewport" content="width=device-width, initial-scale=1">
 <title>${escapeHtml(title)}</title>
-<style>${STYLE}</style>
+<style>${STYLE}${CLASS_TABLE_STYLE}</style>
 </head>
 <body>
 ${body}
@@ -163,6 +164,7 @@ ${summary}
 </table>
 <h2>Which configuration should I ship, and how sure is that?</h2>
 ${top.rows.length > 0 ? `<p>The top of the ranking (more epochs rank first, then the score). ${WINNER_SYMBOL} marks the winner here and in every chart.</p>\n${htmlTable(top.header, top.rows, 'top')}` : ''}
+${classSection(study)}
 ${charts.length > 0 ? questions.join('\n') : '<p>No trial has a score yet, so there is nothing to plot.</p>'}`;
   return htmlPage(`${study.name}: rungwise study report`, body, options.refreshSeconds);
 }
