@@ -14,6 +14,7 @@ const DEMO_FILES = [
   'studies/demo/study-sobol.json',
   'studies/demo/study-tpe.json',
   'studies/demo/study-tpe-hyperband.json',
+  'studies/demo/study-imbalance.json',
 ];
 const TINY_FILES = [
   'studies/tiny/study.json',

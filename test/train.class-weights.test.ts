@@ -15,6 +15,7 @@ import { UserError } from '../src/errors.js';
 import type { SharedDataset } from '../src/pool/messages.js';
 import { stream } from '../src/random/streams.js';
 import { dataSchema } from '../src/study/definition.js';
+import { decodeDataset, encodeDataset } from '../src/transport/redis-dataset.js';
 import { validateStudy } from '../src/study/load.js';
 import { initBackend } from '../src/train/backend.js';
 import { disposeNetwork, forward, lossFromLogits } from '../src/train/network.js';
@@ -98,6 +99,8 @@ describe('class weights given per class', () => {
     b.classWeights!.forEach((weight, c) => expect(weight).toBeCloseTo(b.train.rows / (2 * counts[c]!), 12));
     expect(toSharedDataset(b, 'x').classWeights).toEqual(b.classWeights);
     expect(datasetId(a)).not.toBe(datasetId(b));
+    // A worker on another machine gets them with the data set.
+    expect(decodeDataset(encodeDataset(toSharedDataset(b, 'w')), 'w').classWeights).toEqual(b.classWeights);
   });
 });
 
