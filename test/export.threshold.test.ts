@@ -72,6 +72,12 @@ describe('a study with class weights and a decision threshold rule', () => {
     expect(text).toMatch(/decision threshold: [0-9.]+ \(largest F1\), chosen on the \d+ validation rows/);
     expect(text).toMatch(/optimistic .* --retrain` scores the model once on the held-out test split at this threshold/);
 
+    // --retrain chooses again for the retrained network and counts the test split at that threshold.
+    const retrained = await exportModel({ dir: out, retrain: true, out: path.join(out, 'retrained') });
+    expect(retrained.classes!.test!.threshold).toBe(retrained.threshold!.threshold);
+    expect(retrained.classes!.test!.confusion.flat().reduce((a, b) => a + b, 0)).toBe(doc.data.testRows);
+    expect(exportReport(retrained)).toMatch(/which the retrained model was also trained on\); the test split figures below, at this threshold, are the honest check/);
+
     // predict: a row is the second class exactly when its probability reaches the exported threshold.
     const csv = path.join(path.dirname(definition), 'tiny.csv');
     const predictions = path.join(path.dirname(definition), 'predicted.csv');
@@ -96,5 +102,8 @@ describe('a study with class weights and a decision threshold rule', () => {
     const configuration = await readConfiguration(summary.out);
     expect(configuration.outputs).toMatchObject({ threshold: 0.5, thresholdChoice: { rule: 'none' } });
     expect(exportReport(summary)).toMatch(/decision threshold: 0\.5 \(the default; the study gives no decisionThreshold rule\)/);
+    // Without a rule the validation report is the study's own record of the trial.
+    const { doc, ranking: ranked, file } = await ranking({ dir: out });
+    expect(summary.classes!.validation).toEqual(studyResultJson(doc, ranked, file).trials[0]!.classes);
   });
 });

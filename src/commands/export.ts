@@ -161,32 +161,33 @@ export async function exportModel(options: ExportCommandOptions): Promise<Export
 
 /**
  * Test metrics (with --retrain), the decision threshold (binary, by the study's rule, on the
- * validation split) and the per-class reports of the exported model. Without data the validation
- * report is the one the study recorded for the trial.
+ * validation split) and the per-class reports. The validation report is the exported network's at
+ * the chosen threshold when a rule chose one, else the one the study recorded for the trial (a
+ * retrained network has trained on the validation rows, so its own figures there would flatter it).
  */
 function exportFigures(model: tf.LayersModel, doc: StudyDocument, trial: TrialRecord, data: PreparedData | undefined, rule: DecisionThresholdRule | undefined, retrain: boolean): ExportFigures {
   const { recipe } = doc;
   const figures: ExportFigures = {};
-  if (!data) {
-    const validation = trialClassReport(doc, trial);
-    if (validation) figures.classes = { validation };
-    return figures;
-  }
+  const classes: NonNullable<ExportFigures['classes']> = {};
   const outputsOf = (split: SplitArrays): Float32Array => predictRows(model, split.x, split.rows, recipe.inputCount);
-  const validationOutputs = recipe.task === 'regression' ? undefined : outputsOf(data.validation);
-  if (rule && validationOutputs) figures.threshold = chooseThreshold(rule, data.validation.y, validationOutputs);
-  const threshold = figures.threshold?.threshold ?? DEFAULT_THRESHOLD;
-  const reportOf = (split: SplitArrays, outputs: Float32Array): ClassReport | undefined => {
+  const reportAt = (split: SplitArrays, outputs: Float32Array, threshold: number): ClassReport | undefined => {
     const counted = classFigures(recipe.task, split.y, outputs, outputCount(recipe), trial.epochsTrained, threshold);
     return counted && recipe.classes ? classReport(recipe.task, recipe.classes, counted) : undefined;
   };
-  const classes: NonNullable<ExportFigures['classes']> = {};
-  const validation = validationOutputs && reportOf(data.validation, validationOutputs);
-  if (validation) classes.validation = validation;
-  if (retrain) {
+  if (rule && data) {
+    const outputs = outputsOf(data.validation);
+    figures.threshold = chooseThreshold(rule, data.validation.y, outputs);
+    const validation = reportAt(data.validation, outputs, figures.threshold.threshold);
+    if (validation) classes.validation = validation;
+  } else {
+    const validation = trialClassReport(doc, trial);
+    if (validation) classes.validation = validation;
+  }
+  if (retrain && data) {
+    const threshold = figures.threshold?.threshold ?? DEFAULT_THRESHOLD;
     const testOutputs = outputsOf(data.test);
     figures.test = evaluateExportedModel(model, recipe, data.test, threshold, testOutputs);
-    const test = reportOf(data.test, testOutputs);
+    const test = reportAt(data.test, testOutputs, threshold);
     if (test) classes.test = test;
   }
   if (classes.validation || classes.test) figures.classes = classes;
