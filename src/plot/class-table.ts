@@ -66,7 +66,7 @@ function block(report: ClassReport, rank: number, trialId: number): string {
 export function classSection(study: StudyDocument): string {
   const classes = study.recipe.classes;
   if (!classes) return '';
-  const shown = rankTrials(study.trials, study.objective)
+  const shown = rankTrials(study.trials, study.goal)
     .slice(0, CLASS_REPORT_TRIALS)
     .flatMap(({ rank, trial }) => (trial.classFigures ? [{ rank, trial, report: classReport(study.recipe.task, classes, trial.classFigures) }] : []));
   if (shown.length === 0) return '';
