@@ -73,7 +73,7 @@ describe('results on stdout, progress and messages on stderr', () => {
     const failed = parsed.trials[3]!;
     expect(failed).toMatchObject({ trial: 2, rank: null, ranked: false, status: 'failed' });
     expect(failed.reason).toMatch(/fault/i);
-    expect(parsed.counts).toEqual({ completed: 3, failed: 1 });
+    expect(parsed.counts).toEqual({ trained: 3, failed: 1 });
     expect(result.stderr).toContain('trial 2 failed');
   });
 

@@ -90,7 +90,7 @@ describe('rungwise plot', () => {
     expect(html).toContain('<th scope="row">study</th><td>random-five</td>');
     expect(html).toContain('<th scope="row">sampler</th><td>random (seed 0)</td>');
     expect(html).toContain('<th scope="row">goal</th><td>validation AUC, higher is better</td>');
-    expect(html).toContain('<th scope="row">trials by status</th><td>completed 4, diverged 1</td>');
+    expect(html).toContain('<th scope="row">trials by status</th><td>trained 4, diverged 1</td>');
     expect(html).toContain('<th scope="row">winner</th><td>trial 5: 0.86 after 3 epochs</td>');
     expect(html).toContain('2 hidden layers of 32 units, tanh activation, adam with learning rate 0.003, batch size 32, L2 penalty 0.01, dropout 0.3');
     // Five trials are too few for the importance charts; random search has no rungs.
