@@ -1,6 +1,6 @@
 import { existsSync } from 'node:fs';
 import { MessageChannel } from 'node:worker_threads';
-import { fileURLToPath } from 'node:url';
+import { fileURLToPath, pathToFileURL } from 'node:url';
 import path from 'node:path';
 import { Piscina } from 'piscina';
 import type { EpochReport, TrainRequest, TrainResult } from './messages.js';
@@ -12,16 +12,21 @@ export interface TrialPoolOptions {
   workerFile?: string;
 }
 
-/** The compiled worker entry point, whether this module runs from `dist/` or from source under a test runner. */
-export function defaultWorkerFile(): string {
+/** A compiled file of `dist/workers/`, whether this module runs from `dist/` or from source under a test runner. */
+function compiledWorkersFile(name: string): string {
   const here = path.dirname(fileURLToPath(import.meta.url));
   const candidates = [
-    path.resolve(here, '../../workers/trial-worker.js'), // dist/src/pool -> dist/workers
-    path.resolve(here, '../../dist/workers/trial-worker.js'), // src/pool -> dist/workers
+    path.resolve(here, '../../workers', name), // dist/src/pool -> dist/workers
+    path.resolve(here, '../../dist/workers', name), // src/pool -> dist/workers
   ];
   const found = candidates.find((file) => existsSync(file));
-  if (!found) throw new Error(`worker entry point not found (looked at ${candidates.join(', ')}); run \`npm run build\``);
+  if (!found) throw new Error(`${name} not found (looked at ${candidates.join(', ')}); run \`npm run build\``);
   return found;
+}
+
+/** The compiled worker entry point. */
+export function defaultWorkerFile(): string {
+  return compiledWorkersFile('trial-worker.js');
 }
 
 /** A fixed-size pool of trial workers; each task trains one job and streams its epoch reports. */
@@ -34,8 +39,12 @@ export class TrialPool {
       throw new Error(`options.workers must be a positive integer, got ${options.workers}`);
     }
     this.workers = options.workers;
+    const workerFile = options.workerFile ?? defaultWorkerFile();
     this.piscina = new Piscina({
-      filename: options.workerFile ?? defaultWorkerFile(),
+      // Piscina would require() the ES-module worker first, which can abort Node 20 (see
+      // workers/esm-entry.cts); the CommonJS entry imports it instead.
+      filename: compiledWorkersFile('esm-entry.cjs'),
+      workerData: { entry: pathToFileURL(path.resolve(workerFile)).href },
       minThreads: options.workers,
       maxThreads: options.workers,
       // Every worker is busy or about to be; never queue more than one job per worker.
