@@ -198,10 +198,15 @@ describe('the Redis transport', () => {
     const w = await worker(1);
     const producer = new Queue(queue, { connection: parseRedisUrl(redis.url).options, prefix: KEY_PREFIX });
     closers.push(() => producer.close());
-    const added = await producer.add('train', { protocol: 99, job: job(7, 0, 1) }, { jobId: 'odd', attempts: 1 });
-    const events = new QueueEvents(queue, { connection: parseRedisUrl(redis.url).options, prefix: KEY_PREFIX });
-    closers.push(() => events.close());
-    await expect(added.waitUntilFinished(events)).rejects.toThrow(new RegExp(`^job odd of study queue .* speaks queue protocol 99, this rungwise speaks ${QUEUE_PROTOCOL_VERSION}:`));
+    await producer.add('train', { protocol: 99, job: job(7, 0, 1) }, { jobId: 'odd', attempts: 1 });
+    // The job's state is polled: a QueueEvents subscription can miss a failure that lands while it connects.
+    let state = await producer.getJobState('odd');
+    while (state !== 'failed' && state !== 'completed') {
+      await new Promise((resolve) => setTimeout(resolve, 50));
+      state = await producer.getJobState('odd');
+    }
+    expect(state).toBe('failed');
+    expect((await producer.getJob('odd'))?.failedReason).toMatch(new RegExp(`^job odd of study queue .* speaks queue protocol 99, this rungwise speaks ${QUEUE_PROTOCOL_VERSION}:`));
     expect(w.jobsDone).toBe(0);
   });
 });
