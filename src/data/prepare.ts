@@ -6,6 +6,7 @@ import type { SharedDataset } from '../pool/messages.js';
 import type { DataSettings } from '../study/definition.js';
 import { didYouMean } from '../text/nearest.js';
 import { checkClassWeightLabels, trainingClassWeights } from './class-weights.js';
+import { checkFeatureColumns } from './feature-checks.js';
 import { isMissing } from './csv.js';
 import { ColumnSink, type ColumnTable, type RawColumn } from './columns.js';
 import type { DataEvent, DataLoadOptions } from './events.js';
@@ -26,17 +27,35 @@ export function listColumns(columns: readonly string[]): string {
   return columns.length > 12 ? `${shown} and ${columns.length - 12} more` : shown;
 }
 
-/** The feature columns in use: the listed ones (checked against the header), else every column but the target. */
-function featureNames(settings: DataSettings, columns: readonly string[], csvFile: string, definitionFile: string): string[] {
-  if (settings.features === undefined) return columns.filter((name) => name !== settings.target);
+/** Checks a list of column names of the settings (`data.features` or `data.exclude`) against the header. */
+function checkListed(key: 'features' | 'exclude', names: readonly string[], settings: DataSettings, columns: readonly string[], csvFile: string, definitionFile: string): void {
   const seen = new Set<string>();
-  settings.features.forEach((name, index) => {
-    const field = `data.features[${index}]`;
+  names.forEach((name, index) => {
+    const field = `data.${key}[${index}]`;
     if (!columns.includes(name)) throw studyError(definitionFile, field, `column '${name}' is not in ${csvFile}${didYouMean(name, columns)} (columns: ${listColumns(columns)})`);
-    if (name === settings.target) throw studyError(definitionFile, field, `'${name}' is the target column; a feature cannot also be the target`);
+    if (name === settings.target) {
+      throw studyError(definitionFile, field, key === 'features' ? `'${name}' is the target column; a feature cannot also be the target` : `'${name}' is the target column; the target is never a feature, so it needs no exclusion`);
+    }
     if (seen.has(name)) throw studyError(definitionFile, field, `'${name}' is listed twice`);
     seen.add(name);
   });
+}
+
+/**
+ * The feature columns in use: the listed ones (checked against the header), else every column but the
+ * target and the excluded ones. `features` and `exclude` together are refused: one list says it all.
+ */
+function featureNames(settings: DataSettings, columns: readonly string[], csvFile: string, definitionFile: string): string[] {
+  if (settings.features !== undefined && settings.exclude !== undefined) {
+    throw studyError(definitionFile, 'data.exclude', 'give either data.features (the columns to use) or data.exclude (the columns to leave out), not both');
+  }
+  if (settings.exclude !== undefined) {
+    checkListed('exclude', settings.exclude, settings, columns, csvFile, definitionFile);
+    const excluded = new Set(settings.exclude);
+    return columns.filter((name) => name !== settings.target && !excluded.has(name));
+  }
+  if (settings.features === undefined) return columns.filter((name) => name !== settings.target);
+  checkListed('features', settings.features, settings, columns, csvFile, definitionFile);
   return [...settings.features];
 }
 
@@ -48,7 +67,8 @@ function checkHeader(settings: DataSettings, columns: readonly string[], csvFile
     throw studyError(definitionFile, 'data.target', `column '${target}' is not in ${csvFile} (columns: ${listColumns(columns)})${hint}`);
   }
   if (featureNames(settings, columns, csvFile, definitionFile).length === 0) {
-    throw studyError(definitionFile, 'data.features', `${csvFile} has no column besides the target '${target}'`);
+    const field = settings.exclude === undefined ? 'data.features' : 'data.exclude';
+    throw studyError(definitionFile, field, `${csvFile} has no column besides the target '${target}'${settings.exclude === undefined ? '' : ' that data.exclude leaves in'}`);
   }
 }
 
@@ -170,7 +190,8 @@ async function readFeatures(
  * Reads the study's CSV (path relative to the definition file's folder) as a stream into typed
  * columns, checks it against the settings, splits it and encodes every split with a recipe built
  * from the training split alone. Rows whose target is missing are an error (naming the line), not
- * silently dropped. How odd cells were read comes back as `notes` (also sent as 'note' events), and
+ * silently dropped. How odd cells were read comes back as `notes` (also sent as 'note' events), columns
+ * that look like dates or identifiers (`feature-checks.ts`) as `warnings` ('warning' events), and
  * `csvSha256` is the SHA-256 of the CSV's bytes as they were read.
  * @throws UserError (E_DATA) with one line naming the study field or the CSV line; the signal's reason when aborted.
  */
@@ -178,7 +199,7 @@ export async function prepareData(
   settings: DataSettings,
   definitionFile: string,
   options: DataLoadOptions = {},
-): Promise<{ data: PreparedData; summary: DataSummary; notes: string[]; csvSha256: string }> {
+): Promise<{ data: PreparedData; summary: DataSummary; notes: string[]; warnings: string[]; csvSha256: string }> {
   const started = performance.now();
   const emit = (event: DataEvent): void => options.onDataEvent?.(event);
   const csvFile = displayPath(path.resolve(path.dirname(definitionFile), settings.csv));
@@ -225,6 +246,7 @@ export async function prepareData(
     splitSeed: settings.splitSeed,
     file: csvFile,
   });
+  const warnings = checkFeatureColumns({ settings, features, rows: table.rows, file: csvFile, definitionFile, ...(options.started ? { started: true } : {}) });
   const recipe = buildColumnRecipe({ task: settings.task, target: settings.target, features, targetValues: target, trainingRows: indices.train });
   const splitArrays = async (rows: readonly number[], done: number): Promise<SplitArrays> => {
     emit({ type: 'preparing', file: csvFile, step: 'encoding', done, total: 3 });
@@ -252,8 +274,9 @@ export async function prepareData(
   };
   if (counts !== undefined) summary.classCounts = counts;
   for (const message of notes) emit({ type: 'note', file: csvFile, message });
+  for (const message of warnings) emit({ type: 'warning', file: csvFile, message });
   emit({ type: 'ready', file: csvFile, rows: table.rows, columns: table.columns.length, seconds: (performance.now() - started) / 1000 });
-  return { data, summary, notes, csvSha256: dialect.sha256 ?? '' };
+  return { data, summary, notes, warnings, csvSha256: dialect.sha256 ?? '' };
 }
 
 function shared(values: Float32Array): Float32Array {

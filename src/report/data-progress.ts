@@ -14,7 +14,8 @@ const STEPS: Record<Extract<DataEvent, { type: 'preparing' }>['step'], string> =
 
 /**
  * A data observer that shows reading and preparing: percentage of the file read, the preparation
- * step, and the time it took; every note on how an odd input was read becomes a `note:` line.
+ * step, and the time it took; every note on how an odd input was read becomes a `note:` line, every
+ * warning about a column that should likely not be a feature a `warning:` line.
  * Small files on a non-terminal stream show only the notes, so scripted runs stay quiet.
  */
 export function dataProgressObserver(options: DataProgressOptions): DataObserver {
@@ -65,6 +66,10 @@ export function dataProgressObserver(options: DataProgressOptions): DataObserver
       case 'note':
         endLive();
         stream.write(`note: ${event.message}\n`);
+        break;
+      case 'warning':
+        endLive();
+        stream.write(`warning: ${event.message}\n`);
         break;
       case 'ready':
         endLive();

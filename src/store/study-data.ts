@@ -29,6 +29,7 @@ export interface StudyDataOptions extends DataLoadOptions {
 export async function studyData(doc: StudyDocument, studyFile: string, options: StudyDataOptions): Promise<PreparedData> {
   const csv = studyCsvPath(doc);
   const { data, csvSha256 } = await prepareData(doc.definition.data, doc.definitionFile, {
+    started: true,
     ...(options.signal ? { signal: options.signal } : {}),
     ...(options.onDataEvent ? { onDataEvent: options.onDataEvent } : {}),
   });

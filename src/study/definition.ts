@@ -51,7 +51,22 @@ export const dataSchema = z.strictObject({
   csv: z.string().min(1).describe('Path of the CSV file, relative to the study definition file.'),
   target: z.string().min(1).describe('Name of the column to predict.'),
   task: z.enum(TASKS).describe('binary, multiclass or regression.'),
-  features: z.array(z.string().min(1)).min(1).optional().describe('Columns to use as inputs; default: every column but the target.'),
+  features: z
+    .array(z.string().min(1))
+    .min(1)
+    .optional()
+    .describe('Columns to use as inputs; default: every column but the target and those in exclude. A listed column is used even past maxDistinctShare (with a warning). Not together with exclude.'),
+  exclude: z
+    .array(z.string().min(1))
+    .min(1)
+    .optional()
+    .describe('Columns never used as inputs (identifiers, dates, free text); each must be in the CSV and not be the target. Not together with features.'),
+  maxDistinctShare: z
+    .number()
+    .gt(0)
+    .max(1)
+    .optional()
+    .describe('A text (categorical) feature with more distinct values than this share of the rows is refused unless features lists it; default 0.5.'),
   validationFraction: z.number().gt(0).lt(1).default(0.2).describe('Share of rows used to score trials.'),
   testFraction: z.number().min(0).lt(1).default(0.15).describe('Share of rows held back untouched for the final check.'),
   splitSeed: seed.default(0).describe('Seed of the train/validation/test split.'),
