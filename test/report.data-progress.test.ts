@@ -54,4 +54,16 @@ describe('the data progress display', () => {
     expect(text).toContain("\r\u001b[2Knote: big.csv: read with ';' as the delimiter\n");
     expect(text.endsWith('data ready: 200,000 rows x 30 columns of big.csv in 4.3 s\n')).toBe(true);
   });
+
+  it('writes a warning about a column as a warning: line, on a terminal after clearing the live line', () => {
+    const warning: DataEvent = { type: 'warning', file: 'big.csv', message: "big.csv: column 'visit_date' looks like a date" };
+    const plain = capture(false);
+    dataProgressObserver({ stream: plain.stream })(warning);
+    expect(plain.text()).toBe("warning: big.csv: column 'visit_date' looks like a date\n");
+    const terminal = capture(true);
+    const observe = dataProgressObserver({ stream: terminal.stream, redrawMilliseconds: 0 });
+    observe({ type: 'preparing', file: 'big.csv', step: 'typing', done: 0, total: 3 });
+    observe(warning);
+    expect(terminal.text()).toContain("\r\u001b[2Kwarning: big.csv: column 'visit_date' looks like a date\n");
+  });
 });

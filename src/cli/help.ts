@@ -39,6 +39,7 @@ export const COMMAND_EXAMPLES: Record<string, string> = {
   predict: examples([
     ['rungwise predict runs/demo/export/rank-1 new.csv', 'writes new.predictions.csv beside the input'],
     ['rungwise predict runs/demo/export/rank-1 new.csv --keep pump_id --output -', 'CSV to stdout with the id column'],
+    ['rungwise predict runs/demo/export/rank-1 new.csv --strict', 'refuse unseen or blank categories and missing numbers (warnings without it)'],
   ]),
   demo: examples([
     ['rungwise demo', 'run the shipped demo study into runs/demo (replacing an earlier demo run)'],

@@ -1,6 +1,7 @@
 import { UserError } from '../errors.js';
 import type { Task } from '../study/definition.js';
 import { isMissing, parseNumber } from './csv.js';
+import { countInputIssues, type InputIssue } from './input-checks.js';
 import { decimalCommaNumber, isNotFinite } from './typing.js';
 import type { FeatureRecipe, PreprocessingRecipe } from './types.js';
 import type { FeatureValues } from './values.js';
@@ -199,6 +200,19 @@ export function buildRecipe(options: RecipeOptions): PreprocessingRecipe {
  * @throws UserError (E_DATA) when a recipe column is absent or a numeric cell holds text.
  */
 export function encodeFeatures(recipe: PreprocessingRecipe, rows: readonly Record<string, string>[], file: string, lines?: readonly number[]): Float32Array {
+  return encodeFeaturesChecked(recipe, rows, file, lines).x;
+}
+
+/**
+ * {@link encodeFeatures}, with the cells it filled in or could not place counted per column
+ * (`input-checks.ts`: unseen and blank categories, missing numbers).
+ */
+export function encodeFeaturesChecked(
+  recipe: PreprocessingRecipe,
+  rows: readonly Record<string, string>[],
+  file: string,
+  lines?: readonly number[],
+): { x: Float32Array; issues: InputIssue[] } {
   const first = rows[0];
   if (first !== undefined) {
     const absent = recipe.features.filter((f) => !Object.hasOwn(first, f.name)).map((f) => f.name);
@@ -214,7 +228,8 @@ export function encodeFeatures(recipe: PreprocessingRecipe, rows: readonly Recor
       throw new UserError('E_DATA', `${file}: line ${lineOf(lines, r)}: column '${feature.name}' holds '${value}', expected a number or a missing value`);
     }),
   );
-  return encodeColumns(recipe, features, allRows(rows.length));
+  const cells = recipe.features.map((feature) => rows.map((row) => row[feature.name] ?? ''));
+  return { x: encodeColumns(recipe, features, allRows(rows.length)), issues: countInputIssues(recipe, features, cells, lines) };
 }
 
 /**

@@ -6,7 +6,8 @@
 import type * as tf from '@tensorflow/tfjs';
 import path from 'node:path';
 import { existsSync } from 'node:fs';
-import { encodeFeatures } from '../data/recipe.js';
+import { strictInputError, type InputIssue } from '../data/input-checks.js';
+import { encodeFeaturesChecked } from '../data/recipe.js';
 import { UserError } from '../errors.js';
 import { argmaxRows } from '../train/metrics.js';
 import { initBackend } from '../train/backend.js';
@@ -75,8 +76,13 @@ function asCell(value: InputRow[string]): string {
 
 /** Encodes rows with the export's recipe: row-major `rows x inputCount` network inputs. */
 export function encodeRows(configuration: ExportConfiguration, rows: readonly InputRow[], source = 'rows', lines?: readonly number[]): Float32Array {
+  return encodeRowsChecked(configuration, rows, source, lines).x;
+}
+
+/** {@link encodeRows}, with the unseen and blank categories and missing numbers counted per column. */
+export function encodeRowsChecked(configuration: ExportConfiguration, rows: readonly InputRow[], source = 'rows', lines?: readonly number[]): { x: Float32Array; issues: InputIssue[] } {
   const cells = rows.map((row) => Object.fromEntries(Object.entries(row).map(([column, value]) => [column, asCell(value)])));
-  return encodeFeatures(configuration.recipe, cells, source, lines);
+  return encodeFeaturesChecked(configuration.recipe, cells, source, lines);
 }
 
 /** Turns the network's row-major outputs into answers (probabilities to classes with the threshold). */
@@ -98,16 +104,41 @@ export function interpretOutputs(configuration: ExportConfiguration, outputs: Fl
   }));
 }
 
+export interface PredictOptions {
+  /** Refuse (throw) when a row holds a category the training split never held, a blank category or a missing number. @default false */
+  strict?: boolean;
+}
+
+/** Predictions with what was filled in or could not be placed, per column (see {@link InputIssue}). */
+export interface CheckedPredictions {
+  predictions: Prediction[];
+  /** One entry per column and kind (unseen category, blank category, missing number), with its count and first row. */
+  inputIssues: InputIssue[];
+}
+
 /**
  * Predicts rows given as objects keyed by column name (other keys, the target included, are ignored).
- * @throws UserError when a feature column is absent from the first row or a numeric one holds text.
+ * @throws UserError when a feature column is absent from the first row or a numeric one holds text;
+ * with `strict`, when any row holds an unseen or blank category or a missing number (E_PREDICT_STRICT).
  * @example
  * const predictions = predict(model, [{ speed_rpm: 2400, site_type: 'canal' }]);
  * // classification: [{ predicted: 'yes', probabilities: { no: 0.18, yes: 0.82 } }]
  * // regression:     [{ predicted: 41.7 }]
  */
-export function predict(model: LoadedModel, rows: readonly InputRow[]): Prediction[] {
-  const x = encodeRows(model.configuration, rows);
+export function predict(model: LoadedModel, rows: readonly InputRow[], options: PredictOptions = {}): Prediction[] {
+  return predictWithChecks(model, rows, options).predictions;
+}
+
+/**
+ * {@link predict}, returning also the unseen and blank categories and missing numbers it met, per
+ * column with a count and the first row (the `predict` command warns with them).
+ * @example
+ * const { predictions, inputIssues } = predictWithChecks(model, rows);
+ * for (const issue of inputIssues) console.warn(issue.column, issue.kind, issue.count);
+ */
+export function predictWithChecks(model: LoadedModel, rows: readonly InputRow[], options: PredictOptions = {}): CheckedPredictions {
+  const { x, issues } = encodeRowsChecked(model.configuration, rows);
+  if (options.strict && issues.length > 0) throw strictInputError(issues, 'rows', 'strict');
   const outputs = predictRows(model.network, x, rows.length, model.configuration.recipe.inputCount);
-  return interpretOutputs(model.configuration, outputs, rows.length);
+  return { predictions: interpretOutputs(model.configuration, outputs, rows.length), inputIssues: issues };
 }
