@@ -27,12 +27,16 @@ export { ranking, type RankingCommandOptions, type RankingResult } from './comma
 export { resume, type ResumeCommandOptions } from './commands/resume.js';
 export { plot, type PlotOptions } from './commands/plot.js';
 export { exportModel, exportReport, type ExportCommandOptions, type ExportFormat, type ExportSummary } from './commands/export.js';
-export { predictCsv, predictReport, type PredictCommandOptions, type PredictSummary } from './commands/predict.js';
+export { predictCsv, predictReport, predictWarnings, type PredictCommandOptions, type PredictSummary } from './commands/predict.js';
+export type { InputIssue, InputIssueKind } from './data/input-checks.js';
 export { runDemo, copyDemo, type DemoOptions } from './commands/demo.js';
 export {
   loadModel,
   predict,
+  predictWithChecks,
   decisionThreshold,
+  type PredictOptions,
+  type CheckedPredictions,
   type LoadedModel,
   type InputRow,
   type Prediction,

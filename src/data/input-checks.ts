@@ -87,13 +87,14 @@ const shown = (value: string | number | undefined): string => (typeof value === 
 export function inputIssueWarning(issue: InputIssue, source: string): string {
   const where = `${source}: column '${issue.column}'`;
   const first = `${cell(issue.example)} on ${place(issue)}`;
+  const one = issue.count === 1;
   switch (issue.kind) {
     case 'unseen-category':
-      return `${where}: ${rows(issue.count)} hold a category the training split never held (first ${first}); encoded as no category`;
+      return `${where}: ${rows(issue.count)} ${one ? 'holds' : 'hold'} a category the training split never held (first ${first}); encoded as no category`;
     case 'blank-category':
-      return `${where}: ${rows(issue.count)} have no category (first ${first}); filled with the training's most frequent category ${shown(issue.filledWith)}`;
+      return `${where}: ${rows(issue.count)} ${one ? 'has' : 'have'} no category (first ${first}); filled with the training's most frequent category ${shown(issue.filledWith)}`;
     case 'missing-number':
-      return `${where}: ${rows(issue.count)} have no number (first ${first}); filled with the training mean ${shown(issue.filledWith)}`;
+      return `${where}: ${rows(issue.count)} ${one ? 'has' : 'have'} no number (first ${first}); filled with the training mean ${shown(issue.filledWith)}`;
   }
 }
 
