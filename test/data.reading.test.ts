@@ -71,7 +71,8 @@ describe('numeric columns with a few odd cells stay numeric; the odd cells are r
   });
 
   it('text in more of the values: categorical, every value a category as written, and said so', async () => {
-    const settings = await withCsv('codes.csv', csv(20, (row) => (row % 4 === 0 ? `A${row}` : row === 1 ? '01' : undefined)));
+    // Every one of the 20 values differs: maxDistinctShare 1 lets the column through the distinct-value limit (data.feature-checks.test.ts).
+    const settings = await withCsv('codes.csv', csv(20, (row) => (row % 4 === 0 ? `A${row}` : row === 1 ? '01' : undefined)), { maxDistinctShare: 1 });
     const { data, notes } = await prepareData(settings, studyFile);
     const feature = data.recipe.features[0]!;
     expect(feature.kind).toBe('categorical');
