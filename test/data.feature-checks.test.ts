@@ -127,10 +127,10 @@ describe('data.exclude', () => {
 describe('columns that look like dates', () => {
   it('recognises ISO dates, slashed and dotted dates and month names, and nothing else', () => {
     // Common practice (no source): the spellings spreadsheets and loggers write.
-    for (const text of ['2024-03-01', '2024-03-01T08:15:00Z', '2024-03-01 08:15', '2024/3/1', '01/03/2024', '12-31-2024', '31.12.2024', '1 Mar 2024', 'March 1, 2024', 'Sep 30 2024']) {
+    for (const text of ['2024-03-01', '2024-03-01T08:15:00Z', '2024-03-01 08:15', '2024/3/1', '01/03/2024', '12-31-2024', '31.12.2024', '1 Mar 2024', '1-Mar-2024', 'March 1, 2024', 'Sep 30 2024']) {
       expect(isDateSpelling(text), text).toBe(true);
     }
-    for (const text of ['2024-13-01', '2024-02-32', '13/13/2024', 'north', '2024', '1.5', 'remark 3', '12:30', 'May']) {
+    for (const text of ['2024-13-01', '2024-02-32', '13/13/2024', 'north', '2024', '1.5', 'remark 3', '12:30', 'May', '1 Mar#2024']) {
       expect(isDateSpelling(text), text).toBe(false);
     }
   });

@@ -2,8 +2,8 @@
  * Columns that should not be features, checked once the columns are typed and before any trial
  * trains (README, "Columns that should not be features"):
  * - a categorical column with more distinct values than `data.maxDistinctShare` x rows (and than
- *   {@link MIN_DISTINCT_LIMIT}) is refused,
- *   unless `data.features` lists it (then it is used, with a warning);
+ *   {@link MIN_DISTINCT_LIMIT}) is refused, unless `data.features` lists it (then it is used, with a
+ *   warning);
  * - a column that looks like a date or an identifier is named in a warning.
  */
 import { UserError } from '../errors.js';
@@ -24,7 +24,7 @@ const DATE_PATTERNS: readonly RegExp[] = [
   new RegExp(`^(\\d{4})-(\\d{2})-(\\d{2})${TIME}$`, 'i'),
   new RegExp(`^(\\d{4})/(\\d{1,2})/(\\d{1,2})${TIME}$`, 'i'),
   new RegExp(`^(\\d{1,2})[/.-](\\d{1,2})[/.-](\\d{4})${TIME}$`, 'i'),
-  new RegExp(`^\\d{1,2}[ -]${MONTH}[ -,]*\\d{4}${TIME}$`, 'i'),
+  new RegExp(`^\\d{1,2}[ -]${MONTH}[ ,-]*\\d{4}${TIME}$`, 'i'),
   new RegExp(`^${MONTH} \\d{1,2},? \\d{4}${TIME}$`, 'i'),
 ];
 
