@@ -224,5 +224,10 @@ describe('rungwise run', () => {
     const started = lines.findIndex((line) => line.startsWith('running study columns'));
     expect(warning).toBeGreaterThanOrEqual(0);
     expect(started).toBeGreaterThan(warning);
+
+    // --quiet leaves out progress and notes, not warnings.
+    const quiet = await runCli(['run', file, '--out', path.join(folder, 'run-quiet'), '--quiet']);
+    expect(quiet.code).toBe(0);
+    expect(quiet.stderr.trim().split('\n')).toEqual([expect.stringMatching(/^warning: .*column 'visit_date' looks like a date/)]);
   });
 });

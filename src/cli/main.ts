@@ -157,7 +157,7 @@ export function buildProgram(
       const target = io();
       const { run } = await import('../commands/run.js');
       const { json: _json, top: _top, ...options } = flags;
-      const outcome = await untilInterrupted(target, (signal) => run({ definition, ...options, ...inject, progress: target.err, signal }));
+      const outcome = await untilInterrupted(target, (signal) => run({ definition, ...options, ...inject, progress: target.err, onDataWarning: target.warn, signal }));
       if (outcome) await finishStudy(target, outcome, flags);
     });
 
@@ -181,6 +181,7 @@ export function buildProgram(
           ...(flags.allowChangedData ? { allowChangedData: true } : {}),
           ...queueFlags(flags),
           progress: target.err,
+          onDataWarning: target.warn,
           signal,
         }),
       );

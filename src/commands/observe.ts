@@ -1,4 +1,6 @@
+import type { DataObserver } from '../data/events.js';
 import { plannedWork } from '../report/budget.js';
+import { dataProgressObserver } from '../report/data-progress.js';
 import { progressObserver } from '../report/progress.js';
 import { painterFor } from '../report/style.js';
 import type { StudyObserver } from '../runner/events.js';
@@ -10,6 +12,21 @@ export interface ProgressTarget {
   progress?: NodeJS.WritableStream | false;
   /** Called with every event as well (a library user's own observer). */
   onEvent?: StudyObserver;
+  /**
+   * Where the data warnings (columns that should likely not be features) go when there is no
+   * progress display: the CLI passes its `warning:` writer, so `--quiet` still shows them.
+   */
+  onDataWarning?: (message: string) => void;
+}
+
+/** The data observer a study command hands `prepareData`: the data progress display, or only the warnings. */
+export function dataObserver(target: ProgressTarget): DataObserver | undefined {
+  if (target.progress) return dataProgressObserver({ stream: target.progress });
+  const warn = target.onDataWarning;
+  if (!warn) return undefined;
+  return (event) => {
+    if (event.type === 'warning') warn(event.message);
+  };
 }
 
 /** The observer a study command hands the runner: the progress display, then the caller's own. */

@@ -1,9 +1,8 @@
 import type { FaultInjector } from '../transport/threads.js';
 import path from 'node:path';
-import { dataProgressObserver } from '../report/data-progress.js';
 import { resumeStudy, type ResumeOutcome } from '../runner/resume-study.js';
 import { StudyStore } from '../store/study-store.js';
-import { studyObserver, type ProgressTarget } from './observe.js';
+import { dataObserver, studyObserver, type ProgressTarget } from './observe.js';
 import { queueRun, settleQueued, type QueueFlags } from './queue.js';
 
 export interface ResumeCommandOptions extends ProgressTarget, QueueFlags {
@@ -27,6 +26,7 @@ export interface ResumeCommandOptions extends ProgressTarget, QueueFlags {
 export async function resume(options: ResumeCommandOptions): Promise<ResumeOutcome> {
   const saved = await StudyStore.read(options.dir);
   const onEvent = studyObserver(options, saved.definition, saved.goal);
+  const onDataEvent = dataObserver(options);
   const dir = path.resolve(options.dir);
   const queue = queueRun(options, { name: saved.name, dir, fresh: false }, options.stderr ?? process.stderr, options.signal);
   return settleQueued(queue, dir, resumeStudy(options.dir, {
@@ -36,6 +36,6 @@ export async function resume(options: ResumeCommandOptions): Promise<ResumeOutco
     ...(options.allowChangedData ? { allowChangedData: true } : {}),
     ...(onEvent ? { onEvent } : {}),
     ...(options.faults ? { faults: options.faults } : {}),
-    ...(options.progress ? { onDataEvent: dataProgressObserver({ stream: options.progress }) } : {}),
+    ...(onDataEvent ? { onDataEvent } : {}),
   }));
 }

@@ -1,10 +1,9 @@
 import type { FaultInjector } from '../transport/threads.js';
 import path from 'node:path';
-import { dataProgressObserver } from '../report/data-progress.js';
 import { runStudy, type StudyOutcome } from '../runner/run-study.js';
 import { resolveGoal, type StudyDefinitionInput } from '../study/definition.js';
 import { loadStudy, studyFromObject } from '../study/load.js';
-import { studyObserver, type ProgressTarget } from './observe.js';
+import { dataObserver, studyObserver, type ProgressTarget } from './observe.js';
 import { queueRun, settleQueued, type QueueFlags } from './queue.js';
 
 export interface RunCommandOptions extends ProgressTarget, QueueFlags {
@@ -47,6 +46,7 @@ export async function run(options: RunCommandOptions): Promise<StudyOutcome> {
       : studyFromObject(options.definition, path.resolve(options.baseDir ?? '.'));
   const goal = resolveGoal(study.definition);
   const onEvent = studyObserver(options, study.definition, goal);
+  const onDataEvent = dataObserver(options);
   const dir = path.resolve(options.out ?? path.join('runs', study.definition.name));
   const queue = queueRun(options, { name: study.definition.name, dir, fresh: true }, options.stderr ?? process.stderr, options.signal);
   return settleQueued(queue, dir, runStudy(study, {
@@ -57,6 +57,6 @@ export async function run(options: RunCommandOptions): Promise<StudyOutcome> {
     ...(queue.transport ? { transport: queue.transport } : {}),
     ...(onEvent ? { onEvent } : {}),
     ...(options.faults ? { faults: options.faults } : {}),
-    ...(options.progress ? { onDataEvent: dataProgressObserver({ stream: options.progress }) } : {}),
+    ...(onDataEvent ? { onDataEvent } : {}),
   }));
 }
