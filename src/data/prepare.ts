@@ -190,10 +190,12 @@ async function readFeatures(
  * Reads the study's CSV (path relative to the definition file's folder) as a stream into typed
  * columns, checks it against the settings, splits it and encodes every split with a recipe built
  * from the training split alone. Rows whose target is missing are an error (naming the line), not
- * silently dropped. How odd cells were read comes back as `notes` (also sent as 'note' events), columns
- * that look like dates or identifiers (`feature-checks.ts`) as `warnings` ('warning' events), and
+ * silently dropped. How odd cells were read comes back as `notes` (also sent as 'note' events), feature
+ * columns that look like dates or identifiers or pass the distinct-value limit by being listed
+ * (`feature-checks.ts`) as `warnings` ('warning' events), and
  * `csvSha256` is the SHA-256 of the CSV's bytes as they were read.
- * @throws UserError (E_DATA) with one line naming the study field or the CSV line; the signal's reason when aborted.
+ * @throws UserError (E_DATA) with one line naming the study field or the CSV line (or a text column
+ * with more distinct values than `data.maxDistinctShare` allows); the signal's reason when aborted.
  */
 export async function prepareData(
   settings: DataSettings,
