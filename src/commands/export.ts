@@ -1,5 +1,5 @@
 import { existsSync } from 'node:fs';
-import { writeFile } from 'node:fs/promises';
+import { copyFile, writeFile } from 'node:fs/promises';
 import path from 'node:path';
 import type { PreparedData, SplitArrays } from '../data/types.js';
 import { UserError } from '../errors.js';
@@ -17,7 +17,7 @@ import { ONNX_FILE } from '../export/onnx-schema.js';
 import { retrainTrial } from '../export/retrain.js';
 import { keptCheckpointWeights, trialAtRank } from '../export/select.js';
 import { formatNumber, textTable } from '../report/format.js';
-import { runPaths } from '../store/run-dir.js';
+import { SPLIT_RECORD_NAME, runPaths } from '../store/run-dir.js';
 import { studyData } from '../store/study-data.js';
 import { StudyStore, studyFilePath } from '../store/study-store.js';
 import type { StudyDocument, TrialRecord } from '../store/types.js';
@@ -114,6 +114,8 @@ export async function exportModel(options: ExportCommandOptions): Promise<Export
   const data = retrain || rule ? await exportData(doc, studyFile, options.allowChangedData ?? false, retrain) : undefined;
   const out = path.resolve(options.out ?? runPaths.exportDir(runDir, rank));
   const format = options.format ?? 'tfjs';
+  // The rows of each split travel with the model, so the winner can be re-scored elsewhere (absent for studies from before the record).
+  const splitRecord = existsSync(runPaths.splitRecord(runDir)) ? runPaths.splitRecord(runDir) : undefined;
 
   let figures: ExportFigures = {};
   await writeFolderAtomically(
@@ -133,6 +135,7 @@ export async function exportModel(options: ExportCommandOptions): Promise<Export
           await writeOnnxModel(model, configuration, partial, packageVersion());
         }
         await writeFile(path.join(partial, CONFIGURATION_FILE), `${JSON.stringify(configuration, null, 2)}\n`);
+        if (splitRecord) await copyFile(splitRecord, path.join(partial, SPLIT_RECORD_NAME));
       } finally {
         model.dispose();
       }
@@ -150,7 +153,7 @@ export async function exportModel(options: ExportCommandOptions): Promise<Export
     validation: lastEpochFigures(trial).metrics,
     retrained: retrain,
     format,
-    files: [CONFIGURATION_FILE, MODEL_FILE, WEIGHTS_FILE, ...(format === 'onnx' ? [ONNX_FILE] : [])],
+    files: [CONFIGURATION_FILE, MODEL_FILE, WEIGHTS_FILE, ...(format === 'onnx' ? [ONNX_FILE] : []), ...(splitRecord ? [SPLIT_RECORD_NAME] : [])],
     caution: OPTIMISM_CAUTION,
   };
   if (figures.test) summary.test = figures.test;

@@ -236,6 +236,7 @@ export async function prepareData(
     train: await splitArrays(indices.train, 0),
     validation: await splitArrays(indices.validation, 1),
     test: await splitArrays(indices.test, 2),
+    rowIndices: indices,
   };
   const weights = recipe.classes && settings.classWeights ? trainingClassWeights(settings.classWeights, recipe.classes, data.train.y) : undefined;
   if (weights) data.classWeights = weights;
