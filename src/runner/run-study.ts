@@ -29,6 +29,7 @@ export async function runStudy(study: string | LoadedStudy, options: RunOptions 
   const { definition, file, notes } = typeof study === 'string' ? await loadStudy(study) : study;
   for (const message of notes ?? []) options.onEvent?.({ type: 'note', message });
   const { data, summary, csvSha256 } = await prepareData(definition.data, file, {
+    foldSeed: definition.sampler.seed,
     ...(options.signal ? { signal: options.signal } : {}),
     ...(options.onDataEvent ? { onDataEvent: options.onDataEvent } : {}),
   });

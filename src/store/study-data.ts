@@ -29,6 +29,7 @@ export interface StudyDataOptions extends DataLoadOptions {
 export async function studyData(doc: StudyDocument, studyFile: string, options: StudyDataOptions): Promise<PreparedData & { csvSha256: string }> {
   const csv = studyCsvPath(doc);
   const { data, csvSha256 } = await prepareData(doc.definition.data, doc.definitionFile, {
+    foldSeed: doc.definition.sampler.seed,
     ...(options.signal ? { signal: options.signal } : {}),
     ...(options.onDataEvent ? { onDataEvent: options.onDataEvent } : {}),
   });
