@@ -24,7 +24,9 @@ import type { TrialRecord } from '../src/store/types.js';
 import { FoldsTransport, combinedClassFigures, meanAndStandardError, meanReport } from '../src/transport/folds.js';
 import type { TrialTransport } from '../src/transport/transport.js';
 import type { EpochReport, SharedDataset, TrainJob, TrainResult } from '../src/transport/types.js';
+import { runCli } from './helpers/cli.js';
 import { PENGUINS_MEASUREMENTS, PENGUINS_TARGET, writeIrisCsv, writePenguinsCsv } from './helpers/datasets.js';
+import { tinyStudy, writeTinyStudy } from './helpers/studies.js';
 
 let root: string;
 
@@ -332,6 +334,37 @@ describe('a study with folds', () => {
     const configuration = JSON.parse(await readFile(path.join(summary.out, 'configuration.json'), 'utf8')) as { trainedOn: string; epochsTrained: number };
     expect(configuration.trainedOn).toBe('training and validation splits');
     expect(configuration.epochsTrained).toBe(9);
+  }, 120_000);
+});
+
+describe('folds from the command line', () => {
+  it('run prints the ranking with mean ± standard error, ranking --json carries it, export says it retrained on every fold, resume refuses a changed record with exit code 2', async () => {
+    const base = tinyStudy();
+    const file = await writeTinyStudy(tinyStudy({ name: 'tiny-folds', data: { ...base.data, folds: 4 }, budget: { trials: 3, maxEpochs: 2 } }));
+    const dir = path.join(path.dirname(file), 'run');
+    const run = await runCli(['run', file, '--out', dir]);
+    expect(run.code).toBe(0);
+    expect(run.stdout).toContain('auc (fold mean ± SE)');
+    expect(run.stdout).toMatch(/ \d\.\d+ ± \d\.\d+ /);
+    const ranking = await runCli(['ranking', dir, '--json']);
+    const json = JSON.parse(ranking.stdout) as { trials: { scoreStandardError?: number }[] };
+    expect(json.trials.every((t) => typeof t.scoreStandardError === 'number')).toBe(true);
+    const exported = await runCli(['export', dir]);
+    expect(exported.code).toBe(0);
+    expect(exported.stdout).toMatch(/retrained on training and validation rows/);
+    expect(exported.stdout).toMatch(/scored each trial on 4 folds/);
+    expect(exported.stdout).toContain('validation (study, mean of 4 folds)');
+    // A finished study is not run again; an unfinished one checks its record first.
+    const doc = JSON.parse(await readFile(studyFilePath(dir), 'utf8')) as { state: string };
+    doc.state = 'interrupted';
+    await writeFile(studyFilePath(dir), JSON.stringify(doc));
+    const record = JSON.parse(await readFile(runPaths.splitRecord(dir), 'utf8')) as SplitRecord;
+    record.folds!.k = 3;
+    await writeFile(runPaths.splitRecord(dir), JSON.stringify(record));
+    const resumed = await runCli(['resume', dir]);
+    expect(resumed.code).toBe(2);
+    expect(resumed.stderr.trim().split('\n')).toHaveLength(1);
+    expect(resumed.stderr).toMatch(/splits\.json: .*folds\.k is 3 there, 4 now/);
   }, 120_000);
 });
 
