@@ -225,7 +225,8 @@ export function exportReport(summary: ExportSummary): string {
   lines.push(...thresholdLines(summary));
   if (summary.classes?.validation) lines.push(classReportText(summary.classes.validation).replace(/^validation rows/, 'validation split'), '');
   if (summary.classes?.test) lines.push(classReportText(summary.classes.test).replace(/^validation rows/, 'test split (retrained model)'), '');
-  if (!summary.test) lines.push(`No test metrics: \`rungwise export ${summary.dir} --rank ${summary.rank} --retrain\` scores the configuration on the held-out test split.`);
+  if (!summary.test && summary.retrained) lines.push('No test metrics: the study holds no test split (data.testFraction is 0).');
+  else if (!summary.test) lines.push(`No test metrics: \`rungwise export ${summary.dir} --rank ${summary.rank} --retrain\` scores the configuration on the held-out test split.`);
   lines.push(summary.caution);
   return lines.join('\n');
 }
