@@ -87,6 +87,7 @@ export class FoldsTransport implements TrialTransport {
   }
 
   async run(job: TrainJob, onEpoch: (report: EpochReport) => void, signal: AbortSignal): Promise<TrainResult> {
+    if (signal.aborted) throw new Error(`trial ${job.trialId}: stopped`);
     const k = this.folds.length;
     const parts = job.checkpoint ? decodeFoldBundle(job.checkpoint, k) : undefined;
     const byEpoch = this.folds.map(() => new Map<number, EpochReport>());
