@@ -210,6 +210,24 @@ describe('the folds transport', () => {
     expect(decodeFoldBundle(result!.checkpoint!, 3).map((part) => new TextDecoder().decode(part))).toEqual(['fold0@3', 'fold1@3', 'fold2@3']);
   });
 
+  it('an abort while folds wait for a slot rejects the job, and the waiting fold never starts', async () => {
+    const inner = new FoldEcho();
+    const started: string[] = [];
+    const run = inner.run.bind(inner);
+    inner.run = (foldJob, onEpoch) => {
+      started.push(foldJob.datasetId);
+      return run(foldJob, onEpoch);
+    };
+    const transport = new FoldsTransport(inner, folds);
+    const abort = new AbortController();
+    const running = transport.run(job(0, 3), () => undefined, abort.signal);
+    await new Promise((resolve) => setTimeout(resolve, 1));
+    abort.abort();
+    await expect(running).rejects.toThrow();
+    expect(started).toEqual(['fold0', 'fold1']);
+    expect(inner.running).toBe(0);
+  });
+
   it('continues each fold from its own checkpoint in the bundle', async () => {
     const transport = new FoldsTransport(new FoldEcho(), folds);
     const first = await transport.run(job(0, 2), () => undefined, new AbortController().signal);
