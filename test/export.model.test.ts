@@ -127,7 +127,7 @@ describe('rungwise export of a kept checkpoint', () => {
 
   it('writes model.json, weights.bin and configuration.json into <dir>/export/rank-1', async () => {
     expect(summary.out).toBe(path.join(runs.multiclass!, 'export', 'rank-1'));
-    expect((await readdir(summary.out)).sort()).toEqual(['configuration.json', 'model.json', 'weights.bin']);
+    expect((await readdir(summary.out)).sort()).toEqual(['configuration.json', 'model.json', 'splits.json', 'weights.bin']);
     expect(summary.caution).toBe(OPTIMISM_CAUTION);
     expect(summary.test).toBeUndefined();
   });

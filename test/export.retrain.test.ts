@@ -82,7 +82,7 @@ describe('rungwise export --retrain', () => {
     expect(configuration.validation.metrics).toEqual(summary.validation);
     expect(configuration.test).toEqual(summary.test);
     expect(configuration.caution).toBe(OPTIMISM_CAUTION);
-    expect((await readdir(summary.out)).sort()).toEqual(['configuration.json', 'model.json', 'weights.bin']);
+    expect((await readdir(summary.out)).sort()).toEqual(['configuration.json', 'model.json', 'splits.json', 'weights.bin']);
   });
 
   it('exports the retrained model itself: its predictions on the test rows give the reported test metrics', async () => {

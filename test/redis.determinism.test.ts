@@ -53,4 +53,25 @@ describe('the same study on local threads and on remote workers', () => {
     expect([...places(mixedRun.doc)].some((p) => p?.includes('/'))).toBe(true);
     expect([...places(remoteRun.doc)].every((p) => p?.includes('/'))).toBe(true);
   });
+
+  it('successive halving with 3 folds: the k fold data sets are published and the trials are the local ones', async () => {
+    const base = tinyStudy();
+    const definition = tinyStudy({
+      name: 'same-folds',
+      data: { ...base.data, folds: 3 },
+      budget: { trials: 9, maxEpochs: 3 },
+      sampler: { kind: 'successive-halving', eta: 3, minEpochs: 1, seed: 24 },
+      workers: 2,
+    });
+    const file = await writeTinyStudy(definition);
+    const local = path.join(path.dirname(file), 'local');
+    await runStudy(file, { out: local, workers: 2 });
+    const remote = path.join(path.dirname(file), 'remote');
+    const remoteRun = await runStudy(file, { out: remote, transport: queuedStudy({ url: threeWorkers.url, studyName: definition.name, runDir: remote, fresh: true }).transport });
+    const expected = await studyOutcome(local);
+    expect(expected.state).toBe('finished');
+    expect(await studyOutcome(remote)).toEqual(expected);
+    expect(remoteRun.doc.trials.every((t) => t.scoreStandardError !== undefined)).toBe(true);
+    expect(remoteRun.doc.trials.flatMap((t) => t.jobs.map((j) => j.ranOn)).every((p) => p?.includes('/'))).toBe(true);
+  });
 });

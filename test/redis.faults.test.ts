@@ -98,7 +98,7 @@ describe('a study over Redis survives the faults of many machines', () => {
     const { code } = await coordinator.exited;
     expect(code).toBe(0);
     expect(coordinator.output()).toMatch(/is reachable again/);
-    expect(coordinator.output()).toMatch(/job t2-f0-e1 is no longer on Redis/);
+    expect(coordinator.output()).toMatch(/job t2-f0-e1-d[0-9A-Za-z]+ is no longer on Redis/);
     expect(await studyOutcome(dir)).toEqual(reference);
   });
 

@@ -16,7 +16,7 @@ import type { TrialConfiguration } from '../src/study/definition.js';
 import { ClosedFormTransport } from '../src/transport/closed-form.js';
 import { RedisTransport } from '../src/transport/redis.js';
 import { decodeDataset, DatasetMessageError, encodeDataset } from '../src/transport/redis-dataset.js';
-import { keys, KEY_PREFIX, QUEUE_PROTOCOL_VERSION } from '../src/transport/redis-protocol.js';
+import { keys, KEY_PREFIX, queueJobId, QUEUE_PROTOCOL_VERSION } from '../src/transport/redis-protocol.js';
 import { parseRedisUrl } from '../src/transport/redis-url.js';
 import { QueueWorker } from '../src/transport/redis-worker.js';
 import type { EpochReport, SharedDataset, TrainJob } from '../src/transport/types.js';
@@ -139,7 +139,7 @@ describe('the Redis transport', () => {
     await queued;
     abort.abort();
     await expect(running).rejects.toThrow(/trial 1: stopped/);
-    expect(await inspector.getJobState('t1-f0-e3')).toBe('unknown');
+    expect(await inspector.getJobState(queueJobId(job(1, 0, 3)))).toBe('unknown');
     expect(await inspector.count()).toBe(0);
   });
 

@@ -1,5 +1,5 @@
 import { existsSync } from 'node:fs';
-import { writeFile } from 'node:fs/promises';
+import { copyFile, writeFile } from 'node:fs/promises';
 import path from 'node:path';
 import type { PreparedData, SplitArrays } from '../data/types.js';
 import { UserError } from '../errors.js';
@@ -17,7 +17,7 @@ import { ONNX_FILE } from '../export/onnx-schema.js';
 import { retrainTrial } from '../export/retrain.js';
 import { keptCheckpointWeights, trialAtRank } from '../export/select.js';
 import { formatNumber, textTable } from '../report/format.js';
-import { runPaths } from '../store/run-dir.js';
+import { SPLIT_RECORD_NAME, runPaths } from '../store/run-dir.js';
 import { studyData } from '../store/study-data.js';
 import { StudyStore, studyFilePath } from '../store/study-store.js';
 import type { StudyDocument, TrialRecord } from '../store/types.js';
@@ -71,6 +71,8 @@ export interface ExportSummary {
   /** Classification: per-class figures on the validation split (and the test split with --retrain). */
   classes?: { validation?: ClassReport; test?: ClassReport };
   retrained: boolean;
+  /** k-fold studies: the number of folds (the validation figures are their mean; the export retrained on every fold). */
+  folds?: number;
   format: ExportFormat;
   /** Files written into `out`. */
   files: string[];
@@ -83,7 +85,7 @@ export interface ExportSummary {
  */
 async function exportData(doc: StudyDocument, studyFile: string, allowChangedData: boolean, retrain: boolean): Promise<PreparedData> {
   const data = await studyData(doc, studyFile, { command: retrain ? 'export --retrain' : 'export', allowChangedData });
-  if (retrain && data.test.rows === 0) {
+  if (retrain && data.test.rows === 0 && doc.definition.data.folds === undefined) {
     throw new UserError('E_EXPORT_NO_TEST', `${doc.definitionFile}: data.testFraction is 0, so there is no held-out test split to score a retrained model on`);
   }
   return data;
@@ -107,13 +109,18 @@ export async function exportModel(options: ExportCommandOptions): Promise<Export
   const studyFile = studyFilePath(runDir);
   const chosen = trialAtRank(doc, rank, studyFile);
   const trial = chosen.trial;
+  // A k-fold study trained k networks per trial, none on every row: its export always retrains on
+  // training plus validation rows (all folds) for the epochs the trial was scored at.
+  const folds = doc.definition.data.folds;
+  const retrain = options.retrain === true || folds !== undefined;
   // Every check that can refuse runs before the export folder is touched.
-  const kept = options.retrain ? undefined : await keptCheckpointWeights(runDir, doc, chosen);
+  const kept = retrain ? undefined : await keptCheckpointWeights(runDir, doc, chosen);
   const rule = doc.recipe.task === 'binary' ? doc.definition.decisionThreshold : undefined;
-  const retrain = options.retrain === true;
   const data = retrain || rule ? await exportData(doc, studyFile, options.allowChangedData ?? false, retrain) : undefined;
   const out = path.resolve(options.out ?? runPaths.exportDir(runDir, rank));
   const format = options.format ?? 'tfjs';
+  // The rows of each split travel with the model, so the winner can be re-scored elsewhere (absent for studies from before the record).
+  const splitRecord = existsSync(runPaths.splitRecord(runDir)) ? runPaths.splitRecord(runDir) : undefined;
 
   let figures: ExportFigures = {};
   await writeFolderAtomically(
@@ -124,7 +131,7 @@ export async function exportModel(options: ExportCommandOptions): Promise<Export
       const weights = retrain ? await retrainTrial(data!, trial) : kept!;
       const model = buildLayersModel(trial.configuration, doc.recipe, weights);
       try {
-        figures = exportFigures(model, doc, trial, data, rule, retrain);
+        figures = { ...exportFigures(model, doc, trial, data, rule, retrain), ...(retrain ? { retrained: true } : {}) };
         await saveLayersModel(model, partial);
         const configuration = buildConfiguration(doc, trial, rank, figures);
         if (format === 'onnx') {
@@ -133,6 +140,7 @@ export async function exportModel(options: ExportCommandOptions): Promise<Export
           await writeOnnxModel(model, configuration, partial, packageVersion());
         }
         await writeFile(path.join(partial, CONFIGURATION_FILE), `${JSON.stringify(configuration, null, 2)}\n`);
+        if (splitRecord) await copyFile(splitRecord, path.join(partial, SPLIT_RECORD_NAME));
       } finally {
         model.dispose();
       }
@@ -150,10 +158,11 @@ export async function exportModel(options: ExportCommandOptions): Promise<Export
     validation: lastEpochFigures(trial).metrics,
     retrained: retrain,
     format,
-    files: [CONFIGURATION_FILE, MODEL_FILE, WEIGHTS_FILE, ...(format === 'onnx' ? [ONNX_FILE] : [])],
+    files: [CONFIGURATION_FILE, MODEL_FILE, WEIGHTS_FILE, ...(format === 'onnx' ? [ONNX_FILE] : []), ...(splitRecord ? [SPLIT_RECORD_NAME] : [])],
     caution: OPTIMISM_CAUTION,
   };
   if (figures.test) summary.test = figures.test;
+  if (folds !== undefined) summary.folds = folds;
   if (figures.threshold) summary.threshold = figures.threshold;
   if (figures.classes) summary.classes = figures.classes;
   return summary;
@@ -183,7 +192,7 @@ function exportFigures(model: tf.LayersModel, doc: StudyDocument, trial: TrialRe
     const validation = trialClassReport(doc, trial);
     if (validation) classes.validation = validation;
   }
-  if (retrain && data) {
+  if (retrain && data && data.test.rows > 0) {
     const threshold = figures.threshold?.threshold ?? DEFAULT_THRESHOLD;
     const testOutputs = outputsOf(data.test);
     figures.test = evaluateExportedModel(model, recipe, data.test, threshold, testOutputs);
@@ -198,11 +207,15 @@ function exportFigures(model: tf.LayersModel, doc: StudyDocument, trial: TrialRe
 export function exportReport(summary: ExportSummary): string {
   const lines = [
     `exported rank ${summary.rank} (trial ${summary.trialId}) of study ${summary.study}${summary.retrained ? ', retrained on training and validation rows' : ''}`,
+    ...(summary.folds !== undefined
+      ? [`the study scored each trial on ${summary.folds} folds, so the model was retrained on all of them (the training and validation rows) for the epochs the trial was scored at; its validation figures are the mean over the folds`]
+      : []),
     `folder: ${summary.out} (${summary.files.join(', ')})`,
     '',
   ];
   const names = Object.keys(summary.validation) as MetricName[];
-  const header = summary.test ? ['metric', 'validation (study)', 'test (retrained)'] : ['metric', 'validation (study)'];
+  const study = summary.folds !== undefined ? `validation (study, mean of ${summary.folds} folds)` : 'validation (study)';
+  const header = summary.test ? ['metric', study, 'test (retrained)'] : ['metric', study];
   const rows = names.map((name) => {
     const row = [name, formatNumber(summary.validation[name])];
     if (summary.test) row.push(formatNumber(summary.test[name]));
@@ -212,7 +225,8 @@ export function exportReport(summary: ExportSummary): string {
   lines.push(...thresholdLines(summary));
   if (summary.classes?.validation) lines.push(classReportText(summary.classes.validation).replace(/^validation rows/, 'validation split'), '');
   if (summary.classes?.test) lines.push(classReportText(summary.classes.test).replace(/^validation rows/, 'test split (retrained model)'), '');
-  if (!summary.test) lines.push(`No test metrics: \`rungwise export ${summary.dir} --rank ${summary.rank} --retrain\` scores the configuration on the held-out test split.`);
+  if (!summary.test && summary.retrained) lines.push('No test metrics: the study holds no test split (data.testFraction is 0).');
+  else if (!summary.test) lines.push(`No test metrics: \`rungwise export ${summary.dir} --rank ${summary.rank} --retrain\` scores the configuration on the held-out test split.`);
   lines.push(summary.caution);
   return lines.join('\n');
 }

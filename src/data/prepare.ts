@@ -14,7 +14,8 @@ import { buildColumnRecipe, encodeColumns, encodeTargetValues, sortLabels, type 
 import { delimiterName, streamCsv } from './source.js';
 import { splitRows, splitSizes } from './split.js';
 import { categoricalValues, typeColumn } from './typing.js';
-import type { DataSummary, PreparedData, SplitArrays } from './types.js';
+import { assignFolds, otherFolds } from './folds.js';
+import type { DataSummary, PreparedData, PreparedFold, SplitArrays } from './types.js';
 import type { FeatureValues } from './values.js';
 
 function studyError(definitionFile: string, field: string, message: string): UserError {
@@ -200,7 +201,7 @@ async function readFeatures(
 export async function prepareData(
   settings: DataSettings,
   definitionFile: string,
-  options: DataLoadOptions = {},
+  options: DataLoadOptions & { foldSeed?: number } = {},
 ): Promise<{ data: PreparedData; summary: DataSummary; notes: string[]; warnings: string[]; csvSha256: string }> {
   const started = performance.now();
   const emit = (event: DataEvent): void => options.onDataEvent?.(event);
@@ -260,9 +261,15 @@ export async function prepareData(
     train: await splitArrays(indices.train, 0),
     validation: await splitArrays(indices.validation, 1),
     test: await splitArrays(indices.test, 2),
+    rowIndices: indices,
   };
   const weights = recipe.classes && settings.classWeights ? trainingClassWeights(settings.classWeights, recipe.classes, data.train.y) : undefined;
   if (weights) data.classWeights = weights;
+  if (settings.folds !== undefined) {
+    if (options.foldSeed === undefined) throw new Error('prepareData: data.folds needs options.foldSeed (the study seed)');
+    data.folds = prepareFolds({ settings, features, target, rows: [...indices.train, ...indices.validation], k: settings.folds, seed: options.foldSeed, file: csvFile, definitionFile });
+    data.foldSeed = options.foldSeed;
+  }
 
   const summary: DataSummary = {
     file: csvFile,
@@ -279,6 +286,35 @@ export async function prepareData(
   for (const message of warnings) emit({ type: 'warning', file: csvFile, message });
   emit({ type: 'ready', file: csvFile, rows: table.rows, columns: table.columns.length, seconds: (performance.now() - started) / 1000 });
   return { data, summary, notes, warnings, csvSha256: dialect.sha256 ?? '' };
+}
+
+/**
+ * The k folds of the training and validation rows, each with its own recipe fitted on its training
+ * part (the other folds) and its class weights from those rows.
+ */
+function prepareFolds(context: {
+  settings: DataSettings;
+  features: FeatureValues[];
+  target: TargetValues;
+  rows: number[];
+  k: number;
+  seed: number;
+  file: string;
+  definitionFile: string;
+}): PreparedFold[] {
+  const { settings, features, target, k, seed, file, definitionFile } = context;
+  const strata = target.kind === 'labels' ? Array.from(target.codes, (code) => target.labels[code]!) : undefined;
+  const rows = [...context.rows].sort((a, b) => a - b);
+  const folds = assignFolds({ rows, ...(strata ? { strata } : {}), k, seed, file, definitionFile });
+  return folds.map((validationRows, i): PreparedFold => {
+    const trainingRows = otherFolds(folds, i);
+    const recipe = buildColumnRecipe({ task: settings.task, target: settings.target, features, targetValues: target, trainingRows });
+    const part = (members: readonly number[]): SplitArrays => ({ rows: members.length, x: encodeColumns(recipe, features, members), y: encodeTargetValues(recipe, target, members) });
+    const fold: PreparedFold = { recipe, train: part(trainingRows), validation: part(validationRows), rows: validationRows };
+    const weights = recipe.classes && settings.classWeights ? trainingClassWeights(settings.classWeights, recipe.classes, fold.train.y) : undefined;
+    if (weights) fold.classWeights = weights;
+    return fold;
+  });
 }
 
 function shared(values: Float32Array): Float32Array {

@@ -52,6 +52,26 @@ export interface PreparedData {
   test: SplitArrays;
   /** The training loss's weight per class index (`data.classWeights`, from the training rows); absent: all rows weigh the same. */
   classWeights?: number[];
+  /** 0-based data-row indices (row 0 = the first line after the header) of each split, ascending; what `splits.json` records. */
+  rowIndices?: { train: number[]; validation: number[]; test: number[] };
+  /**
+   * With `data.folds` = k: the training and validation rows cut into k folds (the test rows stay out).
+   * Fold i trains on the other folds and is scored on its own rows, with its own recipe fitted on its training part.
+   */
+  folds?: PreparedFold[];
+  /** The seed the folds were drawn with (the study seed). */
+  foldSeed?: number;
+}
+
+/** One fold of k-fold cross-validation: its data set as trials train on it. */
+export interface PreparedFold {
+  /** Fitted on this fold's training rows only. */
+  recipe: PreprocessingRecipe;
+  train: SplitArrays;
+  validation: SplitArrays;
+  classWeights?: number[];
+  /** 0-based data-row indices of this fold's validation rows, ascending. */
+  rows: number[];
 }
 
 /** A short description of the data set, kept in the study file. */

@@ -49,7 +49,7 @@ export interface ExportConfiguration {
   goal: Goal;
   /** The trial's score: the goal's metric at its last epoch, on the validation split. */
   score: number;
-  /** Figures the study recorded for the trial's last epoch (validation split). */
+  /** Figures the study recorded for the trial's last epoch (validation split; for a k-fold study the mean over folds). */
   validation: LastEpochFigures;
   /** Set with --retrain: metrics of the retrained model on the held-out test split, computed once (a binary model's at its threshold). */
   test?: Metrics;
@@ -102,6 +102,8 @@ export interface ExportFigures {
   /** Binary: the threshold chosen by the study's rule (absent: 0.5, no rule). */
   threshold?: ThresholdChoice;
   classes?: ExportConfiguration['classes'];
+  /** True when the network was retrained on training and validation rows (with --retrain, and always for a k-fold study). */
+  retrained?: boolean;
 }
 
 /** The record of the 0.5 default when the study gives no rule (no figures: nothing was chosen). */
@@ -123,7 +125,7 @@ export function buildConfiguration(doc: StudyDocument, trial: TrialRecord, rank:
     goal: doc.goal,
     score: trial.score!,
     validation: lastEpochFigures(trial),
-    trainedOn: retrained ? 'training and validation splits' : 'training split',
+    trainedOn: retrained || figures.retrained ? 'training and validation splits' : 'training split',
     recipe: doc.recipe,
     inputs: inputNames(doc.recipe),
     outputs: modelOutputs(doc.recipe, figures.threshold),

@@ -1,4 +1,5 @@
 import { formatNumber } from '../report/format.js';
+import { scoreText } from '../report/ranking-table.js';
 import type { StudyDocument, TrialRecord } from '../store/types.js';
 import type { MetricName } from '../study/definition.js';
 import { rankTrials } from '../study/objective.js';
@@ -41,7 +42,7 @@ export function topConfigurations(study: StudyDocument, top = TOP_CONFIGURATIONS
     const row: TableRow = {
       place: rank === 1 ? `${WINNER_SYMBOL} 1` : String(rank),
       trial: String(trial.id),
-      [study.goal.metric]: formatNumber(trial.score),
+      [study.goal.metric]: scoreText(trial.score, trial.scoreStandardError),
       'gap to #1': rank === 1 || !leader ? '' : formatNumber(trial.score - leader.score!),
       epochs: String(trial.epochsTrained),
       'worker s': formatNumber(trial.workerSeconds),

@@ -5,6 +5,7 @@ import type { Goal } from '../study/definition.js';
 import type { PlannedWork } from './budget.js';
 import { formatDuration, formatNumber } from './format.js';
 import { fitLine, type LineSegment } from './progress-line.js';
+import { scoreText } from './ranking-table.js';
 import { plain, type Painter } from './style.js';
 
 /** Redraw the live line at most this often (epoch events can come every millisecond). */
@@ -46,8 +47,9 @@ export function describeJob(event: Pick<TrialFinished, 'trial' | 'job'>, metric:
 function leaderText(leader: TrialRecord | undefined, metric: string): LineSegment {
   if (!leader) return { text: 'leader -', dropCost: 10 };
   const value = formatNumber(leader.score);
+  const spread = leader.scoreStandardError !== undefined && leader.score !== null ? ` ± ${formatNumber(leader.scoreStandardError)}` : '';
   // The epochs say why a lower value can lead: the one ordering puts longer-trained trials first.
-  return { text: `leader #${leader.id} ${metric} ${value} @${leader.epochsTrained}ep`, short: `#${leader.id} ${value}`, shortCost: 6, dropCost: 10 };
+  return { text: `leader #${leader.id} ${metric} ${value}${spread} @${leader.epochsTrained}ep`, short: `#${leader.id} ${value}`, shortCost: 6, dropCost: 10 };
 }
 
 /** `rung 1/2` (the rung being trained, of the top rung), with the bracket for Hyperband, a span under asynchronous halving. */
@@ -176,7 +178,7 @@ export function progressObserver(options: ProgressOptions): StudyObserver {
         leader = event.best;
         if (redrawn) draw(true);
         else {
-          const lead = leader ? `; leader trial ${leader.id} ${metric} ${formatNumber(leader.score)} after ${leader.epochsTrained} epoch${leader.epochsTrained === 1 ? '' : 's'}` : '';
+          const lead = leader ? `; leader trial ${leader.id} ${metric} ${scoreText(leader.score, leader.scoreStandardError)} after ${leader.epochsTrained} epoch${leader.epochsTrained === 1 ? '' : 's'}` : '';
           stream.write(`[${counters({ jobsDone: jobs, epochsDone: trained })}] ${describeJob(event, metric, plan.rungs > 1)}${lead}\n`);
         }
         break;

@@ -2,15 +2,21 @@ import type { Goal } from '../study/definition.js';
 import type { RankedTrial } from '../study/objective.js';
 import { formatNumber, textTable } from './format.js';
 
-/** The ranking as a text table: rank, trial, rung, epochs, score and the configuration. */
+/** A score as the ranking shows it: with folds, the fold mean ± its standard error. */
+export function scoreText(score: number | null, standardError?: number): string {
+  return standardError === undefined || score === null ? formatNumber(score) : `${formatNumber(score)} ± ${formatNumber(standardError)}`;
+}
+
+/** The ranking as a text table: rank, trial, rung, epochs, score (± standard error with folds) and the configuration. */
 export function rankingTable(ranking: readonly RankedTrial[], goal: Goal): string {
-  const header = ['rank', 'trial', 'rung', 'epochs', goal.metric, 'depth', 'width', 'activation', 'learning rate', 'batch', 'optimizer', 'l2', 'dropout'];
+  const folds = ranking.some(({ trial }) => trial.scoreStandardError !== undefined);
+  const header = ['rank', 'trial', 'rung', 'epochs', folds ? `${goal.metric} (fold mean ± SE)` : goal.metric, 'depth', 'width', 'activation', 'learning rate', 'batch', 'optimizer', 'l2', 'dropout'];
   const rows = ranking.map(({ rank, trial }) => [
     String(rank),
     String(trial.id),
     String(trial.rung),
     String(trial.epochsTrained),
-    formatNumber(trial.score),
+    scoreText(trial.score, trial.scoreStandardError),
     String(trial.configuration.depth),
     String(trial.configuration.width),
     trial.configuration.activation,
@@ -34,6 +40,7 @@ export function rankingJson(ranking: readonly RankedTrial[], goal: Goal): unknow
       rung: trial.rung,
       epochs: trial.epochsTrained,
       score: trial.score,
+      ...(trial.scoreStandardError !== undefined ? { scoreStandardError: trial.scoreStandardError } : {}),
       configuration: trial.configuration,
       seed: trial.seed,
       metrics: trial.curve.at(-1)?.metrics ?? {},

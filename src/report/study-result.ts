@@ -24,6 +24,8 @@ export interface TrialEntry {
   bracket: number;
   epochs: number;
   score: number | null;
+  /** k-fold studies: the standard error of the score (a fold mean), s / sqrt(k). */
+  scoreStandardError?: number;
   configuration: TrialConfiguration;
   seed: number;
   /** Validation metrics of the last epoch trained. */
@@ -69,6 +71,7 @@ function entry(doc: StudyDocument, trial: TrialRecord, rank: number | null): Tri
     seed: trial.seed,
     metrics: { ...(trial.curve.at(-1)?.metrics ?? {}) } as Record<string, number>,
   };
+  if (trial.scoreStandardError !== undefined) result.scoreStandardError = trial.scoreStandardError;
   if (rank === null) result.reason = unrankedReason(trial);
   const classes = rank === null ? undefined : trialClassReport(doc, trial);
   if (classes) result.classes = classes;

@@ -1,4 +1,5 @@
 import type { CheckpointStore } from '../checkpoints/store.js';
+import { decodeFoldBundle, isFoldBundle } from '../checkpoints/fold-bundle.js';
 import { checkpointManifest } from '../checkpoints/format.js';
 
 /** Checkpoints of the best few ranked trials are kept, so `export --rank N` needs no retraining for them. */
@@ -30,7 +31,8 @@ export class CheckpointKeeper {
     const bytes = this.fresh.get(trialId) ?? (await this.store.read(trialId).catch(() => undefined));
     if (!bytes) return undefined;
     try {
-      const manifest = checkpointManifest(bytes);
+      // A k-fold trial's checkpoint is a bundle of its folds' checkpoints, all at the same epoch.
+      const manifest = checkpointManifest(isFoldBundle(bytes) ? decodeFoldBundle(bytes)[0]! : bytes);
       return manifest.trialId === trialId && manifest.epoch === epoch ? bytes : undefined;
     } catch {
       return undefined;

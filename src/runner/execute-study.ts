@@ -13,7 +13,9 @@ import { orientedLoss, rankTrials, type RankedTrial } from '../study/objective.j
 import type { StudyStore } from '../store/study-store.js';
 import type { StudyDocument, TrialRecord } from '../store/types.js';
 import { ThreadTransport, type FaultInjector } from '../transport/threads.js';
+import { FoldsTransport } from '../transport/folds.js';
 import type { TrialTransport } from '../transport/transport.js';
+import type { SharedDataset } from '../transport/types.js';
 import { CheckpointKeeper } from './checkpoint-keeper.js';
 import type { StudyObserver } from './events.js';
 import { TrialLifecycle, type JobFailure } from './lifecycle.js';
@@ -66,6 +68,15 @@ export function recordedOutcomes(trials: readonly TrialRecord[], goal: Goal): Jo
     });
   }
   return outcomes;
+}
+
+/** The k fold data sets, each named by its content hash. */
+function foldDatasets(data: PreparedData): SharedDataset[] {
+  return (data.folds ?? []).map((fold) => {
+    const part: PreparedData = { recipe: fold.recipe, train: fold.train, validation: fold.validation, test: { rows: 0, x: new Float32Array(0), y: new Float32Array(0) } };
+    if (fold.classWeights) part.classWeights = fold.classWeights;
+    return toSharedDataset(part, datasetId(part));
+  });
 }
 
 function defaultTransport(options: ExecuteOptions): (context: TransportContext) => TrialTransport {
@@ -148,7 +159,9 @@ async function drive(store: StudyStore, data: PreparedData, options: ExecuteOpti
   emit({ type: 'study-started', name: doc.name, dir: store.dir, workers, plannedTrials: planned.trials, plannedEpochs: planned.epochs, resumed, progress: lifecycle.progress() });
   for (const message of store.notes) note(message);
 
-  const transport = (options.transport ?? defaultTransport(options))({ workers });
+  const inner = (options.transport ?? defaultTransport(options))({ workers });
+  // k-fold: every job runs once per fold on the inner transport; the run loop sees one job and the fold mean.
+  const transport = data.folds ? new FoldsTransport(inner, foldDatasets(data)) : inner;
   const running = new Map<number, Promise<void>>();
 
   /** Start a job: continue from the trial's checkpoint where the job asks for one and it stands there, else from epoch 0. */

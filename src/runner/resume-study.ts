@@ -2,6 +2,7 @@ import type { DataLoadOptions } from '../data/events.js';
 import { rankTrials } from '../study/objective.js';
 import { studyStoppedError } from '../errors.js';
 import { lockStudy } from '../store/lock.js';
+import { checkOrWriteSplitRecord, splitRecordOf } from '../store/split-record.js';
 import { studyData } from '../store/study-data.js';
 import { StudyStore } from '../store/study-store.js';
 import { executeStudy, type ExecuteOptions, type StudyOutcome } from './execute-study.js';
@@ -37,6 +38,10 @@ export async function resumeStudy(dir: string, options: ResumeOptions = {}): Pro
       ...(options.signal ? { signal: options.signal } : {}),
       ...(options.onDataEvent ? { onDataEvent: options.onDataEvent } : {}),
     });
+    const record = splitRecordOf(data, doc.definition.data, { file: doc.definition.data.csv, sha256: data.csvSha256 });
+    if ((await checkOrWriteSplitRecord(store.dir, record)) === 'written') {
+      options.onEvent?.({ type: 'note', message: `${store.dir}: the study had no split record; wrote splits.json with the rows of each split` });
+    }
     return { ...(await executeStudy(store, data, options)), alreadyFinished: false };
   } catch (error) {
     throw studyStoppedError(error, dir) ?? error;

@@ -9,6 +9,7 @@ import { checkCapacity } from '../study/capacity.js';
 import { resolveGoal } from '../study/definition.js';
 import { loadStudy, type LoadedStudy } from '../study/load.js';
 import { LOCK_FILES, lockStudy } from '../store/lock.js';
+import { splitRecordOf, writeSplitRecord } from '../store/split-record.js';
 import { StudyStore, studyFilePath } from '../store/study-store.js';
 import { executeStudy, type ExecuteOptions, type StudyOutcome } from './execute-study.js';
 
@@ -28,6 +29,7 @@ export async function runStudy(study: string | LoadedStudy, options: RunOptions 
   const { definition, file, notes } = typeof study === 'string' ? await loadStudy(study) : study;
   for (const message of notes ?? []) options.onEvent?.({ type: 'note', message });
   const { data, summary, csvSha256 } = await prepareData(definition.data, file, {
+    foldSeed: definition.sampler.seed,
     ...(options.signal ? { signal: options.signal } : {}),
     ...(options.onDataEvent ? { onDataEvent: options.onDataEvent } : {}),
   });
@@ -46,6 +48,8 @@ export async function runStudy(study: string | LoadedStudy, options: RunOptions 
       }
       await clearRunDir(dir);
     }
+    // Before the study file: a study file without its split record is one from before the record, which resume completes.
+    await writeSplitRecord(dir, splitRecordOf(data, definition.data, { file: definition.data.csv, sha256: csvSha256 }));
     const now = new Date().toISOString();
     const store = await StudyStore.create(dir, {
       format: 'rungwise-study',

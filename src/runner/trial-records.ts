@@ -1,6 +1,6 @@
 import type { Job } from '../samplers/sampler.js';
 import type { Goal } from '../study/definition.js';
-import { scoreAt } from '../study/objective.js';
+import { scoreAt, standardErrorAt } from '../study/objective.js';
 import type { TrialRecord } from '../store/types.js';
 import type { TrainResult } from '../transport/types.js';
 
@@ -45,6 +45,7 @@ export function applyResult(record: TrialRecord, job: Job, result: TrainResult, 
   if (result.status === 'diverged') {
     record.status = 'diverged';
     record.score = null;
+    delete record.scoreStandardError;
     record.epochsTrained = result.epochs.length > 0 ? result.epochs.at(-1)!.epoch : job.fromEpoch;
     if (result.divergence) record.divergence = result.divergence;
     record.rungScores[job.rung] = null;
@@ -52,5 +53,9 @@ export function applyResult(record: TrialRecord, job: Job, result: TrainResult, 
   }
   record.epochsTrained = job.toEpoch;
   record.score = scoreOf(result, goal);
+  const last = result.epochs.at(-1);
+  const standardError = last && record.score !== null ? standardErrorAt(last, goal) : undefined;
+  if (standardError !== undefined) record.scoreStandardError = standardError;
+  else delete record.scoreStandardError;
   record.rungScores[job.rung] = record.score;
 }

@@ -26,10 +26,11 @@ export interface StudyDataOptions extends DataLoadOptions {
  * longer gives the recorded preprocessing recipe is refused always.
  * @throws UserError (E_DATA_CHANGED) naming the CSV and the study file.
  */
-export async function studyData(doc: StudyDocument, studyFile: string, options: StudyDataOptions): Promise<PreparedData> {
+export async function studyData(doc: StudyDocument, studyFile: string, options: StudyDataOptions): Promise<PreparedData & { csvSha256: string }> {
   const csv = studyCsvPath(doc);
   const { data, csvSha256 } = await prepareData(doc.definition.data, doc.definitionFile, {
     started: true,
+    foldSeed: doc.definition.sampler.seed,
     ...(options.signal ? { signal: options.signal } : {}),
     ...(options.onDataEvent ? { onDataEvent: options.onDataEvent } : {}),
   });
@@ -49,5 +50,5 @@ export async function studyData(doc: StudyDocument, studyFile: string, options: 
       `${csv}: the data no longer give the preprocessing recorded in ${studyFile} (columns, categories or scaling changed since the study started); restore the original CSV or start a new study`,
     );
   }
-  return data;
+  return Object.assign(data, { csvSha256 });
 }

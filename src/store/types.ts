@@ -27,6 +27,8 @@ export interface TrialRecord {
   curve: CurvePoint[];
   /** The goal's metric at the last epoch trained (null until an epoch completes, or when diverged). */
   score: number | null;
+  /** k-fold studies: the standard error of the score's fold mean (s / sqrt(k), s with k - 1), at the same epoch as `score`. */
+  scoreStandardError?: number;
   /** Score at the end of each rung reached, by rung index. */
   rungScores: (number | null)[];
   startedAt?: string;

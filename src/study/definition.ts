@@ -70,6 +70,14 @@ export const dataSchema = z.strictObject({
   validationFraction: z.number().gt(0).lt(1).default(0.2).describe('Share of rows used to score trials.'),
   testFraction: z.number().min(0).lt(1).default(0.15).describe('Share of rows held back untouched for the final check.'),
   splitSeed: seed.default(0).describe('Seed of the train/validation/test split.'),
+  folds: z
+    .int()
+    .min(2)
+    .max(20)
+    .optional()
+    .describe(
+      'k-fold cross-validation (2 to 20): the training and validation rows are cut into k folds (stratified for classification, drawn from the sampler seed), each trial trains k times, once per fold on the other folds, and its score is the mean over folds with its standard error. Costs k times the training. The test split stays held out. Absent: one validation split.',
+    ),
   classWeights: z
     .union([
       z.enum(['none', 'balanced']),

@@ -13,6 +13,12 @@ export function scoreAt(point: Pick<CurvePoint, 'validationLoss' | 'metrics'>, g
   return value !== undefined && Number.isFinite(value) ? value : null;
 }
 
+/** k-fold studies: the standard error of the goal's fold mean at an epoch; undefined without folds. */
+export function standardErrorAt(point: Pick<CurvePoint, 'standardErrors'>, goal: Pick<Goal, 'metric'>): number | undefined {
+  const value = point.standardErrors?.[goal.metric];
+  return value !== undefined && Number.isFinite(value) ? value : undefined;
+}
+
 /** A score turned into a loss for samplers: smaller is better; null stays null. */
 export function orientedLoss(value: number | null, goal: Pick<Goal, 'better'>): number | null {
   if (value === null) return null;

@@ -56,11 +56,13 @@ export function studyQueueName(studyName: string, runDir: string): string {
 }
 
 /**
- * A job's id on the queue: one per trial and epoch range, so a job added again (a resume, a retry)
- * is the same job, and one that starts elsewhere (its checkpoint was lost) is another.
+ * A job's id on the queue: one per trial, epoch range and data set, so a job added again (a resume, a
+ * retry) is the same job, one that starts elsewhere (its checkpoint was lost) is another, and the k
+ * fold jobs of a k-fold trial (same trial and epochs, one data set each) are k jobs.
  */
-export function queueJobId(job: Pick<TrainJob, 'trialId' | 'fromEpoch' | 'toEpoch'>): string {
-  return `t${job.trialId}-f${job.fromEpoch}-e${job.toEpoch}`;
+export function queueJobId(job: Pick<TrainJob, 'trialId' | 'fromEpoch' | 'toEpoch' | 'datasetId'>): string {
+  const dataset = job.datasetId.replace(/^sha256:/, '').replace(/[^A-Za-z0-9]/g, '').slice(0, 8);
+  return `t${job.trialId}-f${job.fromEpoch}-e${job.toEpoch}-d${dataset}`;
 }
 
 export function encodeJob(job: TrainJob): QueuedJob {

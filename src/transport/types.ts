@@ -50,6 +50,8 @@ export interface EpochReport {
   trainLoss: number;
   validationLoss: number;
   metrics: Partial<Record<MetricName, number>>;
+  /** k-fold studies: the standard error of each metric's fold mean (and of the validation loss), s / sqrt(k). */
+  standardErrors?: Partial<Record<MetricName, number>>;
   /** Wall time of the epoch in the worker, seconds. */
   seconds: number;
 }
