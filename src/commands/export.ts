@@ -121,7 +121,7 @@ export async function exportModel(options: ExportCommandOptions): Promise<Export
     (existing) => existsSync(path.join(existing, CONFIGURATION_FILE)),
     async (partial) => {
       await initBackend();
-      const weights = retrain ? await retrainTrial(data!, trial) : kept!;
+      const weights = retrain ? await retrainTrial(data!, trial, doc.definition.budget.maxEpochs) : kept!;
       const model = buildLayersModel(trial.configuration, doc.recipe, weights);
       try {
         figures = exportFigures(model, doc, trial, data, rule, retrain);

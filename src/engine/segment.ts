@@ -22,7 +22,7 @@ export async function trainSegmentOnEngine(request: TrainRequest, onEpoch?: (rep
     if (!request.checkpoint) throw new Error(`trial ${request.trialId}: fromEpoch is ${request.fromEpoch} but no checkpoint was given`);
     restoreTrialCheckpoint(request.checkpoint, trial, request.fromEpoch);
   }
-  const { epochs, divergence } = runEpochs(request, { trainEpoch: (epoch) => trial.trainEpoch(epoch), validate: () => trial.evaluate() }, onEpoch);
+  const { epochs, divergence } = runEpochs(request, { trainEpoch: (epoch) => trial.trainEpoch(epoch), validate: () => trial.evaluate(), setLearningRate: (rate) => trial.setLearningRate(rate) }, onEpoch);
   const result: TrainResult = { trialId: request.trialId, status: divergence ? 'diverged' : 'completed', epochs, workerSeconds: (performance.now() - started) / 1000 };
   if (divergence) result.divergence = divergence;
   else {

@@ -8,6 +8,7 @@ import { UserError } from '../errors.js';
 import type { SharedDataset } from '../pool/messages.js';
 import type { TrialRecord } from '../store/types.js';
 import { initBackend } from '../train/backend.js';
+import { hasSchedule } from '../train/schedule.js';
 import { checkpointWeights, type NamedWeights } from '../checkpoints/format.js';
 import { releaseDatasets } from '../train/data-cache.js';
 import { runTrainRequest } from '../train/run-request.js';
@@ -37,7 +38,7 @@ function retrainDataset(data: PreparedData, trialId: number): SharedDataset {
  * `trial.epochsTrained` epochs and returns its network weights.
  * @throws UserError (E_EXPORT_DIVERGED) when the loss stops being finite.
  */
-export async function retrainTrial(data: PreparedData, trial: TrialRecord): Promise<NamedWeights[]> {
+export async function retrainTrial(data: PreparedData, trial: TrialRecord, maxEpochs?: number): Promise<NamedWeights[]> {
   await initBackend();
   const dataset = retrainDataset(data, trial.id);
   try {
@@ -49,6 +50,7 @@ export async function retrainTrial(data: PreparedData, trial: TrialRecord): Prom
       datasetId: dataset.id,
       fromEpoch: 0,
       toEpoch: trial.epochsTrained,
+      ...(maxEpochs !== undefined && hasSchedule(trial.configuration) ? { maxEpochs } : {}),
     });
     if (result.status === 'diverged') {
       throw new UserError(

@@ -3,6 +3,7 @@ import { availableParallelism } from 'node:os';
 import { FolderCheckpointStore } from '../checkpoints/folder-store.js';
 import type { CheckpointStore } from '../checkpoints/store.js';
 import { datasetId } from '../data/dataset-id.js';
+import { hasSchedule } from '../train/schedule.js';
 import { toSharedDataset } from '../data/index.js';
 import type { PreparedData } from '../data/types.js';
 import { studyStoppedError } from '../errors.js';
@@ -182,6 +183,7 @@ async function drive(store: StudyStore, data: PreparedData, options: ExecuteOpti
       datasetId: dataset.id,
       fromEpoch: job.fromEpoch,
       toEpoch: job.toEpoch,
+      ...(hasSchedule(job.configuration) ? { maxEpochs: definition.budget.maxEpochs } : {}),
       ...(checkpoint ? { checkpoint } : {}),
     };
     const done = transport

@@ -11,12 +11,14 @@ export const TASKS = ['binary', 'multiclass', 'regression'] as const;
 export const CLASSIFICATION_METRICS = ['accuracy', 'macroF1', 'logLoss'] as const;
 export const BINARY_METRICS = [...CLASSIFICATION_METRICS, 'auc'] as const;
 export const REGRESSION_METRICS = ['rmse', 'mae', 'r2'] as const;
+export const SCHEDULES = ['constant', 'step', 'cosine'] as const;
 export const METRICS = ['accuracy', 'macroF1', 'logLoss', 'auc', 'rmse', 'mae', 'r2', 'validationLoss'] as const;
 
 export type Activation = (typeof ACTIVATIONS)[number];
 export type OptimizerName = (typeof OPTIMIZERS)[number];
 export type Task = (typeof TASKS)[number];
 export type MetricName = (typeof METRICS)[number];
+export type ScheduleKind = (typeof SCHEDULES)[number];
 
 /** A range whose min exceeds its max names both values. */
 function minNotAboveMax(range: { min: number; max: number }, ctx: z.RefinementCtx): void {
@@ -47,6 +49,30 @@ const fractionRange = z
   })
   .superRefine(minNotAboveMax);
 
+/** A schedule setting: one fixed value, or a range searched like any hyperparameter (uniform, or on a log scale when `log`). */
+function setting(value: z.ZodNumber, what: string) {
+  return z.union([
+    value.describe(`${what} (fixed).`),
+    z
+      .strictObject({ min: value.describe('Smallest value, inclusive.'), max: value.describe('Largest value, inclusive.'), log: z.boolean().default(false).describe('Draw uniformly on a log scale.') })
+      .superRefine((range, ctx) => {
+        minNotAboveMax(range, ctx);
+        if (range.log && range.min <= 0) ctx.addIssue({ code: 'custom', path: ['min'], message: `found ${range.min}, expected above 0 with log: true` });
+      })
+      .describe(`${what}, searched over a range.`),
+  ]);
+}
+
+export const scheduleSchema = z
+  .strictObject({
+    kind: z.array(z.enum(SCHEDULES)).min(1).describe('Schedules to choose from: constant, step (eta0 x gamma^floor(t / stepEpochs)), cosine (SGDR, Loshchilov and Hutter 2017, without restarts, over budget.maxEpochs).'),
+    gamma: setting(z.number().gt(0).max(1), 'step: factor applied every stepEpochs epochs, in (0, 1]').default(0.1),
+    stepEpochs: setting(z.int().min(1), 'step: epochs between two decays').default(10),
+    warmupEpochs: setting(z.int().min(0), 'epochs of linear warm-up before the schedule (0: none)').default(0),
+    minFactor: setting(z.number().min(0).lt(1), 'cosine: the final learning rate as a fraction of the initial one, in [0, 1)').default(0),
+  })
+  .describe('Learning-rate schedule applied per epoch; absent means constant (the learning rate of the configuration throughout).');
+
 export const dataSchema = z.strictObject({
   csv: z.string().min(1).describe('Path of the CSV file, relative to the study definition file.'),
   target: z.string().min(1).describe('Name of the column to predict.'),
@@ -75,6 +101,7 @@ export const spaceSchema = z.strictObject({
   optimizer: z.array(z.enum(OPTIMIZERS)).min(1).default(['adam']).describe('Optimizers to choose from (momentum is SGD with momentum 0.9).'),
   l2: positiveLogRange.optional().describe('L2 weight penalty, drawn on a log scale; absent means none.'),
   dropout: fractionRange.optional().describe('Dropout rate after each hidden layer; absent means none.'),
+  schedule: scheduleSchema.optional(),
 });
 
 export const budgetSchema = z.strictObject({
@@ -136,6 +163,15 @@ export interface TrialConfiguration {
   optimizer: OptimizerName;
   l2: number;
   dropout: number;
+  /** Present only when the space has a `schedule` (src/train/schedule.ts); absent: constant. */
+  schedule?: ScheduleKind;
+  /** Warm-up epochs (present with `schedule`). */
+  warmupEpochs?: number;
+  /** step only (present when the space's schedule kinds include step). */
+  gamma?: number;
+  stepEpochs?: number;
+  /** cosine only (present when the space's schedule kinds include cosine). */
+  minFactor?: number;
 }
 
 /** What the study ranks trials by: a validation metric and which way is better. */

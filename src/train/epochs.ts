@@ -5,10 +5,13 @@
 import type { EpochReport, TrainRequest, TrainResult } from '../pool/messages.js';
 import { divergenceReason } from './divergence.js';
 import { computeMetrics } from './metrics.js';
+import { hasSchedule, learningRateAt } from './schedule.js';
 
 /** What a trainer does for one epoch: the mean training loss, then the validation loss and outputs. */
 export interface EpochSteps {
   trainEpoch(epoch: number): number;
+  /** Sets the learning rate of the next epoch's steps (called only for a configuration with a schedule). */
+  setLearningRate(learningRate: number): void;
   validate(): { loss: number; outputs: Float32Array };
 }
 
@@ -20,8 +23,13 @@ export interface EpochSteps {
 export function runEpochs(request: TrainRequest, steps: EpochSteps, onEpoch?: (report: EpochReport) => void): { epochs: EpochReport[]; divergence?: TrainResult['divergence'] } {
   const { dataset } = request;
   const epochs: EpochReport[] = [];
+  const scheduled = hasSchedule(request.configuration);
+  if (scheduled && request.configuration.schedule === 'cosine' && request.maxEpochs === undefined) {
+    throw new Error(`trial ${request.trialId}: a cosine schedule needs the study's maxEpochs in the job`);
+  }
   for (let epoch = request.fromEpoch + 1; epoch <= request.toEpoch; epoch++) {
     const epochStarted = performance.now();
+    if (scheduled) steps.setLearningRate(learningRateAt(request.configuration, epoch, request.maxEpochs ?? request.toEpoch));
     const trainLoss = steps.trainEpoch(epoch);
     const validation = Number.isFinite(trainLoss) ? steps.validate() : { loss: Number.NaN, outputs: new Float32Array(0) };
     const reason = divergenceReason(epoch, trainLoss, validation.loss, dataset.task, dataset.outputCount);

@@ -19,6 +19,14 @@ export function createOptimizer(name: OptimizerName, learningRate: number): tf.O
   return new ConstantCachingAdam(learningRate, ADAM.beta1, ADAM.beta2, ADAM.epsilon);
 }
 
+/** Sets an optimizer's learning rate for the next steps (sgd and momentum through tfjs's own setter). */
+export function setOptimizerLearningRate(optimizer: tf.Optimizer, learningRate: number): void {
+  if (optimizer instanceof ConstantCachingAdam) optimizer.setLearningRate(learningRate);
+  else if (optimizer instanceof tf.SGDOptimizer) {
+    if ((optimizer as unknown as { learningRate: number }).learningRate !== learningRate) optimizer.setLearningRate(learningRate);
+  } else throw new Error(`no learning-rate setter for ${optimizer.getClassName()}`);
+}
+
 /**
  * Disposes an optimizer and everything it holds. tfjs 4.22's MomentumOptimizer.dispose() does not
  * dispose the learning-rate scalar `c` it inherits from SGDOptimizer, so that one is released here.
@@ -129,7 +137,11 @@ export async function trainSegment(request: TrainRequest, onEpoch?: (report: Epo
       const expected = { trialId: request.trialId, epoch: request.fromEpoch, optimizer: params.optimizer };
       await restoreCheckpoint(request.checkpoint, expected, network.variables, optimizer);
     }
-    ({ epochs, divergence } = runEpochs(request, { trainEpoch: (epoch) => trainEpoch(request, network, optimizer, data, epoch), validate: () => validate(request, network, data) }, onEpoch));
+    ({ epochs, divergence } = runEpochs(request, {
+        trainEpoch: (epoch) => trainEpoch(request, network, optimizer, data, epoch),
+        validate: () => validate(request, network, data),
+        setLearningRate: (rate) => setOptimizerLearningRate(optimizer, rate),
+      }, onEpoch));
     if (!divergence) {
       checkpoint = await checkpointBytes({ trialId: request.trialId, epoch: request.toEpoch, params }, network.variables, optimizer);
       figures = jobClassFigures(dataset, validate(request, network, data).outputs, request.toEpoch);

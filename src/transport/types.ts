@@ -40,6 +40,8 @@ export interface TrainJob {
   toEpoch: number;
   /** The trial's checkpoint at `fromEpoch`, as bytes (required when fromEpoch > 0). */
   checkpoint?: Uint8Array;
+  /** The study's `budget.maxEpochs`: the length of a cosine schedule (required when the configuration's schedule is cosine). */
+  maxEpochs?: number;
 }
 
 /** One epoch's figures. Metrics are on the validation split. */
