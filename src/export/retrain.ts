@@ -35,7 +35,7 @@ function retrainDataset(data: PreparedData, trialId: number): SharedDataset {
 
 /**
  * Trains `trial`'s configuration from its seed on training plus validation rows for
- * `trial.epochsTrained` epochs and returns its network weights.
+ * `trial.epochsTrained` epochs (its best epoch's count with early stopping) and returns its network weights.
  * @throws UserError (E_EXPORT_DIVERGED) when the loss stops being finite.
  */
 export async function retrainTrial(data: PreparedData, trial: TrialRecord, maxEpochs?: number): Promise<NamedWeights[]> {
@@ -49,7 +49,8 @@ export async function retrainTrial(data: PreparedData, trial: TrialRecord, maxEp
       dataset,
       datasetId: dataset.id,
       fromEpoch: 0,
-      toEpoch: trial.epochsTrained,
+      // With early stopping: as many epochs as the best epoch had (there is no validation split left to stop on).
+      toEpoch: trial.bestEpoch ?? trial.epochsTrained,
       ...(maxEpochs !== undefined && hasSchedule(trial.configuration) ? { maxEpochs } : {}),
     });
     if (result.status === 'diverged') {

@@ -63,7 +63,9 @@ export function recordedOutcomes(trials: readonly TrialRecord[], goal: Goal): Jo
   const outcomes: JobOutcome[] = [];
   for (const trial of trials) {
     trial.rungScores.forEach((value, rung) => {
-      outcomes.push({ trialId: trial.id, rung, loss: orientedLoss(value ?? null, goal) });
+      // Early stopping can only have ended the trial in its last rung.
+      const stopped = trial.stoppedEarly === true && rung === trial.rungScores.length - 1;
+      outcomes.push({ trialId: trial.id, rung, loss: orientedLoss(value ?? null, goal), ...(stopped ? { stopped: true } : {}) });
     });
   }
   return outcomes;
@@ -184,6 +186,7 @@ async function drive(store: StudyStore, data: PreparedData, options: ExecuteOpti
       fromEpoch: job.fromEpoch,
       toEpoch: job.toEpoch,
       ...(hasSchedule(job.configuration) ? { maxEpochs: definition.budget.maxEpochs } : {}),
+      ...(definition.earlyStopping ? { earlyStopping: { rule: definition.earlyStopping, goal: doc.goal } } : {}),
       ...(checkpoint ? { checkpoint } : {}),
     };
     const done = transport

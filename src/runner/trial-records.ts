@@ -50,7 +50,22 @@ export function applyResult(record: TrialRecord, job: Job, result: TrainResult, 
     record.rungScores[job.rung] = null;
     return;
   }
-  record.epochsTrained = job.toEpoch;
-  record.score = scoreOf(result, goal);
+  record.epochsTrained = result.stoppedAtEpoch ?? job.toEpoch;
+  if (result.stoppedAtEpoch !== undefined) {
+    record.stoppedEarly = true;
+    record.stoppedAtEpoch = result.stoppedAtEpoch;
+  } else {
+    delete record.stoppedEarly;
+    delete record.stoppedAtEpoch;
+  }
+  if (result.bestEpoch !== undefined) {
+    // Early stopping: the trial is scored (and exported) at its best epoch, which may be an earlier job's.
+    record.bestEpoch = result.bestEpoch;
+    const best = record.curve.find((point) => point.epoch === result.bestEpoch);
+    record.score = best ? scoreAt(best, goal) : null;
+  } else {
+    delete record.bestEpoch;
+    record.score = scoreOf(result, goal);
+  }
   record.rungScores[job.rung] = record.score;
 }

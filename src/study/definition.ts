@@ -126,6 +126,22 @@ export const decisionThresholdSchema = z
 
 export type DecisionThresholdRule = z.output<typeof decisionThresholdSchema>;
 
+export const earlyStoppingSchema = z
+  .discriminatedUnion('rule', [
+    z.strictObject({
+      rule: z.literal('patience').describe('Stop when the goal has not improved for `patience` epochs.'),
+      patience: z.int().min(1).describe('Epochs without an improvement after which the trial stops.'),
+      minDelta: z.number().min(0).default(0).describe('Smallest change of the goal that counts as an improvement (default 0: any).'),
+    }),
+    z.strictObject({
+      rule: z.literal('generalisation-loss').describe('Prechelt (1998): stop after the first epoch with GL = 100 (E / E_opt - 1) > alpha, E the goal as an error.'),
+      alpha: z.number().gt(0).describe('Generalisation loss in percent above which the trial stops.'),
+    }),
+  ])
+  .describe('Stop a trial inside its job when the goal stops improving; the trial is scored, ranked and exported at its best epoch. Absent: every trial trains the epochs its sampler gives it.');
+
+export type EarlyStoppingRule = z.output<typeof earlyStoppingSchema>;
+
 export const studySchema = z.strictObject({
   $schema: z.string().optional(),
   name: z
@@ -141,6 +157,7 @@ export const studySchema = z.strictObject({
   trialTimeoutSeconds: z.number().positive().optional().describe('A trial running longer is stopped and marked timed-out.'),
   retries: z.int().min(0).max(10).default(0).describe('Times a failed trial is run again before it is given up.'),
   decisionThreshold: decisionThresholdSchema.optional(),
+  earlyStopping: earlyStoppingSchema.optional(),
 });
 
 /** A study definition as written in the file (defaults not yet applied). */
@@ -180,7 +197,7 @@ export interface Goal {
   better: 'higher' | 'lower';
 }
 
-const LOWER_IS_BETTER: ReadonlySet<MetricName> = new Set(['logLoss', 'rmse', 'mae', 'validationLoss']);
+export const LOWER_IS_BETTER: ReadonlySet<MetricName> = new Set(['logLoss', 'rmse', 'mae', 'validationLoss']);
 
 /** The goal in force: the study's own, else the task's default; which way is better follows the metric unless given. */
 export function resolveGoal(definition: Pick<StudyDefinition, 'goal' | 'data'>): Goal {

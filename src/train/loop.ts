@@ -4,9 +4,8 @@ import type { OptimizerName } from '../study/definition.js';
 import { permutation, stream } from '../random/streams.js';
 import { ConstantCachingAdam } from './adam.js';
 import { checkpointBytes, restoreCheckpoint } from './checkpoint.js';
-import { jobClassFigures } from './class-figures.js';
 import { datasetTensors, type DatasetTensors } from './data-cache.js';
-import { runEpochs } from './epochs.js';
+import { completeJob, lastEpochOf, runEpochs } from './epochs.js';
 import { ADAM, MOMENTUM } from './optimizer-constants.js';
 import { createNetwork, disposeNetwork, forward, l2Penalty, lossFromLogits, networkSpec, outputFromLogits, type Network } from './network.js';
 
@@ -126,8 +125,7 @@ export async function trainSegment(request: TrainRequest, onEpoch?: (report: Epo
   const tensorsBefore = tf.memory().numTensors;
   let epochs: EpochReport[] = [];
   let divergence: TrainResult['divergence'];
-  let checkpoint: Uint8Array | undefined;
-  let figures: TrainResult['classFigures'];
+  let completed: ReturnType<typeof completeJob> | undefined;
 
   const network = createNetwork(networkSpec(request.trialId, request.seed, params, dataset.inputCount, dataset.outputCount));
   const optimizer = createOptimizer(params.optimizer, params.learningRate);
@@ -137,14 +135,20 @@ export async function trainSegment(request: TrainRequest, onEpoch?: (report: Epo
       const expected = { trialId: request.trialId, epoch: request.fromEpoch, optimizer: params.optimizer };
       await restoreCheckpoint(request.checkpoint, expected, network.variables, optimizer);
     }
-    ({ epochs, divergence } = runEpochs(request, {
+    const run = runEpochs(
+      request,
+      {
         trainEpoch: (epoch) => trainEpoch(request, network, optimizer, data, epoch),
         validate: () => validate(request, network, data),
         setLearningRate: (rate) => setOptimizerLearningRate(optimizer, rate),
-      }, onEpoch));
+        snapshot: () => network.variables.map((v) => ({ name: v.name, shape: [...v.shape], values: (v.dataSync() as Float32Array).slice() })),
+      },
+      onEpoch,
+    );
+    ({ epochs, divergence } = run);
     if (!divergence) {
-      checkpoint = await checkpointBytes({ trialId: request.trialId, epoch: request.toEpoch, params }, network.variables, optimizer);
-      figures = jobClassFigures(dataset, validate(request, network, data).outputs, request.toEpoch);
+      const bytes = await checkpointBytes({ trialId: request.trialId, epoch: lastEpochOf(request, run.stopping), params }, network.variables, optimizer);
+      completed = completeJob(request, run.stopping, bytes, () => validate(request, network, data).outputs);
     }
   } finally {
     disposeOptimizer(optimizer);
@@ -159,7 +163,6 @@ export async function trainSegment(request: TrainRequest, onEpoch?: (report: Epo
     tensorsAfter: tf.memory().numTensors,
   };
   if (divergence) result.divergence = divergence;
-  if (checkpoint) result.checkpoint = checkpoint;
-  if (figures) result.classFigures = figures;
+  if (completed) Object.assign(result, completed);
   return result;
 }
