@@ -1,20 +1,26 @@
 import type { Goal } from '../study/definition.js';
 import type { RankedTrial } from '../study/objective.js';
+import { scheduleInWords } from '../train/schedule.js';
 import { formatNumber, textTable } from './format.js';
 
 /** The ranking as a text table: rank, trial, rung, epochs, score and the configuration. */
 export function rankingTable(ranking: readonly RankedTrial[], goal: Goal): string {
-  const header = ['rank', 'trial', 'rung', 'epochs', goal.metric, 'depth', 'width', 'activation', 'learning rate', 'batch', 'optimizer', 'l2', 'dropout'];
+  // Columns for schedules and early stopping only when a trial has them, so other rankings read as before.
+  const schedules = ranking.some(({ trial }) => trial.configuration.schedule !== undefined);
+  const stopping = ranking.some(({ trial }) => trial.bestEpoch !== undefined);
+  const header = ['rank', 'trial', 'rung', 'epochs', ...(stopping ? ['best epoch'] : []), goal.metric, 'depth', 'width', 'activation', 'learning rate', ...(schedules ? ['schedule'] : []), 'batch', 'optimizer', 'l2', 'dropout'];
   const rows = ranking.map(({ rank, trial }) => [
     String(rank),
     String(trial.id),
     String(trial.rung),
-    String(trial.epochsTrained),
+    String(trial.epochsTrained) + (trial.stoppedEarly ? ' (stopped)' : ''),
+    ...(stopping ? [trial.bestEpoch === undefined ? '-' : String(trial.bestEpoch)] : []),
     formatNumber(trial.score),
     String(trial.configuration.depth),
     String(trial.configuration.width),
     trial.configuration.activation,
     formatNumber(trial.configuration.learningRate),
+    ...(schedules ? [scheduleInWords(trial.configuration) ?? 'constant'] : []),
     String(trial.configuration.batchSize),
     trial.configuration.optimizer,
     formatNumber(trial.configuration.l2),
@@ -36,7 +42,9 @@ export function rankingJson(ranking: readonly RankedTrial[], goal: Goal): unknow
       score: trial.score,
       configuration: trial.configuration,
       seed: trial.seed,
-      metrics: trial.curve.at(-1)?.metrics ?? {},
+      metrics: (trial.bestEpoch !== undefined ? trial.curve.find((p) => p.epoch === trial.bestEpoch) : trial.curve.at(-1))?.metrics ?? {},
+      ...(trial.bestEpoch !== undefined ? { bestEpoch: trial.bestEpoch } : {}),
+      ...(trial.stoppedAtEpoch !== undefined ? { stoppedAtEpoch: trial.stoppedAtEpoch } : {}),
     })),
   };
 }

@@ -46,3 +46,14 @@ export function learningRateAt(configuration: ScheduleSettings, epoch: number, m
   const etaMin = (configuration.minFactor ?? SCHEDULE_DEFAULTS.minFactor) * eta0;
   return etaMin + ((eta0 - etaMin) * (1 + Math.cos((Math.PI * Math.min(t, period)) / period))) / 2;
 }
+
+/** The schedule in words for tables ("cosine to 0.05x, warm-up 2"), or undefined for a configuration without one. */
+export function scheduleInWords(configuration: ScheduleSettings): string | undefined {
+  if (configuration.schedule === undefined) return undefined;
+  const parts: string[] = [configuration.schedule];
+  const round = (value: number): string => String(Number(value.toPrecision(3)));
+  if (configuration.schedule === 'step') parts[0] = `step x${round(configuration.gamma ?? SCHEDULE_DEFAULTS.gamma)} every ${configuration.stepEpochs ?? SCHEDULE_DEFAULTS.stepEpochs}`;
+  if (configuration.schedule === 'cosine') parts[0] = `cosine to ${round(configuration.minFactor ?? SCHEDULE_DEFAULTS.minFactor)}x`;
+  if ((configuration.warmupEpochs ?? 0) > 0) parts.push(`warm-up ${configuration.warmupEpochs}`);
+  return parts.join(', ');
+}
