@@ -5,9 +5,10 @@
 import { describe, expect, it } from 'vitest';
 import { AsyncHalvingSampler } from '../src/samplers/async-halving.js';
 import { HyperbandSampler } from '../src/samplers/hyperband.js';
-import type { Job, Sampler } from '../src/samplers/sampler.js';
+import { createSampler, replay, SAMPLER_PLUGINS } from '../src/samplers/index.js';
+import type { Job, JobOutcome, Sampler } from '../src/samplers/sampler.js';
 import { SuccessiveHalvingSampler } from '../src/samplers/successive-halving.js';
-import type { TrialConfiguration } from '../src/study/definition.js';
+import { budgetSchema, samplerSchema, spaceSchema, type TrialConfiguration } from '../src/study/definition.js';
 
 const paramsFor = (trialId: number): TrialConfiguration => ({
   depth: 1, width: 8 + trialId, activation: 'relu', learningRate: 0.01, batchSize: 32, optimizer: 'adam', l2: 0, dropout: 0,
@@ -60,4 +61,43 @@ describe('halving samplers with early stopping', () => {
     for (const job of rung0) sampler.report({ trialId: job.trialId, rung: 0, loss: job.trialId / 10, ...(job.trialId === 2 ? { stopped: true } : {}) });
     expect(drain(sampler).filter((j) => j.rung === 1).map((j) => j.trialId)).toEqual([0, 1, 3]);
   });
+});
+
+describe('every sampler kind with a schedule in the space and trials that stop early', () => {
+  const space = spaceSchema.parse({
+    depth: { min: 1, max: 3 },
+    width: { min: 4, max: 64, log: true },
+    activation: ['relu', 'tanh'],
+    learningRate: { min: 1e-4, max: 0.3 },
+    schedule: { kind: ['constant', 'step', 'cosine'], gamma: { min: 0.1, max: 0.9 }, stepEpochs: { min: 2, max: 9 }, warmupEpochs: 1, minFactor: { min: 0, max: 0.2 } },
+  });
+  /** Stand-in for training: better near learning rate 0.01; every fourth trial "stops early". */
+  const loss = (job: Job): number => Math.abs(Math.log10(job.configuration.learningRate) + 2) + 1 / job.toEpoch + (job.configuration.gamma ?? 0) / 10;
+
+  for (const plugin of SAMPLER_PLUGINS) {
+    it(`${plugin.kind}: draws schedules, never continues a stopped trial, and replays to the same jobs`, () => {
+      const definition = { space, budget: budgetSchema.parse({ trials: 18, maxEpochs: 27 }), sampler: samplerSchema.parse({ kind: plugin.kind, seed: 4 }) };
+      const sampler = createSampler(definition);
+      const jobs: Job[] = [];
+      const outcomes: JobOutcome[] = [];
+      const stopped = new Set<number>();
+      for (let next = sampler.next(); next !== 'done'; next = sampler.next()) {
+        if (next === 'wait') throw new Error('one job at a time never waits');
+        expect(stopped.has(next.trialId), `trial ${next.trialId} continued after it stopped`).toBe(false);
+        expect(['constant', 'step', 'cosine']).toContain(next.configuration.schedule);
+        expect(next.configuration.warmupEpochs).toBe(1);
+        jobs.push(next);
+        const outcome: JobOutcome = { trialId: next.trialId, rung: next.rung, loss: loss(next), ...(next.trialId % 4 === 1 ? { stopped: true } : {}) };
+        if (outcome.stopped) stopped.add(next.trialId);
+        outcomes.push(outcome);
+        sampler.report(outcome);
+      }
+      const history = new Map(jobs.map((j) => [j.trialId, j.configuration]));
+      const again = createSampler(definition);
+      const { pending, unused } = replay(again, outcomes, history);
+      expect(pending).toEqual([]);
+      expect(unused).toEqual([]);
+      expect(again.next()).toBe('done');
+    });
+  }
 });
