@@ -3,7 +3,7 @@
  * the trainers stopping where the rule says and keeping the best epoch's weights, a continued trial
  * deciding as one trained straight through, and studies on outside data scored at the best epoch.
  */
-import { copyFile, writeFile } from 'node:fs/promises';
+import { copyFile, readFile, writeFile } from 'node:fs/promises';
 import path from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { beforeAll, describe, expect, it } from 'vitest';
@@ -94,7 +94,7 @@ describe('the trainers stop and keep the best epoch', () => {
   const earlyStopping: EarlyStoppingSettings = { rule: { rule: 'patience', patience: 3, minDelta: 0 }, goal: { metric: 'rmse', better: 'lower' } };
 
   for (const [name, train] of [['engine', trainSegmentOnEngine], ['tfjs', trainSegment]] as const) {
-    it(`${name}: stops ${earlyStopping.rule.rule === 'patience' ? 3 : 0} epochs after the best, reports both, and its checkpoint holds the best epoch's weights (those of a run trained to it)`, async () => {
+    it(`${name}: with patience 3 stops 3 epochs after the best, reports both, and its checkpoint holds the best epoch's weights (those of a run trained to it)`, async () => {
       const stopped = await train(trainRequest(regression, { toEpoch: 60, params, earlyStopping }));
       expect(stopped.status).toBe('completed');
       const curve = stopped.epochs.map((e) => scoreAt(e, earlyStopping.goal)!);
@@ -119,17 +119,19 @@ describe('the trainers stop and keep the best epoch', () => {
     expect(stopped.classFigures).toStrictEqual(toBest.classFigures);
   });
 
-  it('engine: a trial continued from a checkpoint stops, scores and checkpoints exactly as one trained straight through', async () => {
-    const straight = await trainSegmentOnEngine(trainRequest(regression, { toEpoch: 60, params, earlyStopping }));
-    const split = Math.max(1, straight.bestEpoch! + 1); // after the best epoch: the second job must carry the best weights over
-    const first = await trainSegmentOnEngine(trainRequest(regression, { toEpoch: split, params, earlyStopping }));
-    expect(first.stoppedAtEpoch).toBeUndefined();
-    const second = await trainSegmentOnEngine(trainRequest(regression, { fromEpoch: split, toEpoch: 60, params, earlyStopping, checkpoint: first.checkpoint! }));
-    expect(figures([...first.epochs, ...second.epochs])).toStrictEqual(figures(straight.epochs));
-    expect(second.bestEpoch).toBe(straight.bestEpoch);
-    expect(second.stoppedAtEpoch).toBe(straight.stoppedAtEpoch);
-    expect(second.checkpoint).toStrictEqual(straight.checkpoint);
-  });
+  for (const [name, train] of [['engine', trainSegmentOnEngine], ['tfjs', trainSegment]] as const) {
+    it(`${name}: a trial continued from a checkpoint stops, scores and checkpoints exactly as one trained straight through`, async () => {
+      const straight = await train(trainRequest(regression, { toEpoch: 60, params, earlyStopping }));
+      const split = straight.bestEpoch! + 1; // after the best epoch: the second job must carry the best weights over
+      const first = await train(trainRequest(regression, { toEpoch: split, params, earlyStopping }));
+      expect(first.stoppedAtEpoch).toBeUndefined();
+      const second = await train(trainRequest(regression, { fromEpoch: split, toEpoch: 60, params, earlyStopping, checkpoint: first.checkpoint! }));
+      expect(figures([...first.epochs, ...second.epochs])).toStrictEqual(figures(straight.epochs));
+      expect(second.bestEpoch).toBe(straight.bestEpoch);
+      expect(second.stoppedAtEpoch).toBe(straight.stoppedAtEpoch);
+      expect(second.checkpoint).toStrictEqual(straight.checkpoint);
+    });
+  }
 
   it('without early stopping nothing changes: no best epoch, the checkpoint has no best section', async () => {
     const plain = await trainSegmentOnEngine(trainRequest(regression, { toEpoch: 5, params }));
@@ -185,7 +187,7 @@ describe('studies with early stopping are ranked at the best epoch', () => {
     // The demo data are invented (scripts/generate-demo-data.ts); what is checked is the ranking rule.
     const dir = await makeTempDir('rungwise-stopping-demo-');
     await copyFile(path.join(DEMO, 'pump-logs.csv'), path.join(dir, 'pump-logs.csv'));
-    const halving = studyFromObject(JSON.parse(await (await import('node:fs/promises')).readFile(path.join(DEMO, 'study-halving.json'), 'utf8')), DEMO).definition;
+    const halving = studyFromObject(JSON.parse(await readFile(path.join(DEMO, 'study-halving.json'), 'utf8')), DEMO).definition;
     const definition = { ...halving, name: 'demo-stopping', data: { ...halving.data, csv: 'pump-logs.csv' }, budget: { trials: 9, maxEpochs: 27 }, earlyStopping: { rule: 'patience', patience: 3 } };
     const file = path.join(dir, 'study.json');
     await writeFile(file, JSON.stringify(definition));
