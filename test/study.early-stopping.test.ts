@@ -14,12 +14,15 @@ import { runStudy } from '../src/runner/run-study.js';
 import type { Goal, StudyDefinitionInput } from '../src/study/definition.js';
 import { errorOf, generalisationLoss, observeEpoch, type EarlyStoppingSettings, type EarlyStoppingState } from '../src/study/early-stopping.js';
 import { studyFromObject } from '../src/study/load.js';
-import { beats, scoreAt } from '../src/study/objective.js';
+import { beats, rankTrials, scoreAt } from '../src/study/objective.js';
+import { describeJob } from '../src/report/progress.js';
+import { rankingTable } from '../src/report/ranking-table.js';
 import type { TrialRecord } from '../src/store/types.js';
 import { initBackend } from '../src/train/backend.js';
 import { trainSegment } from '../src/train/loop.js';
 import { makeTempDir, PENGUINS_MEASUREMENTS, PENGUINS_TARGET, writePenguinsCsv } from './helpers/datasets.js';
 import { tinyStudy } from './helpers/studies.js';
+import { trialRecord } from './helpers/trials.js';
 import { syntheticDataset, trainRequest } from './helpers/synthetic.js';
 
 beforeAll(() => initBackend());
@@ -193,5 +196,20 @@ describe('studies with early stopping are ranked at the best epoch', () => {
     await writeFile(file, JSON.stringify(definition));
     const outcome = await runStudy(file, { out: path.join(dir, 'run') });
     expectScoredAtBest(outcome.doc.trials, outcome.doc.goal);
+  });
+});
+
+describe('what the CLI says of a stopped trial', () => {
+  it('the progress line names the stop and the best epoch; the ranking table has a best-epoch column', () => {
+    const trial = trialRecord(4, 0.81, { epochsTrained: 7, bestEpoch: 4, stoppedEarly: true, stoppedAtEpoch: 7, rung: 1, rungScores: [0.7, 0.81], jobs: [{ rung: 0, fromEpoch: 0, toEpoch: 3, fromCheckpoint: false, attempts: 1, status: 'done' }, { rung: 1, fromEpoch: 3, toEpoch: 9, fromCheckpoint: true, attempts: 1, status: 'done' }] });
+    const job = { trialId: 4, configuration: trial.configuration, rung: 1, bracket: 0, fromEpoch: 3, toEpoch: 9 };
+    expect(describeJob({ trial, job }, 'auc')).toBe('trial 4 rung 1 stopped early after epoch 7: auc 0.81 (best epoch 4)');
+    const other = trialRecord(5, 0.9, { epochsTrained: 3, jobs: [{ rung: 0, fromEpoch: 0, toEpoch: 3, fromCheckpoint: false, attempts: 1, status: 'done' }] });
+    const ranking = rankTrials([trial, other], { metric: 'auc', better: 'higher' });
+    // The stopped trial counts with the 9 epochs its rung gave it, so it outranks a 3-epoch trial with a higher score.
+    expect(ranking.map((r) => r.trial.id)).toEqual([4, 5]);
+    const table = rankingTable(ranking, { metric: 'auc', better: 'higher' }).split('\n');
+    expect(table[0]).toMatch(/epochs\s+best epoch\s+auc/);
+    expect(table.find((line) => /^\s*1\s/.test(line))).toMatch(/7 \(stopped\)\s+4\s+0\.81/);
   });
 });
