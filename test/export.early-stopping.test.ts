@@ -33,11 +33,11 @@ async function validationLogLoss(doc: StudyDocument, dir: string): Promise<numbe
 }
 
 describe('export with early stopping', () => {
-  it('writes the best epoch\'s weights and says which epoch, in configuration.json and the printed summary', async () => {
+  it('writes the best epoch\'s weights and says which epoch, in configuration.json (beside the drawn schedule) and the printed summary', async () => {
     const file = await writeTinyStudy(
       tinyStudy({
         budget: { trials: 4, maxEpochs: 40 },
-        space: { ...tinyStudy().space, learningRate: { min: 0.05, max: 0.3 }, width: { min: 16, max: 32 } },
+        space: { ...tinyStudy().space, learningRate: { min: 0.05, max: 0.3 }, width: { min: 16, max: 32 }, schedule: { kind: ['step', 'cosine'], stepEpochs: 20 } },
         goal: { metric: 'logLoss' },
         earlyStopping: { rule: 'patience', patience: 2 },
       }),
@@ -55,6 +55,9 @@ describe('export with early stopping', () => {
     expect(configuration.weightsEpoch).toBe(trial.bestEpoch);
     expect(configuration.validation.epoch).toBe(trial.bestEpoch);
     expect(configuration.score).toBe(trial.score);
+    // The schedule the trial drew is part of its configuration.
+    expect(configuration.configuration).toEqual(trial.configuration);
+    expect(Object.keys(configuration.configuration)).toEqual(expect.arrayContaining(['schedule', 'warmupEpochs', 'gamma', 'stepEpochs', 'minFactor']));
     const best = trial.curve.find((p) => p.epoch === trial.bestEpoch)!;
     const last = trial.curve.at(-1)!;
     // Far enough apart that the check below tells the best epoch's weights from the last one's.
