@@ -136,6 +136,24 @@ describe('the trainers stop and keep the best epoch', () => {
     });
   }
 
+  it('engine: a loss that diverges after a best epoch stops the trial after the last finite epoch, scored and checkpointed at its best', async () => {
+    // sgd with a learning rate that warm-up raises every epoch: finite for a few epochs, then it runs away.
+    const rising = { optimizer: 'sgd' as const, learningRate: 4, schedule: 'constant' as const, warmupEpochs: 20, batchSize: 8 };
+    const settings: EarlyStoppingSettings = { rule: { rule: 'patience', patience: 10, minDelta: 0 }, goal: { metric: 'rmse', better: 'lower' } };
+    const plain = await trainSegmentOnEngine(trainRequest(regression, { toEpoch: 30, maxEpochs: 30, params: rising }));
+    expect(plain.status).toBe('diverged');
+    const stopped = await trainSegmentOnEngine(trainRequest(regression, { toEpoch: 30, maxEpochs: 30, params: rising, earlyStopping: settings }));
+    expect(stopped.status).toBe('completed');
+    expect(stopped.divergedAfterBest?.epoch).toBe(plain.divergence!.epoch);
+    expect(stopped.stoppedAtEpoch).toBe(plain.divergence!.epoch - 1);
+    const curve = stopped.epochs.map((e) => e.metrics.rmse!);
+    expect(stopped.bestEpoch).toBe(curve.indexOf(Math.min(...curve)) + 1);
+    const toBest = await trainSegmentOnEngine(trainRequest(regression, { toEpoch: stopped.bestEpoch!, maxEpochs: 30, params: rising }));
+    expect(bestCheckpointWeights(stopped.checkpoint!).weights).toStrictEqual(checkpointWeights(toBest.checkpoint!));
+    // Its own network is the best epoch's too: the last weights were not numbers.
+    expect(checkpointWeights(stopped.checkpoint!)).toStrictEqual(checkpointWeights(toBest.checkpoint!));
+  });
+
   it('without early stopping nothing changes: no best epoch, the checkpoint has no best section', async () => {
     const plain = await trainSegmentOnEngine(trainRequest(regression, { toEpoch: 5, params }));
     expect(plain.bestEpoch).toBeUndefined();
@@ -160,7 +178,8 @@ function expectScoredAtBest(trials: readonly TrialRecord[], goal: Goal): void {
       expect(trial.stoppedAtEpoch).toBe(trial.epochsTrained);
       expect(trial.curve.at(-1)!.epoch).toBe(trial.stoppedAtEpoch);
       const last = trial.jobs.at(-1)!;
-      expect(last.fromEpoch < trial.stoppedAtEpoch! && trial.stoppedAtEpoch! <= last.toEpoch, `trial ${trial.id}: its last job is the one that stopped (not promoted past it)`).toBe(true);
+      // (a divergence at the first epoch of a job stops it at the job's fromEpoch)
+      expect(last.fromEpoch <= trial.stoppedAtEpoch! && trial.stoppedAtEpoch! <= last.toEpoch, `trial ${trial.id}: its last job is the one that stopped (not promoted past it)`).toBe(true);
     }
   }
   expect(stopped, 'some trial stopped early (else the check says nothing of stopping)').toBeGreaterThan(0);

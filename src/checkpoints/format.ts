@@ -91,6 +91,15 @@ export function withBestEpoch(bytes: Uint8Array, best: { epoch: number; score: n
   return encodeCheckpoint({ ...manifest, best: section }, [...network, ...optimizer, ...(weights ?? [])].map((w) => w.values));
 }
 
+/** The checkpoint with its network weights replaced by `weights` (same names and shapes), the rest unchanged. */
+export function withNetwork(bytes: Uint8Array, weights: readonly NamedWeights[]): Uint8Array {
+  const { manifest, network, optimizer, best } = decodeCheckpoint(bytes);
+  if (weights.length !== network.length || weights.some((w, i) => w.name !== network[i]!.name || w.values.length !== network[i]!.values.length)) {
+    throw new Error(`checkpoint of trial ${manifest.trialId}: the replacement weights do not match its network`);
+  }
+  return encodeCheckpoint(manifest, [...weights, ...optimizer, ...(best ?? [])].map((w) => w.values));
+}
+
 /** The network weights to export: the best epoch's with early stopping, else the checkpoint's own; and their epoch. */
 export function bestCheckpointWeights(bytes: Uint8Array): { epoch: number; weights: NamedWeights[] } {
   const { manifest, network, best } = decodeCheckpoint(bytes);

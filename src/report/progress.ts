@@ -42,7 +42,8 @@ export function describeJob(event: Pick<TrialFinished, 'trial' | 'job'>, metric:
   const where = trial.jobs.find((j) => j.rung === job.rung && j.toEpoch === job.toEpoch)?.ranOn;
   // Early stopping: the epoch the score is from, and where the rule ended the trial.
   const stoppedHere = trial.stoppedAtEpoch !== undefined && trial.rung === job.rung;
-  const ended = stoppedHere ? `stopped early after epoch ${trial.stoppedAtEpoch}` : `done at epoch ${job.toEpoch}`;
+  const diverged = stoppedHere && trial.divergedAfterBest ? ` (${trial.divergedAfterBest.reason})` : '';
+  const ended = stoppedHere ? `stopped early after epoch ${trial.stoppedAtEpoch}${diverged}` : `done at epoch ${job.toEpoch}`;
   const best = trial.bestEpoch !== undefined ? ` (best epoch ${trial.bestEpoch})` : '';
   return `trial ${trial.id}${rung} ${ended}: ${metric} ${formatNumber(value)}${best}${where ? ` on ${where}` : ''}`;
 }

@@ -58,6 +58,8 @@ export function applyResult(record: TrialRecord, job: Job, result: TrainResult, 
     delete record.stoppedEarly;
     delete record.stoppedAtEpoch;
   }
+  if (result.divergedAfterBest) record.divergedAfterBest = result.divergedAfterBest;
+  else delete record.divergedAfterBest;
   if (result.bestEpoch !== undefined) {
     // Early stopping: the trial is scored (and exported) at its best epoch, which may be an earlier job's.
     record.bestEpoch = result.bestEpoch;

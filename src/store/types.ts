@@ -33,6 +33,8 @@ export interface TrialRecord {
   stoppedEarly?: boolean;
   /** The epoch after which the rule stopped it (= `epochsTrained`). */
   stoppedAtEpoch?: number;
+  /** With early stopping: the stop came from a divergence after the best epoch (the epoch and why), not from the rule. */
+  divergedAfterBest?: { epoch: number; reason: string };
   /** Score at the end of each rung reached, by rung index. */
   rungScores: (number | null)[];
   startedAt?: string;

@@ -4,7 +4,7 @@
  * runs away, and with early stopping keep the best epoch's weights and stop where the rule says.
  */
 import type { EpochReport, TrainRequest, TrainResult } from '../pool/messages.js';
-import { checkpointManifest, decodeCheckpoint, withBestEpoch, type NamedWeights } from '../checkpoints/format.js';
+import { checkpointManifest, decodeCheckpoint, withBestEpoch, withNetwork, type NamedWeights } from '../checkpoints/format.js';
 import { observeEpoch, type EarlyStoppingState } from '../study/early-stopping.js';
 import { scoreAt } from '../study/objective.js';
 import { jobClassFigures, type ClassFigures } from './class-figures.js';
@@ -30,6 +30,8 @@ export interface StoppingRun {
   stoppedAtEpoch?: number;
   /** Set when this job found a new best epoch: that epoch's weights and validation outputs. */
   best?: { weights: NamedWeights[]; outputs: Float32Array };
+  /** Set when the loss diverged after a best epoch: the stop is then at the epoch before it. */
+  divergence?: { epoch: number; reason: string };
 }
 
 /**
@@ -56,7 +58,16 @@ export function runEpochs(
     const trainLoss = steps.trainEpoch(epoch);
     const validation = Number.isFinite(trainLoss) ? steps.validate() : { loss: Number.NaN, outputs: new Float32Array(0) };
     const reason = divergenceReason(epoch, trainLoss, validation.loss, dataset.task, dataset.outputCount);
-    if (reason) return { epochs, divergence: { epoch, reason }, ...(stopping ? { stopping } : {}) };
+    if (reason) {
+      // With early stopping and a best epoch, a divergence is a stop after the last finite epoch:
+      // the trial is scored and exported at its best epoch, whose weights are kept.
+      if (stopping?.state) {
+        stopping.stoppedAtEpoch = epoch - 1;
+        stopping.divergence = { epoch, reason };
+        return { epochs, stopping };
+      }
+      return { epochs, divergence: { epoch, reason }, ...(stopping ? { stopping } : {}) };
+    }
     const report: EpochReport = {
       trialId: request.trialId,
       epoch,
@@ -106,7 +117,7 @@ export function completeJob(
   stopping: StoppingRun | undefined,
   checkpoint: Uint8Array,
   finalOutputs: () => Float32Array,
-): Pick<TrainResult, 'checkpoint' | 'classFigures' | 'bestEpoch' | 'stoppedAtEpoch'> {
+): Pick<TrainResult, 'checkpoint' | 'classFigures' | 'bestEpoch' | 'stoppedAtEpoch' | 'divergedAfterBest'> {
   const { dataset } = request;
   const lastEpoch = lastEpochOf(request, stopping);
   const state = stopping?.state;
@@ -125,10 +136,14 @@ export function completeJob(
     weights = incoming.best ?? incoming.network;
     figures = incoming.manifest.best?.classFigures;
   }
-  const result: Pick<TrainResult, 'checkpoint' | 'classFigures' | 'bestEpoch' | 'stoppedAtEpoch'> = {
-    checkpoint: withBestEpoch(checkpoint, { epoch: state.bestEpoch, score: state.bestScore, weights, ...(figures ? { classFigures: figures } : {}) }),
+  // After a divergence the last weights are not numbers: the checkpoint's own network is the best epoch's
+  // (the trial is never continued; only its best epoch is used).
+  const own = stopping.divergence ? withNetwork(checkpoint, weights) : checkpoint;
+  const result: Pick<TrainResult, 'checkpoint' | 'classFigures' | 'bestEpoch' | 'stoppedAtEpoch' | 'divergedAfterBest'> = {
+    checkpoint: withBestEpoch(own, { epoch: state.bestEpoch, score: state.bestScore, weights, ...(figures ? { classFigures: figures } : {}) }),
     bestEpoch: state.bestEpoch,
   };
+  if (stopping.divergence) result.divergedAfterBest = stopping.divergence;
   if (figures) result.classFigures = figures;
   if (stopping.stoppedAtEpoch !== undefined) result.stoppedAtEpoch = stopping.stoppedAtEpoch;
   return result;

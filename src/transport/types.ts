@@ -75,6 +75,8 @@ export interface TrainResult {
   bestEpoch?: number;
   /** With early stopping: the epoch after which the rule stopped the trial in this job (absent: it trained to `toEpoch`). */
   stoppedAtEpoch?: number;
+  /** With early stopping: the loss diverged after a best epoch, so the trial stopped after the epoch before (`stoppedAtEpoch`) instead of diverging. */
+  divergedAfterBest?: { epoch: number; reason: string };
   /** Classification, when it completed: confusion matrix and average precision per class on the validation split, for the checkpointed weights (the best epoch's, with early stopping). */
   classFigures?: ClassFigures;
   /** Worker wall time of the whole job, seconds. */
