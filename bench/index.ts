@@ -5,6 +5,7 @@
  */
 import path from 'node:path';
 import { budgetGroup } from './budget.js';
+import { earlyStoppingGroup } from './early-stopping.js';
 import { engineGroup } from './engine.js';
 import { dataGroup } from './data.js';
 import { memoryGroup } from './memory.js';
@@ -32,6 +33,7 @@ const GROUPS: Record<string, (options: BenchOptions) => Promise<GroupResult>> = 
   memory: memoryGroup,
   scheduling: schedulingGroup,
   budget: budgetGroup,
+  'early-stopping': earlyStoppingGroup,
   model: modelGroup,
   startup: startupGroup,
   queue: queueGroup,

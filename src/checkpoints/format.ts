@@ -6,6 +6,7 @@
  * manifests without loading a training library.
  */
 import type { OptimizerName, TrialConfiguration } from '../study/definition.js';
+import type { ClassFigures } from '../train/class-figures.js';
 
 /** Version 2: one byte string (version 1 was a folder with checkpoint.json and weights.bin). */
 export const CHECKPOINT_FORMAT_VERSION = 2;
@@ -24,13 +25,12 @@ export interface CheckpointManifest {
   params: TrialConfiguration;
   variables: VariableEntry[];
   optimizer: { name: OptimizerName; iterations: number; variables: VariableEntry[] };
-}
-
-/** A network weight read back from a checkpoint. */
-export interface NamedWeights {
-  name: string;
-  shape: number[];
-  values: Float32Array;
+  /**
+   * With early stopping: the best epoch so far and its goal score (what the rule needs to go on),
+   * that epoch's network weights (`variables`, stored after the optimizer's; absent when the best
+   * epoch is `epoch`, whose weights are the network's) and its per-class figures.
+   */
+  best?: { epoch: number; score: number; variables?: VariableEntry[]; classFigures?: ClassFigures };
 }
 
 /** A network or optimizer variable read back from a checkpoint. */
@@ -58,7 +58,7 @@ export function encodeCheckpoint(manifest: CheckpointManifest, values: readonly 
 }
 
 /** Decodes checkpoint bytes: the manifest and every stored variable (network then optimizer), in manifest order. */
-export function decodeCheckpoint(bytes: Uint8Array): { manifest: CheckpointManifest; network: NamedWeights[]; optimizer: NamedWeights[] } {
+export function decodeCheckpoint(bytes: Uint8Array): { manifest: CheckpointManifest; network: NamedWeights[]; optimizer: NamedWeights[]; best?: NamedWeights[] } {
   const view = new DataView(bytes.buffer, bytes.byteOffset, bytes.byteLength);
   const header = decodeHeader(bytes);
   const manifest = header.manifest;
@@ -72,8 +72,39 @@ export function decodeCheckpoint(bytes: Uint8Array): { manifest: CheckpointManif
   };
   const network = manifest.variables.map(take);
   const optimizer = manifest.optimizer.variables.map(take);
+  const best = manifest.best?.variables?.map(take);
   if (offset !== bytes.length) throw new Error(`checkpoint of trial ${manifest.trialId} is longer than its manifest says`);
-  return { manifest, network, optimizer };
+  return { manifest, network, optimizer, ...(best ? { best } : {}) };
+}
+
+/**
+ * The checkpoint with its early-stopping section replaced: the best epoch and score, and the best
+ * epoch's network weights when that epoch is not the checkpoint's own.
+ */
+export function withBestEpoch(bytes: Uint8Array, best: { epoch: number; score: number; weights?: readonly NamedWeights[]; classFigures?: ClassFigures }): Uint8Array {
+  const { manifest, network, optimizer } = decodeCheckpoint(bytes);
+  const weights = best.epoch === manifest.epoch ? undefined : best.weights;
+  if (best.epoch !== manifest.epoch && !weights) throw new Error(`checkpoint of trial ${manifest.trialId}: the weights of best epoch ${best.epoch} are missing`);
+  const section: NonNullable<CheckpointManifest['best']> = { epoch: best.epoch, score: best.score };
+  if (weights) section.variables = weights.map(({ name, shape }) => ({ name, shape }));
+  if (best.classFigures) section.classFigures = best.classFigures;
+  return encodeCheckpoint({ ...manifest, best: section }, [...network, ...optimizer, ...(weights ?? [])].map((w) => w.values));
+}
+
+/** The checkpoint with its network weights replaced by `weights` (same names and shapes), the rest unchanged. */
+export function withNetwork(bytes: Uint8Array, weights: readonly NamedWeights[]): Uint8Array {
+  const { manifest, network, optimizer, best } = decodeCheckpoint(bytes);
+  if (weights.length !== network.length || weights.some((w, i) => w.name !== network[i]!.name || w.values.length !== network[i]!.values.length)) {
+    throw new Error(`checkpoint of trial ${manifest.trialId}: the replacement weights do not match its network`);
+  }
+  return encodeCheckpoint(manifest, [...weights, ...optimizer, ...(best ?? [])].map((w) => w.values));
+}
+
+/** The network weights to export: the best epoch's with early stopping, else the checkpoint's own; and their epoch. */
+export function bestCheckpointWeights(bytes: Uint8Array): { epoch: number; weights: NamedWeights[] } {
+  const { manifest, network, best } = decodeCheckpoint(bytes);
+  if (manifest.best && best) return { epoch: manifest.best.epoch, weights: best };
+  return { epoch: manifest.best?.epoch ?? manifest.epoch, weights: network };
 }
 
 /** The manifest alone (trial, epoch, configuration), without decoding the values. */

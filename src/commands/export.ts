@@ -6,7 +6,7 @@ import { UserError } from '../errors.js';
 import { writeFolderAtomically } from '../files/atomic-folder.js';
 import { packageVersion } from '../files/package-files.js';
 import type * as tf from '@tensorflow/tfjs';
-import { CONFIGURATION_FILE, buildConfiguration, lastEpochFigures, type ExportFigures } from '../export/configuration.js';
+import { CONFIGURATION_FILE, buildConfiguration, lastEpochFigures, scoredEpoch, type ExportFigures } from '../export/configuration.js';
 import { OPTIMISM_CAUTION } from '../report/caution.js';
 import { evaluateExportedModel } from '../export/evaluate.js';
 import { MODEL_FILE, WEIGHTS_FILE, buildLayersModel, outputCount, predictRows, saveLayersModel } from '../export/model-files.js';
@@ -60,8 +60,12 @@ export interface ExportSummary {
   trialId: number;
   rank: number;
   goal: Goal;
-  /** The trial's score: the goal's metric at its last epoch, on the validation split. */
+  /** The trial's score: the goal's metric at its last epoch (the best epoch with early stopping), on the validation split. */
   score: number;
+  /** The epoch whose weights were exported (the best with early stopping); `stoppedAtEpoch` where early stopping ended the trial. */
+  epoch: number;
+  bestEpoch?: number;
+  stoppedAtEpoch?: number;
   /** Metrics the study recorded for the trial's last epoch, on the validation split. */
   validation: Metrics;
   /** With --retrain: the retrained model's metrics on the held-out test split. */
@@ -128,7 +132,7 @@ export async function exportModel(options: ExportCommandOptions): Promise<Export
     (existing) => existsSync(path.join(existing, CONFIGURATION_FILE)),
     async (partial) => {
       await initBackend();
-      const weights = retrain ? await retrainTrial(data!, trial) : kept!;
+      const weights = retrain ? await retrainTrial(data!, trial, doc.definition.budget.maxEpochs) : kept!;
       const model = buildLayersModel(trial.configuration, doc.recipe, weights);
       try {
         figures = { ...exportFigures(model, doc, trial, data, rule, retrain), ...(retrain ? { retrained: true } : {}) };
@@ -155,6 +159,9 @@ export async function exportModel(options: ExportCommandOptions): Promise<Export
     rank,
     goal: doc.goal,
     score: trial.score!,
+    epoch: retrain ? (trial.bestEpoch ?? trial.epochsTrained) : scoredEpoch(trial),
+    ...(trial.bestEpoch !== undefined ? { bestEpoch: trial.bestEpoch } : {}),
+    ...(trial.stoppedAtEpoch !== undefined ? { stoppedAtEpoch: trial.stoppedAtEpoch } : {}),
     validation: lastEpochFigures(trial).metrics,
     retrained: retrain,
     format,
@@ -180,7 +187,7 @@ function exportFigures(model: tf.LayersModel, doc: StudyDocument, trial: TrialRe
   const classes: NonNullable<ExportFigures['classes']> = {};
   const outputsOf = (split: SplitArrays): Float32Array => predictRows(model, split.x, split.rows, recipe.inputCount);
   const reportAt = (split: SplitArrays, outputs: Float32Array, threshold: number): ClassReport | undefined => {
-    const counted = classFigures(recipe.task, split.y, outputs, outputCount(recipe), trial.epochsTrained, threshold);
+    const counted = classFigures(recipe.task, split.y, outputs, outputCount(recipe), scoredEpoch(trial), threshold);
     return counted && recipe.classes ? classReport(recipe.task, recipe.classes, counted) : undefined;
   };
   if (rule && data) {
@@ -210,6 +217,7 @@ export function exportReport(summary: ExportSummary): string {
     ...(summary.folds !== undefined
       ? [`the study scored each trial on ${summary.folds} folds, so the model was retrained on all of them (the training and validation rows) for the epochs the trial was scored at; its validation figures are the mean over the folds`]
       : []),
+    ...(summary.bestEpoch !== undefined ? [`weights: ${weightsLine(summary)}`] : []),
     `folder: ${summary.out} (${summary.files.join(', ')})`,
     '',
   ];
@@ -229,6 +237,13 @@ export function exportReport(summary: ExportSummary): string {
   else if (!summary.test) lines.push(`No test metrics: \`rungwise export ${summary.dir} --rank ${summary.rank} --retrain\` scores the configuration on the held-out test split.`);
   lines.push(summary.caution);
   return lines.join('\n');
+}
+
+/** Which epoch's weights were exported, in words (early stopping only: otherwise they are the last epoch's). */
+function weightsLine(summary: ExportSummary): string {
+  const trained = summary.retrained ? `retrained for ${summary.epoch} epoch${summary.epoch === 1 ? '' : 's'}` : `epoch ${summary.epoch}`;
+  const stopped = summary.stoppedAtEpoch !== undefined ? `, early stopping ended the trial after epoch ${summary.stoppedAtEpoch}` : '';
+  return `${trained} (the trial's best epoch ${summary.bestEpoch}${stopped})`;
 }
 
 const figure = (value: number | null): string => (value === null ? '-' : value.toFixed(3));

@@ -3,9 +3,8 @@
  * path's `trainSegment` (src/train/loop.ts), which stays the reference it is tested against.
  */
 import type { EpochReport, TrainRequest, TrainResult } from '../pool/messages.js';
-import { jobClassFigures } from '../train/class-figures.js';
-import { runEpochs } from '../train/epochs.js';
-import { restoreTrialCheckpoint, trialCheckpoint } from './checkpoint-state.js';
+import { completeJob, lastEpochOf, runEpochs } from '../train/epochs.js';
+import { networkWeights, restoreTrialCheckpoint, trialCheckpoint } from './checkpoint-state.js';
 import { EngineTrial } from './trial.js';
 
 /**
@@ -22,13 +21,16 @@ export async function trainSegmentOnEngine(request: TrainRequest, onEpoch?: (rep
     if (!request.checkpoint) throw new Error(`trial ${request.trialId}: fromEpoch is ${request.fromEpoch} but no checkpoint was given`);
     restoreTrialCheckpoint(request.checkpoint, trial, request.fromEpoch);
   }
-  const { epochs, divergence } = runEpochs(request, { trainEpoch: (epoch) => trial.trainEpoch(epoch), validate: () => trial.evaluate() }, onEpoch);
+  const steps = {
+    trainEpoch: (epoch: number) => trial.trainEpoch(epoch),
+    validate: () => trial.evaluate(),
+    setLearningRate: (rate: number) => trial.setLearningRate(rate),
+    snapshot: () => networkWeights(trial),
+  };
+  const { epochs, divergence, stopping } = runEpochs(request, steps, onEpoch);
   const result: TrainResult = { trialId: request.trialId, status: divergence ? 'diverged' : 'completed', epochs, workerSeconds: (performance.now() - started) / 1000 };
   if (divergence) result.divergence = divergence;
-  else {
-    result.checkpoint = trialCheckpoint(trial, request.toEpoch);
-    const figures = jobClassFigures(dataset, trial.evaluate().outputs, request.toEpoch);
-    if (figures) result.classFigures = figures;
-  }
+  else Object.assign(result, completeJob(request, stopping, trialCheckpoint(trial, lastEpochOf(request, stopping)), () => trial.evaluate().outputs));
+  result.workerSeconds = (performance.now() - started) / 1000;
   return result;
 }

@@ -184,6 +184,11 @@ export class EngineTrial {
     this.floats(this.net, CONSTANT.power2 + 1)[CONSTANT[name]] = value;
   }
 
+  /** Sets the learning rate of the next steps (float32, as tfjs's scalar of -learningRate). */
+  setLearningRate(learningRate: number): void {
+    this.setConstant('negativeLearningRate', -learningRate);
+  }
+
   /** 1 applies the optimizer after each step's gradients, 0 leaves the gradients only (for checking). */
   setUpdating(updating: boolean): void {
     new Int32Array(engine().memory.buffer, this.net, WORD.scratch + 1)[WORD.update] = updating ? 1 : 0;

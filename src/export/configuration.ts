@@ -44,12 +44,17 @@ export interface ExportConfiguration {
   rank: number;
   configuration: TrialConfiguration;
   epochsTrained: number;
+  /** With early stopping: the epoch whose weights were exported (the best epoch; without early stopping they are `epochsTrained`'s). */
+  weightsEpoch?: number;
+  /** With early stopping: the trial's best epoch (its score and weights), and where the rule stopped it. */
+  bestEpoch?: number;
+  stoppedAtEpoch?: number;
   /** Trial seed: initial weights, dropout masks and each epoch's shuffle. */
   seed: number;
   goal: Goal;
-  /** The trial's score: the goal's metric at its last epoch, on the validation split. */
+  /** The trial's score: the goal's metric at its last epoch (with early stopping, its best epoch), on the validation split. */
   score: number;
-  /** Figures the study recorded for the trial's last epoch (validation split; for a k-fold study the mean over folds). */
+  /** Figures the study recorded for the trial's scored epoch (the last, or the best with early stopping; validation split; for a k-fold study the mean over folds). */
   validation: LastEpochFigures;
   /** Set with --retrain: metrics of the retrained model on the held-out test split, computed once (a binary model's at its threshold). */
   test?: Metrics;
@@ -90,9 +95,14 @@ function modelOutputs(recipe: PreprocessingRecipe, threshold: ThresholdChoice | 
 
 /** The last curve point of a trial, as stored in the study. */
 export function lastEpochFigures(trial: TrialRecord): LastEpochFigures {
-  const last = trial.curve.at(-1);
+  const last = trial.bestEpoch !== undefined ? trial.curve.find((point) => point.epoch === trial.bestEpoch) : trial.curve.at(-1);
   if (last === undefined) throw new Error(`trial ${trial.id} has no epoch recorded`);
   return { epoch: last.epoch, trainLoss: last.trainLoss, validationLoss: last.validationLoss, metrics: { ...last.metrics } };
+}
+
+/** The epoch a trial is scored and exported at: its best with early stopping, else its last. */
+export function scoredEpoch(trial: TrialRecord): number {
+  return trial.bestEpoch ?? trial.epochsTrained;
 }
 
 /** What an export adds to the study's record of the trial. */
@@ -121,6 +131,8 @@ export function buildConfiguration(doc: StudyDocument, trial: TrialRecord, rank:
     rank,
     configuration: { ...trial.configuration },
     epochsTrained: trial.epochsTrained,
+    ...(trial.bestEpoch !== undefined ? { weightsEpoch: trial.bestEpoch, bestEpoch: trial.bestEpoch } : {}),
+    ...(trial.stoppedAtEpoch !== undefined ? { stoppedAtEpoch: trial.stoppedAtEpoch } : {}),
     seed: trial.seed,
     goal: doc.goal,
     score: trial.score!,

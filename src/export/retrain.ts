@@ -8,6 +8,7 @@ import { UserError } from '../errors.js';
 import type { SharedDataset } from '../pool/messages.js';
 import type { TrialRecord } from '../store/types.js';
 import { initBackend } from '../train/backend.js';
+import { hasSchedule } from '../train/schedule.js';
 import { checkpointWeights, type NamedWeights } from '../checkpoints/format.js';
 import { releaseDatasets } from '../train/data-cache.js';
 import { runTrainRequest } from '../train/run-request.js';
@@ -34,10 +35,10 @@ function retrainDataset(data: PreparedData, trialId: number): SharedDataset {
 
 /**
  * Trains `trial`'s configuration from its seed on training plus validation rows for
- * `trial.epochsTrained` epochs and returns its network weights.
+ * `trial.epochsTrained` epochs (its best epoch's count with early stopping) and returns its network weights.
  * @throws UserError (E_EXPORT_DIVERGED) when the loss stops being finite.
  */
-export async function retrainTrial(data: PreparedData, trial: TrialRecord): Promise<NamedWeights[]> {
+export async function retrainTrial(data: PreparedData, trial: TrialRecord, maxEpochs?: number): Promise<NamedWeights[]> {
   await initBackend();
   const dataset = retrainDataset(data, trial.id);
   try {
@@ -48,7 +49,9 @@ export async function retrainTrial(data: PreparedData, trial: TrialRecord): Prom
       dataset,
       datasetId: dataset.id,
       fromEpoch: 0,
-      toEpoch: trial.epochsTrained,
+      // With early stopping: as many epochs as the best epoch had (there is no validation split left to stop on).
+      toEpoch: trial.bestEpoch ?? trial.epochsTrained,
+      ...(maxEpochs !== undefined && hasSchedule(trial.configuration) ? { maxEpochs } : {}),
     });
     if (result.status === 'diverged') {
       throw new UserError(

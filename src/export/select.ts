@@ -1,4 +1,4 @@
-import { decodeCheckpoint, type NamedWeights } from '../checkpoints/format.js';
+import { bestCheckpointWeights, decodeCheckpoint, type NamedWeights } from '../checkpoints/format.js';
 import { FolderCheckpointStore } from '../checkpoints/folder-store.js';
 import { UserError } from '../errors.js';
 import { rankTrials, type RankedTrial } from '../study/objective.js';
@@ -35,7 +35,8 @@ export function trialAtRank(doc: StudyDocument, rank: number, studyFile: string)
 }
 
 /**
- * The network weights in a ranked trial's kept checkpoint, checked to be that trial's after its last recorded epoch.
+ * The network weights in a ranked trial's kept checkpoint, checked to be that trial's after its last recorded epoch
+ * (with early stopping: its best epoch's weights, which the checkpoint also holds).
  * @throws UserError (E_EXPORT_NO_CHECKPOINT) naming the ranks that can be exported as they are and suggesting --retrain.
  */
 export async function keptCheckpointWeights(runDir: string, doc: StudyDocument, chosen: RankedTrial): Promise<NamedWeights[]> {
@@ -49,5 +50,9 @@ export async function keptCheckpointWeights(runDir: string, doc: StudyDocument, 
   if (manifest.trialId !== chosen.trial.id || manifest.epoch !== chosen.trial.epochsTrained) {
     throw refuse(`holds trial ${manifest.trialId} at epoch ${manifest.epoch}, but rank ${chosen.rank} is trial ${chosen.trial.id} after epoch ${chosen.trial.epochsTrained}`);
   }
-  return network;
+  if (chosen.trial.bestEpoch === undefined) return network;
+  // Early stopping: the best epoch's weights, which the checkpoint carries beside the last epoch's.
+  const best = bestCheckpointWeights(bytes);
+  if (best.epoch !== chosen.trial.bestEpoch) throw refuse(`holds the weights of epoch ${best.epoch}, but trial ${chosen.trial.id}'s best epoch is ${chosen.trial.bestEpoch}`);
+  return best.weights;
 }

@@ -61,7 +61,23 @@ export function parameterAxes(study: StudyDocument): ParameterAxis[] {
     { key: 'dropout', title: 'dropout rate (fraction of units)', shortTitle: 'dropout', kind: 'linear' },
     { key: 'activation', title: 'activation', shortTitle: 'activation', kind: 'nominal', categories: [...space.activation] },
     { key: 'optimizer', title: 'optimizer', shortTitle: 'optimizer', kind: 'nominal', categories: [...space.optimizer] },
+    ...scheduleAxes(study),
   ];
+}
+
+/** The learning-rate schedule's settings, when the space has a schedule (src/train/schedule.ts). */
+function scheduleAxes(study: StudyDocument): ParameterAxis[] {
+  const schedule = study.definition.space.schedule;
+  if (!schedule) return [];
+  const sortedNumbers = (values: (number | undefined)[]): number[] => [...new Set(values.filter((v): v is number => v !== undefined))].sort((a, b) => a - b);
+  const axes: ParameterAxis[] = [{ key: 'schedule', title: 'learning-rate schedule', shortTitle: 'schedule', kind: 'nominal', categories: [...schedule.kind] }];
+  axes.push({ key: 'warmupEpochs', title: 'warm-up epochs', shortTitle: 'warm-up', kind: 'ordinal', categories: sortedNumbers(study.trials.map((t) => t.configuration.warmupEpochs)) });
+  if (schedule.kind.includes('step')) {
+    axes.push({ key: 'gamma', title: 'step decay factor (gamma)', shortTitle: 'gamma', kind: 'linear' });
+    axes.push({ key: 'stepEpochs', title: 'epochs between decays', shortTitle: 'step epochs', kind: 'ordinal', categories: sortedNumbers(study.trials.map((t) => t.configuration.stepEpochs)) });
+  }
+  if (schedule.kind.includes('cosine')) axes.push({ key: 'minFactor', title: 'final learning rate (fraction of the initial)', shortTitle: 'min factor', kind: 'linear' });
+  return axes;
 }
 
 /**

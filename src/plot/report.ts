@@ -1,3 +1,4 @@
+import { scheduleInWords } from '../train/schedule.js';
 import { formatNumber } from '../report/format.js';
 import type { StudyDocument, TrialRecord } from '../store/types.js';
 import { OPTIMISM_CAUTION } from '../report/caution.js';
@@ -51,6 +52,7 @@ function configurationText(trial: TrialRecord): string {
     `batch size ${p.batchSize}`,
     `L2 penalty ${formatNumber(p.l2)}`,
     `dropout ${formatNumber(p.dropout)}`,
+    ...(p.schedule ? [`learning-rate schedule ${scheduleInWords(p)}`] : []),
   ].join(', ');
 }
 

@@ -1,3 +1,4 @@
+import { scheduleInWords } from '../train/schedule.js';
 import { formatNumber } from '../report/format.js';
 import { scoreText } from '../report/ranking-table.js';
 import type { StudyDocument, TrialRecord } from '../store/types.js';
@@ -44,10 +45,10 @@ export function topConfigurations(study: StudyDocument, top = TOP_CONFIGURATIONS
       trial: String(trial.id),
       [study.goal.metric]: scoreText(trial.score, trial.scoreStandardError),
       'gap to #1': rank === 1 || !leader ? '' : formatNumber(trial.score - leader.score!),
-      epochs: String(trial.epochsTrained),
+      epochs: String(trial.epochsTrained) + (trial.bestEpoch !== undefined ? ` (best ${trial.bestEpoch}${trial.stoppedEarly ? ', stopped' : ''})` : ''),
       'worker s': formatNumber(trial.workerSeconds),
       ...Object.fromEntries(metricNames.map((name) => [name, formatNumber(metrics.get(name))])),
-      configuration: `${p.depth} x ${p.width} ${p.activation}, ${p.optimizer} at learning rate ${formatNumber(p.learningRate)}, batch ${p.batchSize}, L2 ${formatNumber(p.l2)}, dropout ${formatNumber(p.dropout)}`,
+      configuration: `${p.depth} x ${p.width} ${p.activation}, ${p.optimizer} at learning rate ${formatNumber(p.learningRate)}, batch ${p.batchSize}, L2 ${formatNumber(p.l2)}, dropout ${formatNumber(p.dropout)}${p.schedule ? `, schedule ${scheduleInWords(p)}` : ''}`,
     };
     if (anyRepeats) {
       const scores = repeatsOf(study, trial);

@@ -41,7 +41,12 @@ export function describeJob(event: Pick<TrialFinished, 'trial' | 'job'>, metric:
   }
   const value = trial.rungScores[job.rung];
   const where = trial.jobs.find((j) => j.rung === job.rung && j.toEpoch === job.toEpoch)?.ranOn;
-  return `trial ${trial.id}${rung} done at epoch ${job.toEpoch}: ${metric} ${formatNumber(value)}${where ? ` on ${where}` : ''}`;
+  // Early stopping: the epoch the score is from, and where the rule ended the trial.
+  const stoppedHere = trial.stoppedAtEpoch !== undefined && trial.rung === job.rung;
+  const diverged = stoppedHere && trial.divergedAfterBest ? ` (${trial.divergedAfterBest.reason})` : '';
+  const ended = stoppedHere ? `stopped early after epoch ${trial.stoppedAtEpoch}${diverged}` : `done at epoch ${job.toEpoch}`;
+  const best = trial.bestEpoch !== undefined ? ` (best epoch ${trial.bestEpoch})` : '';
+  return `trial ${trial.id}${rung} ${ended}: ${metric} ${formatNumber(value)}${best}${where ? ` on ${where}` : ''}`;
 }
 
 function leaderText(leader: TrialRecord | undefined, metric: string): LineSegment {

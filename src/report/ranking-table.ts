@@ -1,5 +1,6 @@
 import type { Goal } from '../study/definition.js';
 import type { RankedTrial } from '../study/objective.js';
+import { scheduleInWords } from '../train/schedule.js';
 import { formatNumber, textTable } from './format.js';
 
 /** A score as the ranking shows it: with folds, the fold mean ± its standard error. */
@@ -10,17 +11,22 @@ export function scoreText(score: number | null, standardError?: number): string 
 /** The ranking as a text table: rank, trial, rung, epochs, score (± standard error with folds) and the configuration. */
 export function rankingTable(ranking: readonly RankedTrial[], goal: Goal): string {
   const folds = ranking.some(({ trial }) => trial.scoreStandardError !== undefined);
-  const header = ['rank', 'trial', 'rung', 'epochs', folds ? `${goal.metric} (fold mean ± SE)` : goal.metric, 'depth', 'width', 'activation', 'learning rate', 'batch', 'optimizer', 'l2', 'dropout'];
+  // Columns for schedules and early stopping only when a trial has them, so other rankings read as before.
+  const schedules = ranking.some(({ trial }) => trial.configuration.schedule !== undefined);
+  const stopping = ranking.some(({ trial }) => trial.bestEpoch !== undefined);
+  const header = ['rank', 'trial', 'rung', 'epochs', ...(stopping ? ['best epoch'] : []), folds ? `${goal.metric} (fold mean ± SE)` : goal.metric, 'depth', 'width', 'activation', 'learning rate', ...(schedules ? ['schedule'] : []), 'batch', 'optimizer', 'l2', 'dropout'];
   const rows = ranking.map(({ rank, trial }) => [
     String(rank),
     String(trial.id),
     String(trial.rung),
-    String(trial.epochsTrained),
+    String(trial.epochsTrained) + (trial.stoppedEarly ? ' (stopped)' : ''),
+    ...(stopping ? [trial.bestEpoch === undefined ? '-' : String(trial.bestEpoch)] : []),
     scoreText(trial.score, trial.scoreStandardError),
     String(trial.configuration.depth),
     String(trial.configuration.width),
     trial.configuration.activation,
     formatNumber(trial.configuration.learningRate),
+    ...(schedules ? [scheduleInWords(trial.configuration) ?? 'constant'] : []),
     String(trial.configuration.batchSize),
     trial.configuration.optimizer,
     formatNumber(trial.configuration.l2),
@@ -43,7 +49,9 @@ export function rankingJson(ranking: readonly RankedTrial[], goal: Goal): unknow
       ...(trial.scoreStandardError !== undefined ? { scoreStandardError: trial.scoreStandardError } : {}),
       configuration: trial.configuration,
       seed: trial.seed,
-      metrics: trial.curve.at(-1)?.metrics ?? {},
+      metrics: (trial.bestEpoch !== undefined ? trial.curve.find((p) => p.epoch === trial.bestEpoch) : trial.curve.at(-1))?.metrics ?? {},
+      ...(trial.bestEpoch !== undefined ? { bestEpoch: trial.bestEpoch } : {}),
+      ...(trial.stoppedAtEpoch !== undefined ? { stoppedAtEpoch: trial.stoppedAtEpoch } : {}),
     })),
   };
 }

@@ -28,8 +28,11 @@ export interface TrialEntry {
   scoreStandardError?: number;
   configuration: TrialConfiguration;
   seed: number;
-  /** Validation metrics of the last epoch trained. */
+  /** Validation metrics of the last epoch trained (with early stopping: of the best epoch). */
   metrics: Record<string, number>;
+  /** With early stopping: the epoch the score and metrics are from, and where the rule stopped the trial. */
+  bestEpoch?: number;
+  stoppedAtEpoch?: number;
   /** Ranked classification trials: per-class figures and the confusion matrix on the validation split. */
   classes?: ClassReport;
 }
@@ -69,9 +72,11 @@ function entry(doc: StudyDocument, trial: TrialRecord, rank: number | null): Tri
     score: trial.score,
     configuration: trial.configuration,
     seed: trial.seed,
-    metrics: { ...(trial.curve.at(-1)?.metrics ?? {}) } as Record<string, number>,
+    metrics: { ...((trial.bestEpoch !== undefined ? trial.curve.find((p) => p.epoch === trial.bestEpoch) : trial.curve.at(-1))?.metrics ?? {}) } as Record<string, number>,
   };
   if (trial.scoreStandardError !== undefined) result.scoreStandardError = trial.scoreStandardError;
+  if (trial.bestEpoch !== undefined) result.bestEpoch = trial.bestEpoch;
+  if (trial.stoppedAtEpoch !== undefined) result.stoppedAtEpoch = trial.stoppedAtEpoch;
   if (rank === null) result.reason = unrankedReason(trial);
   const classes = rank === null ? undefined : trialClassReport(doc, trial);
   if (classes) result.classes = classes;

@@ -3,6 +3,7 @@ import { availableParallelism } from 'node:os';
 import { FolderCheckpointStore } from '../checkpoints/folder-store.js';
 import type { CheckpointStore } from '../checkpoints/store.js';
 import { datasetId } from '../data/dataset-id.js';
+import { hasSchedule } from '../train/schedule.js';
 import { toSharedDataset } from '../data/index.js';
 import type { PreparedData } from '../data/types.js';
 import { studyStoppedError } from '../errors.js';
@@ -64,7 +65,9 @@ export function recordedOutcomes(trials: readonly TrialRecord[], goal: Goal): Jo
   const outcomes: JobOutcome[] = [];
   for (const trial of trials) {
     trial.rungScores.forEach((value, rung) => {
-      outcomes.push({ trialId: trial.id, rung, loss: orientedLoss(value ?? null, goal) });
+      // Early stopping can only have ended the trial in its last rung.
+      const stopped = trial.stoppedEarly === true && rung === trial.rungScores.length - 1;
+      outcomes.push({ trialId: trial.id, rung, loss: orientedLoss(value ?? null, goal), ...(stopped ? { stopped: true } : {}) });
     });
   }
   return outcomes;
@@ -195,6 +198,8 @@ async function drive(store: StudyStore, data: PreparedData, options: ExecuteOpti
       datasetId: dataset.id,
       fromEpoch: job.fromEpoch,
       toEpoch: job.toEpoch,
+      ...(hasSchedule(job.configuration) ? { maxEpochs: definition.budget.maxEpochs } : {}),
+      ...(definition.earlyStopping ? { earlyStopping: { rule: definition.earlyStopping, goal: doc.goal } } : {}),
       ...(checkpoint ? { checkpoint } : {}),
     };
     const done = transport

@@ -6,7 +6,7 @@
 import { trialSeed } from '../random/streams.js';
 import type { Job, Sampler } from '../samplers/sampler.js';
 import type { Goal, StudyDefinition } from '../study/definition.js';
-import { orientedLoss } from '../study/objective.js';
+import { orientedLoss, scoredEpochs } from '../study/objective.js';
 import { isEnded } from '../study/trial-status.js';
 import type { JobRecord, StudyDocument, TrialRecord } from '../store/types.js';
 import type { TrainResult } from '../transport/types.js';
@@ -108,7 +108,7 @@ export class TrialLifecycle {
       this.waiting.add(record.id);
     }
     this.jobsDone++;
-    this.sampler.report({ trialId: job.trialId, rung: job.rung, loss: orientedLoss(record.score, this.goal) });
+    this.sampler.report({ trialId: job.trialId, rung: job.rung, loss: orientedLoss(record.score, this.goal), ...(result.stoppedAtEpoch !== undefined ? { stopped: true } : {}) });
     this.endAbandoned();
     return record;
   }
@@ -152,7 +152,7 @@ export class TrialLifecycle {
 
   private end(record: TrialRecord): void {
     this.waiting.delete(record.id);
-    record.status = record.epochsTrained >= this.definition.budget.maxEpochs ? 'trained' : 'dropped';
+    record.status = scoredEpochs(record) >= this.definition.budget.maxEpochs ? 'trained' : 'dropped';
   }
 }
 

@@ -1,7 +1,7 @@
 import type { Job } from '../samplers/sampler.js';
 import type { Goal } from '../study/definition.js';
 import { scoreAt, standardErrorAt } from '../study/objective.js';
-import type { TrialRecord } from '../store/types.js';
+import type { CurvePoint, TrialRecord } from '../store/types.js';
 import type { TrainResult } from '../transport/types.js';
 
 /** A fresh record for a trial's first job. */
@@ -51,10 +51,28 @@ export function applyResult(record: TrialRecord, job: Job, result: TrainResult, 
     record.rungScores[job.rung] = null;
     return;
   }
-  record.epochsTrained = job.toEpoch;
-  record.score = scoreOf(result, goal);
-  const last = result.epochs.at(-1);
-  const standardError = last && record.score !== null ? standardErrorAt(last, goal) : undefined;
+  record.epochsTrained = result.stoppedAtEpoch ?? job.toEpoch;
+  if (result.stoppedAtEpoch !== undefined) {
+    record.stoppedEarly = true;
+    record.stoppedAtEpoch = result.stoppedAtEpoch;
+  } else {
+    delete record.stoppedEarly;
+    delete record.stoppedAtEpoch;
+  }
+  if (result.divergedAfterBest) record.divergedAfterBest = result.divergedAfterBest;
+  else delete record.divergedAfterBest;
+  // The scored point: the last epoch, or with early stopping the best epoch (which may be an earlier job's).
+  let scored: CurvePoint | undefined;
+  if (result.bestEpoch !== undefined) {
+    record.bestEpoch = result.bestEpoch;
+    scored = record.curve.find((point) => point.epoch === result.bestEpoch);
+    record.score = scored ? scoreAt(scored, goal) : null;
+  } else {
+    delete record.bestEpoch;
+    record.score = scoreOf(result, goal);
+    scored = result.epochs.at(-1);
+  }
+  const standardError = scored && record.score !== null ? standardErrorAt(scored, goal) : undefined;
   if (standardError !== undefined) record.scoreStandardError = standardError;
   else delete record.scoreStandardError;
   record.rungScores[job.rung] = record.score;

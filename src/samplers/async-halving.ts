@@ -22,7 +22,8 @@ export interface AsyncHalvingOptions {
  * of rung k are its best floor(|rung k| / eta) results so far (ties: lower id); the first candidate not
  * yet promoted goes on. Otherwise a new configuration starts at rung 0, until `trials` have started.
  * Unlike the synchronous samplers its decisions depend on the order results arrive (by design).
- * Diverged or failed results (null loss) count in |rung k| but are never promoted.
+ * Diverged or failed results (null loss) count in |rung k| but are never promoted; so do trials
+ * early stopping ended (they keep their place among the top 1/eta, which is then passed over).
  */
 export class AsyncHalvingSampler implements Sampler {
   /** Epochs at the end of each rung. */
@@ -31,6 +32,8 @@ export class AsyncHalvingSampler implements Sampler {
   private readonly results: Map<number, number | null>[];
   /** promoted[k]: trials promoted out of rung k. */
   private readonly promoted: Set<number>[];
+  /** Trials early stopping ended: they keep their place in their rung's ranking but are never promoted. */
+  private readonly stopped = new Set<number>();
   /** Trial id -> rung of its outstanding job (a trial has at most one). */
   private readonly outstanding = new Map<number, number>();
   private readonly reasons = new Map<string, string>();
@@ -61,6 +64,7 @@ export class AsyncHalvingSampler implements Sampler {
     }
     this.outstanding.delete(outcome.trialId);
     this.results[outcome.rung]!.set(outcome.trialId, outcome.loss);
+    if (outcome.stopped) this.stopped.add(outcome.trialId);
   }
 
   /**
@@ -71,7 +75,7 @@ export class AsyncHalvingSampler implements Sampler {
     const outstandingRung = this.outstanding.get(trialId);
     if (outstandingRung !== undefined) return outstandingRung < this.topRung;
     const rung = this.latestRung(trialId);
-    if (rung === undefined || rung === this.topRung || this.promoted[rung]!.has(trialId)) return false;
+    if (rung === undefined || rung === this.topRung || this.promoted[rung]!.has(trialId) || this.stopped.has(trialId)) return false;
     if (!isPromotable(this.results[rung]!.get(trialId) ?? null)) return false;
     return this.mayGrow(rung) || this.candidates(rung).some((result) => result.trialId === trialId);
   }
@@ -89,7 +93,7 @@ export class AsyncHalvingSampler implements Sampler {
     for (let k = this.topRung - 1; k >= 0; k--) {
       const size = this.results[k]!.size;
       const candidates = this.candidates(k);
-      const index = candidates.findIndex((result) => isPromotable(result.loss) && !this.promoted[k]!.has(result.trialId));
+      const index = candidates.findIndex((result) => isPromotable(result.loss) && !this.promoted[k]!.has(result.trialId) && !this.stopped.has(result.trialId));
       if (index >= 0) {
         const reason = `rank ${index + 1} of ${size} at rung ${k} (top ${candidates.length} promotable)`;
         return { trialId: candidates[index]!.trialId, fromRung: k, reason };
@@ -108,7 +112,7 @@ export class AsyncHalvingSampler implements Sampler {
   private mayGrow(k: number): boolean {
     for (const rung of this.outstanding.values()) if (rung === k) return true;
     if (k === 0) return this.started < this.options.trials;
-    return this.mayGrow(k - 1) || this.candidates(k - 1).some((r) => isPromotable(r.loss) && !this.promoted[k - 1]!.has(r.trialId));
+    return this.mayGrow(k - 1) || this.candidates(k - 1).some((r) => isPromotable(r.loss) && !this.promoted[k - 1]!.has(r.trialId) && !this.stopped.has(r.trialId));
   }
 
   private latestRung(trialId: number): number | undefined {

@@ -32,8 +32,10 @@ export interface Job {
 export interface JobOutcome {
   trialId: number;
   rung: number;
-  /** Objective at the job's last epoch, already oriented so that smaller is better; null when the trial diverged or failed. */
+  /** Objective at the job's last epoch (with early stopping: at the trial's best epoch), already oriented so that smaller is better; null when the trial diverged or failed. */
   loss: number | null;
+  /** True when early stopping ended the trial in this job: it keeps its place in the rung's ranking but is never promoted. */
+  stopped?: boolean;
 }
 
 /**

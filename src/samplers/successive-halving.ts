@@ -43,6 +43,8 @@ export interface HalvingBracketOptions {
  * result of the rung is in, then promotes the best. Decisions depend only on the set of results
  * (ties go to the lower trial id), so they are the same with one worker or many.
  * Diverged or failed trials (null loss) are never promoted, so a rung may keep fewer than planned.
+ * A trial early stopping ended (`stopped`) is ranked at its best epoch's score but never promoted:
+ * the next best takes its place.
  */
 export class HalvingBracket implements Sampler {
   private rung = 0;
@@ -50,6 +52,8 @@ export class HalvingBracket implements Sampler {
   private members: number[];
   private handedOut = 0;
   private readonly results = new Map<number, number | null>();
+  /** Trials early stopping ended in the current rung: ranked with the rest, never promoted. */
+  private readonly stopped = new Set<number>();
   private finished = false;
 
   constructor(private readonly options: HalvingBracketOptions) {
@@ -92,6 +96,7 @@ export class HalvingBracket implements Sampler {
       throw new Error(`successive halving: no outstanding job for trial ${outcome.trialId} at rung ${outcome.rung}`);
     }
     this.results.set(outcome.trialId, outcome.loss);
+    if (outcome.stopped) this.stopped.add(outcome.trialId);
     if (this.results.size === this.members.length) this.closeRung();
   }
 
@@ -106,8 +111,8 @@ export class HalvingBracket implements Sampler {
     if (index < 0) return false;
     if (index >= this.handedOut) return this.rung > 0;
     if (this.rung === this.options.plan.length - 1) return false;
-    // Not yet reported (undefined) may still win; a diverged result never will.
-    return !this.results.has(trialId) || isPromotable(this.results.get(trialId)!);
+    // Not yet reported (undefined) may still win; a diverged result, or a trial early stopping ended, never will.
+    return !this.results.has(trialId) || (isPromotable(this.results.get(trialId)!) && !this.stopped.has(trialId));
   }
 
   /** Invariant: called once per rung, when every member has reported. */
@@ -115,11 +120,12 @@ export class HalvingBracket implements Sampler {
     const nextPlan = this.options.plan[this.rung + 1];
     const promoted = nextPlan
       ? rank(resultsOf(this.results))
-          .filter((result) => isPromotable(result.loss))
+          .filter((result) => isPromotable(result.loss) && !this.stopped.has(result.trialId))
           .slice(0, nextPlan.configurations)
           .map((result) => result.trialId)
       : [];
     this.results.clear();
+    this.stopped.clear();
     this.handedOut = 0;
     if (promoted.length === 0) {
       this.finished = true;

@@ -8,7 +8,7 @@
  * the same as random drawing's (`sample.ts`), so a uniform point gives a uniformly drawn configuration.
  */
 import type { SearchSpace, TrialConfiguration } from '../study/definition.js';
-import { choose, drawInteger, logUniform, uniform } from './sample.js';
+import { choose, drawInteger, logUniform, uniform, type ScheduleSetting } from './sample.js';
 
 export interface NumericDimension {
   kind: 'numeric';
@@ -96,6 +96,18 @@ export function spaceDimensions(space: SearchSpace): Dimension[] {
   ];
   if (space.l2) dimensions.push({ kind: 'numeric', name: 'l2', min: space.l2.min, max: space.l2.max, log: true, integer: false });
   if (space.dropout) dimensions.push({ kind: 'numeric', name: 'dropout', min: space.dropout.min, max: space.dropout.max, log: false, integer: false });
+  const schedule = space.schedule;
+  if (schedule) {
+    // The order and presence of scheduleAt (sample.ts); a fixed setting is a range of one value.
+    const numeric = (name: string, setting: ScheduleSetting, integer: boolean): Dimension =>
+      typeof setting === 'number'
+        ? { kind: 'numeric', name, min: setting, max: setting, log: false, integer }
+        : { kind: 'numeric', name, min: setting.min, max: setting.max, log: setting.log, integer };
+    dimensions.push({ kind: 'categorical', name: 'schedule', choices: schedule.kind });
+    if (schedule.kind.includes('step')) dimensions.push(numeric('gamma', schedule.gamma, false), numeric('stepEpochs', schedule.stepEpochs, true));
+    dimensions.push(numeric('warmupEpochs', schedule.warmupEpochs, true));
+    if (schedule.kind.includes('cosine')) dimensions.push(numeric('minFactor', schedule.minFactor, false));
+  }
   return dimensions;
 }
 
@@ -111,7 +123,14 @@ export function paramsAt(space: SearchSpace, point: readonly number[]): TrialCon
     optimizer: values['optimizer'] as TrialConfiguration['optimizer'],
     l2: space.l2 ? (values['l2'] as number) : 0,
     dropout: space.dropout ? (values['dropout'] as number) : 0,
+    ...(space.schedule ? scheduleValues(values) : {}),
   };
+}
+
+function scheduleValues(values: Record<string, DimensionValue>): Partial<TrialConfiguration> {
+  const fields: Partial<TrialConfiguration> = { schedule: values['schedule'] as TrialConfiguration['schedule'] };
+  for (const name of ['gamma', 'stepEpochs', 'warmupEpochs', 'minFactor'] as const) if (values[name] !== undefined) fields[name] = values[name] as number;
+  return fields;
 }
 
 /** The point of the unit cube of a configuration (cell centres for integers and categories). */

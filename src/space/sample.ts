@@ -17,7 +17,7 @@ export function sampleParams(space: SearchSpace, rng: Rng): TrialConfiguration {
   const optimizer = choose(space.optimizer, rng());
   const l2Draw = rng();
   const dropoutDraw = rng();
-  return {
+  const configuration: TrialConfiguration = {
     depth,
     width,
     activation,
@@ -27,6 +27,36 @@ export function sampleParams(space: SearchSpace, rng: Rng): TrialConfiguration {
     l2: space.l2 ? logUniform(space.l2.min, space.l2.max, l2Draw) : 0,
     dropout: space.dropout ? uniform(space.dropout.min, space.dropout.max, dropoutDraw) : 0,
   };
+  if (!space.schedule) return configuration;
+  // Drawn after every other field, five draws always, so a space without a schedule draws as before.
+  const draws = [rng(), rng(), rng(), rng(), rng()] as const;
+  return { ...configuration, ...scheduleAt(space.schedule, draws) };
+}
+
+/** A schedule setting as the space gives it: one value, or a range. */
+export type ScheduleSetting = number | { min: number; max: number; log: boolean };
+
+/** A setting's value at unit coordinate `u`: the fixed value, or its place on the range (whole numbers for integer settings). */
+export function settingAt(setting: ScheduleSetting, u: number, integer: boolean): number {
+  if (typeof setting === 'number') return setting;
+  if (integer) return drawInteger(setting, u);
+  return setting.log ? logUniform(setting.min, setting.max, u) : uniform(setting.min, setting.max, u);
+}
+
+/**
+ * The schedule fields of a configuration from five unit coordinates (kind, gamma, stepEpochs,
+ * warmupEpochs, minFactor): `schedule` and `warmupEpochs` always, `gamma` and `stepEpochs` when the
+ * kinds include step, `minFactor` when they include cosine.
+ */
+export function scheduleAt(schedule: NonNullable<SearchSpace['schedule']>, u: readonly [number, number, number, number, number]): Partial<TrialConfiguration> {
+  const fields: Partial<TrialConfiguration> = { schedule: choose(schedule.kind, u[0]) };
+  if (schedule.kind.includes('step')) {
+    fields.gamma = settingAt(schedule.gamma, u[1], false);
+    fields.stepEpochs = settingAt(schedule.stepEpochs, u[2], true);
+  }
+  fields.warmupEpochs = settingAt(schedule.warmupEpochs, u[3], true);
+  if (schedule.kind.includes('cosine')) fields.minFactor = settingAt(schedule.minFactor, u[4], false);
+  return fields;
 }
 
 /**

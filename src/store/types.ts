@@ -25,10 +25,18 @@ export interface TrialRecord {
   bracket: number;
   epochsTrained: number;
   curve: CurvePoint[];
-  /** The goal's metric at the last epoch trained (null until an epoch completes, or when diverged). */
+  /** The goal's metric at the last epoch trained, or with early stopping at the best epoch (null until an epoch completes, or when diverged). */
   score: number | null;
   /** k-fold studies: the standard error of the score's fold mean (s / sqrt(k), s with k - 1), at the same epoch as `score`. */
   scoreStandardError?: number;
+  /** With early stopping: the epoch whose score is `score` and whose weights are exported. */
+  bestEpoch?: number;
+  /** With early stopping: true when the rule stopped the trial before the epochs its rung gave it. */
+  stoppedEarly?: boolean;
+  /** The epoch after which the rule stopped it (= `epochsTrained`). */
+  stoppedAtEpoch?: number;
+  /** With early stopping: the stop came from a divergence after the best epoch (the epoch and why), not from the rule. */
+  divergedAfterBest?: { epoch: number; reason: string };
   /** Score at the end of each rung reached, by rung index. */
   rungScores: (number | null)[];
   startedAt?: string;

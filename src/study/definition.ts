@@ -11,12 +11,14 @@ export const TASKS = ['binary', 'multiclass', 'regression'] as const;
 export const CLASSIFICATION_METRICS = ['accuracy', 'macroF1', 'logLoss'] as const;
 export const BINARY_METRICS = [...CLASSIFICATION_METRICS, 'auc'] as const;
 export const REGRESSION_METRICS = ['rmse', 'mae', 'r2'] as const;
+export const SCHEDULES = ['constant', 'step', 'cosine'] as const;
 export const METRICS = ['accuracy', 'macroF1', 'logLoss', 'auc', 'rmse', 'mae', 'r2', 'validationLoss'] as const;
 
 export type Activation = (typeof ACTIVATIONS)[number];
 export type OptimizerName = (typeof OPTIMIZERS)[number];
 export type Task = (typeof TASKS)[number];
 export type MetricName = (typeof METRICS)[number];
+export type ScheduleKind = (typeof SCHEDULES)[number];
 
 /** A range whose min exceeds its max names both values. */
 function minNotAboveMax(range: { min: number; max: number }, ctx: z.RefinementCtx): void {
@@ -46,6 +48,30 @@ const fractionRange = z
     max: z.number().min(0).max(0.9),
   })
   .superRefine(minNotAboveMax);
+
+/** A schedule setting: one fixed value, or a range searched like any hyperparameter (uniform, or on a log scale when `log`). */
+function setting(value: z.ZodNumber, what: string) {
+  return z.union([
+    value.describe(`${what} (fixed).`),
+    z
+      .strictObject({ min: value.describe('Smallest value, inclusive.'), max: value.describe('Largest value, inclusive.'), log: z.boolean().default(false).describe('Draw uniformly on a log scale.') })
+      .superRefine((range, ctx) => {
+        minNotAboveMax(range, ctx);
+        if (range.log && range.min <= 0) ctx.addIssue({ code: 'custom', path: ['min'], message: `found ${range.min}, expected above 0 with log: true` });
+      })
+      .describe(`${what}, searched over a range.`),
+  ]);
+}
+
+export const scheduleSchema = z
+  .strictObject({
+    kind: z.array(z.enum(SCHEDULES)).min(1).describe('Schedules to choose from: constant, step (eta0 x gamma^floor(t / stepEpochs)), cosine (SGDR, Loshchilov and Hutter 2017, without restarts, over budget.maxEpochs).'),
+    gamma: setting(z.number().gt(0).max(1), 'step: factor applied every stepEpochs epochs, in (0, 1]').default(0.1),
+    stepEpochs: setting(z.int().min(1), 'step: epochs between two decays').default(10),
+    warmupEpochs: setting(z.int().min(0), 'epochs of linear warm-up before the schedule (0: none)').default(0),
+    minFactor: setting(z.number().min(0).lt(1), 'cosine: the final learning rate as a fraction of the initial one, in [0, 1)').default(0),
+  })
+  .describe('Learning-rate schedule applied per epoch; absent means constant (the learning rate of the configuration throughout).');
 
 export const dataSchema = z.strictObject({
   csv: z.string().min(1).describe('Path of the CSV file, relative to the study definition file.'),
@@ -98,6 +124,7 @@ export const spaceSchema = z.strictObject({
   optimizer: z.array(z.enum(OPTIMIZERS)).min(1).default(['adam']).describe('Optimizers to choose from (momentum is SGD with momentum 0.9).'),
   l2: positiveLogRange.optional().describe('L2 weight penalty, drawn on a log scale; absent means none.'),
   dropout: fractionRange.optional().describe('Dropout rate after each hidden layer; absent means none.'),
+  schedule: scheduleSchema.optional(),
 });
 
 export const budgetSchema = z.strictObject({
@@ -122,6 +149,22 @@ export const decisionThresholdSchema = z
 
 export type DecisionThresholdRule = z.output<typeof decisionThresholdSchema>;
 
+export const earlyStoppingSchema = z
+  .discriminatedUnion('rule', [
+    z.strictObject({
+      rule: z.literal('patience').describe('Stop when the goal has not improved for `patience` epochs.'),
+      patience: z.int().min(1).describe('Epochs without an improvement after which the trial stops.'),
+      minDelta: z.number().min(0).default(0).describe('Smallest change of the goal that counts as an improvement (default 0: any).'),
+    }),
+    z.strictObject({
+      rule: z.literal('generalisation-loss').describe('Prechelt (1998): stop after the first epoch with GL = 100 (E / E_opt - 1) > alpha, E the goal as an error.'),
+      alpha: z.number().gt(0).describe('Generalisation loss in percent above which the trial stops.'),
+    }),
+  ])
+  .describe('Stop a trial inside its job when the goal stops improving; the trial is scored, ranked and exported at its best epoch. Absent: every trial trains the epochs its sampler gives it.');
+
+export type EarlyStoppingRule = z.output<typeof earlyStoppingSchema>;
+
 export const studySchema = z.strictObject({
   $schema: z.string().optional(),
   name: z
@@ -137,6 +180,7 @@ export const studySchema = z.strictObject({
   trialTimeoutSeconds: z.number().positive().optional().describe('A trial running longer is stopped and marked timed-out.'),
   retries: z.int().min(0).max(10).default(0).describe('Times a failed trial is run again before it is given up.'),
   decisionThreshold: decisionThresholdSchema.optional(),
+  earlyStopping: earlyStoppingSchema.optional(),
 });
 
 /** A study definition as written in the file (defaults not yet applied). */
@@ -159,6 +203,15 @@ export interface TrialConfiguration {
   optimizer: OptimizerName;
   l2: number;
   dropout: number;
+  /** Present only when the space has a `schedule` (src/train/schedule.ts); absent: constant. */
+  schedule?: ScheduleKind;
+  /** Warm-up epochs (present with `schedule`). */
+  warmupEpochs?: number;
+  /** step only (present when the space's schedule kinds include step). */
+  gamma?: number;
+  stepEpochs?: number;
+  /** cosine only (present when the space's schedule kinds include cosine). */
+  minFactor?: number;
 }
 
 /** What the study ranks trials by: a validation metric and which way is better. */
@@ -167,7 +220,7 @@ export interface Goal {
   better: 'higher' | 'lower';
 }
 
-const LOWER_IS_BETTER: ReadonlySet<MetricName> = new Set(['logLoss', 'rmse', 'mae', 'validationLoss']);
+export const LOWER_IS_BETTER: ReadonlySet<MetricName> = new Set(['logLoss', 'rmse', 'mae', 'validationLoss']);
 
 /** The goal in force: the study's own, else the task's default; which way is better follows the metric unless given. */
 export function resolveGoal(definition: Pick<StudyDefinition, 'goal' | 'data'>): Goal {

@@ -6,12 +6,14 @@ import {
   BINARY_METRICS,
   CLASSIFICATION_METRICS,
   REGRESSION_METRICS,
+  resolveGoal,
   studySchema,
   type MetricName,
   type StudyDefinition,
 } from './definition.js';
 import { utf16Kind } from '../text/encoding.js';
 import { formatIssue } from './issues.js';
+import { earlyStoppingProblem } from './early-stopping.js';
 
 export interface LoadedStudy {
   definition: StudyDefinition;
@@ -99,6 +101,8 @@ function crossFieldProblems(definition: StudyDefinition): [string, string][] {
   if (definition.decisionThreshold && data.task !== 'binary') {
     problems.push(['decisionThreshold', `is for binary tasks; this study's task is ${data.task}`]);
   }
+  const stopping = earlyStoppingProblem(definition.earlyStopping, resolveGoal(definition));
+  if (stopping) problems.push(['earlyStopping.rule', stopping]);
   if (data.features?.includes(data.target)) {
     problems.push(['data.features', `lists the target column "${data.target}"; the target cannot be an input`]);
   }

@@ -38,8 +38,12 @@ export function isScored(trial: TrialRecord): trial is ScoredTrial {
   return typeof trial.score === 'number' && Number.isFinite(trial.score);
 }
 
-/** Epochs the trial had trained at the point it was scored. */
+/**
+ * Epochs the trial had trained at the point it was scored. A trial early stopping ended counts with
+ * the epochs its last job (its rung) gave it, not fewer: stopping is the rule's verdict on those epochs.
+ */
 export function scoredEpochs(trial: TrialRecord): number {
+  if (trial.stoppedEarly) return Math.max(trial.epochsTrained, trial.jobs.at(-1)?.toEpoch ?? 0);
   return trial.epochsTrained;
 }
 

@@ -67,6 +67,15 @@ export class ConstantCachingAdam extends tf.AdamOptimizer {
     this.incrementIterations();
   }
 
+  /** Sets the learning rate of the next steps (a learning-rate schedule calls this once per epoch). */
+  setLearningRate(learningRate: number): void {
+    if (learningRate === this.learningRate) return;
+    this.learningRate = learningRate;
+    if (!this.constants) return;
+    this.constants.negativeLearningRate.dispose();
+    this.constants.negativeLearningRate = tf.keep(tf.scalar(-learningRate));
+  }
+
   override dispose(): void {
     super.dispose();
     if (this.constants) tf.dispose(Object.values(this.constants));

@@ -4,9 +4,8 @@ import type { OptimizerName } from '../study/definition.js';
 import { permutation, stream } from '../random/streams.js';
 import { ConstantCachingAdam } from './adam.js';
 import { checkpointBytes, restoreCheckpoint } from './checkpoint.js';
-import { jobClassFigures } from './class-figures.js';
 import { datasetTensors, type DatasetTensors } from './data-cache.js';
-import { runEpochs } from './epochs.js';
+import { completeJob, lastEpochOf, runEpochs } from './epochs.js';
 import { ADAM, MOMENTUM } from './optimizer-constants.js';
 import { createNetwork, disposeNetwork, forward, l2Penalty, lossFromLogits, networkSpec, outputFromLogits, type Network } from './network.js';
 
@@ -17,6 +16,14 @@ export function createOptimizer(name: OptimizerName, learningRate: number): tf.O
   if (name === 'momentum') return tf.train.momentum(learningRate, MOMENTUM);
   // Passed explicitly: tfjs would otherwise use the backend's epsilon (1e-7 on wasm).
   return new ConstantCachingAdam(learningRate, ADAM.beta1, ADAM.beta2, ADAM.epsilon);
+}
+
+/** Sets an optimizer's learning rate for the next steps (sgd and momentum through tfjs's own setter). */
+export function setOptimizerLearningRate(optimizer: tf.Optimizer, learningRate: number): void {
+  if (optimizer instanceof ConstantCachingAdam) optimizer.setLearningRate(learningRate);
+  else if (optimizer instanceof tf.SGDOptimizer) {
+    if ((optimizer as unknown as { learningRate: number }).learningRate !== learningRate) optimizer.setLearningRate(learningRate);
+  } else throw new Error(`no learning-rate setter for ${optimizer.getClassName()}`);
 }
 
 /**
@@ -118,8 +125,7 @@ export async function trainSegment(request: TrainRequest, onEpoch?: (report: Epo
   const tensorsBefore = tf.memory().numTensors;
   let epochs: EpochReport[] = [];
   let divergence: TrainResult['divergence'];
-  let checkpoint: Uint8Array | undefined;
-  let figures: TrainResult['classFigures'];
+  let completed: ReturnType<typeof completeJob> | undefined;
 
   const network = createNetwork(networkSpec(request.trialId, request.seed, params, dataset.inputCount, dataset.outputCount));
   const optimizer = createOptimizer(params.optimizer, params.learningRate);
@@ -129,10 +135,20 @@ export async function trainSegment(request: TrainRequest, onEpoch?: (report: Epo
       const expected = { trialId: request.trialId, epoch: request.fromEpoch, optimizer: params.optimizer };
       await restoreCheckpoint(request.checkpoint, expected, network.variables, optimizer);
     }
-    ({ epochs, divergence } = runEpochs(request, { trainEpoch: (epoch) => trainEpoch(request, network, optimizer, data, epoch), validate: () => validate(request, network, data) }, onEpoch));
+    const run = runEpochs(
+      request,
+      {
+        trainEpoch: (epoch) => trainEpoch(request, network, optimizer, data, epoch),
+        validate: () => validate(request, network, data),
+        setLearningRate: (rate) => setOptimizerLearningRate(optimizer, rate),
+        snapshot: () => network.variables.map((v) => ({ name: v.name, shape: [...v.shape], values: (v.dataSync() as Float32Array).slice() })),
+      },
+      onEpoch,
+    );
+    ({ epochs, divergence } = run);
     if (!divergence) {
-      checkpoint = await checkpointBytes({ trialId: request.trialId, epoch: request.toEpoch, params }, network.variables, optimizer);
-      figures = jobClassFigures(dataset, validate(request, network, data).outputs, request.toEpoch);
+      const bytes = await checkpointBytes({ trialId: request.trialId, epoch: lastEpochOf(request, run.stopping), params }, network.variables, optimizer);
+      completed = completeJob(request, run.stopping, bytes, () => validate(request, network, data).outputs);
     }
   } finally {
     disposeOptimizer(optimizer);
@@ -147,7 +163,6 @@ export async function trainSegment(request: TrainRequest, onEpoch?: (report: Epo
     tensorsAfter: tf.memory().numTensors,
   };
   if (divergence) result.divergence = divergence;
-  if (checkpoint) result.checkpoint = checkpoint;
-  if (figures) result.classFigures = figures;
+  if (completed) Object.assign(result, completed);
   return result;
 }

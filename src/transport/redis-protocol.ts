@@ -8,8 +8,8 @@ import { createHash } from 'node:crypto';
 import path from 'node:path';
 import type { TrainJob, TrainResult } from './types.js';
 
-/** Raised whenever the job, result, data-set or registry layout changes. */
-export const QUEUE_PROTOCOL_VERSION = 2;
+/** Raised whenever the job, result, data-set or registry layout changes (3: jobs carry `maxEpochs` and `earlyStopping`, results `bestEpoch`, `stoppedAtEpoch` and `divergedAfterBest`). */
+export const QUEUE_PROTOCOL_VERSION = 3;
 
 /** BullMQ's key prefix and ours: everything rungwise keeps in Redis starts with it. */
 export const KEY_PREFIX = 'rungwise';

@@ -5,6 +5,7 @@
  * `diverged` result. These are domain types: no message port, no shared buffer, no file path.
  */
 import type { MetricName, Task, TrialConfiguration } from '../study/definition.js';
+import type { EarlyStoppingSettings } from '../study/early-stopping.js';
 import type { ClassFigures } from '../train/class-figures.js';
 
 /** Training and validation matrices of a study, named by an id so a worker can fetch or cache them once. */
@@ -40,6 +41,10 @@ export interface TrainJob {
   toEpoch: number;
   /** The trial's checkpoint at `fromEpoch`, as bytes (required when fromEpoch > 0). */
   checkpoint?: Uint8Array;
+  /** The study's `budget.maxEpochs`: the length of a cosine schedule (required when the configuration's schedule is cosine). */
+  maxEpochs?: number;
+  /** Early stopping (src/study/early-stopping.ts): the rule and the goal it judges; absent: off. */
+  earlyStopping?: EarlyStoppingSettings;
 }
 
 /** One epoch's figures. Metrics are on the validation split. */
@@ -63,9 +68,18 @@ export interface TrainResult {
   epochs: EpochReport[];
   /** Set when status is 'diverged'; `epoch` is the 1-based epoch whose loss became non-finite. */
   divergence?: { epoch: number; reason: string };
-  /** The trial's checkpoint at `toEpoch` (network and optimizer state), when it completed. */
+  /**
+   * The trial's checkpoint at its last epoch trained (`toEpoch`, or `stoppedAtEpoch`): network and
+   * optimizer state, and with early stopping the best epoch's weights and score; when it completed.
+   */
   checkpoint?: Uint8Array;
-  /** Classification, when it completed: confusion matrix and average precision per class on the validation split, for the checkpointed weights. */
+  /** With early stopping: the best epoch of the trial so far (over all its jobs); absent when no epoch had a finite score. */
+  bestEpoch?: number;
+  /** With early stopping: the epoch after which the rule stopped the trial in this job (absent: it trained to `toEpoch`). */
+  stoppedAtEpoch?: number;
+  /** With early stopping: the loss diverged after a best epoch, so the trial stopped after the epoch before (`stoppedAtEpoch`) instead of diverging. */
+  divergedAfterBest?: { epoch: number; reason: string };
+  /** Classification, when it completed: confusion matrix and average precision per class on the validation split, for the checkpointed weights (the best epoch's, with early stopping). */
   classFigures?: ClassFigures;
   /** Worker wall time of the whole job, seconds. */
   workerSeconds: number;

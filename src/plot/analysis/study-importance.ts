@@ -17,6 +17,11 @@ interface Coding {
   decode: (coded: number) => string | number;
 }
 
+/** A trial's value of an axis's hyperparameter (schedule settings a space leaves out read as 0). */
+export function configurationValue(trial: TrialRecord, axis: ParameterAxis): string | number {
+  return trial.configuration[axis.key] ?? 0;
+}
+
 function coding(axis: ParameterAxis, study: StudyDocument): Coding {
   const space = study.definition.space;
   const range = (): { min: number; max: number; log: boolean } | undefined => {
@@ -45,7 +50,7 @@ function coding(axis: ParameterAxis, study: StudyDocument): Coding {
       decode: (coded) => (bounds.log ? Math.exp(lo + coded * (hi - lo)) : lo + coded * (hi - lo)),
     };
   }
-  const seen = [...new Set(study.trials.map((t) => t.configuration[axis.key]))];
+  const seen = [...new Set(study.trials.map((t) => configurationValue(t, axis)))];
   const depths = axis.key === 'depth' ? Array.from({ length: space.depth.max - space.depth.min + 1 }, (_, i) => space.depth.min + i) : [];
   const levels: (string | number)[] = [...new Set([...(axis.key === 'depth' ? depths : (axis.categories ?? [])), ...seen])];
   return { axis, input: { kind: 'choice', levels: levels.length }, encode: (value) => levels.indexOf(value), decode: (coded) => levels[coded]! };
@@ -106,7 +111,7 @@ export function studyImportance(study: StudyDocument): StudyImportance | undefin
   });
   if (scored.length < FEWEST_FOR_IMPORTANCE) return undefined;
   const codings = axes.map((axis) => coding(axis, study));
-  const rows = scored.map(({ trial }) => codings.map((c) => c.encode(trial.configuration[c.axis.key])));
+  const rows = scored.map(({ trial }) => codings.map((c) => c.encode(configurationValue(trial, c.axis))));
   const values = scored.map((s) => s.value);
   const { effects } = forestImportance(
     rows,

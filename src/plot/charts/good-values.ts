@@ -39,7 +39,7 @@ export function goodValuesChart(study: StudyDocument, importance: StudyImportanc
   const panels = chosen.map((parameter) => {
     const points = study.trials.flatMap((t) => {
       const score = scoreAtEpoch(t, study, importance.epoch);
-      return score === undefined ? [] : [{ value: t.configuration[parameter.key], score, winner: t.id === winner, trial: t.id }];
+      return score === undefined ? [] : [{ value: t.configuration[parameter.key] ?? 0, score, winner: t.id === winner, trial: t.id }];
     });
     const continuous = parameter.kind === 'continuous';
     const log = continuous && /log scale/.test(parameter.title);
