@@ -103,6 +103,10 @@ function crossFieldProblems(definition: StudyDefinition): [string, string][] {
   }
   const stopping = earlyStoppingProblem(definition.earlyStopping, resolveGoal(definition));
   if (stopping) problems.push(['earlyStopping.rule', stopping]);
+  if (definition.earlyStopping && data.folds !== undefined) {
+    // Each fold would stop at an epoch of its own, and the fold mean needs one curve; not built yet.
+    problems.push(['earlyStopping', `cannot be combined with data.folds yet (each fold would stop at its own epoch); use one or the other`]);
+  }
   if (data.features?.includes(data.target)) {
     problems.push(['data.features', `lists the target column "${data.target}"; the target cannot be an input`]);
   }
