@@ -53,6 +53,13 @@ export class TrialPool {
       // A worker keeps its data tensors between trials; one task at a time per thread.
       concurrentTasksPerWorker: 1,
     });
+    // A worker's reply that crosses an abort of its task (a fold's sibling failed, a study stopped)
+    // arrives for a task piscina has already dropped; piscina reports it as an 'error' event, which
+    // unheard would end the process. The task was settled by the abort; the late reply is dropped.
+    this.piscina.on('error', (error: unknown) => {
+      if (error instanceof Error && error.message.startsWith('Unexpected message from Worker')) return;
+      throw error;
+    });
   }
 
   /**

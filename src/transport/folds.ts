@@ -102,6 +102,8 @@ export class FoldsTransport implements TrialTransport {
     };
     // One fold failing stops the others: the run loop retries or ends the whole trial.
     const stop = new AbortController();
+    // The first fold to fail names the failure; the others then fail because they were stopped.
+    let firstFailure: { error: unknown } | undefined;
     const onAbort = (): void => stop.abort();
     signal.addEventListener('abort', onAbort, { once: true });
     try {
@@ -113,13 +115,13 @@ export class FoldsTransport implements TrialTransport {
             else delete foldJob.checkpoint;
             return this.inner.run(foldJob, reported(i), stop.signal);
           }).catch((error: unknown) => {
+            firstFailure ??= { error };
             stop.abort();
             throw error;
           }),
         ),
       );
-      const failed = settled.find((outcome): outcome is PromiseRejectedResult => outcome.status === 'rejected');
-      if (failed) throw failed.reason;
+      if (firstFailure) throw firstFailure.error;
       return combineResults(job, settled.map((outcome) => (outcome as PromiseFulfilledResult<TrainResult>).value));
     } finally {
       signal.removeEventListener('abort', onAbort);
