@@ -15,6 +15,8 @@ const DEMO_FILES = [
   'studies/demo/study-tpe.json',
   'studies/demo/study-tpe-hyperband.json',
   'studies/demo/study-imbalance.json',
+  'studies/demo/study-early-stopping.json',
+  'studies/demo/study-folds.json',
 ];
 const TINY_FILES = [
   'studies/tiny/study.json',
@@ -62,7 +64,8 @@ describe('committed study definitions', () => {
 describe('the demo studies', () => {
   it('search the same space with the AUC objective', () => {
     const [random, ...others] = DEMO_FILES.map(load);
-    for (const definition of others) expect(definition!.space).toEqual(random!.space);
+    // The early-stopping demo searches schedules as well; the rest of its space is everyone's.
+    for (const definition of others) expect({ ...definition!.space, schedule: undefined }).toEqual({ ...random!.space, schedule: undefined });
     for (const definition of [random, ...others]) expect(definition!.goal?.metric).toBe('auc');
     expect(random!.sampler.kind).toBe('random');
     expect(random!.budget).toEqual({ trials: 16, maxEpochs: 20 });
@@ -82,6 +85,24 @@ describe('the demo studies', () => {
     const { budget, sampler } = load('studies/demo/study-halving.json');
     expect(sampler).toMatchObject({ kind: 'successive-halving', eta: 3, minEpochs: 1 });
     expect(budget).toEqual({ trials: 27, maxEpochs: 27 });
+  });
+
+  it('halve the same 27 configurations with learning-rate schedules and early stopping in the early-stopping demo', () => {
+    const halving = load('studies/demo/study-halving.json');
+    const early = load('studies/demo/study-early-stopping.json');
+    expect(early.sampler).toEqual(halving.sampler);
+    expect(early.budget).toEqual(halving.budget);
+    expect(early.data).toEqual(halving.data);
+    expect(early.space.schedule?.kind).toEqual(['constant', 'step', 'cosine']);
+    expect(early.earlyStopping).toMatchObject({ rule: 'patience', patience: 3 });
+  });
+
+  it('score the random-search demo on 5 folds in the folds demo', () => {
+    const random = load('studies/demo/study.json');
+    const folds = load('studies/demo/study-folds.json');
+    expect(folds.data).toEqual({ ...random.data, folds: 5 });
+    expect(folds.sampler).toEqual(random.sampler);
+    expect(folds.budget).toEqual(random.budget);
   });
 
   it('state the configuration count Hyperband derives for R = 27, eta = 3', () => {
