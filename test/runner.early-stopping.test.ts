@@ -10,7 +10,7 @@ import { resumeStudy } from '../src/runner/resume-study.js';
 import { runStudy } from '../src/runner/run-study.js';
 import type { StudyDefinitionInput } from '../src/study/definition.js';
 import type { StudyDocument } from '../src/store/types.js';
-import { tinyStudy, writeTinyStudy } from './helpers/studies.js';
+import { runUntilTrialsFinished, tinyStudy, writeTinyStudy } from './helpers/studies.js';
 
 const definition: StudyDefinitionInput = tinyStudy({
   budget: { trials: 9, maxEpochs: 9 },
@@ -53,19 +53,7 @@ describe('early stopping in the run loop', () => {
   it('gives the same trials with 1 and 2 workers, and after an interruption and a resume', async () => {
     const one = trialsOf(await uninterrupted(1));
     expect(trialsOf(await uninterrupted(2))).toEqual(one);
-    const file = await writeTinyStudy(definition);
-    const out = path.join(path.dirname(file), 'run');
-    const controller = new AbortController();
-    let finished = 0;
-    const interrupted = await runStudy(file, {
-      out,
-      workers: 2,
-      signal: controller.signal,
-      graceSeconds: 0,
-      onEvent: (event) => {
-        if (event.type === 'trial-finished' && ++finished === 10) controller.abort();
-      },
-    });
+    const { out, interrupted } = await runUntilTrialsFinished(definition, 10, { workers: 2 });
     expect(interrupted.doc.state).not.toBe('finished');
     const resumed = await resumeStudy(out, { workers: 2 });
     expect(resumed.doc.state).toBe('finished');

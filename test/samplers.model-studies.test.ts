@@ -10,7 +10,7 @@ import { runStudy } from '../src/runner/run-study.js';
 import type { StudyDocument } from '../src/store/types.js';
 import type { StudyDefinitionInput, TrialConfiguration } from '../src/study/definition.js';
 import { ClosedFormTransport } from '../src/transport/closed-form.js';
-import { tinyStudy, writeTinyStudy } from './helpers/studies.js';
+import { runUntilTrialsFinished, tinyStudy, writeTinyStudy } from './helpers/studies.js';
 
 /** Best near learning rate 0.02 and narrow nets; falls with the epochs. */
 const evaluate = (params: TrialConfiguration, epoch: number) => ({
@@ -45,19 +45,7 @@ describe.each(definitions)('a %s study on a closed-form transport', (kind, defin
   it('gives the same trials with 1 and 3 at once, and after an interruption and a resume', async () => {
     const one = trialsOf(await uninterrupted(definition, 1));
     expect(trialsOf(await uninterrupted(definition, 3))).toEqual(one);
-    const file = await writeTinyStudy(definition);
-    const out = path.join(path.dirname(file), 'run');
-    const controller = new AbortController();
-    let finished = 0;
-    const interrupted = await runStudy(file, {
-      out,
-      transport: transport(2),
-      signal: controller.signal,
-      graceSeconds: 0,
-      onEvent: (event) => {
-        if (event.type === 'trial-finished' && ++finished === 7) controller.abort();
-      },
-    });
+    const { out, interrupted } = await runUntilTrialsFinished(definition, 7, { transport: transport(2) });
     expect(interrupted.doc.state).not.toBe('finished');
     const resumed = await resumeStudy(out, { transport: transport(2) });
     expect(resumed.doc.state).toBe('finished');

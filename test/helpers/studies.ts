@@ -2,6 +2,8 @@ import { copyFile, mkdtemp, writeFile } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
 import path from 'node:path';
 import { fileURLToPath } from 'node:url';
+import { runStudy, type RunOptions } from '../../src/runner/run-study.js';
+import type { StudyOutcome } from '../../src/runner/execute-study.js';
 import type { StudyDefinitionInput } from '../../src/study/definition.js';
 
 const TINY = fileURLToPath(new URL('../../studies/tiny/', import.meta.url));
@@ -47,4 +49,29 @@ export async function writeTinyStudy(definition: StudyDefinitionInput = tinyStud
   const file = path.join(dir, 'study.json');
   await writeFile(file, JSON.stringify(definition, null, 2));
   return file;
+}
+
+/**
+ * Writes `definition` as a tiny study and runs it until `trials` trials have finished, then stops it
+ * as an interrupt would (no grace period). Returns the run directory and the interrupted outcome.
+ */
+export async function runUntilTrialsFinished(
+  definition: StudyDefinitionInput,
+  trials: number,
+  options: Omit<RunOptions, 'out' | 'signal' | 'graceSeconds' | 'onEvent'>,
+): Promise<{ out: string; interrupted: StudyOutcome }> {
+  const file = await writeTinyStudy(definition);
+  const out = path.join(path.dirname(file), 'run');
+  const controller = new AbortController();
+  let finished = 0;
+  const interrupted = await runStudy(file, {
+    ...options,
+    out,
+    signal: controller.signal,
+    graceSeconds: 0,
+    onEvent: (event) => {
+      if (event.type === 'trial-finished' && ++finished === trials) controller.abort();
+    },
+  });
+  return { out, interrupted };
 }
