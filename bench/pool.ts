@@ -3,8 +3,8 @@
  * every core. Thread start-up (and each thread's backend set-up and data upload) is timed apart.
  */
 import { availableParallelism } from 'node:os';
-import type { TrainRequest, TrainResult } from '../src/pool/messages.js';
-import { TrialPool } from '../src/pool/trial-pool.js';
+import type { TrainRequest, TrainResult } from '../src/transports/threads/messages.js';
+import { TrialPool } from '../src/transports/threads/pool.js';
 import type { TrialConfiguration } from '../src/study/definition.js';
 import type { BenchOptions } from './index.js';
 import { fmt, type GroupResult } from './report.js';

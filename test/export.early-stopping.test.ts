@@ -12,9 +12,9 @@ import { prepareData } from '../src/data/prepare.js';
 import type { ExportConfiguration } from '../src/export/configuration.js';
 import { runStudy } from '../src/runner/run-study.js';
 import type { StudyDocument, TrialRecord } from '../src/store/types.js';
-import { rankTrials } from '../src/study/objective.js';
-import { initBackend } from '../src/train/backend.js';
-import { computeMetrics } from '../src/train/metrics.js';
+import { rankTrials } from '../src/core/ranking.js';
+import { initBackend } from '../src/trainers/tfjs/backend.js';
+import { computeMetrics } from '../src/metrics/metrics.js';
 import { tinyStudy, writeTinyStudy } from './helpers/studies.js';
 
 beforeAll(() => initBackend());

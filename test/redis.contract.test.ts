@@ -1,7 +1,7 @@
 /** The Redis transport keeps the promises of every transport, with one real worker (1 thread) on a private redis-server. */
 import { afterAll, beforeAll } from 'vitest';
-import { RedisTransport } from '../src/transport/redis.js';
-import { QueueWorker } from '../src/transport/redis-worker.js';
+import { RedisTransport } from '../src/transports/redis/coordinator.js';
+import { QueueWorker } from '../src/transports/redis/worker.js';
 import { startRedis, stopStarted, type TestRedis } from './helpers/redis-server.js';
 import { transportContract } from './transport.contract.js';
 

@@ -10,7 +10,7 @@ import { runStudy, type StudyOutcome } from '../src/runner/run-study.js';
 import type { StudyEvent } from '../src/runner/events.js';
 import { SAMPLER_PLUGINS } from '../src/samplers/index.js';
 import type { StudyDefinitionInput, TrialConfiguration } from '../src/study/definition.js';
-import { ClosedFormTransport } from '../src/transport/closed-form.js';
+import { ClosedFormTransport } from '../src/transports/closed-form.js';
 import { tinyStudy, writeTinyStudy } from './helpers/studies.js';
 
 /**

@@ -1,11 +1,11 @@
 import * as tf from '@tensorflow/tfjs';
 import { MessageChannel } from 'node:worker_threads';
 import { beforeAll, describe, expect, it } from 'vitest';
-import type { EpochReport } from '../src/pool/messages.js';
-import { initBackend } from '../src/train/backend.js';
-import { datasetTensors } from '../src/train/data-cache.js';
-import { trainSegment } from '../src/train/loop.js';
-import { createNetwork, disposeNetwork, forward, lossFromLogits, networkSpec } from '../src/train/network.js';
+import type { EpochReport } from '../src/transports/threads/messages.js';
+import { initBackend } from '../src/trainers/tfjs/backend.js';
+import { datasetTensors } from '../src/trainers/tfjs/data-cache.js';
+import { trainSegment } from '../src/trainers/tfjs/loop.js';
+import { createNetwork, disposeNetwork, forward, lossFromLogits, networkSpec } from '../src/trainers/tfjs/network.js';
 import { syntheticDataset, trainRequest } from './helpers/synthetic.js';
 
 beforeAll(() => initBackend());

@@ -3,8 +3,8 @@
  * epoch reports posted on `request.progressPort` as they happen.
  */
 import { threadId } from 'node:worker_threads';
-import type { TrainRequest, TrainResult } from '../src/pool/messages.js';
-import { runTrainRequest } from '../src/train/run-request.js';
+import type { TrainRequest, TrainResult } from '../src/transports/threads/messages.js';
+import { runTrainRequest } from '../src/trainers/run-request.js';
 
 export default async function trialWorker(request: TrainRequest): Promise<TrainResult> {
   // Test-only faults, checked before any work so their effect does not depend on timing.

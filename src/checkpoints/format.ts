@@ -6,7 +6,7 @@
  * manifests without loading a training library.
  */
 import type { OptimizerName, TrialConfiguration } from '../study/definition.js';
-import type { ClassFigures } from '../train/class-figures.js';
+import type { ClassFigures } from '../metrics/class-figures.js';
 
 /** Version 2: one byte string (version 1 was a folder with checkpoint.json and weights.bin). */
 export const CHECKPOINT_FORMAT_VERSION = 2;

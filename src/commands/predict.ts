@@ -1,7 +1,7 @@
 import path from 'node:path';
 import { readCsv } from '../data/csv.js';
 import { writeFileDurably } from '../files/durable-write.js';
-import { UserError } from '../errors.js';
+import { UserError } from '../core/errors.js';
 import { inputIssueWarning, strictInputError, type InputIssue } from '../data/input-checks.js';
 import { decisionThreshold, encodeRowsChecked, interpretOutputs, loadModel } from '../export/hand-off.js';
 import { predictRows } from '../export/model-files.js';

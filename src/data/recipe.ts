@@ -1,4 +1,4 @@
-import { UserError } from '../errors.js';
+import { UserError } from '../core/errors.js';
 import type { Task } from '../study/definition.js';
 import { isMissing, parseNumber } from './csv.js';
 import { countInputIssues, type InputIssue } from './input-checks.js';

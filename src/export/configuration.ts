@@ -5,12 +5,12 @@
 import { readFile } from 'node:fs/promises';
 import path from 'node:path';
 import type { PreprocessingRecipe } from '../data/types.js';
-import { UserError } from '../errors.js';
+import { UserError } from '../core/errors.js';
 import { OPTIMISM_CAUTION } from '../report/caution.js';
 import type { StudyDocument, TrialRecord } from '../store/types.js';
 import type { MetricName, Goal, TrialConfiguration } from '../study/definition.js';
 import type { ClassReport } from '../report/class-report.js';
-import type { Metrics } from '../train/metrics.js';
+import type { Metrics } from '../metrics/metrics.js';
 import { DEFAULT_THRESHOLD, describeRule, type ThresholdChoice } from './threshold.js';
 import { MODEL_FILE, WEIGHTS_FILE, inputNames } from './model-files.js';
 import type { OnnxDescription } from './onnx.js';

@@ -2,7 +2,7 @@ import { existsSync } from 'node:fs';
 import { mkdir, readdir, rename, rm } from 'node:fs/promises';
 import path from 'node:path';
 import { threadId } from 'node:worker_threads';
-import { UserError } from '../errors.js';
+import { UserError } from '../core/errors.js';
 
 /**
  * Fills a folder through `fill(partial)` in a sibling temporary folder, then renames it to `target`,

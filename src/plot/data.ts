@@ -1,6 +1,6 @@
 import type { CurvePoint, StudyDocument, TrialStatus } from '../store/types.js';
 import type { MetricName } from '../study/definition.js';
-import { scoreAt } from '../study/objective.js';
+import { scoreAt } from '../core/ranking.js';
 
 /** The goal metric's value at one epoch, or undefined when it was not recorded or is not finite. */
 export function metricAt(point: CurvePoint, metric: MetricName): number | undefined {

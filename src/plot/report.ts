@@ -1,4 +1,4 @@
-import { scheduleInWords } from '../train/schedule.js';
+import { scheduleInWords } from '../trainers/shared/schedule.js';
 import { formatNumber } from '../report/format.js';
 import type { StudyDocument, TrialRecord } from '../store/types.js';
 import { OPTIMISM_CAUTION } from '../report/caution.js';

@@ -1,4 +1,4 @@
-import type { RankedTrial } from '../study/objective.js';
+import type { RankedTrial } from '../core/ranking.js';
 import type { StudyDocument, TrialRecord, TrialStatus } from '../store/types.js';
 import type { Goal, TrialConfiguration } from '../study/definition.js';
 import { trialClassReport, type ClassReport } from './class-report.js';

@@ -6,10 +6,10 @@
 import { trialSeed } from '../random/streams.js';
 import type { Job, Sampler } from '../samplers/sampler.js';
 import type { Goal, StudyDefinition } from '../study/definition.js';
-import { orientedLoss, scoredEpochs } from '../study/objective.js';
-import { isEnded } from '../study/trial-status.js';
+import { orientedLoss, scoredEpochs } from '../core/ranking.js';
+import { isEnded } from '../core/trial-status.js';
 import type { JobRecord, StudyDocument, TrialRecord } from '../store/types.js';
-import type { TrainResult } from '../transport/types.js';
+import type { TrainResult } from '../core/job.js';
 import type { StudyProgress } from './events.js';
 import { applyResult, newTrialRecord } from './trial-records.js';
 

@@ -1,6 +1,6 @@
 import type { DataLoadOptions } from '../data/events.js';
-import { rankTrials } from '../study/objective.js';
-import { studyStoppedError } from '../errors.js';
+import { rankTrials } from '../core/ranking.js';
+import { studyStoppedError } from '../core/errors.js';
 import { lockStudy } from '../store/lock.js';
 import { checkOrWriteSplitRecord, splitRecordOf } from '../store/split-record.js';
 import { studyData } from '../store/study-data.js';

@@ -4,7 +4,7 @@ import path from 'node:path';
 import { dataHashes } from '../data/dataset-id.js';
 import { prepareData } from '../data/index.js';
 import type { DataLoadOptions } from '../data/events.js';
-import { UserError, studyStoppedError } from '../errors.js';
+import { UserError, studyStoppedError } from '../core/errors.js';
 import { checkCapacity } from '../study/capacity.js';
 import { resolveGoal } from '../study/definition.js';
 import { loadStudy, type LoadedStudy } from '../study/load.js';

@@ -1,8 +1,8 @@
 import type { Job } from '../samplers/sampler.js';
 import type { Goal } from '../study/definition.js';
-import { scoreAt, standardErrorAt } from '../study/objective.js';
+import { scoreAt, standardErrorAt } from '../core/ranking.js';
 import type { CurvePoint, TrialRecord } from '../store/types.js';
-import type { TrainResult } from '../transport/types.js';
+import type { TrainResult } from '../core/job.js';
 
 /** A fresh record for a trial's first job. */
 export function newTrialRecord(job: Job, seed: number): TrialRecord {

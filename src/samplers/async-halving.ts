@@ -1,5 +1,5 @@
 import { z } from 'zod';
-import { halvingFields } from '../study/fields.js';
+import { halvingFields } from '../core/fields.js';
 import { checkHalvingBudget } from './successive-halving.js';
 import { defineSampler, type Job, type JobOutcome, type Sampler } from './sampler.js';
 import { assertPositiveInteger, isPromotable, rank, resultsOf, rungEpochs, type ParamsForTrial } from './rungs.js';

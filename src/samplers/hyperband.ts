@@ -1,5 +1,5 @@
 import { z } from 'zod';
-import { halvingFields } from '../study/fields.js';
+import { halvingFields } from '../core/fields.js';
 import { defineSampler, type Job, type JobOutcome, type ProposalOrigin, type Sampler } from './sampler.js';
 import { HalvingBracket, checkHalvingBudget, type RungPlan } from './successive-halving.js';
 import { assertEta, assertPositiveInteger, type ParamsForTrial } from './rungs.js';

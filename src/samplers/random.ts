@@ -1,5 +1,5 @@
 import { z } from 'zod';
-import { seedField } from '../study/fields.js';
+import { seedField } from '../core/fields.js';
 import { defineSampler, type Job, type JobOutcome, type ProposalOrigin, type Sampler } from './sampler.js';
 import { assertPositiveInteger, type ParamsForTrial } from './rungs.js';
 

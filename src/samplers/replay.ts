@@ -1,5 +1,5 @@
 import { isDeepStrictEqual } from 'node:util';
-import { UserError } from '../errors.js';
+import { UserError } from '../core/errors.js';
 import type { TrialConfiguration } from '../study/definition.js';
 import type { Job, JobOutcome, Sampler } from './sampler.js';
 

@@ -1,5 +1,5 @@
 import { z } from 'zod';
-import { seedField } from '../study/fields.js';
+import { seedField } from '../core/fields.js';
 import { SOBOL_SCRAMBLES, sobolDesign, spaceDesign } from './design.js';
 import { RandomSampler } from './random.js';
 import { defineSampler } from './sampler.js';

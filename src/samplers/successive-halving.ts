@@ -1,6 +1,6 @@
 import { z } from 'zod';
-import { UserError } from '../errors.js';
-import { halvingFields } from '../study/fields.js';
+import { UserError } from '../core/errors.js';
+import { halvingFields } from '../core/fields.js';
 import { defineSampler, type Job, type JobOutcome, type ProposalOrigin, type Sampler } from './sampler.js';
 import { assertEta, assertPositiveInteger, isPromotable, rank, resultsOf, rungEpochs, type ParamsForTrial } from './rungs.js';
 

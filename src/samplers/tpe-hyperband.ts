@@ -1,7 +1,7 @@
 import { z } from 'zod';
 import type { Rng } from '../random/streams.js';
 import { snap } from '../space/dimensions.js';
-import { halvingFields } from '../study/fields.js';
+import { halvingFields } from '../core/fields.js';
 import { spaceDesign, type UnitDesign } from './design.js';
 import { HyperbandSampler, hyperbandSchedule, trainedEpochs } from './hyperband.js';
 import { defineSampler, type Job, type JobOutcome, type ProposalOrigin, type Sampler } from './sampler.js';

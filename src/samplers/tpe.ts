@@ -1,6 +1,6 @@
 import { z } from 'zod';
 import type { Rng } from '../random/streams.js';
-import { seedField } from '../study/fields.js';
+import { seedField } from '../core/fields.js';
 import { sobolDesign, spaceDesign, type UnitDesign } from './design.js';
 import { defineSampler, type Job, type JobOutcome, type ProposalOrigin, type Sampler } from './sampler.js';
 import { assertPositiveInteger } from './rungs.js';

@@ -1,5 +1,5 @@
 import { open, readFile, truncate } from 'node:fs/promises';
-import { UserError } from '../errors.js';
+import { UserError } from '../core/errors.js';
 import type { CurvePoint } from './types.js';
 
 /** One line of the curve log: a trial's whole curve as of that moment (a later line for the same trial wins). */

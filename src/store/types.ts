@@ -1,9 +1,9 @@
 import type { DataHashes } from '../data/dataset-id.js';
 import type { DataSummary, PreprocessingRecipe } from '../data/types.js';
 import type { ProposalOrigin } from '../samplers/sampler.js';
-import type { EpochReport } from '../transport/types.js';
+import type { EpochReport } from '../core/job.js';
 import type { Goal, StudyDefinition, TrialConfiguration } from '../study/definition.js';
-import type { ClassFigures } from '../train/class-figures.js';
+import type { ClassFigures } from '../metrics/class-figures.js';
 
 /**
  * Life of a trial. `training`: a job trains it. `waiting`: finished a rung, waiting for the sampler's

@@ -1,5 +1,5 @@
 import { availableParallelism, freemem } from 'node:os';
-import { UserError } from '../errors.js';
+import { UserError } from '../core/errors.js';
 import { plannedTrialCount } from '../samplers/index.js';
 import type { StudyDefinition } from './definition.js';
 

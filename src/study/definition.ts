@@ -2,7 +2,7 @@ import { z } from 'zod';
 import { samplerSchema } from '../samplers/registry.js';
 
 export { samplerSchema };
-import { seedField as seed } from './fields.js';
+import { seedField as seed } from '../core/fields.js';
 
 /** Activations a hidden layer may use. `leakyRelu` uses slope 0.2 below zero (the tfjs layers default). */
 export const ACTIVATIONS = ['relu', 'leakyRelu', 'elu', 'selu', 'tanh', 'sigmoid', 'softplus', 'swish', 'relu6'] as const;
@@ -203,7 +203,7 @@ export interface TrialConfiguration {
   optimizer: OptimizerName;
   l2: number;
   dropout: number;
-  /** Present only when the space has a `schedule` (src/train/schedule.ts); absent: constant. */
+  /** Present only when the space has a `schedule` (src/trainers/shared/schedule.ts); absent: constant. */
   schedule?: ScheduleKind;
   /** Warm-up epochs (present with `schedule`). */
   warmupEpochs?: number;

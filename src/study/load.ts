@@ -1,7 +1,7 @@
 import { readFile } from 'node:fs/promises';
 import path from 'node:path';
 import { parse as parseLenient, printParseErrorCode, type ParseError } from 'jsonc-parser';
-import { UserError } from '../errors.js';
+import { UserError } from '../core/errors.js';
 import {
   BINARY_METRICS,
   CLASSIFICATION_METRICS,
@@ -13,7 +13,7 @@ import {
 } from './definition.js';
 import { utf16Kind } from '../text/encoding.js';
 import { formatIssue } from './issues.js';
-import { earlyStoppingProblem } from './early-stopping.js';
+import { earlyStoppingProblem } from '../core/early-stopping.js';
 
 export interface LoadedStudy {
   definition: StudyDefinition;

@@ -1,5 +1,5 @@
 /** Small seeded synthetic data sets for training tests. */
-import type { SharedDataset, TrainRequest } from '../../src/pool/messages.js';
+import type { SharedDataset, TrainRequest } from '../../src/transports/threads/messages.js';
 import type { Task, TrialConfiguration } from '../../src/study/definition.js';
 import { stream, type Rng } from '../../src/random/streams.js';
 

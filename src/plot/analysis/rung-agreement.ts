@@ -1,5 +1,5 @@
 import type { StudyDocument, TrialRecord } from '../../store/types.js';
-import { rankTrials } from '../../study/objective.js';
+import { rankTrials } from '../../core/ranking.js';
 import { rungEndEpochs } from './jobs.js';
 
 /**

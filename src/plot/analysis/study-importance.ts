@@ -1,6 +1,6 @@
 import type { StudyDocument, TrialRecord } from '../../store/types.js';
 import type { TrialConfiguration } from '../../study/definition.js';
-import { beats, scoreAt } from '../../study/objective.js';
+import { beats, scoreAt } from '../../core/ranking.js';
 import { variedParameterAxes, type ParameterAxis } from '../labels.js';
 import { forestImportance, type InputKind } from './importance.js';
 

@@ -1,5 +1,5 @@
 import type { StudyDocument } from '../../store/types.js';
-import { rankTrials } from '../../study/objective.js';
+import { rankTrials } from '../../core/ranking.js';
 import { curveRows, extent, robustDomain } from '../data.js';
 import { metricLabel } from '../labels.js';
 import { FADED, INK, WINNER_MARK, studyColour } from '../palette.js';
