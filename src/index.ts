@@ -13,13 +13,15 @@ export type { StudyEvent, StudyObserver, StudyProgress } from './runner/events.j
 export { rankTrials, type RankedTrial } from './core/ranking.js';
 export { StudyStore, STUDY_FILE_NAME, studyFilePath } from './store/study-store.js';
 export { readSplitRecord, type SplitRecord } from './store/split-record.js';
-export type { StudyDocument, TrialRecord, TrialStatus, CurvePoint, StudyTotals } from './store/types.js';
+export type { StudyDocument, StudyTotals } from './store/types.js';
+export type { TrialRecord, TrialStatus, CurvePoint } from './core/trial.js';
 export type { PreparedData, PreparedFold, PreprocessingRecipe, FeatureRecipe, DataSummary } from './data/types.js';
 export { prepareData } from './data/prepare.js';
 export type { DataEvent, DataObserver, DataLoadOptions } from './data/events.js';
 export { checkCapacity, parameterCount, trainingBytes, type CapacityInput } from './study/capacity.js';
 export type { Sampler, Job, JobOutcome } from './samplers/sampler.js';
-export type { EpochReport, TrainRequest, TrainResult, SharedDataset } from './transports/threads/messages.js';
+export type { EpochReport, TrainResult, SharedDataset } from './core/job.js';
+export type { TrainRequest } from './trainers/contract.js';
 export { plannedWork, type PlannedWork } from './report/budget.js';
 export { studyResultJson, type StudyResultJson, type TrialEntry } from './report/study-result.js';
 export { run, type RunCommandOptions } from './commands/run.js';

@@ -6,7 +6,7 @@ import { fileURLToPath } from 'node:url';
 import { parse } from 'csv-parse/sync';
 import { beforeAll, describe, expect, it } from 'vitest';
 import { studyResultText, type StudyResultJson } from '../src/report/study-result.js';
-import { FAULT_VARIABLE } from '../src/runner/faults.js';
+import { FAULT_VARIABLE } from '../src/transports/threads/faults.js';
 import { rankTrials } from '../src/core/ranking.js';
 import { StudyStore, studyFilePath } from '../src/store/study-store.js';
 import { runCli } from './helpers/cli.js';

@@ -2,10 +2,10 @@
 import { beforeAll, describe, expect, it } from 'vitest';
 import { decodeCheckpoint } from '../src/checkpoints/format.js';
 import { trainSegmentOnEngine } from '../src/trainers/engine/segment.js';
-import type { EpochReport } from '../src/transports/threads/messages.js';
+import type { EpochReport } from '../src/core/job.js';
 import { initBackend } from '../src/trainers/tfjs/backend.js';
 import { trainSegment } from '../src/trainers/tfjs/loop.js';
-import { OPTIMIZERS } from '../src/study/definition.js';
+import { OPTIMIZERS } from '../src/core/configuration.js';
 import { syntheticDataset, trainRequest } from './helpers/synthetic.js';
 
 const figures = (reports: EpochReport[]) => reports.map(({ seconds: _, ...rest }) => rest);

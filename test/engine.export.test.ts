@@ -11,7 +11,8 @@ import type { PreparedData } from '../src/data/types.js';
 import { trainSegmentOnEngine } from '../src/trainers/engine/segment.js';
 import { evaluateExportedModel } from '../src/export/evaluate.js';
 import { buildLayersModel } from '../src/export/model-files.js';
-import { ACTIVATIONS, dataSchema, type Task, type TrialConfiguration } from '../src/study/definition.js';
+import { ACTIVATIONS, type Task, type TrialConfiguration } from '../src/core/configuration.js';
+import { dataSchema } from '../src/study/definition.js';
 import { initBackend } from '../src/trainers/tfjs/backend.js';
 import { PENGUINS_MEASUREMENTS, PENGUINS_TARGET, writeIrisCsv, writePenguinsCsv } from './helpers/datasets.js';
 

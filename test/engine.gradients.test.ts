@@ -5,7 +5,7 @@
  */
 import * as tf from '@tensorflow/tfjs';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { ACTIVATIONS, TASKS } from '../src/study/definition.js';
+import { ACTIVATIONS, TASKS } from '../src/core/configuration.js';
 import { stream } from '../src/random/streams.js';
 import { initBackend } from '../src/trainers/tfjs/backend.js';
 import { disposeNetwork, forward, l2Penalty, lossFromLogits } from '../src/trainers/tfjs/network.js';

@@ -1,7 +1,7 @@
 /** The trial worker trains on the engine by default and on the tfjs path when the request asks for it. */
 import { describe, expect, it } from 'vitest';
 import { trainSegmentOnEngine } from '../src/trainers/engine/segment.js';
-import type { EpochReport } from '../src/transports/threads/messages.js';
+import type { EpochReport } from '../src/core/job.js';
 import { trainSegment } from '../src/trainers/tfjs/loop.js';
 import trialWorker from '../workers/trial-worker.js';
 import { syntheticDataset, trainRequest } from './helpers/synthetic.js';

@@ -20,7 +20,7 @@ import { loadStudy } from '../src/study/load.js';
 import { runPaths } from '../src/store/run-dir.js';
 import { readSplitRecord, type SplitRecord } from '../src/store/split-record.js';
 import { StudyStore, studyFilePath } from '../src/store/study-store.js';
-import type { TrialRecord } from '../src/store/types.js';
+import type { TrialRecord } from '../src/core/trial.js';
 import { FoldsTransport, combinedClassFigures, meanAndStandardError, meanReport } from '../src/transports/folds.js';
 import type { TrialTransport } from '../src/transports/transport.js';
 import type { EpochReport, SharedDataset, TrainJob, TrainResult } from '../src/core/job.js';

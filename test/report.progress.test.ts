@@ -6,8 +6,9 @@ import { fitLine } from '../src/report/progress-line.js';
 import { painterFor } from '../src/report/style.js';
 import type { StudyEvent, StudyProgress } from '../src/runner/events.js';
 import type { Job } from '../src/samplers/sampler.js';
-import type { StudyDocument, TrialRecord } from '../src/store/types.js';
-import type { Goal, TrialConfiguration } from '../src/study/definition.js';
+import type { StudyDocument } from '../src/store/types.js';
+import type { TrialRecord } from '../src/core/trial.js';
+import type { Goal, TrialConfiguration } from '../src/core/configuration.js';
 import { trialRecord } from './helpers/trials.js';
 
 const goal: Goal = { metric: 'accuracy', better: 'higher' };

@@ -12,7 +12,7 @@ import { normaliseClassWeights, rawClassWeights, trainingClassWeights } from '..
 import { datasetId } from '../src/data/dataset-id.js';
 import { prepareData, toSharedDataset } from '../src/data/prepare.js';
 import { UserError } from '../src/core/errors.js';
-import type { SharedDataset } from '../src/transports/threads/messages.js';
+import type { SharedDataset } from '../src/core/job.js';
 import { stream } from '../src/random/streams.js';
 import { dataSchema } from '../src/study/definition.js';
 import { decodeDataset, encodeDataset } from '../src/transports/redis/dataset.js';

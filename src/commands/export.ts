@@ -20,8 +20,10 @@ import { formatNumber, textTable } from '../report/format.js';
 import { SPLIT_RECORD_NAME, runPaths } from '../store/run-dir.js';
 import { studyData } from '../store/study-data.js';
 import { StudyStore, studyFilePath } from '../store/study-store.js';
-import type { StudyDocument, TrialRecord } from '../store/types.js';
-import type { DecisionThresholdRule, MetricName, Goal } from '../study/definition.js';
+import type { StudyDocument } from '../store/types.js';
+import type { TrialRecord } from '../core/trial.js';
+import type { DecisionThresholdRule } from '../study/definition.js';
+import type { MetricName, Goal } from '../core/configuration.js';
 import { initBackend } from '../trainers/tfjs/backend.js';
 import type { Metrics } from '../metrics/metrics.js';
 

@@ -6,7 +6,7 @@ import { inputIssueWarning, strictInputError, type InputIssue } from '../data/in
 import { decisionThreshold, encodeRowsChecked, interpretOutputs, loadModel } from '../export/hand-off.js';
 import { predictRows } from '../export/model-files.js';
 import { predictionTable, predictionsCsv } from '../export/predictions.js';
-import type { Task } from '../study/definition.js';
+import type { Task } from '../core/configuration.js';
 import { didYouMean } from '../text/nearest.js';
 
 /** `--output -`: the predictions go to standard output. */

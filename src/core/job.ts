@@ -4,9 +4,9 @@
  * {@link TrainResult} settles it. A failure rejects the run; a non-finite loss is not a failure but a
  * `diverged` result. These are domain types: no message port, no shared buffer, no file path.
  */
-import type { MetricName, Task, TrialConfiguration } from '../study/definition.js';
+import type { MetricName, Task, TrialConfiguration } from './configuration.js';
 import type { EarlyStoppingSettings } from './early-stopping.js';
-import type { ClassFigures } from '../metrics/class-figures.js';
+import type { ClassFigures } from './class-figures.js';
 
 /** Training and validation matrices of a study, named by an id so a worker can fetch or cache them once. */
 export interface SharedDataset {

@@ -3,8 +3,8 @@
  * single ordering of trials. The progress display, `ranking`, `--json`, `export`, the report and the
  * library all rank with {@link rankTrials}.
  */
-import type { CurvePoint, TrialRecord } from '../store/types.js';
-import type { Goal } from '../study/definition.js';
+import type { CurvePoint, TrialRecord } from './trial.js';
+import type { Goal } from './configuration.js';
 import { isRanked } from './trial-status.js';
 
 /** The goal metric's value at one epoch, or null when it was not recorded or is not finite. */
@@ -23,11 +23,6 @@ export function standardErrorAt(point: Pick<CurvePoint, 'standardErrors'>, goal:
 export function orientedLoss(value: number | null, goal: Pick<Goal, 'better'>): number | null {
   if (value === null) return null;
   return goal.better === 'higher' ? -value : value;
-}
-
-/** True when score `a` is strictly better than score `b`. */
-export function beats(a: number, b: number, better: Goal['better']): boolean {
-  return better === 'higher' ? a > b : a < b;
 }
 
 /** A trial with a finite score at its scored point. */

@@ -3,7 +3,7 @@
  * at the end of a rung while the sampler may still continue it, and ends in one of the ended statuses.
  */
 import { UserError } from './errors.js';
-import type { TrialRecord, TrialStatus } from '../store/types.js';
+import type { TrialRecord, TrialStatus } from './trial.js';
 
 /** Statuses from which no job will continue the trial. */
 export const ENDED_STATUSES: readonly TrialStatus[] = ['trained', 'dropped', 'diverged', 'failed', 'timed-out'];

@@ -5,8 +5,8 @@
 import type { PreparedData, SplitArrays } from '../data/types.js';
 import { toSharedDataset } from '../data/prepare.js';
 import { UserError } from '../core/errors.js';
-import type { SharedDataset } from '../transports/threads/messages.js';
-import type { TrialRecord } from '../store/types.js';
+import type { SharedDataset } from '../core/job.js';
+import type { TrialRecord } from '../core/trial.js';
 import { initBackend } from '../trainers/tfjs/backend.js';
 import { hasSchedule } from '../trainers/shared/schedule.js';
 import { checkpointWeights, type NamedWeights } from '../checkpoints/format.js';

@@ -4,22 +4,11 @@
  * from the outputs of the weights the job's checkpoint holds; per-class precision, recall and F1
  * follow from the matrix (`perClassFigures`).
  */
+import type { ClassFigures } from '../core/class-figures.js';
 import type { SharedDataset } from '../core/job.js';
-import type { Task } from '../study/definition.js';
+import type { Task } from '../core/configuration.js';
 import { argmaxRows } from './metrics.js';
 import { averagePrecision } from './precision-recall.js';
-
-/** What a job brings back for a classification task, and what the study file keeps per trial. */
-export interface ClassFigures {
-  /** The epoch these figures describe. */
-  epoch: number;
-  /** confusion[t][p]: validation rows of true class t predicted as class p (class indices in output order). */
-  confusion: number[][];
-  /** Each class's average precision against the rest (null when the class has no validation row). */
-  averagePrecision: (number | null)[];
-  /** Binary only: the threshold on P(second class) the matrix was counted at. */
-  threshold?: number;
-}
 
 /** Precision, recall, F1 and support of one class, from a confusion matrix. */
 export interface ClassFigureRow {

@@ -1,7 +1,7 @@
 /**
  * Validation metrics in plain JavaScript (no tfjs), so they can be checked by hand.
  */
-import type { MetricName, Task } from '../study/definition.js';
+import type { MetricName, Task } from '../core/configuration.js';
 
 export type Metrics = Partial<Record<MetricName, number>>;
 

@@ -1,8 +1,9 @@
 import { scheduleInWords } from '../trainers/shared/schedule.js';
 import { formatNumber } from '../report/format.js';
 import { scoreText } from '../report/ranking-table.js';
-import type { StudyDocument, TrialRecord } from '../store/types.js';
-import type { MetricName } from '../study/definition.js';
+import type { StudyDocument } from '../store/types.js';
+import type { TrialRecord } from '../core/trial.js';
+import type { MetricName } from '../core/configuration.js';
 import { rankTrials } from '../core/ranking.js';
 import { WINNER_SYMBOL } from './palette.js';
 

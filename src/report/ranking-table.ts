@@ -1,4 +1,4 @@
-import type { Goal } from '../study/definition.js';
+import type { Goal } from '../core/configuration.js';
 import type { RankedTrial } from '../core/ranking.js';
 import { scheduleInWords } from '../trainers/shared/schedule.js';
 import { formatNumber, textTable } from './format.js';

@@ -1,6 +1,7 @@
 import type { Job } from '../samplers/sampler.js';
 import type { RankedTrial } from '../core/ranking.js';
-import type { StudyDocument, TrialRecord } from '../store/types.js';
+import type { StudyDocument } from '../store/types.js';
+import type { TrialRecord } from '../core/trial.js';
 import type { EpochReport } from '../core/job.js';
 
 /** How far a study has come, counted the same way for every sampler. */

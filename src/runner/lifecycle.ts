@@ -5,10 +5,12 @@
  */
 import { trialSeed } from '../random/streams.js';
 import type { Job, Sampler } from '../samplers/sampler.js';
-import type { Goal, StudyDefinition } from '../study/definition.js';
+import type { Goal } from '../core/configuration.js';
+import type { StudyDefinition } from '../study/definition.js';
 import { orientedLoss, scoredEpochs } from '../core/ranking.js';
 import { isEnded } from '../core/trial-status.js';
-import type { JobRecord, StudyDocument, TrialRecord } from '../store/types.js';
+import type { JobRecord, TrialRecord } from '../core/trial.js';
+import type { StudyDocument } from '../store/types.js';
 import type { TrainResult } from '../core/job.js';
 import type { StudyProgress } from './events.js';
 import { applyResult, newTrialRecord } from './trial-records.js';

@@ -1,7 +1,7 @@
 import type { Job } from '../samplers/sampler.js';
-import type { Goal } from '../study/definition.js';
+import type { Goal } from '../core/configuration.js';
 import { scoreAt, standardErrorAt } from '../core/ranking.js';
-import type { CurvePoint, TrialRecord } from '../store/types.js';
+import type { CurvePoint, TrialRecord } from '../core/trial.js';
 import type { TrainResult } from '../core/job.js';
 
 /** A fresh record for a trial's first job. */

@@ -3,7 +3,8 @@ import path from 'node:path';
 import type { Adapter } from 'lowdb';
 import { CurveLog, type CurveRecord } from './curve-log.js';
 import { DurableJsonFile } from './file-adapter.js';
-import type { CurvePoint, StudyDocument, TrialRecord } from './types.js';
+import type { CurvePoint, TrialRecord } from '../core/trial.js';
+import type { StudyDocument } from './types.js';
 
 /** Name of the curve log inside a run directory. */
 

@@ -1,5 +1,5 @@
 import { CHECKPOINT_FORMAT_VERSION, checkpointManifest, encodeCheckpoint } from '../checkpoints/format.js';
-import type { MetricName, TrialConfiguration } from '../study/definition.js';
+import type { MetricName, TrialConfiguration } from '../core/configuration.js';
 import type { TrialTransport } from './transport.js';
 import type { EpochReport, SharedDataset, TrainJob, TrainResult } from '../core/job.js';
 

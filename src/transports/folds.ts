@@ -10,8 +10,8 @@
  * of Averages" (SE of an average = SD / sqrt(n)) and the t-test chapter's SD+ (the SD with n - 1).
  */
 import { decodeFoldBundle, encodeFoldBundle } from '../checkpoints/fold-bundle.js';
-import type { MetricName } from '../study/definition.js';
-import type { ClassFigures } from '../metrics/class-figures.js';
+import type { MetricName } from '../core/configuration.js';
+import type { ClassFigures } from '../core/class-figures.js';
 import type { TrialTransport } from './transport.js';
 import type { EpochReport, SharedDataset, TrainJob, TrainResult } from '../core/job.js';
 

@@ -2,8 +2,8 @@
 import * as tf from '@tensorflow/tfjs';
 import { EngineTrial } from '../../src/trainers/engine/trial.js';
 import { networkWeights } from '../../src/trainers/engine/checkpoint-state.js';
-import type { SharedDataset } from '../../src/transports/threads/messages.js';
-import type { TrialConfiguration } from '../../src/study/definition.js';
+import type { SharedDataset } from '../../src/core/job.js';
+import type { TrialConfiguration } from '../../src/core/configuration.js';
 import { createNetwork, networkSpec, type Network } from '../../src/trainers/tfjs/network.js';
 import type { Rng } from '../../src/random/streams.js';
 

@@ -1,5 +1,6 @@
 import { plannedBudget } from '../../samplers/index.js';
-import type { StudyDocument, TrialRecord } from '../../store/types.js';
+import type { StudyDocument } from '../../store/types.js';
+import type { TrialRecord } from '../../core/trial.js';
 import { rankTrials } from '../../core/ranking.js';
 import { studyJobs, type JobSpent } from './jobs.js';
 

@@ -1,4 +1,5 @@
-import type { StudyDocument, TrialRecord, TrialStatus } from '../../store/types.js';
+import type { StudyDocument } from '../../store/types.js';
+import type { TrialRecord, TrialStatus } from '../../core/trial.js';
 import { scoreAt } from '../../core/ranking.js';
 import { isUnsuccessful } from '../../core/trial-status.js';
 

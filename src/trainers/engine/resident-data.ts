@@ -2,7 +2,7 @@
  * The data set in engine memory: copied in once per thread (rows padded to the first layer's
  * stride), kept while trials on the same data set follow, replaced when another one arrives.
  */
-import type { SharedDataset } from '../../transports/threads/messages.js';
+import type { SharedDataset } from '../../core/job.js';
 import { align16, engine, padColumns, reserve } from './module.js';
 
 /** Byte addresses of a resident data set's matrices; `end` is the first free byte after them. */

@@ -2,7 +2,8 @@
  * A training request run on the engine: the same contract, reports and checkpoints as the tfjs
  * path's `trainSegment` (src/trainers/tfjs/loop.ts), which stays the reference it is tested against.
  */
-import type { EpochReport, TrainRequest, TrainResult } from '../../transports/threads/messages.js';
+import type { EpochReport, TrainResult } from '../../core/job.js';
+import type { TrainRequest } from '../contract.js';
 import { completeJob, lastEpochOf, runEpochs } from '../shared/epochs.js';
 import { networkWeights, restoreTrialCheckpoint, trialCheckpoint } from './checkpoint-state.js';
 import { EngineTrial } from './trial.js';

@@ -4,9 +4,9 @@
  * epoch's shuffle order are drawn in JavaScript from the trial's seeded streams (the same draws as
  * the tfjs path) and written into memory before the step that uses them.
  */
-import type { SharedDataset } from '../../transports/threads/messages.js';
+import type { SharedDataset } from '../../core/job.js';
 import { permutation, stream, type Rng } from '../../random/streams.js';
-import { ACTIVATIONS, OPTIMIZERS, TASKS, type TrialConfiguration } from '../../study/definition.js';
+import { ACTIVATIONS, OPTIMIZERS, TASKS, type TrialConfiguration } from '../../core/configuration.js';
 import { initialKernel, initRuleFor } from '../shared/initial-weights.js';
 import { ADAM, MOMENTUM } from '../shared/optimizer-constants.js';
 import { CONSTANT, descriptorBytes, layerWord, WORD, type LayerField } from './layout.js';

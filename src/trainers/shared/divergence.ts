@@ -4,7 +4,7 @@
  * standardised target: mean squared error 1; binary: log loss ln 2; multiclass: cross-entropy ln k).
  * Such a trial's figures say nothing about its configuration but flatten every chart's axis.
  */
-import type { Task } from '../../study/definition.js';
+import type { Task } from '../../core/configuration.js';
 
 export const RUNAWAY_FACTOR = 1000;
 

@@ -3,11 +3,13 @@
  * score the validation split, report, stop as diverged at the first loss that stops being finite or
  * runs away, and with early stopping keep the best epoch's weights and stop where the rule says.
  */
-import type { EpochReport, TrainRequest, TrainResult } from '../../transports/threads/messages.js';
+import type { EpochReport, TrainResult } from '../../core/job.js';
+import type { TrainRequest } from '../contract.js';
 import { checkpointManifest, decodeCheckpoint, withBestEpoch, withNetwork, type NamedWeights } from '../../checkpoints/format.js';
 import { observeEpoch, type EarlyStoppingState } from '../../core/early-stopping.js';
 import { scoreAt } from '../../core/ranking.js';
-import { jobClassFigures, type ClassFigures } from '../../metrics/class-figures.js';
+import { jobClassFigures } from '../../metrics/class-figures.js';
+import type { ClassFigures } from '../../core/class-figures.js';
 import { divergenceReason } from './divergence.js';
 import { computeMetrics } from '../../metrics/metrics.js';
 import { hasSchedule, learningRateAt } from './schedule.js';
@@ -35,7 +37,7 @@ export interface StoppingRun {
 }
 
 /**
- * Runs epochs `fromEpoch + 1 .. toEpoch`, sending each report to `onEpoch` and `request.progressPort`.
+ * Runs epochs `fromEpoch + 1 .. toEpoch`, sending each report to `onEpoch` as it ends.
  * A loss that stops being finite or runs away (`divergenceReason`) ends the loop with `divergence` set;
  * that epoch has no report.
  */
@@ -78,7 +80,6 @@ export function runEpochs(
     };
     epochs.push(report);
     onEpoch?.(report);
-    request.progressPort?.postMessage(report);
     if (settings && stopping) {
       const seen = observeEpoch(settings, stopping.state, epoch, scoreAt(report, settings.goal));
       stopping.state = seen.state;

@@ -1,5 +1,5 @@
 /** Seeded initial kernels (plain JavaScript, shared by the tfjs path and the engine). */
-import type { Activation } from '../../study/definition.js';
+import type { Activation } from '../../core/configuration.js';
 import type { Rng } from '../../random/streams.js';
 
 /** How a layer's initial kernel is drawn. Biases always start at zero. */

@@ -1,5 +1,5 @@
 import * as tf from '@tensorflow/tfjs';
-import type { SharedDataset } from '../../transports/threads/messages.js';
+import type { SharedDataset } from '../../core/job.js';
 
 /** A data set's matrices as tensors, kept alive between trials in this thread. */
 export interface DatasetTensors {

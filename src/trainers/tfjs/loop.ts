@@ -1,6 +1,7 @@
 import * as tf from '@tensorflow/tfjs';
-import type { EpochReport, TrainRequest, TrainResult } from '../../transports/threads/messages.js';
-import type { OptimizerName } from '../../study/definition.js';
+import type { EpochReport, TrainResult } from '../../core/job.js';
+import type { TrainRequest } from '../contract.js';
+import type { OptimizerName } from '../../core/configuration.js';
 import { permutation, stream } from '../../random/streams.js';
 import { ConstantCachingAdam } from './adam.js';
 import { checkpointBytes, restoreCheckpoint } from './checkpoint.js';
@@ -110,7 +111,7 @@ function validate(request: TrainRequest, network: Network, data: DatasetTensors)
 /**
  * Trains epochs `fromEpoch + 1 .. toEpoch` of one trial with a custom loop, continuing from
  * `checkpoint` when `fromEpoch > 0`; a completed segment returns the checkpoint at `toEpoch`.
- * Each epoch report goes to `onEpoch` and to `request.progressPort`.
+ * Each epoch report goes to `onEpoch` as the epoch ends.
  *
  * A loss that stops being finite or runs away (`divergenceReason`) ends the segment as `diverged` (no checkpoint is returned,
  * and the diverged epoch has no report since its figures are not numbers).

@@ -1,5 +1,5 @@
 import * as tf from '@tensorflow/tfjs';
-import type { Activation, Task, TrialConfiguration } from '../../study/definition.js';
+import type { Activation, Task, TrialConfiguration } from '../../core/configuration.js';
 import { stream, type Rng } from '../../random/streams.js';
 import { initialKernel, initRuleFor, layerPrefix, type InitRule } from '../shared/initial-weights.js';
 

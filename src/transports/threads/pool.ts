@@ -3,7 +3,8 @@ import { MessageChannel } from 'node:worker_threads';
 import { fileURLToPath, pathToFileURL } from 'node:url';
 import path from 'node:path';
 import { Piscina } from 'piscina';
-import type { EpochReport, TrainRequest, TrainResult } from './messages.js';
+import type { EpochReport, TrainResult } from '../../core/job.js';
+import type { ThreadTrainRequest } from './messages.js';
 
 export interface TrialPoolOptions {
   /** Worker threads. */
@@ -66,7 +67,7 @@ export class TrialPool {
    * Train one job. Resolves with the worker's result; rejects when the worker throws, dies,
    * or `signal` aborts (the worker thread is then ended and replaced).
    */
-  async run(request: Omit<TrainRequest, 'progressPort'>, onEpoch: (report: EpochReport) => void, signal?: AbortSignal): Promise<TrainResult> {
+  async run(request: Omit<ThreadTrainRequest, 'progressPort'>, onEpoch: (report: EpochReport) => void, signal?: AbortSignal): Promise<TrainResult> {
     const channel = new MessageChannel();
     let lastEpoch = request.fromEpoch;
     const deliver = (report: EpochReport): void => {
@@ -76,7 +77,7 @@ export class TrialPool {
     };
     channel.port1.on('message', deliver);
     try {
-      const task: TrainRequest = { ...request, progressPort: channel.port2 };
+      const task: ThreadTrainRequest = { ...request, progressPort: channel.port2 };
       const result = (await this.piscina.run(task, { transferList: [channel.port2], ...(signal ? { signal } : {}) })) as TrainResult;
       // The result and the reports travel on different ports, so the last reports may still be on
       // their way when a fast job resolves: they are delivered from the result, in order, once.

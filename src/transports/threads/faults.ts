@@ -1,4 +1,4 @@
-import type { FaultKind } from '../transports/threads/messages.js';
+import type { FaultKind } from './messages.js';
 
 /**
  * Test-only fault switches, injected through options (`ExecuteOptions.faults`, the CLI's `main(argv,
