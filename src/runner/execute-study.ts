@@ -3,7 +3,7 @@ import { availableParallelism } from 'node:os';
 import { FolderCheckpointStore } from '../checkpoints/folder-store.js';
 import type { CheckpointStore } from '../checkpoints/store.js';
 import { datasetId } from '../data/dataset-id.js';
-import { hasSchedule } from '../trainers/shared/schedule.js';
+import { hasSchedule } from '../core/schedule.js';
 import { toSharedDataset } from '../data/index.js';
 import type { PreparedData } from '../data/types.js';
 import { studyStoppedError } from '../core/errors.js';
