@@ -100,6 +100,25 @@ describe('a curve log cut in the middle of its last line', () => {
   });
 });
 
+describe("a curve log whose last whole line was cut after the study file recorded its job", () => {
+  it("runs that trial's last job again on resume, says so, and ends as an uninterrupted study", async () => {
+    const { dir } = await interruptedAfter(5);
+    const log = path.join(dir, 'curves.jsonl');
+    const lines = (await readFile(log, 'utf8')).trimEnd().split('\n');
+    const lost = JSON.parse(lines.at(-1)!) as { trial: number; curve: { epoch: number }[] };
+    // Cut the last line in its middle: the study file still records the job whose epochs it held.
+    await writeFile(log, `${lines.slice(0, -1).join('\n')}\n${lines.at(-1)!.slice(0, 40)}`);
+    const recorded = (await StudyStore.read(dir)).trials.find((t) => t.id === lost.trial)!;
+    expect(recorded.curve.length).toBeLessThan(recorded.epochsTrained);
+    const events: StudyEvent[] = [];
+    const resumed = await resumeStudy(dir, { onEvent: (e) => events.push(e) });
+    expect(notesOf(events)).toContainEqual(expect.stringMatching(new RegExp(`^trial ${lost.trial}: the curve log lost epochs \\d+-\\d+; that job runs again$`)));
+    const rerun = events.filter((e) => e.type === 'job-started' && e.job.trialId === lost.trial);
+    expect(rerun.length).toBeGreaterThan(0);
+    expect(resultOf(resumed.doc)).toEqual(resultOf((await uninterrupted()).doc));
+  });
+});
+
 describe('lost checkpoints', () => {
   it('are trained again from epoch 0, said once, with the same result as an uninterrupted run', async () => {
     const { dir } = await interruptedAtFirstPromotion();

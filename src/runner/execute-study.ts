@@ -97,9 +97,9 @@ function defaultTransport(options: ExecuteOptions): (context: TransportContext) 
  * or permission stops the study with a one-line error (exit code 1) naming the path, the cause and the
  * resume command; every trial saved before it is kept and no trial is marked failed for it.
  */
-export async function executeStudy(store: StudyStore, data: PreparedData, options: ExecuteOptions = {}): Promise<StudyOutcome> {
+export async function executeStudy(store: StudyStore, data: PreparedData, options: ExecuteOptions = {}, notes: readonly string[] = []): Promise<StudyOutcome> {
   try {
-    return await drive(store, data, options);
+    return await drive(store, data, options, notes);
   } catch (error) {
     throw studyStoppedError(error, store.dir) ?? error;
   }
@@ -111,7 +111,7 @@ export async function executeStudy(store: StudyStore, data: PreparedData, option
  * stopped run again, from their checkpoint when it stands where they started, else from epoch 0
  * (training is deterministic, so the result is the same).
  */
-async function drive(store: StudyStore, data: PreparedData, options: ExecuteOptions): Promise<StudyOutcome> {
+async function drive(store: StudyStore, data: PreparedData, options: ExecuteOptions, resumeNotes: readonly string[]): Promise<StudyOutcome> {
   const doc = store.doc;
   const { definition, goal } = doc;
   const resumed = doc.trials.length > 0;
@@ -161,7 +161,7 @@ async function drive(store: StudyStore, data: PreparedData, options: ExecuteOpti
   doc.state = 'running';
   await store.save();
   emit({ type: 'study-started', name: doc.name, dir: store.dir, workers, plannedTrials: planned.trials, plannedEpochs: planned.epochs, resumed, progress: lifecycle.progress() });
-  for (const message of store.notes) note(message);
+  for (const message of [...store.notes, ...resumeNotes]) note(message);
 
   const inner = (options.transport ?? defaultTransport(options))({ workers });
   // k-fold: every job runs once per fold on the inner transport; the run loop sees one job and the fold mean.
