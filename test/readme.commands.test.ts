@@ -135,6 +135,7 @@ async function freshCopy(): Promise<string> {
   return copy;
 }
 
+// Every README command runs a real CLI process; on a loaded 2-core machine the whole walk takes minutes.
 describe('the README, followed on a fresh copy of the repository', () => {
   it('every command and code block runs in order and exits 0', async () => {
     const readme = await readFile(path.join(ROOT, 'README.md'), 'utf8');
@@ -159,5 +160,5 @@ describe('the README, followed on a fresh copy of the repository', () => {
       expect({ step: step.text, code: result.code, stderr: result.code === 0 ? '' : result.stderr }).toEqual({ step: step.text, code: 0, stderr: '' });
       expect(result.stdout.length, step.text).toBeGreaterThan(0);
     }
-  });
+  }, 900_000);
 });
