@@ -3,6 +3,7 @@ import path from 'node:path';
 import { resumeStudy, type ResumeOutcome } from '../runner/resume-study.js';
 import { StudyStore } from '../store/study-store.js';
 import { dataObserver, studyObserver, type ProgressTarget } from './observe.js';
+import { oversubscriptionWarning } from './oversubscription.js';
 import { queueRun, settleQueued, type QueueFlags } from './queue.js';
 
 export interface ResumeCommandOptions extends ProgressTarget, QueueFlags {
@@ -25,6 +26,9 @@ export interface ResumeCommandOptions extends ProgressTarget, QueueFlags {
  */
 export async function resume(options: ResumeCommandOptions): Promise<ResumeOutcome> {
   const saved = await StudyStore.read(options.dir);
+  const workers = options.workers ?? saved.definition.workers;
+  const crowded = options.queue === undefined && workers !== undefined ? oversubscriptionWarning(workers) : undefined;
+  if (crowded) options.onWarning?.(crowded);
   const onEvent = studyObserver(options, saved.definition, saved.goal);
   const onDataEvent = dataObserver(options);
   const dir = path.resolve(options.dir);

@@ -4,6 +4,7 @@ import { runStudy, type StudyOutcome } from '../runner/run-study.js';
 import { resolveGoal, type StudyDefinitionInput } from '../study/definition.js';
 import { loadStudy, studyFromObject } from '../study/load.js';
 import { dataObserver, studyObserver, type ProgressTarget } from './observe.js';
+import { oversubscriptionWarning } from './oversubscription.js';
 import { queueRun, settleQueued, type QueueFlags } from './queue.js';
 
 export interface RunCommandOptions extends ProgressTarget, QueueFlags {
@@ -45,6 +46,9 @@ export async function run(options: RunCommandOptions): Promise<StudyOutcome> {
       ? await loadStudy(options.definition)
       : studyFromObject(options.definition, path.resolve(options.baseDir ?? '.'));
   const goal = resolveGoal(study.definition);
+  const workers = options.workers ?? study.definition.workers;
+  const crowded = options.queue === undefined && workers !== undefined ? oversubscriptionWarning(workers) : undefined;
+  if (crowded) options.onWarning?.(crowded);
   const onEvent = studyObserver(options, study.definition, goal);
   const onDataEvent = dataObserver(options);
   const dir = path.resolve(options.out ?? path.join('runs', study.definition.name));

@@ -5,6 +5,7 @@ import { UserError } from '../errors.js';
 import { READABLE_VERSIONS, migrateStudyDocument } from './migrate.js';
 import { STUDY_FILE_NAME, runPaths } from './run-dir.js';
 import { StudyFileAdapter } from './study-file.js';
+import { checkFieldTypes } from './study-file-shape.js';
 import type { StudyDocument } from './types.js';
 
 export { STUDY_FILE_NAME };
@@ -26,7 +27,7 @@ function checkShape(data: unknown, file: string): StudyDocument {
       `${file}: study file version ${String(version)} is not supported (this rungwise reads versions ${READABLE_VERSIONS.join(', ')})`,
     );
   }
-  return migrateStudyDocument({ ...doc, version });
+  return checkFieldTypes(migrateStudyDocument({ ...doc, version }), file);
 }
 
 /**

@@ -25,7 +25,7 @@ export const demoCommand: CommandDeclaration = ({ program, io }) => {
         return;
       }
       const outcome = await untilInterrupted(target, (signal) =>
-        runDemo({ out: flags.out, ...(flags.workers !== undefined ? { workers: flags.workers } : {}), progress: target.err, signal }),
+        runDemo({ out: flags.out, ...(flags.workers !== undefined ? { workers: flags.workers } : {}), progress: target.err, onWarning: target.warn, signal }),
       );
       if (outcome) await finishStudy(target, outcome, flags);
     });

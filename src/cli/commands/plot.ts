@@ -16,7 +16,9 @@ export const plotCommand: CommandDeclaration = ({ program, io }) => {
       const target = io();
       const { plot } = await import('../../commands/plot.js');
       const stop = new AbortController();
-      if (flags.watch) process.once('SIGINT', () => stop.abort());
+      // Ctrl-C is how --watch ends; like every command stopped by it, the exit code is 130.
+      const onInterrupt = (): void => stop.abort();
+      if (flags.watch) process.once('SIGINT', onInterrupt);
       const reportOf = (files: string[]): string | null => files.find((f) => f.endsWith('report.html')) ?? null;
       const said = (files: string[]): void => {
         const report = reportOf(files);
@@ -28,6 +30,8 @@ export const plotCommand: CommandDeclaration = ({ program, io }) => {
         signal: stop.signal,
         ...(flags.watch ? { watch: true, onWritten: said } : {}),
       });
+      process.off('SIGINT', onInterrupt);
       if (!flags.watch) said(files);
+      else if (stop.signal.aborted) process.exitCode = 130;
     });
 };

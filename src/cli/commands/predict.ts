@@ -31,8 +31,8 @@ export const predictCommand: CommandDeclaration = ({ program, io, stdout }) => {
         stdout,
       });
       for (const line of predictWarnings(summary, data)) target.warn(line);
+      // The predictions are the result; the line saying where they went is a note (none under --quiet).
       if (flags.json) target.out(json(summary));
-      else if (summary.output === STDOUT) target.note(predictReport(summary));
-      else target.out(`${predictReport(summary)}\n`);
+      else target.note(predictReport(summary));
     });
 };

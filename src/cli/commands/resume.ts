@@ -26,6 +26,7 @@ export const resumeCommand: CommandDeclaration = ({ program, io, inject }) => {
           ...queueFlags(flags),
           progress: target.err,
           onDataWarning: target.warn,
+          onWarning: target.warn,
           signal,
         }),
       );

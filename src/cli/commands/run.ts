@@ -20,7 +20,7 @@ export const runCommand: CommandDeclaration = ({ program, io, inject }) => {
       const target = io();
       const { run } = await import('../../commands/run.js');
       const { json: _json, top: _top, ...options } = flags;
-      const outcome = await untilInterrupted(target, (signal) => run({ definition, ...options, ...inject, progress: target.err, onDataWarning: target.warn, signal }));
+      const outcome = await untilInterrupted(target, (signal) => run({ definition, ...options, ...inject, progress: target.err, onDataWarning: target.warn, onWarning: target.warn, signal }));
       if (outcome) await finishStudy(target, outcome, flags);
     });
   queueOptions(command);
