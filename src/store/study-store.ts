@@ -6,6 +6,7 @@ import { READABLE_VERSIONS, migrateStudyDocument } from './migrate.js';
 import { STUDY_FILE_NAME, runPaths } from './run-dir.js';
 import { StudyFileAdapter } from './study-file.js';
 import { checkFieldTypes } from './study-file-shape.js';
+import { renamedKeysNote, renameSamplerKeys } from '../study/renamed-keys.js';
 import type { StudyDocument } from './types.js';
 
 export { STUDY_FILE_NAME };
@@ -28,6 +29,14 @@ function checkShape(data: unknown, file: string): StudyDocument {
     );
   }
   return checkFieldTypes(migrateStudyDocument({ ...doc, version }), file);
+}
+
+/** A study file written before the sampler options were renamed, read with the new names (and a note). */
+function renameOldSamplerOptions(doc: StudyDocument, file: string): { doc: StudyDocument; notes: string[] } {
+  const { sampler, renamed } = renameSamplerKeys(doc.definition.sampler);
+  const note = renamedKeysNote(`${file}: definition`, renamed, 'the study file keeps the old names until resume saves it');
+  if (!note) return { doc, notes: [] };
+  return { doc: { ...doc, definition: { ...doc.definition, sampler: sampler as StudyDocument['definition']['sampler'] } }, notes: [note] };
 }
 
 /**
@@ -74,8 +83,9 @@ export class StudyStore {
     if (data === null) {
       throw new UserError('E_STUDY_FILE', `${file}: no study file here; run \`rungwise run <study.json> --out ${dir}\` first`);
     }
-    const db = new Low(adapter, checkShape(data, file));
-    return new StudyStore(db, dir, adapter.notes);
+    const { doc, notes } = renameOldSamplerOptions(checkShape(data, file), file);
+    const db = new Low(adapter, doc);
+    return new StudyStore(db, dir, [...adapter.notes, ...notes]);
   }
 
   /** Read a study file without keeping it open for writing. */
