@@ -59,6 +59,17 @@ describe('the study file', () => {
     expect(previous.name).toBe('first');
   });
 
+  it('calls an injected write-step hook at each step of every write (how tests kill a write half-way)', async () => {
+    const dir = await mkdtemp(path.join(tmpdir(), 'rungwise-store-'));
+    const steps: string[] = [];
+    const store = await StudyStore.create(dir, documentNamed('s'), (step, write) => steps.push(`${step}:${write}`));
+    await store.save();
+    expect(steps).toEqual(['after-unlink:1', 'after-link:1', 'after-unlink:2', 'after-link:2']);
+    const reopened = await StudyStore.open(dir, (step, write) => steps.push(`reopened ${step}:${write}`));
+    await reopened.save();
+    expect(steps.slice(4)).toEqual(['reopened after-unlink:1', 'reopened after-link:1']);
+  });
+
   it('coalesces saves requested while a write is under way, and loses none', async () => {
     const dir = await mkdtemp(path.join(tmpdir(), 'rungwise-store-'));
     const store = await StudyStore.create(dir, documentNamed('s'));

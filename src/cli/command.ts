@@ -1,5 +1,6 @@
 /** What every command declaration under `commands/` receives, and the helper that starts one. */
 import type { Command } from 'commander';
+import type { WriteStepHook } from '../store/file-adapter.js';
 import type { FaultInjector } from '../transport/threads.js';
 import { examples } from './help.js';
 import type { CliIo } from './io.js';
@@ -8,6 +9,8 @@ import type { CliIo } from './io.js';
 export interface CliInjections {
   /** Faults injected into trials (see `runner/faults.ts`). */
   faults?: FaultInjector;
+  /** Called at each step of every study-file write (see `runner/faults.ts`). */
+  onWriteStep?: WriteStepHook;
 }
 
 /** The program a command is declared on, and what its action needs. */

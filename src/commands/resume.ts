@@ -1,4 +1,5 @@
 import type { FaultInjector } from '../transport/threads.js';
+import type { WriteStepHook } from '../store/file-adapter.js';
 import path from 'node:path';
 import { resumeStudy, type ResumeOutcome } from '../runner/resume-study.js';
 import { StudyStore } from '../store/study-store.js';
@@ -18,6 +19,8 @@ export interface ResumeCommandOptions extends ProgressTarget, QueueFlags {
   stderr?: NodeJS.WritableStream;
   /** Test-only: faults to inject into trials (see `runner/faults.ts`). @default none */
   faults?: FaultInjector;
+  /** Test-only: called at each step of every study-file write (see `runner/faults.ts`). @default none */
+  onWriteStep?: WriteStepHook;
 }
 
 /**
@@ -40,6 +43,7 @@ export async function resume(options: ResumeCommandOptions): Promise<ResumeOutco
     ...(options.allowChangedData ? { allowChangedData: true } : {}),
     ...(onEvent ? { onEvent } : {}),
     ...(options.faults ? { faults: options.faults } : {}),
+    ...(options.onWriteStep ? { onWriteStep: options.onWriteStep } : {}),
     ...(onDataEvent ? { onDataEvent } : {}),
   }));
 }

@@ -1,4 +1,5 @@
 import type { FaultInjector } from '../transport/threads.js';
+import type { WriteStepHook } from '../store/file-adapter.js';
 import path from 'node:path';
 import { runStudy, type StudyOutcome } from '../runner/run-study.js';
 import { resolveGoal, type StudyDefinitionInput } from '../study/definition.js';
@@ -24,6 +25,8 @@ export interface RunCommandOptions extends ProgressTarget, QueueFlags {
   stderr?: NodeJS.WritableStream;
   /** Test-only: faults to inject into trials (see `runner/faults.ts`). @default none */
   faults?: FaultInjector;
+  /** Test-only: called at each step of every study-file write (see `runner/faults.ts`). @default none */
+  onWriteStep?: WriteStepHook;
 }
 
 /**
@@ -61,6 +64,7 @@ export async function run(options: RunCommandOptions): Promise<StudyOutcome> {
     ...(queue.transport ? { transport: queue.transport } : {}),
     ...(onEvent ? { onEvent } : {}),
     ...(options.faults ? { faults: options.faults } : {}),
+    ...(options.onWriteStep ? { onWriteStep: options.onWriteStep } : {}),
     ...(onDataEvent ? { onDataEvent } : {}),
   }));
 }

@@ -27,7 +27,7 @@ export async function resumeStudy(dir: string, options: ResumeOptions = {}): Pro
     throw studyStoppedError(error, dir) ?? error;
   });
   try {
-    const store = await StudyStore.open(dir);
+    const store = await StudyStore.open(dir, options.onWriteStep);
     const doc = store.doc;
     if (doc.state === 'finished') {
       return { dir: store.dir, file: store.file, doc, ranking: rankTrials(doc.trials, doc.goal), alreadyFinished: true };

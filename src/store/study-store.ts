@@ -4,6 +4,7 @@ import { Low } from 'lowdb';
 import { UserError } from '../errors.js';
 import { READABLE_VERSIONS, migrateStudyDocument } from './migrate.js';
 import { STUDY_FILE_NAME, runPaths } from './run-dir.js';
+import type { WriteStepHook } from './file-adapter.js';
 import { StudyFileAdapter } from './study-file.js';
 import { checkFieldTypes } from './study-file-shape.js';
 import { renamedKeysNote, renameSamplerKeys } from '../study/renamed-keys.js';
@@ -63,22 +64,22 @@ export class StudyStore {
   }
 
   /** Create the run directory and write a new study file. */
-  static async create(dir: string, doc: StudyDocument): Promise<StudyStore> {
+  static async create(dir: string, doc: StudyDocument, onWriteStep?: WriteStepHook): Promise<StudyStore> {
     await mkdir(dir, { recursive: true });
-    const db = new Low(new StudyFileAdapter(studyFilePath(dir)), doc);
+    const db = new Low(new StudyFileAdapter(studyFilePath(dir), onWriteStep), doc);
     await db.write();
     return new StudyStore(db, dir);
   }
 
   /** Open an existing study file; a missing, corrupted or foreign file is a {@link UserError}. */
-  static async open(dir: string): Promise<StudyStore> {
+  static async open(dir: string, onWriteStep?: WriteStepHook): Promise<StudyStore> {
     const file = studyFilePath(dir);
     const kind = await stat(dir).then(
       (found) => (found.isDirectory() ? 'folder' : 'file'),
       () => 'nothing',
     );
     if (kind === 'file') throw new UserError('E_STUDY_FILE', `${dir}: is a file, not a run directory; name the folder that holds study.json`);
-    const adapter = new StudyFileAdapter(file);
+    const adapter = new StudyFileAdapter(file, onWriteStep);
     const data = await adapter.read();
     if (data === null) {
       throw new UserError('E_STUDY_FILE', `${file}: no study file here; run \`rungwise run <study.json> --out ${dir}\` first`);
