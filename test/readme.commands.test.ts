@@ -106,7 +106,8 @@ function runUntilWritten(command: string, args: string[], cwd: string): Promise<
       if (stdout.includes('\n')) child.kill('SIGINT');
     });
     child.stderr.on('data', (chunk: Buffer) => (stderr += chunk.toString()));
-    child.on('close', (code) => resolve({ code: code ?? 1, stdout, stderr }));
+    // Ctrl-C ends a watch with 130, as it ends every command; that is the clean end here.
+    child.on('close', (code) => resolve({ code: code === 130 ? 0 : (code ?? 1), stdout, stderr }));
   });
 }
 
