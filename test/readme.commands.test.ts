@@ -90,8 +90,12 @@ async function runTerminals(commands: readonly string[], cwd: string): Promise<{
     const [command, args] = commandLine(lines.at(-1)!);
     return await run(command, args, cwd);
   } finally {
-    for (const child of background) child.kill('SIGTERM');
-    await Promise.all(background.map((child) => (child.exitCode === null ? new Promise((resolve) => child.once('exit', resolve)) : undefined)));
+    // Stopped last to first (the worker before the Redis server it talks to), each awaited.
+    for (const child of background.reverse()) {
+      const exited = child.exitCode === null ? new Promise((resolve) => child.once('exit', resolve)) : undefined;
+      child.kill('SIGTERM');
+      await exited;
+    }
   }
 }
 
