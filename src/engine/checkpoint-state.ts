@@ -4,7 +4,7 @@
  * `<name>/m` then every `<name>/v` and Adam's running powers), so either path continues the other.
  */
 import { CHECKPOINT_FORMAT_VERSION, decodeCheckpoint, encodeCheckpoint, type NamedWeights } from '../checkpoints/format.js';
-import { adamPowerName, checkCheckpoint } from '../train/checkpoint.js';
+import { adamPowerName, checkCheckpoint } from '../train/checkpoint-checks.js';
 import { layerPrefix } from '../train/initial-weights.js';
 import type { EngineTrial } from './trial.js';
 
