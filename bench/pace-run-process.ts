@@ -1,7 +1,7 @@
 /**
  * Child-process entry of the pace benchmark's end-to-end figure: the whole `runStudy` (data load,
  * worker thread start, training, validation and metrics every epoch, checkpoints, study-file saves)
- * with one worker on a study fixed to 3x128, batch 32, Adam, relu, on a seeded CSV of 20 numeric
+ * with `--workers N` (default 1) on a study fixed to 3x128, batch 32, Adam, relu, on a seeded CSV of 20 numeric
  * inputs and 3 classes whose training split has 4,096 rows. Posts a `RunMeasurement`.
  */
 import { writeFile } from 'node:fs/promises';
@@ -22,6 +22,11 @@ export interface RunMeasurement {
   /** Sum of the epochs' own seconds (training epoch, validation pass, metrics) as the worker timed them. */
   epochSeconds: number;
   samplesPerSecond: number;
+  workers: number;
+  /** Share of the training stretch the coordinating (main) thread was busy: dispatch, saves, checkpoint writes. */
+  mainThreadBusy: number;
+  /** CPU time of the whole process (every thread) over the training stretch's wall time: the cores actually obtained. */
+  coresUsed: number;
 }
 
 /** Rows such that the training split (1 - 0.2 - 0.15 of them) holds 4,096. */
@@ -40,11 +45,14 @@ async function writeCsv(file: string): Promise<void> {
   await writeFile(file, lines.join('\n') + '\n');
 }
 
-const quick = process.argv.includes('--quick');
+const argv = process.argv.slice(2);
+const quick = argv.includes('--quick');
+const option = (name: string, otherwise: number): number => (argv.includes(name) ? Number(argv[argv.indexOf(name) + 1]) : otherwise);
+const workers = option('--workers', 1);
 const dir = await tempDir('pace-run');
 const csv = path.join(dir, 'pace.csv');
 await writeCsv(csv);
-const trials = quick ? 2 : 4;
+const trials = option('--trials', quick ? 2 : 4);
 const maxEpochs = quick ? 5 : 15;
 const definition = await writeDefinition(dir, {
   name: 'bench-pace',
@@ -52,18 +60,26 @@ const definition = await writeDefinition(dir, {
   space: { depth: { min: 3, max: 3 }, width: { min: 128, max: 128 }, activation: ['relu'], learningRate: { min: 0.001, max: 0.001 }, batchSize: [32], optimizer: ['adam'] },
   budget: { trials, maxEpochs },
   sampler: { kind: 'random', seed: 1 },
-  workers: 1,
+  workers,
 });
 let firstJob = 0;
+let busyFrom: ReturnType<typeof performance.eventLoopUtilization> | undefined;
+let cpuFrom: NodeJS.CpuUsage | undefined;
 const started = performance.now();
 const outcome = await runStudy(definition, {
   out: path.join(dir, 'run'),
-  workers: 1,
+  workers,
   onEvent: (event) => {
-    if (event.type === 'job-started' && firstJob === 0) firstJob = performance.now();
+    if (event.type === 'job-started' && firstJob === 0) {
+      firstJob = performance.now();
+      busyFrom = performance.eventLoopUtilization();
+      cpuFrom = process.cpuUsage();
+    }
   },
 });
 const ended = performance.now();
+const busy = performance.eventLoopUtilization(busyFrom);
+const cpu = process.cpuUsage(cpuFrom);
 const { doc } = outcome;
 const epochs = doc.trials.reduce((sum, t) => sum + t.curve.length, 0);
 const trainRows = doc.data.trainRows;
@@ -76,6 +92,9 @@ const result: RunMeasurement = {
   workerSeconds: doc.trials.reduce((sum, t) => sum + (t.workerSeconds ?? 0), 0),
   epochSeconds: doc.trials.reduce((sum, t) => sum + t.curve.reduce((s, p) => s + p.seconds, 0), 0),
   samplesPerSecond: (trainRows * epochs) / ((ended - started) / 1000),
+  workers,
+  mainThreadBusy: busy.utilization,
+  coresUsed: (cpu.user + cpu.system) / 1e6 / ((ended - firstJob) / 1000),
 };
 if (process.send) process.send(result, () => process.exit(0));
 else console.log(JSON.stringify(result, null, 1));
