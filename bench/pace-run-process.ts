@@ -22,6 +22,8 @@ export interface RunMeasurement {
   /** Sum of the epochs' own seconds (training epoch, validation pass, metrics) as the worker timed them. */
   epochSeconds: number;
   samplesPerSecond: number;
+  /** Samples per second of the process's CPU time over the whole run (every thread, data load included). */
+  samplesPerCpuSecond: number;
   workers: number;
   /** Share of the training stretch the coordinating (main) thread was busy: dispatch, saves, checkpoint writes. */
   mainThreadBusy: number;
@@ -63,6 +65,7 @@ const definition = await writeDefinition(dir, {
   workers,
 });
 let firstJob = 0;
+const cpuAtStart = process.cpuUsage();
 let busyFrom: ReturnType<typeof performance.eventLoopUtilization> | undefined;
 let cpuFrom: NodeJS.CpuUsage | undefined;
 const started = performance.now();
@@ -80,6 +83,7 @@ const outcome = await runStudy(definition, {
 const ended = performance.now();
 const busy = performance.eventLoopUtilization(busyFrom);
 const cpu = process.cpuUsage(cpuFrom);
+const cpuWhole = process.cpuUsage(cpuAtStart);
 const { doc } = outcome;
 const epochs = doc.trials.reduce((sum, t) => sum + t.curve.length, 0);
 const trainRows = doc.data.trainRows;
@@ -92,6 +96,7 @@ const result: RunMeasurement = {
   workerSeconds: doc.trials.reduce((sum, t) => sum + (t.workerSeconds ?? 0), 0),
   epochSeconds: doc.trials.reduce((sum, t) => sum + t.curve.reduce((s, p) => s + p.seconds, 0), 0),
   samplesPerSecond: (trainRows * epochs) / ((ended - started) / 1000),
+  samplesPerCpuSecond: (trainRows * epochs) / ((cpuWhole.user + cpuWhole.system) / 1e6),
   workers,
   mainThreadBusy: busy.utilization,
   coresUsed: (cpu.user + cpu.system) / 1e6 / ((ended - firstJob) / 1000),

@@ -130,6 +130,7 @@ function paceResult(data: PaceData): GroupResult {
   const key = plain.samples.find((s) => s.network === '3x128' && s.batchSize === 32)!;
   const e2e = endToEnd.samplesPerSecond / key.samplesPerSecond;
   const stretch = (endToEnd.trainRows * endToEnd.epochs) / endToEnd.trainingWallSeconds / key.samplesPerSecond;
+  const e2eCpu = endToEnd.samplesPerCpuSecond / key.samplesPerCpuSecond;
   const speedup = pool[0]!.wallSeconds / pool[1]!.wallSeconds;
   const peakRatio = loaded.peakRssBytes / loaded.fileBytes;
   const refAt = (s: LoopSample): LoopSample | undefined => ref.samples?.find((r) => r.network === s.network && r.batchSize === s.batchSize);
@@ -144,7 +145,7 @@ function paceResult(data: PaceData): GroupResult {
   const bigBest = Math.max(...measured.map((m) => m.samples.find((s) => s.network === '4x256')!.samplesPerSecond));
   const targets: TargetCheck[] = [
     { target: '>= 1.0x the reference MLP at 4x256 batch 256', measured: bigRef ? `${fmt(bigBest / bigRef.samplesPerSecond)}x` : ref.missing!, holds: bigRef ? bigBest >= bigRef.samplesPerSecond : null },
-    { target: 'end-to-end run within 10% of the loop alone at 3x128 batch 32', measured: `${fmt(e2e)} (whole run), ${fmt(stretch)} (first job to the end)`, holds: e2e >= 0.9 },
+    { target: 'end-to-end run within 10% of the loop alone at 3x128 batch 32', measured: `${fmt(e2e)} in wall time (${fmt(stretch)} from the first job), ${fmt(e2eCpu)} in CPU time`, holds: e2e >= 0.9 },
     { target: `peak load memory <= 2.5x the file (${loaded.rows.toLocaleString('en-US')} rows)`, measured: `${fmt(peakRatio)}x (${fmt(loaded.peakRssBytes / 1e6)} MB for ${fmt(loaded.fileBytes / 1e6)} MB)`, holds: peakRatio <= 2.5 },
     { target: 'two workers >= 1.8x one worker', measured: `${fmt(speedup)}x (cores obtained ${fmt(pool[0]!.coresUsed)} and ${fmt(pool[1]!.coresUsed)})`, holds: speedup >= 1.8 },
   ];
@@ -155,8 +156,8 @@ function paceResult(data: PaceData): GroupResult {
       { title: 'Training loop alone (no validation, metrics or checkpoints), samples/s, best of 2', columns, rows },
       {
         title: `The whole run against the loop alone, 3x128 batch 32 (${endToEnd.trials} trials x ${endToEnd.epochs / endToEnd.trials} epochs, one worker)`,
-        columns: ['loop alone (samples/s)', 'whole run (samples/s)', 'whole / loop', 'first job to end / loop', 'run wall (s)', 'first job to end (s)', 'worker (s)', 'epochs as timed in the worker (s)'],
-        rows: [[fmt(key.samplesPerSecond), fmt(endToEnd.samplesPerSecond), fmt(e2e), fmt(stretch), fmt(endToEnd.wallSeconds), fmt(endToEnd.trainingWallSeconds), fmt(endToEnd.workerSeconds), fmt(endToEnd.epochSeconds)]],
+        columns: ['loop alone (samples/s)', 'whole run (samples/s)', 'whole / loop', 'first job to end / loop', 'per CPU-second: loop', 'per CPU-second: run', 'whole / loop in CPU time', 'run wall (s)', 'first job to end (s)', 'worker (s)', 'epochs as timed in the worker (s)'],
+        rows: [[fmt(key.samplesPerSecond), fmt(endToEnd.samplesPerSecond), fmt(e2e), fmt(stretch), fmt(key.samplesPerCpuSecond), fmt(endToEnd.samplesPerCpuSecond), fmt(e2eCpu), fmt(endToEnd.wallSeconds), fmt(endToEnd.trainingWallSeconds), fmt(endToEnd.workerSeconds), fmt(endToEnd.epochSeconds)]],
       },
       {
         title: `Data load, ${loaded.rows.toLocaleString('en-US')} rows x 30 columns (prepareData and the shared data set, fresh process)`,
@@ -165,14 +166,15 @@ function paceResult(data: PaceData): GroupResult {
       },
       {
         title: `A study of ${pool[0]!.trials} trials of 3x128 batch 32 with 1 and 2 workers (whole run)`,
-        columns: ['workers', 'wall (s)', 'speed-up', 'cores obtained (CPU time / wall)', 'main thread busy'],
-        rows: pool.map((r) => [r.workers, fmt(r.wallSeconds), `${fmt(pool[0]!.wallSeconds / r.wallSeconds)}x`, fmt(r.coresUsed), `${fmt(r.mainThreadBusy * 100)}%`]),
+        columns: ['workers', 'wall (s)', 'speed-up', 'cores obtained (CPU time / wall)', 'main thread busy', 'samples per CPU-second'],
+        rows: pool.map((r) => [r.workers, fmt(r.wallSeconds), `${fmt(pool[0]!.wallSeconds / r.wallSeconds)}x`, fmt(r.coresUsed), `${fmt(r.mainThreadBusy * 100)}%`, fmt(r.samplesPerCpuSecond)]),
       },
     ],
     targets,
     notes: [
       `Relaxed-SIMD build (dist/bench/engine-relaxed.wasm, f32x4.relaxed_madd in the matrix products): ${data.relaxed}. The engine itself runs the plain SIMD build.`,
       ref.missing ?? `Reference: ${ref.library} ${ref.version}, one thread for its numeric kernels (OMP_NUM_THREADS=1).`,
+      'CPU-time ratios count the work each side did (every thread of the process, the whole run including the data load and thread start-up), so they hold up when other jobs take the cores; wall-time ratios need a quiet machine.',
       '"cores obtained" is the CPU time the process got per second of wall time: on a machine shared with other jobs, a speed-up is bounded by it.',
     ],
     data,
