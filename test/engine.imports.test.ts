@@ -1,7 +1,7 @@
 /**
- * A thread that trains on the engine never loads tfjs: the trial worker's static imports (followed
- * through the compiled dist/ files) reach no `@tensorflow/` package; the tfjs path is imported only
- * when a request asks for it.
+ * A thread that trains on the engine never loads tfjs or zod: the trial worker's static imports
+ * (followed through the compiled dist/ files) reach neither; the tfjs path is imported only when a
+ * request asks for it, and the study vocabularies come from `study/vocabulary.ts`, not the schema.
  */
 import { readFileSync } from 'node:fs';
 import path from 'node:path';
@@ -29,15 +29,15 @@ function staticImports(file: string): { files: Set<string>; packages: Set<string
 }
 
 describe('modules of an engine thread', () => {
-  it('the trial worker statically imports no @tensorflow package', () => {
+  it('the trial worker statically imports no @tensorflow package and not zod', () => {
     const { files, packages } = staticImports(path.join(DIST, 'workers/trial-worker.js'));
     expect(files.size).toBeGreaterThan(10);
     expect(files.has(path.join(DIST, 'src/engine/segment.js'))).toBe(true);
-    expect([...packages].filter((name) => name.startsWith('@tensorflow/'))).toEqual([]);
+    expect([...packages].filter((name) => name.startsWith('@tensorflow/') || name === 'zod')).toEqual([]);
   });
 
-  it('the tfjs path itself does import tfjs (so the check above can fail)', () => {
-    const { packages } = staticImports(path.join(DIST, 'src/train/loop.js'));
-    expect([...packages].some((name) => name.startsWith('@tensorflow/'))).toBe(true);
+  it('the tfjs path and the study schema do import them (so the check above can fail)', () => {
+    expect([...staticImports(path.join(DIST, 'src/train/loop.js')).packages].some((name) => name.startsWith('@tensorflow/'))).toBe(true);
+    expect(staticImports(path.join(DIST, 'src/study/definition.js')).packages.has('zod')).toBe(true);
   });
 });

@@ -6,7 +6,8 @@
  */
 import type { SharedDataset } from '../pool/messages.js';
 import { permutation, stream, type Rng } from '../random/streams.js';
-import { ACTIVATIONS, OPTIMIZERS, TASKS, type TrialConfiguration } from '../study/definition.js';
+import type { TrialConfiguration } from '../study/definition.js';
+import { ACTIVATIONS, OPTIMIZERS, TASKS } from '../study/vocabulary.js';
 import { initialKernel, initRuleFor } from '../train/initial-weights.js';
 import { ADAM, MOMENTUM } from '../train/optimizer-constants.js';
 import { CONSTANT, descriptorBytes, layerWord, WORD, type LayerField } from './layout.js';

@@ -4,21 +4,9 @@ import { samplerSchema } from '../samplers/registry.js';
 export { samplerSchema };
 import { seedField as seed } from './fields.js';
 
-/** Activations a hidden layer may use. `leakyRelu` uses slope 0.2 below zero (the tfjs layers default). */
-export const ACTIVATIONS = ['relu', 'leakyRelu', 'elu', 'selu', 'tanh', 'sigmoid', 'softplus', 'swish', 'relu6'] as const;
-export const OPTIMIZERS = ['sgd', 'momentum', 'adam'] as const;
-export const TASKS = ['binary', 'multiclass', 'regression'] as const;
-export const CLASSIFICATION_METRICS = ['accuracy', 'macroF1', 'logLoss'] as const;
-export const BINARY_METRICS = [...CLASSIFICATION_METRICS, 'auc'] as const;
-export const REGRESSION_METRICS = ['rmse', 'mae', 'r2'] as const;
-export const SCHEDULES = ['constant', 'step', 'cosine'] as const;
-export const METRICS = ['accuracy', 'macroF1', 'logLoss', 'auc', 'rmse', 'mae', 'r2', 'validationLoss'] as const;
-
-export type Activation = (typeof ACTIVATIONS)[number];
-export type OptimizerName = (typeof OPTIMIZERS)[number];
-export type Task = (typeof TASKS)[number];
-export type MetricName = (typeof METRICS)[number];
-export type ScheduleKind = (typeof SCHEDULES)[number];
+export { ACTIVATIONS, BINARY_METRICS, CLASSIFICATION_METRICS, LOWER_IS_BETTER, METRICS, OPTIMIZERS, REGRESSION_METRICS, SCHEDULES, TASKS } from './vocabulary.js';
+export type { Activation, MetricName, OptimizerName, ScheduleKind, Task } from './vocabulary.js';
+import { ACTIVATIONS, BINARY_METRICS, CLASSIFICATION_METRICS, LOWER_IS_BETTER, METRICS, OPTIMIZERS, REGRESSION_METRICS, SCHEDULES, TASKS, type Activation, type MetricName, type OptimizerName, type ScheduleKind, type Task } from './vocabulary.js';
 
 /** A range whose min exceeds its max names both values. */
 function minNotAboveMax(range: { min: number; max: number }, ctx: z.RefinementCtx): void {
@@ -220,7 +208,6 @@ export interface Goal {
   better: 'higher' | 'lower';
 }
 
-export const LOWER_IS_BETTER: ReadonlySet<MetricName> = new Set(['logLoss', 'rmse', 'mae', 'validationLoss']);
 
 /** The goal in force: the study's own, else the task's default; which way is better follows the metric unless given. */
 export function resolveGoal(definition: Pick<StudyDefinition, 'goal' | 'data'>): Goal {

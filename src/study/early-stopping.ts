@@ -17,7 +17,8 @@
  *
  * An epoch without a finite score (e.g. AUC with one class) is never an improvement.
  */
-import { LOWER_IS_BETTER, type EarlyStoppingRule, type Goal } from './definition.js';
+import type { EarlyStoppingRule, Goal } from './definition.js';
+import { LOWER_IS_BETTER } from './vocabulary.js';
 import { beats } from './objective.js';
 
 /** What the rule carries from epoch to epoch (and in checkpoints). */
