@@ -1,11 +1,25 @@
 // Matrix products on row-major float32 matrices whose row strides (lda, ldb, ldc) count floats.
 // Every N given here is a multiple of 4 (columns are padded to whole SIMD lanes), so a row block
 // is 8 columns wide with at most one 4-column block at its end. Rows are blocked by 4, the last
-// 1-3 rows go one at a time. Accumulators stay in registers for the whole reduction.
+// 1-3 rows go one at a time. Accumulators stay in registers for the whole reduction. Each
+// accumulation is `madd`; a row of A is broadcast straight from memory (`v128.load32_splat`, one
+// instruction, where a scalar load and a splat were two and held a register).
 
 // @ts-ignore: decorator
 @inline function at(base: usize, row: i32, stride: i32, column: i32): usize {
   return base + ((<usize>row * <usize>stride + <usize>column) << 2);
+}
+
+/**
+ * c + a * b, lane by lane: a multiply then an add in the engine (engine.wasm, plain SIMD); one
+ * fused multiply-add in the comparison build the benchmark compiles with --enable relaxed-simd
+ * (dist/bench/engine-relaxed.wasm, see DEVELOPERS.md, "The training engine"). The choice is made at
+ * compile time, so each build holds one instruction sequence only.
+ */
+// @ts-ignore: decorator
+@inline function madd(a: v128, b: v128, c: v128): v128 {
+  if (ASC_FEATURE_RELAXED_SIMD) return f32x4.relaxed_madd(a, b, c);
+  return f32x4.add(c, f32x4.mul(a, b));
 }
 
 // @ts-ignore: decorator
@@ -27,12 +41,12 @@ export function gemm(a: usize, lda: i32, b: usize, ldb: i32, bias: usize, c: usi
       for (let p = 0; p < k; p++) {
         const b0 = v128.load(bp), b1 = v128.load(bp, 16);
         const off = <usize>p << 2;
-        const x0 = f32x4.splat(load<f32>(a0 + off)), x1 = f32x4.splat(load<f32>(a1 + off));
-        const x2 = f32x4.splat(load<f32>(a2 + off)), x3 = f32x4.splat(load<f32>(a3 + off));
-        c00 = f32x4.add(c00, f32x4.mul(x0, b0)); c01 = f32x4.add(c01, f32x4.mul(x0, b1));
-        c10 = f32x4.add(c10, f32x4.mul(x1, b0)); c11 = f32x4.add(c11, f32x4.mul(x1, b1));
-        c20 = f32x4.add(c20, f32x4.mul(x2, b0)); c21 = f32x4.add(c21, f32x4.mul(x2, b1));
-        c30 = f32x4.add(c30, f32x4.mul(x3, b0)); c31 = f32x4.add(c31, f32x4.mul(x3, b1));
+        const x0 = v128.load32_splat(a0 + off), x1 = v128.load32_splat(a1 + off);
+        const x2 = v128.load32_splat(a2 + off), x3 = v128.load32_splat(a3 + off);
+        c00 = madd(x0, b0, c00); c01 = madd(x0, b1, c01);
+        c10 = madd(x1, b0, c10); c11 = madd(x1, b1, c11);
+        c20 = madd(x2, b0, c20); c21 = madd(x2, b1, c21);
+        c30 = madd(x3, b0, c30); c31 = madd(x3, b1, c31);
         bp += bStep;
       }
       v128.store(at(c, i, ldc, j), c00); v128.store(at(c, i, ldc, j), c01, 16);
@@ -46,10 +60,10 @@ export function gemm(a: usize, lda: i32, b: usize, ldb: i32, bias: usize, c: usi
       for (let p = 0; p < k; p++) {
         const b0 = v128.load(at(b, p, ldb, j));
         const off = <usize>p << 2;
-        c0 = f32x4.add(c0, f32x4.mul(f32x4.splat(load<f32>(a0 + off)), b0));
-        c1 = f32x4.add(c1, f32x4.mul(f32x4.splat(load<f32>(a1 + off)), b0));
-        c2 = f32x4.add(c2, f32x4.mul(f32x4.splat(load<f32>(a2 + off)), b0));
-        c3 = f32x4.add(c3, f32x4.mul(f32x4.splat(load<f32>(a3 + off)), b0));
+        c0 = madd(v128.load32_splat(a0 + off), b0, c0);
+        c1 = madd(v128.load32_splat(a1 + off), b0, c1);
+        c2 = madd(v128.load32_splat(a2 + off), b0, c2);
+        c3 = madd(v128.load32_splat(a3 + off), b0, c3);
       }
       v128.store(at(c, i, ldc, j), c0);
       v128.store(at(c, i + 1, ldc, j), c1);
@@ -61,7 +75,7 @@ export function gemm(a: usize, lda: i32, b: usize, ldb: i32, bias: usize, c: usi
     const a0 = at(a, i, lda, 0);
     for (let j = 0; j < n; j += 4) {
       let c0 = start(bias, j);
-      for (let p = 0; p < k; p++) c0 = f32x4.add(c0, f32x4.mul(f32x4.splat(load<f32>(a0 + (<usize>p << 2))), v128.load(at(b, p, ldb, j))));
+      for (let p = 0; p < k; p++) c0 = madd(v128.load32_splat(a0 + (<usize>p << 2)), v128.load(at(b, p, ldb, j)), c0);
       v128.store(at(c, i, ldc, j), c0);
     }
   }
@@ -80,12 +94,12 @@ export function gemmTransposedA(a: usize, lda: i32, b: usize, ldb: i32, c: usize
       let bp = at(b, 0, ldb, j);
       for (let p = 0; p < m; p++) {
         const b0 = v128.load(bp), b1 = v128.load(bp, 16);
-        const x0 = f32x4.splat(load<f32>(ap)), x1 = f32x4.splat(load<f32>(ap, 4));
-        const x2 = f32x4.splat(load<f32>(ap, 8)), x3 = f32x4.splat(load<f32>(ap, 12));
-        c00 = f32x4.add(c00, f32x4.mul(x0, b0)); c01 = f32x4.add(c01, f32x4.mul(x0, b1));
-        c10 = f32x4.add(c10, f32x4.mul(x1, b0)); c11 = f32x4.add(c11, f32x4.mul(x1, b1));
-        c20 = f32x4.add(c20, f32x4.mul(x2, b0)); c21 = f32x4.add(c21, f32x4.mul(x2, b1));
-        c30 = f32x4.add(c30, f32x4.mul(x3, b0)); c31 = f32x4.add(c31, f32x4.mul(x3, b1));
+        const x0 = v128.load32_splat(ap), x1 = v128.load32_splat(ap, 4);
+        const x2 = v128.load32_splat(ap, 8), x3 = v128.load32_splat(ap, 12);
+        c00 = madd(x0, b0, c00); c01 = madd(x0, b1, c01);
+        c10 = madd(x1, b0, c10); c11 = madd(x1, b1, c11);
+        c20 = madd(x2, b0, c20); c21 = madd(x2, b1, c21);
+        c30 = madd(x3, b0, c30); c31 = madd(x3, b1, c31);
         ap += aStep;
         bp += bStep;
       }
@@ -99,10 +113,10 @@ export function gemmTransposedA(a: usize, lda: i32, b: usize, ldb: i32, c: usize
       for (let p = 0; p < m; p++) {
         const ap = at(a, p, lda, r);
         const b0 = v128.load(at(b, p, ldb, j));
-        c0 = f32x4.add(c0, f32x4.mul(f32x4.splat(load<f32>(ap)), b0));
-        c1 = f32x4.add(c1, f32x4.mul(f32x4.splat(load<f32>(ap, 4)), b0));
-        c2 = f32x4.add(c2, f32x4.mul(f32x4.splat(load<f32>(ap, 8)), b0));
-        c3 = f32x4.add(c3, f32x4.mul(f32x4.splat(load<f32>(ap, 12)), b0));
+        c0 = madd(v128.load32_splat(ap), b0, c0);
+        c1 = madd(v128.load32_splat(ap, 4), b0, c1);
+        c2 = madd(v128.load32_splat(ap, 8), b0, c2);
+        c3 = madd(v128.load32_splat(ap, 12), b0, c3);
       }
       v128.store(at(c, r, ldc, j), c0);
       v128.store(at(c, r + 1, ldc, j), c1);
@@ -113,7 +127,7 @@ export function gemmTransposedA(a: usize, lda: i32, b: usize, ldb: i32, c: usize
   for (; r < k; r++) {
     for (let j = 0; j < n; j += 4) {
       let c0 = f32x4.splat(0);
-      for (let p = 0; p < m; p++) c0 = f32x4.add(c0, f32x4.mul(f32x4.splat(load<f32>(at(a, p, lda, r))), v128.load(at(b, p, ldb, j))));
+      for (let p = 0; p < m; p++) c0 = madd(v128.load32_splat(at(a, p, lda, r)), v128.load(at(b, p, ldb, j)), c0);
       v128.store(at(c, r, ldc, j), c0);
     }
   }

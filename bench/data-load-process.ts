@@ -1,9 +1,9 @@
 /**
- * Child-process entry of the data-load benchmark: `<study.json>` prepares that study's data and
- * reports time, peak resident memory and the prepared size; `--baseline` only loads the modules;
+ * Child-process entry of the data-load benchmark: `<study.json>` prepares that study's data (and its
+ * shared data set, as a run does) and reports time, peak resident memory and the prepared size; `--baseline` only loads the modules;
  * `--read-only <file.csv>` streams the file through the parser keeping nothing.
  */
-import { prepareData } from '../src/data/prepare.js';
+import { prepareData, toSharedDataset } from '../src/data/prepare.js';
 import { streamCsv } from '../src/data/source.js';
 import { loadStudy } from '../src/study/load.js';
 
@@ -38,7 +38,10 @@ if (argument === '--baseline') {
       if (event.type === 'reading' || event.type === 'preparing') progressEvents++;
     },
   });
+  // As a run does next: the splits the workers read, in shared memory.
+  const dataset = toSharedDataset(data, 'bench');
   const seconds = (performance.now() - started) / 1000;
+  if (dataset.train.rows !== data.train.rows) throw new Error('the shared training split lost rows');
   const splits = [data.train, data.validation, data.test];
   result = {
     seconds,

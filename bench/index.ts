@@ -11,6 +11,7 @@ import { dataGroup } from './data.js';
 import { memoryGroup } from './memory.js';
 import { modelGroup } from './model.js';
 import { overheadGroup } from './overhead.js';
+import { paceGroup } from './pace.js';
 import { poolGroup } from './pool.js';
 import { queueGroup } from './queue.js';
 import { groupMarkdown, machineInfo, writeResults, type GroupResult } from './report.js';
@@ -39,6 +40,7 @@ const GROUPS: Record<string, (options: BenchOptions) => Promise<GroupResult>> = 
   queue: queueGroup,
   data: dataGroup,
   views: viewsGroup,
+  pace: paceGroup,
 };
 
 function parseArgs(argv: string[]): { quick: boolean; only: string[] } {

@@ -80,6 +80,21 @@ describe('prepareData', () => {
     expect(Object.keys(shared)).not.toContain('test');
     expect(shared.targetScaling).toBeUndefined();
   });
+
+  it('encodes training and validation straight into shared memory, so sharing them copies nothing', async () => {
+    const settings = await withCsv('three-b.csv', 'v,k\n' + Array.from({ length: 30 }, (_, i) => `${i},${'xyz'[i % 3]}`).join('\n'), { target: 'k', task: 'multiclass' });
+    const { data } = await prepareData(settings, studyFile);
+    expect(data.train.x.buffer).toBeInstanceOf(SharedArrayBuffer);
+    expect(data.validation.y.buffer).toBeInstanceOf(SharedArrayBuffer);
+    expect(data.test.x.buffer).not.toBeInstanceOf(SharedArrayBuffer);
+    const shared = toSharedDataset(data, 'three-b');
+    expect(shared.train.x).toBe(data.train.x);
+    expect(shared.validation.x).toBe(data.validation.x);
+    // A split that does not live in shared memory yet (a hand-built PreparedData) is copied there.
+    const copied = toSharedDataset({ ...data, train: { ...data.train, x: Float32Array.from(data.train.x) } }, 'three-c');
+    expect(copied.train.x.buffer).toBeInstanceOf(SharedArrayBuffer);
+    expect(Array.from(copied.train.x)).toEqual(Array.from(data.train.x));
+  });
 });
 
 describe('prepareData rejects settings that do not fit the CSV', () => {

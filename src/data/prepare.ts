@@ -251,16 +251,17 @@ export async function prepareData(
   });
   const warnings = checkFeatureColumns({ settings, features, rows: table.rows, file: csvFile, definitionFile, ...(options.started ? { started: true } : {}) });
   const recipe = buildColumnRecipe({ task: settings.task, target: settings.target, features, targetValues: target, trainingRows: indices.train });
-  const splitArrays = async (rows: readonly number[], done: number): Promise<SplitArrays> => {
+  // Training and validation are encoded straight into shared memory: the workers read them there.
+  const splitArrays = async (rows: readonly number[], done: number, shared: boolean): Promise<SplitArrays> => {
     emit({ type: 'preparing', file: csvFile, step: 'encoding', done, total: 3 });
     await checkpoint(options.signal);
-    return { rows: rows.length, x: encodeColumns(recipe, features, rows), y: encodeTargetValues(recipe, target, rows), lines: Int32Array.from(rows, (row) => table.lines[row]!) };
+    return { rows: rows.length, x: encodeColumns(recipe, features, rows, shared), y: encodeTargetValues(recipe, target, rows, shared), lines: Int32Array.from(rows, (row) => table.lines[row]!) };
   };
   const data: PreparedData = {
     recipe,
-    train: await splitArrays(indices.train, 0),
-    validation: await splitArrays(indices.validation, 1),
-    test: await splitArrays(indices.test, 2),
+    train: await splitArrays(indices.train, 0, true),
+    validation: await splitArrays(indices.validation, 1, true),
+    test: await splitArrays(indices.test, 2, false),
     rowIndices: indices,
   };
   const weights = recipe.classes && settings.classWeights ? trainingClassWeights(settings.classWeights, recipe.classes, data.train.y) : undefined;
@@ -309,7 +310,7 @@ function prepareFolds(context: {
   return folds.map((validationRows, i): PreparedFold => {
     const trainingRows = otherFolds(folds, i);
     const recipe = buildColumnRecipe({ task: settings.task, target: settings.target, features, targetValues: target, trainingRows });
-    const part = (members: readonly number[]): SplitArrays => ({ rows: members.length, x: encodeColumns(recipe, features, members), y: encodeTargetValues(recipe, target, members) });
+    const part = (members: readonly number[]): SplitArrays => ({ rows: members.length, x: encodeColumns(recipe, features, members, true), y: encodeTargetValues(recipe, target, members, true) });
     const fold: PreparedFold = { recipe, train: part(trainingRows), validation: part(validationRows), rows: validationRows };
     const weights = recipe.classes && settings.classWeights ? trainingClassWeights(settings.classWeights, recipe.classes, fold.train.y) : undefined;
     if (weights) fold.classWeights = weights;
@@ -317,14 +318,17 @@ function prepareFolds(context: {
   });
 }
 
+/** The values in shared memory: as they are when they already live there (prepareData puts them there), else a copy. */
 function shared(values: Float32Array): Float32Array {
+  if (values.buffer instanceof SharedArrayBuffer && values.byteOffset === 0 && values.byteLength === values.buffer.byteLength) return values;
   const copy = new Float32Array(new SharedArrayBuffer(values.byteLength));
   copy.set(values);
   return copy;
 }
 
 /**
- * Copies the training and validation splits into SharedArrayBuffers for the workers.
+ * The training and validation splits in SharedArrayBuffers for the workers (copied only when they
+ * are not there already).
  * The test split is left out on purpose: it never reaches a worker.
  */
 export function toSharedDataset(data: PreparedData, id: string): SharedDataset {

@@ -90,13 +90,19 @@ export function buildColumnRecipe(options: ColumnRecipeOptions): PreprocessingRe
   return recipe;
 }
 
+/** `count` zeros, in a SharedArrayBuffer when `shared`. */
+function float32s(count: number, shared: boolean): Float32Array {
+  return shared ? new Float32Array(new SharedArrayBuffer(count * 4)) : new Float32Array(count);
+}
+
 /**
  * Model inputs for the given rows of typed columns (row-major, `rows.length x recipe.inputCount`):
  * numeric values standardised with the training mean and std (missing → training mean → 0),
  * categories one-hot (missing → the training mode, unseen → all zeros). `features` follow the recipe's order.
+ * With `shared`, the matrix lives in a SharedArrayBuffer, so worker threads read it without a copy.
  */
-export function encodeColumns(recipe: PreprocessingRecipe, features: readonly FeatureValues[], rows: ArrayLike<number>): Float32Array {
-  const x = new Float32Array(rows.length * recipe.inputCount);
+export function encodeColumns(recipe: PreprocessingRecipe, features: readonly FeatureValues[], rows: ArrayLike<number>, shared = false): Float32Array {
+  const x = float32s(rows.length * recipe.inputCount, shared);
   let offset = 0;
   recipe.features.forEach((feature, f) => {
     const column = features[f]!;
@@ -122,9 +128,9 @@ export function encodeColumns(recipe: PreprocessingRecipe, features: readonly Fe
   return x;
 }
 
-/** Model targets for the given rows: the class index (classification) or the standardised value (regression). */
-export function encodeTargetValues(recipe: PreprocessingRecipe, target: TargetValues, rows: ArrayLike<number>): Float32Array {
-  const y = new Float32Array(rows.length);
+/** Model targets for the given rows: the class index (classification) or the standardised value (regression); `shared` as for {@link encodeColumns}. */
+export function encodeTargetValues(recipe: PreprocessingRecipe, target: TargetValues, rows: ArrayLike<number>, shared = false): Float32Array {
+  const y = float32s(rows.length, shared);
   if (target.kind === 'numbers') {
     const { mean, std } = recipe.targetScaling ?? { mean: 0, std: 1 };
     for (let r = 0; r < rows.length; r++) y[r] = (target.values[rows[r]!]! - mean) / std;

@@ -33,12 +33,22 @@ interface WebAssemblyApi {
 }
 
 let instance: EngineExports | undefined;
+let chosenFile: string | undefined;
+
+/**
+ * Loads this thread's engine from another compiled build of assembly/ (the benchmark's
+ * relaxed-SIMD comparison build); call it before the engine is first used in the thread.
+ */
+export function useEngineFile(file: string): void {
+  if (instance) throw new Error(`the engine of this thread is already loaded; useEngineFile(${file}) must come first`);
+  chosenFile = file;
+}
 
 /** This thread's engine instance (compiled and instantiated on first use). */
 export function engine(): EngineExports {
   if (!instance) {
     const wasm = (globalThis as unknown as { WebAssembly: WebAssemblyApi }).WebAssembly;
-    instance = new wasm.Instance(new wasm.Module(readFileSync(wasmPath()))).exports as EngineExports;
+    instance = new wasm.Instance(new wasm.Module(readFileSync(chosenFile ?? wasmPath()))).exports as EngineExports;
   }
   return instance;
 }
