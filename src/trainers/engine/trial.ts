@@ -66,87 +66,18 @@ export class EngineTrial {
     const capacityRows = Math.max(params.batchSize, EVALUATION_CHUNK_ROWS);
     const memory = allocator(data.end);
     const net = memory.take(descriptorBytes(params.depth));
-    const order = memory.take(dataset.train.rows * 4);
-    const batchX = memory.take(capacityRows * data.stride * 4);
-    const batchY = memory.take(capacityRows * 4);
-    const widths = [dataset.inputCount, ...Array.from({ length: params.depth }, () => params.width), dataset.outputCount];
-    const slots = params.optimizer === 'adam' ? 2 : params.optimizer === 'momentum' ? 1 : 0;
-    const dropout = params.dropout > 0;
-    let scratchFloats = 0;
-    const layers: LayerShape[] = [];
-    for (let l = 0; l + 1 < widths.length; l++) {
-      const fanIn = widths[l]!;
-      const fanOut = widths[l + 1]!;
-      const inStride = padColumns(fanIn);
-      const outStride = padColumns(fanOut);
-      if (l > 0) scratchFloats = Math.max(scratchFloats, fanOut * inStride);
-      const kernelBytes = fanIn * outStride * 4;
-      const rowsBytes = capacityRows * outStride * 4;
-      const hidden = l < params.depth;
-      layers.push({
-        fanIn,
-        fanOut,
-        inStride,
-        outStride,
-        at: {
-          kernel: memory.take(kernelBytes),
-          bias: memory.take(outStride * 4),
-          kernelGradient: memory.take(kernelBytes),
-          biasGradient: memory.take(outStride * 4),
-          kernelSlot1: slots >= 1 ? memory.take(kernelBytes) : 0,
-          biasSlot1: slots >= 1 ? memory.take(outStride * 4) : 0,
-          kernelSlot2: slots >= 2 ? memory.take(kernelBytes) : 0,
-          biasSlot2: slots >= 2 ? memory.take(outStride * 4) : 0,
-          preActivation: memory.take(rowsBytes),
-          activated: memory.take(rowsBytes),
-          output: hidden && dropout ? memory.take(rowsBytes) : 0,
-          mask: hidden && dropout ? memory.take(rowsBytes) : 0,
-          delta: memory.take(rowsBytes),
-        },
-      });
-    }
+    const buffers = {
+      order: memory.take(dataset.train.rows * 4),
+      batchX: memory.take(capacityRows * data.stride * 4),
+      batchY: memory.take(capacityRows * 4),
+    };
+    const { layers, scratchFloats } = layOutLayers(params, dataset, capacityRows, memory);
     const scratch = memory.take(scratchFloats * 4);
     const outputsAt = memory.take(dataset.validation.rows * dataset.outputCount * 4);
     const classWeights = dataset.classWeights ? memory.take(dataset.classWeights.length * 4) : 0;
     reserve(memory.end());
     new Uint8Array(engine().memory.buffer, data.end, memory.end() - data.end).fill(0);
-
-    const words = new Int32Array(engine().memory.buffer, net, descriptorBytes(params.depth) / 4);
-    const floats = new Float32Array(words.buffer, net, words.length);
-    words[WORD.depth] = params.depth;
-    words[WORD.activation] = ACTIVATIONS.indexOf(params.activation);
-    words[WORD.task] = TASKS.indexOf(dataset.task);
-    words[WORD.optimizer] = OPTIMIZERS.indexOf(params.optimizer);
-    words[WORD.outputs] = dataset.outputCount;
-    words[WORD.dropout] = dropout ? 1 : 0;
-    words[WORD.update] = 1;
-    words[WORD.l2] = params.l2 > 0 ? 1 : 0;
-    words[WORD.trainX] = data.trainX;
-    words[WORD.trainY] = data.trainY;
-    words[WORD.order] = order;
-    words[WORD.batchX] = batchX;
-    words[WORD.batchY] = batchY;
-    words[WORD.scratch] = scratch;
-    words[WORD.classWeights] = classWeights;
-    if (dataset.classWeights) new Float32Array(engine().memory.buffer, classWeights, dataset.classWeights.length).set(dataset.classWeights);
-    // float32 constants computed as tfjs computes its scalars (in double, then rounded)
-    floats[CONSTANT.negativeLearningRate] = -params.learningRate;
-    floats[CONSTANT.twiceL2] = 2 * params.l2;
-    floats[CONSTANT.momentum] = MOMENTUM;
-    floats[CONSTANT.beta1] = ADAM.beta1;
-    floats[CONSTANT.oneMinusBeta1] = 1 - ADAM.beta1;
-    floats[CONSTANT.beta2] = ADAM.beta2;
-    floats[CONSTANT.oneMinusBeta2] = 1 - ADAM.beta2;
-    floats[CONSTANT.epsilon] = ADAM.epsilon;
-    floats[CONSTANT.power1] = ADAM.beta1;
-    floats[CONSTANT.power2] = ADAM.beta2;
-    layers.forEach((layer, l) => {
-      words[layerWord(l, 'fanIn')] = layer.fanIn;
-      words[layerWord(l, 'fanOut')] = layer.fanOut;
-      words[layerWord(l, 'inStride')] = layer.inStride;
-      words[layerWord(l, 'outStride')] = layer.outStride;
-      for (const [field, at] of Object.entries(layer.at)) words[layerWord(l, field as LayerField)] = at;
-    });
+    writeDescriptor(net, spec, layers, { ...buffers, trainX: data.trainX, trainY: data.trainY, scratch, classWeights });
 
     const trial = new EngineTrial(spec, data, net, layers, capacityRows, outputsAt);
     layers.forEach((layer, l) => {
@@ -245,4 +176,98 @@ export class EngineTrial {
     const loss = engine().evaluate(this.net, this.data.validationX, this.data.validationY, validation.rows, this.capacityRows, this.outputsAt);
     return { loss, outputs: this.floats(this.outputsAt, validation.rows * outputCount).slice() };
   }
+}
+
+type Allocator = ReturnType<typeof allocator>;
+
+/** Each layer's shape and the engine memory of its weights, gradients, optimizer slots and row buffers. */
+function layOutLayers(
+  params: EngineTrialSpec['params'],
+  dataset: EngineTrialSpec['dataset'],
+  capacityRows: number,
+  memory: Allocator,
+): { layers: LayerShape[]; scratchFloats: number } {
+  const widths = [dataset.inputCount, ...Array.from({ length: params.depth }, () => params.width), dataset.outputCount];
+  const slots = params.optimizer === 'adam' ? 2 : params.optimizer === 'momentum' ? 1 : 0;
+  const dropout = params.dropout > 0;
+  let scratchFloats = 0;
+  const layers: LayerShape[] = [];
+  for (let l = 0; l + 1 < widths.length; l++) {
+    const fanIn = widths[l]!;
+    const fanOut = widths[l + 1]!;
+    const inStride = padColumns(fanIn);
+    const outStride = padColumns(fanOut);
+    if (l > 0) scratchFloats = Math.max(scratchFloats, fanOut * inStride);
+    const kernelBytes = fanIn * outStride * 4;
+    const rowsBytes = capacityRows * outStride * 4;
+    const hidden = l < params.depth;
+    layers.push({
+      fanIn,
+      fanOut,
+      inStride,
+      outStride,
+      at: {
+        kernel: memory.take(kernelBytes),
+        bias: memory.take(outStride * 4),
+        kernelGradient: memory.take(kernelBytes),
+        biasGradient: memory.take(outStride * 4),
+        kernelSlot1: slots >= 1 ? memory.take(kernelBytes) : 0,
+        biasSlot1: slots >= 1 ? memory.take(outStride * 4) : 0,
+        kernelSlot2: slots >= 2 ? memory.take(kernelBytes) : 0,
+        biasSlot2: slots >= 2 ? memory.take(outStride * 4) : 0,
+        preActivation: memory.take(rowsBytes),
+        activated: memory.take(rowsBytes),
+        output: hidden && dropout ? memory.take(rowsBytes) : 0,
+        mask: hidden && dropout ? memory.take(rowsBytes) : 0,
+        delta: memory.take(rowsBytes),
+      },
+    });
+  }
+  return { layers, scratchFloats };
+}
+
+/** Where the trial's shared buffers are in engine memory. */
+interface TrialBuffers {
+  trainX: number;
+  trainY: number;
+  order: number;
+  batchX: number;
+  batchY: number;
+  scratch: number;
+  classWeights: number;
+}
+
+/** Writes the network descriptor the engine reads: the configuration as words, its float32 constants, each layer's shape and buffers. */
+function writeDescriptor(net: number, spec: EngineTrialSpec, layers: readonly LayerShape[], buffers: TrialBuffers): void {
+  const { params, dataset } = spec;
+  const words = new Int32Array(engine().memory.buffer, net, descriptorBytes(params.depth) / 4);
+  const floats = new Float32Array(words.buffer, net, words.length);
+  words[WORD.depth] = params.depth;
+  words[WORD.activation] = ACTIVATIONS.indexOf(params.activation);
+  words[WORD.task] = TASKS.indexOf(dataset.task);
+  words[WORD.optimizer] = OPTIMIZERS.indexOf(params.optimizer);
+  words[WORD.outputs] = dataset.outputCount;
+  words[WORD.dropout] = params.dropout > 0 ? 1 : 0;
+  words[WORD.update] = 1;
+  words[WORD.l2] = params.l2 > 0 ? 1 : 0;
+  for (const field of ['trainX', 'trainY', 'order', 'batchX', 'batchY', 'scratch', 'classWeights'] as const) words[WORD[field]] = buffers[field];
+  if (dataset.classWeights) new Float32Array(engine().memory.buffer, buffers.classWeights, dataset.classWeights.length).set(dataset.classWeights);
+  // float32 constants computed as tfjs computes its scalars (in double, then rounded)
+  floats[CONSTANT.negativeLearningRate] = -params.learningRate;
+  floats[CONSTANT.twiceL2] = 2 * params.l2;
+  floats[CONSTANT.momentum] = MOMENTUM;
+  floats[CONSTANT.beta1] = ADAM.beta1;
+  floats[CONSTANT.oneMinusBeta1] = 1 - ADAM.beta1;
+  floats[CONSTANT.beta2] = ADAM.beta2;
+  floats[CONSTANT.oneMinusBeta2] = 1 - ADAM.beta2;
+  floats[CONSTANT.epsilon] = ADAM.epsilon;
+  floats[CONSTANT.power1] = ADAM.beta1;
+  floats[CONSTANT.power2] = ADAM.beta2;
+  layers.forEach((layer, l) => {
+    words[layerWord(l, 'fanIn')] = layer.fanIn;
+    words[layerWord(l, 'fanOut')] = layer.fanOut;
+    words[layerWord(l, 'inStride')] = layer.inStride;
+    words[layerWord(l, 'outStride')] = layer.outStride;
+    for (const [field, at] of Object.entries(layer.at)) words[layerWord(l, field as LayerField)] = at;
+  });
 }
