@@ -13,6 +13,7 @@ import { modelGroup } from './model.js';
 import { overheadGroup } from './overhead.js';
 import { poolGroup } from './pool.js';
 import { queueGroup } from './queue.js';
+import { reportRenderGroup } from './report-render.js';
 import { groupMarkdown, machineInfo, writeResults, type GroupResult } from './report.js';
 import { schedulingGroup } from './scheduling.js';
 import { startupGroup } from './startup.js';
@@ -39,6 +40,7 @@ const GROUPS: Record<string, (options: BenchOptions) => Promise<GroupResult>> = 
   queue: queueGroup,
   data: dataGroup,
   views: viewsGroup,
+  'report-render': reportRenderGroup,
 };
 
 function parseArgs(argv: string[]): { quick: boolean; only: string[] } {
