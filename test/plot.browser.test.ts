@@ -52,7 +52,7 @@ describe.runIf(runsHere)('report.html in headless Chromium', () => {
     {
       page: 'report',
       url: () => reportUrl,
-      charts: ['chart-budget', 'chart-rung-budget', 'chart-rung-agreement', 'chart-importance', 'chart-good-values', 'chart-learning-curves'],
+      charts: ['chart-budget', 'chart-rung-agreement', 'chart-hyperparameters', 'chart-learning-curves'],
       table: 'table.top',
     },
     {

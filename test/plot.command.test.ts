@@ -64,7 +64,7 @@ describe('rungwise plot', () => {
   it('writes one SVG and one spec per chart and report.html to <dir>/plots by default', async () => {
     await copyFile(fixturePath('halving-nine'), path.join(dir, 'study.json'));
     const { files } = await plot({ dir });
-    const names = ['budget', 'rung-budget', 'rung-agreement', 'importance', 'good-values', 'learning-curves'];
+    const names = ['budget', 'rung-agreement', 'hyperparameters', 'learning-curves'];
     expect(files).toEqual([...names.flatMap((n) => [`${n}.svg`, `${n}.vl.json`]), 'report.html'].map((f) => path.join(dir, 'plots', f)));
     expect((await readdir(path.join(dir, 'plots'))).sort()).toEqual(files.map((f) => path.basename(f)).sort());
     // The staging folder is gone: the run directory holds only the study file and the plots.

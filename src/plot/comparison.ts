@@ -52,7 +52,7 @@ export function comparisonCharts(studies: readonly StudyDocument[]): { charts: C
     rungBudgetChart(studies),
     ...own((study) => rungAgreementChart(study), 'rung-agreement'),
     importanceChart(studies, importances),
-    ...own((study, i) => learningCurvesChart(study, i, `learning-curves-${i + 1}`), 'learning-curves'),
+    ...own((study, i) => learningCurvesChart(study, {}, `learning-curves-${i + 1}`), 'learning-curves'),
   ].filter((c): c is Chart => c !== null);
   return { charts, digests: studies.map((s, i) => studyDigest(s, importances[i])) };
 }

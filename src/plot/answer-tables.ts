@@ -1,0 +1,74 @@
+/**
+ * The answers that read faster as numbers than as marks: how the compute split over the rungs of
+ * each bracket, and how well each rung foretold the next, in words. HTML tables under the charts of
+ * their question; halving samplers only.
+ */
+import type { StudyDocument } from '../store/types.js';
+import { rungShares } from './analysis/budget.js';
+import { rungAgreements, rungStandings } from './analysis/rung-agreement.js';
+import { agreementText } from './charts/rung-agreement.js';
+import { escapeHtml } from './html.js';
+import { isHalving } from './labels.js';
+import { rungColour } from './palette.js';
+import { bestTrial } from './winner.js';
+
+const percent = (share: number): string => `${Math.round(share * 100)}%`;
+
+function table(className: string, header: readonly string[], rows: readonly string[][]): string {
+  const head = `<tr>${header.map((h) => `<th scope="col">${escapeHtml(h)}</th>`).join('')}</tr>`;
+  const body = rows.map((cells) => `<tr>${cells.map((cell, i) => (i === 0 ? `<th scope="row">${cell}</th>` : `<td>${cell}</td>`)).join('')}</tr>`).join('\n');
+  return `<div class="scroll"><table class="${className}">\n${head}\n${body}\n</table></div>`;
+}
+
+/**
+ * One row per bracket, one column per rung: the share of all epochs trained there, with how many
+ * configurations trained to how many epochs. '' unless the sampler is a halving one.
+ */
+export function rungShareTable(study: StudyDocument): string {
+  if (!isHalving(study.definition.sampler.kind)) return '';
+  const shares = rungShares(study);
+  if (shares.length === 0) return '';
+  const rungs = [...new Set(shares.map((s) => s.rung))].sort((a, b) => a - b);
+  const brackets = [...new Set(shares.map((s) => s.bracket))].sort((a, b) => a - b);
+  const rows = brackets.map((bracket) => [
+    `bracket ${bracket}`,
+    ...rungs.map((rung) => {
+      const share = shares.find((s) => s.bracket === bracket && s.rung === rung);
+      if (!share) return '';
+      const swatch = `<span class="swatch" style="background:${rungColour(rung)}"></span>`;
+      return `${swatch}<b>${percent(share.share)}</b> <span class="quiet">${share.configurations} to ${share.rungEpochs} epochs</span>`;
+    }),
+  ]);
+  return `<p>The share of all epochs trained that each rung took, bracket by bracket (rung 0 is the first, cheapest look at a configuration):</p>\n${table('rung-shares', ['', ...rungs.map((r) => `rung ${r}`)], rows)}`;
+}
+
+/**
+ * One row per pair of consecutive rungs: the epochs of each, how many configurations went on, the
+ * agreement in numbers and words, and the winner's place at the earlier rung when it was there.
+ * '' unless the sampler is a halving one with a configuration past rung 0.
+ */
+export function rungAgreementTable(study: StudyDocument): string {
+  if (!isHalving(study.definition.sampler.kind)) return '';
+  const agreements = rungAgreements(study);
+  if (agreements.length === 0) return '';
+  const standings = rungStandings(study);
+  const epochs = new Map(standings.map((s) => [`${s.bracket}/${s.rung}`, s.rungEpochs]));
+  const winner = bestTrial(study)?.id;
+  const rows = agreements.map((a) => {
+    const standing = standings.find((s) => s.trialId === winner && s.bracket === a.bracket && s.rung === a.fromRung);
+    return [
+      `bracket ${a.bracket}`,
+      escapeHtml(`rung ${a.fromRung} (${epochs.get(`${a.bracket}/${a.fromRung}`) ?? '?'} epochs) to rung ${a.fromRung + 1} (${epochs.get(`${a.bracket}/${a.fromRung + 1}`) ?? '?'} epochs)`),
+      escapeHtml(agreementText(a.rho, a.configurations)),
+      standing ? escapeHtml(`${standing.place} of ${standing.of}`) : '',
+    ];
+  });
+  return `<p>How well each short look foretold the longer one, among the configurations that went on (1: the same order, 0: no relation):</p>\n${table('rung-agreement', ['', 'from the shorter look to the longer', 'agreement', "winner's place at the shorter look"], rows)}`;
+}
+
+/** Extra styles the tables use. */
+export const ANSWER_TABLE_STYLE = `
+.swatch { display: inline-block; width: 10px; height: 10px; margin-right: 5px; border: 1px solid #9aa1a9; }
+.quiet { color: #5b636b; }
+table.rung-shares td, table.rung-agreement td { padding-right: 18px; }
+`;
