@@ -71,6 +71,18 @@ describe('rungwise plot', () => {
     expect((await readdir(dir)).sort()).toEqual(['plots', 'study.json']);
   });
 
+  it('draws the baselines and band it is given into the leader and curve charts', async () => {
+    await copyFile(fixturePath('halving-nine'), path.join(dir, 'study.json'));
+    // Constructed references: the baselines themselves are computed elsewhere.
+    const { files } = await plot({ dir, references: { baselines: [{ label: 'constant model', score: 0.69 }], band: { score: 0.22, standardError: 0.02, from: '3 repeat runs' } } });
+    const svg = (name: string) => readFile(files.find((f) => f.endsWith(`${name}.svg`))!, 'utf8');
+    for (const name of ['budget', 'learning-curves']) {
+      expect(await svg(name)).toContain('constant model: 0.69');
+      expect(await svg(name)).toContain('one standard error over 3 repeat runs');
+    }
+    expect(await svg('rung-agreement')).not.toContain('constant model');
+  });
+
   it('writes to the folder given as out', async () => {
     await copyFile(fixturePath('random-five'), path.join(dir, 'study.json'));
     const out = path.join(dir, 'elsewhere', 'charts');

@@ -37,7 +37,14 @@ function plannedLayers(studies: readonly StudyDocument[]): ChartLayer[] {
 /** The strip under the leader: which rungs each stretch of compute went to, on the same epochs axis. */
 function computeStrip(study: StudyDocument, x: object): object | null {
   if (!isHalving(study.definition.sampler.kind)) return null;
-  const rows = computeTimeline(study).map((s) => ({ ...s, detail: `epochs ${Math.round(s.from)} to ${Math.round(s.to)}: ${Math.round(s.share * 100)}% at rung ${s.rung}` }));
+  // Stacked here: Vega-Lite stacks bars, not rectangles with their own x2. Stretches come in rung order.
+  let below = 0;
+  let stretch = -1;
+  const rows = computeTimeline(study).map((s) => {
+    if (s.from !== stretch) [below, stretch] = [0, s.from];
+    below += s.share;
+    return { ...s, low: below - s.share, high: below, detail: `epochs ${Math.round(s.from)} to ${Math.round(s.to)}: ${Math.round(s.share * 100)}% at rung ${s.rung}` };
+  });
   if (rows.length === 0) return null;
   const top = extent(rows.map((r) => r.rung))[1];
   return {
@@ -49,8 +56,8 @@ function computeStrip(study: StudyDocument, x: object): object | null {
     encoding: {
       x: { ...x, field: 'from', title: null },
       x2: { field: 'to' },
-      y: { field: 'share', type: 'quantitative', stack: 'zero', title: 'share', axis: { format: '.0%', values: [0, 1] }, scale: { domain: [0, 1] } },
-      order: { field: 'rung', type: 'quantitative' },
+      y: { field: 'low', type: 'quantitative', title: 'share', axis: { format: '.0%', values: [0, 1] }, scale: { domain: [0, 1] } },
+      y2: { field: 'high' },
       color: { field: 'rung', type: 'ordinal', title: 'rung', scale: rungScale(top), legend: { orient: 'bottom', direction: 'horizontal' } },
       tooltip: [{ field: 'detail', type: 'nominal', title: 'compute' }],
     },

@@ -1,5 +1,6 @@
 import type { StudyDocument } from '../../store/types.js';
 import { rankTrials } from '../../study/objective.js';
+import { FOREST_ROWS } from '../analysis/importance.js';
 import { FEWEST_FOR_IMPORTANCE, type ParameterImportance, type StudyImportance } from '../analysis/study-importance.js';
 import { extent } from '../data.js';
 import { metricLabel } from '../labels.js';
@@ -115,9 +116,10 @@ export function hyperparametersChart(study: StudyDocument, importance: StudyImpo
   const pad = (high - low) * 0.08 || Math.abs(high) * 0.01 || 0.01;
   const scoreDomain: [number, number] = [low - pad, high + pad];
   const scoreTitle = `predicted ${metricLabel(study.goal.metric)} at epoch ${importance.epoch}`;
+  const fitted = importance.configurations > FOREST_ROWS ? `a seeded sample of ${FOREST_ROWS} of the ${importance.configurations}` : String(importance.configurations);
   const rows = importance.parameters.map((parameter) => ({ hconcat: [shareView(parameter), valueView(study, parameter, marked, scoreDomain, scoreTitle)], spacing: 8 }));
   return titledChart('hyperparameters', 'Which hyperparameters matter, and where their good values lie', [
-    `Bar: the share of the variance of the score at epoch ${importance.epoch} that the hyperparameter explains alone (a random forest fitted to ${importance.configurations}`,
+    `Bar: the share of the variance of the score at epoch ${importance.epoch} that the hyperparameter explains alone (a random forest fitted to ${fitted}`,
     `configurations, decomposed by functional ANOVA after Hutter, Hoos and Leyton-Brown, 2014; the rest is interactions; at least ${FEWEST_FOR_IMPORTANCE} configurations).`,
     `Line: the forest's predicted ${metricLabel(study.goal.metric)} across the hyperparameter's values with the others averaged out, on one score scale for every row,`,
     'so a flat line means it hardly matters. Shaded: the better quarter of that line\'s range. Triangles: where places 2 to 5 sit; star: the winner.',

@@ -28,7 +28,7 @@ export function agreementText(rho: number, configurations: number): string {
 /** Axis labels of a bracket's rungs, two lines each: "rung 1, 9 epochs" and how many configurations it scored. */
 function rungLabels(standings: readonly RungStanding[]): Record<number, string[]> {
   const labels: Record<number, string[]> = {};
-  for (const s of standings) labels[s.rung] = [`rung ${s.rung}, ${s.rungEpochs} epochs`, `${s.of} scored`];
+  for (const s of standings) labels[s.rung] = [`rung ${s.rung}, ${s.rungEpochs} epoch${s.rungEpochs === 1 ? '' : 's'}`, `${s.of} scored`];
   return labels;
 }
 
