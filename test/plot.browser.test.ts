@@ -58,7 +58,7 @@ describe.runIf(runsHere)('report.html in headless Chromium', () => {
     {
       page: 'comparison',
       url: () => comparisonUrl,
-      charts: ['chart-budget', 'chart-rung-budget', 'chart-rung-agreement-1', 'chart-importance', 'chart-learning-curves-1', 'chart-learning-curves-2'],
+      charts: ['chart-budget', 'chart-rung-budget', 'chart-rung-agreement-1', 'chart-learning-curves-1', 'chart-learning-curves-2'],
       table: 'table.side-by-side',
     },
   ];

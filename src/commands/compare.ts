@@ -30,10 +30,10 @@ export async function compare(options: CompareOptions): Promise<{ table: string;
       );
     }
   });
-  const { charts, digests } = comparisonCharts(studies);
+  const { charts, digests, importances } = comparisonCharts(studies);
   const rendered = await renderCharts(charts);
   const out = path.resolve(options.out ?? path.join(options.dirs[0]!, 'comparison'));
-  const files = await writeReportFolder(out, charts, rendered, buildComparisonReport(studies, digests, rendered));
+  const files = await writeReportFolder(out, charts, rendered, buildComparisonReport(studies, digests, rendered, importances));
   const { header, rows } = comparisonTable(digests);
   return { table: textTable(header, rows.map((row) => header.map((h) => row[h] ?? ''))), files };
 }

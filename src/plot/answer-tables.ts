@@ -9,7 +9,8 @@ import { rungAgreements, rungStandings } from './analysis/rung-agreement.js';
 import { agreementText } from './charts/rung-agreement.js';
 import { escapeHtml } from './html.js';
 import { isHalving } from './labels.js';
-import { rungColour } from './palette.js';
+import { rungColour, studyColour } from './palette.js';
+import type { StudyImportance } from './analysis/study-importance.js';
 import { bestTrial } from './winner.js';
 
 const percent = (share: number): string => `${Math.round(share * 100)}%`;
@@ -70,5 +71,34 @@ export function rungAgreementTable(study: StudyDocument): string {
 export const ANSWER_TABLE_STYLE = `
 .swatch { display: inline-block; width: 10px; height: 10px; margin-right: 5px; border: 1px solid #9aa1a9; }
 .quiet { color: #5b636b; }
-table.rung-shares td, table.rung-agreement td { padding-right: 18px; }
+table.rung-shares td, table.rung-agreement td, table.importance td { padding-right: 18px; }
+.share-bar { display: inline-block; height: 9px; margin-right: 6px; vertical-align: middle; }
 `;
+
+/**
+ * Studies side by side: one row per hyperparameter (largest share in any study first), one column
+ * per study, each cell the share of the score's variance it explains alone, as a number and a bar
+ * in the study's colour. '' when no study has an importance.
+ */
+export function importanceTable(names: readonly string[], importances: readonly (StudyImportance | undefined)[]): string {
+  const shares = new Map<string, (number | undefined)[]>();
+  importances.forEach((importance, i) => {
+    for (const p of importance?.parameters ?? []) {
+      const row = shares.get(p.shortTitle) ?? names.map(() => undefined);
+      row[i] = p.share;
+      shares.set(p.shortTitle, row);
+    }
+  });
+  if (shares.size === 0) return '';
+  const largest = (row: (number | undefined)[]): number => Math.max(...row.map((v) => v ?? 0));
+  const rows = [...shares]
+    .sort((a, b) => largest(b[1]) - largest(a[1]))
+    .map(([parameter, row]) => [
+      escapeHtml(parameter),
+      ...row.map((share, i) =>
+        share === undefined ? '<span class="quiet">-</span>' : `<span class="share-bar" style="width:${Math.round(share * 80)}px;background:${studyColour(i)}"></span>${percent(share)}`,
+      ),
+    ]);
+  const epochs = importances.map((imp, i) => (imp ? `${escapeHtml(names[i]!)} at epoch ${imp.epoch}` : `${escapeHtml(names[i]!)}: too few configurations`));
+  return `<p>The share of the score's variance each hyperparameter explains alone (functional ANOVA of a random forest, Hutter, Hoos and Leyton-Brown, 2014; ${epochs.join('; ')}):</p>\n${table('importance', ['', ...names.map(escapeHtml)], rows)}`;
+}

@@ -131,13 +131,13 @@ ${body}
 
 /**
  * The report's questions after the ranking, in order, each with the charts that may answer it (a
- * report has one chart per question; a comparison also the shared `rung-budget` and `importance`)
+ * report has one chart per question; a comparison also the shared `rung-budget`)
  * and the tables under them.
  */
 export const QUESTIONS: readonly { heading: string; charts: readonly string[]; tables?: (study: StudyDocument) => string }[] = [
   { heading: 'Was the budget well spent?', charts: ['budget', 'rung-budget'], tables: rungShareTable },
   { heading: 'Did the early rungs judge well?', charts: ['rung-agreement'], tables: rungAgreementTable },
-  { heading: 'Which hyperparameters matter, and which values are good?', charts: ['hyperparameters', 'importance'] },
+  { heading: 'Which hyperparameters matter, and which values are good?', charts: ['hyperparameters'] },
   { heading: 'What did training look like?', charts: ['learning-curves'] },
 ];
 

@@ -4,14 +4,13 @@ import { budgetChart } from './charts/budget.js';
 import type { Chart } from './charts/chart.js';
 import { learningCurvesChart } from './charts/curves.js';
 import { hyperparametersChart } from './charts/hyperparameters.js';
-import { importanceChart } from './charts/importance.js';
 import { studyReferences, type ChartReferences } from './charts/references.js';
 import { rungAgreementChart } from './charts/rung-agreement.js';
 import { rungBudgetChart } from './charts/rung-budget.js';
 
 export type { Chart } from './charts/chart.js';
 export type { Baseline, ChartReferences, NoiseBand } from './charts/references.js';
-export { budgetChart, hyperparametersChart, importanceChart, learningCurvesChart, rungAgreementChart, rungBudgetChart };
+export { budgetChart, hyperparametersChart, learningCurvesChart, rungAgreementChart, rungBudgetChart };
 
 /**
  * Every chart the study has data for, one per question, in report order (compute, rungs,
