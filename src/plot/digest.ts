@@ -65,7 +65,7 @@ export function digestFindings(digest: StudyDigest): Map<string, string[]> {
   ]);
   if (digest.rungAgreement !== '-') {
     findings.set(rungs!, [
-      `A halving sampler gives every configuration a short look (rung 0) and lets only the best go on to longer ones. Agreement says whether a shorter look put the configurations that went on in the order the longer look found (1: the same order; 0: no relation; Spearman's rank correlation). ${digest.rungAgreement}.`,
+      "A halving sampler gives every configuration a short look (rung 0) and lets only the best go on to longer ones. Agreement says whether a shorter look put the configurations that went on in the order the longer look found (1: the same order; 0: no relation; Spearman's rank correlation); the table under the chart gives it for every pair of rungs.",
       `The winner stood ${digest.winnerAtRungs}.`,
     ]);
   }
