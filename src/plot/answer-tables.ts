@@ -14,6 +14,7 @@ import type { StudyImportance } from './analysis/study-importance.js';
 import { bestTrial } from './winner.js';
 
 const percent = (share: number): string => `${Math.round(share * 100)}%`;
+const epochsText = (epochs: number | undefined): string => (epochs === undefined ? '? epochs' : `${epochs} epoch${epochs === 1 ? '' : 's'}`);
 
 function table(className: string, header: readonly string[], rows: readonly string[][]): string {
   const head = `<tr>${header.map((h) => `<th scope="col">${escapeHtml(h)}</th>`).join('')}</tr>`;
@@ -37,7 +38,7 @@ export function rungShareTable(study: StudyDocument): string {
       const share = shares.find((s) => s.bracket === bracket && s.rung === rung);
       if (!share) return '';
       const swatch = `<span class="swatch" style="background:${rungColour(rung)}"></span>`;
-      return `${swatch}<b>${percent(share.share)}</b> <span class="quiet">${share.configurations} to ${share.rungEpochs} epochs</span>`;
+      return `${swatch}<b>${percent(share.share)}</b> <span class="quiet">${share.configurations} to ${epochsText(share.rungEpochs)}</span>`;
     }),
   ]);
   return `<p>The share of all epochs trained that each rung took, bracket by bracket (rung 0 is the first, cheapest look at a configuration):</p>\n${table('rung-shares', ['', ...rungs.map((r) => `rung ${r}`)], rows)}`;
@@ -59,7 +60,7 @@ export function rungAgreementTable(study: StudyDocument): string {
     const standing = standings.find((s) => s.trialId === winner && s.bracket === a.bracket && s.rung === a.fromRung);
     return [
       `bracket ${a.bracket}`,
-      escapeHtml(`rung ${a.fromRung} (${epochs.get(`${a.bracket}/${a.fromRung}`) ?? '?'} epochs) to rung ${a.fromRung + 1} (${epochs.get(`${a.bracket}/${a.fromRung + 1}`) ?? '?'} epochs)`),
+      escapeHtml(`rung ${a.fromRung} (${epochsText(epochs.get(`${a.bracket}/${a.fromRung}`))}) to rung ${a.fromRung + 1} (${epochsText(epochs.get(`${a.bracket}/${a.fromRung + 1}`))})`),
       escapeHtml(agreementText(a.rho, a.configurations)),
       standing ? escapeHtml(`${standing.place} of ${standing.of}`) : '',
     ];
