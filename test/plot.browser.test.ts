@@ -90,6 +90,9 @@ describe.runIf(runsHere)('report.html in headless Chromium', () => {
       // The winner's star is in the table and in every chart that shows trials.
       if (pageName === 'report') expect(await page.textContent('table.top tr.winner')).toContain('★');
       if (pageName === 'report') expect(await page.textContent('table.confusion')).toContain('410 (93%)');
+      // Hovering a point shows its figures: the browser's own tooltip from an SVG title (the page runs no script).
+      const hoverTitles = await page.$$eval('figure svg title', (titles) => titles.map((t) => t.textContent ?? ''));
+      expect(hoverTitles.some((t) => /#1 trial 48/.test(t))).toBe(true);
       expect(await page.$(table)).not.toBeNull();
 
       // Nothing is cut off: the page does not scroll sideways and every chart and table fits the window.
