@@ -46,7 +46,7 @@ function shareView(parameter: ParameterImportance): object {
     view: { stroke: null },
     data: { values: [row] },
     layer: [
-      { mark: { type: 'text', align: 'left', baseline: 'middle', x: 0, y: ROW_HEIGHT / 2, fontSize: 11, color: INK, limit: NAME_WIDTH + 20 }, encoding: { text: { field: 'parameter' } } },
+      { mark: { type: 'text', align: 'left', baseline: 'middle', x: 0, y: ROW_HEIGHT / 2, fontSize: 11, color: INK, limit: 200 }, encoding: { text: { field: 'parameter' } } },
       {
         mark: { type: 'rect', color: INK, y: ROW_HEIGHT / 2 - 7, y2: ROW_HEIGHT / 2 + 7 },
         encoding: { x: { field: 'share', type: 'quantitative', title: null, scale: { domain: [0, 1], range: [NAME_WIDTH, SHARE_WIDTH - 36] }, axis: null }, x2: { datum: 0 }, tooltip: [{ field: 'parameter', title: 'hyperparameter' }, { field: 'percent', title: 'share of the variance explained alone' }] },
