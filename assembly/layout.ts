@@ -1,5 +1,5 @@
 // The trial descriptor: 32-bit words at `net` that JavaScript writes once per trial
-// (src/engine/layout.ts holds the same offsets). Pointers are byte addresses in this memory.
+// (src/trainers/engine/layout.ts holds the same offsets). Pointers are byte addresses in this memory.
 
 export const DEPTH = 0;
 export const ACTIVATION = 1;

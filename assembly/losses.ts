@@ -1,5 +1,5 @@
 // Output functions and losses, from the logits: the same formulas as lossFromLogits and
-// outputFromLogits in src/train/network.ts. Codes: 0 binary, 1 multiclass, 2 regression.
+// outputFromLogits in src/trainers/tfjs/network.ts. Codes: 0 binary, 1 multiclass, 2 regression.
 
 export const BINARY = 0;
 export const MULTICLASS = 1;

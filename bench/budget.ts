@@ -10,7 +10,7 @@ import path from 'node:path';
 import { runStudy } from '../src/runner/run-study.js';
 import { plannedTrialCount } from '../src/samplers/index.js';
 import type { SamplerKind, StudyDefinitionInput } from '../src/study/definition.js';
-import type { TrialRecord } from '../src/store/types.js';
+import type { TrialRecord } from '../src/core/trial.js';
 import type { BenchOptions } from './index.js';
 import { fmt, type GroupResult, type TargetCheck } from './report.js';
 import { tempDir, writeDefinition, writePenguinsCsv } from './studies.js';

@@ -10,7 +10,7 @@ import { availableParallelism } from 'node:os';
 import path from 'node:path';
 import { runStudy } from '../src/runner/run-study.js';
 import type { StudyDefinitionInput } from '../src/study/definition.js';
-import { beats } from '../src/study/objective.js';
+import { beats } from '../src/core/configuration.js';
 import type { BenchOptions } from './index.js';
 import { fmt, type GroupResult } from './report.js';
 import { tempDir, writeDefinition } from './studies.js';

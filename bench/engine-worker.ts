@@ -4,10 +4,10 @@
  */
 import { parentPort, workerData } from 'node:worker_threads';
 import * as tf from '@tensorflow/tfjs';
-import { EngineTrial } from '../src/engine/trial.js';
-import { align16, engine, reserve } from '../src/engine/module.js';
-import { initBackend } from '../src/train/backend.js';
-import { computeMetrics } from '../src/train/metrics.js';
+import { EngineTrial } from '../src/trainers/engine/trial.js';
+import { align16, engine, reserve } from '../src/trainers/engine/module.js';
+import { initBackend } from '../src/trainers/tfjs/backend.js';
+import { computeMetrics } from '../src/metrics/metrics.js';
 import { stream } from '../src/random/streams.js';
 import { benchDataset, parameterCount } from './synthetic.js';
 

@@ -5,7 +5,7 @@
 import { fork } from 'node:child_process';
 import { rm } from 'node:fs/promises';
 import path from 'node:path';
-import { TrialPool } from '../src/pool/trial-pool.js';
+import { TrialPool } from '../src/transports/threads/pool.js';
 import { paramsForTrial } from '../src/space/sample.js';
 import { studySchema } from '../src/study/definition.js';
 import type { BenchOptions } from './index.js';

@@ -3,9 +3,10 @@
  * every core. Thread start-up (and each thread's backend set-up and data upload) is timed apart.
  */
 import { availableParallelism } from 'node:os';
-import type { TrainRequest, TrainResult } from '../src/pool/messages.js';
-import { TrialPool } from '../src/pool/trial-pool.js';
-import type { TrialConfiguration } from '../src/study/definition.js';
+import type { TrainRequest } from '../src/trainers/contract.js';
+import type { TrainResult } from '../src/core/job.js';
+import { TrialPool } from '../src/transports/threads/pool.js';
+import type { TrialConfiguration } from '../src/core/configuration.js';
 import type { BenchOptions } from './index.js';
 import { fmt, type GroupResult } from './report.js';
 import { benchDataset, sharedDataset } from './synthetic.js';

@@ -4,7 +4,8 @@
  */
 import { availableParallelism } from 'node:os';
 import { createSampler, simulate, type Job } from '../src/samplers/index.js';
-import { studySchema, type SamplerKind, type TrialConfiguration } from '../src/study/definition.js';
+import { studySchema, type SamplerKind } from '../src/study/definition.js';
+import type { TrialConfiguration } from '../src/core/configuration.js';
 import { stream } from '../src/random/streams.js';
 import type { BenchOptions } from './index.js';
 import { fmt, type GroupResult } from './report.js';

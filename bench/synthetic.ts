@@ -1,5 +1,5 @@
 /** Seeded synthetic classification data for the benchmarks (no file I/O). */
-import type { SharedDataset } from '../src/pool/messages.js';
+import type { SharedDataset } from '../src/core/job.js';
 import { stream, type Rng } from '../src/random/streams.js';
 
 const gaussian = (rng: Rng): number => Math.sqrt(-2 * Math.log(1 - rng())) * Math.cos(2 * Math.PI * rng());

@@ -5,8 +5,8 @@
 import { parentPort, workerData } from 'node:worker_threads';
 import * as tf from '@tensorflow/tfjs';
 import '@tensorflow/tfjs-backend-wasm';
-import { runTrainRequest } from '../src/train/run-request.js';
-import type { TrainRequest } from '../src/pool/messages.js';
+import { runTrainRequest } from '../src/trainers/run-request.js';
+import type { TrainRequest } from '../src/trainers/contract.js';
 import { benchDataset } from './synthetic.js';
 
 export type TrainingPath = 'fit-cpu' | 'fit-wasm' | 'rungwise-wasm' | 'rungwise-engine';

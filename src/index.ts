@@ -2,7 +2,7 @@
  * rungwise's library API: everything the CLI does is callable from here.
  * The README's "API" section shows each part in use.
  */
-export { UserError, isUserError } from './errors.js';
+export { UserError, isUserError } from './core/errors.js';
 export * from './study/definition.js';
 export { loadStudy, validateStudy, studyFromObject, type LoadedStudy } from './study/load.js';
 export { studyJsonSchema } from './study/json-schema.js';
@@ -10,16 +10,18 @@ export { runStudy, type RunOptions, type StudyOutcome } from './runner/run-study
 export { resumeStudy, type ResumeOptions, type ResumeOutcome } from './runner/resume-study.js';
 export { executeStudy, type ExecuteOptions } from './runner/execute-study.js';
 export type { StudyEvent, StudyObserver, StudyProgress } from './runner/events.js';
-export { rankTrials, type RankedTrial } from './study/objective.js';
+export { rankTrials, type RankedTrial } from './core/ranking.js';
 export { StudyStore, STUDY_FILE_NAME, studyFilePath } from './store/study-store.js';
 export { readSplitRecord, type SplitRecord } from './store/split-record.js';
-export type { StudyDocument, TrialRecord, TrialStatus, CurvePoint, StudyTotals } from './store/types.js';
+export type { StudyDocument, StudyTotals } from './store/types.js';
+export type { TrialRecord, TrialStatus, CurvePoint } from './core/trial.js';
 export type { PreparedData, PreparedFold, PreprocessingRecipe, FeatureRecipe, DataSummary } from './data/types.js';
 export { prepareData } from './data/prepare.js';
 export type { DataEvent, DataObserver, DataLoadOptions } from './data/events.js';
 export { checkCapacity, parameterCount, trainingBytes, type CapacityInput } from './study/capacity.js';
 export type { Sampler, Job, JobOutcome } from './samplers/sampler.js';
-export type { EpochReport, TrainRequest, TrainResult, SharedDataset } from './pool/messages.js';
+export type { EpochReport, TrainResult, SharedDataset } from './core/job.js';
+export type { TrainRequest } from './trainers/contract.js';
 export { plannedWork, type PlannedWork } from './report/budget.js';
 export { studyResultJson, type StudyResultJson, type TrialEntry } from './report/study-result.js';
 export { run, type RunCommandOptions } from './commands/run.js';

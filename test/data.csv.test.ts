@@ -2,7 +2,7 @@ import { mkdtemp, rm, writeFile } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
 import path from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { isUserError, UserError } from '../src/errors.js';
+import { isUserError, UserError } from '../src/core/errors.js';
 import { isMissing, parseCsv, parseNumber, readCsv } from '../src/data/csv.js';
 import { columnKind } from '../src/data/recipe.js';
 

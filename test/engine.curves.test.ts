@@ -5,11 +5,12 @@
 import path from 'node:path';
 import { beforeAll, describe, expect, it } from 'vitest';
 import { prepareData, toSharedDataset } from '../src/data/index.js';
-import { trainSegmentOnEngine } from '../src/engine/segment.js';
-import type { SharedDataset } from '../src/pool/messages.js';
-import { dataSchema, type TrialConfiguration } from '../src/study/definition.js';
-import { initBackend } from '../src/train/backend.js';
-import { trainSegment } from '../src/train/loop.js';
+import { trainSegmentOnEngine } from '../src/trainers/engine/segment.js';
+import type { SharedDataset } from '../src/core/job.js';
+import { dataSchema } from '../src/study/definition.js';
+import type { TrialConfiguration } from '../src/core/configuration.js';
+import { initBackend } from '../src/trainers/tfjs/backend.js';
+import { trainSegment } from '../src/trainers/tfjs/loop.js';
 import { PENGUINS_MEASUREMENTS, PENGUINS_TARGET, writeIrisCsv, writePenguinsCsv } from './helpers/datasets.js';
 
 beforeAll(() => initBackend());

@@ -1,11 +1,11 @@
 /** The engine gives bitwise-identical results run to run and across a checkpoint, and continues tfjs checkpoints. */
 import { beforeAll, describe, expect, it } from 'vitest';
 import { decodeCheckpoint } from '../src/checkpoints/format.js';
-import { trainSegmentOnEngine } from '../src/engine/segment.js';
-import type { EpochReport } from '../src/pool/messages.js';
-import { initBackend } from '../src/train/backend.js';
-import { trainSegment } from '../src/train/loop.js';
-import { OPTIMIZERS } from '../src/study/definition.js';
+import { trainSegmentOnEngine } from '../src/trainers/engine/segment.js';
+import type { EpochReport } from '../src/core/job.js';
+import { initBackend } from '../src/trainers/tfjs/backend.js';
+import { trainSegment } from '../src/trainers/tfjs/loop.js';
+import { OPTIMIZERS } from '../src/core/configuration.js';
 import { syntheticDataset, trainRequest } from './helpers/synthetic.js';
 
 const figures = (reports: EpochReport[]) => reports.map(({ seconds: _, ...rest }) => rest);

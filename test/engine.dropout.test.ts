@@ -1,6 +1,6 @@
 /** Inverted dropout in the engine: kept units scaled by 1/(1-rate), the mean activation preserved. */
 import { describe, expect, it } from 'vitest';
-import { EngineTrial } from '../src/engine/trial.js';
+import { EngineTrial } from '../src/trainers/engine/trial.js';
 import { stream } from '../src/random/streams.js';
 import { baseParams, syntheticDataset } from './helpers/synthetic.js';
 

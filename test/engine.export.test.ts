@@ -8,11 +8,12 @@ import { beforeAll, describe, expect, it } from 'vitest';
 import { checkpointWeights } from '../src/checkpoints/format.js';
 import { prepareData, toSharedDataset } from '../src/data/index.js';
 import type { PreparedData } from '../src/data/types.js';
-import { trainSegmentOnEngine } from '../src/engine/segment.js';
+import { trainSegmentOnEngine } from '../src/trainers/engine/segment.js';
 import { evaluateExportedModel } from '../src/export/evaluate.js';
 import { buildLayersModel } from '../src/export/model-files.js';
-import { ACTIVATIONS, dataSchema, type Task, type TrialConfiguration } from '../src/study/definition.js';
-import { initBackend } from '../src/train/backend.js';
+import { ACTIVATIONS, type Task, type TrialConfiguration } from '../src/core/configuration.js';
+import { dataSchema } from '../src/study/definition.js';
+import { initBackend } from '../src/trainers/tfjs/backend.js';
 import { PENGUINS_MEASUREMENTS, PENGUINS_TARGET, writeIrisCsv, writePenguinsCsv } from './helpers/datasets.js';
 
 beforeAll(() => initBackend());

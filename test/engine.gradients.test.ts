@@ -1,14 +1,14 @@
 /**
  * The engine's gradients of every parameter against tfjs's automatic differentiation of the tfjs
- * path's own network, loss and L2 penalty (src/train/network.ts), for every activation, every
+ * path's own network, loss and L2 penalty (src/trainers/tfjs/network.ts), for every activation, every
  * output/loss pair, with and without L2, on small random networks whose widths need padding.
  */
 import * as tf from '@tensorflow/tfjs';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { ACTIVATIONS, TASKS } from '../src/study/definition.js';
+import { ACTIVATIONS, TASKS } from '../src/core/configuration.js';
 import { stream } from '../src/random/streams.js';
-import { initBackend } from '../src/train/backend.js';
-import { disposeNetwork, forward, l2Penalty, lossFromLogits } from '../src/train/network.js';
+import { initBackend } from '../src/trainers/tfjs/backend.js';
+import { disposeNetwork, forward, l2Penalty, lossFromLogits } from '../src/trainers/tfjs/network.js';
 import { engineGradients, labelTensor, relativeError, twinNetworks } from './helpers/engine.js';
 import { baseParams, syntheticDataset } from './helpers/synthetic.js';
 

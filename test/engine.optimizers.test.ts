@@ -4,10 +4,10 @@
  * (itself checked against tfjs in engine.gradients.test.ts), the update is then applied by the engine.
  */
 import { describe, expect, it } from 'vitest';
-import { networkWeights } from '../src/engine/checkpoint-state.js';
-import { EngineTrial } from '../src/engine/trial.js';
-import { ADAM, MOMENTUM } from '../src/train/optimizer-constants.js';
-import type { OptimizerName } from '../src/study/definition.js';
+import { networkWeights } from '../src/trainers/engine/checkpoint-state.js';
+import { EngineTrial } from '../src/trainers/engine/trial.js';
+import { ADAM, MOMENTUM } from '../src/trainers/shared/optimizer-constants.js';
+import type { OptimizerName } from '../src/core/configuration.js';
 import { engineGradients, relativeError } from './helpers/engine.js';
 import { baseParams, syntheticDataset } from './helpers/synthetic.js';
 

@@ -1,8 +1,8 @@
 /** The trial worker trains on the engine by default and on the tfjs path when the request asks for it. */
 import { describe, expect, it } from 'vitest';
-import { trainSegmentOnEngine } from '../src/engine/segment.js';
-import type { EpochReport } from '../src/pool/messages.js';
-import { trainSegment } from '../src/train/loop.js';
+import { trainSegmentOnEngine } from '../src/trainers/engine/segment.js';
+import type { EpochReport } from '../src/core/job.js';
+import { trainSegment } from '../src/trainers/tfjs/loop.js';
 import trialWorker from '../workers/trial-worker.js';
 import { syntheticDataset, trainRequest } from './helpers/synthetic.js';
 

@@ -11,10 +11,11 @@ import { exportModel, exportReport } from '../src/commands/export.js';
 import { prepareData } from '../src/data/prepare.js';
 import type { ExportConfiguration } from '../src/export/configuration.js';
 import { runStudy } from '../src/runner/run-study.js';
-import type { StudyDocument, TrialRecord } from '../src/store/types.js';
-import { rankTrials } from '../src/study/objective.js';
-import { initBackend } from '../src/train/backend.js';
-import { computeMetrics } from '../src/train/metrics.js';
+import type { StudyDocument } from '../src/store/types.js';
+import type { TrialRecord } from '../src/core/trial.js';
+import { rankTrials } from '../src/core/ranking.js';
+import { initBackend } from '../src/trainers/tfjs/backend.js';
+import { computeMetrics } from '../src/metrics/metrics.js';
 import { tinyStudy, writeTinyStudy } from './helpers/studies.js';
 
 beforeAll(() => initBackend());

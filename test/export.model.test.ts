@@ -11,17 +11,17 @@ import { exportModel, type ExportSummary } from '../src/commands/export.js';
 import { prepareData } from '../src/data/prepare.js';
 import { unscaleTarget } from '../src/data/recipe.js';
 import type { PreprocessingRecipe } from '../src/data/types.js';
-import { UserError } from '../src/errors.js';
+import { UserError } from '../src/core/errors.js';
 import { writeFolderAtomically } from '../src/files/atomic-folder.js';
 import type { ExportConfiguration } from '../src/export/configuration.js';
 import { OPTIMISM_CAUTION } from '../src/report/caution.js';
 import { runStudy } from '../src/runner/run-study.js';
-import { rankTrials } from '../src/study/objective.js';
+import { rankTrials } from '../src/core/ranking.js';
 import { StudyStore } from '../src/store/study-store.js';
 import type { StudyDocument } from '../src/store/types.js';
 import type { StudyDefinitionInput } from '../src/study/definition.js';
-import { initBackend } from '../src/train/backend.js';
-import { computeMetrics, regressionMetrics } from '../src/train/metrics.js';
+import { initBackend } from '../src/trainers/tfjs/backend.js';
+import { computeMetrics, regressionMetrics } from '../src/metrics/metrics.js';
 
 /**
  * Iris with two extra columns: `site` (a category, cycling north/south/east) and `virginica`

@@ -13,8 +13,9 @@ import { loadModel, predict, type ClassPrediction, type ValuePrediction } from '
 import type { ExportConfiguration } from '../src/export/configuration.js';
 import { buildLayersModel, predictRows } from '../src/export/model-files.js';
 import { onnxModelBytes } from '../src/export/onnx.js';
-import { ACTIVATIONS, type StudyDefinitionInput, type TrialConfiguration } from '../src/study/definition.js';
-import { initBackend } from '../src/train/backend.js';
+import { ACTIVATIONS, type TrialConfiguration } from '../src/core/configuration.js';
+import type { StudyDefinitionInput } from '../src/study/definition.js';
+import { initBackend } from '../src/trainers/tfjs/backend.js';
 import { exportTinyStudies, type TinyExport } from './helpers/exports.js';
 
 const ROOT = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '..');

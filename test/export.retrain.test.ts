@@ -9,11 +9,11 @@ import type { ExportConfiguration } from '../src/export/configuration.js';
 import { loadLayersModelFromDir, predictRows } from '../src/export/model-files.js';
 import { OPTIMISM_CAUTION } from '../src/report/caution.js';
 import { runStudy } from '../src/runner/run-study.js';
-import { rankTrials } from '../src/study/objective.js';
+import { rankTrials } from '../src/core/ranking.js';
 import { StudyStore } from '../src/store/study-store.js';
 import type { StudyDocument } from '../src/store/types.js';
-import { initBackend } from '../src/train/backend.js';
-import { computeMetrics } from '../src/train/metrics.js';
+import { initBackend } from '../src/trainers/tfjs/backend.js';
+import { computeMetrics } from '../src/metrics/metrics.js';
 import { writeIrisCsv } from './helpers/datasets.js';
 
 let root: string;

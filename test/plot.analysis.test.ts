@@ -7,7 +7,7 @@ import { rungAgreements, rungStandings, spearman } from '../src/plot/analysis/ru
 import { studyImportance } from '../src/plot/analysis/study-importance.js';
 import { stream } from '../src/random/streams.js';
 import type { StudyDocument } from '../src/store/types.js';
-import { rankTrials } from '../src/study/objective.js';
+import { rankTrials } from '../src/core/ranking.js';
 import { studyFixture } from './helpers/study-fixtures.js';
 
 const fixture = studyFixture;

@@ -5,7 +5,7 @@ import path from 'node:path';
 import { afterEach, beforeEach, describe, expect, it } from 'vitest';
 import { plot } from '../src/commands/plot.js';
 import { OPTIMISM_CAUTION as CAUTION } from '../src/report/caution.js';
-import { UserError } from '../src/errors.js';
+import { UserError } from '../src/core/errors.js';
 
 const fixturePath = (name: string) => new URL(`./fixtures/studies/${name}.json`, import.meta.url);
 

@@ -3,7 +3,7 @@ import { tmpdir } from 'node:os';
 import path from 'node:path';
 import { afterEach, beforeEach, describe, expect, it } from 'vitest';
 import { compare } from '../src/commands/compare.js';
-import { UserError } from '../src/errors.js';
+import { UserError } from '../src/core/errors.js';
 
 const fixturePath = (name: string) => new URL(`./fixtures/studies/${name}.json`, import.meta.url);
 

@@ -10,14 +10,14 @@ import { defaultPredictionsPath, predictCsv, predictReport } from '../src/comman
 import { readCsv } from '../src/data/csv.js';
 import { prepareData } from '../src/data/prepare.js';
 import type { PreparedData } from '../src/data/types.js';
-import { UserError } from '../src/errors.js';
+import { UserError } from '../src/core/errors.js';
 import { loadLayersModelFromDir, predictRows } from '../src/export/model-files.js';
 import { runStudy } from '../src/runner/run-study.js';
-import { rankTrials } from '../src/study/objective.js';
+import { rankTrials } from '../src/core/ranking.js';
 import { StudyStore } from '../src/store/study-store.js';
 import type { StudyDocument } from '../src/store/types.js';
-import { initBackend } from '../src/train/backend.js';
-import { accuracy, multiclassLogLoss, regressionMetrics } from '../src/train/metrics.js';
+import { initBackend } from '../src/trainers/tfjs/backend.js';
+import { accuracy, multiclassLogLoss, regressionMetrics } from '../src/metrics/metrics.js';
 
 const HEADER = 'sepal_length,sepal_width,petal_length,petal_width,site,species';
 const CLASSES = ['setosa', 'versicolor', 'virginica'];

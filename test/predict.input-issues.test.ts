@@ -13,7 +13,7 @@ import { exportModel } from '../src/commands/export.js';
 import { defaultPredictionsPath, predictCsv, predictWarnings } from '../src/commands/predict.js';
 import { loadModel, predict, predictWithChecks, type InputRow } from '../src/export/hand-off.js';
 import { runStudy } from '../src/runner/run-study.js';
-import { initBackend } from '../src/train/backend.js';
+import { initBackend } from '../src/trainers/tfjs/backend.js';
 import { runCli } from './helpers/cli.js';
 import { PENGUINS_MEASUREMENTS, PENGUINS_TARGET, makeTempDir, writePenguinsCsv } from './helpers/datasets.js';
 

@@ -4,7 +4,8 @@ import type { PreprocessingRecipe } from '../src/data/types.js';
 import { buildConfiguration, type ExportConfiguration } from '../src/export/configuration.js';
 import { interpretOutputs } from '../src/export/hand-off.js';
 import { predictionTable, predictionsCsv } from '../src/export/predictions.js';
-import type { StudyDocument, TrialRecord } from '../src/store/types.js';
+import type { StudyDocument } from '../src/store/types.js';
+import type { TrialRecord } from '../src/core/trial.js';
 
 const input: CsvTable = { file: 'new.csv', columns: ['x'], rows: [{ x: '1' }, { x: '2' }, { x: '3' }], lines: [2, 3, 5] };
 

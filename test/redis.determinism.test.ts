@@ -9,7 +9,7 @@ import path from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { runStudy } from '../src/runner/run-study.js';
 import type { StudyDefinitionInput } from '../src/study/definition.js';
-import { queuedStudy } from '../src/transport/redis-study.js';
+import { queuedStudy } from '../src/transports/redis/study.js';
 import { spawnWorker, startRedis, stopStarted, type TestRedis } from './helpers/redis-server.js';
 import { studyOutcome } from './helpers/study-outcome.js';
 import { tinyStudy, writeTinyStudy } from './helpers/studies.js';

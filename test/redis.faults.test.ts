@@ -9,7 +9,7 @@ import path from 'node:path';
 import { afterAll, afterEach, beforeAll, describe, expect, it } from 'vitest';
 import { runStudy } from '../src/runner/run-study.js';
 import { StudyStore } from '../src/store/study-store.js';
-import { queuedStudy } from '../src/transport/redis-study.js';
+import { queuedStudy } from '../src/transports/redis/study.js';
 import { runCli } from './helpers/cli.js';
 import { spawnCli, spawnWorker, startRedis, stopStarted, type TestRedis, type WorkerProcess } from './helpers/redis-server.js';
 import { studyOutcome } from './helpers/study-outcome.js';

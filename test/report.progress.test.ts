@@ -6,8 +6,9 @@ import { fitLine } from '../src/report/progress-line.js';
 import { painterFor } from '../src/report/style.js';
 import type { StudyEvent, StudyProgress } from '../src/runner/events.js';
 import type { Job } from '../src/samplers/sampler.js';
-import type { StudyDocument, TrialRecord } from '../src/store/types.js';
-import type { Goal, TrialConfiguration } from '../src/study/definition.js';
+import type { StudyDocument } from '../src/store/types.js';
+import type { TrialRecord } from '../src/core/trial.js';
+import type { Goal, TrialConfiguration } from '../src/core/configuration.js';
 import { trialRecord } from './helpers/trials.js';
 
 const goal: Goal = { metric: 'accuracy', better: 'higher' };
@@ -68,12 +69,13 @@ describe('planned work of each sampler', () => {
     // (81,1)(27,3)(9,9)(3,27)(1,81); (34,3)(11,9)(3,27)(1,81); (15,9)(5,27)(1,81); (8,27)(2,81); (5,81).
     // Jobs: 121 + 49 + 21 + 10 + 5. Epochs, each round adding r_i - r_(i-1): 297 + 276 + 279 + 324 + 405 (derived).
     const plan = plannedWork({ budget: { trials: 1, maxEpochs: 81 }, sampler: { kind: 'hyperband', seed: 1, eta: 3, minEpochs: 1 } } as never);
-    expect(plan).toEqual({ jobs: 206, epochs: 1581, rungs: 5, brackets: 5, estimate: false });
+    // 143 configurations in all (Li et al. 2018, derived from Algorithm 1; shared/REFERENCES.md).
+    expect(plan).toEqual({ trials: 143, jobs: 206, epochs: 1581, rungs: 5, brackets: 5, estimate: false });
   });
 
   it('successive halving of 9 configurations, eta 3, 1 to 9 epochs: 9 + 3 + 1 jobs, 9 + 3*2 + 1*6 epochs (asynchronous halving the same, as an estimate); random search: trials x maxEpochs', () => {
     // Source: Jamieson, Talwalkar, AISTATS 2016, as restated in Li et al., JMLR 2018 (keep floor(n / eta) per rung).
-    expect(halving).toEqual({ jobs: 13, epochs: 21, rungs: 3, brackets: 1, estimate: false });
+    expect(halving).toEqual({ trials: 9, jobs: 13, epochs: 21, rungs: 3, brackets: 1, estimate: false });
     expect(plannedWork({ budget: { trials: 4, maxEpochs: 5 }, sampler: { kind: 'random', seed: 1 } } as never)).toMatchObject({ jobs: 4, epochs: 20 });
     const tpeHyperband = plannedWork({ budget: { trials: 1, maxEpochs: 81 }, sampler: { kind: 'tpe-hyperband', seed: 1, eta: 3, minEpochs: 1 } } as never);
     expect(tpeHyperband).toMatchObject({ jobs: 206, rungs: 5, brackets: 5 });

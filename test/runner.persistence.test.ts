@@ -7,7 +7,8 @@ import { CheckpointKeeper } from '../src/runner/checkpoint-keeper.js';
 import { BatchedPersistence } from '../src/runner/persistence.js';
 import type { Sampler } from '../src/samplers/sampler.js';
 import { StudyStore } from '../src/store/study-store.js';
-import type { StudyDocument, TrialRecord, TrialStatus } from '../src/store/types.js';
+import type { StudyDocument } from '../src/store/types.js';
+import type { TrialRecord, TrialStatus } from '../src/core/trial.js';
 import { trialRecord } from './helpers/trials.js';
 
 function trial(id: number, status: TrialStatus, objective: number | null): TrialRecord {

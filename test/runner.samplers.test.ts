@@ -9,8 +9,9 @@ import { describe, expect, it } from 'vitest';
 import { runStudy, type StudyOutcome } from '../src/runner/run-study.js';
 import type { StudyEvent } from '../src/runner/events.js';
 import { SAMPLER_PLUGINS } from '../src/samplers/index.js';
-import type { StudyDefinitionInput, TrialConfiguration } from '../src/study/definition.js';
-import { ClosedFormTransport } from '../src/transport/closed-form.js';
+import type { StudyDefinitionInput } from '../src/study/definition.js';
+import type { TrialConfiguration } from '../src/core/configuration.js';
+import { ClosedFormTransport } from '../src/transports/closed-form.js';
 import { tinyStudy, writeTinyStudy } from './helpers/studies.js';
 
 /**

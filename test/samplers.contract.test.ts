@@ -5,7 +5,11 @@
 import { describe, expect, it } from 'vitest';
 import { createSampler, plannedBudget, replay, samplerPlugin, SAMPLER_PLUGINS, simulate } from '../src/samplers/index.js';
 import type { Job, JobOutcome } from '../src/samplers/sampler.js';
-import { budgetSchema, samplerSchema, spaceSchema, type StudyDefinition, type TrialConfiguration } from '../src/study/definition.js';
+import { budgetSchema } from '../src/core/budget.js';
+import { samplerSchema } from '../src/samplers/registry.js';
+import { spaceSchema } from '../src/space/schema.js';
+import type { StudyDefinition } from '../src/study/definition.js';
+import type { TrialConfiguration } from '../src/core/configuration.js';
 
 const definitionFor = (kind: string): Pick<StudyDefinition, 'space' | 'budget' | 'sampler'> => ({
   space: spaceSchema.parse({

@@ -2,7 +2,10 @@ import { describe, expect, it } from 'vitest';
 import { createSampler, plannedTrialCount } from '../src/samplers/index.js';
 import { simulate, type SimulationLog } from '../src/samplers/simulate.js';
 import type { Job } from '../src/samplers/sampler.js';
-import { budgetSchema, samplerSchema, spaceSchema, type StudyDefinition } from '../src/study/definition.js';
+import { budgetSchema } from '../src/core/budget.js';
+import { samplerSchema } from '../src/samplers/registry.js';
+import { spaceSchema } from '../src/space/schema.js';
+import type { StudyDefinition } from '../src/study/definition.js';
 
 type Definition = Pick<StudyDefinition, 'space' | 'budget' | 'sampler'>;
 const definition = (sampler: object, trials = 27): Definition => ({

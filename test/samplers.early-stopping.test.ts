@@ -8,7 +8,10 @@ import { HyperbandSampler } from '../src/samplers/hyperband.js';
 import { createSampler, replay, SAMPLER_PLUGINS } from '../src/samplers/index.js';
 import type { Job, JobOutcome, Sampler } from '../src/samplers/sampler.js';
 import { SuccessiveHalvingSampler } from '../src/samplers/successive-halving.js';
-import { budgetSchema, samplerSchema, spaceSchema, type TrialConfiguration } from '../src/study/definition.js';
+import { budgetSchema } from '../src/core/budget.js';
+import { samplerSchema } from '../src/samplers/registry.js';
+import { spaceSchema } from '../src/space/schema.js';
+import type { TrialConfiguration } from '../src/core/configuration.js';
 
 const paramsFor = (trialId: number): TrialConfiguration => ({
   depth: 1, width: 8 + trialId, activation: 'relu', learningRate: 0.01, batchSize: 32, optimizer: 'adam', l2: 0, dropout: 0,

@@ -1,8 +1,9 @@
 import { describe, expect, it } from 'vitest';
-import { HyperbandSampler, hyperbandSchedule, largestBracket, scheduledEpochs, trainedEpochs } from '../src/samplers/hyperband.js';
+import { HyperbandSampler, hyperbandSchedule, largestBracket, scheduledEpochs } from '../src/samplers/hyperband.js';
+import { trainedEpochs } from '../src/samplers/plan.js';
 import { simulate } from '../src/samplers/simulate.js';
 import type { Job } from '../src/samplers/sampler.js';
-import type { TrialConfiguration } from '../src/study/definition.js';
+import type { TrialConfiguration } from '../src/core/configuration.js';
 
 const paramsFor = (trialId: number): TrialConfiguration => ({
   depth: 1, width: 8 + trialId, activation: 'relu', learningRate: 0.01, batchSize: 32, optimizer: 'adam', l2: 0, dropout: 0,

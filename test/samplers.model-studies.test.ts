@@ -8,8 +8,9 @@ import { describe, expect, it } from 'vitest';
 import { resumeStudy } from '../src/runner/resume-study.js';
 import { runStudy } from '../src/runner/run-study.js';
 import type { StudyDocument } from '../src/store/types.js';
-import type { StudyDefinitionInput, TrialConfiguration } from '../src/study/definition.js';
-import { ClosedFormTransport } from '../src/transport/closed-form.js';
+import type { StudyDefinitionInput } from '../src/study/definition.js';
+import type { TrialConfiguration } from '../src/core/configuration.js';
+import { ClosedFormTransport } from '../src/transports/closed-form.js';
 import { runUntilTrialsFinished, tinyStudy, writeTinyStudy } from './helpers/studies.js';
 
 /** Best near learning rate 0.02 and narrow nets; falls with the epochs. */

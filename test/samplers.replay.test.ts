@@ -3,7 +3,10 @@ import { createSampler } from '../src/samplers/index.js';
 import { replay } from '../src/samplers/replay.js';
 import { simulate } from '../src/samplers/simulate.js';
 import type { Job, JobOutcome } from '../src/samplers/sampler.js';
-import { budgetSchema, samplerSchema, spaceSchema, type StudyDefinition } from '../src/study/definition.js';
+import { budgetSchema } from '../src/core/budget.js';
+import { samplerSchema } from '../src/samplers/registry.js';
+import { spaceSchema } from '../src/space/schema.js';
+import type { StudyDefinition } from '../src/study/definition.js';
 
 const definition = (sampler: object): Pick<StudyDefinition, 'space' | 'budget' | 'sampler'> => ({
   space: spaceSchema.parse({ depth: { min: 1, max: 3 }, width: { min: 8, max: 64 }, activation: ['relu'], learningRate: { min: 1e-4, max: 1e-1 } }),

@@ -1,7 +1,9 @@
 import { describe, expect, it } from 'vitest';
 import { createSampler } from '../src/samplers/index.js';
 import type { Job } from '../src/samplers/sampler.js';
-import { budgetSchema, samplerSchema, spaceSchema } from '../src/study/definition.js';
+import { budgetSchema } from '../src/core/budget.js';
+import { samplerSchema } from '../src/samplers/registry.js';
+import { spaceSchema } from '../src/space/schema.js';
 
 const definition = (sampler: object) => ({
   space: spaceSchema.parse({

@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { SuccessiveHalvingSampler, halvingSchedule } from '../src/samplers/successive-halving.js';
 import type { Job, Sampler } from '../src/samplers/sampler.js';
-import type { TrialConfiguration } from '../src/study/definition.js';
+import type { TrialConfiguration } from '../src/core/configuration.js';
 
 const paramsFor = (trialId: number): TrialConfiguration => ({
   depth: 1, width: 8 + trialId, activation: 'relu', learningRate: 0.01, batchSize: 32, optimizer: 'adam', l2: 0, dropout: 0,

@@ -12,7 +12,9 @@ import { replay } from '../src/samplers/replay.js';
 import type { Job } from '../src/samplers/sampler.js';
 import { simulate } from '../src/samplers/simulate.js';
 import { TpeHyperbandSampler, tpeHyperbandPlugin } from '../src/samplers/tpe-hyperband.js';
-import { budgetSchema, samplerSchema, spaceSchema } from '../src/study/definition.js';
+import { budgetSchema } from '../src/core/budget.js';
+import { samplerSchema } from '../src/samplers/registry.js';
+import { spaceSchema } from '../src/space/schema.js';
 import { BRANIN, HARTMANN6, designOf, median, unevenDuration, type TestFunction } from './helpers/test-functions.js';
 
 function create(fn: TestFunction, seed: number, options: object = {}, maxEpochs = 9): TpeHyperbandSampler {

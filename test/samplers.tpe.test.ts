@@ -13,7 +13,9 @@ import type { Job } from '../src/samplers/sampler.js';
 import { simulate } from '../src/samplers/simulate.js';
 import { TpeSampler } from '../src/samplers/tpe.js';
 import { tpePlugin } from '../src/samplers/tpe.js';
-import { budgetSchema, samplerSchema, spaceSchema } from '../src/study/definition.js';
+import { budgetSchema } from '../src/core/budget.js';
+import { samplerSchema } from '../src/samplers/registry.js';
+import { spaceSchema } from '../src/space/schema.js';
 import { BRANIN, HARTMANN6, PLACEHOLDER_PARAMS, designOf, median, runOnFunction, unevenDuration, type TestFunction } from './helpers/test-functions.js';
 
 /** A TPE sampler on a test function with the `tpe` kind's defaults (and any options given). */

@@ -2,7 +2,7 @@ import { describe, expect, it } from 'vitest';
 import { stream } from '../src/random/streams.js';
 import { decode, encode, paramsAt, pointOfParams, snap, spaceDimensions, unitOf, valueAt, type Dimension } from '../src/space/dimensions.js';
 import { drawInteger } from '../src/space/sample.js';
-import { spaceSchema } from '../src/study/definition.js';
+import { spaceSchema } from '../src/space/schema.js';
 
 const space = spaceSchema.parse({
   depth: { min: 1, max: 4 },

@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { drawInteger, logUniform, paramsForTrial, sampleParams } from '../src/space/sample.js';
-import { spaceSchema, type SearchSpace } from '../src/study/definition.js';
+import { spaceSchema, type SearchSpace } from '../src/space/schema.js';
 import { stream } from '../src/random/streams.js';
 
 const space: SearchSpace = spaceSchema.parse({

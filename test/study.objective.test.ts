@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { rankTrials } from '../src/study/objective.js';
+import { rankTrials } from '../src/core/ranking.js';
 import { trialRecord } from './helpers/trials.js';
 
 const trial = trialRecord;

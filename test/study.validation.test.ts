@@ -2,7 +2,7 @@ import { mkdtemp, writeFile } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
 import path from 'node:path';
 import { describe, expect, it } from 'vitest';
-import { UserError } from '../src/errors.js';
+import { UserError } from '../src/core/errors.js';
 import { loadStudy, validateStudy } from '../src/study/load.js';
 import { resolveGoal } from '../src/study/definition.js';
 

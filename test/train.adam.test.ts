@@ -1,8 +1,8 @@
 import * as tf from '@tensorflow/tfjs';
 import { beforeAll, describe, expect, it } from 'vitest';
-import { ConstantCachingAdam } from '../src/train/adam.js';
-import { initBackend } from '../src/train/backend.js';
-import { ADAM } from '../src/train/loop.js';
+import { ConstantCachingAdam } from '../src/trainers/tfjs/adam.js';
+import { initBackend } from '../src/trainers/tfjs/backend.js';
+import { ADAM } from '../src/trainers/tfjs/loop.js';
 
 beforeAll(() => initBackend());
 

@@ -1,8 +1,8 @@
 import * as tf from '@tensorflow/tfjs';
 import { beforeAll, describe, expect, it } from 'vitest';
 import { checkpointManifest, checkpointWeights, decodeCheckpoint } from '../src/checkpoints/format.js';
-import { initBackend } from '../src/train/backend.js';
-import { trainSegment } from '../src/train/loop.js';
+import { initBackend } from '../src/trainers/tfjs/backend.js';
+import { trainSegment } from '../src/trainers/tfjs/loop.js';
 import { syntheticDataset, trainRequest } from './helpers/synthetic.js';
 
 beforeAll(async () => {

@@ -3,9 +3,9 @@
  * confusion matrices worked by hand; and the figures a job brings back from either trainer.
  */
 import { describe, expect, it } from 'vitest';
-import { classFigures, confusionMatrix, perClassFigures, summaryAveragePrecision } from '../src/train/class-figures.js';
-import { averagePrecision, precisionRecallCurve } from '../src/train/precision-recall.js';
-import { runTrainRequest } from '../src/train/run-request.js';
+import { classFigures, confusionMatrix, perClassFigures, summaryAveragePrecision } from '../src/metrics/class-figures.js';
+import { averagePrecision, precisionRecallCurve } from '../src/metrics/precision-recall.js';
+import { runTrainRequest } from '../src/trainers/run-request.js';
 import { syntheticDataset, trainRequest } from './helpers/synthetic.js';
 
 describe('average precision', () => {

@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { RUNAWAY_FACTOR, constantPredictionLoss, divergenceReason } from '../src/train/divergence.js';
+import { RUNAWAY_FACTOR, constantPredictionLoss, divergenceReason } from '../src/trainers/shared/divergence.js';
 
 describe('divergence', () => {
   it('knows the loss of a constant prediction for each task', () => {

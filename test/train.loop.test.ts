@@ -1,11 +1,12 @@
 import * as tf from '@tensorflow/tfjs';
 import { MessageChannel } from 'node:worker_threads';
 import { beforeAll, describe, expect, it } from 'vitest';
-import type { EpochReport } from '../src/pool/messages.js';
-import { initBackend } from '../src/train/backend.js';
-import { datasetTensors } from '../src/train/data-cache.js';
-import { trainSegment } from '../src/train/loop.js';
-import { createNetwork, disposeNetwork, forward, lossFromLogits, networkSpec } from '../src/train/network.js';
+import type { EpochReport } from '../src/core/job.js';
+import { initBackend } from '../src/trainers/tfjs/backend.js';
+import { datasetTensors } from '../src/trainers/tfjs/data-cache.js';
+import { trainSegment } from '../src/trainers/tfjs/loop.js';
+import trialWorker from '../workers/trial-worker.js';
+import { createNetwork, disposeNetwork, forward, lossFromLogits, networkSpec } from '../src/trainers/tfjs/network.js';
 import { syntheticDataset, trainRequest } from './helpers/synthetic.js';
 
 beforeAll(() => initBackend());
@@ -75,7 +76,7 @@ describe('trainSegment', () => {
     expect(last.trainLoss).toBeLessThan(result.epochs[0]!.trainLoss);
   });
 
-  it('posts each epoch report on the progress port', async () => {
+  it('posts each epoch report on the progress port (through the thread entry)', async () => {
     const channel = new MessageChannel();
     const received: EpochReport[] = [];
     const allThree = new Promise<void>((resolve) => {
@@ -84,7 +85,7 @@ describe('trainSegment', () => {
         if (received.length === 3) resolve();
       });
     });
-    const result = await trainSegment(trainRequest(binary, { toEpoch: 3, progressPort: channel.port1 }));
+    const result = await trialWorker(trainRequest(binary, { toEpoch: 3, trainer: 'tfjs', progressPort: channel.port1 }));
     await allThree;
     channel.port1.close();
     expect(received).toEqual(result.epochs);

@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { accuracy, auc, binaryLogLoss, computeMetrics, macroF1, multiclassLogLoss, regressionMetrics } from '../src/train/metrics.js';
+import { accuracy, auc, binaryLogLoss, computeMetrics, macroF1, multiclassLogLoss, regressionMetrics } from '../src/metrics/metrics.js';
 
 describe('classification metrics', () => {
   it('accuracy is the share of matching classes', () => {

@@ -1,8 +1,8 @@
 import * as tf from '@tensorflow/tfjs';
 import { beforeAll, describe, expect, it } from 'vitest';
 import { stream } from '../src/random/streams.js';
-import { initBackend } from '../src/train/backend.js';
-import { createNetwork, disposeNetwork, forward, initialKernel, initRuleFor, lossFromLogits, outputFromLogits } from '../src/train/network.js';
+import { initBackend } from '../src/trainers/tfjs/backend.js';
+import { createNetwork, disposeNetwork, forward, initialKernel, initRuleFor, lossFromLogits, outputFromLogits } from '../src/trainers/tfjs/network.js';
 
 beforeAll(() => initBackend());
 

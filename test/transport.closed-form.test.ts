@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { ClosedFormTransport } from '../src/transport/closed-form.js';
+import { ClosedFormTransport } from '../src/transports/closed-form.js';
 import { transportContract } from './transport.contract.js';
 
 const evaluate = (params: { learningRate: number; width: number }, epoch: number) => ({

@@ -3,9 +3,9 @@
  * with a factory of its own; a new transport is proven by the same checks as the old ones.
  */
 import { afterEach, describe, expect, it } from 'vitest';
-import type { TrialConfiguration } from '../src/study/definition.js';
-import type { TrialTransport } from '../src/transport/transport.js';
-import type { EpochReport, SharedDataset, TrainJob } from '../src/transport/types.js';
+import type { TrialConfiguration } from '../src/core/configuration.js';
+import type { TrialTransport } from '../src/transports/transport.js';
+import type { EpochReport, SharedDataset, TrainJob } from '../src/core/job.js';
 import { syntheticDataset } from './helpers/synthetic.js';
 
 export const contractDataset: SharedDataset = syntheticDataset({ task: 'binary', rows: 96, inputs: 3, seed: 5 });

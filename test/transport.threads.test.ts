@@ -1,5 +1,5 @@
-import { FoldsTransport } from '../src/transport/folds.js';
-import { ThreadTransport } from '../src/transport/threads.js';
+import { FoldsTransport } from '../src/transports/folds.js';
+import { ThreadTransport } from '../src/transports/threads/transport.js';
 import { syntheticDataset } from './helpers/synthetic.js';
 import { transportContract } from './transport.contract.js';
 

@@ -5,8 +5,8 @@
  * float32 little-endian, concatenated in manifest order. No tfjs here: the coordinator reads
  * manifests without loading a training library.
  */
-import type { OptimizerName, TrialConfiguration } from '../study/definition.js';
-import type { ClassFigures } from '../train/class-figures.js';
+import type { OptimizerName, TrialConfiguration } from '../core/configuration.js';
+import type { ClassFigures } from '../core/class-figures.js';
 
 /** Version 2: one byte string (version 1 was a folder with checkpoint.json and weights.bin). */
 export const CHECKPOINT_FORMAT_VERSION = 2;
@@ -129,3 +129,37 @@ export function checkpointWeights(bytes: Uint8Array): NamedWeights[] {
   return decodeCheckpoint(bytes).network;
 }
 
+/**
+ * tfjs 4.22's Adam keeps the running products beta1^t and beta2^t in these private variables.
+ * Its setWeights() recomputes them as pow(beta, iterations + 1), which can differ in the last
+ * float32 bits from the running product; saving them keeps a resumed trial bit-exact.
+ */
+export const ADAM_POWERS = ['accBeta1', 'accBeta2'] as const;
+/** The checkpoint name of Adam's running power of beta1 ('accBeta1') or beta2 ('accBeta2'). */
+export const adamPowerName = (field: (typeof ADAM_POWERS)[number]): string => `adam/${field}`;
+
+/**
+ * Throws unless the checkpoint belongs to the expected trial, epoch and optimizer and its network
+ * variables have the names and shapes of `variables`, in order.
+ */
+export function checkCheckpoint(
+  manifest: CheckpointManifest,
+  network: readonly NamedWeights[],
+  expected: { trialId: number; epoch: number; optimizer: OptimizerName },
+  variables: readonly { name: string; shape: readonly number[] }[],
+): void {
+  const where = `checkpoint of trial ${expected.trialId}`;
+  if (manifest.trialId !== expected.trialId || manifest.epoch !== expected.epoch || manifest.optimizer.name !== expected.optimizer) {
+    throw new Error(
+      `${where}: holds trial ${manifest.trialId} at epoch ${manifest.epoch} (${manifest.optimizer.name}), ` +
+        `expected trial ${expected.trialId} at epoch ${expected.epoch} (${expected.optimizer})`,
+    );
+  }
+  if (network.length !== variables.length) throw new Error(`${where}: ${network.length} network variables, the network has ${variables.length}`);
+  variables.forEach((variable, i) => {
+    const stored = network[i]!;
+    if (stored.name !== variable.name || stored.shape.join('x') !== variable.shape.join('x')) {
+      throw new Error(`${where}: variable ${i} is ${stored.name} [${stored.shape}], the network has ${variable.name} [${variable.shape}]`);
+    }
+  });
+}

@@ -3,13 +3,13 @@
  * `--help` and `--version` never load tfjs, the chart library or the runner.
  */
 import { Command, CommanderError, InvalidArgumentError } from 'commander';
-import { isUserError } from '../errors.js';
+import { isUserError } from '../core/errors.js';
 import { packageVersion } from '../files/package-files.js';
 import { painterFor } from '../report/style.js';
 import { COMMAND_EXAMPLES, PROGRAM_EXAMPLES } from './help.js';
 import { interruptSignal } from './interrupt.js';
 import { workerStopSignal } from './worker-signal.js';
-import type { FaultInjector } from '../transport/threads.js';
+import type { FaultInjector } from '../transports/threads/transport.js';
 
 function wholeNumber(value: string, name: string): number {
   const parsed = Number(value);
@@ -131,7 +131,7 @@ export function buildProgram(
 
   const printStudy = async (
     target: CliIo,
-    outcome: { doc: import('../store/types.js').StudyDocument; ranking: import('../study/objective.js').RankedTrial[]; file: string },
+    outcome: { doc: import('../store/types.js').StudyDocument; ranking: import('../core/ranking.js').RankedTrial[]; file: string },
     flags: { top?: number; json?: boolean },
   ): Promise<void> => {
     const { studyResultJson, studyResultText } = await import('../report/study-result.js');
@@ -140,7 +140,7 @@ export function buildProgram(
   /** After a study ran: its result on stdout, then exit 1 when every trial ended without a score. */
   const finishStudy = async (target: CliIo, outcome: Parameters<typeof printStudy>[1], flags: { top?: number; json?: boolean }): Promise<void> => {
     await printStudy(target, outcome, flags);
-    const { noResultError } = await import('../study/trial-status.js');
+    const { noResultError } = await import('../core/trial-status.js');
     const noResult = outcome.doc.state === 'finished' ? noResultError(outcome.doc.trials, outcome.file) : undefined;
     if (noResult) throw noResult;
   };
@@ -217,7 +217,7 @@ export function buildProgram(
       const result = await ranking({ dir });
       if (!flags.json) {
         const { doc } = result;
-        const { goalInWords } = await import('../study/objective.js');
+        const { goalInWords } = await import('../core/ranking.js');
         target.out(`study ${doc.name} (${doc.state}), ${doc.trials.length} trials, ranked by ${goalInWords(doc.goal)}\n\n`);
       }
       await printStudy(target, result, flags);
@@ -296,7 +296,7 @@ export function buildProgram(
       const target = io();
       const { predictCsv, predictReport, predictWarnings, STDOUT } = await import('../commands/predict.js');
       if (flags.json && flags.output === STDOUT) {
-        const { UserError } = await import('../errors.js');
+        const { UserError } = await import('../core/errors.js');
         throw new UserError('E_USAGE', "predict: --json and --output - both write to stdout; choose one (the summary goes to stderr with --output -)");
       }
       const summary = await predictCsv({

@@ -1,9 +1,9 @@
 import path from 'node:path';
-import { UserError } from '../errors.js';
+import { UserError } from '../core/errors.js';
 import { buildComparisonReport, comparisonCharts, comparisonTable, distinctNames } from '../plot/comparison.js';
 import { textTable } from '../report/format.js';
 import { StudyStore, studyFilePath } from '../store/study-store.js';
-import { goalInWords } from '../study/objective.js';
+import { goalInWords } from '../core/ranking.js';
 import { renderCharts, writeReportFolder } from './plot.js';
 
 export interface CompareOptions {

@@ -1,7 +1,7 @@
 import { existsSync } from 'node:fs';
 import { copyFile, mkdir } from 'node:fs/promises';
 import path from 'node:path';
-import { UserError } from '../errors.js';
+import { UserError } from '../core/errors.js';
 import { packageRoot } from '../files/package-files.js';
 import type { StudyOutcome } from '../runner/run-study.js';
 import { StudyStore, studyFilePath } from '../store/study-store.js';

@@ -2,7 +2,7 @@ import { existsSync } from 'node:fs';
 import { copyFile, writeFile } from 'node:fs/promises';
 import path from 'node:path';
 import type { PreparedData, SplitArrays } from '../data/types.js';
-import { UserError } from '../errors.js';
+import { UserError } from '../core/errors.js';
 import { writeFolderAtomically } from '../files/atomic-folder.js';
 import { packageVersion } from '../files/package-files.js';
 import type * as tf from '@tensorflow/tfjs';
@@ -12,7 +12,7 @@ import { evaluateExportedModel } from '../export/evaluate.js';
 import { MODEL_FILE, WEIGHTS_FILE, buildLayersModel, outputCount, predictRows, saveLayersModel } from '../export/model-files.js';
 import { DEFAULT_THRESHOLD, chooseThreshold, describeRule, type ThresholdChoice } from '../export/threshold.js';
 import { classReport, classReportText, trialClassReport, type ClassReport } from '../report/class-report.js';
-import { classFigures } from '../train/class-figures.js';
+import { classFigures } from '../metrics/class-figures.js';
 import { ONNX_FILE } from '../export/onnx-schema.js';
 import { retrainTrial } from '../export/retrain.js';
 import { keptCheckpointWeights, trialAtRank } from '../export/select.js';
@@ -20,10 +20,12 @@ import { formatNumber, textTable } from '../report/format.js';
 import { SPLIT_RECORD_NAME, runPaths } from '../store/run-dir.js';
 import { studyData } from '../store/study-data.js';
 import { StudyStore, studyFilePath } from '../store/study-store.js';
-import type { StudyDocument, TrialRecord } from '../store/types.js';
-import type { DecisionThresholdRule, MetricName, Goal } from '../study/definition.js';
-import { initBackend } from '../train/backend.js';
-import type { Metrics } from '../train/metrics.js';
+import type { StudyDocument } from '../store/types.js';
+import type { TrialRecord } from '../core/trial.js';
+import type { DecisionThresholdRule } from '../study/definition.js';
+import type { MetricName, Goal } from '../core/configuration.js';
+import { initBackend } from '../trainers/tfjs/backend.js';
+import type { Metrics } from '../metrics/metrics.js';
 
 export interface ExportCommandOptions {
   /** Run directory holding `study.json` (and `checkpoints/`). */

@@ -4,7 +4,8 @@ import { dataProgressObserver } from '../report/data-progress.js';
 import { progressObserver } from '../report/progress.js';
 import { painterFor } from '../report/style.js';
 import type { StudyObserver } from '../runner/events.js';
-import type { Goal, StudyDefinition } from '../study/definition.js';
+import type { Goal } from '../core/configuration.js';
+import type { StudyDefinition } from '../study/definition.js';
 
 /** Where a study command shows progress: a stream (the CLI passes stderr) or nowhere. */
 export interface ProgressTarget {

@@ -1,12 +1,12 @@
 import path from 'node:path';
 import { readCsv } from '../data/csv.js';
 import { writeFileDurably } from '../files/durable-write.js';
-import { UserError } from '../errors.js';
+import { UserError } from '../core/errors.js';
 import { inputIssueWarning, strictInputError, type InputIssue } from '../data/input-checks.js';
 import { decisionThreshold, encodeRowsChecked, interpretOutputs, loadModel } from '../export/hand-off.js';
 import { predictRows } from '../export/model-files.js';
 import { predictionTable, predictionsCsv } from '../export/predictions.js';
-import type { Task } from '../study/definition.js';
+import type { Task } from '../core/configuration.js';
 import { didYouMean } from '../text/nearest.js';
 
 /** `--output -`: the predictions go to standard output. */

@@ -1,6 +1,6 @@
-import { UserError } from '../errors.js';
-import { queuedStudy } from '../transport/redis-study.js';
-import type { TrialTransport } from '../transport/transport.js';
+import { UserError } from '../core/errors.js';
+import { queuedStudy } from '../transports/redis/study.js';
+import type { TrialTransport } from '../transports/transport.js';
 
 /** The flags `run` and `resume` share for a study served over Redis. */
 export interface QueueFlags {

@@ -1,4 +1,4 @@
-import { rankTrials, type RankedTrial } from '../study/objective.js';
+import { rankTrials, type RankedTrial } from '../core/ranking.js';
 import { StudyStore, studyFilePath } from '../store/study-store.js';
 import type { StudyDocument } from '../store/types.js';
 

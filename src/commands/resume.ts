@@ -1,4 +1,4 @@
-import type { FaultInjector } from '../transport/threads.js';
+import type { FaultInjector } from '../transports/threads/transport.js';
 import path from 'node:path';
 import { resumeStudy, type ResumeOutcome } from '../runner/resume-study.js';
 import { StudyStore } from '../store/study-store.js';

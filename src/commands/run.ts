@@ -1,4 +1,4 @@
-import type { FaultInjector } from '../transport/threads.js';
+import type { FaultInjector } from '../transports/threads/transport.js';
 import path from 'node:path';
 import { runStudy, type StudyOutcome } from '../runner/run-study.js';
 import { resolveGoal, type StudyDefinitionInput } from '../study/definition.js';

@@ -1,6 +1,6 @@
 import { availableParallelism } from 'node:os';
-import { QueueWorker } from '../transport/redis-worker.js';
-import { ThreadTransport, type FaultInjector } from '../transport/threads.js';
+import { QueueWorker } from '../transports/redis/worker.js';
+import { ThreadTransport, type FaultInjector } from '../transports/threads/transport.js';
 
 export interface WorkerCommandOptions {
   /** `redis://[:password@]HOST:PORT/DB` or `rediss://...`. */

@@ -3,7 +3,7 @@
  * normalised so that the training rows' mean weight is 1 (so a weighted loss keeps the unweighted
  * loss's scale and the learning rate keeps its meaning).
  */
-import { UserError } from '../errors.js';
+import { UserError } from '../core/errors.js';
 import type { DataSettings } from '../study/definition.js';
 
 export type ClassWeightSetting = NonNullable<DataSettings['classWeights']>;

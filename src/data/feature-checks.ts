@@ -6,7 +6,7 @@
  *   warning);
  * - a column that looks like a date or an identifier is named in a warning.
  */
-import { UserError } from '../errors.js';
+import { UserError } from '../core/errors.js';
 import type { DataSettings } from '../study/definition.js';
 import type { CategoricalValues, FeatureValues, NumericValues } from './values.js';
 

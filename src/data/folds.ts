@@ -1,4 +1,4 @@
-import { UserError } from '../errors.js';
+import { UserError } from '../core/errors.js';
 import { permutation, stream } from '../random/streams.js';
 
 /** What to cut into folds. */

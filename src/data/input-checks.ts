@@ -4,7 +4,7 @@
  * category), blank categories (filled with the training's most frequent one) and missing numbers
  * (filled with the training mean).
  */
-import { UserError } from '../errors.js';
+import { UserError } from '../core/errors.js';
 import type { FeatureRecipe, PreprocessingRecipe } from './types.js';
 import type { FeatureValues } from './values.js';
 

@@ -1,8 +1,8 @@
 import { stat } from 'node:fs/promises';
 import path from 'node:path';
 import { setImmediate as nextTurn } from 'node:timers/promises';
-import { UserError } from '../errors.js';
-import type { SharedDataset } from '../pool/messages.js';
+import { UserError } from '../core/errors.js';
+import type { SharedDataset } from '../core/job.js';
 import type { DataSettings } from '../study/definition.js';
 import { didYouMean } from '../text/nearest.js';
 import { checkClassWeightLabels, trainingClassWeights } from './class-weights.js';

@@ -1,5 +1,5 @@
-import { UserError } from '../errors.js';
-import type { Task } from '../study/definition.js';
+import { UserError } from '../core/errors.js';
+import type { Task } from '../core/configuration.js';
 import { isMissing, parseNumber } from './csv.js';
 import { countInputIssues, type InputIssue } from './input-checks.js';
 import { decimalCommaNumber, isNotFinite } from './typing.js';

@@ -4,7 +4,7 @@ import { open } from 'node:fs/promises';
 import { Readable, Writable } from 'node:stream';
 import { pipeline } from 'node:stream/promises';
 import { CsvError, parse } from 'csv-parse';
-import { UserError } from '../errors.js';
+import { UserError } from '../core/errors.js';
 import { utf16Kind } from '../text/encoding.js';
 import type { DataObserver } from './events.js';
 import { LineCounter } from './lines.js';

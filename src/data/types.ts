@@ -1,4 +1,4 @@
-import type { Task } from '../study/definition.js';
+import type { Task } from '../core/configuration.js';
 
 /** How one input column becomes model inputs; every statistic comes from the training split only. */
 export type FeatureRecipe =

@@ -5,15 +5,15 @@
 import { readFile } from 'node:fs/promises';
 import path from 'node:path';
 import type { PreprocessingRecipe } from '../data/types.js';
-import { UserError } from '../errors.js';
+import { UserError } from '../core/errors.js';
 import { OPTIMISM_CAUTION } from '../report/caution.js';
-import type { StudyDocument, TrialRecord } from '../store/types.js';
-import type { MetricName, Goal, TrialConfiguration } from '../study/definition.js';
+import type { StudyDocument } from '../store/types.js';
+import type { TrialRecord } from '../core/trial.js';
+import type { MetricName, Goal, TrialConfiguration } from '../core/configuration.js';
 import type { ClassReport } from '../report/class-report.js';
-import type { Metrics } from '../train/metrics.js';
+import type { Metrics } from '../metrics/metrics.js';
 import { DEFAULT_THRESHOLD, describeRule, type ThresholdChoice } from './threshold.js';
 import { MODEL_FILE, WEIGHTS_FILE, inputNames } from './model-files.js';
-import type { OnnxDescription } from './onnx.js';
 
 export const CONFIGURATION_FILE = 'configuration.json';
 export const EXPORT_FORMAT = 'rungwise-export';
@@ -34,6 +34,18 @@ export type ModelOutputs =
   | { task: 'binary'; meaning: string; classes: string[]; threshold: number; thresholdChoice: ThresholdChoice }
   | { task: 'multiclass'; meaning: string; classes: string[] }
   | { task: 'regression'; meaning: string; units: 'target' };
+
+/** How to call `model.onnx`, written into `configuration.json`. */
+export interface OnnxDescription {
+  file: string;
+  input: string;
+  output: string;
+  /** One float per name, in order, for each row: shape [rows, inputs.length]. */
+  inputs: string[];
+  numeric: string;
+  categorical: string;
+  outputMeaning: string;
+}
 
 export interface ExportConfiguration {
   format: typeof EXPORT_FORMAT;

@@ -1,7 +1,7 @@
 import type * as tf from '@tensorflow/tfjs';
 import { unscaleTarget } from '../data/recipe.js';
 import type { PreprocessingRecipe, SplitArrays } from '../data/types.js';
-import { computeMetrics, regressionMetrics, type Metrics } from '../train/metrics.js';
+import { computeMetrics, regressionMetrics, type Metrics } from '../metrics/metrics.js';
 import { outputCount, predictRows } from './model-files.js';
 
 /**

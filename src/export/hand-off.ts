@@ -8,9 +8,9 @@ import path from 'node:path';
 import { existsSync } from 'node:fs';
 import { strictInputError, type InputIssue } from '../data/input-checks.js';
 import { encodeFeaturesChecked } from '../data/recipe.js';
-import { UserError } from '../errors.js';
-import { argmaxRows } from '../train/metrics.js';
-import { initBackend } from '../train/backend.js';
+import { UserError } from '../core/errors.js';
+import { argmaxRows } from '../metrics/metrics.js';
+import { initBackend } from '../trainers/tfjs/backend.js';
 import { readConfiguration, type ExportConfiguration } from './configuration.js';
 import { MODEL_FILE, loadLayersModelFromDir, predictRows } from './model-files.js';
 

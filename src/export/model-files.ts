@@ -7,9 +7,9 @@ import * as tf from '@tensorflow/tfjs';
 import { readFile, writeFile } from 'node:fs/promises';
 import path from 'node:path';
 import type { PreprocessingRecipe } from '../data/types.js';
-import type { Activation, TrialConfiguration } from '../study/definition.js';
-import type { NamedWeights } from '../train/checkpoint.js';
-import { LEAKY_RELU_SLOPE } from '../train/network.js';
+import type { Activation, TrialConfiguration } from '../core/configuration.js';
+import type { NamedWeights } from '../trainers/tfjs/checkpoint.js';
+import { LEAKY_RELU_SLOPE } from '../trainers/tfjs/network.js';
 
 export const MODEL_FILE = 'model.json';
 export const WEIGHTS_FILE = 'weights.bin';

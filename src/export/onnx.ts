@@ -10,25 +10,13 @@ import { writeFile } from 'node:fs/promises';
 import path from 'node:path';
 import protobuf from 'protobufjs';
 import type { PreprocessingRecipe } from '../data/types.js';
-import type { ExportConfiguration } from './configuration.js';
+import type { ExportConfiguration, OnnxDescription } from './configuration.js';
 import { inputNames, outputCount } from './model-files.js';
 import { ONNX_FILE, ONNX_FLOAT, ONNX_IR_VERSION, ONNX_OPSET, ONNX_SUBSET_PROTO } from './onnx-schema.js';
 
 export { ONNX_FILE } from './onnx-schema.js';
 export const ONNX_INPUT = 'features';
 export const ONNX_OUTPUT = 'output';
-
-/** How to call `model.onnx`, written into `configuration.json`. */
-export interface OnnxDescription {
-  file: string;
-  input: string;
-  output: string;
-  /** One float per name, in order, for each row: shape [rows, inputs.length]. */
-  inputs: string[];
-  numeric: string;
-  categorical: string;
-  outputMeaning: string;
-}
 
 interface NodeSpec {
   opType: string;

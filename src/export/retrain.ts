@@ -4,14 +4,14 @@
  */
 import type { PreparedData, SplitArrays } from '../data/types.js';
 import { toSharedDataset } from '../data/prepare.js';
-import { UserError } from '../errors.js';
-import type { SharedDataset } from '../pool/messages.js';
-import type { TrialRecord } from '../store/types.js';
-import { initBackend } from '../train/backend.js';
-import { hasSchedule } from '../train/schedule.js';
+import { UserError } from '../core/errors.js';
+import type { SharedDataset } from '../core/job.js';
+import type { TrialRecord } from '../core/trial.js';
+import { initBackend } from '../trainers/tfjs/backend.js';
+import { hasSchedule } from '../core/schedule.js';
 import { checkpointWeights, type NamedWeights } from '../checkpoints/format.js';
-import { releaseDatasets } from '../train/data-cache.js';
-import { runTrainRequest } from '../train/run-request.js';
+import { releaseDatasets } from '../trainers/tfjs/data-cache.js';
+import { runTrainRequest } from '../trainers/run-request.js';
 
 function concatenate(a: SplitArrays, b: SplitArrays): { rows: number; x: Float32Array; y: Float32Array } {
   const x = new Float32Array(a.x.length + b.x.length);

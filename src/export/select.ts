@@ -1,7 +1,7 @@
 import { bestCheckpointWeights, decodeCheckpoint, type NamedWeights } from '../checkpoints/format.js';
 import { FolderCheckpointStore } from '../checkpoints/folder-store.js';
-import { UserError } from '../errors.js';
-import { rankTrials, type RankedTrial } from '../study/objective.js';
+import { UserError } from '../core/errors.js';
+import { rankTrials, type RankedTrial } from '../core/ranking.js';
 import { runPaths } from '../store/run-dir.js';
 import type { StudyDocument } from '../store/types.js';
 

@@ -6,7 +6,7 @@
  * above it). Without a rule the threshold stays 0.5.
  */
 import type { DecisionThresholdRule } from '../study/definition.js';
-import { precisionRecallCurve, type PrecisionRecallPoint } from '../train/precision-recall.js';
+import { precisionRecallCurve, type PrecisionRecallPoint } from '../metrics/precision-recall.js';
 
 /** The threshold used when the study gives no rule. */
 export const DEFAULT_THRESHOLD = 0.5;

@@ -7,7 +7,7 @@
 import { classReport, type ClassReport } from '../report/class-report.js';
 import { formatNumber } from '../report/format.js';
 import type { StudyDocument } from '../store/types.js';
-import { rankTrials } from '../study/objective.js';
+import { rankTrials } from '../core/ranking.js';
 import { escapeHtml } from './html.js';
 import { shareShade, WINNER_SYMBOL } from './palette.js';
 

@@ -1,6 +1,7 @@
-import type { CurvePoint, StudyDocument, TrialStatus } from '../store/types.js';
-import type { MetricName } from '../study/definition.js';
-import { scoreAt } from '../study/objective.js';
+import type { CurvePoint, TrialStatus } from '../core/trial.js';
+import type { StudyDocument } from '../store/types.js';
+import type { MetricName } from '../core/configuration.js';
+import { scoreAt } from '../core/ranking.js';
 
 /** The goal metric's value at one epoch, or undefined when it was not recorded or is not finite. */
 export function metricAt(point: CurvePoint, metric: MetricName): number | undefined {

@@ -1,4 +1,6 @@
-import type { MetricName, Goal, SamplerKind, TrialConfiguration } from '../study/definition.js';
+import type { MetricName, Goal, TrialConfiguration } from '../core/configuration.js';
+import { samplerTraits } from '../samplers/index.js';
+import type { SamplerKind } from '../study/definition.js';
 import type { StudyDocument } from '../store/types.js';
 
 /** Metric names as a reader says them, with units where the metric has one. */
@@ -24,11 +26,9 @@ export function metricLabel(metric: MetricName): string {
   return metric === 'validationLoss' ? METRIC_LABELS.validationLoss : `validation ${METRIC_LABELS[metric]}`;
 }
 
-const HALVING_KINDS: ReadonlySet<SamplerKind> = new Set(['successive-halving', 'hyperband', 'async-halving', 'tpe-hyperband']);
-
 /** True for samplers that stop trials at rungs (their trials carry meaningful rung numbers). */
 export function isHalving(kind: SamplerKind): boolean {
-  return HALVING_KINDS.has(kind);
+  return samplerTraits(kind).stopsAtRungs;
 }
 
 /** How a hyperparameter is laid out on an axis. */
@@ -65,7 +65,7 @@ export function parameterAxes(study: StudyDocument): ParameterAxis[] {
   ];
 }
 
-/** The learning-rate schedule's settings, when the space has a schedule (src/train/schedule.ts). */
+/** The learning-rate schedule's settings, when the space has a schedule (src/core/schedule.ts). */
 function scheduleAxes(study: StudyDocument): ParameterAxis[] {
   const schedule = study.definition.space.schedule;
   if (!schedule) return [];

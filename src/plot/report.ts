@@ -1,6 +1,7 @@
-import { scheduleInWords } from '../train/schedule.js';
+import { scheduleInWords } from '../core/schedule.js';
 import { formatNumber } from '../report/format.js';
-import type { StudyDocument, TrialRecord } from '../store/types.js';
+import type { StudyDocument } from '../store/types.js';
+import type { TrialRecord } from '../core/trial.js';
 import { OPTIMISM_CAUTION } from '../report/caution.js';
 import { goalLabel } from './labels.js';
 import { escapeHtml } from './html.js';

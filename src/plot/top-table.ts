@@ -1,9 +1,10 @@
-import { scheduleInWords } from '../train/schedule.js';
+import { scheduleInWords } from '../core/schedule.js';
 import { formatNumber } from '../report/format.js';
 import { scoreText } from '../report/ranking-table.js';
-import type { StudyDocument, TrialRecord } from '../store/types.js';
-import type { MetricName } from '../study/definition.js';
-import { rankTrials } from '../study/objective.js';
+import type { StudyDocument } from '../store/types.js';
+import type { TrialRecord } from '../core/trial.js';
+import type { MetricName } from '../core/configuration.js';
+import { rankTrials } from '../core/ranking.js';
 import { WINNER_SYMBOL } from './palette.js';
 
 /** Configurations listed at the top of the report. */

@@ -2,10 +2,11 @@
  * The per-class report of one trial, as `ranking --json`, the HTML report and `export` show it:
  * the validation confusion matrix with the class labels, precision, recall, F1 and average
  * precision per class, and the trial's precision-recall AUC. One shape, built from the figures the
- * study file keeps (src/train/class-figures.ts).
+ * study file keeps (src/metrics/class-figures.ts).
  */
-import type { Task } from '../study/definition.js';
-import { perClassFigures, summaryAveragePrecision, type ClassFigureRow, type ClassFigures } from '../train/class-figures.js';
+import type { Task } from '../core/configuration.js';
+import { perClassFigures, summaryAveragePrecision, type ClassFigureRow } from '../metrics/class-figures.js';
+import type { ClassFigures } from '../core/class-figures.js';
 
 export interface ClassReport {
   /** The epoch the figures describe. */

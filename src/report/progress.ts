@@ -1,7 +1,7 @@
 import type { StudyEvent, StudyObserver } from '../runner/events.js';
 import type { Job } from '../samplers/sampler.js';
-import type { TrialRecord } from '../store/types.js';
-import type { Goal } from '../study/definition.js';
+import type { TrialRecord } from '../core/trial.js';
+import type { Goal } from '../core/configuration.js';
 import type { PlannedWork } from './budget.js';
 import { formatDuration, formatNumber } from './format.js';
 import { fitLine, type LineSegment } from './progress-line.js';

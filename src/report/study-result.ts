@@ -1,6 +1,7 @@
-import type { RankedTrial } from '../study/objective.js';
-import type { StudyDocument, TrialRecord, TrialStatus } from '../store/types.js';
-import type { Goal, TrialConfiguration } from '../study/definition.js';
+import type { RankedTrial } from '../core/ranking.js';
+import type { StudyDocument } from '../store/types.js';
+import type { TrialRecord, TrialStatus } from '../core/trial.js';
+import type { Goal, TrialConfiguration } from '../core/configuration.js';
 import { trialClassReport, type ClassReport } from './class-report.js';
 import { rankingTable } from './ranking-table.js';
 import { OPTIMISM_CAUTION } from './caution.js';

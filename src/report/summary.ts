@@ -1,5 +1,5 @@
 import type { StudyDocument } from '../store/types.js';
-import { unsuccessfulTrials } from '../study/trial-status.js';
+import { unsuccessfulTrials } from '../core/trial-status.js';
 import { OPTIMISM_CAUTION } from './caution.js';
 import { formatDuration, formatNumber } from './format.js';
 

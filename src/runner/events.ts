@@ -1,7 +1,8 @@
 import type { Job } from '../samplers/sampler.js';
-import type { RankedTrial } from '../study/objective.js';
-import type { StudyDocument, TrialRecord } from '../store/types.js';
-import type { EpochReport } from '../transport/types.js';
+import type { RankedTrial } from '../core/ranking.js';
+import type { StudyDocument } from '../store/types.js';
+import type { TrialRecord } from '../core/trial.js';
+import type { EpochReport } from '../core/job.js';
 
 /** How far a study has come, counted the same way for every sampler. */
 export interface StudyProgress {

@@ -3,20 +3,21 @@ import { availableParallelism } from 'node:os';
 import { FolderCheckpointStore } from '../checkpoints/folder-store.js';
 import type { CheckpointStore } from '../checkpoints/store.js';
 import { datasetId } from '../data/dataset-id.js';
-import { hasSchedule } from '../train/schedule.js';
+import { hasSchedule } from '../core/schedule.js';
 import { toSharedDataset } from '../data/index.js';
 import type { PreparedData } from '../data/types.js';
-import { studyStoppedError } from '../errors.js';
+import { studyStoppedError } from '../core/errors.js';
 import { createSampler, plannedBudget, replay } from '../samplers/index.js';
 import type { Job, JobOutcome } from '../samplers/sampler.js';
-import type { Goal } from '../study/definition.js';
-import { orientedLoss, rankTrials, type RankedTrial } from '../study/objective.js';
+import type { Goal } from '../core/configuration.js';
+import { orientedLoss, rankTrials, type RankedTrial } from '../core/ranking.js';
 import type { StudyStore } from '../store/study-store.js';
-import type { StudyDocument, TrialRecord } from '../store/types.js';
-import { ThreadTransport, type FaultInjector } from '../transport/threads.js';
-import { FoldsTransport } from '../transport/folds.js';
-import type { TrialTransport } from '../transport/transport.js';
-import type { SharedDataset } from '../transport/types.js';
+import type { StudyDocument } from '../store/types.js';
+import type { TrialRecord } from '../core/trial.js';
+import { ThreadTransport, type FaultInjector } from '../transports/threads/transport.js';
+import { FoldsTransport } from '../transports/folds.js';
+import type { TrialTransport } from '../transports/transport.js';
+import type { SharedDataset } from '../core/job.js';
 import { CheckpointKeeper } from './checkpoint-keeper.js';
 import type { StudyObserver } from './events.js';
 import { TrialLifecycle, type JobFailure } from './lifecycle.js';
@@ -96,9 +97,9 @@ function defaultTransport(options: ExecuteOptions): (context: TransportContext) 
  * or permission stops the study with a one-line error (exit code 1) naming the path, the cause and the
  * resume command; every trial saved before it is kept and no trial is marked failed for it.
  */
-export async function executeStudy(store: StudyStore, data: PreparedData, options: ExecuteOptions = {}): Promise<StudyOutcome> {
+export async function executeStudy(store: StudyStore, data: PreparedData, options: ExecuteOptions = {}, notes: readonly string[] = []): Promise<StudyOutcome> {
   try {
-    return await drive(store, data, options);
+    return await drive(store, data, options, notes);
   } catch (error) {
     throw studyStoppedError(error, store.dir) ?? error;
   }
@@ -110,7 +111,7 @@ export async function executeStudy(store: StudyStore, data: PreparedData, option
  * stopped run again, from their checkpoint when it stands where they started, else from epoch 0
  * (training is deterministic, so the result is the same).
  */
-async function drive(store: StudyStore, data: PreparedData, options: ExecuteOptions): Promise<StudyOutcome> {
+async function drive(store: StudyStore, data: PreparedData, options: ExecuteOptions, resumeNotes: readonly string[]): Promise<StudyOutcome> {
   const doc = store.doc;
   const { definition, goal } = doc;
   const resumed = doc.trials.length > 0;
@@ -160,7 +161,7 @@ async function drive(store: StudyStore, data: PreparedData, options: ExecuteOpti
   doc.state = 'running';
   await store.save();
   emit({ type: 'study-started', name: doc.name, dir: store.dir, workers, plannedTrials: planned.trials, plannedEpochs: planned.epochs, resumed, progress: lifecycle.progress() });
-  for (const message of store.notes) note(message);
+  for (const message of [...store.notes, ...resumeNotes]) note(message);
 
   const inner = (options.transport ?? defaultTransport(options))({ workers });
   // k-fold: every job runs once per fold on the inner transport; the run loop sees one job and the fold mean.

@@ -5,11 +5,13 @@
  */
 import { trialSeed } from '../random/streams.js';
 import type { Job, Sampler } from '../samplers/sampler.js';
-import type { Goal, StudyDefinition } from '../study/definition.js';
-import { orientedLoss, scoredEpochs } from '../study/objective.js';
-import { isEnded } from '../study/trial-status.js';
-import type { JobRecord, StudyDocument, TrialRecord } from '../store/types.js';
-import type { TrainResult } from '../transport/types.js';
+import type { Goal } from '../core/configuration.js';
+import type { StudyDefinition } from '../study/definition.js';
+import { orientedLoss, scoredEpochs } from '../core/ranking.js';
+import { isEnded } from '../core/trial-status.js';
+import type { JobRecord, TrialRecord } from '../core/trial.js';
+import type { StudyDocument } from '../store/types.js';
+import type { TrainResult } from '../core/job.js';
 import type { StudyProgress } from './events.js';
 import { applyResult, newTrialRecord } from './trial-records.js';
 

@@ -4,8 +4,8 @@
  * the study file counts on.
  */
 import type { Sampler } from '../samplers/sampler.js';
-import { rankTrials, type RankedTrial } from '../study/objective.js';
-import { isActive } from '../study/trial-status.js';
+import { rankTrials, type RankedTrial } from '../core/ranking.js';
+import { isActive } from '../core/trial-status.js';
 import type { StudyStore } from '../store/study-store.js';
 import { KEPT_CHECKPOINTS, type CheckpointKeeper } from './checkpoint-keeper.js';
 

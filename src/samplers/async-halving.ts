@@ -1,7 +1,8 @@
 import { z } from 'zod';
-import { halvingFields } from '../study/fields.js';
+import { halvingFields } from '../core/fields.js';
 import { checkHalvingBudget } from './successive-halving.js';
 import { defineSampler, type Job, type JobOutcome, type Sampler } from './sampler.js';
+import { bracketsPlan, EMPTY_PLAN } from './plan.js';
 import { assertPositiveInteger, isPromotable, rank, resultsOf, rungEpochs, type ParamsForTrial } from './rungs.js';
 
 export interface AsyncHalvingOptions {
@@ -144,22 +145,21 @@ export const asyncHalvingPlugin = defineSampler({
   kind: 'async-halving',
   summary: 'promotes the top 1/eta of each rung as soon as results allow, so no worker waits (Li et al. 2020); order-dependent',
   schema: z.strictObject({ kind: z.literal('async-halving'), ...halvingFields }),
-  traits: { deterministic: false },
+  traits: { deterministic: false, stopsAtRungs: true, trialsFromBudget: true },
   create: (options, context) => {
     checkHalvingBudget(options, context.budget);
     return new AsyncHalvingSampler({ ...options, trials: context.budget.trials, maxEpochs: context.budget.maxEpochs, paramsFor: context.randomParams });
   },
   plan: (options, budget) => {
-    if (options.minEpochs > budget.maxEpochs) return { trials: 0, epochs: 0 };
+    if (options.minEpochs > budget.maxEpochs) return EMPTY_PLAN;
     // An estimate: the synchronous schedule, floor(n_k / eta) trials leaving rung k. Asynchronous promotion
     // can promote more (a trial promoted early stays promoted when later results push it out of the top).
     const rungs = rungEpochs(options.minEpochs, budget.maxEpochs, options.eta);
     let reaching = budget.trials;
-    let epochs = 0;
-    rungs.forEach((end, k) => {
+    const rounds = rungs.map((epochs, k) => {
       if (k > 0) reaching = Math.floor(reaching / options.eta);
-      epochs += reaching * (end - (k > 0 ? rungs[k - 1]! : 0));
+      return { configurations: reaching, epochs };
     });
-    return { trials: budget.trials, epochs };
+    return bracketsPlan([rounds], 1, true);
   },
 });

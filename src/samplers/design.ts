@@ -6,7 +6,8 @@
 import type { Rng } from '../random/streams.js';
 import { paramsAt, snap, spaceDimensions, type Dimension } from '../space/dimensions.js';
 import { SobolSequence, digitalShift } from '../space/sobol.js';
-import type { SearchSpace, TrialConfiguration } from '../study/definition.js';
+import type { SearchSpace } from '../space/schema.js';
+import type { TrialConfiguration } from '../core/configuration.js';
 
 export interface UnitDesign {
   dimensions: readonly Dimension[];

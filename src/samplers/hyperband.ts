@@ -1,7 +1,10 @@
 import { z } from 'zod';
-import { halvingFields } from '../study/fields.js';
-import { defineSampler, type Job, type JobOutcome, type ProposalOrigin, type Sampler } from './sampler.js';
-import { HalvingBracket, checkHalvingBudget, type RungPlan } from './successive-halving.js';
+import { halvingFields } from '../core/fields.js';
+import { defineSampler, type Job, type JobOutcome, type Sampler } from './sampler.js';
+import { bracketsPlan, EMPTY_PLAN } from './plan.js';
+import type { ProposalOrigin } from '../core/trial.js';
+import { HalvingBracket, checkHalvingBudget } from './successive-halving.js';
+import type { RungPlan } from './plan.js';
 import { assertEta, assertPositiveInteger, type ParamsForTrial } from './rungs.js';
 
 /** One Hyperband bracket: its index s (s_max runs first) and its rounds of successive halving. */
@@ -59,11 +62,6 @@ export function hyperbandSchedule(maxEpochs: number, eta: number, minEpochs = 1)
 /** Sum of configurations times epochs over the rounds: the paper's budget, counting each round from scratch. */
 export function scheduledEpochs(rounds: readonly RungPlan[]): number {
   return rounds.reduce((sum, round) => sum + round.configurations * round.epochs, 0);
-}
-
-/** Epochs actually trained when promoted trials continue from their checkpoint (each round adds only the difference). */
-export function trainedEpochs(rounds: readonly RungPlan[]): number {
-  return rounds.reduce((sum, round, i) => sum + round.configurations * (round.epochs - (i > 0 ? rounds[i - 1]!.epochs : 0)), 0);
 }
 
 export interface HyperbandOptions {
@@ -160,17 +158,13 @@ export const hyperbandPlugin = defineSampler({
   kind: 'hyperband',
   summary: 'brackets of successive halving that trade many short trials against few long ones (Li et al. 2018); ignores budget.trials',
   schema: z.strictObject({ kind: z.literal('hyperband'), ...halvingFields }),
-  traits: { deterministic: true },
+  traits: { deterministic: true, stopsAtRungs: true, trialsFromBudget: false },
   create: (options, context) => {
     checkHalvingBudget(options, context.budget);
     return new HyperbandSampler({ ...options, maxEpochs: context.budget.maxEpochs, paramsFor: context.randomParams });
   },
   plan: (options, budget) => {
-    if (options.minEpochs > budget.maxEpochs) return { trials: 0, epochs: 0 };
-    const brackets = hyperbandSchedule(budget.maxEpochs, options.eta, options.minEpochs);
-    return {
-      trials: brackets.reduce((sum, bracket) => sum + bracket.rounds[0]!.configurations, 0),
-      epochs: brackets.reduce((sum, bracket) => sum + trainedEpochs(bracket.rounds), 0),
-    };
+    if (options.minEpochs > budget.maxEpochs) return EMPTY_PLAN;
+    return bracketsPlan(hyperbandSchedule(budget.maxEpochs, options.eta, options.minEpochs).map((bracket) => bracket.rounds));
   },
 });

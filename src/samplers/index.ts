@@ -1,18 +1,23 @@
 import { paramsForTrial } from '../space/sample.js';
-import type { StudyDefinition } from '../study/definition.js';
+import type { Budget } from '../core/budget.js';
+import type { SearchSpace } from '../space/schema.js';
 import { stream } from '../random/streams.js';
-import { SAMPLER_PLUGINS } from './registry.js';
-import type { Sampler, SamplerContext, SamplerPlugin } from './sampler.js';
+import type { SamplerPlan } from './plan.js';
+import { SAMPLER_PLUGINS, type SamplerSettings } from './registry.js';
+import type { Sampler, SamplerContext, SamplerPlugin, SamplerTraits } from './sampler.js';
 
-export type { Job, JobOutcome, ProposalOrigin, Sampler, SamplerContext, SamplerPlugin, SamplerTraits } from './sampler.js';
+export { EMPTY_PLAN, type SamplerPlan } from './plan.js';
+export type { Job, JobOutcome, Sampler, SamplerContext, SamplerPlugin, SamplerTraits } from './sampler.js';
+export type { ProposalOrigin } from '../core/trial.js';
 export { defineSampler } from './sampler.js';
 export { SAMPLER_PLUGINS, samplerSchema } from './registry.js';
 export { AsyncHalvingSampler } from './async-halving.js';
-export { HyperbandSampler, hyperbandSchedule, largestBracket, scheduledEpochs, trainedEpochs } from './hyperband.js';
+export { HyperbandSampler, hyperbandSchedule, largestBracket, scheduledEpochs } from './hyperband.js';
+export { trainedEpochs } from './plan.js';
 export type { HyperbandBracketPlan } from './hyperband.js';
 export { RandomSampler } from './random.js';
 export { HalvingBracket, SuccessiveHalvingSampler, halvingSchedule } from './successive-halving.js';
-export type { RungPlan } from './successive-halving.js';
+export type { RungPlan } from './plan.js';
 export { replay, type ReplayResult } from './replay.js';
 export { TpeSampler, type TpeSamplerOptions } from './tpe.js';
 export { TpeHyperbandSampler, type TpeHyperbandOptions } from './tpe-hyperband.js';
@@ -21,7 +26,12 @@ export { spaceDesign, sobolDesign, type UnitDesign } from './design.js';
 export { simulate, type SimulationLog, type SimulationOptions } from './simulate.js';
 export { compareResults, rungEpochs } from './rungs.js';
 
-type SamplerDefinition = Pick<StudyDefinition, 'space' | 'budget' | 'sampler'>;
+/** What a study gives its sampler: the search space, the budget and the study file's `sampler` object. */
+export interface SamplerDefinition {
+  space: SearchSpace;
+  budget: Budget;
+  sampler: SamplerSettings;
+}
 
 /** The registered plugin of a sampler kind. */
 export function samplerPlugin(kind: string): SamplerPlugin {
@@ -43,17 +53,22 @@ export function samplerContext(definition: SamplerDefinition): SamplerContext {
   };
 }
 
+/** What the sampler kind promises and how it works (see {@link SamplerTraits}). */
+export function samplerTraits(kind: string): SamplerTraits {
+  return samplerPlugin(kind).traits;
+}
+
 /** A fresh sampler of the kind the study definition names. */
 export function createSampler(definition: SamplerDefinition): Sampler {
   return samplerPlugin(definition.sampler.kind).create(definition.sampler, samplerContext(definition));
 }
 
-/** Configurations and epochs the study's sampler runs at most (0 and 0 when its options do not fit the budget). */
-export function plannedBudget(definition: Pick<StudyDefinition, 'budget' | 'sampler'>): { trials: number; epochs: number } {
+/** The work the study's sampler plans for its budget, as the sampler kind itself says (nothing when its options do not fit). */
+export function plannedBudget(definition: Pick<SamplerDefinition, 'budget' | 'sampler'>): SamplerPlan {
   return samplerPlugin(definition.sampler.kind).plan(definition.sampler, definition.budget);
 }
 
 /** Configurations the study's sampler will start (Hyperband derives its own count and ignores budget.trials). */
-export function plannedTrialCount(definition: Pick<StudyDefinition, 'budget' | 'sampler'>): number {
+export function plannedTrialCount(definition: Pick<SamplerDefinition, 'budget' | 'sampler'>): number {
   return plannedBudget(definition).trials;
 }

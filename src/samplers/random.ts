@@ -1,6 +1,8 @@
 import { z } from 'zod';
-import { seedField } from '../study/fields.js';
-import { defineSampler, type Job, type JobOutcome, type ProposalOrigin, type Sampler } from './sampler.js';
+import { seedField } from '../core/fields.js';
+import { defineSampler, type Job, type JobOutcome, type Sampler } from './sampler.js';
+import { oneJobEachPlan } from './plan.js';
+import type { ProposalOrigin } from '../core/trial.js';
 import { assertPositiveInteger, type ParamsForTrial } from './rungs.js';
 
 export interface RandomSamplerOptions {
@@ -53,7 +55,7 @@ export const randomPlugin = defineSampler({
   kind: 'random',
   summary: 'every trial trains maxEpochs; configurations drawn at random (Bergstra and Bengio 2012)',
   schema: z.strictObject({ kind: z.literal('random'), seed: seedField.default(0) }),
-  traits: { deterministic: true },
+  traits: { deterministic: true, stopsAtRungs: false, trialsFromBudget: true },
   create: (_options, context) => new RandomSampler({ trials: context.budget.trials, maxEpochs: context.budget.maxEpochs, paramsFor: context.randomParams }),
-  plan: (_options, budget) => ({ trials: budget.trials, epochs: budget.trials * budget.maxEpochs }),
+  plan: (_options, budget) => oneJobEachPlan(budget),
 });

@@ -33,3 +33,6 @@ export const SAMPLER_PLUGINS = [
   tpePlugin,
   tpeHyperbandPlugin,
 ] as const;
+
+/** The study file's `sampler` object, validated, with its kind's defaults applied. */
+export type SamplerSettings = z.output<typeof samplerSchema>;

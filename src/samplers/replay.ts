@@ -1,6 +1,6 @@
 import { isDeepStrictEqual } from 'node:util';
-import { UserError } from '../errors.js';
-import type { TrialConfiguration } from '../study/definition.js';
+import { UserError } from '../core/errors.js';
+import type { TrialConfiguration } from '../core/configuration.js';
 import type { Job, JobOutcome, Sampler } from './sampler.js';
 
 /** What a resumed study must do after {@link replay}. */

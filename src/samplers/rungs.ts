@@ -1,4 +1,4 @@
-import type { TrialConfiguration } from '../study/definition.js';
+import type { TrialConfiguration } from '../core/configuration.js';
 
 /** Gives the configuration of a trial id; samplers never draw parameters themselves. */
 export type ParamsForTrial = (trialId: number) => TrialConfiguration;

@@ -1,16 +1,10 @@
 import type { z } from 'zod';
+import type { ProposalOrigin } from '../core/trial.js';
+import type { SamplerPlan } from './plan.js';
 import type { Rng } from '../random/streams.js';
-import type { Budget, SearchSpace, TrialConfiguration } from '../study/definition.js';
-
-/** Which model or design proposed a configuration, recorded per trial (e.g. to show when a search began to exploit). */
-export interface ProposalOrigin {
-  /** E.g. `random`, `sobol`, `tpe`. */
-  method: string;
-  /** Batch of proposals the configuration belongs to, for samplers that propose in batches. */
-  batch?: number;
-  /** Epochs of the results the model was fitted on (model-based samplers inside Hyperband). */
-  fittedOnEpochs?: number;
-}
+import type { Budget } from '../core/budget.js';
+import type { SearchSpace } from '../space/schema.js';
+import type { TrialConfiguration } from '../core/configuration.js';
 
 /** A unit of work: train one configuration from one epoch count to another. */
 export interface Job {
@@ -70,6 +64,10 @@ export interface SamplerContext {
 export interface SamplerTraits {
   /** The same jobs with 1 or N workers and after an interruption at any job boundary. */
   deterministic: boolean;
+  /** Stops trials at rungs and promotes the best (its trials' rung numbers mean something). */
+  stopsAtRungs: boolean;
+  /** Starts `budget.trials` configurations; false: derives its count from its brackets (from `budget.maxEpochs`). */
+  trialsFromBudget: boolean;
 }
 
 /** The zod schema of one sampler kind's `sampler` object. */
@@ -94,7 +92,7 @@ export interface SamplerPlugin<Schema extends SamplerSchema = SamplerSchema> {
    * or, for a sampler whose decisions depend on the order results arrive (`traits.deterministic` false),
    * an estimate that the run may exceed.
    */
-  plan(options: z.output<Schema>, budget: Budget): { trials: number; epochs: number };
+  plan(options: z.output<Schema>, budget: Budget): SamplerPlan;
 }
 
 /** Declare a sampler kind with its types checked against its schema. */

@@ -1,8 +1,9 @@
 import { z } from 'zod';
-import { seedField } from '../study/fields.js';
+import { seedField } from '../core/fields.js';
 import { SOBOL_SCRAMBLES, sobolDesign, spaceDesign } from './design.js';
 import { RandomSampler } from './random.js';
 import { defineSampler } from './sampler.js';
+import { oneJobEachPlan } from './plan.js';
 
 /**
  * `sampler.kind: "sobol"`: like random search (every trial one job of maxEpochs), but trial k trains
@@ -17,7 +18,7 @@ export const sobolPlugin = defineSampler({
     seed: seedField.default(0),
     scramble: z.enum(SOBOL_SCRAMBLES).default('shift').describe('shift: XOR a random digital shift drawn from the seed into every point; none: the plain sequence from the origin.'),
   }),
-  traits: { deterministic: true },
+  traits: { deterministic: true, stopsAtRungs: false, trialsFromBudget: true },
   create: (options, context) => {
     const design = spaceDesign(context.space);
     const pointAt = sobolDesign(design.dimensions, options.scramble, context.stream('design'));
@@ -28,6 +29,6 @@ export const sobolPlugin = defineSampler({
       originFor: () => ({ method: 'sobol' }),
     });
   },
-  plan: (_options, budget) => ({ trials: budget.trials, epochs: budget.trials * budget.maxEpochs }),
+  plan: (_options, budget) => oneJobEachPlan(budget),
 });
 

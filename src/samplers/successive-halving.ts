@@ -1,14 +1,10 @@
 import { z } from 'zod';
-import { UserError } from '../errors.js';
-import { halvingFields } from '../study/fields.js';
-import { defineSampler, type Job, type JobOutcome, type ProposalOrigin, type Sampler } from './sampler.js';
+import { UserError } from '../core/errors.js';
+import { halvingFields } from '../core/fields.js';
+import { defineSampler, type Job, type JobOutcome, type Sampler } from './sampler.js';
+import { bracketsPlan, EMPTY_PLAN, type RungPlan } from './plan.js';
+import type { ProposalOrigin } from '../core/trial.js';
 import { assertEta, assertPositiveInteger, isPromotable, rank, resultsOf, rungEpochs, type ParamsForTrial } from './rungs.js';
-
-/** One rung of a plan: how many configurations train, and to how many epochs in all. */
-export interface RungPlan {
-  configurations: number;
-  epochs: number;
-}
 
 /**
  * The successive-halving plan for n configurations starting at r epochs, with at most R epochs:
@@ -161,11 +157,6 @@ export class SuccessiveHalvingSampler extends HalvingBracket {
   }
 }
 
-/** Epochs a plan trains when each promoted trial continues from its checkpoint (a rung adds only the difference). */
-export function planEpochs(plan: readonly RungPlan[]): number {
-  return plan.reduce((sum, rung, k) => sum + rung.configurations * (rung.epochs - (k > 0 ? plan[k - 1]!.epochs : 0)), 0);
-}
-
 /** The cross-field rule of every halving sampler: its first rung cannot train more than the budget allows. */
 export function checkHalvingBudget(options: { minEpochs: number }, budget: { maxEpochs: number }): void {
   if (options.minEpochs > budget.maxEpochs) {
@@ -181,13 +172,13 @@ export const successiveHalvingPlugin = defineSampler({
   kind: 'successive-halving',
   summary: 'budget.trials configurations from minEpochs; the best 1/eta of each full rung go on (Jamieson and Talwalkar 2016)',
   schema: z.strictObject({ kind: z.literal('successive-halving'), ...halvingFields }),
-  traits: { deterministic: true },
+  traits: { deterministic: true, stopsAtRungs: true, trialsFromBudget: true },
   create: (options, context) => {
     checkHalvingBudget(options, context.budget);
     return new SuccessiveHalvingSampler({ ...options, trials: context.budget.trials, maxEpochs: context.budget.maxEpochs, paramsFor: context.randomParams });
   },
   plan: (options, budget) => {
-    if (options.minEpochs > budget.maxEpochs) return { trials: 0, epochs: 0 };
-    return { trials: budget.trials, epochs: planEpochs(halvingSchedule(budget.trials, options.minEpochs, budget.maxEpochs, options.eta)) };
+    if (options.minEpochs > budget.maxEpochs) return EMPTY_PLAN;
+    return bracketsPlan([halvingSchedule(budget.trials, options.minEpochs, budget.maxEpochs, options.eta)]);
   },
 });

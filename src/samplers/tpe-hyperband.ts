@@ -1,10 +1,12 @@
 import { z } from 'zod';
 import type { Rng } from '../random/streams.js';
 import { snap } from '../space/dimensions.js';
-import { halvingFields } from '../study/fields.js';
+import { halvingFields } from '../core/fields.js';
 import { spaceDesign, type UnitDesign } from './design.js';
-import { HyperbandSampler, hyperbandSchedule, trainedEpochs } from './hyperband.js';
-import { defineSampler, type Job, type JobOutcome, type ProposalOrigin, type Sampler } from './sampler.js';
+import { HyperbandSampler, hyperbandSchedule } from './hyperband.js';
+import { defineSampler, type Job, type JobOutcome, type Sampler } from './sampler.js';
+import { bracketsPlan, EMPTY_PLAN } from './plan.js';
+import type { ProposalOrigin } from '../core/trial.js';
 import { checkHalvingBudget } from './successive-halving.js';
 import { TpeModel, modelFields, type Observation, type TpeModelSettings } from './tpe-model.js';
 
@@ -140,7 +142,7 @@ export const tpeHyperbandPlugin = defineSampler({
     overlapBrackets: z.boolean().default(true).describe('Let a bracket run beside the previous one (its model then skips that bracket).'),
     ...modelFields(BOHB_MODEL_DEFAULTS),
   }),
-  traits: { deterministic: true },
+  traits: { deterministic: true, stopsAtRungs: true, trialsFromBudget: false },
   create: (options, context) => {
     checkHalvingBudget(options, context.budget);
     const design = spaceDesign(context.space);
@@ -158,11 +160,10 @@ export const tpeHyperbandPlugin = defineSampler({
     });
   },
   plan: (options, budget) => {
-    if (options.minEpochs > budget.maxEpochs) return { trials: 0, epochs: 0 };
-    const brackets = hyperbandSchedule(budget.maxEpochs, options.eta, options.minEpochs);
-    return {
-      trials: options.iterations * brackets.reduce((sum, bracket) => sum + bracket.rounds[0]!.configurations, 0),
-      epochs: options.iterations * brackets.reduce((sum, bracket) => sum + trainedEpochs(bracket.rounds), 0),
-    };
+    if (options.minEpochs > budget.maxEpochs) return EMPTY_PLAN;
+    return bracketsPlan(
+      hyperbandSchedule(budget.maxEpochs, options.eta, options.minEpochs).map((bracket) => bracket.rounds),
+      options.iterations,
+    );
   },
 });

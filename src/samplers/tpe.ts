@@ -1,8 +1,10 @@
 import { z } from 'zod';
 import type { Rng } from '../random/streams.js';
-import { seedField } from '../study/fields.js';
+import { seedField } from '../core/fields.js';
 import { sobolDesign, spaceDesign, type UnitDesign } from './design.js';
-import { defineSampler, type Job, type JobOutcome, type ProposalOrigin, type Sampler } from './sampler.js';
+import { defineSampler, type Job, type JobOutcome, type Sampler } from './sampler.js';
+import { oneJobEachPlan } from './plan.js';
+import type { ProposalOrigin } from '../core/trial.js';
 import { assertPositiveInteger } from './rungs.js';
 import { TpeModel, modelFields, type Observation, type TpeModelSettings } from './tpe-model.js';
 
@@ -135,7 +137,7 @@ export const tpePlugin = defineSampler({
     ...modelFields(TPE_MODEL_DEFAULTS),
   }),
   // In the default batch mode; `asynchronous: true` gives up this promise (see TpeSampler).
-  traits: { deterministic: true },
+  traits: { deterministic: true, stopsAtRungs: false, trialsFromBudget: true },
   create: (options, context) => {
     const design = spaceDesign(context.space);
     return new TpeSampler({
@@ -150,5 +152,5 @@ export const tpePlugin = defineSampler({
       proposalStream: (trialId) => context.stream('propose', trialId),
     });
   },
-  plan: (_options, budget) => ({ trials: budget.trials, epochs: budget.trials * budget.maxEpochs }),
+  plan: (_options, budget) => oneJobEachPlan(budget),
 });

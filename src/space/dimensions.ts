@@ -7,7 +7,8 @@
  * coordinate falls in one of `choices.length` equal cells. The mapping from a coordinate to a value is
  * the same as random drawing's (`sample.ts`), so a uniform point gives a uniformly drawn configuration.
  */
-import type { SearchSpace, TrialConfiguration } from '../study/definition.js';
+import type { SearchSpace } from './schema.js';
+import type { TrialConfiguration } from '../core/configuration.js';
 import { choose, drawInteger, logUniform, uniform, type ScheduleSetting } from './sample.js';
 
 export interface NumericDimension {

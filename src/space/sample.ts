@@ -1,4 +1,5 @@
-import type { SearchSpace, TrialConfiguration } from '../study/definition.js';
+import type { SearchSpace } from './schema.js';
+import type { TrialConfiguration } from '../core/configuration.js';
 import { stream, type Rng } from '../random/streams.js';
 
 /**

@@ -1,6 +1,6 @@
 import { open, readFile, truncate } from 'node:fs/promises';
-import { UserError } from '../errors.js';
-import type { CurvePoint } from './types.js';
+import { UserError } from '../core/errors.js';
+import type { CurvePoint } from '../core/trial.js';
 
 /** One line of the curve log: a trial's whole curve as of that moment (a later line for the same trial wins). */
 export interface CurveRecord {

@@ -1,7 +1,7 @@
 import { link, readFile, unlink } from 'node:fs/promises';
 import { writeFileDurably } from '../files/durable-write.js';
 import type { Adapter } from 'lowdb';
-import { UserError } from '../errors.js';
+import { UserError } from '../core/errors.js';
 
 /**
  * Test-only: `RUNGWISE_STORE_CRASH="after-link:3"` kills the process at that point of the third

@@ -2,7 +2,7 @@ import { readFile, rm, writeFile } from 'node:fs/promises';
 import { hostname } from 'node:os';
 import path from 'node:path';
 import lockfile from 'proper-lockfile';
-import { UserError } from '../errors.js';
+import { UserError } from '../core/errors.js';
 
 const LOCK_NAME = 'study.lock';
 const OWNER_NAME = 'study.owner.json';

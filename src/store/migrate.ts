@@ -3,8 +3,10 @@
  * they are opened. Migration works on the document in memory; only a command that saves the study
  * (`resume`) writes the result, so read-only commands leave an old file as it was.
  */
-import type { Goal, StudyDefinition, TrialConfiguration } from '../study/definition.js';
-import type { JobRecord, StudyDocument, TrialRecord, TrialStatus } from './types.js';
+import type { Goal, TrialConfiguration } from '../core/configuration.js';
+import type { StudyDefinition } from '../study/definition.js';
+import type { JobRecord, TrialRecord, TrialStatus } from '../core/trial.js';
+import type { StudyDocument } from './types.js';
 
 /** The study file format this rungwise writes. */
 export const STUDY_FORMAT_VERSION = 3;

@@ -9,7 +9,7 @@
  */
 import { readFile } from 'node:fs/promises';
 import type { PreparedData } from '../data/types.js';
-import { UserError } from '../errors.js';
+import { UserError } from '../core/errors.js';
 import { writeFileDurably } from '../files/durable-write.js';
 import type { DataSettings } from '../study/definition.js';
 import { runPaths } from './run-dir.js';

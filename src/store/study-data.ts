@@ -4,7 +4,7 @@ import { dataHashes } from '../data/dataset-id.js';
 import type { DataLoadOptions } from '../data/events.js';
 import { prepareData } from '../data/index.js';
 import type { PreparedData } from '../data/types.js';
-import { UserError } from '../errors.js';
+import { UserError } from '../core/errors.js';
 import type { StudyDocument } from './types.js';
 
 /** The CSV a study definition names, as an absolute path. */

@@ -3,7 +3,8 @@ import path from 'node:path';
 import type { Adapter } from 'lowdb';
 import { CurveLog, type CurveRecord } from './curve-log.js';
 import { DurableJsonFile } from './file-adapter.js';
-import type { CurvePoint, StudyDocument, TrialRecord } from './types.js';
+import type { CurvePoint, TrialRecord } from '../core/trial.js';
+import type { StudyDocument } from './types.js';
 
 /** Name of the curve log inside a run directory. */
 
@@ -43,7 +44,7 @@ export class StudyFileAdapter implements Adapter<StudyDocument> {
       this.written.set(trial.id, { length: curve.length, last: curve.at(-1) });
       const expected = trial.status === 'diverged' ? trial.epochsTrained : trial.status === 'training' ? 0 : trial.epochsTrained;
       if (curve.length < expected) {
-        this.notes.push(`${this.curves.file}: trial ${trial.id} has ${curve.length} of its ${expected} epochs recorded (the rest of its curve was lost); its recorded score stands`);
+        this.notes.push(`${this.curves.file}: trial ${trial.id} has ${curve.length} of its ${expected} epochs recorded (the rest of its curve was lost); resume runs its last job again when only that job's epochs are missing`);
       }
       return { ...trial, curve };
     });

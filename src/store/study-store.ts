@@ -1,7 +1,7 @@
 import { mkdir, stat } from 'node:fs/promises';
 import path from 'node:path';
 import { Low } from 'lowdb';
-import { UserError } from '../errors.js';
+import { UserError } from '../core/errors.js';
 import { READABLE_VERSIONS, migrateStudyDocument } from './migrate.js';
 import { STUDY_FILE_NAME, runPaths } from './run-dir.js';
 import { StudyFileAdapter } from './study-file.js';

@@ -1,6 +1,6 @@
 import { availableParallelism, freemem } from 'node:os';
-import { UserError } from '../errors.js';
-import { plannedTrialCount } from '../samplers/index.js';
+import { UserError } from '../core/errors.js';
+import { plannedTrialCount, samplerTraits } from '../samplers/index.js';
 import type { StudyDefinition } from './definition.js';
 
 /**
@@ -83,8 +83,9 @@ export function checkCapacity(input: CapacityInput, file: string): void {
   const perTrial = TRIAL_RECORD_BYTES + CURVE_POINT_BYTES * definition.budget.maxEpochs;
   const room = available * RESULTS_SHARE;
   if (trials * perTrial > room) {
-    const field = definition.sampler.kind === 'hyperband' ? 'budget.maxEpochs' : 'budget.trials';
-    const allowed = field === 'budget.trials' ? `at most ${count(Math.floor(room / perTrial))} trials of ${definition.budget.maxEpochs} epochs` : 'a smaller maxEpochs (Hyperband plans its trials from it)';
+    const fromBudget = samplerTraits(definition.sampler.kind).trialsFromBudget;
+    const field = fromBudget ? 'budget.trials' : 'budget.maxEpochs';
+    const allowed = fromBudget ? `at most ${count(Math.floor(room / perTrial))} trials of ${definition.budget.maxEpochs} epochs` : `a smaller maxEpochs (${definition.sampler.kind} plans its trials from it)`;
     throw new UserError(
       'E_STUDY_TOO_LARGE',
       `${file}: ${field}: ${count(trials)} trials of up to ${definition.budget.maxEpochs} epochs would keep about ${gib(trials * perTrial)} of results in memory; ` +

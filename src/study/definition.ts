@@ -1,77 +1,10 @@
 import { z } from 'zod';
 import { samplerSchema } from '../samplers/registry.js';
-
-export { samplerSchema };
-import { seedField as seed } from './fields.js';
-
-/** Activations a hidden layer may use. `leakyRelu` uses slope 0.2 below zero (the tfjs layers default). */
-export const ACTIVATIONS = ['relu', 'leakyRelu', 'elu', 'selu', 'tanh', 'sigmoid', 'softplus', 'swish', 'relu6'] as const;
-export const OPTIMIZERS = ['sgd', 'momentum', 'adam'] as const;
-export const TASKS = ['binary', 'multiclass', 'regression'] as const;
-export const CLASSIFICATION_METRICS = ['accuracy', 'macroF1', 'logLoss'] as const;
-export const BINARY_METRICS = [...CLASSIFICATION_METRICS, 'auc'] as const;
-export const REGRESSION_METRICS = ['rmse', 'mae', 'r2'] as const;
-export const SCHEDULES = ['constant', 'step', 'cosine'] as const;
-export const METRICS = ['accuracy', 'macroF1', 'logLoss', 'auc', 'rmse', 'mae', 'r2', 'validationLoss'] as const;
-
-export type Activation = (typeof ACTIVATIONS)[number];
-export type OptimizerName = (typeof OPTIMIZERS)[number];
-export type Task = (typeof TASKS)[number];
-export type MetricName = (typeof METRICS)[number];
-export type ScheduleKind = (typeof SCHEDULES)[number];
-
-/** A range whose min exceeds its max names both values. */
-function minNotAboveMax(range: { min: number; max: number }, ctx: z.RefinementCtx): void {
-  if (range.min > range.max) {
-    ctx.addIssue({ code: 'custom', path: ['min'], message: `found ${range.min}, expected at most max (${range.max})` });
-  }
-}
-
-const integerRange = z
-  .strictObject({
-    min: z.int().min(1).describe('Smallest value, inclusive.'),
-    max: z.int().min(1).describe('Largest value, inclusive.'),
-    log: z.boolean().default(false).describe('Draw uniformly on a log scale.'),
-  })
-  .superRefine(minNotAboveMax);
-
-const positiveLogRange = z
-  .strictObject({
-    min: z.number().positive().describe('Smallest value, inclusive.'),
-    max: z.number().positive().describe('Largest value, inclusive.'),
-  })
-  .superRefine(minNotAboveMax);
-
-const fractionRange = z
-  .strictObject({
-    min: z.number().min(0).max(0.9),
-    max: z.number().min(0).max(0.9),
-  })
-  .superRefine(minNotAboveMax);
-
-/** A schedule setting: one fixed value, or a range searched like any hyperparameter (uniform, or on a log scale when `log`). */
-function setting(value: z.ZodNumber, what: string) {
-  return z.union([
-    value.describe(`${what} (fixed).`),
-    z
-      .strictObject({ min: value.describe('Smallest value, inclusive.'), max: value.describe('Largest value, inclusive.'), log: z.boolean().default(false).describe('Draw uniformly on a log scale.') })
-      .superRefine((range, ctx) => {
-        minNotAboveMax(range, ctx);
-        if (range.log && range.min <= 0) ctx.addIssue({ code: 'custom', path: ['min'], message: `found ${range.min}, expected above 0 with log: true` });
-      })
-      .describe(`${what}, searched over a range.`),
-  ]);
-}
-
-export const scheduleSchema = z
-  .strictObject({
-    kind: z.array(z.enum(SCHEDULES)).min(1).describe('Schedules to choose from: constant, step (eta0 x gamma^floor(t / stepEpochs)), cosine (SGDR, Loshchilov and Hutter 2017, without restarts, over budget.maxEpochs).'),
-    gamma: setting(z.number().gt(0).max(1), 'step: factor applied every stepEpochs epochs, in (0, 1]').default(0.1),
-    stepEpochs: setting(z.int().min(1), 'step: epochs between two decays').default(10),
-    warmupEpochs: setting(z.int().min(0), 'epochs of linear warm-up before the schedule (0: none)').default(0),
-    minFactor: setting(z.number().min(0).lt(1), 'cosine: the final learning rate as a fraction of the initial one, in [0, 1)').default(0),
-  })
-  .describe('Learning-rate schedule applied per epoch; absent means constant (the learning rate of the configuration throughout).');
+import { budgetSchema } from '../core/budget.js';
+import { LOWER_IS_BETTER, METRICS, TASKS, type Goal, type MetricName } from '../core/configuration.js';
+import type { EarlyStoppingRule } from '../core/early-stopping.js';
+import { seedField as seed } from '../core/fields.js';
+import { spaceSchema } from '../space/schema.js';
 
 export const dataSchema = z.strictObject({
   csv: z.string().min(1).describe('Path of the CSV file, relative to the study definition file.'),
@@ -115,23 +48,6 @@ export const dataSchema = z.strictObject({
     ),
 });
 
-export const spaceSchema = z.strictObject({
-  depth: integerRange.describe('Number of hidden layers.'),
-  width: integerRange.describe('Units per hidden layer.'),
-  activation: z.array(z.enum(ACTIVATIONS)).min(1).describe('Hidden-layer activations to choose from.'),
-  learningRate: positiveLogRange.describe('Learning rate, drawn on a log scale.'),
-  batchSize: z.array(z.int().min(1)).min(1).default([32]).describe('Batch sizes to choose from.'),
-  optimizer: z.array(z.enum(OPTIMIZERS)).min(1).default(['adam']).describe('Optimizers to choose from (momentum is SGD with momentum 0.9).'),
-  l2: positiveLogRange.optional().describe('L2 weight penalty, drawn on a log scale; absent means none.'),
-  dropout: fractionRange.optional().describe('Dropout rate after each hidden layer; absent means none.'),
-  schedule: scheduleSchema.optional(),
-});
-
-export const budgetSchema = z.strictObject({
-  trials: z.int().min(1).describe('Configurations to try (Hyperband derives its own count and ignores this).'),
-  maxEpochs: z.int().min(1).describe('Epochs a configuration trains for at most (every trial, for random search).'),
-});
-
 export const goalSchema = z.strictObject({
   metric: z.enum(METRICS).describe('Validation metric to rank trials by.'),
   better: z.enum(['higher', 'lower']).optional().describe('Whether a higher or a lower value of the metric is better; default follows the metric.'),
@@ -163,7 +79,9 @@ export const earlyStoppingSchema = z
   ])
   .describe('Stop a trial inside its job when the goal stops improving; the trial is scored, ranked and exported at its best epoch. Absent: every trial trains the epochs its sampler gives it.');
 
-export type EarlyStoppingRule = z.output<typeof earlyStoppingSchema>;
+// The schema gives exactly the rule core/early-stopping.ts works with (checked when compiling).
+const sameRule: [z.output<typeof earlyStoppingSchema>, EarlyStoppingRule] extends [EarlyStoppingRule, z.output<typeof earlyStoppingSchema>] ? true : never = true;
+void sameRule;
 
 export const studySchema = z.strictObject({
   $schema: z.string().optional(),
@@ -189,38 +107,7 @@ export type StudyDefinitionInput = z.input<typeof studySchema>;
 export type StudyDefinition = z.output<typeof studySchema>;
 export type SamplerSettings = StudyDefinition['sampler'];
 export type SamplerKind = SamplerSettings['kind'];
-export type SearchSpace = z.output<typeof spaceSchema>;
-export type Budget = z.output<typeof budgetSchema>;
 export type DataSettings = StudyDefinition['data'];
-
-/** One point of the search space: what a trial trains (a trial's configuration). */
-export interface TrialConfiguration {
-  depth: number;
-  width: number;
-  activation: Activation;
-  learningRate: number;
-  batchSize: number;
-  optimizer: OptimizerName;
-  l2: number;
-  dropout: number;
-  /** Present only when the space has a `schedule` (src/train/schedule.ts); absent: constant. */
-  schedule?: ScheduleKind;
-  /** Warm-up epochs (present with `schedule`). */
-  warmupEpochs?: number;
-  /** step only (present when the space's schedule kinds include step). */
-  gamma?: number;
-  stepEpochs?: number;
-  /** cosine only (present when the space's schedule kinds include cosine). */
-  minFactor?: number;
-}
-
-/** What the study ranks trials by: a validation metric and which way is better. */
-export interface Goal {
-  metric: MetricName;
-  better: 'higher' | 'lower';
-}
-
-export const LOWER_IS_BETTER: ReadonlySet<MetricName> = new Set(['logLoss', 'rmse', 'mae', 'validationLoss']);
 
 /** The goal in force: the study's own, else the task's default; which way is better follows the metric unless given. */
 export function resolveGoal(definition: Pick<StudyDefinition, 'goal' | 'data'>): Goal {
@@ -231,9 +118,3 @@ export function resolveGoal(definition: Pick<StudyDefinition, 'goal' | 'data'>):
   return { metric, better };
 }
 
-/** Metrics each task reports every epoch (besides training and validation loss). */
-export function metricsForTask(task: Task): readonly MetricName[] {
-  if (task === 'binary') return ['accuracy', 'macroF1', 'auc', 'logLoss'];
-  if (task === 'multiclass') return ['accuracy', 'macroF1', 'logLoss'];
-  return ['rmse', 'mae', 'r2'];
-}

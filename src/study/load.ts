@@ -1,19 +1,12 @@
 import { readFile } from 'node:fs/promises';
 import path from 'node:path';
 import { parse as parseLenient, printParseErrorCode, type ParseError } from 'jsonc-parser';
-import { UserError } from '../errors.js';
-import {
-  BINARY_METRICS,
-  CLASSIFICATION_METRICS,
-  REGRESSION_METRICS,
-  resolveGoal,
-  studySchema,
-  type MetricName,
-  type StudyDefinition,
-} from './definition.js';
+import { UserError } from '../core/errors.js';
+import { BINARY_METRICS, CLASSIFICATION_METRICS, REGRESSION_METRICS, type MetricName } from '../core/configuration.js';
+import { resolveGoal, studySchema, type StudyDefinition } from './definition.js';
 import { utf16Kind } from '../text/encoding.js';
 import { formatIssue } from './issues.js';
-import { earlyStoppingProblem } from './early-stopping.js';
+import { earlyStoppingProblem } from '../core/early-stopping.js';
 
 export interface LoadedStudy {
   definition: StudyDefinition;

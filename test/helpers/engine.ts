@@ -1,10 +1,10 @@
 /** Helpers for engine tests: tfjs twins of an engine trial, and reading engine buffers. */
 import * as tf from '@tensorflow/tfjs';
-import { EngineTrial } from '../../src/engine/trial.js';
-import { networkWeights } from '../../src/engine/checkpoint-state.js';
-import type { SharedDataset } from '../../src/pool/messages.js';
-import type { TrialConfiguration } from '../../src/study/definition.js';
-import { createNetwork, networkSpec, type Network } from '../../src/train/network.js';
+import { EngineTrial } from '../../src/trainers/engine/trial.js';
+import { networkWeights } from '../../src/trainers/engine/checkpoint-state.js';
+import type { SharedDataset } from '../../src/core/job.js';
+import type { TrialConfiguration } from '../../src/core/configuration.js';
+import { createNetwork, networkSpec, type Network } from '../../src/trainers/tfjs/network.js';
 import type { Rng } from '../../src/random/streams.js';
 
 /** Labels as the tfjs path holds them: rows x 1, or one-hot rows x classes for multiclass. */

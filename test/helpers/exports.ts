@@ -5,7 +5,7 @@ import path from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { exportModel, type ExportFormat } from '../../src/commands/export.js';
 import { run } from '../../src/commands/run.js';
-import type { Task } from '../../src/study/definition.js';
+import type { Task } from '../../src/core/configuration.js';
 
 const TINY = fileURLToPath(new URL('../../studies/tiny/', import.meta.url));
 

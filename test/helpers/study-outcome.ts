@@ -1,4 +1,4 @@
-import { rankTrials } from '../../src/study/objective.js';
+import { rankTrials } from '../../src/core/ranking.js';
 import { StudyStore } from '../../src/store/study-store.js';
 import type { StudyDocument } from '../../src/store/types.js';
 

@@ -1,6 +1,7 @@
 /** Small seeded synthetic data sets for training tests. */
-import type { SharedDataset, TrainRequest } from '../../src/pool/messages.js';
-import type { Task, TrialConfiguration } from '../../src/study/definition.js';
+import type { SharedDataset } from '../../src/core/job.js';
+import type { ThreadTrainRequest as TrainRequest } from '../../src/transports/threads/messages.js';
+import type { Task, TrialConfiguration } from '../../src/core/configuration.js';
 import { stream, type Rng } from '../../src/random/streams.js';
 
 export interface SyntheticOptions {

@@ -6,7 +6,7 @@ import { decode, type Dimension } from '../../src/space/dimensions.js';
 import type { UnitDesign } from '../../src/samplers/design.js';
 import type { Job, Sampler } from '../../src/samplers/sampler.js';
 import { simulate, type SimulationLog } from '../../src/samplers/simulate.js';
-import type { TrialConfiguration } from '../../src/study/definition.js';
+import type { TrialConfiguration } from '../../src/core/configuration.js';
 
 export interface TestFunction {
   name: string;

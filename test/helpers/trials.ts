@@ -1,4 +1,4 @@
-import type { TrialRecord } from '../../src/store/types.js';
+import type { TrialRecord } from '../../src/core/trial.js';
 
 /** A trial record for tests: a trained one-layer trial of 10 epochs with the given score, changed by `extra`. */
 export function trialRecord(id: number, score: number | null, extra: Partial<TrialRecord> = {}): TrialRecord {

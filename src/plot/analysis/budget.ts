@@ -1,6 +1,7 @@
 import { plannedBudget } from '../../samplers/index.js';
-import type { StudyDocument, TrialRecord } from '../../store/types.js';
-import { rankTrials } from '../../study/objective.js';
+import type { StudyDocument } from '../../store/types.js';
+import type { TrialRecord } from '../../core/trial.js';
+import { rankTrials } from '../../core/ranking.js';
 import { studyJobs, type JobSpent } from './jobs.js';
 
 /** The study's leader once some amount of compute had been spent. */

@@ -1,6 +1,7 @@
-import type { StudyDocument, TrialRecord, TrialStatus } from '../../store/types.js';
-import { scoreAt } from '../../study/objective.js';
-import { isUnsuccessful } from '../../study/trial-status.js';
+import type { StudyDocument } from '../../store/types.js';
+import type { TrialRecord, TrialStatus } from '../../core/trial.js';
+import { scoreAt } from '../../core/ranking.js';
+import { isUnsuccessful } from '../../core/trial-status.js';
 
 /** One job of a trial as the report reads it: the epochs it trained and where it left the trial. */
 export interface JobSpent {

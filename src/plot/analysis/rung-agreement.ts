@@ -1,5 +1,6 @@
-import type { StudyDocument, TrialRecord } from '../../store/types.js';
-import { rankTrials } from '../../study/objective.js';
+import type { StudyDocument } from '../../store/types.js';
+import type { TrialRecord } from '../../core/trial.js';
+import { rankTrials } from '../../core/ranking.js';
 import { rungEndEpochs } from './jobs.js';
 
 /**

@@ -1,6 +1,8 @@
-import type { StudyDocument, TrialRecord } from '../../store/types.js';
-import type { TrialConfiguration } from '../../study/definition.js';
-import { beats, scoreAt } from '../../study/objective.js';
+import type { StudyDocument } from '../../store/types.js';
+import type { TrialRecord } from '../../core/trial.js';
+import type { TrialConfiguration } from '../../core/configuration.js';
+import { beats } from '../../core/configuration.js';
+import { scoreAt } from '../../core/ranking.js';
 import { variedParameterAxes, type ParameterAxis } from '../labels.js';
 import { forestImportance, type InputKind } from './importance.js';
 

@@ -1,5 +1,5 @@
 import type { StudyDocument } from '../../store/types.js';
-import { rankTrials } from '../../study/objective.js';
+import { rankTrials } from '../../core/ranking.js';
 import { curveRows, epochSummaries, robustDomain } from '../data.js';
 import { metricLabel } from '../labels.js';
 import { INK, REFERENCE, SUMMARY_BAND, WINNER_MARK, placeColour } from '../palette.js';

@@ -1,5 +1,5 @@
 import type { StudyDocument } from '../../store/types.js';
-import { rankTrials } from '../../study/objective.js';
+import { rankTrials } from '../../core/ranking.js';
 import { FOREST_ROWS } from '../analysis/importance.js';
 import { FEWEST_FOR_IMPORTANCE, type ParameterImportance, type StudyImportance } from '../analysis/study-importance.js';
 import { extent } from '../data.js';

@@ -1,5 +1,5 @@
 import type { StudyDocument } from '../../store/types.js';
-import { rankTrials } from '../../study/objective.js';
+import { rankTrials } from '../../core/ranking.js';
 import { rungAgreements, rungStandings, type RungStanding } from '../analysis/rung-agreement.js';
 import { extent } from '../data.js';
 import { isHalving } from '../labels.js';

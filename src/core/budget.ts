@@ -1,0 +1,11 @@
+import { z } from 'zod';
+
+export const budgetSchema = z.strictObject({
+  trials: z.int().min(1).describe('Configurations to try (Hyperband derives its own count and ignores this).'),
+  maxEpochs: z.int().min(1).describe('Epochs a configuration trains for at most (every trial, for random search).'),
+});
+
+
+
+/** How much a study may train: configurations and epochs per configuration. */
+export type Budget = z.output<typeof budgetSchema>;

@@ -1,0 +1,56 @@
+/**
+ * What a sampler plans for a budget, said by each sampler kind itself (`SamplerPlugin.plan`): the
+ * progress display, the capacity check and the report read it and never ask which kind it is.
+ */
+import type { Budget } from '../core/budget.js';
+
+/** One rung of a plan: how many configurations train, and to how many epochs in all. */
+export interface RungPlan {
+  configurations: number;
+  epochs: number;
+}
+
+
+export interface SamplerPlan {
+  /** Configurations started. */
+  trials: number;
+  /** Epochs trained (a promoted trial continues from its checkpoint, so a rung adds only the difference). */
+  epochs: number;
+  /** Jobs: one per configuration and rung it trains through. */
+  jobs: number;
+  /** Rungs per bracket (1 for samplers that train each configuration in one job). */
+  rungs: number;
+  /** Brackets (Hyperband), else 1. */
+  brackets: number;
+  /**
+   * True when the sampler's decisions depend on the order results arrive (asynchronous halving): the
+   * run may exceed the plan.
+   */
+  estimate: boolean;
+}
+
+/** The plan of options that do not fit the budget: nothing runs. */
+export const EMPTY_PLAN: SamplerPlan = { trials: 0, epochs: 0, jobs: 0, rungs: 0, brackets: 0, estimate: false };
+
+/** Every configuration trains `maxEpochs` in one job (random, Sobol, TPE). */
+export function oneJobEachPlan(budget: Budget): SamplerPlan {
+  return { trials: budget.trials, epochs: budget.trials * budget.maxEpochs, jobs: budget.trials, rungs: 1, brackets: 1, estimate: false };
+}
+
+/** Epochs trained when each promoted trial continues from its checkpoint (each rung adds only the difference). */
+export function trainedEpochs(rounds: readonly RungPlan[]): number {
+  return rounds.reduce((sum, round, i) => sum + round.configurations * (round.epochs - (i > 0 ? rounds[i - 1]!.epochs : 0)), 0);
+}
+
+/** The plan of brackets of successive halving, run `passes` times over (one bracket for plain successive halving). */
+export function bracketsPlan(brackets: readonly (readonly RungPlan[])[], passes = 1, estimate = false): SamplerPlan {
+  const sum = (of: (rounds: readonly RungPlan[]) => number): number => passes * brackets.reduce((total, rounds) => total + of(rounds), 0);
+  return {
+    trials: sum((rounds) => rounds[0]?.configurations ?? 0),
+    epochs: sum(trainedEpochs),
+    jobs: sum((rounds) => rounds.reduce((n, round) => n + round.configurations, 0)),
+    rungs: Math.max(0, ...brackets.map((rounds) => rounds.length)),
+    brackets: brackets.length,
+    estimate,
+  };
+}

@@ -1,0 +1,76 @@
+/** The search space as the study file states it: ranges and choices for each part of a configuration. */
+import { z } from 'zod';
+import { ACTIVATIONS, OPTIMIZERS, SCHEDULES } from '../core/configuration.js';
+
+/** A range whose min exceeds its max names both values. */
+function minNotAboveMax(range: { min: number; max: number }, ctx: z.RefinementCtx): void {
+  if (range.min > range.max) {
+    ctx.addIssue({ code: 'custom', path: ['min'], message: `found ${range.min}, expected at most max (${range.max})` });
+  }
+}
+
+const integerRange = z
+  .strictObject({
+    min: z.int().min(1).describe('Smallest value, inclusive.'),
+    max: z.int().min(1).describe('Largest value, inclusive.'),
+    log: z.boolean().default(false).describe('Draw uniformly on a log scale.'),
+  })
+  .superRefine(minNotAboveMax);
+
+const positiveLogRange = z
+  .strictObject({
+    min: z.number().positive().describe('Smallest value, inclusive.'),
+    max: z.number().positive().describe('Largest value, inclusive.'),
+  })
+  .superRefine(minNotAboveMax);
+
+const fractionRange = z
+  .strictObject({
+    min: z.number().min(0).max(0.9),
+    max: z.number().min(0).max(0.9),
+  })
+  .superRefine(minNotAboveMax);
+
+/** A schedule setting: one fixed value, or a range searched like any hyperparameter (uniform, or on a log scale when `log`). */
+function setting(value: z.ZodNumber, what: string) {
+  return z.union([
+    value.describe(`${what} (fixed).`),
+    z
+      .strictObject({ min: value.describe('Smallest value, inclusive.'), max: value.describe('Largest value, inclusive.'), log: z.boolean().default(false).describe('Draw uniformly on a log scale.') })
+      .superRefine((range, ctx) => {
+        minNotAboveMax(range, ctx);
+        if (range.log && range.min <= 0) ctx.addIssue({ code: 'custom', path: ['min'], message: `found ${range.min}, expected above 0 with log: true` });
+      })
+      .describe(`${what}, searched over a range.`),
+  ]);
+}
+
+
+export const scheduleSchema = z
+  .strictObject({
+    kind: z.array(z.enum(SCHEDULES)).min(1).describe('Schedules to choose from: constant, step (eta0 x gamma^floor(t / stepEpochs)), cosine (SGDR, Loshchilov and Hutter 2017, without restarts, over budget.maxEpochs).'),
+    gamma: setting(z.number().gt(0).max(1), 'step: factor applied every stepEpochs epochs, in (0, 1]').default(0.1),
+    stepEpochs: setting(z.int().min(1), 'step: epochs between two decays').default(10),
+    warmupEpochs: setting(z.int().min(0), 'epochs of linear warm-up before the schedule (0: none)').default(0),
+    minFactor: setting(z.number().min(0).lt(1), 'cosine: the final learning rate as a fraction of the initial one, in [0, 1)').default(0),
+  })
+  .describe('Learning-rate schedule applied per epoch; absent means constant (the learning rate of the configuration throughout).');
+
+
+
+export const spaceSchema = z.strictObject({
+  depth: integerRange.describe('Number of hidden layers.'),
+  width: integerRange.describe('Units per hidden layer.'),
+  activation: z.array(z.enum(ACTIVATIONS)).min(1).describe('Hidden-layer activations to choose from.'),
+  learningRate: positiveLogRange.describe('Learning rate, drawn on a log scale.'),
+  batchSize: z.array(z.int().min(1)).min(1).default([32]).describe('Batch sizes to choose from.'),
+  optimizer: z.array(z.enum(OPTIMIZERS)).min(1).default(['adam']).describe('Optimizers to choose from (momentum is SGD with momentum 0.9).'),
+  l2: positiveLogRange.optional().describe('L2 weight penalty, drawn on a log scale; absent means none.'),
+  dropout: fractionRange.optional().describe('Dropout rate after each hidden layer; absent means none.'),
+  schedule: scheduleSchema.optional(),
+});
+
+
+
+/** A validated search space with defaults applied. */
+export type SearchSpace = z.output<typeof spaceSchema>;

@@ -1,0 +1,248 @@
+/**
+ * One trial laid out in engine memory: the descriptor, its buffers and weights, written once when
+ * the trial starts. Training crosses into WebAssembly once per step; dropout masks and the
+ * epoch's shuffle order are drawn in JavaScript from the trial's seeded streams (the same draws as
+ * the tfjs path) and written into memory before the step that uses them.
+ */
+import type { SharedDataset } from '../../core/job.js';
+import { permutation, stream, type Rng } from '../../random/streams.js';
+import { ACTIVATIONS, OPTIMIZERS, TASKS, type TrialConfiguration } from '../../core/configuration.js';
+import { initialKernel, initRuleFor } from '../shared/initial-weights.js';
+import { ADAM, MOMENTUM } from '../shared/optimizer-constants.js';
+import { CONSTANT, descriptorBytes, layerWord, WORD, type LayerField } from './layout.js';
+import { align16, engine, padColumns, reserve } from './module.js';
+import { residentData, type ResidentData } from './resident-data.js';
+
+/** Rows the evaluation pass runs at once (buffers hold at least this many rows). */
+export const EVALUATION_CHUNK_ROWS = 256;
+
+/** What a trial trains: its id and seed (initial weights, dropout, shuffles), configuration and data. */
+export interface EngineTrialSpec {
+  trialId: number;
+  seed: number;
+  params: TrialConfiguration;
+  dataset: SharedDataset;
+}
+
+interface LayerShape {
+  fanIn: number;
+  fanOut: number;
+  inStride: number;
+  outStride: number;
+  /** Byte addresses of the layer's buffers (0 when the trial does not use one). */
+  at: Record<Exclude<LayerField, 'fanIn' | 'fanOut' | 'inStride' | 'outStride'>, number>;
+}
+
+/** A bump allocator over engine memory from `start`, 16-byte aligned. */
+function allocator(start: number): { take(bytes: number): number; end(): number } {
+  let next = align16(start);
+  return {
+    take(bytes) {
+      const at = next;
+      next = align16(next + bytes);
+      return at;
+    },
+    end: () => next,
+  };
+}
+
+/** One trial in engine memory. Create it with {@link EngineTrial.create}; it stays valid until the next trial is created in this thread. */
+export class EngineTrial {
+  /** Optimizer steps taken over the trial's life (restored from checkpoints). */
+  iterations = 0;
+
+  private constructor(
+    readonly spec: EngineTrialSpec,
+    private readonly data: ResidentData,
+    private readonly net: number,
+    readonly layers: LayerShape[],
+    private readonly capacityRows: number,
+    private readonly outputsAt: number,
+  ) {}
+
+  static create(spec: EngineTrialSpec): EngineTrial {
+    const { params, dataset } = spec;
+    const data = residentData(dataset);
+    const capacityRows = Math.max(params.batchSize, EVALUATION_CHUNK_ROWS);
+    const memory = allocator(data.end);
+    const net = memory.take(descriptorBytes(params.depth));
+    const order = memory.take(dataset.train.rows * 4);
+    const batchX = memory.take(capacityRows * data.stride * 4);
+    const batchY = memory.take(capacityRows * 4);
+    const widths = [dataset.inputCount, ...Array.from({ length: params.depth }, () => params.width), dataset.outputCount];
+    const slots = params.optimizer === 'adam' ? 2 : params.optimizer === 'momentum' ? 1 : 0;
+    const dropout = params.dropout > 0;
+    let scratchFloats = 0;
+    const layers: LayerShape[] = [];
+    for (let l = 0; l + 1 < widths.length; l++) {
+      const fanIn = widths[l]!;
+      const fanOut = widths[l + 1]!;
+      const inStride = padColumns(fanIn);
+      const outStride = padColumns(fanOut);
+      if (l > 0) scratchFloats = Math.max(scratchFloats, fanOut * inStride);
+      const kernelBytes = fanIn * outStride * 4;
+      const rowsBytes = capacityRows * outStride * 4;
+      const hidden = l < params.depth;
+      layers.push({
+        fanIn,
+        fanOut,
+        inStride,
+        outStride,
+        at: {
+          kernel: memory.take(kernelBytes),
+          bias: memory.take(outStride * 4),
+          kernelGradient: memory.take(kernelBytes),
+          biasGradient: memory.take(outStride * 4),
+          kernelSlot1: slots >= 1 ? memory.take(kernelBytes) : 0,
+          biasSlot1: slots >= 1 ? memory.take(outStride * 4) : 0,
+          kernelSlot2: slots >= 2 ? memory.take(kernelBytes) : 0,
+          biasSlot2: slots >= 2 ? memory.take(outStride * 4) : 0,
+          preActivation: memory.take(rowsBytes),
+          activated: memory.take(rowsBytes),
+          output: hidden && dropout ? memory.take(rowsBytes) : 0,
+          mask: hidden && dropout ? memory.take(rowsBytes) : 0,
+          delta: memory.take(rowsBytes),
+        },
+      });
+    }
+    const scratch = memory.take(scratchFloats * 4);
+    const outputsAt = memory.take(dataset.validation.rows * dataset.outputCount * 4);
+    const classWeights = dataset.classWeights ? memory.take(dataset.classWeights.length * 4) : 0;
+    reserve(memory.end());
+    new Uint8Array(engine().memory.buffer, data.end, memory.end() - data.end).fill(0);
+
+    const words = new Int32Array(engine().memory.buffer, net, descriptorBytes(params.depth) / 4);
+    const floats = new Float32Array(words.buffer, net, words.length);
+    words[WORD.depth] = params.depth;
+    words[WORD.activation] = ACTIVATIONS.indexOf(params.activation);
+    words[WORD.task] = TASKS.indexOf(dataset.task);
+    words[WORD.optimizer] = OPTIMIZERS.indexOf(params.optimizer);
+    words[WORD.outputs] = dataset.outputCount;
+    words[WORD.dropout] = dropout ? 1 : 0;
+    words[WORD.update] = 1;
+    words[WORD.l2] = params.l2 > 0 ? 1 : 0;
+    words[WORD.trainX] = data.trainX;
+    words[WORD.trainY] = data.trainY;
+    words[WORD.order] = order;
+    words[WORD.batchX] = batchX;
+    words[WORD.batchY] = batchY;
+    words[WORD.scratch] = scratch;
+    words[WORD.classWeights] = classWeights;
+    if (dataset.classWeights) new Float32Array(engine().memory.buffer, classWeights, dataset.classWeights.length).set(dataset.classWeights);
+    // float32 constants computed as tfjs computes its scalars (in double, then rounded)
+    floats[CONSTANT.negativeLearningRate] = -params.learningRate;
+    floats[CONSTANT.twiceL2] = 2 * params.l2;
+    floats[CONSTANT.momentum] = MOMENTUM;
+    floats[CONSTANT.beta1] = ADAM.beta1;
+    floats[CONSTANT.oneMinusBeta1] = 1 - ADAM.beta1;
+    floats[CONSTANT.beta2] = ADAM.beta2;
+    floats[CONSTANT.oneMinusBeta2] = 1 - ADAM.beta2;
+    floats[CONSTANT.epsilon] = ADAM.epsilon;
+    floats[CONSTANT.power1] = ADAM.beta1;
+    floats[CONSTANT.power2] = ADAM.beta2;
+    layers.forEach((layer, l) => {
+      words[layerWord(l, 'fanIn')] = layer.fanIn;
+      words[layerWord(l, 'fanOut')] = layer.fanOut;
+      words[layerWord(l, 'inStride')] = layer.inStride;
+      words[layerWord(l, 'outStride')] = layer.outStride;
+      for (const [field, at] of Object.entries(layer.at)) words[layerWord(l, field as LayerField)] = at;
+    });
+
+    const trial = new EngineTrial(spec, data, net, layers, capacityRows, outputsAt);
+    layers.forEach((layer, l) => {
+      const rule = l < params.depth ? initRuleFor(params.activation) : 'glorotUniform';
+      trial.writeMatrix(layer.at.kernel, layer.outStride, initialKernel(rule, layer.fanIn, layer.fanOut, stream(spec.seed, 'init', l)), layer.fanOut);
+    });
+    return trial;
+  }
+
+  private floats(at: number, count: number): Float32Array {
+    return new Float32Array(engine().memory.buffer, at, count);
+  }
+
+  /** Writes a rows x columns row-major matrix into a buffer of row stride `stride`. */
+  writeMatrix(at: number, stride: number, values: Float32Array, columns: number): void {
+    const rows = values.length / columns;
+    const target = this.floats(at, rows * stride);
+    for (let r = 0; r < rows; r++) target.set(values.subarray(r * columns, (r + 1) * columns), r * stride);
+  }
+
+  /** Reads `rows` x `columns` from a buffer of row stride `stride`, without the padding. */
+  readMatrix(at: number, stride: number, rows: number, columns: number): Float32Array {
+    const source = this.floats(at, rows * stride);
+    const values = new Float32Array(rows * columns);
+    for (let r = 0; r < rows; r++) values.set(source.subarray(r * stride, r * stride + columns), r * columns);
+    return values;
+  }
+
+  /** Descriptor float32 constant (e.g. Adam's running powers). */
+  constant(name: keyof typeof CONSTANT): number {
+    return this.floats(this.net, CONSTANT.power2 + 1)[CONSTANT[name]]!;
+  }
+
+  setConstant(name: keyof typeof CONSTANT, value: number): void {
+    this.floats(this.net, CONSTANT.power2 + 1)[CONSTANT[name]] = value;
+  }
+
+  /** Sets the learning rate of the next steps (float32, as tfjs's scalar of -learningRate). */
+  setLearningRate(learningRate: number): void {
+    this.setConstant('negativeLearningRate', -learningRate);
+  }
+
+  /** 1 applies the optimizer after each step's gradients, 0 leaves the gradients only (for checking). */
+  setUpdating(updating: boolean): void {
+    new Int32Array(engine().memory.buffer, this.net, WORD.scratch + 1)[WORD.update] = updating ? 1 : 0;
+  }
+
+  /** Writes the shuffle order the next steps read (row indices into the training set). */
+  setOrder(order: Int32Array): void {
+    const at = new Int32Array(engine().memory.buffer, this.net, WORD.scratch + 1)[WORD.order]!;
+    new Int32Array(engine().memory.buffer, at, order.length).set(order);
+  }
+
+  /** Draws this step's inverted-dropout masks, layer after layer, `rows` x width each (as the tfjs path draws them). */
+  drawMasks(rng: Rng, rows: number): void {
+    const { dropout } = this.spec.params;
+    const keep = 1 / (1 - dropout);
+    for (const layer of this.layers.slice(0, -1)) {
+      const mask = this.floats(layer.at.mask, rows * layer.outStride);
+      for (let r = 0; r < rows; r++) {
+        const row = r * layer.outStride;
+        for (let c = 0; c < layer.fanOut; c++) mask[row + c] = rng() >= dropout ? keep : 0;
+      }
+    }
+  }
+
+  /** One step on order[start .. start + rows): the batch's mean data loss. */
+  step(start: number, rows: number): number {
+    if (rows > this.capacityRows) throw new Error(`a step of ${rows} rows exceeds the trial's ${this.capacityRows}-row buffers`);
+    const loss = engine().trainStep(this.net, start, rows);
+    this.iterations++;
+    return loss;
+  }
+
+  /**
+   * One epoch in the order `permutation(rows, stream(seed, 'shuffle', epoch))`: the mean over
+   * batches of each batch's data loss (every batch weighs the same, a shorter last one too).
+   */
+  trainEpoch(epoch: number): number {
+    const { seed, params, dataset } = this.spec;
+    const rows = dataset.train.rows;
+    this.setOrder(permutation(rows, stream(seed, 'shuffle', epoch)));
+    let sum = 0;
+    let batches = 0;
+    for (let start = 0; start < rows; start += params.batchSize, batches++) {
+      const size = Math.min(rows, start + params.batchSize) - start;
+      if (params.dropout > 0) this.drawMasks(stream(seed, 'dropout', epoch, batches), size);
+      sum += this.step(start, size);
+    }
+    return sum / batches;
+  }
+
+  /** Mean validation loss and the output function's values (rows x outputCount). */
+  evaluate(): { loss: number; outputs: Float32Array } {
+    const { validation, outputCount } = this.spec.dataset;
+    const loss = engine().evaluate(this.net, this.data.validationX, this.data.validationY, validation.rows, this.capacityRows, this.outputsAt);
+    return { loss, outputs: this.floats(this.outputsAt, validation.rows * outputCount).slice() };
+  }
+}

@@ -1,0 +1,115 @@
+/**
+ * What a coordinator and its remote workers say to each other through Redis, and the key names.
+ * Jobs go on one BullMQ queue per study; a job's data is a {@link QueuedJob}, its return value a
+ * {@link QueuedResult}; checkpoints travel inside both as base64, so no shared file system is needed.
+ * Both sides check {@link QUEUE_PROTOCOL_VERSION} and refuse a mismatch.
+ */
+import { createHash } from 'node:crypto';
+import path from 'node:path';
+import type { TrainJob, TrainResult } from '../../core/job.js';
+
+/** Raised whenever the job, result, data-set or registry layout changes (3: jobs carry `maxEpochs` and `earlyStopping`, results `bestEpoch`, `stoppedAtEpoch` and `divergedAfterBest`). */
+export const QUEUE_PROTOCOL_VERSION = 3;
+
+/** BullMQ's key prefix and ours: everything rungwise keeps in Redis starts with it. */
+export const KEY_PREFIX = 'rungwise';
+
+export const keys = {
+  /** Sorted set: queue name -> last heartbeat (ms) of its coordinator. */
+  studies: `${KEY_PREFIX}:studies`,
+  /** Hash: queue name -> protocol version of its coordinator. */
+  studyProtocols: `${KEY_PREFIX}:study-protocols`,
+  /** Sorted set: worker id -> last heartbeat (ms). */
+  workers: `${KEY_PREFIX}:workers`,
+  /** Hash: worker id -> JSON {@link WorkerInfo}. */
+  workerInfo: `${KEY_PREFIX}:worker-info`,
+  /** One data set's bytes (see `redis-dataset.ts`). */
+  dataset: (id: string) => `${KEY_PREFIX}:dataset:${id}`,
+  /** Set by a coordinator that gave up on a job a worker holds. */
+  cancel: (queue: string, jobId: string) => `${KEY_PREFIX}:cancel:${queue}:${jobId}`,
+};
+
+/** What a worker announces with each heartbeat. */
+export interface WorkerInfo {
+  protocol: number;
+  threads: number;
+  /** `host/pid`. */
+  name: string;
+}
+
+/** A job as it sits on the queue. */
+export interface QueuedJob {
+  protocol: number;
+  job: Omit<TrainJob, 'checkpoint'> & { checkpoint?: string };
+}
+
+/** A job's return value. */
+export interface QueuedResult {
+  protocol: number;
+  result: Omit<TrainResult, 'checkpoint'> & { checkpoint?: string };
+}
+
+/** The queue of the study in `runDir`: its name and a hash of the directory, so two studies of one name do not meet. */
+export function studyQueueName(studyName: string, runDir: string): string {
+  const hash = createHash('sha256').update(path.resolve(runDir)).digest('hex').slice(0, 8);
+  return `${studyName.replace(/[^A-Za-z0-9._-]/g, '_')}-${hash}`;
+}
+
+/**
+ * A job's id on the queue: one per trial, epoch range and data set, so a job added again (a resume, a
+ * retry) is the same job, one that starts elsewhere (its checkpoint was lost) is another, and the k
+ * fold jobs of a k-fold trial (same trial and epochs, one data set each) are k jobs.
+ */
+export function queueJobId(job: Pick<TrainJob, 'trialId' | 'fromEpoch' | 'toEpoch' | 'datasetId'>): string {
+  const dataset = job.datasetId.replace(/^sha256:/, '').replace(/[^A-Za-z0-9]/g, '').slice(0, 8);
+  return `t${job.trialId}-f${job.fromEpoch}-e${job.toEpoch}-d${dataset}`;
+}
+
+export function encodeJob(job: TrainJob): QueuedJob {
+  const { checkpoint, ...rest } = job;
+  return { protocol: QUEUE_PROTOCOL_VERSION, job: { ...rest, ...(checkpoint ? { checkpoint: toBase64(checkpoint) } : {}) } };
+}
+
+export function decodeJob(data: QueuedJob): TrainJob {
+  checkProtocol(data.protocol, 'job');
+  const { checkpoint, ...rest } = data.job;
+  return { ...rest, ...(checkpoint !== undefined ? { checkpoint: fromBase64(checkpoint) } : {}) };
+}
+
+export function encodeResult(result: TrainResult): QueuedResult {
+  const { checkpoint, ...rest } = result;
+  return { protocol: QUEUE_PROTOCOL_VERSION, result: { ...rest, ...(checkpoint ? { checkpoint: toBase64(checkpoint) } : {}) } };
+}
+
+export function decodeResult(value: QueuedResult): TrainResult {
+  checkProtocol(value?.protocol, 'result');
+  const { checkpoint, ...rest } = value.result;
+  return { ...rest, ...(checkpoint !== undefined ? { checkpoint: fromBase64(checkpoint) } : {}) };
+}
+
+/** One line naming both versions when a message speaks another protocol. */
+export function protocolMismatch(theirs: unknown, what: string): string | undefined {
+  if (theirs === QUEUE_PROTOCOL_VERSION) return undefined;
+  return `${what} speaks queue protocol ${String(theirs)}, this rungwise speaks ${QUEUE_PROTOCOL_VERSION}: run the same rungwise version on the coordinator and every worker`;
+}
+
+function checkProtocol(theirs: unknown, what: string): void {
+  const mismatch = protocolMismatch(theirs, `the ${what}`);
+  if (mismatch) throw new ProtocolMismatchError(mismatch);
+}
+
+export class ProtocolMismatchError extends Error {
+  constructor(message: string) {
+    super(message);
+    this.name = 'ProtocolMismatchError';
+  }
+}
+
+function toBase64(bytes: Uint8Array): string {
+  return Buffer.from(bytes.buffer, bytes.byteOffset, bytes.byteLength).toString('base64');
+}
+
+function fromBase64(text: string): Uint8Array {
+  const buffer = Buffer.from(text, 'base64');
+  return new Uint8Array(buffer.buffer, buffer.byteOffset, buffer.byteLength);
+}
