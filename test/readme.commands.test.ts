@@ -90,8 +90,12 @@ async function runTerminals(commands: readonly string[], cwd: string): Promise<{
     const [command, args] = commandLine(lines.at(-1)!);
     return await run(command, args, cwd);
   } finally {
-    for (const child of background) child.kill('SIGTERM');
-    await Promise.all(background.map((child) => (child.exitCode === null ? new Promise((resolve) => child.once('exit', resolve)) : undefined)));
+    // Stopped last to first (the worker before the Redis server it talks to), each awaited.
+    for (const child of background.reverse()) {
+      const exited = child.exitCode === null ? new Promise((resolve) => child.once('exit', resolve)) : undefined;
+      child.kill('SIGTERM');
+      await exited;
+    }
   }
 }
 
@@ -106,7 +110,8 @@ function runUntilWritten(command: string, args: string[], cwd: string): Promise<
       if (stdout.includes('\n')) child.kill('SIGINT');
     });
     child.stderr.on('data', (chunk: Buffer) => (stderr += chunk.toString()));
-    child.on('close', (code) => resolve({ code: code ?? 1, stdout, stderr }));
+    // Ctrl-C ends a watch with 130, as it ends every command; that is the clean end here.
+    child.on('close', (code) => resolve({ code: code === 130 ? 0 : (code ?? 1), stdout, stderr }));
   });
 }
 

@@ -1,8 +1,10 @@
 import type { FaultInjector } from '../transports/threads/transport.js';
+import type { WriteStepHook } from '../store/file-adapter.js';
 import path from 'node:path';
 import { resumeStudy, type ResumeOutcome } from '../runner/resume-study.js';
 import { StudyStore } from '../store/study-store.js';
 import { dataObserver, studyObserver, type ProgressTarget } from './observe.js';
+import { oversubscriptionWarning } from './oversubscription.js';
 import { queueRun, settleQueued, type QueueFlags } from './queue.js';
 
 export interface ResumeCommandOptions extends ProgressTarget, QueueFlags {
@@ -17,6 +19,8 @@ export interface ResumeCommandOptions extends ProgressTarget, QueueFlags {
   stderr?: NodeJS.WritableStream;
   /** Test-only: faults to inject into trials (see `runner/faults.ts`). @default none */
   faults?: FaultInjector;
+  /** Test-only: called at each step of every study-file write (see `runner/faults.ts`). @default none */
+  onWriteStep?: WriteStepHook;
 }
 
 /**
@@ -25,6 +29,9 @@ export interface ResumeCommandOptions extends ProgressTarget, QueueFlags {
  */
 export async function resume(options: ResumeCommandOptions): Promise<ResumeOutcome> {
   const saved = await StudyStore.read(options.dir);
+  const workers = options.workers ?? saved.definition.workers;
+  const crowded = options.queue === undefined && workers !== undefined ? oversubscriptionWarning(workers) : undefined;
+  if (crowded) options.onWarning?.(crowded);
   const onEvent = studyObserver(options, saved.definition, saved.goal);
   const onDataEvent = dataObserver(options);
   const dir = path.resolve(options.dir);
@@ -36,6 +43,7 @@ export async function resume(options: ResumeCommandOptions): Promise<ResumeOutco
     ...(options.allowChangedData ? { allowChangedData: true } : {}),
     ...(onEvent ? { onEvent } : {}),
     ...(options.faults ? { faults: options.faults } : {}),
+    ...(options.onWriteStep ? { onWriteStep: options.onWriteStep } : {}),
     ...(onDataEvent ? { onDataEvent } : {}),
   }));
 }

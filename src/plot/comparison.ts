@@ -1,5 +1,5 @@
 import type { StudyDocument } from '../store/types.js';
-import { studyImportance } from './analysis/study-importance.js';
+import { studyImportance, type StudyImportance } from './analysis/study-importance.js';
 import type { Chart } from './charts/chart.js';
 import { budgetChart } from './charts/budget.js';
 import { learningCurvesChart } from './charts/curves.js';
@@ -7,7 +7,6 @@ import { rungAgreementChart } from './charts/rung-agreement.js';
 import { rungBudgetChart } from './charts/rung-budget.js';
 import { studyDigest, type StudyDigest } from './digest.js';
 import { importanceTable } from './answer-tables.js';
-import type { StudyImportance } from './analysis/study-importance.js';
 import { chartSection, htmlPage, htmlTable, QUESTIONS, type RenderedChart } from './report.js';
 import { escapeHtml } from './html.js';
 import { OPTIMISM_CAUTION } from '../report/caution.js';

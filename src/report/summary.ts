@@ -3,6 +3,10 @@ import { unsuccessfulTrials } from '../core/trial-status.js';
 import { OPTIMISM_CAUTION } from './caution.js';
 import { formatDuration, formatNumber } from './format.js';
 
+/** A share as the summary prints it: two significant digits (0.012, 0.10, 1.0), 0 as 0. */
+export function twoSignificantDigits(value: number): string {
+  return value === 0 || !Number.isFinite(value) ? formatNumber(value) : value.toPrecision(2);
+}
 
 /** The closing lines of a run: trials by status, totals, the study file's path and the caution. */
 export function studySummary(doc: StudyDocument, file = ''): string {
@@ -12,7 +16,7 @@ export function studySummary(doc: StudyDocument, file = ''): string {
   const lines = [`study ${doc.name} ${doc.state}: ${doc.trials.length} trials (${byStatus || 'none'})`];
   if (doc.totals) {
     lines.push(
-      `epochs trained ${doc.totals.epochsTrained}; wall time ${formatDuration(doc.totals.wallSeconds)}; worker utilisation ${formatNumber(doc.totals.workerUtilisation)} on ${doc.totals.workers} worker(s)`,
+      `epochs trained ${doc.totals.epochsTrained}; wall time ${formatDuration(doc.totals.wallSeconds)}; worker utilisation ${twoSignificantDigits(doc.totals.workerUtilisation)} on ${doc.totals.workers} worker(s)`,
     );
   }
   if (file) lines.push(`study file: ${file}`);

@@ -1,4 +1,5 @@
 import { setMaxListeners } from 'node:events';
+import type { WriteStepHook } from '../store/file-adapter.js';
 import { availableParallelism } from 'node:os';
 import { FolderCheckpointStore } from '../checkpoints/folder-store.js';
 import type { CheckpointStore } from '../checkpoints/store.js';
@@ -48,6 +49,8 @@ export interface ExecuteOptions {
   checkpoints?: CheckpointStore;
   /** Test-only: faults the default transport injects into trials (see `runner/faults.ts`). @default none */
   faults?: FaultInjector;
+  /** Test-only: called at each step of every study-file write (see `runner/faults.ts`). @default none */
+  onWriteStep?: WriteStepHook;
   /** Worker entry point of the default transport (tests and benchmarks use fixture workers). */
   workerFile?: string;
   /** Seconds running jobs may take to finish after an interrupt. @default {@link GRACE_SECONDS} */

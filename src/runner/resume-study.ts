@@ -29,7 +29,7 @@ export async function resumeStudy(dir: string, options: ResumeOptions = {}): Pro
     throw studyStoppedError(error, dir) ?? error;
   });
   try {
-    const store = await StudyStore.open(dir);
+    const store = await StudyStore.open(dir, options.onWriteStep);
     const doc = store.doc;
     const rerun = rewindUnrecordedJobs(doc.trials);
     if (rerun.length > 0 && doc.state === 'finished') doc.state = 'interrupted';

@@ -67,7 +67,7 @@ export async function runStudy(study: string | LoadedStudy, options: RunOptions 
       updatedAt: now,
       trials: [],
       dataHashes: await dataHashes(path.resolve(path.dirname(file), definition.data.csv), data, csvSha256),
-    });
+    }, options.onWriteStep);
     saved = true;
     return await executeStudy(store, data, options);
   } catch (error) {

@@ -2,7 +2,7 @@ import { CURVE_LOG_NAME, runPaths } from './run-dir.js';
 import path from 'node:path';
 import type { Adapter } from 'lowdb';
 import { CurveLog, type CurveRecord } from './curve-log.js';
-import { DurableJsonFile } from './file-adapter.js';
+import { DurableJsonFile, type WriteStepHook } from './file-adapter.js';
 import type { CurvePoint, TrialRecord } from '../core/trial.js';
 import type { StudyDocument } from './types.js';
 
@@ -24,8 +24,11 @@ export class StudyFileAdapter implements Adapter<StudyDocument> {
   /** Last curve written per trial: a curve is appended again only when its array or last point changed. */
   private readonly written = new Map<number, { length: number; last: CurvePoint | undefined }>();
 
-  constructor(readonly file: string) {
-    this.document = new DurableJsonFile<StoredDocument>(file);
+  constructor(
+    readonly file: string,
+    onWriteStep?: WriteStepHook,
+  ) {
+    this.document = new DurableJsonFile<StoredDocument>(file, onWriteStep);
     this.curves = new CurveLog(runPaths.curveLog(path.dirname(file)));
   }
 
