@@ -14,6 +14,7 @@ import { overheadGroup } from './overhead.js';
 import { paceGroup } from './pace.js';
 import { poolGroup } from './pool.js';
 import { queueGroup } from './queue.js';
+import { reportRenderGroup } from './report-render.js';
 import { groupMarkdown, machineInfo, writeResults, type GroupResult } from './report.js';
 import { schedulingGroup } from './scheduling.js';
 import { startupGroup } from './startup.js';
@@ -41,6 +42,7 @@ const GROUPS: Record<string, (options: BenchOptions) => Promise<GroupResult>> = 
   data: dataGroup,
   views: viewsGroup,
   pace: paceGroup,
+  'report-render': reportRenderGroup,
 };
 
 function parseArgs(argv: string[]): { quick: boolean; only: string[] } {

@@ -29,6 +29,7 @@ export type { ProgressTarget } from './commands/observe.js';
 export { ranking, type RankingCommandOptions, type RankingResult } from './commands/ranking.js';
 export { resume, type ResumeCommandOptions } from './commands/resume.js';
 export { plot, type PlotOptions } from './commands/plot.js';
+export type { Baseline, ChartReferences, NoiseBand } from './plot/charts/references.js';
 export { exportModel, exportReport, type ExportCommandOptions, type ExportFormat, type ExportSummary } from './commands/export.js';
 export { predictCsv, predictReport, predictWarnings, type PredictCommandOptions, type PredictSummary } from './commands/predict.js';
 export type { InputIssue, InputIssueKind } from './data/input-checks.js';

@@ -52,13 +52,13 @@ describe.runIf(runsHere)('report.html in headless Chromium', () => {
     {
       page: 'report',
       url: () => reportUrl,
-      charts: ['chart-budget', 'chart-rung-budget', 'chart-rung-agreement', 'chart-importance', 'chart-good-values', 'chart-learning-curves'],
+      charts: ['chart-budget', 'chart-rung-agreement', 'chart-hyperparameters', 'chart-learning-curves'],
       table: 'table.top',
     },
     {
       page: 'comparison',
       url: () => comparisonUrl,
-      charts: ['chart-budget', 'chart-rung-budget', 'chart-rung-agreement-1', 'chart-importance', 'chart-learning-curves-1', 'chart-learning-curves-2'],
+      charts: ['chart-budget', 'chart-rung-budget', 'chart-rung-agreement-1', 'chart-learning-curves-1', 'chart-learning-curves-2'],
       table: 'table.side-by-side',
     },
   ];
@@ -90,6 +90,9 @@ describe.runIf(runsHere)('report.html in headless Chromium', () => {
       // The winner's star is in the table and in every chart that shows trials.
       if (pageName === 'report') expect(await page.textContent('table.top tr.winner')).toContain('★');
       if (pageName === 'report') expect(await page.textContent('table.confusion')).toContain('410 (93%)');
+      // Hovering a point shows its figures: the browser's own tooltip from an SVG title (the page runs no script).
+      const hoverTitles = await page.$$eval('figure svg title', (titles) => titles.map((t) => t.textContent ?? ''));
+      expect(hoverTitles.some((t) => /#1 trial 48/.test(t))).toBe(true);
       expect(await page.$(table)).not.toBeNull();
 
       // Nothing is cut off: the page does not scroll sideways and every chart and table fits the window.

@@ -64,11 +64,23 @@ describe('rungwise plot', () => {
   it('writes one SVG and one spec per chart and report.html to <dir>/plots by default', async () => {
     await copyFile(fixturePath('halving-nine'), path.join(dir, 'study.json'));
     const { files } = await plot({ dir });
-    const names = ['budget', 'rung-budget', 'rung-agreement', 'importance', 'good-values', 'learning-curves'];
+    const names = ['budget', 'rung-agreement', 'hyperparameters', 'learning-curves'];
     expect(files).toEqual([...names.flatMap((n) => [`${n}.svg`, `${n}.vl.json`]), 'report.html'].map((f) => path.join(dir, 'plots', f)));
     expect((await readdir(path.join(dir, 'plots'))).sort()).toEqual(files.map((f) => path.basename(f)).sort());
     // The staging folder is gone: the run directory holds only the study file and the plots.
     expect((await readdir(dir)).sort()).toEqual(['plots', 'study.json']);
+  });
+
+  it('draws the baselines and band it is given into the leader and curve charts', async () => {
+    await copyFile(fixturePath('halving-nine'), path.join(dir, 'study.json'));
+    // Constructed references: the baselines themselves are computed elsewhere.
+    const { files } = await plot({ dir, references: { baselines: [{ label: 'constant model', score: 0.69 }], band: { score: 0.22, standardError: 0.02, from: '3 repeat runs' } } });
+    const svg = (name: string) => readFile(files.find((f) => f.endsWith(`${name}.svg`))!, 'utf8');
+    for (const name of ['budget', 'learning-curves']) {
+      expect(await svg(name)).toContain('constant model: 0.69');
+      expect(await svg(name)).toContain('one standard error over 3 repeat runs');
+    }
+    expect(await svg('rung-agreement')).not.toContain('constant model');
   });
 
   it('writes to the folder given as out', async () => {

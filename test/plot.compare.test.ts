@@ -50,6 +50,11 @@ describe('rungwise compare', () => {
     expect(html).toContain('<h2>Was the budget well spent?</h2>');
     // One compute chart with both studies, and each study's own learning curves.
     expect(files.map((f) => path.basename(f))).toEqual(expect.arrayContaining(['budget.svg', 'learning-curves-1.svg', 'learning-curves-2.svg']));
+    // Importance side by side as a table: random-five has too few configurations for a forest.
+    const importance = html.slice(html.indexOf('<table class="importance">'), html.indexOf('</table>', html.indexOf('<table class="importance">')));
+    expect(importance).toContain('<th scope="col">hyperband-generated</th><th scope="col">random-five</th>');
+    expect(html).toContain('random-five: too few configurations');
+    expect(importance.match(/<tr><th scope="row">/g)?.length).toBeGreaterThanOrEqual(2);
   });
 
   it('tells two studies of the same name apart', async () => {

@@ -36,13 +36,14 @@ describe('rendering to SVG', () => {
     }
   });
 
-  it('draws a bar per rung, one curve per trial and the winner once in the curves of a halving study', async () => {
+  it('draws one chart per question, the top five curves and a median, and hover titles on points', async () => {
     const svgs = await renderAll(fixture('halving-nine'));
-    expect(Object.keys(svgs)).toEqual(['budget', 'rung-budget', 'rung-agreement', 'importance', 'good-values', 'learning-curves']);
-    // Three rungs in one bracket.
-    expect(drawnMarks(svgs['rung-budget']!)).toMatchObject({ rect: 3 });
-    // Nine curves: one for the winner, four for the rest of the top five, four faded.
-    expect(drawnMarks(svgs['learning-curves']!)).toMatchObject({ line: 9 });
+    expect(Object.keys(svgs)).toEqual(['budget', 'rung-agreement', 'hyperparameters', 'learning-curves']);
+    // Six lines: the five of the top five and the median of all nine trials; one band.
+    expect(drawnMarks(svgs['learning-curves']!)).toMatchObject({ line: 6, area: 1 });
+    // The winner's curve ends with a star, and its points can be hovered.
+    expect(svgs['learning-curves']).toContain('<title>');
+    expect(svgs['learning-curves']).toMatch(/<title>[^<]*#1 trial 5/);
   });
 
   it('compiles every chart of every fixture without a Vega-Lite warning', () => {

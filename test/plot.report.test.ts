@@ -46,3 +46,26 @@ describe('report: per-class section', () => {
     expect(buildReport(fixture('random-five'), [])).not.toContain('How does it do on each class?');
   });
 });
+
+describe('answer tables', () => {
+  it("gives each rung's share of the epochs with how many configurations trained to how many epochs", async () => {
+    const { rungShareTable } = await import('../src/plot/answer-tables.js');
+    // halving-nine: 9 configurations x 1 epoch, 3 x 2 more, 1 x 6 more: 9, 6 and 6 of 21 epochs.
+    const html = rungShareTable(fixture('halving-nine'));
+    expect(html.match(/<b>\d+%<\/b>/g)).toEqual(['<b>43%</b>', '<b>29%</b>', '<b>29%</b>']);
+    expect(html).toContain('9 to 1 epoch<');
+    expect(html).toContain('1 to 9 epochs');
+    expect(rungShareTable(fixture('random-five'))).toBe('');
+  });
+
+  it('says the agreement of every pair of rungs in words, with the winner\'s place at the shorter look', async () => {
+    const { rungAgreementTable } = await import('../src/plot/answer-tables.js');
+    const html = rungAgreementTable(fixture('halving-nine'));
+    expect(html).toContain('rung 0 (1 epoch) to rung 1 (3 epochs)');
+    expect(html).toMatch(/<td>[-0-9.]+: [a-z ]+ \(3 configurations\)<\/td>/);
+    expect(html).toContain('1 configuration went on: too few to say');
+    // The winner, trial 5, led both rungs it was scored at before the last.
+    expect(html.match(/<td>1 of \d+<\/td>/g)).toEqual(['<td>1 of 9</td>', '<td>1 of 3</td>']);
+    expect(rungAgreementTable(fixture('random-five'))).toBe('');
+  });
+});

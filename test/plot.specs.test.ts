@@ -1,10 +1,13 @@
 import { readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
-import { extent, robustDomain } from '../src/plot/data.js';
-import { endLabels } from '../src/plot/charts/curves.js';
-import { agreementText } from '../src/plot/charts/rung-agreement.js';
-import { rungColour, studyColour, WINNER_SHAPE } from '../src/plot/palette.js';
-import { budgetChart, learningCurvesChart, rungAgreementChart, rungBudgetChart, studyCharts } from '../src/plot/specs.js';
+import { epochSummaries, extent, robustDomain } from '../src/plot/data.js';
+import { computeTimeline, rungShares } from '../src/plot/analysis/budget.js';
+import { addHoverTitles } from '../src/plot/render.js';
+import { agreementText, agreementWords, DRAWN_PATHS } from '../src/plot/charts/rung-agreement.js';
+import { NOISE_BAND, PLACE_COLOURS, REFERENCE, rungColour, WINNER_SHAPE } from '../src/plot/palette.js';
+import { budgetChart, hyperparametersChart, learningCurvesChart, rungAgreementChart, rungBudgetChart, studyCharts } from '../src/plot/specs.js';
+import { studyImportance } from '../src/plot/analysis/study-importance.js';
+import { winnerBand } from '../src/plot/charts/references.js';
 import { topConfigurations } from '../src/plot/top-table.js';
 import type { StudyDocument } from '../src/store/types.js';
 import { studyFixture } from './helpers/study-fixtures.js';
@@ -50,16 +53,51 @@ describe('top configurations', () => {
   });
 });
 
+type Stacked = { vconcat: (Layered & { data?: { values: Record<string, unknown>[] }; encoding?: Record<string, unknown> })[] };
+const marksOf = (layered: Layered, type: string) => layered.layer.filter((l) => (l.mark as { type: string }).type === type);
+
 describe('budget chart', () => {
   it('draws the leader against epochs spent, the planned budget as a rule and a star where the winner took the lead', () => {
-    const spec = budgetChart([halvingNine])!.spec as unknown as Layered & { layer: { encoding?: { x?: { field: string } } }[] };
-    const steps = spec.layer[0]!.data!.values;
-    expect(spec.layer[0]!.mark).toMatchObject({ type: 'line', interpolate: 'step-after' });
+    const [leader, strip] = (budgetChart([halvingNine])!.spec as unknown as Stacked).vconcat;
+    const line = marksOf(leader!, 'line')[0]!;
+    expect(line.mark).toMatchObject({ type: 'line', interpolate: 'step-after' });
+    const steps = line.data!.values;
     expect(steps.at(-1)).toMatchObject({ epochsSpent: 21, leaderId: 5, score: 0.22 });
     expect(steps.filter((s) => s['winner']).map((s) => s['leaderId'])).toEqual([5]);
-    const rule = spec.layer.find((l) => (l.mark as { type: string }).type === 'rule')!;
-    expect(rule.data!.values).toEqual([{ study: 'halving-nine', epochs: 21, label: 'planned: 21 epochs' }]);
-    expect(spec.layer.some((l) => (l.mark as { shape?: string }).shape === WINNER_SHAPE)).toBe(true);
+    expect(marksOf(leader!, 'rule')[0]!.data!.values).toEqual([{ study: 'halving-nine', epochs: 21, label: 'planned: 21 epochs' }]);
+    expect(leader!.layer.some((l) => (l.mark as { shape?: string }).shape === WINNER_SHAPE)).toBe(true);
+    // Under it, on the same epochs axis, the rungs the compute went to: 9 + 6 + 6 epochs at rungs 0, 1, 2.
+    const stretches = strip!.data!.values as { rung: number; epochs: number }[];
+    const byRung = [0, 1, 2].map((rung) => stretches.filter((r) => r.rung === rung).reduce((sum, r) => sum + r.epochs, 0));
+    expect(byRung.map((e) => Math.round(e * 1e9) / 1e9)).toEqual([9, 6, 6]);
+  });
+
+  it('draws no strip for random search, whose compute all goes to one rung', () => {
+    const spec = budgetChart([randomFive])!.spec as unknown as Layered & { vconcat?: unknown };
+    expect(spec.vconcat).toBeUndefined();
+    expect(marksOf(spec, 'line')).toHaveLength(1);
+  });
+
+  it("draws the baselines and the winner's noise band it is given, and nothing of them otherwise", () => {
+    // Constructed references: the baselines and repeat-run errors come from elsewhere.
+    const references = { baselines: [{ label: 'constant model', score: 0.5 }, { label: 'linear model', score: 0.4 }], band: { score: 0.22, standardError: 0.03, from: '3 repeat runs' } };
+    const [leader] = (budgetChart([halvingNine], references)!.spec as unknown as Stacked).vconcat;
+    const band = leader!.layer.find((l) => (l.mark as { color?: string }).color === NOISE_BAND)!;
+    expect(band.data!.values[0]).toMatchObject({ low: 0.19, high: 0.25 });
+    const rules = leader!.layer.filter((l) => (l.mark as { type: string; color?: string }).type === 'rule' && (l.mark as { color?: string }).color === REFERENCE);
+    expect(rules[0]!.data!.values.map((v) => v['score'])).toEqual([0.5, 0.4]);
+    const plain = JSON.stringify(budgetChart([halvingNine])!.spec);
+    expect(plain).not.toContain(NOISE_BAND);
+    expect(plain).not.toContain('constant model');
+  });
+
+  it("takes the winner's band from its standard error over folds when the study has folds", () => {
+    const study = structuredClone(halvingNine);
+    expect(winnerBand(study)).toBeUndefined();
+    study.trials.find((t) => t.id === 5)!.scoreStandardError = 0.01;
+    study.definition.data.folds = 5;
+    expect(winnerBand(study)).toEqual({ score: 0.22, standardError: 0.01, from: '5 folds' });
+    expect(JSON.stringify(studyCharts(study).find((c) => c.name === 'learning-curves')!.spec)).toContain(NOISE_BAND);
   });
 });
 
@@ -89,38 +127,89 @@ describe('rung charts', () => {
     expect(rungAgreementChart(randomFive)).toBeNull();
   });
 
-  it('says rho only where at least three configurations were scored at both rungs', () => {
-    expect(agreementText(0.8, 5)).toBe('rho 0.80 (5)');
-    expect(agreementText(1, 2)).toBe('2 scored at both');
+  it('says the agreement in numbers and words only where at least three configurations went on', () => {
+    expect(agreementText(0.8, 5)).toBe('0.80: nearly the same order (5 configurations)');
+    expect(agreementText(1, 2)).toBe('2 configurations went on: too few to say');
+    expect(agreementText(Number.NaN, 4)).toBe('4 configurations went on: too few to say');
+    // Common practice (no source): the verbal bands of a correlation, cut at 0.8, 0.5, 0.2 and -0.2.
+    expect([1, 0.79, 0.5, 0.2, 0, -0.2, -1].map(agreementWords)).toEqual([
+      'nearly the same order',
+      'much the same order',
+      'much the same order',
+      'loosely the same order',
+      'no real relation',
+      'roughly the reverse order',
+      'roughly the reverse order',
+    ]);
+  });
+
+  it('draws the paths of at most a fixed number of configurations per bracket, however many there were', () => {
+    // 600 configurations in one bracket: 600 at rung 0, 200 at rung 1, 66 at rung 2.
+    const study = structuredClone(halvingNine);
+    const template = study.trials[0]!;
+    study.trials = Array.from({ length: 600 }, (_, i) => {
+      const rung = i < 66 ? 2 : i < 200 ? 1 : 0;
+      const scores = [0.5 + i / 1000, 0.4 + i / 1000, 0.3 + i / 1000].slice(0, rung + 1);
+      const curve = [1, 2, 3, 4, 5, 6, 7, 8, 9].slice(0, [1, 3, 9][rung]).map((epoch) => ({ ...template.curve[0]!, epoch, metrics: { logLoss: scores[Math.min(rung, epoch >= 9 ? 2 : epoch >= 3 ? 1 : 0)]! } }));
+      return { ...template, id: i + 1, rung, bracket: 0, status: rung === 2 ? 'trained' : 'dropped', epochsTrained: [1, 3, 9][rung]!, score: scores[rung]!, rungScores: scores, curve,
+        jobs: [1, 3, 9].slice(0, rung + 1).map((toEpoch, r) => ({ rung: r, fromEpoch: [0, 1, 3][r]!, toEpoch, fromCheckpoint: r > 0, attempts: 1, status: 'done' as const })) };
+    });
+    const panel = (rungAgreementChart(study)!.spec as unknown as { concat: Layered[] }).concat[0]!;
+    const drawn = new Set(panel.layer.flatMap((l) => (l.data?.values ?? []).map((v) => v['trialId'])).filter((id) => id !== undefined));
+    expect(drawn.size).toBe(DRAWN_PATHS);
+    // The best five at the last rung (lowest log loss: trials 1..5) are among them, in their colours.
+    for (const id of [1, 2, 3, 4, 5]) expect(drawn.has(id)).toBe(true);
+    expect(JSON.stringify(panel)).toContain(PLACE_COLOURS[1]);
   });
 });
 
 describe('learning curves', () => {
-  it('highlights the top five of the ranking and fades the rest', () => {
-    const chart = learningCurvesChart(hyperband)!;
-    const rows = (chart.spec as unknown as { data: { values: { trialId: number; group: string }[] } }).data.values;
-    const groups = (group: string) => [...new Set(rows.filter((r) => r.group === group).map((r) => r.trialId))].sort((a, b) => a - b);
-    expect(groups('winner')).toEqual([48]);
-    expect(groups('top')).toEqual([15, 29, 45, 47]);
-    expect(groups('other')).toHaveLength(49 - 5 - 1); // trial 11 failed before its first epoch: no curve
-    expect(JSON.stringify(chart.spec)).toContain(studyColour(0));
+  type Curves = { vconcat: (Layered & { data?: { values: Record<string, unknown>[] } })[] };
+  it('draws the top five of the ranking in five distinct colours and every trial as a band', () => {
+    const [curves, reached] = (learningCurvesChart(hyperband)!.spec as unknown as Curves).vconcat;
+    const top = marksOf(curves!, 'line').find((l) => l.data!.values.some((v) => 'place' in v))!;
+    const byPlace = [1, 2, 3, 4, 5].map((place) => [...new Set(top.data!.values.filter((v) => v['place'] === place).map((v) => v['trial']))]);
+    expect(byPlace).toEqual([['#1 trial 48'], ['#2 trial 15'], ['#3 trial 45'], ['#4 trial 47'], ['#5 trial 29']]);
+    const colour = (top as unknown as { encoding: { color: { scale: { range: string[] } } } }).encoding.color.scale.range;
+    expect(colour).toEqual([...PLACE_COLOURS]);
+    expect(new Set(colour).size).toBe(5);
+    // The band: one row per epoch (1..27), with how many trials reached it; 48 trials have a first epoch (trial 11 failed before it).
+    const band = marksOf(curves!, 'area')[0]!.data!.values;
+    expect(band.map((r) => r['epoch'])).toEqual(Array.from({ length: 27 }, (_, i) => i + 1));
+    expect(band[0]!['count']).toBe(48);
+    expect(reached!.data!.values).toHaveLength(27);
   });
 
-  it('moves end labels at the same epoch apart so that none overlaps the next', () => {
-    const labels = endLabels([{ value: 0.9, epoch: 9 }, { value: 0.899, epoch: 9 }, { value: 0.5, epoch: 9 }, { value: 0.898, epoch: 3 }], [0, 1.5]);
-    expect(labels.map((l) => [l.epoch, l.labelAt])).toEqual([
-      [3, 0.898],
-      [9, 0.9],
-      [9, 0.8],
-      [9, 0.5],
-    ]);
+  it('draws as many lines for a study of many trials as for one of few', () => {
+    const many = structuredClone(hyperband);
+    const copies = Array.from({ length: 20 }, (_, k) => many.trials.map((t) => ({ ...t, id: t.id + 1000 * (k + 1), score: t.score === null ? null : t.score - 0.5 })));
+    many.trials.push(...copies.flat());
+    const lines = (study: StudyDocument) => JSON.stringify(learningCurvesChart(study)!.spec).length;
+    // 20 times the trials, less than twice the specification (the band has one row per epoch whatever the trials).
+    expect(lines(many)).toBeLessThan(2 * lines(hyperband));
+  });
+});
+
+describe('hyperparameters', () => {
+  it('gives each varied hyperparameter a row, largest share first, all on one score scale, with the top five marked', () => {
+    const importance = studyImportance(hyperband)!;
+    const spec = hyperparametersChart(hyperband, importance)!.spec as unknown as { vconcat: { hconcat: [Layered, Layered & { layer: { encoding: { y?: { scale?: { domain: number[] } } } }[] }] }[] };
+    expect(spec.vconcat).toHaveLength(importance.parameters.length);
+    const shares = spec.vconcat.map((row) => row.hconcat[0].layer[0]!.data?.values?.[0]?.['share'] ?? (row.hconcat[0] as unknown as { data: { values: { share: number }[] } }).data.values[0]!.share);
+    expect(shares).toEqual([...shares].sort((a, b) => (b as number) - (a as number)));
+    const domains = spec.vconcat.map((row) => JSON.stringify(row.hconcat[1].layer[1]!.encoding.y!.scale!.domain));
+    expect(new Set(domains).size).toBe(1);
+    const marked = JSON.stringify(spec.vconcat[0]!.hconcat[1]);
+    for (const colour of PLACE_COLOURS.slice(1)) expect(marked).toContain(colour);
+    expect(marked).toContain(WINNER_SHAPE);
+    expect(hyperparametersChart(hyperband, undefined)).toBeNull();
   });
 });
 
 describe('chart selection', () => {
   it('draws every chart that has data, in report order', () => {
     expect(studyCharts(randomFive).map((c) => c.name)).toEqual(['budget', 'learning-curves']);
-    expect(studyCharts(halvingNine).map((c) => c.name)).toEqual(['budget', 'rung-budget', 'rung-agreement', 'importance', 'good-values', 'learning-curves']);
+    expect(studyCharts(halvingNine).map((c) => c.name)).toEqual(['budget', 'rung-agreement', 'hyperparameters', 'learning-curves']);
   });
 
   it('draws nothing for a study with no trials yet', () => {
@@ -144,5 +233,50 @@ describe('long studies', () => {
   it('finds the range of more values than a call can take as arguments', () => {
     const values = Array.from({ length: 500_000 }, (_, i) => (i % 1000) / 10);
     expect(extent(values)).toEqual([0, 99.9]);
+  });
+});
+
+describe('summaries the charts draw instead of every trial', () => {
+  it("takes the 10th, 50th and 90th percentiles of each epoch's values by definition 7", () => {
+    // Source: Hyndman and Fan, "Sample quantiles in statistical packages", 1996, definition 7
+    // (R's default): for 1..10, Q(0.1) = 1 + 0.9 = 1.9, Q(0.5) = 5.5, Q(0.9) = 9.1.
+    const rows = [...Array.from({ length: 10 }, (_, i) => ({ epoch: 2, value: 10 - i })), { epoch: 1, value: 4 }];
+    expect(epochSummaries(rows)).toEqual([
+      { epoch: 1, count: 1, low: 4, median: 4, high: 4 },
+      { epoch: 2, count: 10, low: expect.closeTo(1.9, 12), median: 5.5, high: expect.closeTo(9.1, 12) },
+    ]);
+  });
+
+  it('splits the compute into stretches whose rung shares sum to one and add up to the rungs\' shares', () => {
+    const stretches = computeTimeline(hyperband, 40);
+    const byStretch = new Map<number, number>();
+    for (const s of stretches) byStretch.set(s.from, (byStretch.get(s.from) ?? 0) + s.share);
+    for (const total of byStretch.values()) expect(total).toBeCloseTo(1, 9);
+    const perRung = new Map<number, number>();
+    for (const s of stretches) perRung.set(s.rung, (perRung.get(s.rung) ?? 0) + s.epochs);
+    const expected = new Map<number, number>();
+    for (const s of rungShares(hyperband)) expected.set(s.rung, (expected.get(s.rung) ?? 0) + s.epochs);
+    for (const [rung, epochs] of expected) expect(perRung.get(rung)).toBeCloseTo(epochs, 6);
+  });
+});
+
+describe('the report\'s look', () => {
+  it('gives the top five colours of the Okabe and Ito set, all different', () => {
+    // Source: Okabe and Ito, "Color Universal Design (CUD)", 2008: black #000000 (here the report's ink),
+    // vermillion #D55E00, blue #0072B2, bluish green #009E73, reddish purple #CC79A7.
+    expect(PLACE_COLOURS.slice(1)).toEqual(['#d55e00', '#0072b2', '#009e73', '#cc79a7']);
+    expect(new Set(PLACE_COLOURS).size).toBe(5);
+  });
+
+  it('turns the description of a hoverable mark item into a title the browser shows, and leaves lines and axes alone', () => {
+    const svg =
+      '<g aria-label="X-axis" role="graphics-symbol" aria-roledescription="axis"><path d="M0,0"/></g>' +
+      '<path aria-label="trial: 3; score: 0.9" role="graphics-symbol" aria-roledescription="point" d="M1,1"/>' +
+      '<path aria-label="epoch: 1" role="graphics-symbol" aria-roledescription="line mark" d="M2,2"/>';
+    expect(addHoverTitles(svg)).toBe(
+      '<g aria-label="X-axis" role="graphics-symbol" aria-roledescription="axis"><path d="M0,0"/></g>' +
+        '<path aria-label="trial: 3; score: 0.9" role="graphics-symbol" aria-roledescription="point" d="M1,1"><title>trial: 3; score: 0.9</title></path>' +
+        '<path aria-label="epoch: 1" role="graphics-symbol" aria-roledescription="line mark" d="M2,2"/>',
+    );
   });
 });

@@ -45,7 +45,7 @@ export async function compare(options: CompareOptions): Promise<CompareResult> {
   const { charts, digests, importances } = comparisonCharts(studies);
   const rendered = await renderCharts(charts);
   const out = path.resolve(options.out ?? path.join(options.dirs[0]!, 'comparison'));
-  const files = await writeReportFolder(out, charts, rendered, buildComparisonReport(studies, digests, rendered));
+  const files = await writeReportFolder(out, charts, rendered, buildComparisonReport(studies, digests, rendered, importances));
   const compared = studies.map((study, i) => comparedStudy(study, path.resolve(options.dirs[i]!), digests[i]!, importances[i]));
   return { goal: first.goal, studies: compared, table: compareTableText(compared, first.goal), details: compareDetailsText(compared, first.goal), files };
 }

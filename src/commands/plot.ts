@@ -5,7 +5,7 @@ import { studyImportance } from '../plot/analysis/study-importance.js';
 import { digestFindings, studyDigest } from '../plot/digest.js';
 import { renderSvg } from '../plot/render.js';
 import { buildReport, type RenderedChart } from '../plot/report.js';
-import { studyCharts, type Chart } from '../plot/specs.js';
+import { studyCharts, type Chart, type ChartReferences } from '../plot/specs.js';
 import { writeFolderAtomically } from '../files/atomic-folder.js';
 import { StudyStore, studyFilePath } from '../store/study-store.js';
 
@@ -22,6 +22,11 @@ export interface PlotOptions {
   signal?: AbortSignal;
   /** Called after each report is written (the first and every refresh). */
   onWritten?: (files: string[]) => void;
+  /**
+   * Baselines and a noise band for the winner drawn into the score charts. Without a band, the
+   * winner's standard error over folds is drawn when the study has folds.
+   */
+  references?: ChartReferences;
 }
 
 /** Seconds between reloads of a report page open in a browser while `plot --watch` runs. */
@@ -63,7 +68,7 @@ export async function writeReportFolder(out: string, charts: readonly Chart[], r
 async function drawOnce(options: PlotOptions, out: string): Promise<string[]> {
   const study = await StudyStore.read(options.dir);
   const importance = studyImportance(study);
-  const charts = studyCharts(study, importance);
+  const charts = studyCharts(study, importance, options.references);
   const rendered = await renderCharts(charts);
   const html = buildReport(study, rendered, {
     findings: digestFindings(studyDigest(study, importance)),

@@ -3,10 +3,10 @@ import { studyImportance, type StudyImportance } from './analysis/study-importan
 import type { Chart } from './charts/chart.js';
 import { budgetChart } from './charts/budget.js';
 import { learningCurvesChart } from './charts/curves.js';
-import { importanceChart } from './charts/importance.js';
 import { rungAgreementChart } from './charts/rung-agreement.js';
 import { rungBudgetChart } from './charts/rung-budget.js';
 import { studyDigest, type StudyDigest } from './digest.js';
+import { importanceTable } from './answer-tables.js';
 import { chartSection, htmlPage, htmlTable, QUESTIONS, type RenderedChart } from './report.js';
 import { escapeHtml } from './html.js';
 import { OPTIMISM_CAUTION } from '../report/caution.js';
@@ -39,7 +39,10 @@ export function distinctNames(studies: readonly StudyDocument[]): StudyDocument[
   return studies.map((s, i) => ((counts.get(s.name) ?? 0) > 1 ? { ...s, name: `${s.name} (${i + 1})` } : s));
 }
 
-/** Charts of a comparison: shared ones (compute, rung shares, importance) and each study's own (rungs, curves). */
+/**
+ * Charts of a comparison: shared ones (compute, rung shares) and each study's own (rungs, curves),
+ * with each study's importance (drawn as a table beside them) and digest.
+ */
 export function comparisonCharts(studies: readonly StudyDocument[]): { charts: Chart[]; digests: StudyDigest[]; importances: (StudyImportance | undefined)[] } {
   const importances = studies.map((s) => studyImportance(s));
   const own = (make: (study: StudyDocument, i: number) => Chart | null, prefix: string): Chart[] =>
@@ -51,8 +54,7 @@ export function comparisonCharts(studies: readonly StudyDocument[]): { charts: C
     budgetChart(studies),
     rungBudgetChart(studies),
     ...own((study) => rungAgreementChart(study), 'rung-agreement'),
-    importanceChart(studies, importances),
-    ...own((study, i) => learningCurvesChart(study, i, `learning-curves-${i + 1}`), 'learning-curves'),
+    ...own((study, i) => learningCurvesChart(study, {}, `learning-curves-${i + 1}`), 'learning-curves'),
   ].filter((c): c is Chart => c !== null);
   return { charts, digests: studies.map((s, i) => studyDigest(s, importances[i])), importances };
 }
@@ -63,12 +65,14 @@ function questionOf(name: string): string | undefined {
   return QUESTIONS.find((q) => q.charts.includes(stem))?.heading;
 }
 
-/** The comparison as one self-contained page: the side-by-side table, then each question's charts. */
-export function buildComparisonReport(studies: readonly StudyDocument[], digests: readonly StudyDigest[], charts: readonly RenderedChart[]): string {
+/** The comparison as one self-contained page: the side-by-side table, then each question's charts (and the importance table). */
+export function buildComparisonReport(studies: readonly StudyDocument[], digests: readonly StudyDigest[], charts: readonly RenderedChart[], importances: readonly (StudyImportance | undefined)[] = []): string {
   const table = comparisonTable(digests);
   const key = studies.map((s, i) => `<span style="color:${studyColour(i)}">&#9632;</span> ${escapeHtml(s.name)}`).join(' &nbsp; ');
-  const sections = QUESTIONS.map(({ heading }) => {
+  const importance = importanceTable(studies.map((s) => s.name), importances);
+  const sections = QUESTIONS.map(({ heading, charts: names }) => {
     const drawn = charts.filter((c) => questionOf(c.name) === heading).map(chartSection);
+    if (names.includes('hyperparameters') && importance) drawn.push(importance);
     return drawn.length > 0 ? `<h2>${escapeHtml(heading)}</h2>\n${drawn.join('\n')}` : '';
   }).filter((s) => s !== '');
   const body = `<h1>Comparison of ${studies.map((s) => escapeHtml(s.name)).join(', ')}</h1>

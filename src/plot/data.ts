@@ -64,3 +64,40 @@ export function extent(values: Iterable<number>): [number, number] {
   }
   return [low, high];
 }
+
+/** The trials' scores at one epoch, summarised: how many reached it, the median and the middle 80%. */
+export interface EpochSummary {
+  epoch: number;
+  /** Trials with a score at this epoch. */
+  count: number;
+  low: number;
+  median: number;
+  high: number;
+}
+
+/** The value at quantile `q` of sorted values, linearly interpolated (Hyndman and Fan's type 7). */
+export function sortedQuantile(sorted: readonly number[], q: number): number {
+  const position = (sorted.length - 1) * q;
+  const low = Math.floor(position);
+  return sorted[low]! + (sorted[Math.min(low + 1, sorted.length - 1)]! - sorted[low]!) * (position - low);
+}
+
+/**
+ * Per epoch, the 10th, 50th and 90th percentile of the curve values recorded there and how many
+ * trials reached it, in epoch order: the learning curves of many trials in a few numbers per epoch.
+ * Source: Hyndman and Fan, "Sample quantiles in statistical packages", 1996 (definition 7).
+ */
+export function epochSummaries(rows: readonly { epoch: number; value: number }[]): EpochSummary[] {
+  const byEpoch = new Map<number, number[]>();
+  for (const row of rows) {
+    const values = byEpoch.get(row.epoch);
+    if (values) values.push(row.value);
+    else byEpoch.set(row.epoch, [row.value]);
+  }
+  return [...byEpoch]
+    .sort((a, b) => a[0] - b[0])
+    .map(([epoch, values]) => {
+      const sorted = values.sort((a, b) => a - b);
+      return { epoch, count: sorted.length, low: sortedQuantile(sorted, 0.1), median: sortedQuantile(sorted, 0.5), high: sortedQuantile(sorted, 0.9) };
+    });
+}

@@ -48,7 +48,7 @@ export function studyDigest(study: StudyDocument, importance: StudyImportance | 
     spent: `${spent.epochs} epochs${planned ? ` of ${planned} planned (${percent(spent.epochs / planned)})` : ''}, ${formatNumber(spent.workerSeconds)} worker-seconds`,
     winnerFound: crowned && spent.epochs > 0 ? `after ${crowned.epochsSpent} epochs (${percent(crowned.epochsSpent / spent.epochs)} of those spent)` : '-',
     rungShares: halving ? [...byRung].map(([rung, share]) => `rung ${rung} ${percent(share)}`).join(', ') : 'one rung (no halving)',
-    rungAgreement: halving && agreements.length > 0 ? agreements.map((a) => `b${a.bracket} r${a.fromRung}>${a.fromRung + 1}: ${agreementText(a.rho, a.configurations)}`).join('; ') : '-',
+    rungAgreement: halving && agreements.length > 0 ? agreements.map((a) => `bracket ${a.bracket}, rung ${a.fromRung} to ${a.fromRung + 1}: ${agreementText(a.rho, a.configurations)}`).join('; ') : '-',
     winnerAtRungs: standings.length > 0 ? standings.map((s) => `${s.place} of ${s.of} at rung ${s.rung}`).join(', ') : '-',
     importance: importance ? importance.parameters.slice(0, 3).map((p) => `${p.key} ${percent(p.share)}`).join(', ') : 'too few configurations',
     unscored: `${unscored} of ${study.trials.length}`,
@@ -63,7 +63,12 @@ export function digestFindings(digest: StudyDigest): Map<string, string[]> {
     `Spent ${digest.spent}. The winner took the lead ${digest.winnerFound}.`,
     ...(digest.halving ? [`Compute by rung: ${digest.rungShares}.`] : []),
   ]);
-  if (digest.rungAgreement !== '-') findings.set(rungs!, [`Agreement between consecutive rungs (b: bracket, r: rung): ${digest.rungAgreement}.`, `The winner stood ${digest.winnerAtRungs}.`]);
+  if (digest.rungAgreement !== '-') {
+    findings.set(rungs!, [
+      "A halving sampler gives every configuration a short look (rung 0) and lets only the best go on to longer ones. Agreement says whether a shorter look put the configurations that went on in the order the longer look found (1: the same order; 0: no relation; Spearman's rank correlation); the table under the chart gives it for every pair of rungs.",
+      `The winner stood ${digest.winnerAtRungs}.`,
+    ]);
+  }
   findings.set(importance!, [`Largest shares of the score's variance: ${digest.importance}.`]);
   return findings;
 }

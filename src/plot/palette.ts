@@ -6,7 +6,11 @@
  * - rungs: a lightness ramp from sky blue to a dark blue (rung 0 lightest); lightness order survives
  *   every kind of colour-vision deficiency, so rung order reads without hue;
  * - studies: vermillion, bluish green, reddish purple, orange (no blue: that is the rungs');
- * - the winner: ink with a star, never a colour alone; other trials: a light grey.
+ * - the winner: ink with a star, never a colour alone; other trials: a light grey;
+ * - the top five of the ranking, in the charts that follow single trials (learning curves, the
+ *   hyperparameter rows, the rung paths): place 1 ink, places 2 to 5 vermillion, blue, bluish green
+ *   and reddish purple, the four of the set with the most contrast on white. In those charts nothing
+ *   else is coloured, so the rungs' blues and the studies' hues do not meet them.
  */
 
 /** Ink for the winner, the leader line and text. */
@@ -37,6 +41,25 @@ const STUDY_COLOURS = ['#d55e00', '#009e73', '#cc79a7', '#e69f00'] as const;
 export function studyColour(index: number): string {
   return STUDY_COLOURS[index % STUDY_COLOURS.length]!;
 }
+
+/**
+ * Colours of places 1 to 5 of the ranking: ink, then vermillion, blue, bluish green, reddish purple.
+ * Source: Okabe and Ito, "Color Universal Design (CUD): how to make figures and presentations that
+ * are friendly to colorblind people", 2008 (the eight-colour set).
+ */
+export const PLACE_COLOURS = [INK, '#d55e00', '#0072b2', '#009e73', '#cc79a7'] as const;
+
+/** Colour of a place in the ranking (1-based); places past the fifth are context grey. */
+export function placeColour(place: number): string {
+  return PLACE_COLOURS[place - 1] ?? FADED;
+}
+
+/** The grey of what summarises many trials (the band of the learning curves). */
+export const SUMMARY_BAND = '#dfe2e6';
+/** Reference lines that are not trials: baselines and the planned budget. */
+export const REFERENCE = '#6b7280';
+/** The band of one standard error around the winner's score. */
+export const NOISE_BAND = '#f3e6a6';
 
 /** A five-pointed star, as an SVG path on the unit square vega scales symbols to: the winner's mark. */
 export const WINNER_SHAPE =

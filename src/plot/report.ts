@@ -7,6 +7,7 @@ import { goalLabel } from './labels.js';
 import { escapeHtml } from './html.js';
 import { WINNER_SYMBOL } from './palette.js';
 import { CLASS_TABLE_STYLE, classSection } from './class-table.js';
+import { ANSWER_TABLE_STYLE, rungAgreementTable, rungShareTable } from './answer-tables.js';
 import { topConfigurations } from './top-table.js';
 import { bestTrial } from './winner.js';
 
@@ -120,7 +121,7 @@ export function htmlPage(title: string, body: string, refreshSeconds?: number): 
 <meta http-equiv="Content-Security-Policy" content="default-src 'none'; style-src 'unsafe-inline'; img-src data:">${refresh}
 <meta name="viewport" content="width=device-width, initial-scale=1">
 <title>${escapeHtml(title)}</title>
-<style>${STYLE}${CLASS_TABLE_STYLE}</style>
+<style>${STYLE}${CLASS_TABLE_STYLE}${ANSWER_TABLE_STYLE}</style>
 </head>
 <body>
 ${body}
@@ -129,11 +130,15 @@ ${body}
 `;
 }
 
-/** The report's questions, in order, each with the charts that answer it. */
-export const QUESTIONS: readonly { heading: string; charts: readonly string[] }[] = [
-  { heading: 'Was the budget well spent?', charts: ['budget', 'rung-budget'] },
-  { heading: 'Did the early rungs judge well?', charts: ['rung-agreement'] },
-  { heading: 'Which hyperparameters matter, and which values are good?', charts: ['importance', 'good-values'] },
+/**
+ * The report's questions after the ranking, in order, each with the charts that may answer it (a
+ * report has one chart per question; a comparison also the shared `rung-budget`)
+ * and the tables under them.
+ */
+export const QUESTIONS: readonly { heading: string; charts: readonly string[]; tables?: (study: StudyDocument) => string }[] = [
+  { heading: 'Was the budget well spent?', charts: ['budget', 'rung-budget'], tables: rungShareTable },
+  { heading: 'Did the early rungs judge well?', charts: ['rung-agreement'], tables: rungAgreementTable },
+  { heading: 'Which hyperparameters matter, and which values are good?', charts: ['hyperparameters'] },
   { heading: 'What did training look like?', charts: ['learning-curves'] },
 ];
 
@@ -154,11 +159,12 @@ export function buildReport(study: StudyDocument, charts: readonly RenderedChart
     .join('\n');
   const top = topConfigurations(study);
   const byName = new Map(charts.map((chart) => [chart.name, chart]));
-  const questions = QUESTIONS.map(({ heading, charts: names }) => {
+  const questions = QUESTIONS.map(({ heading, charts: names, tables }) => {
     const drawn = names.flatMap((name) => (byName.has(name) ? [chartSection(byName.get(name)!)] : []));
     const said = (options.findings?.get(heading) ?? []).map((text) => `<p>${escapeHtml(text)}</p>`);
+    const table = tables?.(study) ?? '';
     if (drawn.length === 0 && said.length === 0) return '';
-    return `<h2>${escapeHtml(heading)}</h2>\n${[...said, ...drawn].join('\n')}`;
+    return `<h2>${escapeHtml(heading)}</h2>\n${[...said, ...drawn, ...(table ? [table] : [])].join('\n')}`;
   }).filter((section) => section !== '');
   const body = `<h1>Study ${escapeHtml(study.name)}</h1>
 <p class="caution">${escapeHtml(OPTIMISM_CAUTION)}</p>

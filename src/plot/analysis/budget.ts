@@ -99,3 +99,41 @@ export function computeSpent(study: StudyDocument): { epochs: number; workerSeco
   const jobs = studyJobs(study);
   return { epochs: jobs.reduce((s, j) => s + j.epochs, 0), workerSeconds: jobs.reduce((s, j) => s + j.workerSeconds, 0) };
 }
+
+/** The epochs spent within one stretch of the study's compute, by rung: where that stretch went. */
+export interface ComputeStretch {
+  /** Epochs spent before the stretch began and when it ended (all trials together). */
+  from: number;
+  to: number;
+  rung: number;
+  /** Epochs of the stretch trained at this rung, and their share of the stretch. */
+  epochs: number;
+  share: number;
+}
+
+/**
+ * The study's compute, in the order jobs ended, cut into `stretches` equal stretches of epochs, and
+ * how each stretch split over the rungs (a job's epochs spread evenly over the stretch it spans).
+ * Empty when nothing was trained. The shares of one stretch sum to 1.
+ */
+export function computeTimeline(study: StudyDocument, stretches = 60): ComputeStretch[] {
+  const jobs = studyJobs(study);
+  const total = jobs.reduce((sum, job) => sum + job.epochs, 0);
+  if (total === 0) return [];
+  const count = Math.max(1, Math.min(stretches, total));
+  const size = total / count;
+  const byRung = Array.from({ length: count }, () => new Map<number, number>());
+  let spent = 0;
+  for (const job of jobs) {
+    const start = spent;
+    const end = spent + job.epochs;
+    spent = end;
+    for (let k = Math.floor(start / size); k < count && k * size < end; k++) {
+      const overlap = Math.min(end, (k + 1) * size) - Math.max(start, k * size);
+      if (overlap > 0) byRung[k]!.set(job.rung, (byRung[k]!.get(job.rung) ?? 0) + overlap);
+    }
+  }
+  return byRung.flatMap((rungs, k) =>
+    [...rungs].sort((a, b) => a[0] - b[0]).map(([rung, epochs]) => ({ from: k * size, to: (k + 1) * size, rung, epochs, share: epochs / size })),
+  );
+}

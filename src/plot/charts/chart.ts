@@ -28,3 +28,7 @@ export type ChartBody = TopLevelSpec extends infer Spec ? (Spec extends unknown 
 export function titledChart(name: string, title: string, subtitle: string | string[], body: ChartBody, config: object = {}): Chart {
   return { name, title, spec: { $schema: VEGA_LITE_SCHEMA, title: { text: title, subtitle }, ...body, config: { ...CHART_CONFIG, ...config } } as TopLevelSpec };
 }
+
+type LayerOf<Spec> = Spec extends { layer: (infer Layer)[] } ? Layer : never;
+/** One layer of a layered chart. */
+export type ChartLayer = LayerOf<TopLevelSpec>;
