@@ -1,5 +1,6 @@
 import type { Goal } from '../core/configuration.js';
-import type { RankedTrial } from '../core/ranking.js';
+import { isFinished, type RankedTrial } from '../core/ranking.js';
+import { flagsText } from '../core/health.js';
 import { scheduleInWords } from '../trainers/shared/schedule.js';
 import { formatNumber, textTable } from './format.js';
 
@@ -14,7 +15,8 @@ export function rankingTable(ranking: readonly RankedTrial[], goal: Goal): strin
   // Columns for schedules and early stopping only when a trial has them, so other rankings read as before.
   const schedules = ranking.some(({ trial }) => trial.configuration.schedule !== undefined);
   const stopping = ranking.some(({ trial }) => trial.bestEpoch !== undefined);
-  const header = ['rank', 'trial', 'rung', 'epochs', ...(stopping ? ['best epoch'] : []), folds ? `${goal.metric} (fold mean ± SE)` : goal.metric, 'depth', 'width', 'activation', 'learning rate', ...(schedules ? ['schedule'] : []), 'batch', 'optimizer', 'l2', 'dropout'];
+  const flagged = ranking.some(({ trial }) => (trial.flags?.length ?? 0) > 0);
+  const header = ['rank', 'trial', 'rung', 'epochs', ...(stopping ? ['best epoch'] : []), folds ? `${goal.metric} (fold mean ± SE)` : goal.metric, 'depth', 'width', 'activation', 'learning rate', ...(schedules ? ['schedule'] : []), 'batch', 'optimizer', 'l2', 'dropout', ...(flagged ? ['flags'] : [])];
   const rows = ranking.map(({ rank, trial }) => [
     String(rank),
     String(trial.id),
@@ -31,6 +33,7 @@ export function rankingTable(ranking: readonly RankedTrial[], goal: Goal): strin
     trial.configuration.optimizer,
     formatNumber(trial.configuration.l2),
     formatNumber(trial.configuration.dropout),
+    ...(flagged ? [flagsText(trial.flags) || '-'] : []),
   ]);
   return textTable(header, rows);
 }
@@ -43,6 +46,8 @@ export function rankingJson(ranking: readonly RankedTrial[], goal: Goal): unknow
       rank,
       trial: trial.id,
       status: trial.status,
+      finished: isFinished(trial),
+      flags: trial.flags ?? [],
       rung: trial.rung,
       epochs: trial.epochsTrained,
       score: trial.score,
