@@ -55,6 +55,6 @@ export function constantBaseline(task: Task, splits: readonly LabelSplit[], clas
     const values = each.map((m) => m[key]).filter((v): v is number => v !== undefined);
     if (values.length === each.length) metrics[key] = values.reduce((a, b) => a + b, 0) / values.length;
   }
-  const what = task === 'regression' ? 'the training mean for every row' : 'the training class shares for every row (the majority class)';
+  const what = task === 'regression' ? 'the training mean for every row' : 'the training class shares as every row\'s probabilities: the majority class';
   return { metrics, what: splits.length > 1 ? `${what}, mean over ${splits.length} folds` : what };
 }
