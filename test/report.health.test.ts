@@ -2,6 +2,7 @@
 import { describe, expect, it } from 'vitest';
 import { constantBaseline } from '../src/metrics/constant-baseline.js';
 import { flaggedRegions, healthSummary } from '../src/report/health-summary.js';
+import { baselineLine, linearBaselineWarning } from '../src/report/baseline-text.js';
 import { trialRecord } from './helpers/trials.js';
 
 describe('the constant baseline', () => {
@@ -50,5 +51,20 @@ describe('the health summary', () => {
     expect(flaggedRegions(trials).map((r) => [r.optimizer, r.from, r.flagged, r.trials])).toEqual([['sgd', 1, 2, 2], ['adam', 0.1, 1, 2]]);
     expect(healthSummary(trials)).toBe('health: 3 of 5 trials flagged (flat-output 1, blew-up 1, no-lift 2); most in sgd at learning rate 1 to 10 (2 of 2), adam at learning rate 0.1 to 1 (1 of 2)');
     expect(healthSummary(trials.filter((t) => !t.flags))).toBeUndefined();
+  });
+});
+
+describe('the baselines beside the leader', () => {
+  const baselines = { constant: { metrics: { auc: 0.5 }, what: 'constant' }, linear: { metrics: { auc: 0.8 }, what: 'linear' } };
+  const goal = { metric: 'auc' as const, better: 'higher' as const };
+  it('prints both baselines and the leader, and warns when the leader does not beat the linear model by more than its standard error', () => {
+    const close = { baselines, goal, trials: [trialRecord(1, 0.83, { scoreStandardError: 0.04 })] };
+    expect(baselineLine(close)).toBe('baselines on the validation rows (auc): constant 0.5, linear 0.8; the leader, trial 1, 0.83');
+    // 0.83 - 0.04 = 0.79 does not beat 0.8.
+    expect(linearBaselineWarning(close)).toMatch(/^warning: the leader \(trial 1, auc 0.83\) does not beat the linear baseline \(0.8\) by more than its standard error \(0.04\)/);
+    // 0.83 - 0.02 = 0.81 beats 0.8.
+    expect(linearBaselineWarning({ ...close, trials: [trialRecord(1, 0.83, { scoreStandardError: 0.02 })] })).toBeUndefined();
+    // Without folds the margin is 0: equal to the linear score is not beating it.
+    expect(linearBaselineWarning({ ...close, trials: [trialRecord(1, 0.8)] })).toMatch(/^warning: .*does not beat the linear baseline \(0.8\); /);
   });
 });

@@ -8,9 +8,14 @@ export interface BaselineEntry {
   what: string;
 }
 
-/** The study's baselines. `constant`: the majority class (with the training class shares as probabilities) or the training mean. */
+/**
+ * The study's baselines. `constant`: the majority class (with the training class shares as
+ * probabilities) or the training mean. `linear`: a network without hidden layers over a small L2 grid
+ * (absent in files from before it, or when every grid point diverged).
+ */
 export interface StudyBaselines {
   constant: BaselineEntry;
+  linear?: BaselineEntry;
 }
 
 /** A baseline's value of the goal metric, or undefined when it has none. */

@@ -46,6 +46,7 @@ export function studyDigest(study: StudyDocument, importance: StudyImportance | 
   const agreements = halving ? rungAgreements(study) : [];
   const standings = winner && halving ? rungStandings(study).filter((s) => s.trialId === winner.id) : [];
   const constant = baselineScore(study.baselines?.constant, study.goal.metric);
+  const linear = baselineScore(study.baselines?.linear, study.goal.metric);
   const unscored = study.trials.filter((t) => !(typeof t.score === 'number' && Number.isFinite(t.score))).length;
   return {
     name: study.name,
@@ -59,7 +60,7 @@ export function studyDigest(study: StudyDocument, importance: StudyImportance | 
     winnerAtRungs: standings.length > 0 ? standings.map((s) => `${s.place} of ${s.of} at rung ${s.rung}`).join(', ') : '-',
     importance: importance ? importance.parameters.slice(0, 3).map((p) => `${p.key} ${percent(p.share)}`).join(', ') : 'too few configurations',
     unscored: `${unscored} of ${study.trials.length}`,
-    baseline: constant === undefined ? '-' : `constant predictor ${study.goal.metric} ${formatNumber(constant)}`,
+    baseline: constant === undefined ? '-' : `constant ${formatNumber(constant)}${linear === undefined ? '' : `, linear ${formatNumber(linear)}`} (${study.goal.metric})`,
     health: healthSummary(study.trials)?.replace(/^health: /, '') ?? 'none flagged',
   };
 }

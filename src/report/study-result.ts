@@ -57,6 +57,8 @@ export interface StudyResultJson {
   /** Ranked trials best first, then the unranked ones by id. */
   trials: TrialEntry[];
   caution: string;
+  /** The constant and linear baselines' validation figures (absent for files from before baselines). */
+  baselines?: StudyDocument['baselines'];
 }
 
 function unrankedReason(trial: TrialRecord): string {
@@ -117,6 +119,7 @@ export function studyResultJson(doc: StudyDocument, ranking: readonly RankedTria
     shown: trials.length,
     trials,
     caution: OPTIMISM_CAUTION,
+    ...(doc.baselines ? { baselines: doc.baselines } : {}),
   };
 }
 

@@ -3,7 +3,7 @@ import { unsuccessfulTrials } from '../core/trial-status.js';
 import { OPTIMISM_CAUTION } from './caution.js';
 import { formatDuration, formatNumber } from './format.js';
 import { healthSummary } from './health-summary.js';
-import { baselineLine } from './baseline-text.js';
+import { baselineLine, linearBaselineWarning } from './baseline-text.js';
 
 
 /** The closing lines of a run: trials by status, totals, the study file's path and the caution. */
@@ -20,6 +20,8 @@ export function studySummary(doc: StudyDocument, file = ''): string {
   if (file) lines.push(`study file: ${file}`);
   const baseline = baselineLine(doc);
   if (baseline) lines.push(baseline);
+  const warning = linearBaselineWarning(doc);
+  if (warning) lines.push(warning);
   const health = healthSummary(doc.trials);
   if (health) lines.push(health);
   lines.push(OPTIMISM_CAUTION);

@@ -118,8 +118,6 @@ async function drive(store: StudyStore, data: PreparedData, options: ExecuteOpti
   const doc = store.doc;
   const { definition, goal } = doc;
   const resumed = doc.trials.length > 0;
-  // Before the first trial, so every trial is checked against them (a study from before baselines gets them on resume).
-  doc.baselines ??= studyBaselines(data);
   const workers = options.workers ?? definition.workers ?? availableParallelism();
   const emit = options.onEvent ?? (() => undefined);
   const sampler = createSampler(definition);
@@ -141,6 +139,8 @@ async function drive(store: StudyStore, data: PreparedData, options: ExecuteOpti
     [...(await keeper.list()), ...doc.trials.map((t) => t.id)],
   );
   const dataset = toSharedDataset(data, datasetId(data));
+  // Before the first trial, so every trial is checked against them (a study from before baselines gets them on resume).
+  doc.baselines ??= await studyBaselines(data, data.folds ? foldDatasets(data) : [dataset], goal, definition.budget.maxEpochs, definition.sampler.seed);
   const notes = new Set<string>();
   /** Say something once per `key` (the message itself unless given). */
   const note = (message: string, key = message): void => {

@@ -115,6 +115,8 @@ export class TrialLifecycle {
     const flagged = this.checkHealth(record, job.rung);
     const loss = flagged ? null : orientedLoss(record.score, this.goal);
     this.sampler.report({ trialId: job.trialId, rung: job.rung, loss, ...(result.stoppedAtEpoch !== undefined ? { stopped: true } : {}) });
+    // A trial at the epoch limit has finished: no job can continue it, so it ends now, not when its sampler lets go.
+    if (record.status === 'waiting' && scoredEpochs(record) >= this.definition.budget.maxEpochs) this.end(record);
     this.endAbandoned();
     return record;
   }
