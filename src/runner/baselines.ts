@@ -16,7 +16,8 @@ import { runTrainRequest } from '../trainers/run-request.js';
 export const LINEAR_L2_GRID: readonly number[] = [0, 1e-4, 1e-2];
 /** The linear model's optimizer settings (common practice (no source): Adam at 0.01 on standardised inputs). */
 const LINEAR_SETTINGS = { optimizer: 'adam', learningRate: 0.01, batchSize: 32 } as const;
-/** Epochs the linear model trains: the study's epoch limit, at most this. */
+/** Epochs the linear model trains: the study's epoch limit, at least the first and at most the second (common practice (no source): a linear model converges in tens of epochs). */
+const LINEAR_MIN_EPOCHS = 20;
 const LINEAR_MAX_EPOCHS = 100;
 
 /** The constant predictor on the study's validation rows (with folds: the mean over the folds). */
@@ -57,7 +58,7 @@ function meanMetrics(parts: Partial<Record<MetricName, number>>[]): Partial<Reco
  * its folds'), average, and keep the L2 whose goal score is best (ties: the smaller L2).
  */
 export async function linearOf(datasets: readonly SharedDataset[], goal: Goal, maxEpochs: number, studySeed: number): Promise<BaselineEntry | undefined> {
-  const epochs = Math.min(maxEpochs, LINEAR_MAX_EPOCHS);
+  const epochs = Math.min(Math.max(maxEpochs, LINEAR_MIN_EPOCHS), LINEAR_MAX_EPOCHS);
   const seed = deriveSeed(studySeed, 'linear-baseline');
   let best: { l2: number; metrics: Partial<Record<MetricName, number>>; score: number } | undefined;
   for (const l2 of LINEAR_L2_GRID) {
