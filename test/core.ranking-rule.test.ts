@@ -10,6 +10,7 @@ import { ranking } from '../src/commands/ranking.js';
 import { leaderOf, rankTrials } from '../src/core/ranking.js';
 import { healthFlags } from '../src/core/health.js';
 import { studyResultJson, studyResultText } from '../src/report/study-result.js';
+import { rankingTable } from '../src/report/ranking-table.js';
 import { StudyStore } from '../src/store/study-store.js';
 import type { TrialRecord } from '../src/core/trial.js';
 import { trialRecord } from './helpers/trials.js';
@@ -109,5 +110,16 @@ describe('health flags', () => {
     const rmse = { metric: 'rmse' as const, better: 'lower' as const };
     expect(healthFlags(trialRecord(1, 2.0, {}), rmse, 2.0)).toEqual(['no-lift']);
     expect(healthFlags(trialRecord(2, 1.5, {}), rmse, 2.0)).toEqual([]);
+  });
+});
+
+describe('the ranking table of a classification study', () => {
+  it('shows accuracy and macro-F1 side by side beside the goal', () => {
+    const point = (auc: number, accuracy: number, macroF1: number) => [{ epoch: 10, trainLoss: 0.5, validationLoss: 0.5, metrics: { auc, accuracy, macroF1 }, seconds: 0 }];
+    const goal = { metric: 'auc' as const, better: 'higher' as const };
+    const ranked = rankTrials([trialRecord(1, 0.8, { curve: point(0.8, 0.75, 0.6) }), trialRecord(2, 0.9, { curve: point(0.9, 0.7, 0.65) })], goal);
+    const lines = rankingTable(ranked, goal).split('\n');
+    expect(lines[0]).toMatch(/auc\s+accuracy\s+macroF1\s+depth/);
+    expect(lines[2]).toMatch(/^\s*1\s+2\s.*0\.9\s+0\.7\s+0\.65\s/);
   });
 });

@@ -68,3 +68,14 @@ describe('the baselines beside the leader', () => {
     expect(linearBaselineWarning({ ...close, trials: [trialRecord(1, 0.8)] })).toMatch(/^warning: .*does not beat the linear baseline \(0.8\); /);
   });
 });
+
+describe('class weights and the goal', () => {
+  it('warns when the goal is accuracy and the class weights are fixed to balanced, and not otherwise', async () => {
+    const { studyFromObject } = await import('../src/study/load.js');
+    const base = { name: 'w', data: { csv: 'x.csv', target: 'y', task: 'multiclass' }, space: { depth: { min: 1, max: 1 }, width: { min: 4, max: 4 }, activation: ['relu'], learningRate: { min: 0.01, max: 0.01 } }, budget: { trials: 1, maxEpochs: 1 }, sampler: { kind: 'random' } };
+    const balanced = studyFromObject({ ...base, data: { ...base.data, classWeights: 'balanced' }, goal: { metric: 'accuracy' } }, '.');
+    expect(balanced.notes?.join('\n')).toMatch(/warning: data\.classWeights is "balanced" while the goal is accuracy/);
+    expect(studyFromObject({ ...base, data: { ...base.data, classWeights: 'balanced' }, goal: { metric: 'macroF1' } }, '.').notes ?? []).toEqual([]);
+    expect(studyFromObject({ ...base, goal: { metric: 'accuracy' } }, '.').notes ?? []).toEqual([]);
+  });
+});

@@ -16,7 +16,10 @@ export function rankingTable(ranking: readonly RankedTrial[], goal: Goal): strin
   const schedules = ranking.some(({ trial }) => trial.configuration.schedule !== undefined);
   const stopping = ranking.some(({ trial }) => trial.bestEpoch !== undefined);
   const flagged = ranking.some(({ trial }) => (trial.flags?.length ?? 0) > 0);
-  const header = ['rank', 'trial', 'rung', 'epochs', ...(stopping ? ['best epoch'] : []), folds ? `${goal.metric} (fold mean ± SE)` : goal.metric, 'depth', 'width', 'activation', 'learning rate', ...(schedules ? ['schedule'] : []), 'batch', 'optimizer', 'l2', 'dropout', ...(flagged ? ['flags'] : [])];
+  // Classification: accuracy and macro-F1 side by side (besides the goal's metric), to see what class weights trade.
+  const scoredPoint = (trial: RankedTrial['trial']) => (trial.bestEpoch !== undefined ? trial.curve.find((p) => p.epoch === trial.bestEpoch) : trial.curve.at(-1));
+  const sideBySide = (['accuracy', 'macroF1'] as const).filter((name) => name !== goal.metric && ranking.some(({ trial }) => scoredPoint(trial)?.metrics[name] !== undefined));
+  const header = ['rank', 'trial', 'rung', 'epochs', ...(stopping ? ['best epoch'] : []), folds ? `${goal.metric} (fold mean ± SE)` : goal.metric, ...sideBySide, 'depth', 'width', 'activation', 'learning rate', ...(schedules ? ['schedule'] : []), 'batch', 'optimizer', 'l2', 'dropout', ...(flagged ? ['flags'] : [])];
   const rows = ranking.map(({ rank, trial }) => [
     String(rank),
     String(trial.id),
@@ -24,6 +27,7 @@ export function rankingTable(ranking: readonly RankedTrial[], goal: Goal): strin
     String(trial.epochsTrained) + (trial.stoppedEarly ? ' (stopped)' : ''),
     ...(stopping ? [trial.bestEpoch === undefined ? '-' : String(trial.bestEpoch)] : []),
     scoreText(trial.score, trial.scoreStandardError),
+    ...sideBySide.map((name) => formatNumber(scoredPoint(trial)?.metrics[name])),
     String(trial.configuration.depth),
     String(trial.configuration.width),
     trial.configuration.activation,
