@@ -225,9 +225,9 @@ describe('what the CLI says of a stopped trial', () => {
     const trial = trialRecord(4, 0.81, { epochsTrained: 7, bestEpoch: 4, stoppedEarly: true, stoppedAtEpoch: 7, rung: 1, rungScores: [0.7, 0.81], jobs: [{ rung: 0, fromEpoch: 0, toEpoch: 3, fromCheckpoint: false, attempts: 1, status: 'done' }, { rung: 1, fromEpoch: 3, toEpoch: 9, fromCheckpoint: true, attempts: 1, status: 'done' }] });
     const job = { trialId: 4, configuration: trial.configuration, rung: 1, bracket: 0, fromEpoch: 3, toEpoch: 9 };
     expect(describeJob({ trial, job }, 'auc')).toBe('trial 4 rung 1 stopped early after epoch 7: auc 0.81 (best epoch 4)');
-    const other = trialRecord(5, 0.9, { epochsTrained: 3, jobs: [{ rung: 0, fromEpoch: 0, toEpoch: 3, fromCheckpoint: false, attempts: 1, status: 'done' }] });
+    const other = trialRecord(5, 0.9, { epochsTrained: 3, status: 'dropped', jobs: [{ rung: 0, fromEpoch: 0, toEpoch: 3, fromCheckpoint: false, attempts: 1, status: 'done' }] });
     const ranking = rankTrials([trial, other], { metric: 'auc', better: 'higher' });
-    // The stopped trial counts with the 9 epochs its rung gave it, so it outranks a 3-epoch trial with a higher score.
+    // The stopped trial finished (its rule stopped it), so it outranks a trial cut at 3 epochs with a higher score.
     expect(ranking.map((r) => r.trial.id)).toEqual([4, 5]);
     const table = rankingTable(ranking, { metric: 'auc', better: 'higher' }).split('\n');
     expect(table[0]).toMatch(/epochs\s+best epoch\s+auc/);

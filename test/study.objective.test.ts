@@ -23,12 +23,20 @@ describe('ranking', () => {
     expect(ids(ranked)).toEqual([1, 2, 3]);
   });
 
-  it('puts trials scored after more epochs first, whatever their objective', () => {
+  it('puts finished trials first, then trials cut by a halving sampler by the epochs they reached', () => {
     const ranked = rankTrials(
       [trial(0, 0.95, { epochsTrained: 1, status: 'dropped' }), trial(1, 0.7, { epochsTrained: 9 }), trial(2, 0.8, { epochsTrained: 3, status: 'dropped' })],
       { metric: 'accuracy', better: 'higher' },
     );
     expect(ids(ranked)).toEqual([1, 2, 0]);
+  });
+
+  it('ranks a trial its early-stopping rule ended by its best epoch\'s score, not below trials that trained longer', () => {
+    const ranked = rankTrials(
+      [trial(0, 0.85, { epochsTrained: 27 }), trial(1, 0.9, { epochsTrained: 4, stoppedEarly: true, stoppedAtEpoch: 4, bestEpoch: 1, status: 'dropped' }), trial(2, 0.95, { epochsTrained: 9, status: 'dropped' })],
+      { metric: 'auc', better: 'higher' },
+    );
+    expect(ids(ranked)).toEqual([1, 0, 2]);
   });
 
   it('compares epochs, not rung indices, across Hyperband brackets', () => {

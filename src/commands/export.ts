@@ -15,6 +15,8 @@ import { classReport, classReportText, trialClassReport, type ClassReport } from
 import { classFigures } from '../metrics/class-figures.js';
 import { ONNX_FILE } from '../export/onnx-schema.js';
 import { retrainTrial } from '../export/retrain.js';
+import { compareOnTest, type HandOffComparison } from '../export/hand-off-check.js';
+import type { NamedWeights } from '../checkpoints/format.js';
 import { keptCheckpointWeights, trialAtRank } from '../export/select.js';
 import { formatNumber, textTable } from '../report/format.js';
 import { SPLIT_RECORD_NAME, runPaths } from '../store/run-dir.js';
@@ -72,6 +74,14 @@ export interface ExportSummary {
   validation: Metrics;
   /** With --retrain: the retrained model's metrics on the held-out test split. */
   test?: Metrics;
+  /** With --retrain (without folds): the study's own network's metrics on the same test split, when its checkpoint is kept. */
+  studyTest?: Metrics;
+  /** With --retrain: the two networks compared on the test split, with the noise of the difference. */
+  handOff?: HandOffComparison;
+  /** The study's baselines on its validation rows, to read the winner against (absent for files from before them). */
+  baselines?: StudyDocument['baselines'];
+  /** Warnings the CLI prints (e.g. the retrained network is worse than the study's). */
+  warnings?: string[];
   /** Binary: the decision threshold and how it was chosen. */
   threshold?: ThresholdChoice;
   /** Classification: per-class figures on the validation split (and the test split with --retrain). */
@@ -128,6 +138,8 @@ export async function exportModel(options: ExportCommandOptions): Promise<Export
   // The rows of each split travel with the model, so the winner can be re-scored elsewhere (absent for studies from before the record).
   const splitRecord = existsSync(runPaths.splitRecord(runDir)) ? runPaths.splitRecord(runDir) : undefined;
 
+  // With --retrain, the study's own network too (when kept), to be scored on the same test rows.
+  const studyWeights = retrain && folds === undefined ? await keptCheckpointWeights(runDir, doc, chosen).catch(() => undefined) : undefined;
   let figures: ExportFigures = {};
   await writeFolderAtomically(
     out,
@@ -138,6 +150,7 @@ export async function exportModel(options: ExportCommandOptions): Promise<Export
       const model = buildLayersModel(trial.configuration, doc.recipe, weights);
       try {
         figures = { ...exportFigures(model, doc, trial, data, rule, retrain), ...(retrain ? { retrained: true } : {}) };
+        if (studyWeights && data && data.test.rows > 0) figures = { ...figures, ...studyNetworkOnTest(studyWeights, model, doc, trial, data, figures) };
         await saveLayersModel(model, partial);
         const configuration = buildConfiguration(doc, trial, rank, figures);
         if (format === 'onnx') {
@@ -171,10 +184,44 @@ export async function exportModel(options: ExportCommandOptions): Promise<Export
     caution: OPTIMISM_CAUTION,
   };
   if (figures.test) summary.test = figures.test;
+  if (figures.studyTest) summary.studyTest = figures.studyTest;
+  if (doc.baselines) summary.baselines = doc.baselines;
+  if (figures.handOff) summary.handOff = figures.handOff;
+  const warnings = handOffWarnings(summary, retrain && folds === undefined && !studyWeights);
+  if (warnings.length > 0) summary.warnings = warnings;
   if (folds !== undefined) summary.folds = folds;
   if (figures.threshold) summary.threshold = figures.threshold;
   if (figures.classes) summary.classes = figures.classes;
   return summary;
+}
+
+/** The study's own network scored on the test split beside the retrained one, and the two compared. */
+function studyNetworkOnTest(weights: NamedWeights[], retrained: tf.LayersModel, doc: StudyDocument, trial: TrialRecord, data: PreparedData, figures: ExportFigures): Pick<ExportFigures, 'studyTest' | 'handOff'> {
+  const studyModel = buildLayersModel(trial.configuration, doc.recipe, weights);
+  try {
+    const threshold = figures.threshold?.threshold ?? DEFAULT_THRESHOLD;
+    const columns = outputCount(doc.recipe);
+    const studyOutputs = predictRows(studyModel, data.test.x, data.test.rows, doc.recipe.inputCount);
+    const retrainedOutputs = predictRows(retrained, data.test.x, data.test.rows, doc.recipe.inputCount);
+    const studyTest = evaluateExportedModel(studyModel, doc.recipe, data.test, threshold, studyOutputs);
+    const handOff = compareOnTest(doc.recipe, data.test, studyOutputs, retrainedOutputs, columns, doc.goal, threshold, trial.seed);
+    return { studyTest, ...(handOff ? { handOff } : {}) };
+  } finally {
+    studyModel.dispose();
+  }
+}
+
+/** Warnings of a retrained export: worse than the study's network beyond the noise, or no study network to compare with. */
+function handOffWarnings(summary: ExportSummary, studyNetworkMissing: boolean): string[] {
+  const warnings: string[] = [];
+  const h = summary.handOff;
+  if (h?.worse) {
+    warnings.push(
+      `warning: the retrained network scores ${h.metric} ${formatNumber(h.retrained)} on the test split, worse than the study's own network (${formatNumber(h.study)}) by more than the noise (difference ${formatNumber(h.difference)}, standard error ${formatNumber(h.standardError)}, ${h.method}); \`rungwise export ${summary.dir} --rank ${summary.rank}\` exports the study's network`,
+    );
+  }
+  if (studyNetworkMissing) warnings.push(`note: rank ${summary.rank} (trial ${summary.trialId}) has no kept checkpoint, so the retrained network could not be compared with the study's own on the test split`);
+  return warnings;
 }
 
 /**
@@ -225,18 +272,23 @@ export function exportReport(summary: ExportSummary): string {
   ];
   const names = Object.keys(summary.validation) as MetricName[];
   const study = summary.folds !== undefined ? `validation (study, mean of ${summary.folds} folds)` : 'validation (study)';
-  const header = summary.test ? ['metric', study, 'test (retrained)'] : ['metric', study];
+  const header = summary.test ? ['metric', study, ...(summary.studyTest ? ['test (study network)'] : []), 'test (retrained)'] : ['metric', study];
   const rows = names.map((name) => {
     const row = [name, formatNumber(summary.validation[name])];
+    if (summary.test && summary.studyTest) row.push(formatNumber(summary.studyTest[name]));
     if (summary.test) row.push(formatNumber(summary.test[name]));
     return row;
   });
   lines.push(textTable(header, rows), '');
+  const constant = summary.baselines?.constant.metrics[summary.goal.metric];
+  const linear = summary.baselines?.linear?.metrics[summary.goal.metric];
+  if (constant !== undefined) lines.push(`baselines on the validation rows (${summary.goal.metric}): constant ${formatNumber(constant)}${linear !== undefined ? `, linear ${formatNumber(linear)}` : ''}; this trial ${formatNumber(summary.score)}`, '');
   lines.push(...thresholdLines(summary));
   if (summary.classes?.validation) lines.push(classReportText(summary.classes.validation).replace(/^validation rows/, 'validation split'), '');
   if (summary.classes?.test) lines.push(classReportText(summary.classes.test).replace(/^validation rows/, 'test split (retrained model)'), '');
   if (!summary.test && summary.retrained) lines.push('No test metrics: the study holds no test split (data.testFraction is 0).');
   else if (!summary.test) lines.push(`No test metrics: \`rungwise export ${summary.dir} --rank ${summary.rank} --retrain\` scores the configuration on the held-out test split.`);
+  lines.push(...(summary.warnings ?? []));
   lines.push(summary.caution);
   return lines.join('\n');
 }

@@ -1,7 +1,7 @@
 /**
  * The one home of the goal: a trial's score at an epoch, which way is better, comparison, and the
- * single ordering of trials. The progress display, `ranking`, `--json`, `export`, the report and the
- * library all rank with {@link rankTrials}.
+ * single ordering of trials. The progress display, `ranking`, `--json`, `export`, `compare`, the report
+ * and the library all rank with {@link rankTrials}; the leader is {@link leaderOf}.
  */
 import type { CurvePoint, TrialRecord } from './trial.js';
 import type { Goal } from './configuration.js';
@@ -43,14 +43,35 @@ export function scoredEpochs(trial: TrialRecord): number {
 }
 
 /**
- * The order of merit of two ranked trials: more epochs trained at the scored point first (a rung index
- * means different epochs in different Hyperband brackets, so it is not compared), then the better
- * score, then the lower id. A total order: the ranking depends only on the trials, never on the order
- * they finished in.
+ * Whether the trial's training finished: it trained to the study's epoch limit (`trained`), or its
+ * early-stopping rule stopped it (the rule's verdict on its epochs). A trial a halving sampler cut at a
+ * lower rung (`dropped`), or one still waiting or training, has not finished.
+ */
+export function isFinished(trial: Pick<TrialRecord, 'status' | 'stoppedEarly'>): boolean {
+  return trial.status === 'trained' || trial.stoppedEarly === true;
+}
+
+/** Whether the trial carries no health flag (see `core/health.ts`). */
+export function isHealthy(trial: Pick<TrialRecord, 'flags'>): boolean {
+  return (trial.flags?.length ?? 0) === 0;
+}
+
+/**
+ * The one ranking rule, the order of merit of two ranked trials:
+ * 1. a healthy trial before a flagged one;
+ * 2. a finished trial ({@link isFinished}) before one a halving sampler cut or is still training;
+ * 3. finished trials by their score (at the best epoch with early stopping); cut trials by the epochs
+ *    they reached (a rung index means different epochs in different Hyperband brackets, so it is not
+ *    compared), then by their score;
+ * 4. the lower id.
+ * A total order: the ranking depends only on the trials, never on the order they finished in.
  */
 export function compareTrials(a: ScoredTrial, b: ScoredTrial, goal: Pick<Goal, 'better'>): number {
   const sign = goal.better === 'higher' ? -1 : 1;
-  return scoredEpochs(b) - scoredEpochs(a) || sign * (a.score - b.score) || a.id - b.id;
+  const healthy = Number(isHealthy(b)) - Number(isHealthy(a));
+  const finished = Number(isFinished(b)) - Number(isFinished(a));
+  const reached = isFinished(a) ? 0 : scoredEpochs(b) - scoredEpochs(a);
+  return healthy || finished || reached || sign * (a.score - b.score) || a.id - b.id;
 }
 
 export interface RankedTrial {
@@ -65,6 +86,15 @@ export function rankTrials(trials: readonly TrialRecord[], goal: Goal): RankedTr
     .filter((t): t is ScoredTrial => isRanked(t.status) && isScored(t))
     .sort((a, b) => compareTrials(a, b, goal))
     .map((trial, index) => ({ rank: index + 1, trial }));
+}
+
+/**
+ * The leader while a study runs and once it ends: rank 1 among the finished trials, or undefined while
+ * none has finished. A finished trial's record never changes again, so a new leader only ever ranks
+ * above the one it replaces: the leader shown never gets worse as work is added.
+ */
+export function leaderOf(trials: readonly TrialRecord[], goal: Goal): ScoredTrial | undefined {
+  return rankTrials(trials.filter(isFinished), goal)[0]?.trial;
 }
 
 /** The goal in words, as the CLI prints it: "auc (higher is better)". */

@@ -64,10 +64,22 @@ export interface TrialRecord {
   origin?: ProposalOrigin;
   /** Classification: confusion matrix and average precision per class on the validation split at the last epoch trained (absent for older files and after a divergence). */
   classFigures?: ClassFigures;
+  /** Health flags at the trial's scored point (absent: healthy, or a file from before flags). A flagged trial never ranks above a healthy one. */
+  flags?: TrialFlag[];
+  /** Rungs whose result the sampler was told as bad (a null loss) because the trial was flagged there; replayed on resume. */
+  flaggedRungs?: number[];
   /** Why the sampler promoted the trial out of each rung (asynchronous halving records this). */
   promotions?: { fromRung: number; reason: string }[];
 }
 
+
+/**
+ * Why a trial's network is not to be trusted, whatever its score (`core/health.ts` decides):
+ * `flat-output`: its validation predictions are one class for every row (or an AUC of exactly 0.5);
+ * `blew-up`: its training diverged (with early stopping, possibly after a best epoch it is scored at);
+ * `no-lift`: its score does not beat the constant predictor's (the majority class, or the training mean).
+ */
+export type TrialFlag = 'flat-output' | 'blew-up' | 'no-lift';
 
 /** One job of a trial: a stretch of epochs, as the study file records it. */
 export interface JobRecord {

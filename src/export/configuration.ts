@@ -2,6 +2,7 @@
  * `configuration.json` of an export folder: everything needed to use the model without the study
  * file, and the record of how it was chosen and scored.
  */
+import type { HandOffComparison } from './hand-off-check.js';
 import { readFile } from 'node:fs/promises';
 import path from 'node:path';
 import type { PreprocessingRecipe } from '../data/types.js';
@@ -70,6 +71,11 @@ export interface ExportConfiguration {
   validation: LastEpochFigures;
   /** Set with --retrain: metrics of the retrained model on the held-out test split, computed once (a binary model's at its threshold). */
   test?: Metrics;
+  /** Set with --retrain when the study's own network was kept: its metrics on the same test split, and the two compared (the noise of the difference). */
+  studyTest?: Metrics;
+  handOff?: HandOffComparison;
+  /** Baselines the study recorded on its validation rows (constant and linear), to compare the winner with. */
+  baselines?: StudyDocument['baselines'];
   /** Classification: per-class figures and the confusion matrix on the validation split (at the decision threshold for a binary model), and on the test split with --retrain. */
   classes?: { validation?: ClassReport; test?: ClassReport };
   /** Rows the exported weights were trained on. */
@@ -119,6 +125,10 @@ export function scoredEpoch(trial: TrialRecord): number {
 
 /** What an export adds to the study's record of the trial. */
 export interface ExportFigures {
+  /** With --retrain: the study's own network's metrics on the same test split (absent with folds or without a kept checkpoint). */
+  studyTest?: Metrics;
+  /** With --retrain: the two networks compared on the test split. */
+  handOff?: HandOffComparison;
   /** With --retrain: the retrained model's metrics on the test split. */
   test?: Metrics;
   /** Binary: the threshold chosen by the study's rule (absent: 0.5, no rule). */
@@ -157,6 +167,9 @@ export function buildConfiguration(doc: StudyDocument, trial: TrialRecord, rank:
     caution: OPTIMISM_CAUTION,
   };
   if (retrained) configuration.test = retrained.test;
+  if (figures.studyTest) configuration.studyTest = figures.studyTest;
+  if (figures.handOff) configuration.handOff = figures.handOff;
+  if (doc.baselines) configuration.baselines = doc.baselines;
   if (figures.classes) configuration.classes = figures.classes;
   return configuration;
 }

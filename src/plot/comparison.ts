@@ -23,6 +23,8 @@ const DIGEST_ROWS: readonly [string, Exclude<keyof StudyDigest, 'halving'>][] = 
   ['winner at each rung', 'winnerAtRungs'],
   ['largest importance', 'importance'],
   ['trials without a score', 'unscored'],
+  ['baseline', 'baseline'],
+  ['health flags', 'health'],
 ];
 
 /** The digests as a table: one row per answer, one column per study. */

@@ -1,4 +1,6 @@
 import { formatNumber } from '../report/format.js';
+import { healthSummary } from '../report/health-summary.js';
+import { baselineScore } from '../core/baselines.js';
 import type { StudyDocument } from '../store/types.js';
 import { computeSpent, leaderSteps, plannedEpochs, rungShares } from './analysis/budget.js';
 import { rungAgreements, rungStandings } from './analysis/rung-agreement.js';
@@ -22,6 +24,10 @@ export interface StudyDigest {
   winnerAtRungs: string;
   importance: string;
   unscored: string;
+  /** The constant predictor's goal score on the validation rows, or '-' for a file without baselines. */
+  baseline: string;
+  /** The flagged trials and where in the space they were, or 'none'. */
+  health: string;
 }
 
 const percent = (share: number): string => `${Math.round(share * 100)}%`;
@@ -39,6 +45,8 @@ export function studyDigest(study: StudyDocument, importance: StudyImportance | 
   for (const share of shares) byRung.set(share.rung, (byRung.get(share.rung) ?? 0) + share.share);
   const agreements = halving ? rungAgreements(study) : [];
   const standings = winner && halving ? rungStandings(study).filter((s) => s.trialId === winner.id) : [];
+  const constant = baselineScore(study.baselines?.constant, study.goal.metric);
+  const linear = baselineScore(study.baselines?.linear, study.goal.metric);
   const unscored = study.trials.filter((t) => !(typeof t.score === 'number' && Number.isFinite(t.score))).length;
   return {
     name: study.name,
@@ -52,6 +60,8 @@ export function studyDigest(study: StudyDocument, importance: StudyImportance | 
     winnerAtRungs: standings.length > 0 ? standings.map((s) => `${s.place} of ${s.of} at rung ${s.rung}`).join(', ') : '-',
     importance: importance ? importance.parameters.slice(0, 3).map((p) => `${p.key} ${percent(p.share)}`).join(', ') : 'too few configurations',
     unscored: `${unscored} of ${study.trials.length}`,
+    baseline: constant === undefined ? '-' : `constant ${formatNumber(constant)}${linear === undefined ? '' : `, linear ${formatNumber(linear)}`} (${study.goal.metric})`,
+    health: healthSummary(study.trials)?.replace(/^health: /, '') ?? 'none flagged',
   };
 }
 
@@ -62,6 +72,8 @@ export function digestFindings(digest: StudyDigest): Map<string, string[]> {
   findings.set(budget!, [
     `Spent ${digest.spent}. The winner took the lead ${digest.winnerFound}.`,
     ...(digest.halving ? [`Compute by rung: ${digest.rungShares}.`] : []),
+    ...(digest.baseline !== '-' ? [`Baseline on the validation rows: ${digest.baseline}; the winner: ${digest.winner}.`] : []),
+    ...(digest.health !== 'none flagged' ? [`Health flags: ${digest.health}.`] : []),
   ]);
   if (digest.rungAgreement !== '-') {
     findings.set(rungs!, [

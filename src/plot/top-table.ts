@@ -5,6 +5,7 @@ import type { StudyDocument } from '../store/types.js';
 import type { TrialRecord } from '../core/trial.js';
 import type { MetricName } from '../core/configuration.js';
 import { rankTrials } from '../core/ranking.js';
+import { flagsText } from '../core/health.js';
 import { WINNER_SYMBOL } from './palette.js';
 
 /** Configurations listed at the top of the report. */
@@ -38,6 +39,7 @@ export function topConfigurations(study: StudyDocument, top = TOP_CONFIGURATIONS
   const leader = ranked[0]?.trial;
   const metricNames = [...new Set(ranked.flatMap(({ trial }) => otherMetrics(trial, study.goal.metric).map(([name]) => name)))];
   const anyRepeats = ranked.some(({ trial }) => repeatsOf(study, trial).length > 1);
+  const anyFlags = ranked.some(({ trial }) => (trial.flags?.length ?? 0) > 0);
   const rows = ranked.map(({ rank, trial }): TableRow => {
     const metrics = new Map(otherMetrics(trial, study.goal.metric));
     const p = trial.configuration;
@@ -51,6 +53,7 @@ export function topConfigurations(study: StudyDocument, top = TOP_CONFIGURATIONS
       ...Object.fromEntries(metricNames.map((name) => [name, formatNumber(metrics.get(name))])),
       configuration: `${p.depth} x ${p.width} ${p.activation}, ${p.optimizer} at learning rate ${formatNumber(p.learningRate)}, batch ${p.batchSize}, L2 ${formatNumber(p.l2)}, dropout ${formatNumber(p.dropout)}${p.schedule ? `, schedule ${scheduleInWords(p)}` : ''}`,
     };
+    if (anyFlags) row.flags = flagsText(trial.flags) || '-';
     if (anyRepeats) {
       const scores = repeatsOf(study, trial);
       row['repeats (range)'] = scores.length > 1 ? `${scores.length} (${formatNumber(Math.min(...scores))} to ${formatNumber(Math.max(...scores))})` : '1';

@@ -6,6 +6,7 @@ import type { PlannedWork } from './budget.js';
 import { formatDuration, formatNumber } from './format.js';
 import { fitLine, type LineSegment } from './progress-line.js';
 import { scoreText } from './ranking-table.js';
+import { flagsText } from '../core/health.js';
 import { plain, type Painter } from './style.js';
 
 /** Redraw the live line at most this often (epoch events can come every millisecond). */
@@ -46,14 +47,15 @@ export function describeJob(event: Pick<TrialFinished, 'trial' | 'job'>, metric:
   const diverged = stoppedHere && trial.divergedAfterBest ? ` (${trial.divergedAfterBest.reason})` : '';
   const ended = stoppedHere ? `stopped early after epoch ${trial.stoppedAtEpoch}${diverged}` : `done at epoch ${job.toEpoch}`;
   const best = trial.bestEpoch !== undefined ? ` (best epoch ${trial.bestEpoch})` : '';
-  return `trial ${trial.id}${rung} ${ended}: ${metric} ${formatNumber(value)}${best}${where ? ` on ${where}` : ''}`;
+  const flags = trial.flags && trial.flags.length > 0 ? ` [${flagsText(trial.flags)}]` : '';
+  return `trial ${trial.id}${rung} ${ended}: ${metric} ${formatNumber(value)}${best}${flags}${where ? ` on ${where}` : ''}`;
 }
 
 function leaderText(leader: TrialRecord | undefined, metric: string): LineSegment {
-  if (!leader) return { text: 'leader -', dropCost: 10 };
+  if (!leader) return { text: 'leader - (none finished)', short: 'leader -', shortCost: 6, dropCost: 10 };
   const value = formatNumber(leader.score);
   const spread = leader.scoreStandardError !== undefined && leader.score !== null ? ` ± ${formatNumber(leader.scoreStandardError)}` : '';
-  // The epochs say why a lower value can lead: the one ordering puts longer-trained trials first.
+  // The leader is the best finished trial (core/ranking.ts `leaderOf`): it never gets worse as work is added.
   return { text: `leader #${leader.id} ${metric} ${value}${spread} @${leader.epochsTrained}ep`, short: `#${leader.id} ${value}`, shortCost: 6, dropCost: 10 };
 }
 
@@ -106,6 +108,8 @@ export function progressObserver(options: ProgressOptions): StudyObserver {
   let drawn = false;
   const running = new Map<number, Job>();
   const told = new Set<string>();
+  /** Trials whose latest result carries a health flag. */
+  const flagged = new Set<number>();
 
   const counters = (done: { jobsDone: number; epochsDone: number }): string =>
     `${done.jobsDone}${planned()} jobs, ${done.epochsDone}/${approx}${plannedEpochs} epochs`;
@@ -124,6 +128,7 @@ export function progressObserver(options: ProgressOptions): StudyObserver {
       { text: `${trained}/${approx}${plannedEpochs} epochs`, short: `${trained}/${approx}${plannedEpochs} ep`, shortCost: 4.5, dropCost: 8 },
       rungText(plan, running.values(), lastJob),
       leaderText(leader, metric),
+      flagged.size > 0 ? { text: `${flagged.size} flagged`, short: `!${flagged.size}`, shortCost: 3, dropCost: 6 } : undefined,
       left === undefined ? undefined : { text: `${formatDuration(left)} left`, short: `~${formatDuration(left)}`, shortCost: 5, dropCost: 7 },
       { text: `${elapsed} elapsed`, short: elapsed, shortCost: 1, dropCost: 2 },
     ];
@@ -181,6 +186,8 @@ export function progressObserver(options: ProgressOptions): StudyObserver {
           running.delete(job.trialId);
         }
         leader = event.best;
+        if ((event.trial.flags?.length ?? 0) > 0) flagged.add(event.trial.id);
+        else flagged.delete(event.trial.id);
         if (redrawn) draw(true);
         else {
           const lead = leader ? `; leader trial ${leader.id} ${metric} ${scoreText(leader.score, leader.scoreStandardError)} after ${leader.epochsTrained} epoch${leader.epochsTrained === 1 ? '' : 's'}` : '';

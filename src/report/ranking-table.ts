@@ -1,5 +1,6 @@
 import type { Goal } from '../core/configuration.js';
-import type { RankedTrial } from '../core/ranking.js';
+import { isFinished, type RankedTrial } from '../core/ranking.js';
+import { flagsText } from '../core/health.js';
 import { scheduleInWords } from '../core/schedule.js';
 import { formatNumber, textTable } from './format.js';
 
@@ -14,7 +15,11 @@ export function rankingTable(ranking: readonly RankedTrial[], goal: Goal): strin
   // Columns for schedules and early stopping only when a trial has them, so other rankings read as before.
   const schedules = ranking.some(({ trial }) => trial.configuration.schedule !== undefined);
   const stopping = ranking.some(({ trial }) => trial.bestEpoch !== undefined);
-  const header = ['rank', 'trial', 'rung', 'epochs', ...(stopping ? ['best epoch'] : []), folds ? `${goal.metric} (fold mean ± SE)` : goal.metric, 'depth', 'width', 'activation', 'learning rate', ...(schedules ? ['schedule'] : []), 'batch', 'optimizer', 'l2', 'dropout'];
+  const flagged = ranking.some(({ trial }) => (trial.flags?.length ?? 0) > 0);
+  // Classification: accuracy and macro-F1 side by side (besides the goal's metric), to see what class weights trade.
+  const scoredPoint = (trial: RankedTrial['trial']) => (trial.bestEpoch !== undefined ? trial.curve.find((p) => p.epoch === trial.bestEpoch) : trial.curve.at(-1));
+  const sideBySide = (['accuracy', 'macroF1'] as const).filter((name) => name !== goal.metric && ranking.some(({ trial }) => scoredPoint(trial)?.metrics[name] !== undefined));
+  const header = ['rank', 'trial', 'rung', 'epochs', ...(stopping ? ['best epoch'] : []), folds ? `${goal.metric} (fold mean ± SE)` : goal.metric, ...sideBySide, 'depth', 'width', 'activation', 'learning rate', ...(schedules ? ['schedule'] : []), 'batch', 'optimizer', 'l2', 'dropout', ...(flagged ? ['flags'] : [])];
   const rows = ranking.map(({ rank, trial }) => [
     String(rank),
     String(trial.id),
@@ -22,6 +27,7 @@ export function rankingTable(ranking: readonly RankedTrial[], goal: Goal): strin
     String(trial.epochsTrained) + (trial.stoppedEarly ? ' (stopped)' : ''),
     ...(stopping ? [trial.bestEpoch === undefined ? '-' : String(trial.bestEpoch)] : []),
     scoreText(trial.score, trial.scoreStandardError),
+    ...sideBySide.map((name) => formatNumber(scoredPoint(trial)?.metrics[name])),
     String(trial.configuration.depth),
     String(trial.configuration.width),
     trial.configuration.activation,
@@ -31,6 +37,7 @@ export function rankingTable(ranking: readonly RankedTrial[], goal: Goal): strin
     trial.configuration.optimizer,
     formatNumber(trial.configuration.l2),
     formatNumber(trial.configuration.dropout),
+    ...(flagged ? [flagsText(trial.flags) || '-'] : []),
   ]);
   return textTable(header, rows);
 }
@@ -43,6 +50,8 @@ export function rankingJson(ranking: readonly RankedTrial[], goal: Goal): unknow
       rank,
       trial: trial.id,
       status: trial.status,
+      finished: isFinished(trial),
+      flags: trial.flags ?? [],
       rung: trial.rung,
       epochs: trial.epochsTrained,
       score: trial.score,

@@ -1,4 +1,5 @@
-import type { RankedTrial } from '../core/ranking.js';
+import { isFinished, type RankedTrial } from '../core/ranking.js';
+import type { TrialFlag } from '../core/trial.js';
 import type { StudyDocument } from '../store/types.js';
 import type { TrialRecord, TrialStatus } from '../core/trial.js';
 import type { Goal, TrialConfiguration } from '../core/configuration.js';
@@ -19,6 +20,10 @@ export interface TrialEntry {
   trial: number;
   status: TrialStatus;
   ranked: boolean;
+  /** Its training finished: it reached the study's epoch limit or its early-stopping rule stopped it (the ranking puts these first). */
+  finished: boolean;
+  /** Health flags (`flat-output`, `blew-up`, `no-lift`); empty when healthy. A flagged trial ranks after every healthy one. */
+  flags: TrialFlag[];
   /** Why an unranked trial is not ranked: divergence, error, or still training / waiting. */
   reason?: string;
   rung: number;
@@ -52,6 +57,8 @@ export interface StudyResultJson {
   /** Ranked trials best first, then the unranked ones by id. */
   trials: TrialEntry[];
   caution: string;
+  /** The constant and linear baselines' validation figures (absent for files from before baselines). */
+  baselines?: StudyDocument['baselines'];
 }
 
 function unrankedReason(trial: TrialRecord): string {
@@ -67,6 +74,8 @@ function entry(doc: StudyDocument, trial: TrialRecord, rank: number | null): Tri
     trial: trial.id,
     status: trial.status,
     ranked: rank !== null,
+    finished: isFinished(trial),
+    flags: trial.flags ?? [],
     rung: trial.rung,
     bracket: trial.bracket,
     epochs: trial.epochsTrained,
@@ -110,6 +119,7 @@ export function studyResultJson(doc: StudyDocument, ranking: readonly RankedTria
     shown: trials.length,
     trials,
     caution: OPTIMISM_CAUTION,
+    ...(doc.baselines ? { baselines: doc.baselines } : {}),
   };
 }
 

@@ -2,6 +2,8 @@ import type { StudyDocument } from '../store/types.js';
 import { unsuccessfulTrials } from '../core/trial-status.js';
 import { OPTIMISM_CAUTION } from './caution.js';
 import { formatDuration, formatNumber } from './format.js';
+import { healthSummary } from './health-summary.js';
+import { baselineLine, linearBaselineWarning } from './baseline-text.js';
 
 /** A share as the summary prints it: two significant digits (0.012, 0.10, 1.0), 0 as 0. */
 export function twoSignificantDigits(value: number): string {
@@ -20,6 +22,12 @@ export function studySummary(doc: StudyDocument, file = ''): string {
     );
   }
   if (file) lines.push(`study file: ${file}`);
+  const baseline = baselineLine(doc);
+  if (baseline) lines.push(baseline);
+  const warning = linearBaselineWarning(doc);
+  if (warning) lines.push(warning);
+  const health = healthSummary(doc.trials);
+  if (health) lines.push(health);
   lines.push(OPTIMISM_CAUTION);
   const failed = unsuccessfulTrials(doc.trials);
   if (failed.first) {

@@ -11,7 +11,8 @@ import { studyStoppedError } from '../core/errors.js';
 import { createSampler, plannedBudget, replay } from '../samplers/index.js';
 import type { Job, JobOutcome } from '../samplers/sampler.js';
 import type { Goal } from '../core/configuration.js';
-import { orientedLoss, rankTrials, type RankedTrial } from '../core/ranking.js';
+import { leaderOf, orientedLoss, rankTrials, type RankedTrial } from '../core/ranking.js';
+import { studyBaselines } from './baselines.js';
 import type { StudyStore } from '../store/study-store.js';
 import type { StudyDocument } from '../store/types.js';
 import type { TrialRecord } from '../core/trial.js';
@@ -71,7 +72,9 @@ export function recordedOutcomes(trials: readonly TrialRecord[], goal: Goal): Jo
     trial.rungScores.forEach((value, rung) => {
       // Early stopping can only have ended the trial in its last rung.
       const stopped = trial.stoppedEarly === true && rung === trial.rungScores.length - 1;
-      outcomes.push({ trialId: trial.id, rung, loss: orientedLoss(value ?? null, goal), ...(stopped ? { stopped: true } : {}) });
+      // A rung whose result was flagged was told to the sampler as a bad one.
+      const flagged = trial.flaggedRungs?.includes(rung) === true;
+      outcomes.push({ trialId: trial.id, rung, loss: flagged ? null : orientedLoss(value ?? null, goal), ...(stopped ? { stopped: true } : {}) });
     });
   }
   return outcomes;
@@ -133,12 +136,14 @@ async function drive(store: StudyStore, data: PreparedData, options: ExecuteOpti
     (items, ranking) => {
       const progress = lifecycle.progress();
       for (const { record, job } of items) {
-        emit({ type: 'trial-finished', trial: record, job, best: ranking[0]?.trial, finishedTrials: progress.endedTrials, progress });
+        emit({ type: 'trial-finished', trial: record, job, best: leaderOf(ranking.map((r) => r.trial), goal), finishedTrials: progress.endedTrials, progress });
       }
     },
     [...(await keeper.list()), ...doc.trials.map((t) => t.id)],
   );
   const dataset = toSharedDataset(data, datasetId(data));
+  // Before the first trial, so every trial is checked against them (a study from before baselines gets them on resume).
+  doc.baselines ??= await studyBaselines(data, data.folds ? foldDatasets(data) : [dataset], goal, definition.budget.maxEpochs, definition.sampler.seed);
   const notes = new Set<string>();
   /** Say something once per `key` (the message itself unless given). */
   const note = (message: string, key = message): void => {

@@ -9,6 +9,8 @@ import type { Goal } from '../core/configuration.js';
 import type { StudyDefinition } from '../study/definition.js';
 import { orientedLoss, scoredEpochs } from '../core/ranking.js';
 import { isEnded } from '../core/trial-status.js';
+import { baselineScore } from '../core/baselines.js';
+import { healthFlags } from '../core/health.js';
 import type { JobRecord, TrialRecord } from '../core/trial.js';
 import type { StudyDocument } from '../store/types.js';
 import type { TrainResult } from '../core/job.js';
@@ -110,9 +112,29 @@ export class TrialLifecycle {
       this.waiting.add(record.id);
     }
     this.jobsDone++;
-    this.sampler.report({ trialId: job.trialId, rung: job.rung, loss: orientedLoss(record.score, this.goal), ...(result.stoppedAtEpoch !== undefined ? { stopped: true } : {}) });
+    const flagged = this.checkHealth(record, job.rung);
+    const loss = flagged ? null : orientedLoss(record.score, this.goal);
+    this.sampler.report({ trialId: job.trialId, rung: job.rung, loss, ...(result.stoppedAtEpoch !== undefined ? { stopped: true } : {}) });
+    // A trial at the epoch limit has finished: no job can continue it, so it ends now, not when its sampler lets go.
+    if (record.status === 'waiting' && scoredEpochs(record) >= this.definition.budget.maxEpochs) this.end(record);
     this.endAbandoned();
     return record;
+  }
+
+  /**
+   * Record the trial's health flags at its scored point; true when a flag makes the rung's result a bad
+   * one for the sampler (a diverged result is a null loss anyway).
+   */
+  private checkHealth(record: TrialRecord, rung: number): boolean {
+    const flags = healthFlags(record, this.goal, baselineScore(this.doc.baselines?.constant, this.goal.metric));
+    if (flags.length > 0) record.flags = flags;
+    else delete record.flags;
+    const flagged = flags.length > 0 && record.score !== null;
+    const rungs = (record.flaggedRungs ?? []).filter((r) => r !== rung);
+    if (flagged) rungs.push(rung);
+    if (rungs.length > 0) record.flaggedRungs = rungs;
+    else delete record.flaggedRungs;
+    return flagged;
   }
 
   /**

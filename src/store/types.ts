@@ -5,6 +5,7 @@ import type { Goal } from '../core/configuration.js';
 import type { TrialRecord } from '../core/trial.js';
 import type { StudyDefinition } from '../study/definition.js';
 import type { ClassFigures } from '../core/class-figures.js';
+import type { StudyBaselines } from '../core/baselines.js';
 
 export interface StudyTotals {
   epochsTrained: number;
@@ -34,6 +35,8 @@ export interface StudyDocument {
   totals?: StudyTotals;
   /** Content hashes of the CSV and of the splits when the study started (absent in files from before they were kept). */
   dataHashes?: DataHashes;
+  /** What every network must beat on the same validation rows (absent in files from before baselines; a resume adds them). */
+  baselines?: StudyBaselines;
   /** Each time the study was continued on a CSV that differs from the recorded one, because the user said so. */
   dataChanges?: { at: string; csv: string; command: string }[];
 }

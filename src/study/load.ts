@@ -118,6 +118,17 @@ function crossFieldProblems(definition: StudyDefinition): [string, string][] {
   return problems;
 }
 
+/**
+ * The warning when the goal is accuracy and the class weights are fixed to balanced: balanced weights
+ * buy the rare classes' recall with accuracy, so the goal and the training loss pull apart.
+ */
+function weightNotes(definition: StudyDefinition, file: string): string[] {
+  if (definition.data.classWeights !== 'balanced' || resolveGoal(definition).metric !== 'accuracy') return [];
+  return [
+    `${file}: warning: data.classWeights is "balanced" while the goal is accuracy; balanced weights trade accuracy for the rare classes' recall, so the study may rank networks by a score their weights work against: use "none", or a goal such as macroF1`,
+  ];
+}
+
 /** Validate an already parsed definition; `file` is used in messages only. Old key names are translated silently. */
 export function validateStudy(raw: unknown, file: string): StudyDefinition {
   return validated(translateOldKeys(raw, file).raw, file);
@@ -159,7 +170,8 @@ export async function loadStudy(file: string): Promise<LoadedStudy> {
     throw new UserError('E_STUDY_JSON', `${file}: line ${line}: contains a NUL byte; this looks like a binary file, expected a JSON study definition (UTF-8 text)`);
   }
   const { raw, notes } = translateOldKeys(parseJson(text, file), file);
-  return { definition: validated(raw, file), file: absolute, notes };
+  const definition = validated(raw, file);
+  return { definition, file: absolute, notes: [...notes, ...weightNotes(definition, file)] };
 }
 
 /** What messages call a definition given as an object rather than a file. */
@@ -172,5 +184,6 @@ export const DEFINITION_OBJECT_LABEL = 'study definition (object)';
  */
 export function studyFromObject(definition: unknown, baseDir: string): LoadedStudy {
   const { raw, notes } = translateOldKeys(definition, DEFINITION_OBJECT_LABEL);
-  return { definition: validated(raw, DEFINITION_OBJECT_LABEL), file: path.join(path.resolve(baseDir), DEFINITION_OBJECT_LABEL), notes };
+  const checked = validated(raw, DEFINITION_OBJECT_LABEL);
+  return { definition: checked, file: path.join(path.resolve(baseDir), DEFINITION_OBJECT_LABEL), notes: [...notes, ...weightNotes(checked, DEFINITION_OBJECT_LABEL)] };
 }

@@ -1,7 +1,7 @@
 import { plannedBudget } from '../../samplers/index.js';
 import type { StudyDocument } from '../../store/types.js';
 import type { TrialRecord } from '../../core/trial.js';
-import { rankTrials } from '../../core/ranking.js';
+import { leaderOf } from '../../core/ranking.js';
 import { studyJobs, type JobSpent } from './jobs.js';
 
 /** The study's leader once some amount of compute had been spent. */
@@ -18,11 +18,17 @@ export interface LeaderStep {
 
 /** The trial as it stood once one of its jobs had ended. */
 function standing(trial: TrialRecord, job: JobSpent): TrialRecord {
-  return { ...trial, status: job.statusAfter, epochsTrained: job.toEpoch, score: job.score };
+  const now: TrialRecord = { ...trial, status: job.statusAfter, epochsTrained: job.toEpoch, score: job.score };
+  // Before its last job the trial had neither stopped nor been judged: it was waiting at a rung.
+  if (job.statusAfter === 'waiting' && trial.status !== 'waiting') {
+    delete now.stoppedEarly;
+    delete now.flags;
+  }
+  return now;
 }
 
 /**
- * The leader of the one ranking ({@link rankTrials}) after every ended job, replayed in the order
+ * The leader of the one ranking ({@link leaderOf}: the best finished trial) after every ended job, replayed in the order
  * jobs ended. A step is recorded where the leader or its score changed, and one at the compute
  * spent in all; the last step's leader is the study's rank 1 when every job has ended.
  */
@@ -40,7 +46,7 @@ export function leaderSteps(study: StudyDocument): LeaderStep[] {
     standings.set(job.trialId, now);
     // Only the changed trial can take the lead, unless the leader itself changed: then rank everyone.
     const candidates = leader === undefined || leader.id === job.trialId ? [...standings.values()] : [leader, now];
-    leader = rankTrials(candidates, study.goal)[0]?.trial;
+    leader = leaderOf(candidates, study.goal);
     if (!leader) continue;
     const previous = steps.at(-1);
     const step = { epochsSpent, workerSecondsSpent, leaderId: leader.id, score: leader.score!, leaderEpochs: leader.epochsTrained };
