@@ -22,13 +22,19 @@ function queueOptions(command: Command): Command {
   return command
     .option('--queue <url>', 'serve the study over Redis to `rungwise worker` processes (redis://HOST:PORT/DB or rediss://)')
     .option('--threads <n>', 'with --queue: local threads training beside the workers (default 0)', (v) => wholeNumber(v, '--threads'))
-    .option('--queue-wait-seconds <s>', 'with --queue: how long to wait for an unreachable Redis before saving and stopping (default 120)', (v) => positiveInteger(v, '--queue-wait-seconds'));
+    .option('--queue-wait-seconds <s>', 'with --queue: how long to wait for an unreachable Redis, at the start (then exit 2) or during the study (then save and stop) (default 120)', (v) => positiveInteger(v, '--queue-wait-seconds'))
+    .option('--password-file <file>', 'with --queue: the Redis password, on the first line of this file (or set RUNGWISE_REDIS_PASSWORD)')
+    .option('--ca-file <file>', 'with a rediss:// queue: PEM certificate of the authority that signed the server\'s certificate')
+    .option('--key-file <file>', 'with --queue: the study key, on the first line of this file (or set RUNGWISE_STUDY_KEY): jobs are signed, unsigned results refused');
 }
 
 interface QueueFlagValues {
   queue?: string;
   threads?: number;
   queueWaitSeconds?: number;
+  passwordFile?: string;
+  caFile?: string;
+  keyFile?: string;
 }
 
 /** The queue flags that were given, for the study commands. */
@@ -37,6 +43,9 @@ function queueFlags(flags: QueueFlagValues): QueueFlagValues {
     ...(flags.queue !== undefined ? { queue: flags.queue } : {}),
     ...(flags.threads !== undefined ? { threads: flags.threads } : {}),
     ...(flags.queueWaitSeconds !== undefined ? { queueWaitSeconds: flags.queueWaitSeconds } : {}),
+    ...(flags.passwordFile !== undefined ? { passwordFile: flags.passwordFile } : {}),
+    ...(flags.caFile !== undefined ? { caFile: flags.caFile } : {}),
+    ...(flags.keyFile !== undefined ? { keyFile: flags.keyFile } : {}),
   };
 }
 
@@ -193,10 +202,14 @@ export function buildProgram(
 
   command('worker')
     .description('train jobs of every study served on a Redis, until SIGINT or SIGTERM')
-    .argument('<url>', 'redis://HOST:PORT/DB or rediss://HOST:PORT/DB (a password as redis://:PASSWORD@HOST...)')
+    .argument('<url>', 'redis://HOST:PORT/DB or rediss://HOST:PORT/DB (the password in RUNGWISE_REDIS_PASSWORD or --password-file keeps it out of the process list)')
     .option('--threads <n>', 'jobs trained at once (default: available cores)', (v) => positiveInteger(v, '--threads'))
     .option('--stall-seconds <s>', 'a job whose worker stops renewing its lock is taken back after this long (default 30)', (v) => positiveInteger(v, '--stall-seconds'))
-    .action(async (url: string, flags: { threads?: number; stallSeconds?: number }) => {
+    .option('--queue-wait-seconds <s>', 'how long Redis may stay unreachable, at the start or later, before the worker ends with exit 2 (default 120)', (v) => positiveInteger(v, '--queue-wait-seconds'))
+    .option('--password-file <file>', 'the Redis password, on the first line of this file (or set RUNGWISE_REDIS_PASSWORD)')
+    .option('--ca-file <file>', 'with rediss://: PEM certificate of the authority that signed the server\'s certificate')
+    .option('--key-file <file>', 'the study key, on the first line of this file (or set RUNGWISE_STUDY_KEY): only signed jobs are trained, results are signed')
+    .action(async (url: string, flags: { threads?: number; stallSeconds?: number; queueWaitSeconds?: number; passwordFile?: string; caFile?: string; keyFile?: string }) => {
       const { worker } = await import('../commands/worker.js');
       const stop = workerStopSignal();
       try {
