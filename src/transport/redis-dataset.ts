@@ -83,7 +83,7 @@ export function decodeDataset(bytes: Buffer, expectedId: string, expectedSha256?
     return array;
   };
   const [train, validation] = header.splits.map((s) => ({ rows: s.rows, x: take(s.x), y: take(s.y) }));
-  const badLabel = [train!.y, validation!.y].map((y) => firstBadLabel(y, header)).find((problem) => problem !== undefined);
+  const badLabel = firstBadLabel(train!.y, 'training', header) ?? firstBadLabel(validation!.y, 'validation', header);
   if (badLabel) refuse(badLabel);
   return {
     id: header.id,
@@ -102,12 +102,12 @@ function sizes(split: SharedDataset['train']): DatasetHeader['splits'][0] {
 }
 
 /** A label a classification task cannot have (not a class index below outputCount, or not 0/1 for binary). */
-function firstBadLabel(y: Float32Array, header: DatasetHeader): string | undefined {
+function firstBadLabel(y: Float32Array, split: string, header: DatasetHeader): string | undefined {
   if (header.task === 'regression') return undefined;
   const classes = header.task === 'binary' ? 2 : header.outputCount;
   for (let i = 0; i < y.length; i++) {
     const label = y[i]!;
-    if (!Number.isInteger(label) || label < 0 || label >= classes) return `label ${label} in row ${i + 1} is not a class index from 0 to ${classes - 1}`;
+    if (!Number.isInteger(label) || label < 0 || label >= classes) return `${split} row ${i + 1}: label ${label} is not a class index from 0 to ${classes - 1}`;
   }
   return undefined;
 }
