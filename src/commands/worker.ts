@@ -62,8 +62,8 @@ export async function worker(options: WorkerCommandOptions): Promise<{ jobsDone:
     onNote: (message) => stderr.write(`${message}\n`),
   });
   stderr.write(`worker ${queueWorker.name}: ${threads} thread(s), taking jobs from ${queueWorker.display}${key ? ', signed jobs only' : ''}\n`);
-  await queueWorker.start();
   const stop = AbortSignal.any([options.signal, lost.signal]);
+  await Promise.race([queueWorker.start(), new Promise((resolve) => stop.addEventListener('abort', resolve, { once: true }))]);
   await new Promise<void>((resolve) => {
     if (stop.aborted) resolve();
     else stop.addEventListener('abort', () => resolve(), { once: true });

@@ -95,10 +95,14 @@ export class QueueWorker {
     return this.address.display;
   }
 
-  /** Announce this worker and attach to every study queue, now and as studies appear. */
+  /**
+   * Announce this worker and attach to every study queue, now and as studies appear. Resolves after
+   * the first heartbeat, or at once if Redis does not answer it (the next ones try again), so a stop
+   * is never held up by an unreachable Redis.
+   */
   async start(): Promise<void> {
-    await this.tick();
     this.timer = setInterval(() => void this.tick(), HEARTBEAT_SECONDS * 1000);
+    await Promise.race([this.tick(), new Promise<void>((resolve) => this.redis.once('error', () => resolve()))]);
   }
 
   /**
@@ -150,8 +154,11 @@ export class QueueWorker {
   }
 
   /** Heartbeat, then attach to new study queues of this protocol and leave the ones whose study ended. */
+  private ticking = false;
+
   private async tick(): Promise<void> {
-    if (this.stopping) return;
+    if (this.stopping || this.ticking) return;
+    this.ticking = true;
     try {
       const info: WorkerInfo = { protocol: QUEUE_PROTOCOL_VERSION, threads: this.options.threads, name: this.name, signs: this.options.key !== undefined };
       workerInfoSchema.parse(info);
@@ -178,6 +185,8 @@ export class QueueWorker {
       }
     } catch {
       // Redis unreachable: the connection's error handler said so; the next tick tries again.
+    } finally {
+      this.ticking = false;
     }
   }
 
