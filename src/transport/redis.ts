@@ -315,21 +315,23 @@ export class RedisTransport implements TrialTransport {
    */
   private collect(jobId: string, returnvalue: unknown, from: 'event' | 'stored'): void {
     const entry = this.pending.get(jobId);
-    if (!entry) return;
+    // With a key, a completion of a job no longer in flight is still checked: a forgery is counted whenever it comes.
+    if (!entry && !this.options.key) return;
     let result: TrainResult;
     try {
       result = this.checkedResult(jobId, returnvalue);
     } catch (error) {
       if (!(error instanceof EntryRefusedError)) {
         this.pending.delete(jobId);
-        entry.reject(error instanceof Error ? error : new Error(String(error)));
+        entry?.reject(error instanceof Error ? error : new Error(String(error)));
         return;
       }
       this.refused.results++;
       this.note(`result of job ${jobId} refused (${from === 'event' ? 'completion event' : 'stored on the queue'}): ${error.message}; ${this.refused.results} result(s) refused so far`, false);
-      if (from === 'stored') this.retryRefused(entry, error.message);
+      if (from === 'stored' && entry) this.retryRefused(entry, error.message);
       return;
     }
+    if (!entry) return;
     this.pending.delete(jobId);
     for (const report of result.epochs) entry.report(report); // any whose progress event was missed
     entry.resolve(result);
