@@ -5,7 +5,7 @@
  * {@link describeIssue} turns the first problem into a short phrase naming the field.
  */
 import { z } from 'zod';
-import { ACTIVATIONS, earlyStoppingSchema, METRICS, OPTIMIZERS, SCHEDULES, TASKS } from '../study/definition.js';
+import { ACTIVATIONS, earlyStoppingSchema, METRICS, OPTIMIZERS, SCHEDULES, TASKS, type TrialConfiguration } from '../study/definition.js';
 
 const count = z.int().min(0);
 const positiveCount = z.int().min(1);
@@ -39,6 +39,12 @@ export const configurationSchema = z.strictObject({
   stepEpochs: positiveCount.optional(),
   minFactor: z.number().min(0).lt(1).optional(),
 });
+
+/** Compiles only while the schema and `TrialConfiguration` have the same fields (a strict schema would refuse a new one). */
+type Same<A, B> = [A] extends [B] ? ([B] extends [A] ? true : false) : false;
+type Configuration = z.output<typeof configurationSchema>;
+const configurationMatches: Same<Configuration, TrialConfiguration> & Same<keyof Configuration, keyof TrialConfiguration> = true;
+void configurationMatches;
 
 const goalSchema = z.strictObject({ metric: z.enum(METRICS), better: z.enum(['higher', 'lower']) });
 
