@@ -51,6 +51,15 @@ async function stopProcesses(children: ChildProcess[]): Promise<void> {
   );
 }
 
+/** Simulated worker counts of the scale table. */
+const SCALE_WORKERS = [1, 16, 64, 256];
+
+/** The first worker count whose jobs/s is less than 10% above the previous count's (undefined: it kept growing). */
+function saturatesAt(points: [number, number][]): number | undefined {
+  for (let i = 1; i < points.length; i++) if (points[i]![1] < points[i - 1]![1] * 1.1) return points[i]![0];
+  return undefined;
+}
+
 const emptyDataset: SharedDataset = { id: 'bench-empty', task: 'binary', inputCount: 1, outputCount: 1, train: { rows: 1, x: new Float32Array(1), y: new Float32Array(1) }, validation: { rows: 1, x: new Float32Array(1), y: new Float32Array(1) } };
 
 /** Sequential jobs through Redis to one worker process that trains nothing: milliseconds per round trip. */
@@ -74,9 +83,14 @@ async function roundTrips(url: string, jobs: number, children: ChildProcess[]): 
   }
 }
 
-/** A random-search study of `trials` one-epoch trials, served to `workers` simulated workers in two processes. */
+/** Simulated workers split over at most two processes (one for a single worker). */
+function workerProcesses(workers: number): number[] {
+  return workers === 1 ? [1] : [Math.ceil(workers / 2), Math.floor(workers / 2)];
+}
+
+/** A random-search study of `trials` one-epoch trials, served to `workers` simulated workers (closed-form trainer) in one or two processes. */
 async function capacity(url: string, trials: number, workers: number, children: ChildProcess[]): Promise<{ perSecond: number; saved: number; seconds: number; cpuMsPerJob: number }> {
-  await Promise.all([startProcess([SIMULATED, url, String(workers / 2)], /ready/, children), startProcess([SIMULATED, url, String(workers / 2)], /ready/, children)]);
+  await Promise.all(workerProcesses(workers).map((count) => startProcess([SIMULATED, url, String(count)], /ready/, children)));
   const dir = await tempDir('queue-capacity');
   try {
     const csv = await writeTinyCsv(dir);
@@ -152,6 +166,9 @@ export async function queueGroup(options: BenchOptions): Promise<GroupResult> {
   try {
     const trips = await roundTrips(redis.url, options.quick ? 100 : 500, children);
     const cap = await capacity(redis.url, options.quick ? 1000 : 5000, 64, children);
+    const scale: [number, Awaited<ReturnType<typeof capacity>>][] = [];
+    for (const workers of SCALE_WORKERS) scale.push([workers, await capacity(redis.url, Math.max(options.quick ? 300 : 2000, 2 * workers), workers, children)]);
+    const saturation = saturatesAt(scale.map(([workers, c]) => [workers, c.perSecond]));
     const training = await realTraining(redis.url, options.quick ? 4 : 16, options.quick ? 2 : 12, children);
     const tripMedian = median(trips);
     const tripP95 = quantile(trips, 0.95);
@@ -163,6 +180,11 @@ export async function queueGroup(options: BenchOptions): Promise<GroupResult> {
       tables: [
         { title: 'Job round trip through Redis (worker process that trains nothing)', columns: ['jobs', 'median ms', 'p95 ms', 'max ms'], rows: [[trips.length, tripMedian, tripP95, Math.max(...trips)]] },
         { title: 'Coordinator capacity, 64 simulated workers that train nothing', columns: ['trials saved', 'seconds', 'completions/s', 'coordinator CPU ms/job', 'jobs/s per coordinator core'], rows: [[cap.saved, cap.seconds, cap.perSecond, cap.cpuMsPerJob, 1000 / cap.cpuMsPerJob]] },
+        {
+          title: 'Coordinator cost per job by simulated workers on one Redis (closed-form trainer, one-epoch jobs)',
+          columns: ['workers', 'trials saved', 'jobs/s', 'coordinator CPU ms/job', 'jobs/s per coordinator core'],
+          rows: scale.map(([workers, c]) => [workers, c.saved, c.perSecond, c.cpuMsPerJob, 1000 / c.cpuMsPerJob]),
+        },
         {
           title: 'Real training (demo data): 2 local threads vs coordinator + 2 worker processes',
           columns: ['span', '2 local threads s', 'queue + 2 workers s', 'ratio'],
@@ -181,9 +203,10 @@ export async function queueGroup(options: BenchOptions): Promise<GroupResult> {
       notes: [
         'Everything on one machine: Redis, the coordinator and every worker share its cores, so the figures are an upper bound on the coordinator\'s own cost.',
         'Capacity is timed from the first trial saved to the end of the study (the file saved); the worker processes are attached before the study starts.',
+        `Scale: jobs/s ${saturation === undefined ? 'still grows at 256 workers' : `stops growing (less than 10% more than the count before) at ${saturation} workers`}; every simulated worker is a QueueWorker with its own connections, so Redis and the coordinator see 1 to 256 real clients.`,
         'Real training: the worker processes start together with the coordinator, inside the timed run (process, tfjs and thread start-up included), as the local run starts its threads.',
       ],
-      data: { trips, capacity: cap, training },
+      data: { trips, capacity: cap, scale, training },
     };
   } finally {
     await stopProcesses(children);

@@ -1,6 +1,6 @@
 /**
  * A private `redis-server` (Debian's package) for tests and benchmarks: a free loopback port, a
- * temporary directory, no persistence. It never touches a server the machine already runs.
+ * temporary directory, no persistence unless asked for (append-only file), TLS when asked for. It never touches a server the machine already runs.
  */
 import { spawn, spawnSync, type ChildProcess } from 'node:child_process';
 import { mkdtemp, rm } from 'node:fs/promises';
@@ -14,7 +14,7 @@ export interface PrivateRedis {
   url: string;
   /** Stop the server (SIGTERM; nothing is saved) and wait until it has ended. */
   stop(): Promise<void>;
-  /** Start it again on the same port, empty. */
+  /** Start it again on the same port: empty, or with what its append-only file kept. */
   start(): Promise<void>;
   /** Stop it and remove its directory. */
   dispose(): Promise<void>;
@@ -40,14 +40,35 @@ async function freePort(): Promise<number> {
   });
 }
 
-/** Start a private server; `password` sets `requirepass`; `onSpawn` sees every process started (for cleanup). */
-export async function startPrivateRedis(options: { password?: string; onSpawn?: (child: ChildProcess) => void } = {}): Promise<PrivateRedis> {
+/** PEM files for a server that speaks only TLS (`rediss://`); clients are not asked for certificates. */
+export interface PrivateRedisTls {
+  certFile: string;
+  keyFile: string;
+  caFile: string;
+}
+
+export interface PrivateRedisOptions {
+  /** Sets `requirepass`. */
+  password?: string;
+  /** TLS only, on the free port (the plain port is off). */
+  tls?: PrivateRedisTls;
+  /** Keep an append-only file in the server's directory, so a restart keeps the queues. @default false */
+  appendOnly?: boolean;
+  /** Sees every process started (for cleanup). */
+  onSpawn?: (child: ChildProcess) => void;
+}
+
+/** Start a private server (see {@link PrivateRedisOptions}). */
+export async function startPrivateRedis(options: PrivateRedisOptions = {}): Promise<PrivateRedis> {
   requireRedisServer();
   const dir = await mkdtemp(path.join(tmpdir(), 'rungwise-redis-'));
   const port = await freePort();
   let child: ChildProcess | undefined;
   const start = async (): Promise<void> => {
-    const args = ['--port', String(port), '--bind', '127.0.0.1', '--dir', dir, '--save', '', '--appendonly', 'no', '--daemonize', 'no'];
+    const ports = options.tls
+      ? ['--port', '0', '--tls-port', String(port), '--tls-cert-file', options.tls.certFile, '--tls-key-file', options.tls.keyFile, '--tls-ca-cert-file', options.tls.caFile, '--tls-auth-clients', 'no']
+      : ['--port', String(port)];
+    const args = [...ports, '--bind', '127.0.0.1', '--dir', dir, '--save', '', '--appendonly', options.appendOnly ? 'yes' : 'no', '--appendfsync', 'always', '--daemonize', 'no'];
     if (options.password) args.push('--requirepass', options.password);
     const server = spawn('redis-server', args, { stdio: ['ignore', 'pipe', 'pipe'] });
     child = server;
@@ -73,7 +94,7 @@ export async function startPrivateRedis(options: { password?: string; onSpawn?: 
   const secret = options.password ? `:${encodeURIComponent(options.password)}@` : '';
   return {
     port,
-    url: `redis://${secret}127.0.0.1:${port}/0`,
+    url: `${options.tls ? 'rediss' : 'redis'}://${secret}127.0.0.1:${port}/0`,
     start,
     stop,
     dispose: async () => {

@@ -20,13 +20,19 @@ export function queueOptions(command: Command): Command {
   return command
     .option('--queue <url>', 'serve the study over Redis to `rungwise worker` processes (redis://HOST:PORT/DB or rediss://)')
     .option('--threads <n>', 'with --queue: local threads training beside the workers (default 0)', (v) => wholeNumber(v, '--threads'))
-    .option('--queue-wait-seconds <s>', 'with --queue: how long to wait for an unreachable Redis before saving and stopping (default 120)', (v) => positiveInteger(v, '--queue-wait-seconds'));
+    .option('--queue-wait-seconds <s>', 'with --queue: how long to wait for an unreachable Redis, at the start (then exit 2) or during the study (then save and stop) (default 120)', (v) => positiveInteger(v, '--queue-wait-seconds'))
+    .option('--password-file <file>', 'with --queue: the Redis password, on the first line of this file (or set RUNGWISE_REDIS_PASSWORD)')
+    .option('--ca-file <file>', "with a rediss:// queue: PEM certificate of the authority that signed the server's certificate")
+    .option('--key-file <file>', 'with --queue: the study key, on the first line of this file (or set RUNGWISE_STUDY_KEY): jobs are signed, unsigned results refused');
 }
 
 export interface QueueFlagValues {
   queue?: string;
   threads?: number;
   queueWaitSeconds?: number;
+  passwordFile?: string;
+  caFile?: string;
+  keyFile?: string;
 }
 
 /** The queue flags that were given, for the study commands. */
@@ -35,6 +41,9 @@ export function queueFlags(flags: QueueFlagValues): QueueFlagValues {
     ...(flags.queue !== undefined ? { queue: flags.queue } : {}),
     ...(flags.threads !== undefined ? { threads: flags.threads } : {}),
     ...(flags.queueWaitSeconds !== undefined ? { queueWaitSeconds: flags.queueWaitSeconds } : {}),
+    ...(flags.passwordFile !== undefined ? { passwordFile: flags.passwordFile } : {}),
+    ...(flags.caFile !== undefined ? { caFile: flags.caFile } : {}),
+    ...(flags.keyFile !== undefined ? { keyFile: flags.keyFile } : {}),
   };
 }
 

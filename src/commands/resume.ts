@@ -36,7 +36,7 @@ export async function resume(options: ResumeCommandOptions): Promise<ResumeOutco
   const onDataEvent = dataObserver(options);
   const dir = path.resolve(options.dir);
   const queue = queueRun(options, { name: saved.name, dir, fresh: false }, options.stderr ?? process.stderr, options.signal);
-  return settleQueued(queue, dir, resumeStudy(options.dir, {
+  return settleQueued(queue, dir, () => resumeStudy(options.dir, {
     ...(options.workers !== undefined ? { workers: options.workers } : {}),
     ...(queue.signal ? { signal: queue.signal } : {}),
     ...(queue.transport ? { transport: queue.transport } : {}),

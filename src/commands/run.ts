@@ -56,7 +56,7 @@ export async function run(options: RunCommandOptions): Promise<StudyOutcome> {
   const onDataEvent = dataObserver(options);
   const dir = path.resolve(options.out ?? path.join('runs', study.definition.name));
   const queue = queueRun(options, { name: study.definition.name, dir, fresh: true }, options.stderr ?? process.stderr, options.signal);
-  return settleQueued(queue, dir, runStudy(study, {
+  return settleQueued(queue, dir, () => runStudy(study, {
     ...(options.out !== undefined ? { out: options.out } : {}),
     ...(options.workers !== undefined ? { workers: options.workers } : {}),
     ...(options.force !== undefined ? { force: options.force } : {}),

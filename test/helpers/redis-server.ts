@@ -5,7 +5,7 @@
  * nothing outlives a failed test. No test uses a server the machine already runs.
  */
 import { spawn, type ChildProcess } from 'node:child_process';
-import { startPrivateRedis, type PrivateRedis } from '../../scripts/redis-server.js';
+import { startPrivateRedis, type PrivateRedis, type PrivateRedisOptions } from '../../scripts/redis-server.js';
 import { BIN } from './cli.js';
 
 const started = new Set<ChildProcess>();
@@ -13,8 +13,8 @@ const servers = new Set<PrivateRedis>();
 
 export type TestRedis = PrivateRedis;
 
-/** Start a private redis-server, stopped by {@link stopStarted}; `password` sets `requirepass`. */
-export async function startRedis(options: { password?: string } = {}): Promise<TestRedis> {
+/** Start a private redis-server, stopped by {@link stopStarted}; `password` sets `requirepass`, `tls` serves rediss:// only. */
+export async function startRedis(options: Omit<PrivateRedisOptions, 'onSpawn'> = {}): Promise<TestRedis> {
   const redis = await startPrivateRedis({ ...options, onSpawn: (child) => started.add(child) });
   servers.add(redis);
   return redis;

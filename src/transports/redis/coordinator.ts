@@ -1,7 +1,10 @@
 import { Queue, QueueEvents } from 'bullmq';
 import { Redis } from 'ioredis';
-import { encodeDataset } from './dataset.js';
-import { decodeResult, encodeJob, keys, KEY_PREFIX, protocolMismatch, queueJobId, QUEUE_PROTOCOL_VERSION, type QueuedResult, type WorkerInfo } from './protocol.js';
+import { clientOptions } from './connect.js';
+import { datasetChecksum, encodeDataset } from './dataset.js';
+import { queuedProgressSchema, readEntry, workerInfoSchema } from './messages.js';
+import { decodeJob, decodeResult, encodeJob, EntryRefusedError, keys, KEY_PREFIX, parseJson, protocolMismatch, queueJobId, QUEUE_PROTOCOL_VERSION, unsigned } from './protocol.js';
+import type { StudyKey } from './signing.js';
 import { DEFAULT_QUEUE_WAIT_SECONDS, HEARTBEAT_SECONDS, WORKER_LIVE_SECONDS } from './timing.js';
 import { parseRedisUrl, type RedisAddress } from './url.js';
 import type { TrialTransport } from '../transport.js';
@@ -25,7 +28,20 @@ export interface RedisTransportOptions {
   minimumCapacity?: 0 | 1;
   /** Redis stayed unreachable for `queueWaitSeconds`: the caller should stop the study (running jobs stay pending until aborted). */
   onUnavailable?: () => void;
+  /** With a study key, jobs are signed and results and epoch reports must carry the workers' signature. */
+  key?: StudyKey;
 }
+
+/** Entries read from Redis and refused (invalid, unsigned or wrongly signed), by kind. */
+export interface RefusedEntries {
+  results: number;
+  progress: number;
+  workers: number;
+  jobs: number;
+}
+
+/** Times a job's stored result may be refused before the job fails with the reason. */
+const RESULT_REFUSALS_PER_JOB = 3;
 
 /**
  * Queue events kept in Redis. A completion event carries the result (checkpoint included), so this
@@ -45,6 +61,8 @@ interface PendingJob {
   reject: (error: Error) => void;
   /** A submission is under way: the sweep leaves the job alone. */
   submitting: boolean;
+  /** Stored results of this job refused so far. */
+  refusals: number;
 }
 
 /**
@@ -76,10 +94,12 @@ export class RedisTransport implements TrialTransport {
   private closed = false;
   /** True once Redis stayed unreachable for the whole wait. */
   gaveUp = false;
+  /** Entries refused since the start, by kind. */
+  readonly refused: RefusedEntries = { results: 0, progress: 0, workers: 0, jobs: 0 };
 
   constructor(private readonly options: RedisTransportOptions) {
     this.address = typeof options.url === 'string' ? parseRedisUrl(options.url) : options.url;
-    const connection = { ...this.address.options, maxRetriesPerRequest: null };
+    const connection = clientOptions(this.address);
     this.redis = new Redis(connection);
     this.queue = new Queue(options.queue, { connection: this.redis, prefix: KEY_PREFIX, streams: { events: { maxLen: EVENTS_KEPT } } });
     this.events = new QueueEvents(options.queue, { connection, prefix: KEY_PREFIX });
@@ -87,12 +107,9 @@ export class RedisTransport implements TrialTransport {
     this.queue.on('error', () => undefined);
     this.events.on('error', () => undefined);
     this.watchConnection();
-    this.events.on('completed', ({ jobId, returnvalue }) => this.collect(jobId, returnvalue as unknown));
+    this.events.on('completed', ({ jobId, returnvalue }) => this.collect(jobId, returnvalue as unknown, 'event'));
     this.events.on('failed', ({ jobId, failedReason }) => this.fail(jobId, failedReason));
-    this.events.on('progress', ({ jobId, data }) => {
-      const report = data as unknown as EpochReport;
-      if (typeof report === 'object' && report !== null && typeof report.epoch === 'number') this.pending.get(jobId)?.report(report);
-    });
+    this.events.on('progress', ({ jobId, data }) => this.progress(jobId, data));
     this.started = new Promise<void>((resolve, reject) => {
       this.rejectStart = reject;
       void this.start().then(resolve, reject);
@@ -142,6 +159,7 @@ export class RedisTransport implements TrialTransport {
           onEpoch(report);
         },
         submitting: false,
+        refusals: 0,
         resolve: (result) => {
           signal.removeEventListener('abort', onAbort);
           resolve(result);
@@ -178,7 +196,9 @@ export class RedisTransport implements TrialTransport {
     await Promise.race([orderly().catch(() => undefined), late]);
     clearTimeout(timer);
     this.redis.disconnect();
-    await this.events.disconnect().catch(() => undefined);
+    // Not awaited: with Redis unreachable these wait for a connection that never comes.
+    void this.events.disconnect().catch(() => undefined);
+    void this.queue.disconnect().catch(() => undefined);
   }
 
   private async start(): Promise<void> {
@@ -231,20 +251,27 @@ export class RedisTransport implements TrialTransport {
       const seenBefore = !this.options.fresh || this.submitted.has(entry.id);
       this.submitted.add(entry.id);
       if (!seenBefore) {
-        await this.queue.add('train', encodeJob(entry.job), JOB_OPTIONS(entry.id));
+        await this.queue.add('train', this.entryOf(entry), JOB_OPTIONS(entry.id));
         if (this.pending.get(entry.id) !== entry) await this.cancel(entry.id); // stopped while it was being added
         return;
       }
       await this.redis.del(keys.cancel(this.options.queue, entry.id));
-      const existing = await this.queue.getJob(entry.id);
+      const existing = await this.queue.getJob(entry.id).catch((error: unknown) => this.unreadableEntry(entry.id, error));
       if (existing) {
         const state = await existing.getState();
-        if (state === 'completed') return this.collect(entry.id, existing.returnvalue as unknown);
-        if (state !== 'failed') return; // waiting or being trained: its result will come
-        await existing.remove(); // a failure from before: this is a new attempt
+        const problem = this.problemWithStoredJob(entry.id, existing.data);
+        if (problem && state !== 'active') {
+          this.refused.jobs++;
+          this.note(`job ${entry.id} found on the queue was not the coordinator's (${problem}); putting the coordinator's job in its place`, false);
+          await existing.remove();
+        } else {
+          if (state === 'completed') return this.collect(entry.id, existing.returnvalue as unknown, 'stored');
+          if (state !== 'failed') return; // waiting or being trained: its result will come
+          await existing.remove(); // a failure from before: this is a new attempt
+        }
       }
       if (this.pending.get(entry.id) !== entry) return; // stopped meanwhile
-      await this.queue.add('train', encodeJob(entry.job), JOB_OPTIONS(entry.id));
+      await this.queue.add('train', this.entryOf(entry), JOB_OPTIONS(entry.id));
     } catch (error) {
       if (!this.closed) this.note(`job ${entry.id}: could not be queued yet (${error instanceof Error ? error.message : String(error)}); trying again`);
     } finally {
@@ -252,19 +279,113 @@ export class RedisTransport implements TrialTransport {
     }
   }
 
-  private collect(jobId: string, returnvalue: unknown): void {
+  /** The job's queue entry: its data set's checksum, and the study key's signature when there is one. */
+  private entryOf(entry: PendingJob): ReturnType<typeof encodeJob> {
+    const bytes = this.datasets.get(entry.job.datasetId);
+    if (!bytes) throw new Error(`job ${entry.id}: data set ${entry.job.datasetId} was not added to the transport`);
+    const data = encodeJob(entry.job, datasetChecksum(bytes));
+    return this.options.key ? { ...data, signature: this.options.key.sign('job', this.options.queue, entry.id, data) } : data;
+  }
+
+  /** Why a job entry found on the queue is not one this coordinator wrote (undefined: it is). */
+  private problemWithStoredJob(jobId: string, data: unknown): string | undefined {
+    try {
+      decodeJob(data);
+    } catch (error) {
+      return error instanceof Error ? error.message : String(error);
+    }
+    const key = this.options.key;
+    const raw = data as { signature?: unknown };
+    if (key && !key.verifies('job', this.options.queue, jobId, unsigned(raw), raw.signature)) return 'not signed with the study key';
+    return undefined;
+  }
+
+  /** BullMQ could not read the stored job (its data is not JSON): treated as absent after one warning. */
+  private unreadableEntry(jobId: string, error: unknown): undefined {
+    this.refused.jobs++;
+    this.note(`job ${jobId} found on the queue is unreadable (${error instanceof Error ? error.message : String(error)}); putting the coordinator's job in its place`, false);
+    void this.queue.remove(jobId).catch(() => undefined);
+    return undefined;
+  }
+
+  /**
+   * A result read from Redis: checked against the schema and, with a study key, its signature.
+   * A refused completion event is ignored (the sweep reads the job's stored state); a refused stored
+   * result puts the job on the queue again, and fails it after {@link RESULT_REFUSALS_PER_JOB}.
+   */
+  private collect(jobId: string, returnvalue: unknown, from: 'event' | 'stored'): void {
     const entry = this.pending.get(jobId);
+    // With a key, a completion of a job no longer in flight is still checked: a forgery is counted whenever it comes.
+    if (!entry && !this.options.key) return;
+    let result: TrainResult;
+    try {
+      result = this.checkedResult(jobId, returnvalue);
+    } catch (error) {
+      if (!(error instanceof EntryRefusedError)) {
+        this.pending.delete(jobId);
+        entry?.reject(error instanceof Error ? error : new Error(String(error)));
+        return;
+      }
+      this.refused.results++;
+      this.note(`result of job ${jobId} refused (${from === 'event' ? 'completion event' : 'stored on the queue'}): ${error.message}; ${this.refused.results} result(s) refused so far`, false);
+      if (from === 'stored' && entry) this.retryRefused(entry, error.message);
+      return;
+    }
     if (!entry) return;
     this.pending.delete(jobId);
-    try {
-      const value = (typeof returnvalue === 'string' ? JSON.parse(returnvalue) : returnvalue) as QueuedResult;
-      const result = decodeResult(value);
-      for (const report of result.epochs) entry.report(report); // any whose progress event was missed
-      entry.resolve(result);
-    } catch (error) {
-      entry.reject(error instanceof Error ? error : new Error(String(error)));
-    }
+    for (const report of result.epochs) entry.report(report); // any whose progress event was missed
+    entry.resolve(result);
     void this.queue.remove(jobId).catch(() => undefined);
+  }
+
+  private checkedResult(jobId: string, returnvalue: unknown): TrainResult {
+    const value = typeof returnvalue === 'string' ? parseJson(returnvalue) : returnvalue;
+    const result = decodeResult(value);
+    const key = this.options.key;
+    if (key) {
+      const raw = value as { signature?: unknown };
+      if (raw.signature === undefined) throw new EntryRefusedError('not signed; with a study key every worker must hold the same key');
+      if (!key.verifies('result', this.options.queue, jobId, unsigned(raw), raw.signature)) throw new EntryRefusedError('its signature does not match the study key');
+    }
+    return result;
+  }
+
+  /** A refused stored result: the job is trained again, or fails with the reason after too many refusals. */
+  private retryRefused(entry: PendingJob, reason: string): void {
+    entry.refusals++;
+    if (entry.refusals >= RESULT_REFUSALS_PER_JOB) {
+      this.pending.delete(entry.id);
+      entry.reject(new Error(`job ${entry.id}: its result was refused ${entry.refusals} times (${reason})`));
+      void this.queue.remove(entry.id).catch(() => undefined);
+      return;
+    }
+    entry.submitting = true;
+    void this.queue
+      .remove(entry.id)
+      .then(async () => {
+        if (this.pending.get(entry.id) === entry) await this.queue.add('train', this.entryOf(entry), JOB_OPTIONS(entry.id));
+      })
+      .catch(() => undefined)
+      .finally(() => (entry.submitting = false));
+  }
+
+  /** An epoch report from a progress event: checked, and with a study key verified; refused ones are counted and dropped (the result repeats every report). */
+  private progress(jobId: string, data: unknown): void {
+    const entry = this.pending.get(jobId);
+    if (!entry) return;
+    const read = readEntry(queuedProgressSchema, data);
+    const key = this.options.key;
+    const problem = !read.ok
+      ? read.problem
+      : key && !key.verifies('progress', this.options.queue, jobId, read.value.report, read.value.signature)
+        ? read.value.signature === undefined ? 'not signed' : 'its signature does not match the study key'
+        : undefined;
+    if (problem || !read.ok) {
+      this.refused.progress++;
+      this.note(`epoch report of job ${jobId} refused: ${problem}`);
+      return;
+    }
+    entry.report(read.value.report as unknown as EpochReport);
   }
 
   private fail(jobId: string, reason: string): void {
@@ -303,7 +424,7 @@ export class RedisTransport implements TrialTransport {
         if (this.pending.get(entry.id) !== entry) continue; // settled or stopped meanwhile
         if (state === 'completed' || state === 'failed') {
           const job = await this.queue.getJob(entry.id);
-          if (state === 'completed') this.collect(entry.id, job?.returnvalue as unknown);
+          if (state === 'completed') this.collect(entry.id, job?.returnvalue as unknown, 'stored');
           else this.fail(entry.id, job?.failedReason ?? 'failed');
         } else if (state === 'unknown') {
           this.note(`job ${entry.id} is no longer on Redis (was the server restarted?); putting it on the queue again`, false);
@@ -321,13 +442,21 @@ export class RedisTransport implements TrialTransport {
     const ids = await this.redis.zrangebyscore(keys.workers, now - WORKER_LIVE_SECONDS * 1000, '+inf');
     const infos = ids.length > 0 ? await this.redis.hmget(keys.workerInfo, ...ids) : [];
     let threads = 0;
-    for (const text of infos) {
-      if (!text) continue;
-      const info = JSON.parse(text) as WorkerInfo;
+    infos.forEach((text, index) => {
+      if (!text) return;
+      const read = readEntry(workerInfoSchema, text);
+      if (!read.ok) {
+        if (!this.noted.has(`worker entry ${ids[index]}`)) this.refused.workers++;
+        this.note(`worker registry entry ${ids[index]} ignored: ${read.problem}`);
+        this.noted.add(`worker entry ${ids[index]}`);
+        return;
+      }
+      const info = read.value;
       const mismatch = protocolMismatch(info.protocol, `worker ${info.name}`);
-      if (mismatch) this.note(`${mismatch}; it takes no jobs of this study`);
-      else threads += info.threads;
-    }
+      if (mismatch) return this.note(`${mismatch}; it takes no jobs of this study`);
+      if (this.options.key && info.signs === false) this.note(`worker ${info.name} has no study key; its results will be refused (start it with the study's key in RUNGWISE_STUDY_KEY or --key-file)`);
+      threads += info.threads;
+    });
     if (threads !== this.workerThreads || !this.workersCounted) this.note(this.workersNote(threads), false);
     this.workersCounted = true;
     this.workerThreads = threads;

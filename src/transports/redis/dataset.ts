@@ -5,22 +5,16 @@
  * another protocol is refused with a {@link DatasetMessageError}; nothing is trained on it.
  */
 import { createHash } from 'node:crypto';
+import { datasetHeaderSchema, readEntry, type DatasetHeader } from './messages.js';
 import { QUEUE_PROTOCOL_VERSION, protocolMismatch } from './protocol.js';
 import type { SharedDataset } from '../../core/job.js';
 
 const MAGIC = 'RWDS';
 const CHECKSUM_BYTES = 32;
 
-interface DatasetHeader {
-  protocol: number;
-  id: string;
-  task: SharedDataset['task'];
-  inputCount: number;
-  outputCount: number;
-  targetScaling?: { mean: number; std: number };
-  classWeights?: number[];
-  /** Rows and element counts of x and y, training split then validation split. */
-  splits: { rows: number; x: number; y: number }[];
+/** The hex SHA-256 a data-set message ends with: what a job names as its `datasetSha256`. */
+export function datasetChecksum(bytes: Buffer): string {
+  return bytes.subarray(bytes.length - CHECKSUM_BYTES).toString('hex');
 }
 
 export class DatasetMessageError extends Error {
@@ -40,7 +34,7 @@ export function encodeDataset(dataset: SharedDataset): Buffer {
     outputCount: dataset.outputCount,
     ...(dataset.targetScaling ? { targetScaling: dataset.targetScaling } : {}),
     ...(dataset.classWeights ? { classWeights: dataset.classWeights } : {}),
-    splits: [dataset.train, dataset.validation].map((s) => ({ rows: s.rows, x: s.x.length, y: s.y.length })),
+    splits: [sizes(dataset.train), sizes(dataset.validation)],
   };
   const json = Buffer.from(JSON.stringify(header), 'utf8');
   const valuesStart = 8 + json.length + ((4 - (json.length % 4)) % 4);
@@ -55,8 +49,12 @@ export function encodeDataset(dataset: SharedDataset): Buffer {
   return Buffer.concat([body, createHash('sha256').update(body).digest()]);
 }
 
-/** Decode and check a data-set value; `expectedId` is the id the job named. Matrices land in shared memory. */
-export function decodeDataset(bytes: Buffer, expectedId: string): SharedDataset {
+/**
+ * Decode and check a data-set value; `expectedId` is the id the job named and `expectedSha256` (when
+ * given) the checksum its coordinator published. The header is checked against the schema (sizes
+ * agree with rows and inputs), labels against the task. Matrices land in shared memory.
+ */
+export function decodeDataset(bytes: Buffer, expectedId: string, expectedSha256?: string): SharedDataset {
   const refuse = (reason: string): never => {
     throw new DatasetMessageError(expectedId, reason);
   };
@@ -64,12 +62,16 @@ export function decodeDataset(bytes: Buffer, expectedId: string): SharedDataset 
   const body = bytes.subarray(0, bytes.length - CHECKSUM_BYTES);
   const checksum = createHash('sha256').update(body).digest();
   if (!checksum.equals(bytes.subarray(bytes.length - CHECKSUM_BYTES))) refuse('checksum does not match (cut short or altered in transit)');
+  if (expectedSha256 !== undefined && checksum.toString('hex') !== expectedSha256) refuse(`its SHA-256 is not the one its coordinator published (${expectedSha256.slice(0, 12)}...): replaced on Redis`);
   if (body.toString('ascii', 0, 4) !== MAGIC) refuse('not a rungwise data set');
   const jsonLength = body.readUInt32LE(4);
   if (8 + jsonLength > body.length) refuse('header is longer than the message');
-  const header = JSON.parse(body.toString('utf8', 8, 8 + jsonLength)) as DatasetHeader;
-  const mismatch = protocolMismatch(header.protocol, 'the data set');
+  const read = readEntry(datasetHeaderSchema, body.toString('utf8', 8, 8 + jsonLength));
+  const theirs = read.ok ? read.value.protocol : undefined;
+  const mismatch = theirs === undefined ? undefined : protocolMismatch(theirs, 'the data set');
   if (mismatch) refuse(mismatch);
+  if (!read.ok) return refuse(`header ${read.problem}`);
+  const header = read.value;
   if (header.id !== expectedId) refuse(`it holds data set ${header.id}`);
   const valuesStart = 8 + jsonLength + ((4 - (jsonLength % 4)) % 4);
   const floats = header.splits.reduce((sum, s) => sum + s.x + s.y, 0);
@@ -81,6 +83,8 @@ export function decodeDataset(bytes: Buffer, expectedId: string): SharedDataset 
     return array;
   };
   const [train, validation] = header.splits.map((s) => ({ rows: s.rows, x: take(s.x), y: take(s.y) }));
+  const badLabel = firstBadLabel(train!.y, 'training', header) ?? firstBadLabel(validation!.y, 'validation', header);
+  if (badLabel) refuse(badLabel);
   return {
     id: header.id,
     task: header.task,
@@ -91,4 +95,19 @@ export function decodeDataset(bytes: Buffer, expectedId: string): SharedDataset 
     ...(header.targetScaling ? { targetScaling: header.targetScaling } : {}),
     ...(header.classWeights ? { classWeights: header.classWeights } : {}),
   };
+}
+
+function sizes(split: SharedDataset['train']): DatasetHeader['splits'][0] {
+  return { rows: split.rows, x: split.x.length, y: split.y.length };
+}
+
+/** A label a classification task cannot have (not a class index below outputCount, or not 0/1 for binary). */
+function firstBadLabel(y: Float32Array, split: string, header: DatasetHeader): string | undefined {
+  if (header.task === 'regression') return undefined;
+  const classes = header.task === 'binary' ? 2 : header.outputCount;
+  for (let i = 0; i < y.length; i++) {
+    const label = y[i]!;
+    if (!Number.isInteger(label) || label < 0 || label >= classes) return `${split} row ${i + 1}: label ${label} is not a class index from 0 to ${classes - 1}`;
+  }
+  return undefined;
 }

@@ -6,10 +6,16 @@
  */
 import { createHash } from 'node:crypto';
 import path from 'node:path';
-import type { TrainJob, TrainResult } from '../../core/job.js';
+import { queuedJobSchema, queuedResultSchema, readEntry } from './messages.js';
+import type { EpochReport, TrainJob, TrainResult } from '../../core/job.js';
 
-/** Raised whenever the job, result, data-set or registry layout changes (3: jobs carry `maxEpochs` and `earlyStopping`, results `bestEpoch`, `stoppedAtEpoch` and `divergedAfterBest`). */
-export const QUEUE_PROTOCOL_VERSION = 3;
+/**
+ * Raised whenever the job, result, data-set or registry layout changes (4: every entry is checked
+ * against a schema, jobs carry their data set's SHA-256, entries may carry a study key's signature,
+ * progress is `{ report, signature }`; 3: jobs carry `maxEpochs` and `earlyStopping`, results
+ * `bestEpoch`, `stoppedAtEpoch` and `divergedAfterBest`).
+ */
+export const QUEUE_PROTOCOL_VERSION = 4;
 
 /** BullMQ's key prefix and ours: everything rungwise keeps in Redis starts with it. */
 export const KEY_PREFIX = 'rungwise';
@@ -29,24 +35,45 @@ export const keys = {
   cancel: (queue: string, jobId: string) => `${KEY_PREFIX}:cancel:${queue}:${jobId}`,
 };
 
-/** What a worker announces with each heartbeat. */
+/** What a worker announces with each heartbeat (checked by `workerInfoSchema` when read). */
 export interface WorkerInfo {
   protocol: number;
   threads: number;
   /** `host/pid`. */
   name: string;
+  /** Whether it holds a study key (signs its results). */
+  signs?: boolean;
 }
 
-/** A job as it sits on the queue. */
+/** A job as it sits on the queue (checked by `queuedJobSchema` when read). */
 export interface QueuedJob {
   protocol: number;
   job: Omit<TrainJob, 'checkpoint'> & { checkpoint?: string };
+  /** Hex SHA-256 of the data set's message (its trailing checksum), so a worker trains on the data set the coordinator published. */
+  datasetSha256: string;
+  /** The study key's signature of the rest of the entry (see `redis-signing.ts`). */
+  signature?: string;
 }
 
-/** A job's return value. */
+/** A job's return value (checked by `queuedResultSchema` when read). */
 export interface QueuedResult {
   protocol: number;
   result: Omit<TrainResult, 'checkpoint'> & { checkpoint?: string };
+  signature?: string;
+}
+
+/** A job's progress message: one epoch report, signed with a study key. */
+export interface QueuedProgress {
+  report: EpochReport;
+  signature?: string;
+}
+
+/** An entry read from Redis that is not what rungwise writes: the reason names the field. */
+export class EntryRefusedError extends Error {
+  constructor(message: string) {
+    super(message);
+    this.name = 'EntryRefusedError';
+  }
 }
 
 /** The queue of the study in `runDir`: its name and a hash of the directory, so two studies of one name do not meet. */
@@ -65,15 +92,22 @@ export function queueJobId(job: Pick<TrainJob, 'trialId' | 'fromEpoch' | 'toEpoc
   return `t${job.trialId}-f${job.fromEpoch}-e${job.toEpoch}-d${dataset}`;
 }
 
-export function encodeJob(job: TrainJob): QueuedJob {
+/** A job's queue entry (unsigned); `datasetSha256` is the trailing checksum of its data set's message. */
+export function encodeJob(job: TrainJob, datasetSha256: string): QueuedJob {
   const { checkpoint, ...rest } = job;
-  return { protocol: QUEUE_PROTOCOL_VERSION, job: { ...rest, ...(checkpoint ? { checkpoint: toBase64(checkpoint) } : {}) } };
+  return { protocol: QUEUE_PROTOCOL_VERSION, job: { ...rest, ...(checkpoint ? { checkpoint: toBase64(checkpoint) } : {}) }, datasetSha256 };
 }
 
-export function decodeJob(data: QueuedJob): TrainJob {
-  checkProtocol(data.protocol, 'job');
-  const { checkpoint, ...rest } = data.job;
-  return { ...rest, ...(checkpoint !== undefined ? { checkpoint: fromBase64(checkpoint) } : {}) };
+/**
+ * A job read from the queue: protocol checked, then every field against `queuedJobSchema`.
+ * @throws ProtocolMismatchError for another protocol, EntryRefusedError naming the field for anything else
+ */
+export function decodeJob(data: unknown): { job: TrainJob; datasetSha256: string } {
+  checkProtocol((data as { protocol?: unknown } | null)?.protocol, 'job');
+  const read = readEntry(queuedJobSchema, data);
+  if (!read.ok) throw new EntryRefusedError(read.problem);
+  const { checkpoint, ...rest } = read.value.job;
+  return { job: { ...rest, ...(checkpoint !== undefined ? { checkpoint: fromBase64(checkpoint) } : {}) }, datasetSha256: read.value.datasetSha256 };
 }
 
 export function encodeResult(result: TrainResult): QueuedResult {
@@ -81,10 +115,34 @@ export function encodeResult(result: TrainResult): QueuedResult {
   return { protocol: QUEUE_PROTOCOL_VERSION, result: { ...rest, ...(checkpoint ? { checkpoint: toBase64(checkpoint) } : {}) } };
 }
 
-export function decodeResult(value: QueuedResult): TrainResult {
-  checkProtocol(value?.protocol, 'result');
-  const { checkpoint, ...rest } = value.result;
-  return { ...rest, ...(checkpoint !== undefined ? { checkpoint: fromBase64(checkpoint) } : {}) };
+/**
+ * A job's return value (object or JSON text): protocol checked, then every field against `queuedResultSchema`.
+ * @throws ProtocolMismatchError, EntryRefusedError naming the field
+ */
+export function decodeResult(value: unknown): TrainResult {
+  const data = typeof value === 'string' ? parseJson(value) : value;
+  checkProtocol((data as { protocol?: unknown } | null)?.protocol, 'result');
+  const read = readEntry(queuedResultSchema, data);
+  if (!read.ok) throw new EntryRefusedError(read.problem);
+  const { checkpoint, ...rest } = read.value.result;
+  // Figures that were not finite crossed as null (JSON has no NaN), as they always have.
+  const result = rest as unknown as Omit<TrainResult, 'checkpoint'>;
+  return { ...result, ...(checkpoint !== undefined ? { checkpoint: fromBase64(checkpoint) } : {}) };
+}
+
+/** JSON text read from Redis. @throws EntryRefusedError when it is not JSON */
+export function parseJson(text: string): unknown {
+  try {
+    return JSON.parse(text) as unknown;
+  } catch {
+    throw new EntryRefusedError('not valid JSON');
+  }
+}
+
+/** The entry without its signature: what a signature covers. */
+export function unsigned<T extends { signature?: unknown }>(entry: T): Omit<T, 'signature'> {
+  const { signature: _signature, ...rest } = entry;
+  return rest;
 }
 
 /** One line naming both versions when a message speaks another protocol. */

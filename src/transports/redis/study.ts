@@ -1,6 +1,7 @@
 import { RedisTransport } from './coordinator.js';
 import { studyQueueName } from './protocol.js';
-import { parseRedisUrl, type RedisAddress } from './url.js';
+import type { StudyKey } from './signing.js';
+import { parseRedisUrl, type RedisAddress, type RedisCredentials } from './url.js';
 import { RoutedTransport } from '../routed.js';
 import { ThreadTransport } from '../threads/transport.js';
 import type { TrialTransport } from '../transport.js';
@@ -8,6 +9,10 @@ import type { TrialTransport } from '../transport.js';
 export interface QueuedStudyOptions {
   /** `redis://...` or `rediss://...`, password allowed. */
   url: string;
+  /** Password file and certificate authority (the password may also come from the environment). */
+  credentials?: RedisCredentials;
+  /** Sign jobs and accept only results signed with this key. */
+  key?: StudyKey;
   studyName: string;
   runDir: string;
   /** A new study (`run`): the queue is emptied first. A resumed one keeps jobs in flight and collects them. */
@@ -28,7 +33,7 @@ export interface QueuedStudy {
 
 /** Jobs go to `threads` local threads while they have room, the rest to the study's queue on Redis. */
 export function queuedStudy(options: QueuedStudyOptions): QueuedStudy {
-  const address = parseRedisUrl(options.url);
+  const address = parseRedisUrl(options.url, '--queue', options.credentials);
   const unavailable = new AbortController();
   const transport = (): TrialTransport => {
     const threads = options.threads ?? 0;
@@ -37,6 +42,7 @@ export function queuedStudy(options: QueuedStudyOptions): QueuedStudy {
       minimumCapacity: threads > 0 ? 0 : 1,
       queue: studyQueueName(options.studyName, options.runDir),
       fresh: options.fresh,
+      ...(options.key ? { key: options.key } : {}),
       ...(options.queueWaitSeconds !== undefined ? { queueWaitSeconds: options.queueWaitSeconds } : {}),
       ...(options.onNote ? { onNote: options.onNote } : {}),
       onUnavailable: () => unavailable.abort(),

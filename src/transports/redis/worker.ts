@@ -1,17 +1,22 @@
 import { hostname } from 'node:os';
-import { UnrecoverableError, WaitingError, Worker, type Job } from 'bullmq';
+import { UnrecoverableError, WaitingError, Worker, type Job, type JobJsonRaw } from 'bullmq';
 import { Redis } from 'ioredis';
+import { clientOptions } from './connect.js';
 import { decodeDataset } from './dataset.js';
-import { decodeJob, encodeResult, keys, KEY_PREFIX, protocolMismatch, QUEUE_PROTOCOL_VERSION, type QueuedJob, type QueuedResult, type WorkerInfo } from './protocol.js';
-import { DEFAULT_STALL_SECONDS, HEARTBEAT_SECONDS, MAX_STALLS_PER_JOB } from './timing.js';
+import { workerInfoSchema } from './messages.js';
+import { decodeJob, EntryRefusedError, encodeResult, keys, KEY_PREFIX, protocolMismatch, QUEUE_PROTOCOL_VERSION, unsigned, type QueuedProgress, type QueuedResult, type WorkerInfo } from './protocol.js';
+import type { StudyKey } from './signing.js';
+import { DEFAULT_QUEUE_WAIT_SECONDS, DEFAULT_STALL_SECONDS, HEARTBEAT_SECONDS, MAX_STALLS_PER_JOB } from './timing.js';
 import { parseRedisUrl, type RedisAddress } from './url.js';
 import { Slots } from '../slots.js';
 import { ThreadTransport } from '../threads/transport.js';
 import type { TrialTransport } from '../transport.js';
-import type { SharedDataset } from '../../core/job.js';
+import type { SharedDataset, TrainJob } from '../../core/job.js';
 
 /** Heartbeats a study may be missing from the registry before a worker leaves its queue. */
 const DETACH_AFTER_TICKS = 30;
+/** How long an orderly stop may take before connections are cut (Redis may be down). */
+const STOP_GRACE_MS = 2000;
 
 export interface QueueWorkerOptions {
   url: string | RedisAddress;
@@ -23,13 +28,36 @@ export interface QueueWorkerOptions {
   transport?: TrialTransport;
   /** How results name this worker. @default `host/pid` */
   name?: string;
+  /** With a study key, jobs must carry its signature and results and epoch reports are signed. */
+  key?: StudyKey;
+  /** Seconds Redis may stay unreachable before {@link QueueWorkerOptions.onUnavailable}. @default {@link DEFAULT_QUEUE_WAIT_SECONDS} */
+  waitSeconds?: number;
+  /** Redis stayed unreachable for `waitSeconds`: the caller should stop the worker. */
+  onUnavailable?: () => void;
   onNote?: (message: string) => void;
+}
+
+/** Job data BullMQ could not parse as JSON, kept as a marker so the job fails instead of staying active. */
+const UNREADABLE = '__rungwise_unreadable__';
+
+/** A BullMQ worker that turns a job whose data is not JSON into a job that fails with that reason. */
+class CheckedWorker extends Worker {
+  protected override createJob(data: JobJsonRaw, jobId: string): Job {
+    try {
+      JSON.parse(data.data || '{}');
+    } catch {
+      return super.createJob({ ...data, data: JSON.stringify({ [UNREADABLE]: true }) }, jobId);
+    }
+    return super.createJob(data, jobId);
+  }
 }
 
 /**
  * A `rungwise worker`: takes jobs from every study queue on one Redis, trains them on local
  * threads, sends each epoch's report as job progress and the result (checkpoint inside) as the
- * job's return value. Each data set is fetched once by id, checked and kept for later jobs.
+ * job's return value. Each data set is fetched once by id and checksum, checked and kept for later
+ * jobs. Every job is checked against its schema (and the study key, when there is one) before
+ * anything is trained; a job that fails the check fails with the reason.
  */
 export class QueueWorker {
   readonly name: string;
@@ -44,19 +72,21 @@ export class QueueWorker {
   private readonly noted = new Set<string>();
   private readonly id: string;
   private timer: NodeJS.Timeout | undefined;
+  private downTimer: NodeJS.Timeout | undefined;
   private stopping = false;
   /** Jobs trained to the end by this worker. */
   jobsDone = 0;
   /** Data sets fetched from Redis (each once, then kept). */
   datasetsFetched = 0;
+  /** Jobs refused: unreadable, invalid, of no or a wrong signature. */
+  jobsRefused = 0;
 
   constructor(private readonly options: QueueWorkerOptions) {
     this.address = typeof options.url === 'string' ? parseRedisUrl(options.url, 'worker address') : options.url;
     this.name = options.name ?? `${hostname()}/${process.pid}`;
     this.id = `${this.name}/${Date.now().toString(36)}`;
-    this.redis = new Redis({ ...this.address.options, maxRetriesPerRequest: null });
-    this.redis.on('error', () => this.note(`Redis at ${this.address.display} is unreachable; waiting for it`));
-    this.redis.on('ready', () => this.noted.delete(`Redis at ${this.address.display} is unreachable; waiting for it`));
+    this.redis = new Redis(clientOptions(this.address));
+    this.watchConnection();
     this.local = options.transport ?? new ThreadTransport({ threads: options.threads });
     this.slots = new Slots(options.threads);
   }
@@ -65,22 +95,39 @@ export class QueueWorker {
     return this.address.display;
   }
 
-  /** Announce this worker and attach to every study queue, now and as studies appear. */
+  /**
+   * Announce this worker and attach to every study queue, now and as studies appear. Resolves after
+   * the first heartbeat, or at once if Redis does not answer it (the next ones try again), so a stop
+   * is never held up by an unreachable Redis.
+   */
   async start(): Promise<void> {
-    await this.tick();
     this.timer = setInterval(() => void this.tick(), HEARTBEAT_SECONDS * 1000);
+    await Promise.race([this.tick(), new Promise<void>((resolve) => this.redis.once('error', () => resolve()))]);
   }
 
-  /** Stop taking jobs, hand running ones back to the queue (another worker takes them up), and disconnect. */
+  /**
+   * Stop taking jobs, hand running ones back to the queue (another worker takes them up), and
+   * disconnect; with Redis unreachable, connections are cut after two seconds (jobs held go back
+   * after the stall time).
+   */
   async stop(): Promise<void> {
     if (this.stopping) return;
     this.stopping = true;
     clearInterval(this.timer);
+    clearTimeout(this.downTimer);
     for (const abort of this.running) abort.abort();
-    await Promise.all([...this.queues.values()].map((worker) => worker.close()));
-    await this.redis.multi().zrem(keys.workers, this.id).hdel(keys.workerInfo, this.id).exec().catch(() => undefined);
+    const orderly = async (): Promise<void> => {
+      await Promise.all([...this.queues.values()].map((worker) => worker.close()));
+      await this.redis.multi().zrem(keys.workers, this.id).hdel(keys.workerInfo, this.id).exec();
+      await this.redis.quit();
+    };
+    let timer: NodeJS.Timeout | undefined;
+    const late = new Promise<void>((resolve) => (timer = setTimeout(resolve, STOP_GRACE_MS)));
+    await Promise.race([orderly().catch(() => undefined), late]);
+    clearTimeout(timer);
+    for (const worker of this.queues.values()) void worker.disconnect().catch(() => undefined);
+    this.redis.disconnect();
     await this.local.close();
-    await this.redis.quit().catch(() => undefined);
   }
 
   private note(message: string): void {
@@ -89,11 +136,32 @@ export class QueueWorker {
     this.options.onNote?.(message);
   }
 
+  /** Say once that Redis is lost; give up after the wait; forget it when Redis is back. */
+  private watchConnection(): void {
+    const lostLine = `Redis at ${this.address.display} is unreachable; waiting for it`;
+    const waitSeconds = this.options.waitSeconds ?? DEFAULT_QUEUE_WAIT_SECONDS;
+    this.redis.on('error', () => {
+      this.note(lostLine);
+      if (this.downTimer || this.stopping) return;
+      this.downTimer = setTimeout(() => this.options.onUnavailable?.(), waitSeconds * 1000);
+      this.downTimer.unref();
+    });
+    this.redis.on('ready', () => {
+      this.noted.delete(lostLine);
+      clearTimeout(this.downTimer);
+      this.downTimer = undefined;
+    });
+  }
+
   /** Heartbeat, then attach to new study queues of this protocol and leave the ones whose study ended. */
+  private ticking = false;
+
   private async tick(): Promise<void> {
-    if (this.stopping) return;
+    if (this.stopping || this.ticking) return;
+    this.ticking = true;
     try {
-      const info: WorkerInfo = { protocol: QUEUE_PROTOCOL_VERSION, threads: this.options.threads, name: this.name };
+      const info: WorkerInfo = { protocol: QUEUE_PROTOCOL_VERSION, threads: this.options.threads, name: this.name, signs: this.options.key !== undefined };
+      workerInfoSchema.parse(info);
       await this.redis.multi().zadd(keys.workers, Date.now(), this.id).hset(keys.workerInfo, this.id, JSON.stringify(info)).exec();
       const protocols = await this.redis.hgetall(keys.studyProtocols);
       for (const [queue, protocol] of Object.entries(protocols)) {
@@ -117,13 +185,15 @@ export class QueueWorker {
       }
     } catch {
       // Redis unreachable: the connection's error handler said so; the next tick tries again.
+    } finally {
+      this.ticking = false;
     }
   }
 
   private attach(queue: string): void {
     const stallMs = (this.options.stallSeconds ?? DEFAULT_STALL_SECONDS) * 1000;
-    const worker = new Worker<QueuedJob, QueuedResult>(queue, (job, token) => this.process(queue, job, token), {
-      connection: { ...this.address.options, maxRetriesPerRequest: null },
+    const worker = new CheckedWorker(queue, (job, token) => this.process(queue, job, token), {
+      connection: clientOptions(this.address),
       prefix: KEY_PREFIX,
       concurrency: this.options.threads,
       lockDuration: stallMs,
@@ -135,35 +205,65 @@ export class QueueWorker {
     this.note(`taking jobs of study queue ${queue}`);
   }
 
-  private async process(queue: string, job: Job<QueuedJob, QueuedResult>, token: string | undefined): Promise<QueuedResult> {
-    const mismatch = protocolMismatch(job.data?.protocol, `job ${job.id} of study queue ${queue}`);
+  /**
+   * The job's entry checked: readable, of this protocol, signed with the study key when there is
+   * one, every field valid. @throws UnrecoverableError with the reason (the job fails; its coordinator records why)
+   */
+  private admit(queue: string, job: Job): { job: TrainJob; datasetSha256: string } {
+    const what = `job ${job.id} of study queue ${queue}`;
+    const refuse = (reason: string): never => {
+      this.jobsRefused++;
+      this.note(`${what} refused: ${reason}`);
+      throw new UnrecoverableError(`${what} refused: ${reason}`);
+    };
+    const raw = job.data as Record<string, unknown> | null;
+    if (raw === null || typeof raw !== 'object' || Array.isArray(raw)) return refuse('its data is not a JSON object');
+    if (raw[UNREADABLE] === true) return refuse('its data is not valid JSON');
+    const mismatch = protocolMismatch(raw.protocol, what);
     if (mismatch) {
       this.note(mismatch);
       throw new UnrecoverableError(mismatch);
     }
+    const key = this.options.key;
+    if (key) {
+      if (raw.signature === undefined) refuse('it is not signed, and this worker has a study key (start the coordinator with the same key)');
+      if (!key.verifies('job', queue, String(job.id), unsigned(raw), raw.signature)) refuse('its signature does not match this worker\'s study key');
+    }
+    try {
+      return decodeJob(raw);
+    } catch (error) {
+      if (error instanceof EntryRefusedError) return refuse(error.message);
+      throw error;
+    }
+  }
+
+  private async process(queue: string, job: Job, token: string | undefined): Promise<QueuedResult> {
+    const { job: trainJob, datasetSha256 } = this.admit(queue, job);
     const release = await this.slots.acquire();
     const abort = new AbortController();
     this.running.add(abort);
+    const jobId = String(job.id);
     try {
       if (this.stopping) throw new Error('stopping');
-      const trainJob = decodeJob(job.data);
-      const cancelKey = keys.cancel(queue, String(job.id));
+      const cancelKey = keys.cancel(queue, jobId);
       if ((await this.redis.exists(cancelKey)) === 1) throw new UnrecoverableError('stopped by the coordinator');
-      await this.dataset(trainJob.datasetId);
+      await this.dataset(trainJob.datasetId, datasetSha256);
       this.options.onNote?.(`job ${job.id} of ${queue}: trial ${trainJob.trialId}, epochs ${trainJob.fromEpoch + 1}..${trainJob.toEpoch}`);
       // Progress goes out in epoch order and before the result.
       let progress = Promise.resolve();
       const result = await this.local.run(
         trainJob,
         (report) => {
-          progress = progress.then(() => job.updateProgress(report as unknown as Record<string, unknown>)).catch(() => undefined);
+          const message: QueuedProgress = { report, ...(this.options.key ? { signature: this.options.key.sign('progress', queue, jobId, report) } : {}) };
+          progress = progress.then(() => job.updateProgress(message as unknown as Record<string, unknown>)).catch(() => undefined);
           this.redis.exists(cancelKey).then((n) => n === 1 && abort.abort(), () => undefined);
         },
         abort.signal,
       );
       await progress;
       this.jobsDone++;
-      return encodeResult({ ...result, ranOn: this.name });
+      const entry = encodeResult({ ...result, ranOn: this.name });
+      return this.options.key ? { ...entry, signature: this.options.key.sign('result', queue, jobId, entry) } : entry;
     } catch (error) {
       if (this.stopping && !(error instanceof UnrecoverableError)) {
         // Handed back whole: the job waits again with its data (and starting checkpoint) unchanged.
@@ -178,21 +278,22 @@ export class QueueWorker {
     }
   }
 
-  /** The data set, fetched from Redis and checked the first time a job names it. */
-  private dataset(id: string): Promise<SharedDataset> {
-    let entry = this.datasets.get(id);
+  /** The data set, fetched from Redis and checked (against the checksum the job names) the first time a job names it. */
+  private dataset(id: string, sha256: string): Promise<SharedDataset> {
+    const cacheKey = `${id}/${sha256}`;
+    let entry = this.datasets.get(cacheKey);
     if (!entry) {
       entry = (async () => {
         const bytes = await this.redis.getBuffer(keys.dataset(id));
         this.datasetsFetched++;
         if (!bytes) throw new Error(`data set ${id} is not on Redis (its coordinator publishes it when the study starts)`);
-        const dataset = decodeDataset(bytes, id);
+        const dataset = decodeDataset(bytes, id, sha256);
         await this.local.addDataset(dataset);
         return dataset;
       })();
-      this.datasets.set(id, entry);
+      this.datasets.set(cacheKey, entry);
       entry.catch((error: unknown) => {
-        this.datasets.delete(id); // fetched again by the next job that names it
+        this.datasets.delete(cacheKey); // fetched again by the next job that names it
         this.note(error instanceof Error ? error.message : String(error));
       });
     }
