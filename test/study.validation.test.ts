@@ -45,6 +45,18 @@ describe('study definition validation', () => {
     expect(definition.retries).toBe(0);
   });
 
+  it('accepts log: true and log: false on the learning rate, L2 and dropout ranges, and keeps a definition without log as written', () => {
+    const scaled = validateStudy(withChange((d) => {
+      d.space.learningRate.log = true;
+      d.space.l2 = { min: 1e-6, max: 1e-2, log: false };
+      d.space.dropout = { min: 0.05, max: 0.5, log: true };
+    }), 'study.json');
+    expect(scaled.space.learningRate.log).toBe(true);
+    expect(scaled.space.l2?.log).toBe(false);
+    expect(scaled.space.dropout?.log).toBe(true);
+    expect('log' in validateStudy(valid, 'study.json').space.learningRate).toBe(false);
+  });
+
   it('names the file, the JSON path, what was found and what is allowed', () => {
     const error = errorOf(withChange((d) => (d.space.learningRate.min = -1)));
     expect(error.code).toBe('E_STUDY_INVALID');
