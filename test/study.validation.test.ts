@@ -57,6 +57,16 @@ describe('study definition validation', () => {
     expect('log' in validateStudy(valid, 'study.json').space.learningRate).toBe(false);
   });
 
+  it('accepts configurations to try first and names a listed configuration that lacks what the space\'s schedule draws', () => {
+    const first = { depth: 2, width: 32, activation: 'relu', learningRate: 0.001, batchSize: 32 };
+    expect(validateStudy(withChange((d) => (d.tryFirst = [first])), 'study.json').tryFirst?.[0]).toEqual({ ...first, optimizer: 'adam', l2: 0, dropout: 0 });
+    const error = errorOf(withChange((d) => {
+      d.space.schedule = { kind: ['cosine'] };
+      d.tryFirst = [first];
+    }));
+    expect(error.message).toBe("study.json: tryFirst[0]: lacks schedule, warmupEpochs, minFactor, which this space's schedule draws; give them");
+  });
+
   it('names the file, the JSON path, what was found and what is allowed', () => {
     const error = errorOf(withChange((d) => (d.space.learningRate.min = -1)));
     expect(error.code).toBe('E_STUDY_INVALID');

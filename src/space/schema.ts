@@ -101,3 +101,34 @@ export const spaceSchema = z.strictObject({
 
 /** A validated search space with defaults applied. */
 export type SearchSpace = z.output<typeof spaceSchema>;
+
+/** One configuration as a study lists it to try first: every field of a trial's configuration (l2 and dropout default to 0). */
+export const listedConfigurationSchema = z.strictObject({
+  depth: z.int().min(1),
+  width: z.int().min(1),
+  activation: z.enum(ACTIVATIONS),
+  learningRate: z.number().positive(),
+  batchSize: z.int().min(1),
+  optimizer: z.enum(OPTIMIZERS).default('adam'),
+  l2: z.number().min(0).default(0),
+  dropout: z.number().min(0).max(0.9).default(0),
+  schedule: z.enum(SCHEDULES).optional().describe('Required when the space has a schedule; then also warmupEpochs, gamma and stepEpochs (step among the kinds), minFactor (cosine among the kinds).'),
+  warmupEpochs: z.int().min(0).optional(),
+  gamma: z.number().gt(0).max(1).optional(),
+  stepEpochs: z.int().min(1).optional(),
+  minFactor: z.number().min(0).lt(1).optional(),
+});
+
+/** The fields a listed configuration must give for this space's schedule, and those it must leave out. */
+export function listedScheduleProblem(entry: z.output<typeof listedConfigurationSchema>, space: SearchSpace): string | undefined {
+  const schedule = space.schedule;
+  const given = (['schedule', 'warmupEpochs', 'gamma', 'stepEpochs', 'minFactor'] as const).filter((key) => entry[key] !== undefined);
+  if (!schedule) return given.length > 0 ? `gives ${given.join(', ')} but the space has no schedule; leave them out` : undefined;
+  const needed: string[] = ['schedule', 'warmupEpochs'];
+  if (schedule.kind.includes('step')) needed.push('gamma', 'stepEpochs');
+  if (schedule.kind.includes('cosine')) needed.push('minFactor');
+  const missing = needed.filter((key) => !given.includes(key as (typeof given)[number]));
+  if (missing.length > 0) return `lacks ${missing.join(', ')}, which this space's schedule draws; give them`;
+  const extra = given.filter((key) => !needed.includes(key));
+  return extra.length > 0 ? `gives ${extra.join(', ')}, which this space's schedule kinds do not use; leave them out` : undefined;
+}

@@ -4,7 +4,7 @@ import { budgetSchema } from '../core/budget.js';
 import { LOWER_IS_BETTER, METRICS, TASKS, type Goal, type MetricName } from '../core/configuration.js';
 import { earlyStoppingSchema } from '../core/early-stopping.js';
 import { seedField as seed } from '../core/fields.js';
-import { spaceSchema } from '../space/schema.js';
+import { listedConfigurationSchema, spaceSchema } from '../space/schema.js';
 
 export const dataSchema = z.strictObject({
   csv: z.string().min(1).describe('Path of the CSV file, relative to the study definition file.'),
@@ -81,6 +81,11 @@ export const studySchema = z.strictObject({
   retries: z.int().min(0).max(10).default(0).describe('Times a failed trial is run again before it is given up.'),
   decisionThreshold: decisionThresholdSchema.optional(),
   earlyStopping: earlyStoppingSchema.optional(),
+  tryFirst: z
+    .array(listedConfigurationSchema)
+    .min(1)
+    .optional()
+    .describe('Configurations to train first, in order: trial 0 trains the first, trial 1 the second, ...; every sampler gives them their trials as listed, and model-based samplers learn from their results. Values may lie outside the space.'),
 });
 
 /** A study definition as written in the file (defaults not yet applied). */

@@ -7,6 +7,7 @@ import { resolveGoal, studySchema, type StudyDefinition } from './definition.js'
 import { utf16Kind } from '../text/encoding.js';
 import { formatIssue } from './issues.js';
 import { earlyStoppingProblem } from '../core/early-stopping.js';
+import { listedScheduleProblem } from '../space/schema.js';
 
 export interface LoadedStudy {
   definition: StudyDefinition;
@@ -100,6 +101,10 @@ function crossFieldProblems(definition: StudyDefinition): [string, string][] {
     // Each fold would stop at an epoch of its own, and the fold mean needs one curve; not built yet.
     problems.push(['earlyStopping', `cannot be combined with data.folds yet (each fold would stop at its own epoch); use one or the other`]);
   }
+  definition.tryFirst?.forEach((entry, index) => {
+    const problem = listedScheduleProblem(entry, definition.space);
+    if (problem) problems.push([`tryFirst[${index}]`, problem]);
+  });
   if (data.features?.includes(data.target)) {
     problems.push(['data.features', `lists the target column "${data.target}"; the target cannot be an input`]);
   }
