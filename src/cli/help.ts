@@ -14,6 +14,7 @@ export const PROGRAM_EXAMPLES = examples([
 
 export const COMMAND_EXAMPLES: Record<string, string> = {
   run: examples([
+    ['rungwise run pumps.csv --target fails', 'a study from a CSV and its target: rungwise picks the rest'],
     ['rungwise run studies/demo/study.json --out runs/demo', 'progress on stderr, ranking on stdout'],
     ['rungwise run study.json --quiet --json > result.json', 'nothing but the result, as JSON'],
     ['rungwise run study.json --out runs/x --force --workers 2', 'replace an earlier run, two worker threads'],

@@ -10,6 +10,7 @@ import { COMMAND_EXAMPLES, PROGRAM_EXAMPLES } from './help.js';
 import { interruptSignal } from './interrupt.js';
 import { workerStopSignal } from './worker-signal.js';
 import type { FaultInjector } from '../transports/threads/transport.js';
+import { TASKS, type Task } from '../core/configuration.js';
 
 function wholeNumber(value: string, name: string): number {
   const parsed = Number(value);
@@ -38,6 +39,12 @@ function queueFlags(flags: QueueFlagValues): QueueFlagValues {
     ...(flags.threads !== undefined ? { threads: flags.threads } : {}),
     ...(flags.queueWaitSeconds !== undefined ? { queueWaitSeconds: flags.queueWaitSeconds } : {}),
   };
+}
+
+function taskName(value: string): Task {
+  const task = TASKS.find((name) => name === value);
+  if (!task) throw new InvalidArgumentError(`--task must be one of ${TASKS.join(', ')}, got '${value}'`);
+  return task;
 }
 
 function positiveInteger(value: string, name: string): number {
@@ -146,14 +153,19 @@ export function buildProgram(
   };
 
   command('run')
-    .description('launch a study from its definition file')
-    .argument('<definition>', 'study definition (JSON)')
+    .description('launch a study from its definition file, or from a CSV and its target column')
+    .argument('<definition>', 'study definition (JSON), or a CSV file with --target')
+    .option('--target <column>', 'with a CSV: the column to predict; rungwise infers the task and defines the search space, budget and sampler')
+    .option('--task <task>', 'with --target: binary, multiclass or regression, when the target leaves it ambiguous', taskName)
+    .option('--split-seed <n>', 'with --target: seed of the train/validation/test split (default 0)', (v) => wholeNumber(v, '--split-seed'))
+    .option('--trials <n>', 'with --target: configurations to try, in place of the default budget (with --max-epochs)', (v) => positiveInteger(v, '--trials'))
+    .option('--max-epochs <n>', 'with --target: epochs per configuration at most, in place of the default budget (with --trials)', (v) => positiveInteger(v, '--max-epochs'))
     .option('--out <dir>', 'run directory (default: runs/<study name>)')
     .option('--workers <n>', "worker threads (default: the study's, else available cores)", workers)
     .option('--top <n>', 'configurations in the result (default: 10 in the table, all in JSON)', top)
     .option('--force', 'replace a run directory that already holds a study')
     .option('--json', 'print the result as JSON: every trial, ranked ones first')
-    .action(async (definition: string, flags: { out?: string; workers?: number; top?: number; force?: boolean; json?: boolean } & QueueFlagValues) => {
+    .action(async (definition: string, flags: { out?: string; workers?: number; top?: number; force?: boolean; json?: boolean; target?: string; task?: Task; splitSeed?: number; trials?: number; maxEpochs?: number } & QueueFlagValues) => {
       const target = io();
       const { run } = await import('../commands/run.js');
       const { json: _json, top: _top, ...options } = flags;

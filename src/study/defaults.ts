@@ -19,6 +19,8 @@ export interface DataShape {
   splitSeed?: number;
   /** The study's name; default: the CSV's file name without its extension, made a valid name. */
   name?: string;
+  /** Replaces the default budget; the first rung then trains maxEpochs / 27 epochs (at least 1). */
+  budget?: { trials: number; maxEpochs: number };
 }
 
 /** Where each default comes from, one line each, in the order the README lists them. */
@@ -54,13 +56,13 @@ export function defaultBatchSizes(rows: number): number[] {
 }
 
 /**
- * Successive halving over 4 rungs (eta 3): `trials` configurations train minEpochs, the best third
+ * Successive halving over 4 rungs (eta 3): `trials` (81) configurations train minEpochs, the best third
  * 3 x minEpochs, and so on to maxEpochs = 27 x minEpochs. Epochs scale inversely with the rows (so the
  * time stays about the same), between 1 and 8 epochs at the first rung.
  */
 export function defaultBudget(rows: number): { trials: number; maxEpochs: number; minEpochs: number } {
   const minEpochs = Math.max(1, Math.min(8, Math.round((2 * REFERENCE_ROWS) / Math.max(rows, 1))));
-  return { trials: 27, minEpochs, maxEpochs: 27 * minEpochs };
+  return { trials: 81, minEpochs, maxEpochs: 27 * minEpochs };
 }
 
 /** A valid study name from a file name ('Pump logs (2024).csv' gives 'Pump-logs-2024'). */
@@ -72,7 +74,9 @@ export function studyNameFor(csv: string): string {
 
 /** The full study definition rungwise writes for a CSV, a target and the task, with every default spelled out. */
 export function defaultStudy(shape: DataShape): StudyDefinitionInput {
-  const { trials, maxEpochs, minEpochs } = defaultBudget(shape.rows);
+  const { trials, maxEpochs, minEpochs } = shape.budget
+    ? { ...shape.budget, minEpochs: Math.max(1, Math.floor(shape.budget.maxEpochs / 27)) }
+    : defaultBudget(shape.rows);
   return {
     name: shape.name ?? studyNameFor(shape.csv),
     data: { csv: shape.csv, target: shape.target, task: shape.task, ...(shape.splitSeed !== undefined ? { splitSeed: shape.splitSeed } : {}) },

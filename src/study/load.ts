@@ -3,7 +3,7 @@ import path from 'node:path';
 import { parse as parseLenient, printParseErrorCode, type ParseError } from 'jsonc-parser';
 import { UserError } from '../core/errors.js';
 import { BINARY_METRICS, CLASSIFICATION_METRICS, REGRESSION_METRICS, type MetricName } from '../core/configuration.js';
-import { resolveGoal, studySchema, type StudyDefinition } from './definition.js';
+import { dataOnlyStudySchema, resolveGoal, studySchema, type DataOnlyStudy, type StudyDefinition } from './definition.js';
 import { utf16Kind } from '../text/encoding.js';
 import { formatIssue } from './issues.js';
 import { earlyStoppingProblem } from '../core/early-stopping.js';
@@ -111,6 +111,13 @@ function crossFieldProblems(definition: StudyDefinition): [string, string][] {
   return problems;
 }
 
+/** Validate a data-only definition (see `dataOnlyStudySchema`); `file` is used in messages only. */
+export function validateDataOnly(raw: unknown, file: string): DataOnlyStudy {
+  const result = dataOnlyStudySchema.safeParse(raw);
+  if (!result.success) throw new UserError('E_STUDY_INVALID', result.error.issues.map((issue) => formatIssue(file, issue, raw, dataOnlyStudySchema)).join('\n'));
+  return result.data;
+}
+
 /** Validate an already parsed definition; `file` is used in messages only. Old key names are translated silently. */
 export function validateStudy(raw: unknown, file: string): StudyDefinition {
   return validated(translateOldKeys(raw, file).raw, file);
@@ -131,6 +138,13 @@ function validated(raw: unknown, file: string): StudyDefinition {
 
 /** Read, parse and validate a study definition file. Throws a {@link UserError} on any problem. */
 export async function loadStudy(file: string): Promise<LoadedStudy> {
+  const { raw, absolute } = await readStudyJson(file);
+  const translated = translateOldKeys(raw, file);
+  return { definition: validated(translated.raw, file), file: absolute, notes: translated.notes };
+}
+
+/** Read and parse a study definition file as JSON, not yet validated. Throws a {@link UserError} on an unreadable or malformed file. */
+export async function readStudyJson(file: string): Promise<{ raw: unknown; absolute: string }> {
   const absolute = path.resolve(file);
   let bytes: Buffer;
   try {
@@ -151,8 +165,7 @@ export async function loadStudy(file: string): Promise<LoadedStudy> {
     const { line } = lineAndColumn(text, nul);
     throw new UserError('E_STUDY_JSON', `${file}: line ${line}: contains a NUL byte; this looks like a binary file, expected a JSON study definition (UTF-8 text)`);
   }
-  const { raw, notes } = translateOldKeys(parseJson(text, file), file);
-  return { definition: validated(raw, file), file: absolute, notes };
+  return { raw: parseJson(text, file), absolute };
 }
 
 /** What messages call a definition given as an object rather than a file. */
