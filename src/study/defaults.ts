@@ -30,7 +30,7 @@ export const DEFAULT_SOURCES: readonly string[] = [
   'activations relu, selu and swish: selu for classification and a smooth activation (mish, here swish) for regression are the defaults of RealMLP-TD, Holzmüller, Grinsztajn, Steinwart, "Better by Default", NeurIPS 2024 (from memory); relu as the common baseline',
   'first configuration 3 x 256, dropout 0.15: RealMLP-TD\'s shape and dropout (Holzmüller et al. 2024, from memory); learning rate 0.001 (Adam\'s default, Kingma and Ba 2015); L2 at the bottom of its range, since RealMLP-TD uses no weight decay',
   'batch sizes by rows (32 to 128 below 5,000 rows, 128 to 512 above): common practice (no source); RealMLP-TD uses 256',
-  'sampler: successive halving (Jamieson and Talwalkar, AISTATS 2016) with eta 3 over 4 rungs; trials and epochs from the rows so a 2,000-row, 30-column set takes about three minutes on two cores (measured: bench "default study")',
+  'sampler: successive halving (Jamieson and Talwalkar, AISTATS 2016) with eta 3 over 4 rungs; trials and epochs from the rows so a 2,000-row, 30-column set takes about three minutes on two cores (measured on a generated set: DEVELOPERS.md, "Performance: measured figures")',
 ];
 
 /** Data rows for which the budget below was measured; smaller sets get more epochs, larger ones fewer. */
