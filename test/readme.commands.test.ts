@@ -72,6 +72,8 @@ async function listening(port: number): Promise<void> {
 /** Argument list of a README command, `npx rungwise` run as `node bin/rungwise.js`. */
 function commandLine(text: string): [string, string[]] {
   const words = (text.match(/'[^']*'|\S+/g) ?? []).map((word) => (word.startsWith("'") ? word.slice(1, -1) : word));
+  // A study from a CSV and a target gets a small budget, as the demo studies do below.
+  if (words[2] === 'run' && words.includes('--target') && !words.includes('--trials')) words.push('--trials', '3', '--max-epochs', '3');
   if (words[0] === 'npx' && words[1] === 'rungwise') return [process.execPath, ['bin/rungwise.js', ...words.slice(2)]];
   return [words[0]!, words.slice(1)];
 }

@@ -1,5 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { drawInteger, logUniform, paramsForTrial, sampleParams } from '../src/space/sample.js';
+import { paramsAt } from '../src/space/dimensions.js';
 import { spaceSchema, type SearchSpace } from '../src/space/schema.js';
 import { stream } from '../src/random/streams.js';
 
@@ -87,5 +88,50 @@ describe('drawing helpers', () => {
   it('maps u = 0.5 of a log range to its geometric middle', () => {
     expect(logUniform(1e-4, 1e-2, 0.5)).toBeCloseTo(1e-3, 12);
     expect(logUniform(0.01, 0.01, 0.3)).toBe(0.01);
+  });
+});
+
+describe('the scale of real ranges (log key)', () => {
+  const base = { depth: { min: 1, max: 2 }, width: { min: 8, max: 8 }, activation: ['relu'] };
+  const uniformRates = spaceSchema.parse({ ...base, learningRate: { min: 1e-4, max: 1e-1, log: false }, l2: { min: 1e-6, max: 1e-2, log: false }, dropout: { min: 0.01, max: 0.5, log: true } });
+  const defaults = spaceSchema.parse({ ...base, learningRate: { min: 1e-4, max: 1e-1 }, l2: { min: 1e-6, max: 1e-2 }, dropout: { min: 0.01, max: 0.5 } });
+  const explicit = spaceSchema.parse({ ...base, learningRate: { min: 1e-4, max: 1e-1, log: true }, l2: { min: 1e-6, max: 1e-2, log: true }, dropout: { min: 0.01, max: 0.5, log: false } });
+
+  it('draws exactly as before when log is left out, and the same as the explicit default', () => {
+    for (let id = 0; id < 50; id++) {
+      const rng = stream(3, 'params', id);
+      const before = [rng(), rng(), rng(), rng(), rng(), rng(), rng(), rng()];
+      const drawn = paramsForTrial(defaults, 3, id);
+      // The formulas random drawing used before the log key: log-uniform learning rate and L2, uniform dropout.
+      expect(drawn.learningRate).toBe(logUniform(1e-4, 1e-1, before[3]!));
+      expect(drawn.l2).toBe(logUniform(1e-6, 1e-2, before[6]!));
+      expect(drawn.dropout).toBe(0.01 + before[7]! * (0.5 - 0.01));
+      expect(paramsForTrial(explicit, 3, id)).toEqual(drawn);
+    }
+  });
+
+  it('maps u = 0.5 to the arithmetic middle with log: false and to the geometric middle with log: true', () => {
+    // Source: definition of the uniform and log-uniform distributions (middle of [a, b]: (a + b) / 2, sqrt(a b)).
+    const point = [0.5, 0.5, 0.5, 0.5, 0.5, 0.5, 0.5, 0.5];
+    const uniformAt = paramsAt(uniformRates, point);
+    expect(uniformAt.learningRate).toBeCloseTo((1e-4 + 1e-1) / 2, 12);
+    expect(uniformAt.l2).toBeCloseTo((1e-6 + 1e-2) / 2, 12);
+    expect(uniformAt.dropout).toBeCloseTo(Math.sqrt(0.01 * 0.5), 12);
+    const defaultAt = paramsAt(defaults, point);
+    expect(defaultAt.learningRate).toBeCloseTo(Math.sqrt(1e-4 * 1e-1), 12);
+    expect(defaultAt.dropout).toBeCloseTo((0.01 + 0.5) / 2, 12);
+  });
+
+  it('puts about half of uniform learning-rate draws above the middle of the range (a log scale puts 1/3 per decade)', () => {
+    const rates = Array.from({ length: 2000 }, (_, id) => paramsForTrial(uniformRates, 0, id).learningRate);
+    const above = rates.filter((rate) => rate > (1e-4 + 1e-1) / 2).length / rates.length;
+    expect(above).toBeGreaterThan(0.45);
+    expect(above).toBeLessThan(0.55);
+  });
+
+  it('refuses log: true on a dropout range that starts at 0', () => {
+    const parsed = spaceSchema.safeParse({ ...base, learningRate: { min: 1e-4, max: 1e-1 }, dropout: { min: 0, max: 0.5, log: true } });
+    expect(parsed.success).toBe(false);
+    expect(parsed.error?.issues[0]?.message).toBe('found 0, expected above 0 with log: true');
   });
 });

@@ -45,6 +45,28 @@ describe('study definition validation', () => {
     expect(definition.retries).toBe(0);
   });
 
+  it('accepts log: true and log: false on the learning rate, L2 and dropout ranges, and keeps a definition without log as written', () => {
+    const scaled = validateStudy(withChange((d) => {
+      d.space.learningRate.log = true;
+      d.space.l2 = { min: 1e-6, max: 1e-2, log: false };
+      d.space.dropout = { min: 0.05, max: 0.5, log: true };
+    }), 'study.json');
+    expect(scaled.space.learningRate.log).toBe(true);
+    expect(scaled.space.l2?.log).toBe(false);
+    expect(scaled.space.dropout?.log).toBe(true);
+    expect('log' in validateStudy(valid, 'study.json').space.learningRate).toBe(false);
+  });
+
+  it('accepts configurations to try first and names a listed configuration that lacks what the space\'s schedule draws', () => {
+    const first = { depth: 2, width: 32, activation: 'relu', learningRate: 0.001, batchSize: 32 };
+    expect(validateStudy(withChange((d) => (d.tryFirst = [first])), 'study.json').tryFirst?.[0]).toEqual({ ...first, optimizer: 'adam', l2: 0, dropout: 0 });
+    const error = errorOf(withChange((d) => {
+      d.space.schedule = { kind: ['cosine'] };
+      d.tryFirst = [first];
+    }));
+    expect(error.message).toBe("study.json: tryFirst[0]: lacks schedule, warmupEpochs, minFactor, which this space's schedule draws; give them");
+  });
+
   it('names the file, the JSON path, what was found and what is allowed', () => {
     const error = errorOf(withChange((d) => (d.space.learningRate.min = -1)));
     expect(error.code).toBe('E_STUDY_INVALID');

@@ -2,15 +2,31 @@ import type { FaultInjector } from '../transports/threads/transport.js';
 import type { WriteStepHook } from '../store/file-adapter.js';
 import path from 'node:path';
 import { runStudy, type StudyOutcome } from '../runner/run-study.js';
-import { resolveGoal, type StudyDefinitionInput } from '../study/definition.js';
-import { loadStudy, studyFromObject } from '../study/load.js';
+import { isDataOnly, resolveGoal, type DataOnlyStudy, type StudyDefinitionInput } from '../study/definition.js';
+import { DEFINITION_OBJECT_LABEL, loadStudy, readStudyJson, studyFromObject, type LoadedStudy } from '../study/load.js';
+import { UserError } from '../core/errors.js';
+import type { Task } from '../core/configuration.js';
+import { dataOnlyDefinition, studyFromData } from './default-study.js';
 import { dataObserver, studyObserver, type ProgressTarget } from './observe.js';
 import { oversubscriptionWarning } from './oversubscription.js';
 import { queueRun, settleQueued, type QueueFlags } from './queue.js';
 
 export interface RunCommandOptions extends ProgressTarget, QueueFlags {
-  /** A study definition file (JSON), or the definition itself as an object. */
-  definition: string | StudyDefinitionInput;
+  /**
+   * A study definition file (JSON), or the definition itself as an object; either may give only
+   * `data` (a study from its data alone). With `target`: the path of a CSV instead.
+   */
+  definition: string | StudyDefinitionInput | DataOnlyStudy;
+  /** With a CSV as `definition`: the column to predict; rungwise defines the rest of the study. */
+  target?: string;
+  /** With `target`: the task, when the target column leaves it ambiguous. @default inferred */
+  task?: Task;
+  /** With `target`: the seed of the train/validation/test split. @default 0 */
+  splitSeed?: number;
+  /** With `target`: configurations to try, in place of the default budget (give `maxEpochs` too). */
+  trials?: number;
+  /** With `target`: epochs per configuration at most, in place of the default budget (give `trials` too). */
+  maxEpochs?: number;
   /** For a definition object: the folder its `data.csv` is relative to. @default the current directory */
   baseDir?: string;
   /** Run directory. @default `runs/<study name>` */
@@ -44,10 +60,7 @@ export interface RunCommandOptions extends ProgressTarget, QueueFlags {
  */
 export async function run(options: RunCommandOptions): Promise<StudyOutcome> {
   // Validate before anything is drawn, so bad input gives only its one-line error.
-  const study =
-    typeof options.definition === 'string'
-      ? await loadStudy(options.definition)
-      : studyFromObject(options.definition, path.resolve(options.baseDir ?? '.'));
+  const { study, fromData } = await resolveStudy(options);
   const goal = resolveGoal(study.definition);
   const workers = options.workers ?? study.definition.workers;
   const crowded = options.queue === undefined && workers !== undefined ? oversubscriptionWarning(workers) : undefined;
@@ -60,6 +73,7 @@ export async function run(options: RunCommandOptions): Promise<StudyOutcome> {
     ...(options.out !== undefined ? { out: options.out } : {}),
     ...(options.workers !== undefined ? { workers: options.workers } : {}),
     ...(options.force !== undefined ? { force: options.force } : {}),
+    ...(fromData ? { writeDefinition: true } : {}),
     ...(queue.signal ? { signal: queue.signal } : {}),
     ...(queue.transport ? { transport: queue.transport } : {}),
     ...(onEvent ? { onEvent } : {}),
@@ -67,4 +81,31 @@ export async function run(options: RunCommandOptions): Promise<StudyOutcome> {
     ...(options.onWriteStep ? { onWriteStep: options.onWriteStep } : {}),
     ...(onDataEvent ? { onDataEvent } : {}),
   }));
+}
+
+/** The study to run: a full definition as given, or one rungwise defines from the data (`fromData`). */
+async function resolveStudy(options: RunCommandOptions): Promise<{ study: LoadedStudy; fromData: boolean }> {
+  const { definition, target } = options;
+  const out = options.out !== undefined ? { out: options.out } : {};
+  const { trials, maxEpochs } = options;
+  if (target === undefined && [options.task, options.splitSeed, trials, maxEpochs].some((value) => value !== undefined)) {
+    throw new UserError('E_USAGE', `--task, --split-seed, --trials and --max-epochs go with a CSV and --target (rungwise run data.csv --target <column>); a definition file sets them itself`);
+  }
+  if ((trials === undefined) !== (maxEpochs === undefined)) throw new UserError('E_USAGE', `--trials and --max-epochs replace the default budget together; give both or neither`);
+  if (typeof definition === 'string' && target !== undefined) {
+    const raw = {
+      ...dataOnlyDefinition(definition, target, { ...(options.task ? { task: options.task } : {}), ...(options.splitSeed !== undefined ? { splitSeed: options.splitSeed } : {}) }),
+      ...(trials !== undefined && maxEpochs !== undefined ? { budget: { trials, maxEpochs } } : {}),
+    };
+    return { study: await studyFromData({ raw, label: definition, baseDir: process.cwd(), ...out }), fromData: true };
+  }
+  if (typeof definition === 'string') {
+    if (/\.(csv|tsv)$/i.test(definition)) throw new UserError('E_USAGE', `${definition}: a CSV needs its target column: rungwise run ${definition} --target <column>`);
+    const { raw, absolute } = await readStudyJson(definition);
+    if (isDataOnly(raw)) return { study: await studyFromData({ raw, label: definition, baseDir: path.dirname(absolute), ...out }), fromData: true };
+    return { study: await loadStudy(definition), fromData: false };
+  }
+  const baseDir = path.resolve(options.baseDir ?? '.');
+  if (isDataOnly(definition)) return { study: await studyFromData({ raw: definition, label: DEFINITION_OBJECT_LABEL, baseDir, ...out }), fromData: true };
+  return { study: studyFromObject(definition, baseDir), fromData: false };
 }

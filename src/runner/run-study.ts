@@ -10,6 +10,7 @@ import { checkCapacity } from '../study/capacity.js';
 import { resolveGoal } from '../study/definition.js';
 import { loadStudy, type LoadedStudy } from '../study/load.js';
 import { LOCK_FILES, lockStudy } from '../store/lock.js';
+import { writeFileDurably } from '../files/durable-write.js';
 import { splitRecordOf, writeSplitRecord } from '../store/split-record.js';
 import { StudyStore, studyFilePath } from '../store/study-store.js';
 import { executeStudy, type ExecuteOptions, type StudyOutcome } from './execute-study.js';
@@ -19,6 +20,11 @@ export interface RunOptions extends ExecuteOptions, Pick<DataLoadOptions, 'onDat
   out?: string;
   /** Replace a run directory that already holds a study. @default false */
   force?: boolean;
+  /**
+   * Write the definition (as validated, every default spelled out) to its `file`, inside the run
+   * directory, before the study starts: for a study rungwise defined from its data alone. @default false
+   */
+  writeDefinition?: boolean;
 }
 
 /**
@@ -50,6 +56,7 @@ export async function runStudy(study: string | LoadedStudy, options: RunOptions 
       }
       await clearRunDir(dir);
     }
+    if (options.writeDefinition) await writeFileDurably(file, `${JSON.stringify(definition, null, 2)}\n`);
     // Before the study file: a study file without its split record is one from before the record, which resume completes.
     await writeSplitRecord(dir, splitRecordOf(data, definition.data, { file: definition.data.csv, sha256: csvSha256 }));
     const now = new Date().toISOString();

@@ -1,6 +1,7 @@
 import { paramsForTrial } from '../space/sample.js';
 import type { Budget } from '../core/budget.js';
 import type { SearchSpace } from '../space/schema.js';
+import type { TrialConfiguration } from '../core/configuration.js';
 import { stream } from '../random/streams.js';
 import type { SamplerPlan } from './plan.js';
 import { SAMPLER_PLUGINS, type SamplerSettings } from './registry.js';
@@ -31,6 +32,8 @@ export interface SamplerDefinition {
   space: SearchSpace;
   budget: Budget;
   sampler: SamplerSettings;
+  /** Configurations to try first, in order (the study's `tryFirst`). */
+  tryFirst?: readonly TrialConfiguration[];
 }
 
 /** The registered plugin of a sampler kind. */
@@ -44,11 +47,14 @@ export function samplerPlugin(kind: string): SamplerPlugin {
 /** The seeded context a study gives its sampler. */
 export function samplerContext(definition: SamplerDefinition): SamplerContext {
   const { space, budget, sampler } = definition;
+  const tryFirst = definition.tryFirst ?? [];
   return {
     space,
     budget,
     seed: sampler.seed,
-    randomParams: (trialId) => paramsForTrial(space, sampler.seed, trialId),
+    tryFirst,
+    // A listed configuration takes its trial's place; every other trial draws as without the list.
+    randomParams: (trialId) => tryFirst[trialId] ?? paramsForTrial(space, sampler.seed, trialId),
     stream: (...key) => stream(sampler.seed, 'sampler', sampler.kind, ...key),
   };
 }

@@ -20,13 +20,13 @@ export const sobolPlugin = defineSampler({
   }),
   traits: { deterministic: true, stopsAtRungs: false, trialsFromBudget: true },
   create: (options, context) => {
-    const design = spaceDesign(context.space);
+    const design = spaceDesign(context.space, context.tryFirst);
     const pointAt = sobolDesign(design.dimensions, options.scramble, context.stream('design'));
     return new RandomSampler({
       trials: context.budget.trials,
       maxEpochs: context.budget.maxEpochs,
-      paramsFor: (trialId) => design.paramsAt(pointAt(trialId)),
-      originFor: () => ({ method: 'sobol' }),
+      paramsFor: (trialId) => design.listed?.(trialId)?.configuration ?? design.paramsAt(pointAt(trialId)),
+      originFor: (trialId) => ({ method: design.listed?.(trialId) ? 'listed' : 'sobol' }),
     });
   },
   plan: (_options, budget) => oneJobEachPlan(budget),

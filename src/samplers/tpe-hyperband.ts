@@ -65,7 +65,7 @@ export class TpeHyperbandSampler implements Sampler {
       eta: options.eta,
       iterations: options.iterations,
       overlapBrackets: true,
-      paramsFor: (trialId) => options.design.paramsAt(this.proposal(trialId).point),
+      paramsFor: (trialId) => options.design.listed?.(trialId)?.configuration ?? options.design.paramsAt(this.proposal(trialId).point),
       originFor: (trialId) => this.proposal(trialId).origin,
       mayStartBracket: (index) => {
         for (let earlier = 0; earlier < index - lag; earlier++) if (!this.hyperband.isBracketFinished(earlier)) return false;
@@ -111,6 +111,8 @@ export class TpeHyperbandSampler implements Sampler {
   private propose(trialId: number): Proposal {
     const { design, model, randomShare, smallestGroup, stream, overlapBrackets } = this.options;
     const bracketIndex = this.hyperband.bracketIndexOf(trialId);
+    const listed = design.listed?.(trialId);
+    if (listed) return { point: listed.point, origin: { method: 'listed', batch: bracketIndex } };
     const randomDraw = stream('random', trialId);
     const random = (): Proposal => ({ point: snap(design.dimensions, design.dimensions.map(() => randomDraw())), origin: { method: 'random', batch: bracketIndex } });
     if (randomDraw() < randomShare) return random();
@@ -145,7 +147,7 @@ export const tpeHyperbandPlugin = defineSampler({
   traits: { deterministic: true, stopsAtRungs: true, trialsFromBudget: false },
   create: (options, context) => {
     checkHalvingBudget(options, context.budget);
-    const design = spaceDesign(context.space);
+    const design = spaceDesign(context.space, context.tryFirst);
     return new TpeHyperbandSampler({
       maxEpochs: context.budget.maxEpochs,
       minEpochs: options.minEpochs,

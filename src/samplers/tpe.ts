@@ -65,14 +65,19 @@ export class TpeSampler implements Sampler {
   next(): Job | 'wait' | 'done' {
     const trialId = this.nextTrialId;
     if (trialId >= this.options.trials) return 'done';
-    const proposal = this.options.asynchronous ? this.proposeNow(trialId) : this.proposeInBatch(trialId);
+    const listed = this.options.design.listed?.(trialId);
+    const proposal = listed
+      ? { point: listed.point, origin: { method: 'listed', batch: this.batchOf(trialId) } }
+      : this.options.asynchronous
+        ? this.proposeNow(trialId)
+        : this.proposeInBatch(trialId);
     if (proposal === 'wait') return 'wait';
     this.nextTrialId++;
     this.points[trialId] = proposal.point;
     this.outstanding.add(trialId);
     return {
       trialId,
-      configuration: this.options.design.paramsAt(proposal.point),
+      configuration: listed?.configuration ?? this.options.design.paramsAt(proposal.point),
       rung: 0,
       bracket: 0,
       fromEpoch: 0,
@@ -139,7 +144,7 @@ export const tpePlugin = defineSampler({
   // In the default batch mode; `asynchronous: true` gives up this promise (see TpeSampler).
   traits: { deterministic: true, stopsAtRungs: false, trialsFromBudget: true },
   create: (options, context) => {
-    const design = spaceDesign(context.space);
+    const design = spaceDesign(context.space, context.tryFirst);
     return new TpeSampler({
       trials: context.budget.trials,
       maxEpochs: context.budget.maxEpochs,

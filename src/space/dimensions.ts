@@ -7,7 +7,7 @@
  * coordinate falls in one of `choices.length` equal cells. The mapping from a coordinate to a value is
  * the same as random drawing's (`sample.ts`), so a uniform point gives a uniformly drawn configuration.
  */
-import type { SearchSpace } from './schema.js';
+import { drawsOnLogScale, type SearchSpace } from './schema.js';
 import type { TrialConfiguration } from '../core/configuration.js';
 import { choose, drawInteger, logUniform, uniform, type ScheduleSetting } from './sample.js';
 
@@ -91,12 +91,12 @@ export function spaceDimensions(space: SearchSpace): Dimension[] {
     { kind: 'numeric', name: 'depth', min: space.depth.min, max: space.depth.max, log: space.depth.log, integer: true },
     { kind: 'numeric', name: 'width', min: space.width.min, max: space.width.max, log: space.width.log, integer: true },
     { kind: 'categorical', name: 'activation', choices: space.activation },
-    { kind: 'numeric', name: 'learningRate', min: space.learningRate.min, max: space.learningRate.max, log: true, integer: false },
+    { kind: 'numeric', name: 'learningRate', min: space.learningRate.min, max: space.learningRate.max, log: drawsOnLogScale(space.learningRate, true), integer: false },
     { kind: 'categorical', name: 'batchSize', choices: space.batchSize },
     { kind: 'categorical', name: 'optimizer', choices: space.optimizer },
   ];
-  if (space.l2) dimensions.push({ kind: 'numeric', name: 'l2', min: space.l2.min, max: space.l2.max, log: true, integer: false });
-  if (space.dropout) dimensions.push({ kind: 'numeric', name: 'dropout', min: space.dropout.min, max: space.dropout.max, log: false, integer: false });
+  if (space.l2) dimensions.push({ kind: 'numeric', name: 'l2', min: space.l2.min, max: space.l2.max, log: drawsOnLogScale(space.l2, true), integer: false });
+  if (space.dropout) dimensions.push({ kind: 'numeric', name: 'dropout', min: space.dropout.min, max: space.dropout.max, log: drawsOnLogScale(space.dropout, false), integer: false });
   const schedule = space.schedule;
   if (schedule) {
     // The order and presence of scheduleAt (sample.ts); a fixed setting is a range of one value.

@@ -1,4 +1,4 @@
-import type { SearchSpace } from './schema.js';
+import { drawsOnLogScale, type SearchSpace } from './schema.js';
 import type { TrialConfiguration } from '../core/configuration.js';
 import { stream, type Rng } from '../random/streams.js';
 
@@ -13,7 +13,7 @@ export function sampleParams(space: SearchSpace, rng: Rng): TrialConfiguration {
   const depth = drawInteger(space.depth, rng());
   const width = drawInteger(space.width, rng());
   const activation = choose(space.activation, rng());
-  const learningRate = logUniform(space.learningRate.min, space.learningRate.max, rng());
+  const learningRate = drawReal(space.learningRate, true, rng());
   const batchSize = choose(space.batchSize, rng());
   const optimizer = choose(space.optimizer, rng());
   const l2Draw = rng();
@@ -25,8 +25,8 @@ export function sampleParams(space: SearchSpace, rng: Rng): TrialConfiguration {
     learningRate,
     batchSize,
     optimizer,
-    l2: space.l2 ? logUniform(space.l2.min, space.l2.max, l2Draw) : 0,
-    dropout: space.dropout ? uniform(space.dropout.min, space.dropout.max, dropoutDraw) : 0,
+    l2: space.l2 ? drawReal(space.l2, true, l2Draw) : 0,
+    dropout: space.dropout ? drawReal(space.dropout, false, dropoutDraw) : 0,
   };
   if (!space.schedule) return configuration;
   // Drawn after every other field, five draws always, so a space without a schedule draws as before.
@@ -75,6 +75,11 @@ export function drawInteger(range: { min: number; max: number; log: boolean }, u
     : range.min + Math.floor(u * (range.max - range.min + 1));
   // exp(log(x)) can land a hair outside the range; the clamp keeps the bounds inclusive and exact.
   return Math.min(range.max, Math.max(range.min, value));
+}
+
+/** A real range's value at unit coordinate `u`, on its own scale or the dimension's default (`defaultLog`). */
+export function drawReal(range: { min: number; max: number; log?: boolean | undefined }, defaultLog: boolean, u: number): number {
+  return drawsOnLogScale(range, defaultLog) ? logUniform(range.min, range.max, u) : uniform(range.min, range.max, u);
 }
 
 /** A real in [min, max] whose logarithm is uniform. */

@@ -17,10 +17,24 @@ const integerRange = z
   })
   .superRefine(minNotAboveMax);
 
+/** A range's `log` key: optional, so a definition that leaves it out draws on the dimension's default scale (and reads back as written). */
+function scaleKey(defaultScale: 'log' | 'linear') {
+  return z
+    .boolean()
+    .optional()
+    .describe(`true: draw uniformly on a log scale; false: uniformly on the range. Default for this dimension: ${defaultScale === 'log' ? 'true (log scale)' : 'false (uniform)'}.`);
+}
+
+/** With `log: true` the range must stay above 0. */
+function logNeedsPositiveMin(range: { min: number; log?: boolean | undefined }, ctx: z.RefinementCtx): void {
+  if (range.log === true && range.min <= 0) ctx.addIssue({ code: 'custom', path: ['min'], message: `found ${range.min}, expected above 0 with log: true` });
+}
+
 const positiveLogRange = z
   .strictObject({
     min: z.number().positive().describe('Smallest value, inclusive.'),
     max: z.number().positive().describe('Largest value, inclusive.'),
+    log: scaleKey('log'),
   })
   .superRefine(minNotAboveMax);
 
@@ -28,8 +42,21 @@ const fractionRange = z
   .strictObject({
     min: z.number().min(0).max(0.9),
     max: z.number().min(0).max(0.9),
+    log: scaleKey('linear'),
   })
-  .superRefine(minNotAboveMax);
+  .superRefine((range, ctx) => {
+    minNotAboveMax(range, ctx);
+    logNeedsPositiveMin(range, ctx);
+  });
+
+/**
+ * Whether a real range is drawn on a log scale: its own `log` when given, else the dimension's
+ * default (log for learningRate and l2, uniform for dropout). Study files written before `log` was
+ * accepted on these ranges have no key and draw as they always did.
+ */
+export function drawsOnLogScale(range: { log?: boolean | undefined }, defaultLog: boolean): boolean {
+  return range.log ?? defaultLog;
+}
 
 /** A schedule setting: one fixed value, or a range searched like any hyperparameter (uniform, or on a log scale when `log`). */
 function setting(value: z.ZodNumber, what: string) {
@@ -62,11 +89,11 @@ export const spaceSchema = z.strictObject({
   depth: integerRange.describe('Number of hidden layers.'),
   width: integerRange.describe('Units per hidden layer.'),
   activation: z.array(z.enum(ACTIVATIONS)).min(1).describe('Hidden-layer activations to choose from.'),
-  learningRate: positiveLogRange.describe('Learning rate, drawn on a log scale.'),
+  learningRate: positiveLogRange.describe('Learning rate; drawn on a log scale unless log is false.'),
   batchSize: z.array(z.int().min(1)).min(1).default([32]).describe('Batch sizes to choose from.'),
   optimizer: z.array(z.enum(OPTIMIZERS)).min(1).default(['adam']).describe('Optimizers to choose from (momentum is SGD with momentum 0.9).'),
-  l2: positiveLogRange.optional().describe('L2 weight penalty, drawn on a log scale; absent means none.'),
-  dropout: fractionRange.optional().describe('Dropout rate after each hidden layer; absent means none.'),
+  l2: positiveLogRange.optional().describe('L2 weight penalty; drawn on a log scale unless log is false; absent means none.'),
+  dropout: fractionRange.optional().describe('Dropout rate after each hidden layer; drawn uniformly unless log is true (then min must be above 0); absent means none.'),
   schedule: scheduleSchema.optional(),
 });
 
@@ -74,3 +101,34 @@ export const spaceSchema = z.strictObject({
 
 /** A validated search space with defaults applied. */
 export type SearchSpace = z.output<typeof spaceSchema>;
+
+/** One configuration as a study lists it to try first: every field of a trial's configuration (l2 and dropout default to 0). */
+export const listedConfigurationSchema = z.strictObject({
+  depth: z.int().min(1),
+  width: z.int().min(1),
+  activation: z.enum(ACTIVATIONS),
+  learningRate: z.number().positive(),
+  batchSize: z.int().min(1),
+  optimizer: z.enum(OPTIMIZERS).default('adam'),
+  l2: z.number().min(0).default(0),
+  dropout: z.number().min(0).max(0.9).default(0),
+  schedule: z.enum(SCHEDULES).optional().describe('Required when the space has a schedule; then also warmupEpochs, gamma and stepEpochs (step among the kinds), minFactor (cosine among the kinds).'),
+  warmupEpochs: z.int().min(0).optional(),
+  gamma: z.number().gt(0).max(1).optional(),
+  stepEpochs: z.int().min(1).optional(),
+  minFactor: z.number().min(0).lt(1).optional(),
+});
+
+/** The fields a listed configuration must give for this space's schedule, and those it must leave out. */
+export function listedScheduleProblem(entry: z.output<typeof listedConfigurationSchema>, space: SearchSpace): string | undefined {
+  const schedule = space.schedule;
+  const given = (['schedule', 'warmupEpochs', 'gamma', 'stepEpochs', 'minFactor'] as const).filter((key) => entry[key] !== undefined);
+  if (!schedule) return given.length > 0 ? `gives ${given.join(', ')} but the space has no schedule; leave them out` : undefined;
+  const needed: string[] = ['schedule', 'warmupEpochs'];
+  if (schedule.kind.includes('step')) needed.push('gamma', 'stepEpochs');
+  if (schedule.kind.includes('cosine')) needed.push('minFactor');
+  const missing = needed.filter((key) => !given.includes(key as (typeof given)[number]));
+  if (missing.length > 0) return `lacks ${missing.join(', ')}, which this space's schedule draws; give them`;
+  const extra = given.filter((key) => !needed.includes(key));
+  return extra.length > 0 ? `gives ${extra.join(', ')}, which this space's schedule kinds do not use; leave them out` : undefined;
+}

@@ -6,6 +6,7 @@
  *   study.json.prev   the previous save, hard-linked before each write
  *   curves.jsonl      append-only per-epoch curve log
  *   splits.json       which data rows went to training, validation, test (and folds), written once
+ *   definition.json   the full definition rungwise wrote for a study from its data alone (`run data.csv --target y`)
  *   study.lock        the lock (proper-lockfile) and study.owner.json, who holds it
  *   checkpoints/      trial-<id>.ckpt, one per trial that may still continue or ranks among the kept
  *   export/rank-<n>/  default target of `rungwise export`
@@ -17,6 +18,7 @@ export const STUDY_FILE_NAME = 'study.json';
 export const PREVIOUS_STUDY_FILE_NAME = 'study.json.prev';
 export const CURVE_LOG_NAME = 'curves.jsonl';
 export const SPLIT_RECORD_NAME = 'splits.json';
+export const WRITTEN_DEFINITION_NAME = 'definition.json';
 export const LOCK_NAME = 'study.lock';
 export const OWNER_NAME = 'study.owner.json';
 /** Files the lock owns, kept when `run --force` empties a run directory. */
@@ -26,6 +28,7 @@ export const runPaths = {
   studyFile: (dir: string): string => path.join(dir, STUDY_FILE_NAME),
   curveLog: (dir: string): string => path.join(dir, CURVE_LOG_NAME),
   splitRecord: (dir: string): string => path.join(dir, SPLIT_RECORD_NAME),
+  writtenDefinition: (dir: string): string => path.join(dir, WRITTEN_DEFINITION_NAME),
   lock: (dir: string): string => path.join(dir, LOCK_NAME),
   owner: (dir: string): string => path.join(dir, OWNER_NAME),
   checkpoints: (dir: string): string => path.join(dir, 'checkpoints'),

@@ -3,7 +3,7 @@ import { samplerSchema } from '../samplers/registry.js';
 import { budgetSchema } from '../core/budget.js';
 import { LOWER_IS_BETTER, METRICS, TASKS, type Goal, type MetricName } from '../core/configuration.js';
 import { earlyStoppingSchema, seedField as seed } from '../core/fields.js';
-import { spaceSchema } from '../space/schema.js';
+import { listedConfigurationSchema, spaceSchema } from '../space/schema.js';
 
 export const dataSchema = z.strictObject({
   csv: z.string().min(1).describe('Path of the CSV file, relative to the study definition file.'),
@@ -81,7 +81,37 @@ export const studySchema = z.strictObject({
   retries: z.int().min(0).max(10).default(0).describe('Times a failed trial is run again before it is given up.'),
   decisionThreshold: decisionThresholdSchema.optional(),
   earlyStopping: earlyStoppingSchema.optional(),
+  tryFirst: z
+    .array(listedConfigurationSchema)
+    .min(1)
+    .optional()
+    .describe('Configurations to train first, in order: trial 0 trains the first, trial 1 the second, ...; every sampler gives them their trials as listed, and model-based samplers learn from their results. Values may lie outside the space.'),
 });
+
+/**
+ * A study from its data alone: the CSV and the target (optionally the task, the split seed, a name and a
+ * budget); rungwise infers the task and fills in the search space, budget, sampler and a first
+ * configuration (`commands/default-study.ts`).
+ */
+export const dataOnlyStudySchema = z.strictObject({
+  $schema: z.string().optional(),
+  name: studySchema.shape.name.optional().describe('Study name; default: the CSV\'s file name.'),
+  data: z.strictObject({
+    csv: dataSchema.shape.csv,
+    target: dataSchema.shape.target,
+    task: dataSchema.shape.task.optional().describe('binary, multiclass or regression; default: inferred from the target column.'),
+    splitSeed: seed.optional().describe('Seed of the train/validation/test split.'),
+  }),
+  budget: budgetSchema.optional().describe('Replaces the default budget (trials and maxEpochs); the first rung trains maxEpochs / 27 epochs, at least 1.'),
+});
+
+/** A data-only definition as written. */
+export type DataOnlyStudy = z.output<typeof dataOnlyStudySchema>;
+
+/** A definition that gives `data` but no `space`: one for rungwise to complete. */
+export function isDataOnly(raw: unknown): boolean {
+  return raw !== null && typeof raw === 'object' && !Array.isArray(raw) && 'data' in raw && !('space' in raw);
+}
 
 /** A study definition as written in the file (defaults not yet applied). */
 export type StudyDefinitionInput = z.input<typeof studySchema>;

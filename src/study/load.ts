@@ -3,11 +3,12 @@ import path from 'node:path';
 import { parse as parseLenient, printParseErrorCode, type ParseError } from 'jsonc-parser';
 import { UserError } from '../core/errors.js';
 import { BINARY_METRICS, CLASSIFICATION_METRICS, REGRESSION_METRICS, type MetricName } from '../core/configuration.js';
-import { resolveGoal, studySchema, type StudyDefinition } from './definition.js';
+import { dataOnlyStudySchema, resolveGoal, studySchema, type DataOnlyStudy, type StudyDefinition } from './definition.js';
 import { utf16Kind } from '../text/encoding.js';
 import { formatIssue } from './issues.js';
 import { earlyStoppingProblem } from '../core/early-stopping.js';
 import { renamedKeysNote, renameSamplerKeys } from './renamed-keys.js';
+import { listedScheduleProblem } from '../space/schema.js';
 
 export interface LoadedStudy {
   definition: StudyDefinition;
@@ -112,6 +113,10 @@ function crossFieldProblems(definition: StudyDefinition): [string, string][] {
     // Each fold would stop at an epoch of its own, and the fold mean needs one curve; not built yet.
     problems.push(['earlyStopping', `cannot be combined with data.folds yet (each fold would stop at its own epoch); use one or the other`]);
   }
+  definition.tryFirst?.forEach((entry, index) => {
+    const problem = listedScheduleProblem(entry, definition.space);
+    if (problem) problems.push([`tryFirst[${index}]`, problem]);
+  });
   if (data.features?.includes(data.target)) {
     problems.push(['data.features', `lists the target column "${data.target}"; the target cannot be an input`]);
   }
@@ -127,6 +132,13 @@ function weightNotes(definition: StudyDefinition, file: string): string[] {
   return [
     `${file}: warning: data.classWeights is "balanced" while the goal is accuracy; balanced weights trade accuracy for the rare classes' recall, so the study may rank networks by a score their weights work against: use "none", or a goal such as macroF1`,
   ];
+}
+
+/** Validate a data-only definition (see `dataOnlyStudySchema`); `file` is used in messages only. */
+export function validateDataOnly(raw: unknown, file: string): DataOnlyStudy {
+  const result = dataOnlyStudySchema.safeParse(raw);
+  if (!result.success) throw new UserError('E_STUDY_INVALID', result.error.issues.map((issue) => formatIssue(file, issue, raw, dataOnlyStudySchema)).join('\n'));
+  return result.data;
 }
 
 /** Validate an already parsed definition; `file` is used in messages only. Old key names are translated silently. */
@@ -149,6 +161,14 @@ function validated(raw: unknown, file: string): StudyDefinition {
 
 /** Read, parse and validate a study definition file. Throws a {@link UserError} on any problem. */
 export async function loadStudy(file: string): Promise<LoadedStudy> {
+  const { raw, absolute } = await readStudyJson(file);
+  const translated = translateOldKeys(raw, file);
+  const definition = validated(translated.raw, file);
+  return { definition, file: absolute, notes: [...translated.notes, ...weightNotes(definition, file)] };
+}
+
+/** Read and parse a study definition file as JSON, not yet validated. Throws a {@link UserError} on an unreadable or malformed file. */
+export async function readStudyJson(file: string): Promise<{ raw: unknown; absolute: string }> {
   const absolute = path.resolve(file);
   let bytes: Buffer;
   try {
@@ -169,9 +189,7 @@ export async function loadStudy(file: string): Promise<LoadedStudy> {
     const { line } = lineAndColumn(text, nul);
     throw new UserError('E_STUDY_JSON', `${file}: line ${line}: contains a NUL byte; this looks like a binary file, expected a JSON study definition (UTF-8 text)`);
   }
-  const { raw, notes } = translateOldKeys(parseJson(text, file), file);
-  const definition = validated(raw, file);
-  return { definition, file: absolute, notes: [...notes, ...weightNotes(definition, file)] };
+  return { raw: parseJson(text, file), absolute };
 }
 
 /** What messages call a definition given as an object rather than a file. */

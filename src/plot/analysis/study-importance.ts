@@ -5,6 +5,7 @@ import { beats } from '../../core/configuration.js';
 import { scoreAt } from '../../core/ranking.js';
 import { variedParameterAxes, type ParameterAxis } from '../labels.js';
 import { forestImportance, type InputKind } from './importance.js';
+import { drawsOnLogScale } from '../../space/schema.js';
 
 /** Fewest scored configurations worth fitting a forest to. */
 export const FEWEST_FOR_IMPORTANCE = 8;
@@ -29,13 +30,13 @@ function coding(axis: ParameterAxis, study: StudyDocument): Coding {
   const range = (): { min: number; max: number; log: boolean } | undefined => {
     switch (axis.key) {
       case 'learningRate':
-        return { ...space.learningRate, log: true };
+        return { min: space.learningRate.min, max: space.learningRate.max, log: drawsOnLogScale(space.learningRate, true) };
       case 'l2':
-        return space.l2 ? { ...space.l2, log: true } : undefined;
+        return space.l2 ? { min: space.l2.min, max: space.l2.max, log: drawsOnLogScale(space.l2, true) } : undefined;
       case 'width':
         return { min: space.width.min, max: space.width.max, log: space.width.log };
       case 'dropout':
-        return space.dropout ? { ...space.dropout, log: false } : undefined;
+        return space.dropout ? { min: space.dropout.min, max: space.dropout.max, log: drawsOnLogScale(space.dropout, false) } : undefined;
       default:
         return undefined;
     }
