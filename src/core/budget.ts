@@ -1,7 +1,7 @@
 import { z } from 'zod';
 
 export const budgetSchema = z.strictObject({
-  trials: z.int().min(1).describe('Configurations to try (Hyperband derives its own count and ignores this).'),
+  trials: z.int().min(1).describe('Configurations to try; Hyperband repeats or cuts its brackets to this count.'),
   maxEpochs: z.int().min(1).describe('Epochs a configuration trains for at most (every trial, for random search).'),
 });
 

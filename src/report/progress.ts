@@ -86,8 +86,8 @@ export function progressObserver(options: ProgressOptions): StudyObserver {
   const paint = options.paint ?? plain;
   const redrawn = options.live ?? (stream as Partial<NodeJS.WriteStream>).isTTY === true;
   const columns = (): number => Math.max(MIN_COLUMNS, (options.columns ?? (stream as Partial<NodeJS.WriteStream>).columns ?? 80) - 1);
-  const approx = plan.estimate ? '~' : '';
-  const planned = (): string => (plan.jobs === undefined ? '' : `/${approx}${plan.jobs}`);
+  const approx = '';
+  const planned = (): string => (plan.jobs === undefined ? '' : `/${plan.jobs}`);
   let plannedEpochs = plan.epochs;
   /** Jobs ended: the runner's count when the study started, then one per announced job (so each piped line has its own). */
   let jobs = 0;
@@ -154,7 +154,7 @@ export function progressObserver(options: ProgressOptions): StudyObserver {
         epochsAtStart = trained;
         stream.write(
           `${event.resumed ? 'resuming' : 'running'} study ${event.name} on ${event.workers} worker${event.workers === 1 ? '' : 's'}: ` +
-            `${plan.jobs === undefined ? '' : `${approx}${plan.jobs} jobs, `}${approx}${plannedEpochs} epochs planned; study file in ${event.dir}\n`,
+            `${plan.limit ? 'at most ' : ''}${plan.jobs === undefined ? '' : `${plan.jobs} jobs, `}${plannedEpochs} epochs planned; study file in ${event.dir}\n`,
         );
         draw(true);
         break;

@@ -2,7 +2,7 @@ import { z } from 'zod';
 import { halvingFields } from '../core/fields.js';
 import { checkHalvingBudget } from './successive-halving.js';
 import { defineSampler, type Job, type JobOutcome, type Sampler } from './sampler.js';
-import { bracketsPlan, EMPTY_PLAN } from './plan.js';
+import { bracketsPlan, EMPTY_PLAN, type RungPlan } from './plan.js';
 import { assertPositiveInteger, isPromotable, rank, resultsOf, rungEpochs, type ParamsForTrial } from './rungs.js';
 
 export interface AsyncHalvingOptions {
@@ -13,6 +13,26 @@ export interface AsyncHalvingOptions {
   maxEpochs: number;
   eta: number;
   paramsFor: ParamsForTrial;
+  /**
+   * Hard limits (the plugin passes its plan): no job starts that would take the handed-out jobs or
+   * epochs past them, with room kept for every configuration not yet started to train its rung 0.
+   * A promotion that no longer fits is passed over for good (the trial stays at its rung).
+   * @default none
+   */
+  limit?: { jobs: number; epochs: number };
+}
+
+/**
+ * The asynchronous-halving plan: the synchronous schedule, floor(n_k / eta) of rung k going on. It is
+ * the sampler's hard limit: asynchronous promotion could otherwise promote more (a trial promoted
+ * early stays promoted when later results push it out of the top).
+ */
+export function asyncHalvingRounds(trials: number, minEpochs: number, maxEpochs: number, eta: number): RungPlan[] {
+  let reaching = trials;
+  return rungEpochs(Math.min(minEpochs, maxEpochs), maxEpochs, eta).map((epochs, k) => {
+    if (k > 0) reaching = Math.floor(reaching / eta);
+    return { configurations: reaching, epochs };
+  });
 }
 
 /**
@@ -25,6 +45,8 @@ export interface AsyncHalvingOptions {
  * Unlike the synchronous samplers its decisions depend on the order results arrive (by design).
  * Diverged or failed results (null loss) count in |rung k| but are never promoted; so do trials
  * early stopping ended (they keep their place among the top 1/eta, which is then passed over).
+ * With `limit`, a promotion is handed out only if it and the rung-0 jobs of every configuration not
+ * yet started fit in the limit; the scan then goes on to lower rungs, whose promotions cost less.
  */
 export class AsyncHalvingSampler implements Sampler {
   /** Epochs at the end of each rung. */
@@ -39,6 +61,9 @@ export class AsyncHalvingSampler implements Sampler {
   private readonly outstanding = new Map<number, number>();
   private readonly reasons = new Map<string, string>();
   private started = 0;
+  /** Jobs and epochs handed out so far. */
+  private handedOutJobs = 0;
+  private handedOutEpochs = 0;
 
   constructor(private readonly options: AsyncHalvingOptions) {
     assertPositiveInteger('trials', options.trials);
@@ -77,6 +102,8 @@ export class AsyncHalvingSampler implements Sampler {
     if (outstandingRung !== undefined) return outstandingRung < this.topRung;
     const rung = this.latestRung(trialId);
     if (rung === undefined || rung === this.topRung || this.promoted[rung]!.has(trialId) || this.stopped.has(trialId)) return false;
+    // What is handed out plus the rung-0 jobs still owed never shrinks, so a promotion that does not fit now never will.
+    if (!this.promotionFits(rung)) return false;
     if (!isPromotable(this.results[rung]!.get(trialId) ?? null)) return false;
     return this.mayGrow(rung) || this.candidates(rung).some((result) => result.trialId === trialId);
   }
@@ -92,6 +119,7 @@ export class AsyncHalvingSampler implements Sampler {
 
   private findPromotion(): { trialId: number; fromRung: number; reason: string } | undefined {
     for (let k = this.topRung - 1; k >= 0; k--) {
+      if (!this.promotionFits(k)) continue;
       const size = this.results[k]!.size;
       const candidates = this.candidates(k);
       const index = candidates.findIndex((result) => isPromotable(result.loss) && !this.promoted[k]!.has(result.trialId) && !this.stopped.has(result.trialId));
@@ -116,6 +144,15 @@ export class AsyncHalvingSampler implements Sampler {
     return this.mayGrow(k - 1) || this.candidates(k - 1).some((r) => isPromotable(r.loss) && !this.promoted[k - 1]!.has(r.trialId) && !this.stopped.has(r.trialId));
   }
 
+  /** Whether a promotion out of rung k fits in the limit, keeping room for the rung-0 jobs of configurations not yet started. */
+  private promotionFits(k: number): boolean {
+    const limit = this.options.limit;
+    if (!limit) return true;
+    const unstarted = this.options.trials - this.started;
+    const epochs = this.handedOutEpochs + unstarted * this.rungs[0]! + this.rungs[k + 1]! - this.rungs[k]!;
+    return epochs <= limit.epochs && this.handedOutJobs + unstarted + 1 <= limit.jobs;
+  }
+
   private latestRung(trialId: number): number | undefined {
     for (let k = this.topRung; k >= 0; k--) if (this.results[k]!.has(trialId)) return k;
     return undefined;
@@ -123,12 +160,15 @@ export class AsyncHalvingSampler implements Sampler {
 
   private handOut(trialId: number, rung: number, reason?: string): Job {
     this.outstanding.set(trialId, rung);
+    const fromEpoch = rung === 0 ? 0 : this.rungs[rung - 1]!;
+    this.handedOutJobs += 1;
+    this.handedOutEpochs += this.rungs[rung]! - fromEpoch;
     const job: Job = {
       trialId,
       configuration: this.options.paramsFor(trialId),
       rung,
       bracket: 0,
-      fromEpoch: rung === 0 ? 0 : this.rungs[rung - 1]!,
+      fromEpoch,
       toEpoch: this.rungs[rung]!,
     };
     if (reason !== undefined) job.reason = reason;
@@ -143,23 +183,17 @@ function key(trialId: number, rung: number): string {
 /** `sampler.kind: "async-halving"`: promotes whenever a rung allows, never waits for a rung to fill. */
 export const asyncHalvingPlugin = defineSampler({
   kind: 'async-halving',
-  summary: 'promotes the top 1/eta of each rung as soon as results allow, so no worker waits (Li et al. 2020); order-dependent',
+  summary: 'promotes the top 1/eta of each rung as soon as results allow, so no worker waits (Li et al. 2020); order-dependent, never past its planned jobs and epochs',
   schema: z.strictObject({ kind: z.literal('async-halving'), ...halvingFields }),
   traits: { deterministic: false, stopsAtRungs: true, trialsFromBudget: true },
   create: (options, context) => {
     checkHalvingBudget(options, context.budget);
-    return new AsyncHalvingSampler({ ...options, trials: context.budget.trials, maxEpochs: context.budget.maxEpochs, paramsFor: context.randomParams });
+    const { trials, maxEpochs } = context.budget;
+    const { jobs, epochs } = bracketsPlan([asyncHalvingRounds(trials, options.minEpochs, maxEpochs, options.eta)], true);
+    return new AsyncHalvingSampler({ ...options, trials, maxEpochs, paramsFor: context.randomParams, limit: { jobs, epochs } });
   },
   plan: (options, budget) => {
     if (options.minEpochs > budget.maxEpochs) return EMPTY_PLAN;
-    // An estimate: the synchronous schedule, floor(n_k / eta) trials leaving rung k. Asynchronous promotion
-    // can promote more (a trial promoted early stays promoted when later results push it out of the top).
-    const rungs = rungEpochs(options.minEpochs, budget.maxEpochs, options.eta);
-    let reaching = budget.trials;
-    const rounds = rungs.map((epochs, k) => {
-      if (k > 0) reaching = Math.floor(reaching / options.eta);
-      return { configurations: reaching, epochs };
-    });
-    return bracketsPlan([rounds], 1, true);
+    return bracketsPlan([asyncHalvingRounds(budget.trials, options.minEpochs, budget.maxEpochs, options.eta)], true);
   },
 });
