@@ -25,6 +25,24 @@ function queueOptions(command: Command): Command {
     .option('--queue-wait-seconds <s>', 'with --queue: how long to wait for an unreachable Redis before saving and stopping (default 120)', (v) => positiveInteger(v, '--queue-wait-seconds'));
 }
 
+/** `--minutes` and `--cut-at-limit`, the same on `run` and `resume`. */
+function limitOptions(command: Command): Command {
+  return command
+    .option('--minutes <m>', "minutes this session may start jobs, fractions allowed (default: the study's budget.minutes, else no limit)", positiveMinutes)
+    .option('--cut-at-limit', 'at the time limit, cut running jobs off at their next epoch instead of letting them finish (they run again on resume)');
+}
+
+interface LimitFlagValues {
+  minutes?: number;
+  cutAtLimit?: boolean;
+}
+
+function positiveMinutes(value: string): number {
+  const parsed = Number(value);
+  if (value.trim() === '' || !Number.isFinite(parsed) || parsed <= 0) throw new InvalidArgumentError(`--minutes must be a number of minutes above 0 (fractions allowed), got '${value}'`);
+  return parsed;
+}
+
 interface QueueFlagValues {
   queue?: string;
   threads?: number;
@@ -93,6 +111,7 @@ async function untilInterrupted<T extends { dir: string; doc: { state: string } 
       io.warn(`study interrupted; continue it with: rungwise resume ${outcome.dir}`);
       process.exitCode = 130;
     }
+    if (outcome.doc.state === 'time-limit') io.note(`study stopped by its time limit; continue it with: rungwise resume ${outcome.dir} --minutes <m>`);
     return outcome;
   } finally {
     interrupt.dispose();
@@ -153,7 +172,7 @@ export function buildProgram(
     .option('--top <n>', 'configurations in the result (default: 10 in the table, all in JSON)', top)
     .option('--force', 'replace a run directory that already holds a study')
     .option('--json', 'print the result as JSON: every trial, ranked ones first')
-    .action(async (definition: string, flags: { out?: string; workers?: number; top?: number; force?: boolean; json?: boolean } & QueueFlagValues) => {
+    .action(async (definition: string, flags: { out?: string; workers?: number; top?: number; force?: boolean; json?: boolean } & QueueFlagValues & LimitFlagValues) => {
       const target = io();
       const { run } = await import('../commands/run.js');
       const { json: _json, top: _top, ...options } = flags;
@@ -162,6 +181,7 @@ export function buildProgram(
     });
 
   queueOptions(program.commands.at(-1)!);
+  limitOptions(program.commands.at(-1)!);
 
   command('resume')
     .description('continue an interrupted study')
@@ -170,7 +190,7 @@ export function buildProgram(
     .option('--top <n>', 'configurations in the result (default: 10 in the table, all in JSON)', top)
     .option('--json', 'print the result as JSON: every trial, ranked ones first')
     .option('--allow-changed-data', 'go on although the CSV changed since the study started (the study file records it)')
-    .action(async (dir: string, flags: { workers?: number; top?: number; json?: boolean; allowChangedData?: boolean } & QueueFlagValues) => {
+    .action(async (dir: string, flags: { workers?: number; top?: number; json?: boolean; allowChangedData?: boolean } & QueueFlagValues & LimitFlagValues) => {
       const target = io();
       const { resume } = await import('../commands/resume.js');
       const outcome = await untilInterrupted(target, (signal) =>
@@ -179,6 +199,8 @@ export function buildProgram(
           ...inject,
           ...(flags.workers !== undefined ? { workers: flags.workers } : {}),
           ...(flags.allowChangedData ? { allowChangedData: true } : {}),
+          ...(flags.minutes !== undefined ? { minutes: flags.minutes } : {}),
+          ...(flags.cutAtLimit ? { cutAtLimit: true } : {}),
           ...queueFlags(flags),
           progress: target.err,
           onDataWarning: target.warn,
@@ -190,6 +212,7 @@ export function buildProgram(
     });
 
   queueOptions(program.commands.at(-1)!);
+  limitOptions(program.commands.at(-1)!);
 
   command('worker')
     .description('train jobs of every study served on a Redis, until SIGINT or SIGTERM')
