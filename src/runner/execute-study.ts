@@ -19,7 +19,7 @@ import { FoldsTransport } from '../transports/folds.js';
 import type { TrialTransport } from '../transports/transport.js';
 import type { SharedDataset, TrainJob, TrainResult } from '../core/job.js';
 import { CheckpointKeeper } from './checkpoint-keeper.js';
-import type { StudyObserver } from './events.js';
+import type { StudyObserver, StudyProgress } from './events.js';
 import { TrialLifecycle, type JobFailure } from './lifecycle.js';
 import { BatchedPersistence } from './persistence.js';
 import { StopControl, type Clock } from './stop-control.js';
@@ -115,6 +115,13 @@ export async function executeStudy(store: StudyStore, data: PreparedData, option
   }
 }
 
+/** A settled job waiting to be saved and announced, with the study's progress at the moment it settled. */
+interface Announced {
+  record: TrialRecord;
+  job: Job;
+  progress: StudyProgress;
+}
+
 /** What one session of a study (a `run` or a `resume`) works with, built once by {@link openSession}. */
 interface Session {
   store: StudyStore;
@@ -130,7 +137,7 @@ interface Session {
   queue: Job[];
   lifecycle: TrialLifecycle;
   keeper: CheckpointKeeper;
-  persistence: BatchedPersistence<{ record: TrialRecord; job: Job }>;
+  persistence: BatchedPersistence<Announced>;
   dataset: SharedDataset;
   stop: StopControl;
   /** Running jobs by trial id. */
@@ -175,7 +182,7 @@ async function openSession(store: StudyStore, data: PreparedData, options: Execu
   const queue = replay(sampler, recordedOutcomes(trials, goal), new Map(trials.map((t) => [t.id, t.configuration]))).pending;
   const lifecycle = new TrialLifecycle(store.doc, sampler, planned);
   const keeper = new CheckpointKeeper(options.checkpoints ?? new FolderCheckpointStore(store.dir));
-  const persistence = new BatchedPersistence<{ record: TrialRecord; job: Job }>(store, keeper, sampler, announcer(emit, lifecycle), [...(await keeper.list()), ...trials.map((t) => t.id)]);
+  const persistence = new BatchedPersistence<Announced>(store, keeper, sampler, announcer(emit), [...(await keeper.list()), ...trials.map((t) => t.id)]);
   const minutes = options.minutes ?? definition.budget.minutes;
   const stop = new StopControl({
     ...(options.signal ? { signal: options.signal } : {}),
@@ -191,10 +198,10 @@ async function openSession(store: StudyStore, data: PreparedData, options: Execu
 }
 
 /** After each save: one `trial-finished` event per saved job, with the ranking's leader at that moment. */
-function announcer(emit: StudyObserver, lifecycle: TrialLifecycle): (items: { record: TrialRecord; job: Job }[], ranking: RankedTrial[]) => void {
+function announcer(emit: StudyObserver): (items: Announced[], ranking: RankedTrial[]) => void {
   return (items, ranking) => {
-    const progress = lifecycle.progress();
-    for (const { record, job } of items) {
+    // Each job with the counts of the moment it settled, so the counters on each line are its own.
+    for (const { record, job, progress } of items) {
       emit({ type: 'trial-finished', trial: record, job, best: ranking[0]?.trial, finishedTrials: progress.endedTrials, progress });
     }
   };
@@ -315,7 +322,8 @@ function settleResult(session: Session, job: Job, result: TrainResult): void {
     persistence.checkpointed(job.trialId);
   }
   // A copy: by the time the save lands and the outcome is announced, the trial may be running again.
-  persistence.queue({ record: { ...lifecycle.succeeded(job, result) }, job });
+  const record = { ...lifecycle.succeeded(job, result) };
+  persistence.queue({ record, job, progress: lifecycle.progress() });
 }
 
 function settleFailure(session: Session, transport: TrialTransport, job: Job, timedOut: boolean, error: unknown): Promise<void> | undefined {
@@ -326,7 +334,7 @@ function settleFailure(session: Session, transport: TrialTransport, job: Job, ti
       : { kind: 'error', message: error instanceof Error ? error.message : String(error) };
   const next = session.lifecycle.failed(job, failure);
   if (next === 'retry') return startJob(session, transport, job); // the same job again, from the same checkpoint
-  if (next === 'ended') session.persistence.queue({ record: { ...session.lifecycle.record(job.trialId) }, job });
+  if (next === 'ended') session.persistence.queue({ record: { ...session.lifecycle.record(job.trialId) }, job, progress: session.lifecycle.progress() });
   return undefined;
 }
 
