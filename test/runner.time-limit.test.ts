@@ -15,6 +15,7 @@ import type { StudyDefinitionInput } from '../src/study/definition.js';
 import type { TrialConfiguration } from '../src/core/configuration.js';
 import { ClosedFormTransport } from '../src/transports/closed-form.js';
 import { runCli } from './helpers/cli.js';
+import { studySummary } from '../src/report/summary.js';
 import { writeIrisCsv } from './helpers/datasets.js';
 import { tinyStudy, writeTinyStudy } from './helpers/studies.js';
 
@@ -62,9 +63,11 @@ describe.each(SAMPLERS)('a time limit with %s', (_name, sampler, trials) => {
     const limit = 10 * SECOND;
     const time = virtualClock();
     const stopping: string[] = [];
+    const notes: string[] = [];
     const onEvent = (event: StudyEvent): void => {
       time.onEvent(event);
       if (event.type === 'stopping') stopping.push(event.reason);
+      if (event.type === 'note') notes.push(event.message);
     };
     const dir = path.join(base, 'limited');
     const limited = await runStudy(file, { out: dir, transport, clock: time.clock, minutes: limit / 60_000, onEvent });
@@ -74,6 +77,11 @@ describe.each(SAMPLERS)('a time limit with %s', (_name, sampler, trials) => {
     expect(Math.max(...time.starts)).toBeLessThan(limit);
     expect(time.now()).toBeLessThan(limit + 2 * 9 * SECOND);
     expect(limited.doc.trials.length).toBeLessThan(trials);
+    // After 3 jobs the measured pace (2 workers, 1 virtual second an epoch) says the limit cuts the plan.
+    expect(notes.filter((n) => /the time limit stops the study near epoch \d+ of the \d+ planned/.test(n))).toHaveLength(1);
+    const summary = studySummary(limited.doc);
+    expect(summary).toContain(`study ${limited.doc.name} stopped by its time limit`);
+    expect(summary).toMatch(/^work: \d+ of \d+ jobs planned, \d+ of \d+ epochs \(\d+ %\)/m);
 
     const resumed = await resumeStudy(dir, { transport });
     expect(resumed.doc.state).toBe('finished');

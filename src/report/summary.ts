@@ -1,7 +1,8 @@
 import type { StudyDocument } from '../store/types.js';
 import { unsuccessfulTrials } from '../core/trial-status.js';
 import { OPTIMISM_CAUTION } from './caution.js';
-import { formatDuration, formatNumber } from './format.js';
+import { budgetSummary, budgetSummaryText } from './budget-summary.js';
+import { stateText } from './progress.js';
 
 
 /** The closing lines of a run: trials by status, totals, the study file's path and the caution. */
@@ -9,12 +10,8 @@ export function studySummary(doc: StudyDocument, file = ''): string {
   const counts = new Map<string, number>();
   for (const trial of doc.trials) counts.set(trial.status, (counts.get(trial.status) ?? 0) + 1);
   const byStatus = [...counts].map(([status, n]) => `${n} ${status}`).join(', ');
-  const lines = [`study ${doc.name} ${doc.state}: ${doc.trials.length} trials (${byStatus || 'none'})`];
-  if (doc.totals) {
-    lines.push(
-      `epochs trained ${doc.totals.epochsTrained}; wall time ${formatDuration(doc.totals.wallSeconds)}; worker utilisation ${formatNumber(doc.totals.workerUtilisation)} on ${doc.totals.workers} worker(s)`,
-    );
-  }
+  const lines = [`study ${doc.name} ${stateText(doc.state)}: ${doc.trials.length} trials (${byStatus || 'none'})`];
+  if (doc.totals) lines.push(budgetSummaryText(budgetSummary(doc)));
   if (file) lines.push(`study file: ${file}`);
   lines.push(OPTIMISM_CAUTION);
   const failed = unsuccessfulTrials(doc.trials);

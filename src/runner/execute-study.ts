@@ -144,6 +144,9 @@ interface Session {
   running: Map<number, Promise<void>>;
   /** Worker-seconds of the jobs that brought a result. */
   busySeconds: number;
+  /** Jobs that brought a result in this session, and the epochs trained before it began. */
+  jobsEnded: number;
+  epochsAtStart: number;
 }
 
 /**
@@ -194,7 +197,7 @@ async function openSession(store: StudyStore, data: PreparedData, options: Execu
   });
   const workers = options.workers ?? definition.workers ?? availableParallelism();
   const dataset = toSharedDataset(data, datasetId(data));
-  return { store, options, definition, workers, emit, note: noteOnce(emit), sampler, planned, queue, lifecycle, keeper, persistence, dataset, stop, running: new Map(), busySeconds: 0 };
+  return { store, options, definition, workers, emit, note: noteOnce(emit), sampler, planned, queue, lifecycle, keeper, persistence, dataset, stop, running: new Map(), busySeconds: 0, jobsEnded: 0, epochsAtStart: lifecycle.progress().epochsDone };
 }
 
 /** After each save: one `trial-finished` event per saved job, with the ranking's leader at that moment. */
@@ -323,7 +326,33 @@ function settleResult(session: Session, job: Job, result: TrainResult): void {
   }
   // A copy: by the time the save lands and the outcome is announced, the trial may be running again.
   const record = { ...lifecycle.succeeded(job, result) };
-  persistence.queue({ record, job, progress: lifecycle.progress() });
+  const progress = lifecycle.progress();
+  persistence.queue({ record, job, progress });
+  forecastTimeLimit(session, progress.epochsDone);
+}
+
+/** Jobs ended in a session before its pace is trusted to forecast where the time limit cuts the plan. Common practice (no source). */
+const FORECAST_AFTER_JOBS = 3;
+
+/**
+ * With a time limit, once a few jobs have ended: when the limit will stop the study before its plan
+ * is done at the pace measured so far, say once how far the plan will get.
+ */
+function forecastTimeLimit(session: Session, epochsDone: number): void {
+  const { stop, planned } = session;
+  const remaining = stop.remainingMs;
+  session.jobsEnded += 1;
+  if (remaining === undefined || session.jobsEnded !== FORECAST_AFTER_JOBS) return;
+  const trainedNow = epochsDone - session.epochsAtStart;
+  const elapsed = stop.elapsedMs;
+  if (trainedNow <= 0 || elapsed <= 0) return;
+  const reach = Math.floor(epochsDone + (trainedNow * remaining) / elapsed);
+  if (reach >= planned.epochs) return;
+  const perMinute = (trainedNow * 60_000) / elapsed;
+  const shape = planned.brackets > 1 ? ` (${planned.brackets} brackets of ${planned.rungs} rungs at most)` : planned.rungs > 1 ? ` (${planned.rungs} rungs)` : '';
+  session.note(
+    `at the pace so far (${perMinute.toFixed(1)} epochs a minute), the time limit stops the study near epoch ${reach} of the ${planned.epochs} planned${shape}, about ${Math.round((100 * reach) / planned.epochs)} % of its plan; resume with a longer --minutes to go on`,
+  );
 }
 
 function settleFailure(session: Session, transport: TrialTransport, job: Job, timedOut: boolean, error: unknown): Promise<void> | undefined {
