@@ -11,6 +11,7 @@ import { dataGroup } from './data.js';
 import { memoryGroup } from './memory.js';
 import { modelGroup } from './model.js';
 import { overheadGroup } from './overhead.js';
+import { plansGroup } from './plans.js';
 import { poolGroup } from './pool.js';
 import { queueGroup } from './queue.js';
 import { groupMarkdown, machineInfo, writeResults, type GroupResult } from './report.js';
@@ -33,6 +34,7 @@ const GROUPS: Record<string, (options: BenchOptions) => Promise<GroupResult>> = 
   memory: memoryGroup,
   scheduling: schedulingGroup,
   budget: budgetGroup,
+  plans: plansGroup,
   'early-stopping': earlyStoppingGroup,
   model: modelGroup,
   startup: startupGroup,

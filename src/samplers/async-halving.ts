@@ -14,12 +14,11 @@ export interface AsyncHalvingOptions {
   eta: number;
   paramsFor: ParamsForTrial;
   /**
-   * Hard limits (the plugin passes its plan): no job starts that would take the handed-out jobs or
-   * epochs past them, with room kept for every configuration not yet started to train its rung 0.
-   * A promotion that no longer fits is passed over for good (the trial stays at its rung).
-   * @default none
+   * The most trials promoted out of each rung (the plugin passes its plan's: the synchronous schedule's
+   * n_(k+1) out of rung k), so the run never passes the planned jobs and epochs. A candidate that comes
+   * after the rung's promotions are used up stays where it is for good. @default no cap
    */
-  limit?: { jobs: number; epochs: number };
+  promotionsPerRung?: readonly number[];
 }
 
 /**
@@ -45,8 +44,8 @@ export function asyncHalvingRounds(trials: number, minEpochs: number, maxEpochs:
  * Unlike the synchronous samplers its decisions depend on the order results arrive (by design).
  * Diverged or failed results (null loss) count in |rung k| but are never promoted; so do trials
  * early stopping ended (they keep their place among the top 1/eta, which is then passed over).
- * With `limit`, a promotion is handed out only if it and the rung-0 jobs of every configuration not
- * yet started fit in the limit; the scan then goes on to lower rungs, whose promotions cost less.
+ * With `promotionsPerRung`, a rung whose promotions are used up promotes no more, so the jobs and
+ * epochs handed out stay within the plan of the synchronous schedule.
  */
 export class AsyncHalvingSampler implements Sampler {
   /** Epochs at the end of each rung. */
@@ -61,9 +60,6 @@ export class AsyncHalvingSampler implements Sampler {
   private readonly outstanding = new Map<number, number>();
   private readonly reasons = new Map<string, string>();
   private started = 0;
-  /** Jobs and epochs handed out so far. */
-  private handedOutJobs = 0;
-  private handedOutEpochs = 0;
 
   constructor(private readonly options: AsyncHalvingOptions) {
     assertPositiveInteger('trials', options.trials);
@@ -102,7 +98,7 @@ export class AsyncHalvingSampler implements Sampler {
     if (outstandingRung !== undefined) return outstandingRung < this.topRung;
     const rung = this.latestRung(trialId);
     if (rung === undefined || rung === this.topRung || this.promoted[rung]!.has(trialId) || this.stopped.has(trialId)) return false;
-    // What is handed out plus the rung-0 jobs still owed never shrinks, so a promotion that does not fit now never will.
+    // Promotions out of a rung only grow, so a rung whose promotions are used up stays so.
     if (!this.promotionFits(rung)) return false;
     if (!isPromotable(this.results[rung]!.get(trialId) ?? null)) return false;
     return this.mayGrow(rung) || this.candidates(rung).some((result) => result.trialId === trialId);
@@ -144,13 +140,10 @@ export class AsyncHalvingSampler implements Sampler {
     return this.mayGrow(k - 1) || this.candidates(k - 1).some((r) => isPromotable(r.loss) && !this.promoted[k - 1]!.has(r.trialId) && !this.stopped.has(r.trialId));
   }
 
-  /** Whether a promotion out of rung k fits in the limit, keeping room for the rung-0 jobs of configurations not yet started. */
+  /** Whether rung k may still promote a trial (its promotions are not used up). */
   private promotionFits(k: number): boolean {
-    const limit = this.options.limit;
-    if (!limit) return true;
-    const unstarted = this.options.trials - this.started;
-    const epochs = this.handedOutEpochs + unstarted * this.rungs[0]! + this.rungs[k + 1]! - this.rungs[k]!;
-    return epochs <= limit.epochs && this.handedOutJobs + unstarted + 1 <= limit.jobs;
+    const cap = this.options.promotionsPerRung?.[k];
+    return cap === undefined || this.promoted[k]!.size < cap;
   }
 
   private latestRung(trialId: number): number | undefined {
@@ -161,8 +154,6 @@ export class AsyncHalvingSampler implements Sampler {
   private handOut(trialId: number, rung: number, reason?: string): Job {
     this.outstanding.set(trialId, rung);
     const fromEpoch = rung === 0 ? 0 : this.rungs[rung - 1]!;
-    this.handedOutJobs += 1;
-    this.handedOutEpochs += this.rungs[rung]! - fromEpoch;
     const job: Job = {
       trialId,
       configuration: this.options.paramsFor(trialId),
@@ -189,8 +180,8 @@ export const asyncHalvingPlugin = defineSampler({
   create: (options, context) => {
     checkHalvingBudget(options, context.budget);
     const { trials, maxEpochs } = context.budget;
-    const { jobs, epochs } = bracketsPlan([asyncHalvingRounds(trials, options.minEpochs, maxEpochs, options.eta)], true);
-    return new AsyncHalvingSampler({ ...options, trials, maxEpochs, paramsFor: context.randomParams, limit: { jobs, epochs } });
+    const promotionsPerRung = asyncHalvingRounds(trials, options.minEpochs, maxEpochs, options.eta).slice(1).map((round) => round.configurations);
+    return new AsyncHalvingSampler({ ...options, trials, maxEpochs, paramsFor: context.randomParams, promotionsPerRung });
   },
   plan: (options, budget) => {
     if (options.minEpochs > budget.maxEpochs) return EMPTY_PLAN;
