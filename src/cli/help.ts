@@ -17,10 +17,12 @@ export const COMMAND_EXAMPLES: Record<string, string> = {
     ['rungwise run studies/demo/study.json --out runs/demo', 'progress on stderr, ranking on stdout'],
     ['rungwise run study.json --quiet --json > result.json', 'nothing but the result, as JSON'],
     ['rungwise run study.json --out runs/x --force --workers 2', 'replace an earlier run, two worker threads'],
+    ['rungwise run study.json --minutes 20', 'start no job after 20 minutes; resume goes on'],
   ]),
   resume: examples([
     ['rungwise resume runs/demo', 'continue after Ctrl-C; finished trials are kept'],
     ['rungwise resume runs/demo --json --top 3', 'the three best as JSON when it ends'],
+    ['rungwise resume runs/demo --minutes 30', 'after a time limit: 30 more minutes'],
   ]),
   ranking: examples([
     ['rungwise ranking runs/demo', 'the ten best as a table'],
