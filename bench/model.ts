@@ -45,7 +45,7 @@ function proposalCost(seed: number): { tpe: number; tpeHyperbandModel: number } 
   const definition = {
     space: spaceSchema.parse(SPACE),
     budget: budgetSchema.parse({ trials: 1001, maxEpochs: 1 }),
-    sampler: samplerSchema.parse({ kind: 'tpe', seed, startupTrials: 1000 }),
+    sampler: samplerSchema.parse({ kind: 'tpe', seed, trialsBeforeModel: 1000 }),
   };
   const sampler = createSampler(definition);
   const loss = (job: Job) => Math.abs(Math.log10(job.configuration.learningRate) + 2) + job.configuration.width / 128 + stream(seed, 'noise', job.trialId)() * 0.1;
@@ -61,7 +61,7 @@ function proposalCost(seed: number): { tpe: number; tpeHyperbandModel: number } 
   if (typeof proposal === 'string') throw new Error(`expected a proposal, got ${proposal}`);
   // The tpe-hyperband defaults: gamma 0.15, 64 candidates, Scott widths widened 3 times for drawing.
   started = performance.now();
-  new TpeModel(spaceDesign(definition.space).dimensions, observations, { gamma: 0.15, candidates: 64, priorWeight: 1, bandwidth: 'scott', candidateBandwidthFactor: 3, minimumGroup: 8 }).propose(stream(seed, 'propose'));
+  new TpeModel(spaceDesign(definition.space).dimensions, observations, { gamma: 0.15, drawsPerProposal: 64, wideKernelWeight: 1, bandwidth: 'scott', drawWidening: 3, minimumGroup: 8 }).propose(stream(seed, 'propose'));
   return { tpe, tpeHyperbandModel: performance.now() - started };
 }
 
@@ -149,7 +149,7 @@ export async function modelGroup(options: BenchOptions): Promise<GroupResult> {
           name: `bench-model-${dataset.name}`, data: dataset.data, space: SPACE, budget, sampler, goal: dataset.goal, workers,
         });
         const random = await runProgress(dir, `random-${dataset.name}-${seed}`, base({ kind: 'random', seed }, { trials, maxEpochs }), workers);
-        const tpe = await runProgress(dir, `tpe-${dataset.name}-${seed}`, base({ kind: 'tpe', seed, startupTrials: 6, batchSize: workers }, { trials, maxEpochs }), workers);
+        const tpe = await runProgress(dir, `tpe-${dataset.name}-${seed}`, base({ kind: 'tpe', seed, trialsBeforeModel: 6, batchSize: workers }, { trials, maxEpochs }), workers);
         const hyperband = await runProgress(dir, `hb-${dataset.name}-${seed}`, base({ kind: 'hyperband', seed, eta: 3 }, { trials: 1, maxEpochs: hyperbandEpochs }), workers);
         const tpeHyperband = await runProgress(dir, `tpehb-${dataset.name}-${seed}`, base({ kind: 'tpe-hyperband', seed, eta: 3 }, { trials: 1, maxEpochs: hyperbandEpochs }), workers);
         const tpeTrials = neededTo(tpe, random.final, 'trials');

@@ -5,8 +5,9 @@ import path from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { parse } from 'csv-parse/sync';
 import { beforeAll, describe, expect, it } from 'vitest';
+import { buildProgram } from '../src/cli/main.js';
 import { studyResultText, type StudyResultJson } from '../src/report/study-result.js';
-import { FAULT_VARIABLE } from '../src/transports/threads/faults.js';
+import { FAULT_VARIABLE } from '../src/runner/faults.js';
 import { rankTrials } from '../src/core/ranking.js';
 import { StudyStore, studyFilePath } from '../src/store/study-store.js';
 import { runCli } from './helpers/cli.js';
@@ -14,7 +15,8 @@ import { writeTinyStudy } from './helpers/studies.js';
 
 const ROOT = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '..');
 const HYPERBAND_FIXTURE = path.join(ROOT, 'test/fixtures/studies/hyperband-generated.json');
-const COMMANDS = ['run', 'resume', 'ranking', 'plot', 'export', 'predict', 'demo'];
+// Every command the program declares, so a new one cannot be left out.
+const COMMANDS = buildProgram().commands.map((command) => command.name());
 
 let studyFile: string;
 let runDir: string;
@@ -38,11 +40,14 @@ describe('rungwise version and help', () => {
     }
   });
 
-  it('every command has an Examples section in its --help, each example starting with rungwise <command>', async () => {
+  it('every command has an Examples section at the end of its --help, each example starting with rungwise <command>', async () => {
+    expect(COMMANDS).toEqual(expect.arrayContaining(['run', 'resume', 'worker', 'ranking', 'plot', 'compare', 'export', 'predict', 'demo']));
     for (const command of COMMANDS) {
       const result = await runCli([command, '--help']);
       expect(result.code, command).toBe(0);
       const examples = result.stdout.split('\nExamples:\n')[1];
+      // The section is the last thing the help prints.
+      expect(result.stdout.trimEnd().split('\n').at(-1)!.trim().startsWith(`rungwise ${command}`), command).toBe(true);
       expect(examples, command).toBeDefined();
       const lines = examples!.trim().split('\n');
       expect(lines.length, command).toBeGreaterThanOrEqual(2);

@@ -2,7 +2,7 @@ import { spawn, type ChildProcessWithoutNullStreams } from 'node:child_process';
 import path from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { StudyStore } from '../src/store/study-store.js';
-import { FAULT_VARIABLE } from '../src/transports/threads/faults.js';
+import { FAULT_VARIABLE } from '../src/runner/faults.js';
 import { BIN, runCli } from './helpers/cli.js';
 import { longTinyStudy, writeTinyStudy } from './helpers/studies.js';
 

@@ -1,6 +1,6 @@
 import path from 'node:path';
 import { describe, expect, it } from 'vitest';
-import { FAULT_VARIABLE } from '../src/transports/threads/faults.js';
+import { FAULT_VARIABLE } from '../src/runner/faults.js';
 import { runCli } from './helpers/cli.js';
 import { writeTinyStudy } from './helpers/studies.js';
 

@@ -5,13 +5,14 @@ import path from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { promisify } from 'node:util';
 import { beforeAll, describe, expect, it } from 'vitest';
+import { documentation } from './helpers/docs.js';
 import { readCsv } from '../src/data/csv.js';
 import { loadModel, predict, type ClassPrediction, type InputRow, type ValuePrediction } from '../src/index.js';
 import { exportTinyStudies, type TinyExport } from './helpers/exports.js';
 
 const run = promisify(execFile);
 const ROOT = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '..');
-const README = readFileSync(path.join(ROOT, 'README.md'), 'utf8');
+const README = documentation();
 
 let exports: TinyExport[];
 
@@ -92,7 +93,7 @@ describe('loading the exported model without rungwise', () => {
     }
   });
 
-  it('the README shows the examples as they are in examples/', () => {
+  it('the documentation (README and docs/) shows the examples as they are in examples/', () => {
     for (const file of ['examples/predict.mjs', 'examples/tfjs-node.mjs', 'examples/encode-row.mjs']) {
       expect(README, file).toContain(readFileSync(path.join(ROOT, file), 'utf8').trim());
     }

@@ -26,13 +26,23 @@ describe('rungwise compare', () => {
   it('answers the questions side by side in a table and writes a comparison report', async () => {
     const a = await runDir('a', 'hyperband-generated');
     const b = await runDir('b', 'random-five');
-    const { table, files } = await compare({ dirs: [a, b] });
+    const { table, details, studies, files } = await compare({ dirs: [a, b] });
     const lines = table.split('\n');
     expect(lines[0]).toMatch(/^\s+hyperband-generated\s+random-five$/);
-    expect(table).toContain('winner');
-    expect(table).toMatch(/trial 48: auc 0\.9473 after 27 epochs\s+trial 5: auc 0\.86 after 3 epochs/);
-    expect(table).toContain('328 epochs of 357 planned (92%)');
-    expect(table).toContain('one rung (no halving)');
+    // Narrow: one row per answer, one column per study, a few words each; it fits an 80-column terminal.
+    expect(lines).toHaveLength(2 + 9);
+    for (const line of lines) expect(line.length, line).toBeLessThanOrEqual(80);
+    expect(table).toMatch(/winner \(auc\)\s+trial 48: 0\.9473\s+trial 5: 0\.86/);
+    expect(table).toMatch(/compute spent\s+328 epochs \(92%\)/);
+    expect(table).toMatch(/compute at rung 0\s+\d+%\s+no halving/);
+    // The answers in full on request.
+    expect(details).toContain('  hyperband-generated: trial 48: auc 0.9473 after 27 epochs\n  random-five: trial 5: auc 0.86 after 3 epochs');
+    expect(details).toContain('328 epochs of 357 planned (92%)');
+    expect(details).toContain('one rung (no halving)');
+    expect(studies.map((s) => [s.name, s.winner?.trial, s.compute.epochs, s.compute.plannedEpochs])).toEqual([
+      ['hyperband-generated', 48, 328, 357],
+      ['random-five', 5, studies[1]!.compute.epochs, studies[1]!.compute.plannedEpochs],
+    ]);
     expect(files.map((f) => path.basename(f))).toContain('report.html');
     expect(path.dirname(files[0]!)).toBe(path.join(a, 'comparison'));
     const html = await readFile(files.find((f) => f.endsWith('report.html'))!, 'utf8');

@@ -6,7 +6,7 @@
 import path from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { runStudy } from '../src/runner/run-study.js';
-import { budgetSummary, budgetSummaryText, twoDigits } from '../src/report/budget-summary.js';
+import { budgetSummary, budgetSummaryText, twoSignificantDigits } from '../src/report/budget-summary.js';
 import { studyResultJson } from '../src/report/study-result.js';
 import type { TrialConfiguration } from '../src/core/configuration.js';
 import { ClosedFormTransport } from '../src/transports/closed-form.js';
@@ -44,6 +44,6 @@ describe('the budget summary', () => {
   });
 
   it('shows a ratio with two significant digits', () => {
-    expect([0.41421356, 0.05, 1, 0].map(twoDigits)).toEqual(['0.41', '0.05', '1', '0']);
+    expect([0.41421356, 0.05, 1, 0].map(twoSignificantDigits)).toEqual(['0.41', '0.050', '1.0', '0']);
   });
 });

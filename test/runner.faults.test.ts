@@ -1,7 +1,7 @@
 import path from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { runStudy } from '../src/runner/run-study.js';
-import { faultPlan } from '../src/transports/threads/faults.js';
+import { faultPlan } from '../src/runner/faults.js';
 import { tinyStudy, writeTinyStudy } from './helpers/studies.js';
 
 /** Run the tiny study with faults injected into its trials (the library's test-only option). */

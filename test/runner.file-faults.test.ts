@@ -4,6 +4,7 @@
  * same result as an uninterrupted run, or stops with one line that says how to go on.
  */
 import { execFileSync } from 'node:child_process';
+import { readdirSync } from 'node:fs';
 import { appendFile, copyFile, mkdir, mkdtemp, readFile, rm, writeFile } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
 import path from 'node:path';
@@ -100,6 +101,25 @@ describe('a curve log cut in the middle of its last line', () => {
   });
 });
 
+describe("a curve log whose last whole line was cut after the study file recorded its job", () => {
+  it("runs that trial's last job again on resume, says so, and ends as an uninterrupted study", async () => {
+    const { dir } = await interruptedAfter(5);
+    const log = path.join(dir, 'curves.jsonl');
+    const lines = (await readFile(log, 'utf8')).trimEnd().split('\n');
+    const lost = JSON.parse(lines.at(-1)!) as { trial: number; curve: { epoch: number }[] };
+    // Cut the last line in its middle: the study file still records the job whose epochs it held.
+    await writeFile(log, `${lines.slice(0, -1).join('\n')}\n${lines.at(-1)!.slice(0, 40)}`);
+    const recorded = (await StudyStore.read(dir)).trials.find((t) => t.id === lost.trial)!;
+    expect(recorded.curve.length).toBeLessThan(recorded.epochsTrained);
+    const events: StudyEvent[] = [];
+    const resumed = await resumeStudy(dir, { onEvent: (e) => events.push(e) });
+    expect(notesOf(events)).toContainEqual(expect.stringMatching(new RegExp(`^trial ${lost.trial}: the curve log lost epochs \\d+-\\d+; that job runs again$`)));
+    const rerun = events.filter((e) => e.type === 'job-started' && e.job.trialId === lost.trial);
+    expect(rerun.length).toBeGreaterThan(0);
+    expect(resultOf(resumed.doc)).toEqual(resultOf((await uninterrupted()).doc));
+  });
+});
+
 describe('lost checkpoints', () => {
   it('are trained again from epoch 0, said once, with the same result as an uninterrupted run', async () => {
     const { dir } = await interruptedAtFirstPromotion();
@@ -178,6 +198,56 @@ describe('a full disk', () => {
     const resumed = await runCli(['resume', dir]);
     expect(resumed.code).toBe(0);
     expect(resultOf(await StudyStore.read(dir))).toEqual(resultOf((await uninterrupted()).doc));
+  });
+});
+
+describe('a folder it may not write, and a disk full before the first save', () => {
+  const mountPoint = path.join(tmpdir(), `rungwise-read-only-${process.pid}`);
+  let mounted = false;
+  afterAll(() => {
+    if (mounted) execFileSync('umount', [mountPoint], { stdio: 'ignore' });
+  });
+
+  it('run, plot and export name the folder and the cause in one line, exit 2, say to run again (not resume), and write nothing', async (context) => {
+    await mkdir(mountPoint, { recursive: true });
+    mounted = mountTmpfs(mountPoint, '64k');
+    if (!mounted) context.skip('this machine does not allow mounting a small tmpfs (needs root with mount rights)');
+    const file = await writeTinyStudy(tinyStudy());
+    const finished = path.join(path.dirname(file), 'finished');
+    expect((await runCli(['run', file, '--out', finished, '--quiet'])).code).toBe(0);
+    execFileSync('mount', ['-o', 'remount,ro', mountPoint]);
+    const dir = path.join(mountPoint, 'run');
+    const run = await runCli(['run', file, '--out', dir]);
+    expect(run.code).toBe(2);
+    const errors = run.stderr.split('\n').filter((line) => line.startsWith('error:'));
+    expect(errors).toEqual([`error: ${mountPoint}: the file system is read-only (EROFS); nothing was saved; fix that or choose another --out, then run the study again`]);
+    for (const command of ['plot', 'export']) {
+      const out = path.join(mountPoint, command);
+      const result = await runCli([command, finished, '--out', out]);
+      expect(result.code, command).toBe(2);
+      expect(result.stderr.trim().split('\n'), command).toEqual([`error: ${out}: the file system is read-only (EROFS); nothing was written; choose another --out`]);
+    }
+    expect(readdirSync(mountPoint)).toEqual([]);
+  });
+
+  it('a disk that fills before the study file is first saved: run says to run it again, exit 2', async (context) => {
+    const full = `${mountPoint}-full`;
+    await mkdir(full, { recursive: true });
+    if (!mountTmpfs(full, '64k')) context.skip('this machine does not allow mounting a small tmpfs (needs root with mount rights)');
+    try {
+      // Leave almost no room: the split record cannot be written.
+      await writeFile(path.join(full, 'filler'), Buffer.alloc(60 * 1024)).catch(() => undefined);
+      const file = await writeTinyStudy(tinyStudy());
+      const dir = path.join(full, 'run');
+      const run = await runCli(['run', file, '--out', dir]);
+      expect(run.code).toBe(2);
+      const errors = run.stderr.split('\n').filter((line) => line.startsWith('error:'));
+      expect(errors).toHaveLength(1);
+      expect(errors[0]).toMatch(/no space left on the device \(ENOSPC\); nothing was saved; fix that or choose another --out, then run the study again$/);
+      expect(errors[0]).not.toContain('resume');
+    } finally {
+      execFileSync('umount', [full], { stdio: 'ignore' });
+    }
   });
 });
 

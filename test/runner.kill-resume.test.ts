@@ -7,7 +7,7 @@ import { existsSync } from 'node:fs';
 import path from 'node:path';
 import { beforeAll, describe, expect, it } from 'vitest';
 import { runStudy } from '../src/runner/run-study.js';
-import { STORE_CRASH_VARIABLE } from '../src/store/file-adapter.js';
+import { STORE_CRASH_VARIABLE } from '../src/runner/faults.js';
 import { StudyStore, studyFilePath } from '../src/store/study-store.js';
 import type { StudyDocument } from '../src/store/types.js';
 import { BIN, runCli } from './helpers/cli.js';

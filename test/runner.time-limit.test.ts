@@ -44,7 +44,7 @@ const ranked = (outcome: StudyOutcome) => outcome.ranking.map((r) => [r.trial.id
 const SAMPLERS: [string, StudyDefinitionInput['sampler'], number][] = [
   ['random search', { kind: 'random', seed: 5 }, 10],
   ['successive halving', { kind: 'successive-halving', seed: 5, eta: 3, minEpochs: 1 }, 18],
-  ['TPE', { kind: 'tpe', seed: 5, startupTrials: 4, batchSize: 2 }, 10],
+  ['TPE', { kind: 'tpe', seed: 5, trialsBeforeModel: 4, batchSize: 2 }, 10],
 ];
 
 describe.each(SAMPLERS)('a time limit with %s', (_name, sampler, trials) => {

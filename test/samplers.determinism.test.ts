@@ -37,8 +37,8 @@ describe.each([
   ['successive halving', { kind: 'successive-halving', eta: 3, seed: 11 }],
   ['hyperband', { kind: 'hyperband', eta: 3, seed: 11 }],
   ['sobol', { kind: 'sobol', seed: 11 }],
-  ['tpe', { kind: 'tpe', seed: 11, startupTrials: 8, batchSize: 3 }],
-  ['tpe-hyperband', { kind: 'tpe-hyperband', eta: 3, seed: 11, minResults: 2 }],
+  ['tpe', { kind: 'tpe', seed: 11, trialsBeforeModel: 8, batchSize: 3 }],
+  ['tpe-hyperband', { kind: 'tpe-hyperband', eta: 3, seed: 11, smallestGroup: 2 }],
 ])('%s with 1 worker and with 3', (_name, sampler) => {
   const one = simulate(createSampler(definition(sampler)), { workers: 1, loss, duration });
   const three = simulate(createSampler(definition(sampler)), { workers: 3, loss, duration });

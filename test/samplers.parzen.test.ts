@@ -29,7 +29,7 @@ describe('Parzen estimator on the unit interval', () => {
     // Kernel centres sorted: 0.25, 0.5 (prior), 0.75. The end kernels have one neighbour each, 0.25 away:
     // width 0.25. The clip's floor is 1 / min(100, 3 kernels + 1) = 0.25, so nothing moves.
     // Weights: each observation 1 / (n + w) = 1 / 3, the prior w / (n + w) = 1 / 3.
-    const parzen = fitNumeric([0.25, 0.75], { priorWeight: 1, bandwidth: 'neighbour-gap' });
+    const parzen = fitNumeric([0.25, 0.75], { wideKernelWeight: 1, bandwidth: 'neighbour-gap' });
     expect(parzen.means).toEqual([0.25, 0.75, 0.5]);
     expect(parzen.sigmas).toEqual([0.25, 0.25, 1]);
     expect(parzen.weights.map((w) => w * 3)).toEqual([1, 1, 1].map((one) => expect.closeTo(one, 12)));
@@ -41,7 +41,7 @@ describe('Parzen estimator on the unit interval', () => {
   });
 
   it('gives density 1.11544 at 0.5 and 1.05554 at 0.25 for that mixture', () => {
-    const parzen = fitNumeric([0.25, 0.75], { priorWeight: 1, bandwidth: 'neighbour-gap' });
+    const parzen = fitNumeric([0.25, 0.75], { wideKernelWeight: 1, bandwidth: 'neighbour-gap' });
     const side = 0.25 * (PHI_3 - (1 - PHI_1)); // s * mass of an end kernel = 0.209999
     const prior = 1 * (2 * PHI_HALF - 1); // s * mass of the prior = 0.382924
     // At 0.5: prior phi(0) / 0.382924 = 1.041829; each end kernel phi(1) / 0.209999 = 1.152249.
@@ -55,7 +55,7 @@ describe('Parzen estimator on the unit interval', () => {
   });
 
   it('gives the prior half the mass when its weight is 2 against 2 observations', () => {
-    expect(fitNumeric([0.25, 0.75], { priorWeight: 2, bandwidth: 'neighbour-gap' }).weights).toEqual([0.25, 0.25, 0.5]);
+    expect(fitNumeric([0.25, 0.75], { wideKernelWeight: 2, bandwidth: 'neighbour-gap' }).weights).toEqual([0.25, 0.25, 0.5]);
   });
 
   it('takes the larger gap for an inner kernel and clips tiny gaps', () => {
@@ -72,7 +72,7 @@ describe('Parzen estimator on the unit interval', () => {
   it('draws from the truncated kernel: inside [0, 1], above 0.5 three times in four for a kernel at 0.9 of width 0.4', () => {
     // One observation at 0.9 beside the prior's centre 0.5: width 0.4. P(x > 0.5 | x in [0, 1]) =
     // (Phi(0.25) - Phi(-1)) / (Phi(0.25) - Phi(-2.25)) = (0.598706 - 0.158655) / (0.598706 - 0.012224) = 0.7503 (table 26.1).
-    const parzen = fitNumeric([0.9], { priorWeight: 0.001, bandwidth: 'neighbour-gap' });
+    const parzen = fitNumeric([0.9], { wideKernelWeight: 0.001, bandwidth: 'neighbour-gap' });
     expect(parzen.sigmas[0]).toBeCloseTo(0.4, 12);
     const rng = stream(3, 'draws');
     const draws = Array.from({ length: 2000 }, () => sampleNumeric(parzen, rng));
@@ -110,7 +110,7 @@ describe('the good / rest split and the density ratio', () => {
     const dimension: Dimension = { kind: 'numeric', name: 'x', min: 0, max: 1, log: false, integer: false };
     const points = [0.1, 0.15, 0.2, 0.6, 0.7, 0.8, 0.9, 0.95];
     const model = new TpeModel([dimension], points.map((x, trialId) => ({ trialId, point: [x], loss: x })), {
-      gamma: 0.25, candidates: 24, priorWeight: 1, bandwidth: 'neighbour-gap', candidateBandwidthFactor: 1,
+      gamma: 0.25, drawsPerProposal: 24, wideKernelWeight: 1, bandwidth: 'neighbour-gap', drawWidening: 1,
     });
     expect(model.score([0.12])).toBeGreaterThan(model.score([0.8]));
     expect(model.propose(stream(1, 'propose')).point[0]).toBeLessThan(0.4);

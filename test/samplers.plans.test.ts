@@ -33,7 +33,7 @@ type Definition = Pick<StudyDefinition, 'space' | 'budget' | 'sampler'>;
 /** The sampler kinds, plus asynchronous TPE (an option of the `tpe` kind). */
 const CASES: { name: string; sampler: Record<string, unknown> }[] = [
   ...SAMPLER_PLUGINS.map((plugin) => ({ name: plugin.kind, sampler: { kind: plugin.kind } })),
-  { name: 'tpe (asynchronous)', sampler: { kind: 'tpe', asynchronous: true, startupTrials: 4 } },
+  { name: 'tpe (asynchronous)', sampler: { kind: 'tpe', asynchronous: true, trialsBeforeModel: 4 } },
 ];
 
 /** Random budgets from a fixed seed. Common practice (no source): a seeded generator makes the property test repeatable. */

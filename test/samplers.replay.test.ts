@@ -38,8 +38,8 @@ describe.each([
   ['successive halving', { kind: 'successive-halving', seed: 3 }],
   ['hyperband', { kind: 'hyperband', seed: 3 }],
   ['sobol', { kind: 'sobol', seed: 3 }],
-  ['tpe', { kind: 'tpe', seed: 3, startupTrials: 4, batchSize: 3 }],
-  ['tpe-hyperband', { kind: 'tpe-hyperband', seed: 3, minResults: 2 }],
+  ['tpe', { kind: 'tpe', seed: 3, trialsBeforeModel: 4, batchSize: 3 }],
+  ['tpe-hyperband', { kind: 'tpe-hyperband', seed: 3, smallestGroup: 2 }],
 ])('replay of %s', (_name, sampler) => {
   const uninterrupted = simulate(createSampler(definition(sampler)), { workers: 3, loss, duration });
   const all = uninterrupted.jobs.map(key).sort();

@@ -26,7 +26,7 @@ function tpeOn(fn: TestFunction, trials: number, seed: number, options: object =
     maxEpochs: 1,
     design: designOf(fn),
     startupPoint: sobolDesign(fn.dimensions, 'shift', stream(seed, 'design')),
-    startupTrials: settings.startupTrials,
+    trialsBeforeModel: settings.trialsBeforeModel,
     batchSize: settings.batchSize,
     asynchronous: settings.asynchronous,
     model: settings,
@@ -74,7 +74,7 @@ describe.each([
 
 describe('TPE batches', () => {
   it('starts with the Sobol design, then waits until every result of the earlier batches is in', () => {
-    const sampler = tpeOn(BRANIN, 12, 1, { startupTrials: 4, batchSize: 2 });
+    const sampler = tpeOn(BRANIN, 12, 1, { trialsBeforeModel: 4, batchSize: 2 });
     const first = [0, 1, 2, 3].map(() => sampler.next() as Job);
     expect(first.map((job) => job.origin)).toEqual(Array(4).fill({ method: 'sobol', batch: 0 }));
     expect(first.map((job) => [job.rung, job.fromEpoch, job.toEpoch])).toEqual(Array(4).fill([0, 0, 1]));
@@ -92,7 +92,7 @@ describe('TPE batches', () => {
 
   it('gives the same trials whatever the worker count and arrival order', () => {
     const trialsOf = (workers: number) => {
-      const sampler = tpeOn(HARTMANN6, 40, 3, { startupTrials: 8, batchSize: 4 });
+      const sampler = tpeOn(HARTMANN6, 40, 3, { trialsBeforeModel: 8, batchSize: 4 });
       const { log } = runOnFunction(sampler, HARTMANN6, workers, unevenDuration);
       return { order: log.outcomes.map((o) => o.trialId), trials: log.jobs.map((job) => [job.trialId, job.origin, sampler.pointOf(job.trialId)]).sort((a, b) => (a[0] as number) - (b[0] as number)) };
     };
@@ -104,7 +104,7 @@ describe('TPE batches', () => {
 
   it('in asynchronous mode hands out a job whenever asked, so different worker counts may give different trials', () => {
     const pointsOf = (workers: number) => {
-      const sampler = tpeOn(HARTMANN6, 30, 3, { startupTrials: 8, asynchronous: true });
+      const sampler = tpeOn(HARTMANN6, 30, 3, { trialsBeforeModel: 8, asynchronous: true });
       const { log } = runOnFunction(sampler, HARTMANN6, workers, unevenDuration);
       expect(log.jobs).toHaveLength(30);
       return log.jobs.map((job) => sampler.pointOf(job.trialId));
@@ -128,7 +128,7 @@ describe('the tpe kind in a study', () => {
       batchSize: [32, 64],
     }),
     budget: budgetSchema.parse({ trials: 24, maxEpochs: 9 }),
-    sampler: samplerSchema.parse({ kind: 'tpe', seed: 4, startupTrials: 8, batchSize: 3 }),
+    sampler: samplerSchema.parse({ kind: 'tpe', seed: 4, trialsBeforeModel: 8, batchSize: 3 }),
   };
   const loss = (job: Job) => Math.abs(Math.log10(job.configuration.learningRate) + 2) + job.configuration.width / 256 + (job.configuration.activation === 'tanh' ? 0.3 : 0);
   const key = (job: Job) => JSON.stringify([job.trialId, job.rung, job.fromEpoch, job.toEpoch, job.configuration, job.origin]);

@@ -16,7 +16,7 @@ import type { TrialConfiguration } from '../src/core/configuration.js';
 import { studyFromObject } from '../src/study/load.js';
 import { initBackend } from '../src/trainers/tfjs/backend.js';
 import { trainSegment } from '../src/trainers/tfjs/loop.js';
-import { learningRateAt } from '../src/trainers/shared/schedule.js';
+import { learningRateAt } from '../src/core/schedule.js';
 import { writeIrisCsv } from './helpers/datasets.js';
 import { tinyStudy } from './helpers/studies.js';
 import { syntheticDataset, trainRequest } from './helpers/synthetic.js';

@@ -1,8 +1,9 @@
 import path from 'node:path';
 import { UserError } from '../core/errors.js';
-import { buildComparisonReport, comparisonCharts, comparisonTable, distinctNames } from '../plot/comparison.js';
-import { textTable } from '../report/format.js';
+import { compareDetailsText, comparedStudy, compareTableText, type ComparedStudy } from '../plot/compare-answers.js';
+import { buildComparisonReport, comparisonCharts, distinctNames } from '../plot/comparison.js';
 import { StudyStore, studyFilePath } from '../store/study-store.js';
+import type { Goal } from '../core/configuration.js';
 import { goalInWords } from '../core/ranking.js';
 import { renderCharts, writeReportFolder } from './plot.js';
 
@@ -13,12 +14,23 @@ export interface CompareOptions {
   out?: string;
 }
 
+/** The result of `compare`: the answers per study, the narrow table, the answers in full, the report's files. */
+export interface CompareResult {
+  goal: Goal;
+  studies: ComparedStudy[];
+  /** One row per answer, one column per study, a few words each. */
+  table: string;
+  /** Every answer in full, question by question (`--details`). */
+  details: string;
+  files: string[];
+}
+
 /**
  * `rungwise compare`: the report's questions answered side by side for several studies, as a
- * terminal table and as a report folder (charts and `comparison.html`... written as `report.html`).
+ * terminal table, as data and as a report folder (charts and `report.html`).
  * Reads only the study files. The studies must be ranked by the same goal.
  */
-export async function compare(options: CompareOptions): Promise<{ table: string; files: string[] }> {
+export async function compare(options: CompareOptions): Promise<CompareResult> {
   if (options.dirs.length < 2) throw new UserError('E_COMPARE_ARGS', `compare needs at least two run directories, got ${options.dirs.length}`);
   const studies = distinctNames(await Promise.all(options.dirs.map((dir) => StudyStore.read(dir))));
   const first = studies[0]!;
@@ -30,10 +42,10 @@ export async function compare(options: CompareOptions): Promise<{ table: string;
       );
     }
   });
-  const { charts, digests } = comparisonCharts(studies);
+  const { charts, digests, importances } = comparisonCharts(studies);
   const rendered = await renderCharts(charts);
   const out = path.resolve(options.out ?? path.join(options.dirs[0]!, 'comparison'));
   const files = await writeReportFolder(out, charts, rendered, buildComparisonReport(studies, digests, rendered));
-  const { header, rows } = comparisonTable(digests);
-  return { table: textTable(header, rows.map((row) => header.map((h) => row[h] ?? ''))), files };
+  const compared = studies.map((study, i) => comparedStudy(study, path.resolve(options.dirs[i]!), digests[i]!, importances[i]));
+  return { goal: first.goal, studies: compared, table: compareTableText(compared, first.goal), details: compareDetailsText(compared, first.goal), files };
 }

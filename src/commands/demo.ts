@@ -1,5 +1,5 @@
 import { existsSync } from 'node:fs';
-import { copyFile, mkdir } from 'node:fs/promises';
+import { copyFile, mkdir, readFile, writeFile } from 'node:fs/promises';
 import path from 'node:path';
 import { UserError } from '../core/errors.js';
 import { packageRoot } from '../files/package-files.js';
@@ -55,8 +55,19 @@ export async function copyDemo(dir: string): Promise<string[]> {
   const from = demoFolder();
   const files: string[] = [];
   for (const name of DEMO_FILES) {
-    await copyFile(path.join(from, name), path.join(target, name));
+    if (name === 'study.json') await writeFile(path.join(target, name), await definitionForFolder(path.join(from, name), target));
+    else await copyFile(path.join(from, name), path.join(target, name));
     files.push(path.join(target, name));
   }
   return files;
+}
+
+/**
+ * The demo definition's text with its `$schema` pointing from `folder` to the schema shipped in the
+ * package, so an editor still finds it in the copy (the shipped file's path is relative to `studies/demo`).
+ */
+async function definitionForFolder(file: string, folder: string): Promise<string> {
+  const text = await readFile(file, 'utf8');
+  const schema = path.relative(folder, path.join(packageRoot(), 'schema', 'study.schema.json')).split(path.sep).join('/');
+  return text.replace(/("\$schema"\s*:\s*)"[^"]*"/, (_whole, key: string) => `${key}${JSON.stringify(schema)}`);
 }

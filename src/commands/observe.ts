@@ -18,6 +18,8 @@ export interface ProgressTarget {
    * progress display: the CLI passes its `warning:` writer, so `--quiet` still shows them.
    */
   onDataWarning?: (message: string) => void;
+  /** Where warnings about how the study will run go (more worker threads than cores); the CLI passes its `warning:` writer. */
+  onWarning?: (message: string) => void;
 }
 
 /** The data observer a study command hands `prepareData`: the data progress display, or only the warnings. */

@@ -1,8 +1,10 @@
 import type { FaultInjector } from '../transports/threads/transport.js';
+import type { WriteStepHook } from '../store/file-adapter.js';
 import path from 'node:path';
 import { resumeStudy, type ResumeOutcome } from '../runner/resume-study.js';
 import { StudyStore } from '../store/study-store.js';
 import { dataObserver, studyObserver, type ProgressTarget } from './observe.js';
+import { oversubscriptionWarning } from './oversubscription.js';
 import { queueRun, settleQueued, type QueueFlags } from './queue.js';
 
 export interface ResumeCommandOptions extends ProgressTarget, QueueFlags {
@@ -23,6 +25,8 @@ export interface ResumeCommandOptions extends ProgressTarget, QueueFlags {
   clock?: () => number;
   /** Test-only: faults to inject into trials (see `runner/faults.ts`). @default none */
   faults?: FaultInjector;
+  /** Test-only: called at each step of every study-file write (see `runner/faults.ts`). @default none */
+  onWriteStep?: WriteStepHook;
 }
 
 /**
@@ -31,6 +35,9 @@ export interface ResumeCommandOptions extends ProgressTarget, QueueFlags {
  */
 export async function resume(options: ResumeCommandOptions): Promise<ResumeOutcome> {
   const saved = await StudyStore.read(options.dir);
+  const workers = options.workers ?? saved.definition.workers;
+  const crowded = options.queue === undefined && workers !== undefined ? oversubscriptionWarning(workers) : undefined;
+  if (crowded) options.onWarning?.(crowded);
   const onEvent = studyObserver(options, saved.definition, saved.goal);
   const onDataEvent = dataObserver(options);
   const dir = path.resolve(options.dir);
@@ -42,6 +49,7 @@ export async function resume(options: ResumeCommandOptions): Promise<ResumeOutco
     ...(options.allowChangedData ? { allowChangedData: true } : {}),
     ...(onEvent ? { onEvent } : {}),
     ...(options.faults ? { faults: options.faults } : {}),
+    ...(options.onWriteStep ? { onWriteStep: options.onWriteStep } : {}),
     ...(onDataEvent ? { onDataEvent } : {}),
     ...(options.minutes !== undefined ? { minutes: options.minutes } : {}),
     ...(options.cutAtLimit ? { cutAtLimit: true } : {}),

@@ -1,9 +1,11 @@
 import type { FaultInjector } from '../transports/threads/transport.js';
+import type { WriteStepHook } from '../store/file-adapter.js';
 import path from 'node:path';
 import { runStudy, type StudyOutcome } from '../runner/run-study.js';
 import { resolveGoal, type StudyDefinitionInput } from '../study/definition.js';
 import { loadStudy, studyFromObject } from '../study/load.js';
 import { dataObserver, studyObserver, type ProgressTarget } from './observe.js';
+import { oversubscriptionWarning } from './oversubscription.js';
 import { queueRun, settleQueued, type QueueFlags } from './queue.js';
 
 export interface RunCommandOptions extends ProgressTarget, QueueFlags {
@@ -29,6 +31,8 @@ export interface RunCommandOptions extends ProgressTarget, QueueFlags {
   clock?: () => number;
   /** Test-only: faults to inject into trials (see `runner/faults.ts`). @default none */
   faults?: FaultInjector;
+  /** Test-only: called at each step of every study-file write (see `runner/faults.ts`). @default none */
+  onWriteStep?: WriteStepHook;
 }
 
 /**
@@ -51,6 +55,9 @@ export async function run(options: RunCommandOptions): Promise<StudyOutcome> {
       ? await loadStudy(options.definition)
       : studyFromObject(options.definition, path.resolve(options.baseDir ?? '.'));
   const goal = resolveGoal(study.definition);
+  const workers = options.workers ?? study.definition.workers;
+  const crowded = options.queue === undefined && workers !== undefined ? oversubscriptionWarning(workers) : undefined;
+  if (crowded) options.onWarning?.(crowded);
   const onEvent = studyObserver(options, study.definition, goal);
   const onDataEvent = dataObserver(options);
   const dir = path.resolve(options.out ?? path.join('runs', study.definition.name));
@@ -63,6 +70,7 @@ export async function run(options: RunCommandOptions): Promise<StudyOutcome> {
     ...(queue.transport ? { transport: queue.transport } : {}),
     ...(onEvent ? { onEvent } : {}),
     ...(options.faults ? { faults: options.faults } : {}),
+    ...(options.onWriteStep ? { onWriteStep: options.onWriteStep } : {}),
     ...(onDataEvent ? { onDataEvent } : {}),
     ...(options.minutes !== undefined ? { minutes: options.minutes } : {}),
     ...(options.cutAtLimit ? { cutAtLimit: true } : {}),

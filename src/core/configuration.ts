@@ -30,7 +30,7 @@ export interface TrialConfiguration {
   optimizer: OptimizerName;
   l2: number;
   dropout: number;
-  /** Present only when the space has a `schedule` (src/trainers/shared/schedule.ts); absent: constant. */
+  /** Present only when the space has a `schedule` (src/core/schedule.ts); absent: constant. */
   schedule?: ScheduleKind;
   /** Warm-up epochs (present with `schedule`). */
   warmupEpochs?: number;

@@ -17,25 +17,11 @@
  *
  * An epoch without a finite score (e.g. AUC with one class) is never an improvement.
  */
-import { z } from 'zod';
 import { LOWER_IS_BETTER, type Goal } from './configuration.js';
 import { beats } from './configuration.js';
 
-export const earlyStoppingSchema = z
-  .discriminatedUnion('rule', [
-    z.strictObject({
-      rule: z.literal('patience').describe('Stop when the goal has not improved for `patience` epochs.'),
-      patience: z.int().min(1).describe('Epochs without an improvement after which the trial stops.'),
-      minDelta: z.number().min(0).default(0).describe('Smallest change of the goal that counts as an improvement (default 0: any).'),
-    }),
-    z.strictObject({
-      rule: z.literal('generalisation-loss').describe('Prechelt (1998): stop after the first epoch with GL = 100 (E / E_opt - 1) > alpha, E the goal as an error.'),
-      alpha: z.number().gt(0).describe('Generalisation loss in percent above which the trial stops.'),
-    }),
-  ])
-  .describe('Stop a trial inside its job when the goal stops improving; the trial is scored, ranked and exported at its best epoch. Absent: every trial trains the epochs its sampler gives it.');
-
-export type EarlyStoppingRule = z.output<typeof earlyStoppingSchema>;
+/** The rule a study names in `earlyStopping` (the study file's schema is `earlyStoppingSchema` in `study/definition.ts`). */
+export type EarlyStoppingRule = { rule: 'patience'; patience: number; minDelta: number } | { rule: 'generalisation-loss'; alpha: number };
 
 /** What the rule carries from epoch to epoch (and in checkpoints). */
 export interface EarlyStoppingState {

@@ -8,7 +8,7 @@ import { UserError } from '../core/errors.js';
 import type { SharedDataset } from '../core/job.js';
 import type { TrialRecord } from '../core/trial.js';
 import { initBackend } from '../trainers/tfjs/backend.js';
-import { hasSchedule } from '../trainers/shared/schedule.js';
+import { hasSchedule } from '../core/schedule.js';
 import { checkpointWeights, type NamedWeights } from '../checkpoints/format.js';
 import { releaseDatasets } from '../trainers/tfjs/data-cache.js';
 import { runTrainRequest } from '../trainers/run-request.js';

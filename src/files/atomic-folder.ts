@@ -2,7 +2,8 @@ import { existsSync } from 'node:fs';
 import { mkdir, readdir, rename, rm } from 'node:fs/promises';
 import path from 'node:path';
 import { threadId } from 'node:worker_threads';
-import { UserError } from '../core/errors.js';
+import { outputFolderError, UserError } from '../core/errors.js';
+import { writeFailure } from './write-cause.js';
 
 /**
  * Fills a folder through `fill(partial)` in a sibling temporary folder, then renames it to `target`,
@@ -25,10 +26,14 @@ export async function writeFolderAtomically<T>(
       throw new UserError('E_OUT_TAKEN', `${target}: is a non-empty folder that does not hold an earlier ${kind}; choose another --out or remove it`);
     }
   }
-  await mkdir(path.dirname(resolved), { recursive: true });
   const partial = `${resolved}.partial-${process.pid}-${threadId}`;
-  await rm(partial, { recursive: true, force: true });
-  await mkdir(partial);
+  try {
+    await mkdir(path.dirname(resolved), { recursive: true });
+    await rm(partial, { recursive: true, force: true });
+    await mkdir(partial);
+  } catch (error) {
+    throw outputFolderError(await writeFailure(error, partial), target) ?? error;
+  }
   let result: T;
   try {
     result = await fill(partial);

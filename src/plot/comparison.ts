@@ -1,5 +1,5 @@
 import type { StudyDocument } from '../store/types.js';
-import { studyImportance } from './analysis/study-importance.js';
+import { studyImportance, type StudyImportance } from './analysis/study-importance.js';
 import type { Chart } from './charts/chart.js';
 import { budgetChart } from './charts/budget.js';
 import { learningCurvesChart } from './charts/curves.js';
@@ -40,7 +40,7 @@ export function distinctNames(studies: readonly StudyDocument[]): StudyDocument[
 }
 
 /** Charts of a comparison: shared ones (compute, rung shares, importance) and each study's own (rungs, curves). */
-export function comparisonCharts(studies: readonly StudyDocument[]): { charts: Chart[]; digests: StudyDigest[] } {
+export function comparisonCharts(studies: readonly StudyDocument[]): { charts: Chart[]; digests: StudyDigest[]; importances: (StudyImportance | undefined)[] } {
   const importances = studies.map((s) => studyImportance(s));
   const own = (make: (study: StudyDocument, i: number) => Chart | null, prefix: string): Chart[] =>
     studies.flatMap((study, i) => {
@@ -54,7 +54,7 @@ export function comparisonCharts(studies: readonly StudyDocument[]): { charts: C
     importanceChart(studies, importances),
     ...own((study, i) => learningCurvesChart(study, i, `learning-curves-${i + 1}`), 'learning-curves'),
   ].filter((c): c is Chart => c !== null);
-  return { charts, digests: studies.map((s, i) => studyDigest(s, importances[i])) };
+  return { charts, digests: studies.map((s, i) => studyDigest(s, importances[i])), importances };
 }
 
 /** Which question a comparison chart answers, by its name's stem. */

@@ -65,7 +65,7 @@ export function parameterAxes(study: StudyDocument): ParameterAxis[] {
   ];
 }
 
-/** The learning-rate schedule's settings, when the space has a schedule (src/trainers/shared/schedule.ts). */
+/** The learning-rate schedule's settings, when the space has a schedule (src/core/schedule.ts). */
 function scheduleAxes(study: StudyDocument): ParameterAxis[] {
   const schedule = study.definition.space.schedule;
   if (!schedule) return [];

@@ -1,4 +1,4 @@
-import { scheduleInWords } from '../trainers/shared/schedule.js';
+import { scheduleInWords } from '../core/schedule.js';
 import { formatNumber } from '../report/format.js';
 import type { StudyDocument } from '../store/types.js';
 import type { TrialRecord } from '../core/trial.js';

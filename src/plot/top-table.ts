@@ -1,4 +1,4 @@
-import { scheduleInWords } from '../trainers/shared/schedule.js';
+import { scheduleInWords } from '../core/schedule.js';
 import { formatNumber } from '../report/format.js';
 import { scoreText } from '../report/ranking-table.js';
 import type { StudyDocument } from '../store/types.js';

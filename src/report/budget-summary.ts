@@ -6,7 +6,7 @@
 import type { JobRecord } from '../core/trial.js';
 import type { StudyDocument } from '../store/types.js';
 import { plannedWork } from './budget.js';
-import { formatDuration } from './format.js';
+import { formatDuration, formatNumber } from './format.js';
 
 /** Below this utilisation the summary says why it is low. Common practice (no source). */
 const LOW_UTILISATION = 0.7;
@@ -38,7 +38,8 @@ export function budgetSummary(doc: StudyDocument): BudgetSummary {
     rungs: plan.rungs > 1 ? rungShares(jobs) : [],
     lowUtilisation: [],
   };
-  summary.lowUtilisation = lowUtilisationReasons(summary, plan.rungs > 1 && doc.definition.sampler.kind !== 'async-halving');
+  // Synchronous rungs wait for their last job; an asynchronous plan (a limit) does not wait.
+  summary.lowUtilisation = lowUtilisationReasons(summary, plan.rungs > 1 && !plan.limit);
   return summary;
 }
 
@@ -73,9 +74,9 @@ function lowUtilisationReasons(summary: BudgetSummary, waitsAtRungs: boolean): s
   return reasons;
 }
 
-/** Two significant digits: a noisy ratio shows no more than it knows. */
-export function twoDigits(value: number): string {
-  return value === 0 ? '0' : String(Number(value.toPrecision(2)));
+/** A share as the summary prints it: two significant digits (0.012, 0.10, 1.0), 0 as 0: a noisy ratio shows no more than it knows. */
+export function twoSignificantDigits(value: number): string {
+  return value === 0 || !Number.isFinite(value) ? formatNumber(value) : value.toPrecision(2);
 }
 
 function percent(part: number, whole: number): string {
@@ -91,7 +92,7 @@ export function budgetSummaryText(summary: BudgetSummary): string {
   ];
   if (session) {
     lines.push(
-      `time: ${formatDuration(session.wallSeconds)} on ${session.workers} worker${session.workers === 1 ? '' : 's'}: ${formatDuration(session.trainingSeconds)} training, ${formatDuration(session.waitingSeconds)} waiting (worker utilisation ${twoDigits(session.utilisation)})`,
+      `time: ${formatDuration(session.wallSeconds)} on ${session.workers} worker${session.workers === 1 ? '' : 's'}: ${formatDuration(session.trainingSeconds)} training, ${formatDuration(session.waitingSeconds)} waiting (worker utilisation ${twoSignificantDigits(session.utilisation)})`,
     );
   }
   if (summary.rungs.length > 0) lines.push(`epochs by rung: ${summary.rungs.map((r) => `rung ${r.rung} ${r.epochs} (${Math.round(100 * r.share)} %)`).join(', ')}`);

@@ -19,64 +19,79 @@ const STEPS: Record<Extract<DataEvent, { type: 'preparing' }>['step'], string> =
  * Small files on a non-terminal stream show only the notes, so scripted runs stay quiet.
  */
 export function dataProgressObserver(options: DataProgressOptions): DataObserver {
-  const { stream } = options;
-  const isTerminal = 'isTTY' in stream && stream.isTTY === true;
-  const largeFileBytes = options.largeFileBytes ?? 16 * 2 ** 20;
-  const redraw = options.redrawMilliseconds ?? 100;
-  let large = false;
-  let live = false;
-  let lastDraw = 0;
-  let quarter = 0;
-  let preparingShown = false;
+  const display = new DataProgressDisplay(options);
+  return (event) => display.show(event);
+}
 
-  const draw = (text: string, force = false): void => {
-    const now = Date.now();
-    if (!force && now - lastDraw < redraw) return;
-    lastDraw = now;
-    stream.write(`\r\u001b[2K${text}`);
-    live = true;
-  };
-  const endLive = (): void => {
-    if (live) stream.write('\r\u001b[2K');
-    live = false;
-  };
+/** The state of the data-loading display: whether the file is large and what the live line shows. */
+class DataProgressDisplay {
+  private readonly stream: NodeJS.WritableStream;
+  private readonly isTerminal: boolean;
+  private readonly largeFileBytes: number;
+  private readonly redraw: number;
+  private large = false;
+  private live = false;
+  private lastDraw = 0;
+  private quarter = 0;
+  private preparingShown = false;
 
-  return (event) => {
+  constructor(options: DataProgressOptions) {
+    this.stream = options.stream;
+    this.isTerminal = 'isTTY' in options.stream && options.stream.isTTY === true;
+    this.largeFileBytes = options.largeFileBytes ?? 16 * 2 ** 20;
+    this.redraw = options.redrawMilliseconds ?? 100;
+  }
+
+  show(event: DataEvent): void {
     switch (event.type) {
-      case 'reading': {
-        large = event.totalBytes >= largeFileBytes;
-        const percent = event.totalBytes > 0 ? Math.floor((100 * event.bytesRead) / event.totalBytes) : 100;
-        const text = `reading ${event.file}: ${percent}% (${megabytes(event.bytesRead)} of ${megabytes(event.totalBytes)} MB)`;
-        if (isTerminal) draw(text, event.bytesRead === event.totalBytes);
-        else if (large && Math.floor(percent / 25) > quarter) {
-          quarter = Math.floor(percent / 25);
-          stream.write(`${text}\n`);
-        }
-        break;
-      }
-      case 'preparing': {
-        const text = `preparing ${event.file}: ${STEPS[event.step]}${event.total > 1 ? ` ${event.done + 1}/${event.total}` : ''}`;
-        if (isTerminal) draw(text);
-        else if (large && !preparingShown) {
-          preparingShown = true;
-          stream.write(`preparing ${event.file}: typing columns, splitting, encoding\n`);
-        }
-        break;
-      }
+      case 'reading':
+        return this.reading(event);
+      case 'preparing':
+        return this.preparing(event);
       case 'note':
-        endLive();
-        stream.write(`note: ${event.message}\n`);
-        break;
       case 'warning':
-        endLive();
-        stream.write(`warning: ${event.message}\n`);
-        break;
+        this.endLive();
+        this.stream.write(`${event.type}: ${event.message}\n`);
+        return;
       case 'ready':
-        endLive();
-        if (isTerminal || large) stream.write(`data ready: ${event.rows.toLocaleString('en-US')} rows x ${event.columns} columns of ${event.file} in ${event.seconds.toFixed(1)} s\n`);
-        break;
+        this.endLive();
+        if (this.isTerminal || this.large) this.stream.write(`data ready: ${event.rows.toLocaleString('en-US')} rows x ${event.columns} columns of ${event.file} in ${event.seconds.toFixed(1)} s\n`);
+        return;
       default:
-        break;
+        return;
     }
-  };
+  }
+
+  private reading(event: Extract<DataEvent, { type: 'reading' }>): void {
+    this.large = event.totalBytes >= this.largeFileBytes;
+    const percent = event.totalBytes > 0 ? Math.floor((100 * event.bytesRead) / event.totalBytes) : 100;
+    const text = `reading ${event.file}: ${percent}% (${megabytes(event.bytesRead)} of ${megabytes(event.totalBytes)} MB)`;
+    if (this.isTerminal) this.draw(text, event.bytesRead === event.totalBytes);
+    else if (this.large && Math.floor(percent / 25) > this.quarter) {
+      this.quarter = Math.floor(percent / 25);
+      this.stream.write(`${text}\n`);
+    }
+  }
+
+  private preparing(event: Extract<DataEvent, { type: 'preparing' }>): void {
+    const text = `preparing ${event.file}: ${STEPS[event.step]}${event.total > 1 ? ` ${event.done + 1}/${event.total}` : ''}`;
+    if (this.isTerminal) this.draw(text);
+    else if (this.large && !this.preparingShown) {
+      this.preparingShown = true;
+      this.stream.write(`preparing ${event.file}: typing columns, splitting, encoding\n`);
+    }
+  }
+
+  private draw(text: string, force = false): void {
+    const now = Date.now();
+    if (!force && now - this.lastDraw < this.redraw) return;
+    this.lastDraw = now;
+    this.stream.write(`\r\u001b[2K${text}`);
+    this.live = true;
+  }
+
+  private endLive(): void {
+    if (this.live) this.stream.write('\r\u001b[2K');
+    this.live = false;
+  }
 }

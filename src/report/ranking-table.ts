@@ -1,6 +1,6 @@
 import type { Goal } from '../core/configuration.js';
 import type { RankedTrial } from '../core/ranking.js';
-import { scheduleInWords } from '../trainers/shared/schedule.js';
+import { scheduleInWords } from '../core/schedule.js';
 import { formatNumber, textTable } from './format.js';
 
 /** A score as the ranking shows it: with folds, the fold mean ± its standard error. */

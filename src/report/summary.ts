@@ -4,6 +4,8 @@ import { OPTIMISM_CAUTION } from './caution.js';
 import { budgetSummary, budgetSummaryText } from './budget-summary.js';
 import { stateText } from './progress.js';
 
+/** A share as the summary prints it: two significant digits (0.012, 0.10, 1.0), 0 as 0. */
+export { twoSignificantDigits } from './budget-summary.js';
 
 /** The closing lines of a run: trials by status, totals, the study file's path and the caution. */
 export function studySummary(doc: StudyDocument, file = ''): string {

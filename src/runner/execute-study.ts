@@ -1,8 +1,9 @@
+import type { WriteStepHook } from '../store/file-adapter.js';
 import { availableParallelism } from 'node:os';
 import { FolderCheckpointStore } from '../checkpoints/folder-store.js';
 import type { CheckpointStore } from '../checkpoints/store.js';
 import { datasetId } from '../data/dataset-id.js';
-import { hasSchedule } from '../trainers/shared/schedule.js';
+import { hasSchedule } from '../core/schedule.js';
 import { toSharedDataset } from '../data/index.js';
 import type { PreparedData } from '../data/types.js';
 import { studyStoppedError } from '../core/errors.js';
@@ -49,6 +50,8 @@ export interface ExecuteOptions {
   checkpoints?: CheckpointStore;
   /** Test-only: faults the default transport injects into trials (see `runner/faults.ts`). @default none */
   faults?: FaultInjector;
+  /** Test-only: called at each step of every study-file write (see `runner/faults.ts`). @default none */
+  onWriteStep?: WriteStepHook;
   /** Worker entry point of the default transport (tests and benchmarks use fixture workers). */
   workerFile?: string;
   /** Seconds running jobs may take to finish after an interrupt. @default {@link GRACE_SECONDS} */
@@ -107,9 +110,9 @@ function defaultTransport(options: ExecuteOptions): (context: TransportContext) 
  * or permission stops the study with a one-line error (exit code 1) naming the path, the cause and the
  * resume command; every trial saved before it is kept and no trial is marked failed for it.
  */
-export async function executeStudy(store: StudyStore, data: PreparedData, options: ExecuteOptions = {}): Promise<StudyOutcome> {
+export async function executeStudy(store: StudyStore, data: PreparedData, options: ExecuteOptions = {}, notes: readonly string[] = []): Promise<StudyOutcome> {
   try {
-    return await drive(store, data, options);
+    return await drive(store, data, options, notes);
   } catch (error) {
     throw studyStoppedError(error, store.dir) ?? error;
   }
@@ -155,13 +158,13 @@ interface Session {
  * the study stopped run again, from their checkpoint when it stands where they started, else from
  * epoch 0 (training is deterministic, so the result is the same).
  */
-async function drive(store: StudyStore, data: PreparedData, options: ExecuteOptions): Promise<StudyOutcome> {
+async function drive(store: StudyStore, data: PreparedData, options: ExecuteOptions, resumeNotes: readonly string[]): Promise<StudyOutcome> {
   const session = await openSession(store, data, options);
   const resumed = store.doc.trials.length > 0;
   const started = session.stop.elapsedMs;
   store.doc.state = 'running';
   await store.save();
-  announceStart(session, resumed);
+  announceStart(session, resumed, resumeNotes);
   const inner = (options.transport ?? defaultTransport(options))({ workers: session.workers });
   // k-fold: every job runs once per fold on the inner transport; the run loop sees one job and the fold mean.
   const transport = data.folds ? new FoldsTransport(inner, foldDatasets(data)) : inner;
@@ -219,10 +222,10 @@ function noteOnce(emit: StudyObserver): (message: string, key?: string) => void 
   };
 }
 
-function announceStart(session: Session, resumed: boolean): void {
+function announceStart(session: Session, resumed: boolean, resumeNotes: readonly string[]): void {
   const { store, emit, workers, planned, lifecycle, note } = session;
   emit({ type: 'study-started', name: store.doc.name, dir: store.dir, workers, plannedTrials: planned.trials, plannedEpochs: planned.epochs, resumed, progress: lifecycle.progress() });
-  for (const message of store.notes) note(message);
+  for (const message of [...store.notes, ...resumeNotes]) note(message);
 }
 
 /** Hand out jobs up to the transport's capacity until the sampler is done or the study stops, then wait for the running ones. */

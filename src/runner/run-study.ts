@@ -5,6 +5,7 @@ import { dataHashes } from '../data/dataset-id.js';
 import { prepareData } from '../data/index.js';
 import type { DataLoadOptions } from '../data/events.js';
 import { UserError, studyStoppedError } from '../core/errors.js';
+import { writeFailure } from '../files/write-cause.js';
 import { checkCapacity } from '../study/capacity.js';
 import { resolveGoal } from '../study/definition.js';
 import { loadStudy, type LoadedStudy } from '../study/load.js';
@@ -38,9 +39,10 @@ export async function runStudy(study: string | LoadedStudy, options: RunOptions 
   const dir = path.resolve(options.out ?? path.join('runs', definition.name));
   const lock = await mkdir(dir, { recursive: true })
     .then(() => lockStudy(dir))
-    .catch((error: unknown) => {
-      throw studyStoppedError(error, dir) ?? error;
+    .catch(async (error: unknown) => {
+      throw studyStoppedError(await writeFailure(error, dir), dir, false) ?? error;
     });
+  let saved = false;
   try {
     if (existsSync(studyFilePath(dir))) {
       if (!options.force) {
@@ -65,10 +67,11 @@ export async function runStudy(study: string | LoadedStudy, options: RunOptions 
       updatedAt: now,
       trials: [],
       dataHashes: await dataHashes(path.resolve(path.dirname(file), definition.data.csv), data, csvSha256),
-    });
+    }, options.onWriteStep);
+    saved = true;
     return await executeStudy(store, data, options);
   } catch (error) {
-    throw studyStoppedError(error, dir) ?? error;
+    throw studyStoppedError(await writeFailure(error, dir), dir, saved) ?? error;
   } finally {
     // A vanished or read-only folder may refuse even this; the lock then goes stale and the next run takes it over.
     await lock.release().catch(() => undefined);

@@ -77,3 +77,26 @@ export function applyResult(record: TrialRecord, job: Job, result: TrainResult, 
   else delete record.scoreStandardError;
   record.rungScores[job.rung] = record.score;
 }
+
+/**
+ * A trial whose curve stops before the end of its last job (the curve log's last line was cut after
+ * the study file recorded the job) is put back as it was while that job ran, so the job runs again on
+ * resume, from its checkpoint or from epoch 0, with the same result. Returns the job's epochs, or
+ * undefined when the curve covers the trial, or when more than its last job was lost (its recorded
+ * score then stands).
+ */
+export function rewindUnrecordedJob(record: TrialRecord): { fromEpoch: number; toEpoch: number } | undefined {
+  const last = record.jobs.at(-1);
+  if (!last || (last.status !== 'done' && last.status !== 'diverged')) return undefined;
+  const recorded = record.curve.at(-1)?.epoch ?? 0;
+  const expected = record.status === 'diverged' ? record.epochsTrained : Math.max(record.epochsTrained, record.stoppedAtEpoch ?? 0);
+  if (recorded >= expected || recorded < last.fromEpoch) return undefined;
+  last.status = 'cut-off';
+  record.status = 'training';
+  record.epochsTrained = last.fromEpoch;
+  record.curve = record.curve.filter((point) => point.epoch <= last.fromEpoch);
+  record.rungScores = record.rungScores.slice(0, last.rung);
+  record.score = record.rungScores.at(-1) ?? null;
+  for (const key of ['stoppedEarly', 'stoppedAtEpoch', 'divergedAfterBest', 'divergence', 'scoreStandardError', 'endedAt'] as const) delete record[key];
+  return { fromEpoch: last.fromEpoch, toEpoch: last.toEpoch };
+}

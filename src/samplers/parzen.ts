@@ -27,7 +27,7 @@ export interface NumericParzen {
 
 export interface ParzenSettings {
   /** Weight of the prior kernel (or prior pseudo-count spread over the categories), against 1 per observation. */
-  priorWeight: number;
+  wideKernelWeight: number;
   bandwidth: BandwidthRule;
 }
 
@@ -84,15 +84,15 @@ export function bandwidths(points: readonly number[], rule: BandwidthRule, withP
 
 /** The Parzen estimator of observations `points` in [0, 1]: equal weights 1 / (n + w), the prior w / (n + w). */
 export function fitNumeric(points: readonly number[], settings: ParzenSettings): NumericParzen {
-  const withPrior = settings.priorWeight > 0;
+  const withPrior = settings.wideKernelWeight > 0;
   const means = [...points];
   const sigmas = bandwidths(points, settings.bandwidth, withPrior);
   if (withPrior) {
     means.push(PRIOR_MEAN);
     sigmas.push(PRIOR_SIGMA);
   }
-  const total = points.length + settings.priorWeight;
-  const weights = means.map((_, i) => (i < points.length ? 1 : settings.priorWeight) / total);
+  const total = points.length + settings.wideKernelWeight;
+  const weights = means.map((_, i) => (i < points.length ? 1 : settings.wideKernelWeight) / total);
   const masses = means.map((mean, i) => normalCdf((1 - mean) / sigmas[i]!) - normalCdf((0 - mean) / sigmas[i]!));
   return { means, sigmas, weights, masses };
 }
@@ -144,9 +144,9 @@ export function sampleNumeric(parzen: NumericParzen, rng: Rng, bandwidthFactor =
  * Category probabilities from observed choice indices: each observation counts 1, the prior adds w
  * spread evenly, p_k = (count_k + w / K) / (n + w) (the same weights as the numeric mixture).
  */
-export function fitCategorical(indices: readonly number[], choices: number, priorWeight: number): number[] {
-  const counts = new Array<number>(choices).fill(priorWeight / choices);
+export function fitCategorical(indices: readonly number[], choices: number, wideKernelWeight: number): number[] {
+  const counts = new Array<number>(choices).fill(wideKernelWeight / choices);
   for (const index of indices) counts[index]! += 1;
-  const total = indices.length + priorWeight;
+  const total = indices.length + wideKernelWeight;
   return counts.map((count) => count / total);
 }

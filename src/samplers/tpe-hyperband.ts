@@ -21,9 +21,9 @@ export interface TpeHyperbandOptions {
   design: UnitDesign;
   model: TpeModelSettings;
   /** Share of new configurations drawn at random whatever the model says. */
-  randomFraction: number;
-  /** N_min: a budget's model needs at least minResults + 2 results there, and each group has at least minResults. */
-  minResults: number;
+  randomShare: number;
+  /** N_min: a budget's model needs at least smallestGroup + 2 results there, and each group has at least smallestGroup. */
+  smallestGroup: number;
   /**
    * true: bracket k is fitted on brackets 0 .. k - 2 and may run beside bracket k - 1;
    * false: on brackets 0 .. k - 1, and starts when they have finished.
@@ -41,7 +41,7 @@ interface Proposal {
 /**
  * TPE inside Hyperband: Hyperband's brackets (see {@link HyperbandSampler}), and each new configuration
  * proposed by a TPE model fitted on the results at the largest budget (epochs) that has at least
- * minResults + 2 of them, or drawn at random with probability randomFraction or when no budget has
+ * smallestGroup + 2 of them, or drawn at random with probability randomShare or when no budget has
  * enough results. Promotions continue from checkpoints as in Hyperband.
  * Source: Falkner, Klein, Hutter, "BOHB: Robust and Efficient Hyperparameter Optimization at Scale",
  * ICML 2018, Algorithm 2 (N_min = d + 1, |D_b| >= N_min + 2, rho = 1/3; From memory). BOHB fits one
@@ -112,17 +112,17 @@ export class TpeHyperbandSampler implements Sampler {
   }
 
   private propose(trialId: number): Proposal {
-    const { design, model, randomFraction, minResults, stream, overlapBrackets } = this.options;
+    const { design, model, randomShare, smallestGroup, stream, overlapBrackets } = this.options;
     const bracketIndex = this.hyperband.bracketIndexOf(trialId);
     const randomDraw = stream('random', trialId);
     const random = (): Proposal => ({ point: snap(design.dimensions, design.dimensions.map(() => randomDraw())), origin: { method: 'random', batch: bracketIndex } });
-    if (randomDraw() < randomFraction) return random();
+    if (randomDraw() < randomShare) return random();
     const visibleBefore = bracketIndex - (overlapBrackets ? 1 : 0);
     const budgets = [...this.results.keys()].sort((a, b) => b - a);
     for (const epochs of budgets) {
       const observations = this.results.get(epochs)!.filter((o) => o.bracketIndex < visibleBefore);
-      if (observations.length < minResults + 2) continue;
-      const fitted = new TpeModel(design.dimensions, observations, { ...model, minimumGroup: minResults });
+      if (observations.length < smallestGroup + 2) continue;
+      const fitted = new TpeModel(design.dimensions, observations, { ...model, minimumGroup: smallestGroup });
       return { point: fitted.propose(stream('propose', trialId)).point, origin: { method: 'tpe', batch: bracketIndex, fittedOnEpochs: epochs } };
     }
     return random();
@@ -130,7 +130,7 @@ export class TpeHyperbandSampler implements Sampler {
 }
 
 /** Defaults of the `tpe-hyperband` kind's model options. Source: Falkner et al. 2018, section 4 / appendix (From memory). */
-const BOHB_MODEL_DEFAULTS = { gamma: 0.15, candidates: 64, bandwidth: 'scott', candidateBandwidthFactor: 3 } as const;
+const BOHB_MODEL_DEFAULTS = { gamma: 0.15, drawsPerProposal: 64, bandwidth: 'scott', drawWidening: 3 } as const;
 
 /** `sampler.kind: "tpe-hyperband"`: Hyperband's brackets with new configurations from a TPE model (BOHB). */
 export const tpeHyperbandPlugin = defineSampler({
@@ -140,8 +140,8 @@ export const tpeHyperbandPlugin = defineSampler({
     kind: z.literal('tpe-hyperband'),
     ...halvingFields,
     iterations: z.int().min(1).max(100).default(1).describe("Passes over Hyperband's brackets at most; budget.trials must fit in them."),
-    randomFraction: z.number().min(0).max(1).default(1 / 3).describe('Share of new configurations drawn at random.'),
-    minResults: z.int().min(1).optional().describe('N_min: results a budget needs (plus 2) before its model is used; default: dimensions + 1.'),
+    randomShare: z.number().min(0).max(1).default(1 / 3).describe('Share of new configurations drawn at random instead of from the model.'),
+    smallestGroup: z.int().min(1).optional().describe('Fewest results in each of the good and the bad group (N_min); a budget needs this many plus 2 results before its model proposes; default: dimensions + 1.'),
     overlapBrackets: z.boolean().default(true).describe('Let a bracket run beside the previous one (its model then skips that bracket).'),
     ...modelFields(BOHB_MODEL_DEFAULTS),
   }),
@@ -157,8 +157,8 @@ export const tpeHyperbandPlugin = defineSampler({
       trials: context.budget.trials,
       design,
       model: options,
-      randomFraction: options.randomFraction,
-      minResults: options.minResults ?? design.dimensions.length + 1,
+      randomShare: options.randomShare,
+      smallestGroup: options.smallestGroup ?? design.dimensions.length + 1,
       overlapBrackets: options.overlapBrackets,
       stream: (purpose, trialId) => context.stream(purpose, trialId),
     });

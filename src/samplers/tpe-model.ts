@@ -23,11 +23,11 @@ export interface TpeModelSettings {
   /** Share of observations in the good group (the quantile gamma). */
   gamma: number;
   /** Candidates drawn from l(x) per proposal. */
-  candidates: number;
-  priorWeight: number;
+  drawsPerProposal: number;
+  wideKernelWeight: number;
   bandwidth: BandwidthRule;
   /** Kernel widths are multiplied by this when drawing candidates (not when scoring them). */
-  candidateBandwidthFactor: number;
+  drawWidening: number;
   /** Least observations in each group; when there are fewer in all, the groups overlap. @default 1 */
   minimumGroup?: number;
 }
@@ -55,7 +55,7 @@ function fitDensities(dimensions: readonly Dimension[], observations: readonly O
     const coordinates = observations.map((o) => o.point[d]!);
     if (dimension.kind === 'categorical') {
       const k = dimension.choices.length;
-      return { kind: 'categorical', probabilities: fitCategorical(coordinates.map((u) => cellOf(u, k)), k, settings.priorWeight) };
+      return { kind: 'categorical', probabilities: fitCategorical(coordinates.map((u) => cellOf(u, k)), k, settings.wideKernelWeight) };
     }
     return { kind: 'numeric', parzen: fitNumeric(coordinates, settings) };
   });
@@ -96,13 +96,13 @@ export class TpeModel {
   }
 
   /**
-   * The candidate with the largest l(x) / g(x) among `settings.candidates` drawn from l(x) (ties: the
+   * The candidate with the largest l(x) / g(x) among `settings.drawsPerProposal` drawn from l(x) (ties: the
    * first drawn), moved to the centres of its integer and categorical cells.
    */
   propose(rng: Rng): { point: number[]; score: number } {
     let best: { point: number[]; score: number } | undefined;
-    for (let i = 0; i < this.settings.candidates; i++) {
-      const point = drawCandidate(this.good, rng, this.settings.candidateBandwidthFactor);
+    for (let i = 0; i < this.settings.drawsPerProposal; i++) {
+      const point = drawCandidate(this.good, rng, this.settings.drawWidening);
       const score = this.score(point);
       if (!best || score > best.score) best = { point, score };
     }
@@ -112,18 +112,18 @@ export class TpeModel {
 
 interface ModelDefaults {
   gamma: number;
-  candidates: number;
+  drawsPerProposal: number;
   bandwidth: BandwidthRule;
-  candidateBandwidthFactor: number;
+  drawWidening: number;
 }
 
 /** The model's options in a sampler's study-file schema, with the kind's own defaults. */
 export function modelFields(defaults: ModelDefaults) {
   return {
     gamma: z.number().gt(0).lt(1).default(defaults.gamma).describe('Share of finished trials that form the good group.'),
-    candidates: z.int().min(1).max(10000).default(defaults.candidates).describe('Candidates drawn from the good density per proposal.'),
-    priorWeight: z.number().gt(0).default(1).describe('Weight of the prior kernel against 1 per finished trial.'),
+    drawsPerProposal: z.int().min(1).max(10000).default(defaults.drawsPerProposal).describe('Configurations drawn from the good density for each proposal; the one the good group favours most over the bad is proposed.'),
+    wideKernelWeight: z.number().gt(0).default(1).describe('Weight of one wide kernel over the whole range (for a choice: counts spread evenly over its values) against 1 per finished trial.'),
     bandwidth: z.enum(BANDWIDTH_RULES).default(defaults.bandwidth).describe('Kernel width rule: neighbour-gap or scott.'),
-    candidateBandwidthFactor: z.number().min(1).default(defaults.candidateBandwidthFactor).describe('Kernel widths are multiplied by this when drawing candidates.'),
+    drawWidening: z.number().min(1).default(defaults.drawWidening).describe('Kernel widths are multiplied by this when drawing configurations to propose (not when scoring them).'),
   };
 }

@@ -14,9 +14,9 @@ export interface TpeSamplerOptions {
   /** Every trial trains from scratch to this many epochs in one job. */
   maxEpochs: number;
   design: UnitDesign;
-  /** The start-up design: the point of trial k < startupTrials (a Sobol design in the `tpe` kind). */
+  /** The start-up design: the point of trial k < trialsBeforeModel (a Sobol design in the `tpe` kind). */
   startupPoint: (trialId: number) => number[];
-  startupTrials: number;
+  trialsBeforeModel: number;
   /** Proposals per batch after the start-up batch. */
   batchSize: number;
   /** Propose whenever asked, with running trials as constant liars, instead of in batches. */
@@ -27,13 +27,13 @@ export interface TpeSamplerOptions {
 }
 
 /**
- * Tree-structured Parzen estimator search: each trial one job of maxEpochs. Trials 0 .. startupTrials - 1
+ * Tree-structured Parzen estimator search: each trial one job of maxEpochs. Trials 0 .. trialsBeforeModel - 1
  * (batch 0) come from the start-up design; then batches of batchSize proposals, each fitted on every
  * result of the earlier batches. A batch starts only when every earlier batch has reported ('wait'
  * until then), and within a batch proposal j also sees proposals 0 .. j - 1 as constant liars (loss
  * null: ranked worst), so the configurations do not depend on worker count or arrival order.
  * Asynchronous mode fits on whatever has reported when asked, with every running trial as a liar,
- * and keeps to the Sobol design until startupTrials results are in (so a few more than startupTrials
+ * and keeps to the Sobol design until trialsBeforeModel results are in (so a few more than trialsBeforeModel
  * may come from it): no worker waits, but the configurations depend on timing.
  * Source: Bergstra, Bardenet, Bengio, Kégl, NeurIPS 2011; constant liar: Ginsbourger, Le Riche, Carraro,
  * "Kriging is well-suited to parallelize optimization", 2010 (CL-max, the worst value; From memory).
@@ -47,14 +47,14 @@ export class TpeSampler implements Sampler {
   constructor(private readonly options: TpeSamplerOptions) {
     assertPositiveInteger('trials', options.trials);
     assertPositiveInteger('maxEpochs', options.maxEpochs);
-    assertPositiveInteger('startupTrials', options.startupTrials);
+    assertPositiveInteger('trialsBeforeModel', options.trialsBeforeModel);
     assertPositiveInteger('batchSize', options.batchSize);
   }
 
   /** Batch of a trial: 0 for the start-up design, then 1, 2, ... of batchSize trials each. */
   batchOf(trialId: number): number {
-    const { startupTrials, batchSize } = this.options;
-    return trialId < startupTrials ? 0 : 1 + Math.floor((trialId - startupTrials) / batchSize);
+    const { trialsBeforeModel, batchSize } = this.options;
+    return trialId < trialsBeforeModel ? 0 : 1 + Math.floor((trialId - trialsBeforeModel) / batchSize);
   }
 
   /** The unit-cube point trial `trialId` was given (snapped to its integer and categorical cells). */
@@ -96,7 +96,7 @@ export class TpeSampler implements Sampler {
   private proposeInBatch(trialId: number): { point: number[]; origin: ProposalOrigin } | 'wait' {
     const batch = this.batchOf(trialId);
     if (batch === 0) return { point: this.options.startupPoint(trialId), origin: { method: 'sobol', batch } };
-    const firstOfBatch = this.options.startupTrials + (batch - 1) * this.options.batchSize;
+    const firstOfBatch = this.options.trialsBeforeModel + (batch - 1) * this.options.batchSize;
     for (let id = 0; id < firstOfBatch; id++) if (!this.losses.has(id)) return 'wait';
     const observations: Observation[] = [];
     for (let id = 0; id < trialId; id++) {
@@ -107,7 +107,7 @@ export class TpeSampler implements Sampler {
   }
 
   private proposeNow(trialId: number): { point: number[]; origin: ProposalOrigin } {
-    if (this.losses.size < this.options.startupTrials) return { point: this.options.startupPoint(trialId), origin: { method: 'sobol' } };
+    if (this.losses.size < this.options.trialsBeforeModel) return { point: this.options.startupPoint(trialId), origin: { method: 'sobol' } };
     const observations: Observation[] = [];
     for (let id = 0; id < trialId; id++) {
       observations.push({ trialId: id, point: this.points[id]!, loss: this.losses.has(id) ? this.losses.get(id)! : null });
@@ -122,7 +122,7 @@ export class TpeSampler implements Sampler {
 }
 
 /** Defaults of the `tpe` kind's model options (sources in the README's sampler table). */
-const TPE_MODEL_DEFAULTS = { gamma: 0.25, candidates: 24, bandwidth: 'neighbour-gap', candidateBandwidthFactor: 1 } as const;
+const TPE_MODEL_DEFAULTS = { gamma: 0.25, drawsPerProposal: 24, bandwidth: 'neighbour-gap', drawWidening: 1 } as const;
 
 /** `sampler.kind: "tpe"`: every trial one job of maxEpochs; configurations from a Sobol start, then the tree-structured Parzen estimator. */
 export const tpePlugin = defineSampler({
@@ -131,7 +131,7 @@ export const tpePlugin = defineSampler({
   schema: z.strictObject({
     kind: z.literal('tpe'),
     seed: seedField.default(0),
-    startupTrials: z.int().min(2).default(10).describe('Trials from the Sobol design before the model proposes.'),
+    trialsBeforeModel: z.int().min(2).default(10).describe('Trials from the Sobol design before the model proposes.'),
     batchSize: z.int().min(1).default(4).describe('Proposals per batch, each batch fitted on the results of earlier ones; at least the number of workers keeps them all busy.'),
     asynchronous: z.boolean().default(false).describe('Propose whenever a worker is free, running trials counted as worst (constant liar); runs may then differ.'),
     ...modelFields(TPE_MODEL_DEFAULTS),
@@ -145,7 +145,7 @@ export const tpePlugin = defineSampler({
       maxEpochs: context.budget.maxEpochs,
       design,
       startupPoint: sobolDesign(design.dimensions, 'shift', context.stream('design')),
-      startupTrials: options.startupTrials,
+      trialsBeforeModel: options.trialsBeforeModel,
       batchSize: options.batchSize,
       asynchronous: options.asynchronous,
       model: options,

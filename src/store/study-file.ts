@@ -2,7 +2,7 @@ import { CURVE_LOG_NAME, runPaths } from './run-dir.js';
 import path from 'node:path';
 import type { Adapter } from 'lowdb';
 import { CurveLog, type CurveRecord } from './curve-log.js';
-import { DurableJsonFile } from './file-adapter.js';
+import { DurableJsonFile, type WriteStepHook } from './file-adapter.js';
 import type { CurvePoint, TrialRecord } from '../core/trial.js';
 import type { StudyDocument } from './types.js';
 
@@ -24,8 +24,11 @@ export class StudyFileAdapter implements Adapter<StudyDocument> {
   /** Last curve written per trial: a curve is appended again only when its array or last point changed. */
   private readonly written = new Map<number, { length: number; last: CurvePoint | undefined }>();
 
-  constructor(readonly file: string) {
-    this.document = new DurableJsonFile<StoredDocument>(file);
+  constructor(
+    readonly file: string,
+    onWriteStep?: WriteStepHook,
+  ) {
+    this.document = new DurableJsonFile<StoredDocument>(file, onWriteStep);
     this.curves = new CurveLog(runPaths.curveLog(path.dirname(file)));
   }
 
@@ -44,7 +47,7 @@ export class StudyFileAdapter implements Adapter<StudyDocument> {
       this.written.set(trial.id, { length: curve.length, last: curve.at(-1) });
       const expected = trial.status === 'diverged' ? trial.epochsTrained : trial.status === 'training' ? 0 : trial.epochsTrained;
       if (curve.length < expected) {
-        this.notes.push(`${this.curves.file}: trial ${trial.id} has ${curve.length} of its ${expected} epochs recorded (the rest of its curve was lost); its recorded score stands`);
+        this.notes.push(`${this.curves.file}: trial ${trial.id} has ${curve.length} of its ${expected} epochs recorded (the rest of its curve was lost); resume runs its last job again when only that job's epochs are missing`);
       }
       return { ...trial, curve };
     });

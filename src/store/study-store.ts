@@ -4,7 +4,10 @@ import { Low } from 'lowdb';
 import { UserError } from '../core/errors.js';
 import { READABLE_VERSIONS, migrateStudyDocument } from './migrate.js';
 import { STUDY_FILE_NAME, runPaths } from './run-dir.js';
+import type { WriteStepHook } from './file-adapter.js';
 import { StudyFileAdapter } from './study-file.js';
+import { checkFieldTypes } from './study-file-shape.js';
+import { renamedKeysNote, renameSamplerKeys } from '../study/renamed-keys.js';
 import type { StudyDocument } from './types.js';
 
 export { STUDY_FILE_NAME };
@@ -26,7 +29,15 @@ function checkShape(data: unknown, file: string): StudyDocument {
       `${file}: study file version ${String(version)} is not supported (this rungwise reads versions ${READABLE_VERSIONS.join(', ')})`,
     );
   }
-  return migrateStudyDocument({ ...doc, version });
+  return checkFieldTypes(migrateStudyDocument({ ...doc, version }), file);
+}
+
+/** A study file written before the sampler options were renamed, read with the new names (and a note). */
+function renameOldSamplerOptions(doc: StudyDocument, file: string): { doc: StudyDocument; notes: string[] } {
+  const { sampler, renamed } = renameSamplerKeys(doc.definition.sampler);
+  const note = renamedKeysNote(`${file}: definition`, renamed, 'the study file keeps the old names until resume saves it');
+  if (!note) return { doc, notes: [] };
+  return { doc: { ...doc, definition: { ...doc.definition, sampler: sampler as StudyDocument['definition']['sampler'] } }, notes: [note] };
 }
 
 /**
@@ -53,28 +64,29 @@ export class StudyStore {
   }
 
   /** Create the run directory and write a new study file. */
-  static async create(dir: string, doc: StudyDocument): Promise<StudyStore> {
+  static async create(dir: string, doc: StudyDocument, onWriteStep?: WriteStepHook): Promise<StudyStore> {
     await mkdir(dir, { recursive: true });
-    const db = new Low(new StudyFileAdapter(studyFilePath(dir)), doc);
+    const db = new Low(new StudyFileAdapter(studyFilePath(dir), onWriteStep), doc);
     await db.write();
     return new StudyStore(db, dir);
   }
 
   /** Open an existing study file; a missing, corrupted or foreign file is a {@link UserError}. */
-  static async open(dir: string): Promise<StudyStore> {
+  static async open(dir: string, onWriteStep?: WriteStepHook): Promise<StudyStore> {
     const file = studyFilePath(dir);
     const kind = await stat(dir).then(
       (found) => (found.isDirectory() ? 'folder' : 'file'),
       () => 'nothing',
     );
     if (kind === 'file') throw new UserError('E_STUDY_FILE', `${dir}: is a file, not a run directory; name the folder that holds study.json`);
-    const adapter = new StudyFileAdapter(file);
+    const adapter = new StudyFileAdapter(file, onWriteStep);
     const data = await adapter.read();
     if (data === null) {
       throw new UserError('E_STUDY_FILE', `${file}: no study file here; run \`rungwise run <study.json> --out ${dir}\` first`);
     }
-    const db = new Low(adapter, checkShape(data, file));
-    return new StudyStore(db, dir, adapter.notes);
+    const { doc, notes } = renameOldSamplerOptions(checkShape(data, file), file);
+    const db = new Low(adapter, doc);
+    return new StudyStore(db, dir, [...adapter.notes, ...notes]);
   }
 
   /** Read a study file without keeping it open for writing. */

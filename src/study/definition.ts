@@ -2,7 +2,7 @@ import { z } from 'zod';
 import { samplerSchema } from '../samplers/registry.js';
 import { budgetSchema } from '../core/budget.js';
 import { LOWER_IS_BETTER, METRICS, TASKS, type Goal, type MetricName } from '../core/configuration.js';
-import { earlyStoppingSchema } from '../core/early-stopping.js';
+import type { EarlyStoppingRule } from '../core/early-stopping.js';
 import { seedField as seed } from '../core/fields.js';
 import { spaceSchema } from '../space/schema.js';
 
@@ -64,6 +64,24 @@ export const decisionThresholdSchema = z
   .describe('Binary only: how the exported model\'s decision threshold is chosen on the validation rows; absent means 0.5.');
 
 export type DecisionThresholdRule = z.output<typeof decisionThresholdSchema>;
+
+export const earlyStoppingSchema = z
+  .discriminatedUnion('rule', [
+    z.strictObject({
+      rule: z.literal('patience').describe('Stop when the goal has not improved for `patience` epochs.'),
+      patience: z.int().min(1).describe('Epochs without an improvement after which the trial stops.'),
+      minDelta: z.number().min(0).default(0).describe('Smallest change of the goal that counts as an improvement (default 0: any).'),
+    }),
+    z.strictObject({
+      rule: z.literal('generalisation-loss').describe('Prechelt (1998): stop after the first epoch with GL = 100 (E / E_opt - 1) > alpha, E the goal as an error.'),
+      alpha: z.number().gt(0).describe('Generalisation loss in percent above which the trial stops.'),
+    }),
+  ])
+  .describe('Stop a trial inside its job when the goal stops improving; the trial is scored, ranked and exported at its best epoch. Absent: every trial trains the epochs its sampler gives it.');
+
+// The schema gives exactly the rule core/early-stopping.ts works with (checked when compiling).
+const sameRule: [z.output<typeof earlyStoppingSchema>, EarlyStoppingRule] extends [EarlyStoppingRule, z.output<typeof earlyStoppingSchema>] ? true : never = true;
+void sameRule;
 
 export const studySchema = z.strictObject({
   $schema: z.string().optional(),

@@ -8,6 +8,7 @@ import { samplerBudgetProblem } from '../samplers/index.js';
 import { utf16Kind } from '../text/encoding.js';
 import { formatIssue } from './issues.js';
 import { earlyStoppingProblem } from '../core/early-stopping.js';
+import { renamedKeysNote, renameSamplerKeys } from './renamed-keys.js';
 
 export interface LoadedStudy {
   definition: StudyDefinition;
@@ -23,12 +24,23 @@ const OLD_DIRECTIONS: Readonly<Record<string, StudyGoal['better']>> = { maximize
 type StudyGoal = NonNullable<StudyDefinition['goal']>;
 
 /**
- * Definitions written for format 2 name the goal `objective: { metric, direction }`. Such a definition
- * is read as `goal: { metric, better }` (direction "maximize" is better "higher", "minimize" "lower"),
- * with a note saying what to rename; the JSON Schema shows only the new names. A definition that has
- * both keys is left as it is, so validation names the old one as unknown.
+ * Old key names, read as the new ones with a note saying what to rename (the JSON Schema shows only
+ * the new names): the goal (below) and the sampler options of `renamed-keys.ts`.
  */
 function translateOldKeys(raw: unknown, file: string): { raw: unknown; notes: string[] } {
+  const goal = translateOldGoal(raw, file);
+  if (goal.raw === null || typeof goal.raw !== 'object' || Array.isArray(goal.raw) || !('sampler' in goal.raw)) return goal;
+  const { sampler, renamed } = renameSamplerKeys((goal.raw as { sampler: unknown }).sampler);
+  const note = renamedKeysNote(file, renamed);
+  return note ? { raw: { ...goal.raw, sampler }, notes: [...goal.notes, note] } : goal;
+}
+
+/**
+ * Definitions written for format 2 name the goal `objective: { metric, direction }`. Such a definition
+ * is read as `goal: { metric, better }` (direction "maximize" is better "higher", "minimize" "lower").
+ * A definition that has both keys is left as it is, so validation names the old one as unknown.
+ */
+function translateOldGoal(raw: unknown, file: string): { raw: unknown; notes: string[] } {
   if (raw === null || typeof raw !== 'object' || Array.isArray(raw) || !('objective' in raw) || 'goal' in raw) return { raw, notes: [] };
   const { objective, ...rest } = raw as Record<string, unknown>;
   let goal = objective;

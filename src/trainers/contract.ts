@@ -21,6 +21,9 @@ export interface TrainRequest extends TrainJob {
 /** One way of training a job. */
 export interface Trainer {
   readonly name: TrainerName;
-  /** Trains epochs `fromEpoch + 1 .. toEpoch`, continuing from `checkpoint` when `fromEpoch > 0`. */
+  /**
+   * Trains epochs `fromEpoch + 1 .. toEpoch`, continuing from `checkpoint` when `fromEpoch > 0`.
+   * One request at a time per thread (a worker thread runs one job at once).
+   */
   train(request: TrainRequest, onEpoch?: (report: EpochReport) => void): Promise<TrainResult>;
 }

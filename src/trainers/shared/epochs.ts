@@ -12,7 +12,7 @@ import { jobClassFigures } from '../../metrics/class-figures.js';
 import type { ClassFigures } from '../../core/class-figures.js';
 import { divergenceReason } from './divergence.js';
 import { computeMetrics } from '../../metrics/metrics.js';
-import { hasSchedule, learningRateAt } from './schedule.js';
+import { hasSchedule, learningRateAt } from '../../core/schedule.js';
 
 /** What a trainer does for one epoch: the mean training loss, then the validation loss and outputs. */
 export interface EpochSteps {

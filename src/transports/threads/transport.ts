@@ -1,5 +1,7 @@
 import { TrialPool } from './pool.js';
 import type { FaultKind } from './messages.js';
+
+export type { FaultKind };
 import type { TrialTransport } from '../transport.js';
 import type { EpochReport, SharedDataset, TrainJob, TrainResult } from '../../core/job.js';
 

@@ -15,7 +15,7 @@
  *   past the budget (t is clamped to T_i there).
  * The rate is set once per epoch (SGDR moves T_cur per batch; per epoch keeps both trainers simple).
  */
-import type { ScheduleKind, TrialConfiguration } from '../../core/configuration.js';
+import type { ScheduleKind, TrialConfiguration } from './configuration.js';
 
 /** What a schedule reads from a configuration (absent: the constant schedule without warm-up). */
 export type ScheduleSettings = Pick<TrialConfiguration, 'learningRate' | 'schedule' | 'gamma' | 'stepEpochs' | 'warmupEpochs' | 'minFactor'>;

@@ -1,4 +1,5 @@
-import type { FaultKind } from './messages.js';
+import type { FaultKind } from '../transports/threads/transport.js';
+import type { WriteStepHook } from '../store/file-adapter.js';
 
 /**
  * Test-only fault switches, injected through options (`ExecuteOptions.faults`, the CLI's `main(argv,
@@ -7,6 +8,25 @@ import type { FaultKind } from './messages.js';
  * on every attempt, trial 5 ends its thread on its first) and injects it.
  */
 export const FAULT_VARIABLE = 'RUNGWISE_FAULT';
+
+/**
+ * Test-only: `RUNGWISE_STORE_CRASH="after-link:3"` (read by the test entry point, never by `src/`) kills
+ * the process at that step of the third study-file write, to prove that a kill while a write is under
+ * way leaves a valid study file.
+ */
+export const STORE_CRASH_VARIABLE = 'RUNGWISE_STORE_CRASH';
+
+/** The write-step hook that kills the process at `<step>:<write>`; an unset or empty switch gives none. */
+export function storeCrash(value: string | undefined): WriteStepHook | undefined {
+  if (!value) return undefined;
+  const [step, write] = value.split(':');
+  if ((step !== 'after-unlink' && step !== 'after-link') || !/^\d+$/.test(write ?? '')) {
+    throw new Error(`${STORE_CRASH_VARIABLE}: cannot read '${value}'; expected <after-unlink|after-link>:<write number>`);
+  }
+  return (at, number) => {
+    if (at === step && number === Number(write)) process.kill(process.pid, 'SIGKILL');
+  };
+}
 
 export interface FaultPlan {
   /** The fault to inject into a trial's `attempt`-th run (1-based), if any. */

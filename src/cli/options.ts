@@ -1,0 +1,71 @@
+/** Flag parsers and flag groups that several commands share. */
+import { type Command, InvalidArgumentError } from 'commander';
+
+/** A flag value that must be a whole number from 0 up. */
+export function wholeNumber(value: string, name: string): number {
+  const parsed = Number(value);
+  if (!Number.isInteger(parsed) || parsed < 0) throw new InvalidArgumentError(`${name} must be a whole number from 0 up, got '${value}'`);
+  return parsed;
+}
+
+/** A flag value that must be a whole number from 1 up. */
+export function positiveInteger(value: string, name: string): number {
+  const parsed = Number(value);
+  if (!Number.isInteger(parsed) || parsed < 1) throw new InvalidArgumentError(`${name} must be a whole number from 1 up, got '${value}'`);
+  return parsed;
+}
+
+/** `--queue` and its companions, the same on `run` and `resume`. */
+export function queueOptions(command: Command): Command {
+  return command
+    .option('--queue <url>', 'serve the study over Redis to `rungwise worker` processes (redis://HOST:PORT/DB or rediss://)')
+    .option('--threads <n>', 'with --queue: local threads training beside the workers (default 0)', (v) => wholeNumber(v, '--threads'))
+    .option('--queue-wait-seconds <s>', 'with --queue: how long to wait for an unreachable Redis before saving and stopping (default 120)', (v) => positiveInteger(v, '--queue-wait-seconds'));
+}
+
+export interface QueueFlagValues {
+  queue?: string;
+  threads?: number;
+  queueWaitSeconds?: number;
+}
+
+/** The queue flags that were given, for the study commands. */
+export function queueFlags(flags: QueueFlagValues): QueueFlagValues {
+  return {
+    ...(flags.queue !== undefined ? { queue: flags.queue } : {}),
+    ...(flags.threads !== undefined ? { threads: flags.threads } : {}),
+    ...(flags.queueWaitSeconds !== undefined ? { queueWaitSeconds: flags.queueWaitSeconds } : {}),
+  };
+}
+
+/** `--minutes` and `--cut-at-limit`, the same on `run` and `resume`. */
+export function limitOptions(command: Command): Command {
+  return command
+    .option('--minutes <m>', "minutes this session may start jobs, fractions allowed (default: the study's budget.minutes, else no limit)", positiveMinutes)
+    .option('--cut-at-limit', 'at the time limit, cut running jobs off at their next epoch instead of letting them finish (they run again on resume)');
+}
+
+export interface LimitFlagValues {
+  minutes?: number;
+  cutAtLimit?: boolean;
+}
+
+/** The time-limit flags that were given, for the study commands. */
+export function limitFlags(flags: LimitFlagValues): LimitFlagValues {
+  return {
+    ...(flags.minutes !== undefined ? { minutes: flags.minutes } : {}),
+    ...(flags.cutAtLimit ? { cutAtLimit: true } : {}),
+  };
+}
+
+/** A flag value that must be a number of minutes above 0. */
+export function positiveMinutes(value: string): number {
+  const parsed = Number(value);
+  if (value.trim() === '' || !Number.isFinite(parsed) || parsed <= 0) throw new InvalidArgumentError(`--minutes must be a number of minutes above 0 (fractions allowed), got '${value}'`);
+  return parsed;
+}
+
+/** `--top <n>`. */
+export const topFlag = (value: string): number => positiveInteger(value, '--top');
+/** `--workers <n>`. */
+export const workersFlag = (value: string): number => positiveInteger(value, '--workers');

@@ -1,0 +1,54 @@
+/**
+ * Definitions and study files written with the sampler options' old names are read with the new
+ * names and one note line; a file with both an old and its new name is refused as before.
+ */
+import { readFile, writeFile } from 'node:fs/promises';
+import path from 'node:path';
+import { describe, expect, it } from 'vitest';
+import { createSampler } from '../src/samplers/index.js';
+import { runStudy } from '../src/runner/run-study.js';
+import { StudyStore, studyFilePath } from '../src/store/study-store.js';
+import { loadStudy } from '../src/study/load.js';
+import { runCli } from './helpers/cli.js';
+import { tinyStudy, writeTinyStudy } from './helpers/studies.js';
+
+const OLD_TPE = { kind: 'tpe', seed: 3, startupTrials: 4, candidates: 12, priorWeight: 2, candidateBandwidthFactor: 1.5, batchSize: 2 };
+
+describe('old sampler option names', () => {
+  it('a definition with them is read with the new names and one note naming each', async () => {
+    const file = await writeTinyStudy(tinyStudy({ sampler: OLD_TPE as never }));
+    const loaded = await loadStudy(file);
+    expect(loaded.definition.sampler).toMatchObject({ kind: 'tpe', trialsBeforeModel: 4, drawsPerProposal: 12, wideKernelWeight: 2, drawWidening: 1.5, batchSize: 2 });
+    expect(loaded.notes).toEqual([
+      `${file}: sampler: read the old option names "startupTrials" as "trialsBeforeModel", "candidates" as "drawsPerProposal", "priorWeight" as "wideKernelWeight", "candidateBandwidthFactor" as "drawWidening"; rename them in the definition`,
+    ]);
+    const bohb = await writeTinyStudy(tinyStudy({ sampler: { kind: 'tpe-hyperband', seed: 1, eta: 3, minEpochs: 1, randomFraction: 0.5, minResults: 3 } as never }));
+    expect((await loadStudy(bohb)).definition.sampler).toMatchObject({ randomShare: 0.5, smallestGroup: 3 });
+  });
+
+  it('a definition with an old name beside its new one is refused, naming the old one', async () => {
+    const file = await writeTinyStudy(tinyStudy({ sampler: { ...OLD_TPE, trialsBeforeModel: 4 } as never }));
+    const result = await runCli(['run', file, '--out', path.join(path.dirname(file), 'run')]);
+    expect(result.code).toBe(2);
+    expect(result.stderr).toContain('startupTrials');
+  });
+
+  it('a study file written with them opens with the new names and a note, and its sampler can be made again', async () => {
+    const file = await writeTinyStudy(tinyStudy({ sampler: { kind: 'tpe', seed: 3, trialsBeforeModel: 4, batchSize: 2 }, budget: { trials: 4, maxEpochs: 2 }, workers: 1 }));
+    const out = path.join(path.dirname(file), 'run');
+    await runStudy(file, { out });
+    // The study file as an earlier rungwise wrote it: the old name in the recorded definition.
+    const studyFile = studyFilePath(out);
+    const text = await readFile(studyFile, 'utf8');
+    await writeFile(studyFile, text.replace('"trialsBeforeModel":4', '"startupTrials":4'));
+    const store = await StudyStore.open(out);
+    expect(store.doc.definition.sampler).toMatchObject({ kind: 'tpe', trialsBeforeModel: 4 });
+    expect(store.doc.definition.sampler).not.toHaveProperty('startupTrials');
+    expect(store.notes).toEqual([
+      `${studyFile}: definition: sampler: read the old option name "startupTrials" as "trialsBeforeModel"; the study file keeps the old names until resume saves it`,
+    ]);
+    expect(() => createSampler(store.doc.definition)).not.toThrow();
+    // Reading never writes: the file keeps its old name until a resume saves it.
+    expect(await readFile(studyFile, 'utf8')).toContain('"startupTrials":4');
+  });
+});
