@@ -8,7 +8,7 @@ import { readFile, rm } from 'node:fs/promises';
 import { availableParallelism } from 'node:os';
 import path from 'node:path';
 import { runStudy } from '../src/runner/run-study.js';
-import { plannedTrialCount } from '../src/samplers/index.js';
+import { configurationsPerPass } from '../src/samplers/hyperband.js';
 import type { SamplerKind, StudyDefinitionInput } from '../src/study/definition.js';
 import type { TrialRecord } from '../src/core/trial.js';
 import type { BenchOptions } from './index.js';
@@ -75,9 +75,10 @@ export async function budgetGroup(options: BenchOptions): Promise<GroupResult> {
         goal: { metric: 'accuracy', better: 'higher' },
         workers,
       });
-      const hyperbandCount = plannedTrialCount({ budget: { trials: 1, maxEpochs }, sampler: { kind: 'hyperband', seed: 5, eta: 3, minEpochs: 1 } });
+      // One whole pass of Hyperband's brackets (budget.trials now cuts or repeats them).
+      const hyperbandCount = configurationsPerPass(maxEpochs, 3, 1);
       const randomCount = Math.max(configurations, hyperbandCount);
-      for (const [kind, trials] of [['random', randomCount], ['successive-halving', configurations], ['hyperband', 1]] as const) {
+      for (const [kind, trials] of [['random', randomCount], ['successive-halving', configurations], ['hyperband', hyperbandCount]] as const) {
         const file = await writeDefinition(dir, definitionFor(kind, trials), `${kind}.json`);
         const started = performance.now();
         const outcome = await runStudy(file, { out: path.join(dir, `run-${kind}`), workers });

@@ -12,6 +12,7 @@ import { memoryGroup } from './memory.js';
 import { modelGroup } from './model.js';
 import { overheadGroup } from './overhead.js';
 import { paceGroup } from './pace.js';
+import { plansGroup } from './plans.js';
 import { poolGroup } from './pool.js';
 import { queueGroup } from './queue.js';
 import { reportRenderGroup } from './report-render.js';
@@ -35,6 +36,7 @@ const GROUPS: Record<string, (options: BenchOptions) => Promise<GroupResult>> = 
   memory: memoryGroup,
   scheduling: schedulingGroup,
   budget: budgetGroup,
+  plans: plansGroup,
   'early-stopping': earlyStoppingGroup,
   model: modelGroup,
   startup: startupGroup,

@@ -33,7 +33,7 @@ describe('the run summary', () => {
     expect(twoSignificantDigits(0.1042)).toBe('0.10');
     expect(twoSignificantDigits(1)).toBe('1.0');
     expect(twoSignificantDigits(0)).toBe('0');
-    const figure = /worker utilisation (\S+) on/.exec(ran.stdout)?.[1];
+    const figure = /worker utilisation ([\d.]+)/.exec(ran.stdout)?.[1];
     expect(figure).toBeDefined();
     expect(figure!.replace(/^[0.]+/, '').replace('.', '')).toHaveLength(2);
   });

@@ -41,7 +41,9 @@ describe('rungwise run and ranking', () => {
     // Progress (one line per ended job when not a terminal) goes to stderr, the result to stdout.
     expect(result.stderr).toMatch(/^running study iris-cli on 2 workers: 3 jobs, 12 epochs planned/);
     expect(result.stderr.match(/^\[\d\/3 jobs, \d+\/12 epochs\] trial \d done/gm)).toHaveLength(3);
-    expect(result.stdout).not.toMatch(/jobs|planned/);
+    expect(result.stdout).not.toMatch(/^\[\d+\/\d+ jobs|^running study/m);
+    // The budget's account closes the result.
+    expect(result.stdout).toMatch(/^work: 3 of 3 jobs planned, 12 of 12 epochs \(100 %\), 3 of 3 configurations$/m);
     expect(result.stdout).toMatch(/rank\s+trial\s+rung\s+epochs\s+accuracy/);
     expect(result.stdout).toContain(`study file: ${path.join(out, 'study.json')}`);
     expect(result.stdout).toContain('validation score of a configuration picked from many is optimistic');

@@ -68,18 +68,18 @@ describe('planned work of each sampler', () => {
     // Source: Li et al., "Hyperband", JMLR 18(185), 2018, Algorithm 1: the (n_i, r_i) of brackets s = 4 .. 0
     // (81,1)(27,3)(9,9)(3,27)(1,81); (34,3)(11,9)(3,27)(1,81); (15,9)(5,27)(1,81); (8,27)(2,81); (5,81).
     // Jobs: 121 + 49 + 21 + 10 + 5. Epochs, each round adding r_i - r_(i-1): 297 + 276 + 279 + 324 + 405 (derived).
-    const plan = plannedWork({ budget: { trials: 1, maxEpochs: 81 }, sampler: { kind: 'hyperband', seed: 1, eta: 3, minEpochs: 1 } } as never);
-    // 143 configurations in all (Li et al. 2018, derived from Algorithm 1; shared/REFERENCES.md).
-    expect(plan).toEqual({ trials: 143, jobs: 206, epochs: 1581, rungs: 5, brackets: 5, estimate: false });
+    // Configurations: 81 + 34 + 15 + 8 + 5 = 143, so budget.trials 143 is one whole pass.
+    const plan = plannedWork({ budget: { trials: 143, maxEpochs: 81 }, sampler: { kind: 'hyperband', seed: 1, eta: 3, minEpochs: 1 } } as never);
+    expect(plan).toEqual({ trials: 143, jobs: 206, epochs: 1581, rungs: 5, brackets: 5, limit: false });
   });
 
-  it('successive halving of 9 configurations, eta 3, 1 to 9 epochs: 9 + 3 + 1 jobs, 9 + 3*2 + 1*6 epochs (asynchronous halving the same, as an estimate); random search: trials x maxEpochs', () => {
+  it('successive halving of 9 configurations, eta 3, 1 to 9 epochs: 9 + 3 + 1 jobs, 9 + 3*2 + 1*6 epochs (asynchronous halving the same, as a hard limit); random search: trials x maxEpochs', () => {
     // Source: Jamieson, Talwalkar, AISTATS 2016, as restated in Li et al., JMLR 2018 (keep floor(n / eta) per rung).
-    expect(halving).toEqual({ trials: 9, jobs: 13, epochs: 21, rungs: 3, brackets: 1, estimate: false });
+    expect(halving).toEqual({ trials: 9, jobs: 13, epochs: 21, rungs: 3, brackets: 1, limit: false });
     expect(plannedWork({ budget: { trials: 4, maxEpochs: 5 }, sampler: { kind: 'random', seed: 1 } } as never)).toMatchObject({ jobs: 4, epochs: 20 });
-    const tpeHyperband = plannedWork({ budget: { trials: 1, maxEpochs: 81 }, sampler: { kind: 'tpe-hyperband', seed: 1, eta: 3, minEpochs: 1 } } as never);
+    const tpeHyperband = plannedWork({ budget: { trials: 143, maxEpochs: 81 }, sampler: { kind: 'tpe-hyperband', seed: 1, eta: 3, minEpochs: 1, iterations: 1 } } as never);
     expect(tpeHyperband).toMatchObject({ jobs: 206, rungs: 5, brackets: 5 });
-    expect(plannedWork({ budget: { trials: 9, maxEpochs: 9 }, sampler: { kind: 'async-halving', seed: 1, eta: 3, minEpochs: 1 } } as never)).toMatchObject({ jobs: 13, epochs: 21, estimate: true });
+    expect(plannedWork({ budget: { trials: 9, maxEpochs: 9 }, sampler: { kind: 'async-halving', seed: 1, eta: 3, minEpochs: 1 } } as never)).toMatchObject({ jobs: 13, epochs: 21, limit: true });
   });
 });
 
@@ -152,8 +152,9 @@ describe('progress on a terminal', () => {
     counted.jobs = 1;
     counted.epochs = 1;
     view.observe({ type: 'trial-finished', trial: t0, job: job(0, 0, 0, 1), best: t0, finishedTrials: 0, progress: progressOf(1, 1) });
-    // 1 epoch in 5 s, 20 epochs to go: 100 s.
-    expect(view.lines.at(-1)).toMatch(/01:40 left|~01:40/);
+    // The epoch took 1 worker-second (the other 4 s before it were start-up, not training); 20 epochs to
+    // go at that pace on the 1 worker the study kept busy: 20 s.
+    expect(view.lines.at(-1)).toMatch(/00:20 left|~00:20/);
     for (let id = 1; id < 9; id++) playJob(view.observe, job(id, 0, 0, 1), record(id, [0.5]), t0, view.clock);
     playJob(view.observe, job(0, 1, 1, 3), record(0, [0.1234, 0.98765]), record(0, [0.1234, 0.98765]), view.clock);
     for (const line of view.lines) expect(line.length, line).toBeLessThanOrEqual(59);

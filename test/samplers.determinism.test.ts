@@ -72,9 +72,10 @@ describe('createSampler', () => {
     expect(first(1)).not.toEqual(first(2));
   });
 
-  it('counts Hyperband configurations from its own plan, ignoring budget.trials', () => {
-    // maxEpochs 27, eta 3: brackets of 27, 12, 6 and 4 configurations (derived from Algorithm 1).
-    expect(plannedTrialCount(definition({ kind: 'hyperband' }, 5))).toBe(27 + 12 + 6 + 4);
+  it('starts budget.trials Hyperband configurations: brackets cut below one pass, repeated above it', () => {
+    // maxEpochs 27, eta 3: brackets of 27, 12, 6 and 4 configurations (derived from Algorithm 1), 49 a pass.
+    expect(plannedTrialCount(definition({ kind: 'hyperband' }, 5))).toBe(5);
+    expect(plannedTrialCount(definition({ kind: 'hyperband' }, 60))).toBe(60);
   });
 
   it('rejects a first rung longer than maxEpochs with a one-line user error naming both fields', () => {

@@ -65,7 +65,8 @@ describe('successive halving on real training', () => {
 
 describe('Hyperband and asynchronous halving on real training', () => {
   it('Hyperband gives the same trials and ranking with 1 and with 2 workers', async () => {
-    const definition = tinyStudy({ budget: { trials: 1, maxEpochs: 4 }, sampler: { kind: 'hyperband', seed: 2, eta: 2, minEpochs: 1 } });
+    // maxEpochs 4, eta 2: brackets of 4, 3 and 3 configurations, so 10 is one whole pass.
+    const definition = tinyStudy({ budget: { trials: 10, maxEpochs: 4 }, sampler: { kind: 'hyperband', seed: 2, eta: 2, minEpochs: 1 } });
     const one = await runWith(definition, 1);
     const two = await runWith(definition, 2);
     expect(resultOf(two)).toEqual(resultOf(one));

@@ -21,7 +21,7 @@ const transport = (capacity: number) => () => new ClosedFormTransport({ evaluate
 
 const definitions: [string, StudyDefinitionInput][] = [
   ['tpe', tinyStudy({ budget: { trials: 14, maxEpochs: 3 }, sampler: { kind: 'tpe', seed: 4, trialsBeforeModel: 6, batchSize: 2 }, goal: { metric: 'validationLoss' } })],
-  ['tpe-hyperband', tinyStudy({ budget: { trials: 1, maxEpochs: 9 }, sampler: { kind: 'tpe-hyperband', seed: 4, iterations: 2, smallestGroup: 2 }, goal: { metric: 'validationLoss' } })],
+  ['tpe-hyperband', tinyStudy({ budget: { trials: 34, maxEpochs: 9 }, sampler: { kind: 'tpe-hyperband', seed: 4, iterations: 2, smallestGroup: 2 }, goal: { metric: 'validationLoss' } })],
 ];
 
 const trialsOf = (doc: StudyDocument) =>

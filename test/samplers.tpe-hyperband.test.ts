@@ -98,7 +98,7 @@ describe('tpe-hyperband determinism', () => {
   it('in a study, resumed from recorded outcomes at any point, runs the same jobs as an uninterrupted run', () => {
     const definition = {
       space: spaceSchema.parse({ depth: { min: 1, max: 3 }, width: { min: 8, max: 64 }, activation: ['relu', 'tanh'], learningRate: { min: 1e-4, max: 1e-1 } }),
-      budget: budgetSchema.parse({ trials: 1, maxEpochs: 9 }),
+      budget: budgetSchema.parse({ trials: 34, maxEpochs: 9 }),
       sampler: samplerSchema.parse({ kind: 'tpe-hyperband', seed: 3, iterations: 2, smallestGroup: 2 }),
     };
     const loss = (job: Job) => Math.abs(Math.log10(job.configuration.learningRate) + 2) + job.configuration.width / (100 * job.toEpoch);

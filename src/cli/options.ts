@@ -47,6 +47,33 @@ export function queueFlags(flags: QueueFlagValues): QueueFlagValues {
   };
 }
 
+/** `--minutes` and `--cut-at-limit`, the same on `run` and `resume`. */
+export function limitOptions(command: Command): Command {
+  return command
+    .option('--minutes <m>', "minutes this session may start jobs, fractions allowed (default: the study's budget.minutes, else no limit)", positiveMinutes)
+    .option('--cut-at-limit', 'at the time limit, cut running jobs off at their next epoch instead of letting them finish (they run again on resume)');
+}
+
+export interface LimitFlagValues {
+  minutes?: number;
+  cutAtLimit?: boolean;
+}
+
+/** The time-limit flags that were given, for the study commands. */
+export function limitFlags(flags: LimitFlagValues): LimitFlagValues {
+  return {
+    ...(flags.minutes !== undefined ? { minutes: flags.minutes } : {}),
+    ...(flags.cutAtLimit ? { cutAtLimit: true } : {}),
+  };
+}
+
+/** A flag value that must be a number of minutes above 0. */
+export function positiveMinutes(value: string): number {
+  const parsed = Number(value);
+  if (value.trim() === '' || !Number.isFinite(parsed) || parsed <= 0) throw new InvalidArgumentError(`--minutes must be a number of minutes above 0 (fractions allowed), got '${value}'`);
+  return parsed;
+}
+
 /** `--top <n>`. */
 export const topFlag = (value: string): number => positiveInteger(value, '--top');
 /** `--workers <n>`. */

@@ -22,6 +22,7 @@ export async function untilInterrupted<T extends { dir: string; doc: { state: st
       io.warn(`study interrupted; continue it with: rungwise resume ${outcome.dir}`);
       process.exitCode = 130;
     }
+    if (outcome.doc.state === 'time-limit') io.note(`study stopped by its time limit; continue it with: rungwise resume ${outcome.dir} --minutes <m>`);
     return outcome;
   } finally {
     interrupt.dispose();

@@ -17,6 +17,12 @@ export interface ResumeCommandOptions extends ProgressTarget, QueueFlags {
   signal?: AbortSignal;
   /** Where notes of the queue go. @default process.stderr */
   stderr?: NodeJS.WritableStream;
+  /** Minutes this session may start jobs (fractions allowed). @default the study's `budget.minutes`, else no limit */
+  minutes?: number;
+  /** At the time limit, cut running jobs off instead of letting them finish. @default false */
+  cutAtLimit?: boolean;
+  /** Milliseconds clock the time limit is read from. @default Date.now */
+  clock?: () => number;
   /** Test-only: faults to inject into trials (see `runner/faults.ts`). @default none */
   faults?: FaultInjector;
   /** Test-only: called at each step of every study-file write (see `runner/faults.ts`). @default none */
@@ -45,5 +51,8 @@ export async function resume(options: ResumeCommandOptions): Promise<ResumeOutco
     ...(options.faults ? { faults: options.faults } : {}),
     ...(options.onWriteStep ? { onWriteStep: options.onWriteStep } : {}),
     ...(onDataEvent ? { onDataEvent } : {}),
+    ...(options.minutes !== undefined ? { minutes: options.minutes } : {}),
+    ...(options.cutAtLimit ? { cutAtLimit: true } : {}),
+    ...(options.clock ? { clock: options.clock } : {}),
   }));
 }

@@ -7,6 +7,7 @@ import { trialClassReport, type ClassReport } from './class-report.js';
 import { rankingTable } from './ranking-table.js';
 import { OPTIMISM_CAUTION } from './caution.js';
 import { studySummary } from './summary.js';
+import { budgetSummary, type BudgetSummary } from './budget-summary.js';
 
 /** Rows of the text table when `--top` is not given. */
 export const DEFAULT_TABLE_ROWS = 10;
@@ -51,6 +52,8 @@ export interface StudyResultJson {
   goal: Goal;
   counts: Partial<Record<TrialStatus, number>>;
   totals: StudyDocument['totals'] | null;
+  /** Work planned against work done, time training against waiting, epochs by rung (null before the study ran). */
+  budget: BudgetSummary | null;
   /** Trials in the study, and how many `trials` holds (fewer only with `--top`). */
   trialCount: number;
   shown: number;
@@ -115,6 +118,7 @@ export function studyResultJson(doc: StudyDocument, ranking: readonly RankedTria
     goal: doc.goal,
     counts,
     totals: doc.totals ?? null,
+    budget: doc.totals ? budgetSummary(doc) : null,
     trialCount: doc.trials.length,
     shown: trials.length,
     trials,

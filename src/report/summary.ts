@@ -4,23 +4,19 @@ import { OPTIMISM_CAUTION } from './caution.js';
 import { formatDuration, formatNumber } from './format.js';
 import { healthSummary } from './health-summary.js';
 import { baselineLine, linearBaselineWarning } from './baseline-text.js';
+import { budgetSummary, budgetSummaryText } from './budget-summary.js';
+import { stateText } from './progress.js';
 
 /** A share as the summary prints it: two significant digits (0.012, 0.10, 1.0), 0 as 0. */
-export function twoSignificantDigits(value: number): string {
-  return value === 0 || !Number.isFinite(value) ? formatNumber(value) : value.toPrecision(2);
-}
+export { twoSignificantDigits } from './budget-summary.js';
 
 /** The closing lines of a run: trials by status, totals, the study file's path and the caution. */
 export function studySummary(doc: StudyDocument, file = ''): string {
   const counts = new Map<string, number>();
   for (const trial of doc.trials) counts.set(trial.status, (counts.get(trial.status) ?? 0) + 1);
   const byStatus = [...counts].map(([status, n]) => `${n} ${status}`).join(', ');
-  const lines = [`study ${doc.name} ${doc.state}: ${doc.trials.length} trials (${byStatus || 'none'})`];
-  if (doc.totals) {
-    lines.push(
-      `epochs trained ${doc.totals.epochsTrained}; wall time ${formatDuration(doc.totals.wallSeconds)}; worker utilisation ${twoSignificantDigits(doc.totals.workerUtilisation)} on ${doc.totals.workers} worker(s)`,
-    );
-  }
+  const lines = [`study ${doc.name} ${stateText(doc.state)}: ${doc.trials.length} trials (${byStatus || 'none'})`];
+  if (doc.totals) lines.push(budgetSummaryText(budgetSummary(doc)));
   if (file) lines.push(`study file: ${file}`);
   const baseline = baselineLine(doc);
   if (baseline) lines.push(baseline);

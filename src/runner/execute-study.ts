@@ -1,4 +1,3 @@
-import { setMaxListeners } from 'node:events';
 import type { WriteStepHook } from '../store/file-adapter.js';
 import { availableParallelism } from 'node:os';
 import { FolderCheckpointStore } from '../checkpoints/folder-store.js';
@@ -9,7 +8,8 @@ import { toSharedDataset } from '../data/index.js';
 import type { PreparedData } from '../data/types.js';
 import { studyStoppedError } from '../core/errors.js';
 import { createSampler, plannedBudget, replay } from '../samplers/index.js';
-import type { Job, JobOutcome } from '../samplers/sampler.js';
+import type { Job, JobOutcome, Sampler } from '../samplers/sampler.js';
+import type { SamplerPlan } from '../samplers/plan.js';
 import type { Goal } from '../core/configuration.js';
 import { leaderOf, orientedLoss, rankTrials, type RankedTrial } from '../core/ranking.js';
 import { studyBaselines } from './baselines.js';
@@ -19,11 +19,12 @@ import type { TrialRecord } from '../core/trial.js';
 import { ThreadTransport, type FaultInjector } from '../transports/threads/transport.js';
 import { FoldsTransport } from '../transports/folds.js';
 import type { TrialTransport } from '../transports/transport.js';
-import type { SharedDataset } from '../core/job.js';
+import type { SharedDataset, TrainJob, TrainResult } from '../core/job.js';
 import { CheckpointKeeper } from './checkpoint-keeper.js';
-import type { StudyObserver } from './events.js';
+import type { StudyObserver, StudyProgress } from './events.js';
 import { TrialLifecycle, type JobFailure } from './lifecycle.js';
 import { BatchedPersistence } from './persistence.js';
+import { StopControl, type Clock } from './stop-control.js';
 
 /** After an interrupt, running jobs get this long to finish before they are cut off. */
 export const GRACE_SECONDS = 10;
@@ -56,6 +57,15 @@ export interface ExecuteOptions {
   workerFile?: string;
   /** Seconds running jobs may take to finish after an interrupt. @default {@link GRACE_SECONDS} */
   graceSeconds?: number;
+  /**
+   * Minutes this session may start jobs (fractions allowed); then no job starts, running jobs finish
+   * and the study is saved as stopped by its time limit (`resume` goes on). @default the study's `budget.minutes`, else none
+   */
+  minutes?: number;
+  /** At the time limit, cut running jobs off at their next epoch (they run again on resume) instead of letting them finish. @default false */
+  cutAtLimit?: boolean;
+  /** Milliseconds clock the time limit is read from (tests move it instead of waiting). @default Date.now */
+  clock?: Clock;
 }
 
 export interface StudyOutcome {
@@ -111,175 +121,275 @@ export async function executeStudy(store: StudyStore, data: PreparedData, option
   }
 }
 
+/** A settled job waiting to be saved and announced, with the study's progress at the moment it settled. */
+interface Announced {
+  record: TrialRecord;
+  job: Job;
+  progress: StudyProgress;
+}
+
+/** What one session of a study (a `run` or a `resume`) works with, built once by {@link openSession}. */
+interface Session {
+  store: StudyStore;
+  options: ExecuteOptions;
+  definition: StudyDocument['definition'];
+  workers: number;
+  emit: StudyObserver;
+  /** Say something once per `key` (the message itself unless given). */
+  note: (message: string, key?: string) => void;
+  sampler: Sampler;
+  planned: SamplerPlan;
+  /** Jobs that were running when the study last stopped: they start first. */
+  queue: Job[];
+  lifecycle: TrialLifecycle;
+  keeper: CheckpointKeeper;
+  persistence: BatchedPersistence<Announced>;
+  dataset: SharedDataset;
+  stop: StopControl;
+  /** Running jobs by trial id. */
+  running: Map<number, Promise<void>>;
+  /** Worker-seconds of the jobs that brought a result. */
+  busySeconds: number;
+  /** Jobs that brought a result in this session, and the epochs trained before it began. */
+  jobsEnded: number;
+  epochsAtStart: number;
+}
+
 /**
- * Drive a study until its sampler is done or the signal aborts. Trials already in the store (a
- * resumed study) are replayed into a fresh sampler first; jobs that were running when the study
- * stopped run again, from their checkpoint when it stands where they started, else from epoch 0
- * (training is deterministic, so the result is the same).
+ * Drive a study until its sampler is done, the signal aborts or its time limit passes. Trials already
+ * in the store (a resumed study) are replayed into a fresh sampler first; jobs that were running when
+ * the study stopped run again, from their checkpoint when it stands where they started, else from
+ * epoch 0 (training is deterministic, so the result is the same).
  */
 async function drive(store: StudyStore, data: PreparedData, options: ExecuteOptions, resumeNotes: readonly string[]): Promise<StudyOutcome> {
-  const doc = store.doc;
-  const { definition, goal } = doc;
-  const resumed = doc.trials.length > 0;
-  const workers = options.workers ?? definition.workers ?? availableParallelism();
+  const session = await openSession(store, data, options);
+  const resumed = store.doc.trials.length > 0;
+  const started = session.stop.elapsedMs;
+  store.doc.state = 'running';
+  await store.save();
+  announceStart(session, resumed, resumeNotes);
+  const inner = (options.transport ?? defaultTransport(options))({ workers: session.workers });
+  // k-fold: every job runs once per fold on the inner transport; the run loop sees one job and the fold mean.
+  const transport = data.folds ? new FoldsTransport(inner, foldDatasets(data)) : inner;
+  try {
+    await transport.addDataset(session.dataset);
+    await dispatch(session, transport);
+    await session.persistence.flush();
+  } finally {
+    session.stop.dispose();
+    await transport.close();
+  }
+  return finish(session, (session.stop.elapsedMs - started) / 1000);
+}
+
+/** The sampler (with the recorded outcomes replayed), the trial lifecycle, checkpoints, saving and stopping. */
+async function openSession(store: StudyStore, data: PreparedData, options: ExecuteOptions): Promise<Session> {
+  const { definition, goal, trials } = store.doc;
   const emit = options.onEvent ?? (() => undefined);
   const sampler = createSampler(definition);
   const planned = plannedBudget(definition);
-  const history = new Map(doc.trials.map((t) => [t.id, t.configuration]));
-  const queue = replay(sampler, recordedOutcomes(doc.trials, goal), history).pending;
-  const lifecycle = new TrialLifecycle(doc, sampler, planned);
+  const queue = replay(sampler, recordedOutcomes(trials, goal), new Map(trials.map((t) => [t.id, t.configuration]))).pending;
+  const lifecycle = new TrialLifecycle(store.doc, sampler, planned);
   const keeper = new CheckpointKeeper(options.checkpoints ?? new FolderCheckpointStore(store.dir));
-  const persistence = new BatchedPersistence<{ record: TrialRecord; job: Job }>(
-    store,
-    keeper,
-    sampler,
-    (items, ranking) => {
-      const progress = lifecycle.progress();
-      for (const { record, job } of items) {
-        emit({ type: 'trial-finished', trial: record, job, best: leaderOf(ranking.map((r) => r.trial), goal), finishedTrials: progress.endedTrials, progress });
-      }
-    },
-    [...(await keeper.list()), ...doc.trials.map((t) => t.id)],
-  );
+  const persistence = new BatchedPersistence<Announced>(store, keeper, sampler, announcer(emit, goal), [...(await keeper.list()), ...trials.map((t) => t.id)]);
+  const minutes = options.minutes ?? definition.budget.minutes;
+  const stop = new StopControl({
+    ...(options.signal ? { signal: options.signal } : {}),
+    graceSeconds: options.graceSeconds ?? GRACE_SECONDS,
+    ...(minutes !== undefined ? { minutes } : {}),
+    cutAtLimit: options.cutAtLimit ?? false,
+    clock: options.clock ?? Date.now,
+    onStop: (reason) => emit({ type: 'stopping', reason: reason === 'interrupted' ? 'interrupted' : `time limit of ${minutes} minute${minutes === 1 ? '' : 's'}` }),
+  });
+  const workers = options.workers ?? definition.workers ?? availableParallelism();
   const dataset = toSharedDataset(data, datasetId(data));
   // Before the first trial, so every trial is checked against them (a study from before baselines gets them on resume).
-  doc.baselines ??= await studyBaselines(data, data.folds ? foldDatasets(data) : [dataset], goal, definition.budget.maxEpochs, definition.sampler.seed);
-  const notes = new Set<string>();
-  /** Say something once per `key` (the message itself unless given). */
-  const note = (message: string, key = message): void => {
-    if (notes.has(key)) return;
-    notes.add(key);
+  store.doc.baselines ??= await studyBaselines(data, data.folds ? foldDatasets(data) : [dataset], goal, definition.budget.maxEpochs, definition.sampler.seed);
+  return { store, options, definition, workers, emit, note: noteOnce(emit), sampler, planned, queue, lifecycle, keeper, persistence, dataset, stop, running: new Map(), busySeconds: 0, jobsEnded: 0, epochsAtStart: lifecycle.progress().epochsDone };
+}
+
+/** After each save: one `trial-finished` event per saved job, with the ranking's leader at that moment. */
+function announcer(emit: StudyObserver, goal: Goal): (items: Announced[], ranking: RankedTrial[]) => void {
+  return (items, ranking) => {
+    // Each job with the counts of the moment it settled, so the counters on each line are its own.
+    for (const { record, job, progress } of items) {
+      emit({ type: 'trial-finished', trial: record, job, best: leaderOf(ranking.map((r) => r.trial), goal), finishedTrials: progress.endedTrials, progress });
+    }
+  };
+}
+
+function noteOnce(emit: StudyObserver): (message: string, key?: string) => void {
+  const said = new Set<string>();
+  return (message, key = message) => {
+    if (said.has(key)) return;
+    said.add(key);
     emit({ type: 'note', message });
   };
-  let busySeconds = 0;
-  const started = Date.now();
-  let stopping = options.signal?.aborted === true;
-  // Ends running jobs once the grace time after an interrupt has passed; they stay `running` and are redone on resume.
-  const cutOff = new AbortController();
-  setMaxListeners(Infinity, cutOff.signal); // one listener per running job, and a queue may run hundreds
-  let graceTimer: NodeJS.Timeout | undefined;
-  const onAbort = (): void => {
-    stopping = true;
-    emit({ type: 'stopping', reason: 'interrupted' });
-    graceTimer = setTimeout(() => cutOff.abort(), (options.graceSeconds ?? GRACE_SECONDS) * 1000);
-    graceTimer.unref();
-  };
-  options.signal?.addEventListener('abort', onAbort, { once: true });
+}
 
-  doc.state = 'running';
-  await store.save();
-  emit({ type: 'study-started', name: doc.name, dir: store.dir, workers, plannedTrials: planned.trials, plannedEpochs: planned.epochs, resumed, progress: lifecycle.progress() });
+function announceStart(session: Session, resumed: boolean, resumeNotes: readonly string[]): void {
+  const { store, emit, workers, planned, lifecycle, note } = session;
+  emit({ type: 'study-started', name: store.doc.name, dir: store.dir, workers, plannedTrials: planned.trials, plannedEpochs: planned.epochs, resumed, progress: lifecycle.progress() });
   for (const message of [...store.notes, ...resumeNotes]) note(message);
+}
 
-  const inner = (options.transport ?? defaultTransport(options))({ workers });
-  // k-fold: every job runs once per fold on the inner transport; the run loop sees one job and the fold mean.
-  const transport = data.folds ? new FoldsTransport(inner, foldDatasets(data)) : inner;
-  const running = new Map<number, Promise<void>>();
-
-  /** Start a job: continue from the trial's checkpoint where the job asks for one and it stands there, else from epoch 0. */
-  const startJob = async (proposed: Job): Promise<void> => {
-    let job = proposed;
-    const checkpoint = job.fromEpoch > 0 ? await keeper.at(job.trialId, job.fromEpoch) : undefined;
-    if (job.fromEpoch > 0 && !checkpoint) {
-      note(
-        `trial ${job.trialId} has no checkpoint at epoch ${job.fromEpoch}; trials whose checkpoint is missing are trained again from epoch 0 (training is deterministic, so the results are the same)`,
-        'missing checkpoint',
-      );
-      job = { ...job, fromEpoch: 0 };
-    }
-    const record = lifecycle.started(job, checkpoint !== undefined);
-    emit({ type: 'job-started', job, fromCheckpoint: checkpoint !== undefined });
-    // One controller per job: ended by the interrupt's cut-off or by the trial's time limit.
-    const abort = new AbortController();
-    const onCutOff = (): void => abort.abort();
-    cutOff.signal.addEventListener('abort', onCutOff, { once: true });
-    let timedOut = false;
-    const timer = definition.trialTimeoutSeconds
-      ? setTimeout(() => {
-          timedOut = true;
-          abort.abort();
-        }, definition.trialTimeoutSeconds * 1000)
-      : undefined;
-    const trainJob = {
-      trialId: job.trialId,
-      seed: record.seed,
-      configuration: job.configuration,
-      datasetId: dataset.id,
-      fromEpoch: job.fromEpoch,
-      toEpoch: job.toEpoch,
-      ...(hasSchedule(job.configuration) ? { maxEpochs: definition.budget.maxEpochs } : {}),
-      ...(definition.earlyStopping ? { earlyStopping: { rule: definition.earlyStopping, goal: doc.goal } } : {}),
-      ...(checkpoint ? { checkpoint } : {}),
-    };
-    const done = transport
-      .run(trainJob, (report) => emit({ type: 'epoch', report }), abort.signal)
-      .then(
-        (result) => {
-          busySeconds += result.workerSeconds;
-          if (result.checkpoint) {
-            keeper.put(job.trialId, result.checkpoint);
-            persistence.checkpointed(job.trialId);
-          }
-          // A copy: by the time the save lands and the outcome is announced, the trial may be running again.
-          persistence.queue({ record: { ...lifecycle.succeeded(job, result) }, job });
-        },
-        (error: unknown) => {
-          const failure: JobFailure = cutOff.signal.aborted
-            ? { kind: 'cut-off' }
-            : timedOut
-              ? { kind: 'timed-out' }
-              : { kind: 'error', message: error instanceof Error ? error.message : String(error) };
-          const next = lifecycle.failed(job, failure);
-          if (next === 'retry') return startJob(job); // the same job again, from the same checkpoint
-          if (next === 'ended') persistence.queue({ record: { ...lifecycle.record(job.trialId) }, job });
-          return undefined;
-        },
-      )
-      .finally(() => {
-        clearTimeout(timer);
-        cutOff.signal.removeEventListener('abort', onCutOff);
-        if (running.get(job.trialId) === done) running.delete(job.trialId);
-      });
-    running.set(job.trialId, done);
-  };
-
-  try {
-    await transport.addDataset(dataset);
-    for (;;) {
-      let state: 'wait' | 'done' | undefined;
-      while (!stopping && running.size < transport.capacity) {
-        const next = queue.shift() ?? sampler.next();
-        if (typeof next === 'string') {
-          state = next;
-          break;
-        }
-        await startJob(next);
+/** Hand out jobs up to the transport's capacity until the sampler is done or the study stops, then wait for the running ones. */
+async function dispatch(session: Session, transport: TrialTransport): Promise<void> {
+  const { running, queue, sampler, stop, persistence } = session;
+  for (;;) {
+    let state: 'wait' | 'done' | undefined;
+    while (!stop.stopping && running.size < transport.capacity) {
+      const next = queue.shift() ?? sampler.next();
+      if (typeof next === 'string') {
+        state = next;
+        break;
       }
-      if (running.size === 0) {
-        if (stopping || state === 'done') break;
-        throw new Error('the sampler is waiting but no job is running');
-      }
-      await Promise.race(running.values());
-      if (persistence.error) throw persistence.error;
+      await startJob(session, transport, next);
     }
-    await persistence.flush();
-  } finally {
-    clearTimeout(graceTimer);
-    options.signal?.removeEventListener('abort', onAbort);
-    await transport.close();
+    if (running.size === 0) {
+      if (stop.stopping || state === 'done') return;
+      throw new Error('the sampler is waiting but no job is running');
+    }
+    await Promise.race(running.values());
+    if (persistence.error) throw persistence.error;
   }
+}
 
-  const wallSeconds = (Date.now() - started) / 1000;
-  if (!stopping) lifecycle.endAll();
-  doc.state = stopping ? 'interrupted' : 'finished';
+/** Start a job: continue from the trial's checkpoint where the job asks for one and it stands there, else from epoch 0. */
+async function startJob(session: Session, transport: TrialTransport, proposed: Job): Promise<void> {
+  const { keeper, lifecycle, emit, running } = session;
+  const checkpoint = proposed.fromEpoch > 0 ? await keeper.at(proposed.trialId, proposed.fromEpoch) : undefined;
+  const job = proposed.fromEpoch > 0 && !checkpoint ? fromScratch(session, proposed) : proposed;
+  const record = lifecycle.started(job, checkpoint !== undefined);
+  emit({ type: 'job-started', job, fromCheckpoint: checkpoint !== undefined });
+  const abort = jobAbort(session);
+  const done = transport
+    .run(trainJobOf(session, job, record.seed, checkpoint), (report) => emit({ type: 'epoch', report }), abort.signal)
+    .then(
+      (result) => settleResult(session, job, result),
+      (error: unknown) => settleFailure(session, transport, job, abort.timedOut(), error),
+    )
+    .finally(() => {
+      abort.dispose();
+      if (running.get(job.trialId) === done) running.delete(job.trialId);
+    });
+  running.set(job.trialId, done);
+}
+
+/** The job from epoch 0, said once: its checkpoint is missing. */
+function fromScratch(session: Session, job: Job): Job {
+  session.note(
+    `trial ${job.trialId} has no checkpoint at epoch ${job.fromEpoch}; trials whose checkpoint is missing are trained again from epoch 0 (training is deterministic, so the results are the same)`,
+    'missing checkpoint',
+  );
+  return { ...job, fromEpoch: 0 };
+}
+
+/** One controller per job: ended by the study's cut-off or by the trial's time limit. */
+function jobAbort(session: Session): { signal: AbortSignal; timedOut: () => boolean; dispose: () => void } {
+  const abort = new AbortController();
+  const cutOff = session.stop.cutOff.signal;
+  const onCutOff = (): void => abort.abort();
+  cutOff.addEventListener('abort', onCutOff, { once: true });
+  let timedOut = false;
+  const seconds = session.definition.trialTimeoutSeconds;
+  const timer = seconds
+    ? setTimeout(() => {
+        timedOut = true;
+        abort.abort();
+      }, seconds * 1000)
+    : undefined;
+  return {
+    signal: abort.signal,
+    timedOut: () => timedOut,
+    dispose: () => {
+      clearTimeout(timer);
+      cutOff.removeEventListener('abort', onCutOff);
+    },
+  };
+}
+
+/** What the transport is asked to train for a job. */
+function trainJobOf(session: Session, job: Job, seed: number, checkpoint: Uint8Array | undefined): TrainJob {
+  const { definition, store, dataset } = session;
+  return {
+    trialId: job.trialId,
+    seed,
+    configuration: job.configuration,
+    datasetId: dataset.id,
+    fromEpoch: job.fromEpoch,
+    toEpoch: job.toEpoch,
+    ...(hasSchedule(job.configuration) ? { maxEpochs: definition.budget.maxEpochs } : {}),
+    ...(definition.earlyStopping ? { earlyStopping: { rule: definition.earlyStopping, goal: store.doc.goal } } : {}),
+    ...(checkpoint ? { checkpoint } : {}),
+  };
+}
+
+function settleResult(session: Session, job: Job, result: TrainResult): void {
+  const { keeper, persistence, lifecycle } = session;
+  session.busySeconds += result.workerSeconds;
+  if (result.checkpoint) {
+    keeper.put(job.trialId, result.checkpoint);
+    persistence.checkpointed(job.trialId);
+  }
+  // A copy: by the time the save lands and the outcome is announced, the trial may be running again.
+  const record = { ...lifecycle.succeeded(job, result) };
+  const progress = lifecycle.progress();
+  persistence.queue({ record, job, progress });
+  forecastTimeLimit(session, progress.epochsDone);
+}
+
+/** Jobs ended in a session before its pace is trusted to forecast where the time limit cuts the plan. Common practice (no source). */
+const FORECAST_AFTER_JOBS = 3;
+
+/**
+ * With a time limit, once a few jobs have ended: when the limit will stop the study before its plan
+ * is done at the pace measured so far, say once how far the plan will get.
+ */
+function forecastTimeLimit(session: Session, epochsDone: number): void {
+  const { stop, planned } = session;
+  const remaining = stop.remainingMs;
+  session.jobsEnded += 1;
+  if (remaining === undefined || session.jobsEnded !== FORECAST_AFTER_JOBS) return;
+  const trainedNow = epochsDone - session.epochsAtStart;
+  const elapsed = stop.elapsedMs;
+  if (trainedNow <= 0 || elapsed <= 0) return;
+  const reach = Math.floor(epochsDone + (trainedNow * remaining) / elapsed);
+  if (reach >= planned.epochs) return;
+  const perMinute = (trainedNow * 60_000) / elapsed;
+  const shape = planned.brackets > 1 ? ` (${planned.brackets} brackets of ${planned.rungs} rungs at most)` : planned.rungs > 1 ? ` (${planned.rungs} rungs)` : '';
+  session.note(
+    `at the pace so far (${perMinute.toFixed(1)} epochs a minute), the time limit stops the study near epoch ${reach} of the ${planned.epochs} planned${shape}, about ${Math.round((100 * reach) / planned.epochs)} % of its plan; resume with a longer --minutes to go on`,
+  );
+}
+
+function settleFailure(session: Session, transport: TrialTransport, job: Job, timedOut: boolean, error: unknown): Promise<void> | undefined {
+  const failure: JobFailure = session.stop.cutOff.signal.aborted
+    ? { kind: 'cut-off' }
+    : timedOut
+      ? { kind: 'timed-out' }
+      : { kind: 'error', message: error instanceof Error ? error.message : String(error) };
+  const next = session.lifecycle.failed(job, failure);
+  if (next === 'retry') return startJob(session, transport, job); // the same job again, from the same checkpoint
+  if (next === 'ended') session.persistence.queue({ record: { ...session.lifecycle.record(job.trialId) }, job, progress: session.lifecycle.progress() });
+  return undefined;
+}
+
+/** Record the end state and the totals, save, and tell the observer. */
+async function finish(session: Session, wallSeconds: number): Promise<StudyOutcome> {
+  const { store, lifecycle, stop, workers, persistence, emit } = session;
+  const doc = store.doc;
+  if (stop.reason === undefined) lifecycle.endAll();
+  doc.state = stop.reason ?? 'finished';
   doc.totals = {
     epochsTrained: doc.trials.reduce((sum, t) => sum + t.epochsTrained, 0),
-    workerUtilisation: wallSeconds > 0 ? Math.min(1, busySeconds / (workers * wallSeconds)) : 0,
+    workerUtilisation: wallSeconds > 0 ? Math.min(1, session.busySeconds / (workers * wallSeconds)) : 0,
     wallSeconds,
     workers,
+    busySeconds: session.busySeconds,
   };
   await persistence.saveNow();
-  const ranking = rankTrials(doc.trials, goal);
+  const ranking = rankTrials(doc.trials, doc.goal);
   emit({ type: 'study-finished', doc, ranking });
   return { dir: store.dir, file: store.file, doc, ranking };
 }

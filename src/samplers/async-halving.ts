@@ -2,7 +2,7 @@ import { z } from 'zod';
 import { halvingFields } from '../core/fields.js';
 import { checkHalvingBudget } from './successive-halving.js';
 import { defineSampler, type Job, type JobOutcome, type Sampler } from './sampler.js';
-import { bracketsPlan, EMPTY_PLAN } from './plan.js';
+import { bracketsPlan, EMPTY_PLAN, type RungPlan } from './plan.js';
 import { assertPositiveInteger, isPromotable, rank, resultsOf, rungEpochs, type ParamsForTrial } from './rungs.js';
 
 export interface AsyncHalvingOptions {
@@ -13,6 +13,25 @@ export interface AsyncHalvingOptions {
   maxEpochs: number;
   eta: number;
   paramsFor: ParamsForTrial;
+  /**
+   * The most trials promoted out of each rung (the plugin passes its plan's: the synchronous schedule's
+   * n_(k+1) out of rung k), so the run never passes the planned jobs and epochs. A candidate that comes
+   * after the rung's promotions are used up stays where it is for good. @default no cap
+   */
+  promotionsPerRung?: readonly number[];
+}
+
+/**
+ * The asynchronous-halving plan: the synchronous schedule, floor(n_k / eta) of rung k going on. It is
+ * the sampler's hard limit: asynchronous promotion could otherwise promote more (a trial promoted
+ * early stays promoted when later results push it out of the top).
+ */
+export function asyncHalvingRounds(trials: number, minEpochs: number, maxEpochs: number, eta: number): RungPlan[] {
+  let reaching = trials;
+  return rungEpochs(Math.min(minEpochs, maxEpochs), maxEpochs, eta).map((epochs, k) => {
+    if (k > 0) reaching = Math.floor(reaching / eta);
+    return { configurations: reaching, epochs };
+  });
 }
 
 /**
@@ -25,6 +44,8 @@ export interface AsyncHalvingOptions {
  * Unlike the synchronous samplers its decisions depend on the order results arrive (by design).
  * Diverged or failed results (null loss) count in |rung k| but are never promoted; so do trials
  * early stopping ended (they keep their place among the top 1/eta, which is then passed over).
+ * With `promotionsPerRung`, a rung whose promotions are used up promotes no more, so the jobs and
+ * epochs handed out stay within the plan of the synchronous schedule.
  */
 export class AsyncHalvingSampler implements Sampler {
   /** Epochs at the end of each rung. */
@@ -77,6 +98,8 @@ export class AsyncHalvingSampler implements Sampler {
     if (outstandingRung !== undefined) return outstandingRung < this.topRung;
     const rung = this.latestRung(trialId);
     if (rung === undefined || rung === this.topRung || this.promoted[rung]!.has(trialId) || this.stopped.has(trialId)) return false;
+    // Promotions out of a rung only grow, so a rung whose promotions are used up stays so.
+    if (!this.promotionFits(rung)) return false;
     if (!isPromotable(this.results[rung]!.get(trialId) ?? null)) return false;
     return this.mayGrow(rung) || this.candidates(rung).some((result) => result.trialId === trialId);
   }
@@ -92,6 +115,7 @@ export class AsyncHalvingSampler implements Sampler {
 
   private findPromotion(): { trialId: number; fromRung: number; reason: string } | undefined {
     for (let k = this.topRung - 1; k >= 0; k--) {
+      if (!this.promotionFits(k)) continue;
       const size = this.results[k]!.size;
       const candidates = this.candidates(k);
       const index = candidates.findIndex((result) => isPromotable(result.loss) && !this.promoted[k]!.has(result.trialId) && !this.stopped.has(result.trialId));
@@ -116,6 +140,12 @@ export class AsyncHalvingSampler implements Sampler {
     return this.mayGrow(k - 1) || this.candidates(k - 1).some((r) => isPromotable(r.loss) && !this.promoted[k - 1]!.has(r.trialId) && !this.stopped.has(r.trialId));
   }
 
+  /** Whether rung k may still promote a trial (its promotions are not used up). */
+  private promotionFits(k: number): boolean {
+    const cap = this.options.promotionsPerRung?.[k];
+    return cap === undefined || this.promoted[k]!.size < cap;
+  }
+
   private latestRung(trialId: number): number | undefined {
     for (let k = this.topRung; k >= 0; k--) if (this.results[k]!.has(trialId)) return k;
     return undefined;
@@ -123,12 +153,13 @@ export class AsyncHalvingSampler implements Sampler {
 
   private handOut(trialId: number, rung: number, reason?: string): Job {
     this.outstanding.set(trialId, rung);
+    const fromEpoch = rung === 0 ? 0 : this.rungs[rung - 1]!;
     const job: Job = {
       trialId,
       configuration: this.options.paramsFor(trialId),
       rung,
       bracket: 0,
-      fromEpoch: rung === 0 ? 0 : this.rungs[rung - 1]!,
+      fromEpoch,
       toEpoch: this.rungs[rung]!,
     };
     if (reason !== undefined) job.reason = reason;
@@ -143,23 +174,17 @@ function key(trialId: number, rung: number): string {
 /** `sampler.kind: "async-halving"`: promotes whenever a rung allows, never waits for a rung to fill. */
 export const asyncHalvingPlugin = defineSampler({
   kind: 'async-halving',
-  summary: 'promotes the top 1/eta of each rung as soon as results allow, so no worker waits (Li et al. 2020); order-dependent',
+  summary: 'promotes the top 1/eta of each rung as soon as results allow, so no worker waits (Li et al. 2020); order-dependent, never past its planned jobs and epochs',
   schema: z.strictObject({ kind: z.literal('async-halving'), ...halvingFields }),
   traits: { deterministic: false, stopsAtRungs: true, trialsFromBudget: true },
   create: (options, context) => {
     checkHalvingBudget(options, context.budget);
-    return new AsyncHalvingSampler({ ...options, trials: context.budget.trials, maxEpochs: context.budget.maxEpochs, paramsFor: context.randomParams });
+    const { trials, maxEpochs } = context.budget;
+    const promotionsPerRung = asyncHalvingRounds(trials, options.minEpochs, maxEpochs, options.eta).slice(1).map((round) => round.configurations);
+    return new AsyncHalvingSampler({ ...options, trials, maxEpochs, paramsFor: context.randomParams, promotionsPerRung });
   },
   plan: (options, budget) => {
     if (options.minEpochs > budget.maxEpochs) return EMPTY_PLAN;
-    // An estimate: the synchronous schedule, floor(n_k / eta) trials leaving rung k. Asynchronous promotion
-    // can promote more (a trial promoted early stays promoted when later results push it out of the top).
-    const rungs = rungEpochs(options.minEpochs, budget.maxEpochs, options.eta);
-    let reaching = budget.trials;
-    const rounds = rungs.map((epochs, k) => {
-      if (k > 0) reaching = Math.floor(reaching / options.eta);
-      return { configurations: reaching, epochs };
-    });
-    return bracketsPlan([rounds], 1, true);
+    return bracketsPlan([asyncHalvingRounds(budget.trials, options.minEpochs, budget.maxEpochs, options.eta)], true);
   },
 });

@@ -59,6 +59,44 @@ export function hyperbandSchedule(maxEpochs: number, eta: number, minEpochs = 1)
   return brackets;
 }
 
+/**
+ * The brackets Hyperband runs for `trials` configurations, in order: s_max .. 0, then again (a second
+ * pass, a third, ...) until `trials` configurations have started; the bracket that would pass the count
+ * is shrunk to the configurations left (its rounds keep their epochs, and each keeps the best 1/eta of
+ * the round before, at least one). At most `maxPasses` passes. So `budget.trials` is honoured exactly:
+ * fewer configurations than one pass give fewer (and a last smaller) bracket, more give more passes.
+ * Common practice (no source): the paper repeats whole passes; cutting the last bracket is this tool's rule.
+ */
+export function hyperbandBrackets(maxEpochs: number, eta: number, minEpochs: number, trials: number, maxPasses = Infinity): HyperbandBracketPlan[] {
+  assertPositiveInteger('trials', trials);
+  const pass = hyperbandSchedule(maxEpochs, eta, minEpochs);
+  const brackets: HyperbandBracketPlan[] = [];
+  let left = trials;
+  for (let passes = 0; left > 0 && passes < maxPasses; passes++) {
+    for (const bracket of pass) {
+      if (left === 0) break;
+      const n = Math.min(left, bracket.rounds[0]!.configurations);
+      left -= n;
+      brackets.push(n === bracket.rounds[0]!.configurations ? bracket : { s: bracket.s, rounds: shrunkRounds(bracket.rounds, n, eta) });
+    }
+  }
+  return brackets;
+}
+
+/** A bracket's rounds started with n configurations instead: the same epochs, max(1, floor(n_(i-1) / eta)) in round i. */
+function shrunkRounds(rounds: readonly RungPlan[], n: number, eta: number): RungPlan[] {
+  let configurations = n;
+  return rounds.map((round, i) => {
+    if (i > 0) configurations = Math.max(1, Math.floor(configurations / eta));
+    return { configurations, epochs: round.epochs };
+  });
+}
+
+/** Configurations one pass of Hyperband's brackets starts. */
+export function configurationsPerPass(maxEpochs: number, eta: number, minEpochs: number): number {
+  return hyperbandSchedule(maxEpochs, eta, minEpochs).reduce((sum, bracket) => sum + bracket.rounds[0]!.configurations, 0);
+}
+
 /** Sum of configurations times epochs over the rounds: the paper's budget, counting each round from scratch. */
 export function scheduledEpochs(rounds: readonly RungPlan[]): number {
   return rounds.reduce((sum, round) => sum + round.configurations * round.epochs, 0);
@@ -76,8 +114,13 @@ export interface HyperbandOptions {
    * @default true
    */
   overlapBrackets?: boolean;
-  /** Times the whole list of brackets s_max .. 0 runs, one pass after another. @default 1 */
+  /** Times the whole list of brackets s_max .. 0 runs, one pass after another (when `trials` is not given). @default 1 */
   iterations?: number;
+  /**
+   * Configurations to start: the brackets are cut to this count (see {@link hyperbandBrackets}), at
+   * most `iterations` passes when that is given too. @default every configuration of `iterations` passes
+   */
+  trials?: number;
   /**
    * Whether the bracket at this position (0 for the first of all passes) may hand out its first job;
    * while false it and every later bracket wait. For samplers whose proposals for a bracket depend on
@@ -86,6 +129,15 @@ export interface HyperbandOptions {
   mayStartBracket?: (index: number) => boolean;
   /** Recorded with each trial's first job, for samplers that propose configurations themselves. */
   originFor?: (trialId: number) => ProposalOrigin;
+}
+
+/** The brackets a {@link HyperbandSampler} with these options runs, in order. */
+export function hyperbandPlanOf(options: Pick<HyperbandOptions, 'maxEpochs' | 'minEpochs' | 'eta' | 'iterations' | 'trials'>): HyperbandBracketPlan[] {
+  const iterations = options.iterations ?? (options.trials === undefined ? 1 : Infinity);
+  if (Number.isFinite(iterations)) assertPositiveInteger('iterations', iterations);
+  const perPass = configurationsPerPass(options.maxEpochs, options.eta, options.minEpochs);
+  const trials = options.trials ?? perPass * iterations;
+  return hyperbandBrackets(options.maxEpochs, options.eta, options.minEpochs, trials, iterations);
 }
 
 /**
@@ -99,16 +151,11 @@ export class HyperbandSampler implements Sampler {
 
   constructor(private readonly options: HyperbandOptions) {
     this.overlap = options.overlapBrackets ?? true;
-    const iterations = options.iterations ?? 1;
-    assertPositiveInteger('iterations', iterations);
     let firstTrialId = 0;
-    const schedule = hyperbandSchedule(options.maxEpochs, options.eta, options.minEpochs);
-    for (let pass = 0; pass < iterations; pass++) {
-      for (const plan of schedule) {
-        const { paramsFor, originFor } = options;
-        this.brackets.push(new HalvingBracket({ plan: plan.rounds, firstTrialId, bracket: plan.s, paramsFor, ...(originFor ? { originFor } : {}) }));
-        firstTrialId += plan.rounds[0]!.configurations;
-      }
+    const { paramsFor, originFor } = options;
+    for (const plan of hyperbandPlanOf(options)) {
+      this.brackets.push(new HalvingBracket({ plan: plan.rounds, firstTrialId, bracket: plan.s, paramsFor, ...(originFor ? { originFor } : {}) }));
+      firstTrialId += plan.rounds[0]!.configurations;
     }
   }
 
@@ -156,15 +203,15 @@ export class HyperbandSampler implements Sampler {
 /** `sampler.kind: "hyperband"`: brackets of successive halving from minEpochs to maxEpochs; derives its own trial count. */
 export const hyperbandPlugin = defineSampler({
   kind: 'hyperband',
-  summary: 'brackets of successive halving that trade many short trials against few long ones (Li et al. 2018); ignores budget.trials',
+  summary: 'brackets of successive halving that trade many short trials against few long ones (Li et al. 2018); repeated or cut to budget.trials configurations',
   schema: z.strictObject({ kind: z.literal('hyperband'), ...halvingFields }),
-  traits: { deterministic: true, stopsAtRungs: true, trialsFromBudget: false },
+  traits: { deterministic: true, stopsAtRungs: true, trialsFromBudget: true },
   create: (options, context) => {
     checkHalvingBudget(options, context.budget);
-    return new HyperbandSampler({ ...options, maxEpochs: context.budget.maxEpochs, paramsFor: context.randomParams });
+    return new HyperbandSampler({ ...options, maxEpochs: context.budget.maxEpochs, trials: context.budget.trials, paramsFor: context.randomParams });
   },
   plan: (options, budget) => {
     if (options.minEpochs > budget.maxEpochs) return EMPTY_PLAN;
-    return bracketsPlan(hyperbandSchedule(budget.maxEpochs, options.eta, options.minEpochs).map((bracket) => bracket.rounds));
+    return bracketsPlan(hyperbandBrackets(budget.maxEpochs, options.eta, options.minEpochs, budget.trials).map((bracket) => bracket.rounds));
   },
 });

@@ -74,7 +74,13 @@ export function plannedBudget(definition: Pick<SamplerDefinition, 'budget' | 'sa
   return samplerPlugin(definition.sampler.kind).plan(definition.sampler, definition.budget);
 }
 
-/** Configurations the study's sampler will start (Hyperband derives its own count and ignores budget.trials). */
+/** A budget the study's sampler cannot honour, as `[field, message]` (see `SamplerPlugin.budgetProblem`). */
+export function samplerBudgetProblem(definition: Pick<SamplerDefinition, 'budget' | 'sampler'>): [string, string] | undefined {
+  const problem = samplerPlugin(definition.sampler.kind).budgetProblem?.(definition.sampler, definition.budget);
+  return problem ? [problem.field, problem.message] : undefined;
+}
+
+/** Configurations the study's sampler will start. */
 export function plannedTrialCount(definition: Pick<SamplerDefinition, 'budget' | 'sampler'>): number {
   return plannedBudget(definition).trials;
 }

@@ -23,18 +23,20 @@ export interface SamplerPlan {
   /** Brackets (Hyperband), else 1. */
   brackets: number;
   /**
-   * True when the sampler's decisions depend on the order results arrive (asynchronous halving): the
-   * run may exceed the plan.
+   * False: the run is exactly this plan (synchronous samplers; less only when trials diverge, fail or
+   * stop early). True: the plan is a hard limit the run stays within but may end under, because the
+   * sampler's decisions depend on the order results arrive (asynchronous halving): no job starts that
+   * would take the study past the planned jobs or epochs.
    */
-  estimate: boolean;
+  limit: boolean;
 }
 
 /** The plan of options that do not fit the budget: nothing runs. */
-export const EMPTY_PLAN: SamplerPlan = { trials: 0, epochs: 0, jobs: 0, rungs: 0, brackets: 0, estimate: false };
+export const EMPTY_PLAN: SamplerPlan = { trials: 0, epochs: 0, jobs: 0, rungs: 0, brackets: 0, limit: false };
 
 /** Every configuration trains `maxEpochs` in one job (random, Sobol, TPE). */
 export function oneJobEachPlan(budget: Budget): SamplerPlan {
-  return { trials: budget.trials, epochs: budget.trials * budget.maxEpochs, jobs: budget.trials, rungs: 1, brackets: 1, estimate: false };
+  return { trials: budget.trials, epochs: budget.trials * budget.maxEpochs, jobs: budget.trials, rungs: 1, brackets: 1, limit: false };
 }
 
 /** Epochs trained when each promoted trial continues from its checkpoint (each rung adds only the difference). */
@@ -42,15 +44,16 @@ export function trainedEpochs(rounds: readonly RungPlan[]): number {
   return rounds.reduce((sum, round, i) => sum + round.configurations * (round.epochs - (i > 0 ? rounds[i - 1]!.epochs : 0)), 0);
 }
 
-/** The plan of brackets of successive halving, run `passes` times over (one bracket for plain successive halving). */
-export function bracketsPlan(brackets: readonly (readonly RungPlan[])[], passes = 1, estimate = false): SamplerPlan {
-  const sum = (of: (rounds: readonly RungPlan[]) => number): number => passes * brackets.reduce((total, rounds) => total + of(rounds), 0);
+/** The plan of brackets of successive halving, in the order they run (one bracket for plain successive halving). */
+export function bracketsPlan(brackets: readonly (readonly RungPlan[])[], limit = false): SamplerPlan {
+  const sum = (of: (rounds: readonly RungPlan[]) => number): number => brackets.reduce((total, rounds) => total + of(rounds), 0);
   return {
     trials: sum((rounds) => rounds[0]?.configurations ?? 0),
     epochs: sum(trainedEpochs),
     jobs: sum((rounds) => rounds.reduce((n, round) => n + round.configurations, 0)),
     rungs: Math.max(0, ...brackets.map((rounds) => rounds.length)),
-    brackets: brackets.length,
-    estimate,
+    // Hyperband's bracket s has s + 1 rounds, so distinct lengths are distinct brackets (passes repeat them).
+    brackets: new Set(brackets.map((rounds) => rounds.length)).size,
+    limit,
   };
 }

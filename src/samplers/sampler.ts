@@ -68,7 +68,7 @@ export interface SamplerTraits {
   deterministic: boolean;
   /** Stops trials at rungs and promotes the best (its trials' rung numbers mean something). */
   stopsAtRungs: boolean;
-  /** Starts `budget.trials` configurations; false: derives its count from its brackets (from `budget.maxEpochs`). */
+  /** Starts `budget.trials` configurations (every kind now does); false: derives its count from its brackets (from `budget.maxEpochs`). */
   trialsFromBudget: boolean;
 }
 
@@ -90,11 +90,13 @@ export interface SamplerPlugin<Schema extends SamplerSchema = SamplerSchema> {
   /** Build a fresh sampler. Throw a UserError for options that do not fit the budget. */
   create(options: z.output<Schema>, context: SamplerContext): Sampler;
   /**
-   * Configurations and epochs the sampler runs, for progress and budget checks: the most it will run,
-   * or, for a sampler whose decisions depend on the order results arrive (`traits.deterministic` false),
-   * an estimate that the run may exceed.
+   * Configurations, jobs and epochs the sampler runs, for progress and budget checks: exactly what it
+   * runs (less only when trials diverge, fail or stop early), or, for a sampler whose decisions depend
+   * on the order results arrive (`limit` in the plan), a hard limit it enforces itself.
    */
   plan(options: z.output<Schema>, budget: Budget): SamplerPlan;
+  /** A budget the options cannot honour: the field to name and what is allowed (the study is refused, exit 2). */
+  budgetProblem?(options: z.output<Schema>, budget: Budget): { field: string; message: string } | undefined;
 }
 
 /** Declare a sampler kind with its types checked against its schema. */

@@ -3,7 +3,7 @@ import type { Rng } from '../random/streams.js';
 import { snap } from '../space/dimensions.js';
 import { halvingFields } from '../core/fields.js';
 import { spaceDesign, type UnitDesign } from './design.js';
-import { HyperbandSampler, hyperbandSchedule } from './hyperband.js';
+import { HyperbandSampler, configurationsPerPass, hyperbandBrackets } from './hyperband.js';
 import { defineSampler, type Job, type JobOutcome, type Sampler } from './sampler.js';
 import { bracketsPlan, EMPTY_PLAN } from './plan.js';
 import type { ProposalOrigin } from '../core/trial.js';
@@ -14,8 +14,10 @@ export interface TpeHyperbandOptions {
   maxEpochs: number;
   minEpochs: number;
   eta: number;
-  /** Passes over Hyperband's brackets. */
+  /** Passes over Hyperband's brackets at most. */
   iterations: number;
+  /** Configurations to start (`budget.trials`): the brackets are cut to this count. @default every configuration of `iterations` passes */
+  trials?: number;
   design: UnitDesign;
   model: TpeModelSettings;
   /** Share of new configurations drawn at random whatever the model says. */
@@ -64,6 +66,7 @@ export class TpeHyperbandSampler implements Sampler {
       minEpochs: options.minEpochs,
       eta: options.eta,
       iterations: options.iterations,
+      ...(options.trials !== undefined ? { trials: options.trials } : {}),
       overlapBrackets: true,
       paramsFor: (trialId) => options.design.listed?.(trialId)?.configuration ?? options.design.paramsAt(this.proposal(trialId).point),
       originFor: (trialId) => this.proposal(trialId).origin,
@@ -134,17 +137,17 @@ const BOHB_MODEL_DEFAULTS = { gamma: 0.15, drawsPerProposal: 64, bandwidth: 'sco
 /** `sampler.kind: "tpe-hyperband"`: Hyperband's brackets with new configurations from a TPE model (BOHB). */
 export const tpeHyperbandPlugin = defineSampler({
   kind: 'tpe-hyperband',
-  summary: "Hyperband's brackets, new configurations from a TPE model on the largest budget with enough results (Falkner et al. 2018); ignores budget.trials",
+  summary: "Hyperband's brackets (cut to budget.trials configurations), new configurations from a TPE model on the largest budget with enough results (Falkner et al. 2018)",
   schema: z.strictObject({
     kind: z.literal('tpe-hyperband'),
     ...halvingFields,
-    iterations: z.int().min(1).max(100).default(1).describe("Passes over Hyperband's brackets."),
+    iterations: z.int().min(1).max(100).default(1).describe("Passes over Hyperband's brackets at most; budget.trials must fit in them."),
     randomShare: z.number().min(0).max(1).default(1 / 3).describe('Share of new configurations drawn at random instead of from the model.'),
     smallestGroup: z.int().min(1).optional().describe('Fewest results in each of the good and the bad group (N_min); a budget needs this many plus 2 results before its model proposes; default: dimensions + 1.'),
     overlapBrackets: z.boolean().default(true).describe('Let a bracket run beside the previous one (its model then skips that bracket).'),
     ...modelFields(BOHB_MODEL_DEFAULTS),
   }),
-  traits: { deterministic: true, stopsAtRungs: true, trialsFromBudget: false },
+  traits: { deterministic: true, stopsAtRungs: true, trialsFromBudget: true },
   create: (options, context) => {
     checkHalvingBudget(options, context.budget);
     const design = spaceDesign(context.space, context.tryFirst);
@@ -153,6 +156,7 @@ export const tpeHyperbandPlugin = defineSampler({
       minEpochs: options.minEpochs,
       eta: options.eta,
       iterations: options.iterations,
+      trials: context.budget.trials,
       design,
       model: options,
       randomShare: options.randomShare,
@@ -163,9 +167,18 @@ export const tpeHyperbandPlugin = defineSampler({
   },
   plan: (options, budget) => {
     if (options.minEpochs > budget.maxEpochs) return EMPTY_PLAN;
-    return bracketsPlan(
-      hyperbandSchedule(budget.maxEpochs, options.eta, options.minEpochs).map((bracket) => bracket.rounds),
-      options.iterations,
-    );
+    return bracketsPlan(hyperbandBrackets(budget.maxEpochs, options.eta, options.minEpochs, budget.trials, options.iterations).map((bracket) => bracket.rounds));
+  },
+  budgetProblem: (options, budget) => {
+    if (options.minEpochs > budget.maxEpochs) return undefined;
+    const perPass = configurationsPerPass(budget.maxEpochs, options.eta, options.minEpochs);
+    if (budget.trials <= perPass * options.iterations) return undefined;
+    const passes = Math.ceil(budget.trials / perPass);
+    return {
+      field: 'budget.trials',
+      message:
+        `found ${budget.trials}, but ${options.iterations} pass${options.iterations === 1 ? '' : 'es'} (sampler.iterations) of Hyperband's brackets for maxEpochs ${budget.maxEpochs}, eta ${options.eta}, minEpochs ${options.minEpochs} start at most ${perPass * options.iterations} configurations; ` +
+        `set budget.trials to at most ${perPass * options.iterations} or sampler.iterations to ${passes}`,
+    };
   },
 });

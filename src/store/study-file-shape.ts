@@ -52,7 +52,7 @@ const trialShape = z.looseObject({
 
 const documentShape = z.looseObject({
   name: z.string(),
-  state: z.enum(['running', 'interrupted', 'finished']),
+  state: z.enum(['running', 'interrupted', 'time-limit', 'finished']),
   goal: z.looseObject({ metric: z.string(), better: z.enum(['higher', 'lower']) }),
   definition: z.looseObject({
     name: z.string(),

@@ -13,6 +13,8 @@ export interface StudyTotals {
   workerUtilisation: number;
   wallSeconds: number;
   workers: number;
+  /** Worker-seconds spent training jobs that brought a result, this session (absent in files from before it was kept). */
+  busySeconds?: number;
 }
 
 /** The whole study file. */
@@ -28,7 +30,8 @@ export interface StudyDocument {
   goal: Goal;
   data: DataSummary;
   recipe: PreprocessingRecipe;
-  state: 'running' | 'interrupted' | 'finished';
+  /** `time-limit`: stopped by its time limit (`budget.minutes`, `--minutes`); `resume` goes on, as after an interrupt. */
+  state: 'running' | 'interrupted' | 'time-limit' | 'finished';
   createdAt: string;
   updatedAt: string;
   trials: TrialRecord[];

@@ -4,6 +4,7 @@ import { parse as parseLenient, printParseErrorCode, type ParseError } from 'jso
 import { UserError } from '../core/errors.js';
 import { BINARY_METRICS, CLASSIFICATION_METRICS, REGRESSION_METRICS, type MetricName } from '../core/configuration.js';
 import { dataOnlyStudySchema, resolveGoal, studySchema, type DataOnlyStudy, type StudyDefinition } from './definition.js';
+import { samplerBudgetProblem } from '../samplers/index.js';
 import { utf16Kind } from '../text/encoding.js';
 import { formatIssue } from './issues.js';
 import { earlyStoppingProblem } from '../core/early-stopping.js';
@@ -101,6 +102,8 @@ function crossFieldProblems(definition: StudyDefinition): [string, string][] {
   if ('minEpochs' in sampler && sampler.minEpochs > budget.maxEpochs) {
     problems.push(['sampler.minEpochs', `found ${sampler.minEpochs}, expected at most budget.maxEpochs (${budget.maxEpochs})`]);
   }
+  const budgetProblem = samplerBudgetProblem(definition);
+  if (budgetProblem) problems.push(budgetProblem);
   if (data.task === 'regression' && data.classWeights !== undefined && data.classWeights !== 'none') {
     problems.push(['data.classWeights', `is for classification; a regression task takes "none" or no classWeights`]);
   }

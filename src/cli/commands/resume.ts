@@ -1,5 +1,5 @@
 import { type CommandDeclaration, newCommand } from '../command.js';
-import { queueFlags, queueOptions, type QueueFlagValues, topFlag, workersFlag } from '../options.js';
+import { limitFlags, limitOptions, type LimitFlagValues, queueFlags, queueOptions, type QueueFlagValues, topFlag, workersFlag } from '../options.js';
 import { finishStudy, untilInterrupted } from '../study-output.js';
 
 /** `rungwise resume <dir>`: continue an interrupted study. */
@@ -7,6 +7,7 @@ export const resumeCommand: CommandDeclaration = ({ program, io, inject }) => {
   const command = newCommand(program, 'resume', [
     ['rungwise resume runs/demo', 'continue after Ctrl-C; finished trials are kept'],
     ['rungwise resume runs/demo --json --top 3', 'the three best as JSON when it ends'],
+    ['rungwise resume runs/demo --minutes 30', 'after a time limit: 30 more minutes'],
   ])
     .description('continue an interrupted study')
     .argument('<dir>', 'run directory')
@@ -14,7 +15,7 @@ export const resumeCommand: CommandDeclaration = ({ program, io, inject }) => {
     .option('--top <n>', 'configurations in the result (default: 10 in the table, all in JSON)', topFlag)
     .option('--json', 'print the result as JSON: every trial, ranked ones first')
     .option('--allow-changed-data', 'go on although the CSV changed since the study started (the study file records it)')
-    .action(async (dir: string, flags: { workers?: number; top?: number; json?: boolean; allowChangedData?: boolean } & QueueFlagValues) => {
+    .action(async (dir: string, flags: { workers?: number; top?: number; json?: boolean; allowChangedData?: boolean } & QueueFlagValues & LimitFlagValues) => {
       const target = io();
       const { resume } = await import('../../commands/resume.js');
       const outcome = await untilInterrupted(target, (signal) =>
@@ -24,6 +25,7 @@ export const resumeCommand: CommandDeclaration = ({ program, io, inject }) => {
           ...(flags.workers !== undefined ? { workers: flags.workers } : {}),
           ...(flags.allowChangedData ? { allowChangedData: true } : {}),
           ...queueFlags(flags),
+          ...limitFlags(flags),
           progress: target.err,
           onDataWarning: target.warn,
           onWarning: target.warn,
@@ -34,4 +36,5 @@ export const resumeCommand: CommandDeclaration = ({ program, io, inject }) => {
       if (outcome) await finishStudy(target, outcome, flags);
     });
   queueOptions(command);
+  limitOptions(command);
 };

@@ -1,7 +1,7 @@
 import { InvalidArgumentError } from 'commander';
 import { TASKS, type Task } from '../../core/configuration.js';
 import { type CommandDeclaration, newCommand } from '../command.js';
-import { positiveInteger, queueOptions, type QueueFlagValues, topFlag, wholeNumber, workersFlag } from '../options.js';
+import { limitOptions, type LimitFlagValues, positiveInteger, queueOptions, type QueueFlagValues, topFlag, wholeNumber, workersFlag } from '../options.js';
 import { finishStudy, untilInterrupted } from '../study-output.js';
 
 /** `rungwise run <definition>`: launch a study. */
@@ -11,6 +11,7 @@ export const runCommand: CommandDeclaration = ({ program, io, inject }) => {
     ['rungwise run studies/demo/study.json --out runs/demo', 'progress on stderr, ranking on stdout'],
     ['rungwise run study.json --quiet --json > result.json', 'nothing but the result, as JSON'],
     ['rungwise run study.json --out runs/x --force --workers 2', 'replace an earlier run, two worker threads'],
+    ['rungwise run study.json --minutes 20', 'start no job after 20 minutes; resume goes on'],
   ])
     .description('launch a study from its definition file, or from a CSV and its target column')
     .argument('<definition>', 'study definition (JSON), or a CSV file with --target')
@@ -24,7 +25,7 @@ export const runCommand: CommandDeclaration = ({ program, io, inject }) => {
     .option('--top <n>', 'configurations in the result (default: 10 in the table, all in JSON)', topFlag)
     .option('--force', 'replace a run directory that already holds a study')
     .option('--json', 'print the result as JSON: every trial, ranked ones first')
-    .action(async (definition: string, flags: { out?: string; workers?: number; top?: number; force?: boolean; json?: boolean; target?: string; task?: Task; splitSeed?: number; trials?: number; maxEpochs?: number } & QueueFlagValues) => {
+    .action(async (definition: string, flags: { out?: string; workers?: number; top?: number; force?: boolean; json?: boolean; target?: string; task?: Task; splitSeed?: number; trials?: number; maxEpochs?: number } & QueueFlagValues & LimitFlagValues) => {
       const target = io();
       const { run } = await import('../../commands/run.js');
       const { json: _json, top: _top, ...options } = flags;
@@ -32,6 +33,7 @@ export const runCommand: CommandDeclaration = ({ program, io, inject }) => {
       if (outcome) await finishStudy(target, outcome, flags);
     });
   queueOptions(command);
+  limitOptions(command);
 };
 
 /** `--task <task>`: one of the tasks. */
