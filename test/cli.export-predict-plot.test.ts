@@ -36,7 +36,7 @@ describe('rungwise export, predict and plot from the command line', () => {
   it('exports with --retrain and reports test metrics beside the validation ones', async () => {
     const result = await runCli(['export', dir, '--retrain', '--out', path.join(dir, 'retrained')]);
     expect(result.code).toBe(0);
-    expect(result.stdout).toMatch(/validation \(study\)\s+test \(retrained\)/);
+    expect(result.stdout).toMatch(/validation \(study\)\s+test \(study network\)\s+test \(retrained\)/);
   });
 
   it('plots the study into an offline report', async () => {

@@ -25,10 +25,11 @@ const SAMPLERS: Record<string, { sampler: Record<string, unknown>; budget: { tri
   random: { sampler: { kind: 'random', seed: 2 }, budget: { trials: 4, maxEpochs: 6 } },
   sobol: { sampler: { kind: 'sobol', seed: 2 }, budget: { trials: 4, maxEpochs: 6 } },
   'successive-halving': { sampler: { kind: 'successive-halving', seed: 2, eta: 3, minEpochs: 1 }, budget: { trials: 9, maxEpochs: 9 } },
-  hyperband: { sampler: { kind: 'hyperband', seed: 2, eta: 3, minEpochs: 1 }, budget: { trials: 1, maxEpochs: 9 } },
+  // One whole pass of Hyperband's brackets for maxEpochs 9, eta 3: 9 + 5 + 3 configurations (Li et al. 2018, Algorithm 1).
+  hyperband: { sampler: { kind: 'hyperband', seed: 2, eta: 3, minEpochs: 1 }, budget: { trials: 17, maxEpochs: 9 } },
   'async-halving': { sampler: { kind: 'async-halving', seed: 2, eta: 3, minEpochs: 1 }, budget: { trials: 9, maxEpochs: 9 } },
-  tpe: { sampler: { kind: 'tpe', seed: 2, startupTrials: 4, batchSize: 2 }, budget: { trials: 8, maxEpochs: 6 } },
-  'tpe-hyperband': { sampler: { kind: 'tpe-hyperband', seed: 2, minResults: 2 }, budget: { trials: 1, maxEpochs: 9 } },
+  tpe: { sampler: { kind: 'tpe', seed: 2, trialsBeforeModel: 4, batchSize: 2 }, budget: { trials: 8, maxEpochs: 6 } },
+  'tpe-hyperband': { sampler: { kind: 'tpe-hyperband', seed: 2, smallestGroup: 2 }, budget: { trials: 17, maxEpochs: 9 } },
 };
 
 interface DataSet {

@@ -110,8 +110,13 @@ export type DataOnlyStudy = z.output<typeof dataOnlyStudySchema>;
 
 /** A definition that gives `data` but no `space`: one for rungwise to complete. */
 export function isDataOnly(raw: unknown): boolean {
-  return raw !== null && typeof raw === 'object' && !Array.isArray(raw) && 'data' in raw && !('space' in raw);
+  if (raw === null || typeof raw !== 'object' || Array.isArray(raw) || !('data' in raw) || 'space' in raw) return false;
+  // A key only a full definition has (a sampler, a goal, ...) means a full definition that lacks its space: say so.
+  return Object.keys(raw).every((key) => DATA_ONLY_KEYS.has(key));
 }
+
+/** The keys a data-only definition may have. */
+const DATA_ONLY_KEYS: ReadonlySet<string> = new Set(Object.keys(dataOnlyStudySchema.shape));
 
 /** A study definition as written in the file (defaults not yet applied). */
 export type StudyDefinitionInput = z.input<typeof studySchema>;
