@@ -19,6 +19,7 @@ interface DatasetHeader {
   outputCount: number;
   targetScaling?: { mean: number; std: number };
   classWeights?: number[];
+  costMatrix?: number[][];
   /** Rows and element counts of x and y, training split then validation split. */
   splits: { rows: number; x: number; y: number }[];
 }
@@ -40,6 +41,7 @@ export function encodeDataset(dataset: SharedDataset): Buffer {
     outputCount: dataset.outputCount,
     ...(dataset.targetScaling ? { targetScaling: dataset.targetScaling } : {}),
     ...(dataset.classWeights ? { classWeights: dataset.classWeights } : {}),
+    ...(dataset.costMatrix ? { costMatrix: dataset.costMatrix } : {}),
     splits: [dataset.train, dataset.validation].map((s) => ({ rows: s.rows, x: s.x.length, y: s.y.length })),
   };
   const json = Buffer.from(JSON.stringify(header), 'utf8');
@@ -90,5 +92,6 @@ export function decodeDataset(bytes: Buffer, expectedId: string): SharedDataset 
     validation: validation!,
     ...(header.targetScaling ? { targetScaling: header.targetScaling } : {}),
     ...(header.classWeights ? { classWeights: header.classWeights } : {}),
+    ...(header.costMatrix ? { costMatrix: header.costMatrix } : {}),
   };
 }
