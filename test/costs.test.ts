@@ -21,6 +21,8 @@ import {
   leastExpectedCostClasses,
   type CostMatrix,
 } from '../src/metrics/costs.js';
+import { rankingTable } from '../src/report/ranking-table.js';
+import { formatNumber } from '../src/report/format.js';
 import { resolveGoal, resolveThresholdRule } from '../src/study/definition.js';
 import { validateStudy } from '../src/study/load.js';
 import { tinyStudy, writeTinyStudy } from './helpers/studies.js';
@@ -171,6 +173,10 @@ describe('a tiny study with costs', () => {
     for (const trial of doc.trials) for (const point of trial.curve) expect(point.metrics.cost).toBeGreaterThanOrEqual(0);
     const scores = ranked.filter((entry) => entry.trial.score !== undefined).map((entry) => entry.trial.score!);
     expect(scores).toEqual([...scores].sort((a, b) => a - b));
+    const table = rankingTable(ranked, doc.goal).split('\n');
+    expect(table[0]).toMatch(/cost +cost per 1,000 rows/);
+    const first = ranked[0]!.trial.score!;
+    expect(table[2]).toContain(formatNumber(first * 1000));
 
     const summary = await exportModel({ dir: out });
     const configuration = await readConfiguration(summary.out);

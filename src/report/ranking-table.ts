@@ -14,7 +14,9 @@ export function rankingTable(ranking: readonly RankedTrial[], goal: Goal): strin
   // Columns for schedules and early stopping only when a trial has them, so other rankings read as before.
   const schedules = ranking.some(({ trial }) => trial.configuration.schedule !== undefined);
   const stopping = ranking.some(({ trial }) => trial.bestEpoch !== undefined);
-  const header = ['rank', 'trial', 'rung', 'epochs', ...(stopping ? ['best epoch'] : []), folds ? `${goal.metric} (fold mean ± SE)` : goal.metric, 'depth', 'width', 'activation', 'learning rate', ...(schedules ? ['schedule'] : []), 'batch', 'optimizer', 'l2', 'dropout'];
+  // The cost goal is per row; a column per 1,000 rows reads as an amount a user can weigh.
+  const perThousand = goal.metric === 'cost';
+  const header = ['rank', 'trial', 'rung', 'epochs', ...(stopping ? ['best epoch'] : []), folds ? `${goal.metric} (fold mean ± SE)` : goal.metric, ...(perThousand ? ['cost per 1,000 rows'] : []), 'depth', 'width', 'activation', 'learning rate', ...(schedules ? ['schedule'] : []), 'batch', 'optimizer', 'l2', 'dropout'];
   const rows = ranking.map(({ rank, trial }) => [
     String(rank),
     String(trial.id),
@@ -22,6 +24,7 @@ export function rankingTable(ranking: readonly RankedTrial[], goal: Goal): strin
     String(trial.epochsTrained) + (trial.stoppedEarly ? ' (stopped)' : ''),
     ...(stopping ? [trial.bestEpoch === undefined ? '-' : String(trial.bestEpoch)] : []),
     scoreText(trial.score, trial.scoreStandardError),
+    ...(perThousand ? [trial.score === null ? '-' : formatNumber(trial.score * 1000)] : []),
     String(trial.configuration.depth),
     String(trial.configuration.width),
     trial.configuration.activation,
