@@ -6,7 +6,7 @@ import { UserError } from '../core/errors.js';
 import { writeFolderAtomically } from '../files/atomic-folder.js';
 import { packageVersion } from '../files/package-files.js';
 import type * as tf from '@tensorflow/tfjs';
-import { CONFIGURATION_FILE, buildConfiguration, lastEpochFigures, scoredEpoch, type ExportFigures } from '../export/configuration.js';
+import { CONFIGURATION_FILE, buildConfiguration, lastEpochFigures, scoredEpoch, type ExportCosts, type ExportFigures } from '../export/configuration.js';
 import { OPTIMISM_CAUTION } from '../report/caution.js';
 import { evaluateExportedModel } from '../export/evaluate.js';
 import { MODEL_FILE, WEIGHTS_FILE, buildLayersModel, outputCount, predictRows, saveLayersModel } from '../export/model-files.js';
@@ -24,7 +24,8 @@ import { studyData } from '../store/study-data.js';
 import { StudyStore, studyFilePath } from '../store/study-store.js';
 import type { StudyDocument } from '../store/types.js';
 import type { TrialRecord } from '../core/trial.js';
-import type { DecisionThresholdRule } from '../study/definition.js';
+import { DEFAULT_COST_UNIT, resolveThresholdRule, type DecisionThresholdRule } from '../study/definition.js';
+import { constantPredictionCost, costMetric } from '../metrics/costs.js';
 import type { MetricName, Goal } from '../core/configuration.js';
 import { initBackend } from '../trainers/tfjs/backend.js';
 import type { Metrics } from '../metrics/metrics.js';
@@ -84,6 +85,8 @@ export interface ExportSummary {
   warnings?: string[];
   /** Binary: the decision threshold and how it was chosen. */
   threshold?: ThresholdChoice;
+  /** With the study's `data.costs`: the matrix and the constant predictor's cost on the validation rows. */
+  costs?: ExportCosts;
   /** Classification: per-class figures on the validation split (and the test split with --retrain). */
   classes?: { validation?: ClassReport; test?: ClassReport };
   retrained: boolean;
@@ -131,8 +134,8 @@ export async function exportModel(options: ExportCommandOptions): Promise<Export
   const retrain = options.retrain === true || folds !== undefined;
   // Every check that can refuse runs before the export folder is touched.
   const kept = retrain ? undefined : await keptCheckpointWeights(runDir, doc, chosen);
-  const rule = doc.recipe.task === 'binary' ? doc.definition.decisionThreshold : undefined;
-  const data = retrain || rule ? await exportData(doc, studyFile, options.allowChangedData ?? false, retrain) : undefined;
+  const rule = resolveThresholdRule(doc.definition);
+  const data = retrain || rule || doc.definition.data.costs ? await exportData(doc, studyFile, options.allowChangedData ?? false, retrain) : undefined;
   const out = path.resolve(options.out ?? runPaths.exportDir(runDir, rank));
   const format = options.format ?? 'tfjs';
   // The rows of each split travel with the model, so the winner can be re-scored elsewhere (absent for studies from before the record).
@@ -192,6 +195,7 @@ export async function exportModel(options: ExportCommandOptions): Promise<Export
   if (folds !== undefined) summary.folds = folds;
   if (figures.threshold) summary.threshold = figures.threshold;
   if (figures.classes) summary.classes = figures.classes;
+  if (figures.costs) summary.costs = figures.costs;
   return summary;
 }
 
@@ -241,7 +245,7 @@ function exportFigures(model: tf.LayersModel, doc: StudyDocument, trial: TrialRe
   };
   if (rule && data) {
     const outputs = outputsOf(data.validation);
-    figures.threshold = chooseThreshold(rule, data.validation.y, outputs);
+    figures.threshold = chooseThreshold(rule, data.validation.y, outputs, data.costMatrix);
     const validation = reportAt(data.validation, outputs, figures.threshold.threshold);
     if (validation) classes.validation = validation;
   } else {
@@ -252,11 +256,29 @@ function exportFigures(model: tf.LayersModel, doc: StudyDocument, trial: TrialRe
     const threshold = figures.threshold?.threshold ?? DEFAULT_THRESHOLD;
     const testOutputs = outputsOf(data.test);
     figures.test = evaluateExportedModel(model, recipe, data.test, threshold, testOutputs);
+    if (data.costMatrix) figures.test.cost = costMetric(Int32Array.from(data.test.y), testOutputs, outputCount(recipe), data.costMatrix, recipe.task === 'binary' ? threshold : undefined);
     const test = reportAt(data.test, testOutputs, threshold);
     if (test) classes.test = test;
   }
   if (classes.validation || classes.test) figures.classes = classes;
+  const costs = exportCosts(doc, data);
+  if (costs) figures.costs = costs;
   return figures;
+}
+
+/** The study's costs for the export: the matrix, how a class is decided, and the constant predictor's cost on the validation rows. */
+function exportCosts(doc: StudyDocument, data: PreparedData | undefined): ExportCosts | undefined {
+  const settings = doc.definition.data.costs;
+  const classes = doc.recipe.classes;
+  if (!settings || !data?.costMatrix || !classes) return undefined;
+  const constant = constantPredictionCost(Int32Array.from(data.validation.y), classes.length, data.costMatrix);
+  const decision: ExportCosts['decision'] = doc.recipe.task === 'binary' ? 'threshold' : 'least expected cost';
+  return {
+    unit: settings.unit ?? DEFAULT_COST_UNIT,
+    matrix: data.costMatrix.map((row) => [...row]),
+    decision,
+    constant: { predicted: classes[constant.predicted]!, costPerRow: constant.costPerRow },
+  };
 }
 
 /** What the CLI prints after an export: where it went, the metrics (validation beside test) and the caution. */
@@ -283,7 +305,7 @@ export function exportReport(summary: ExportSummary): string {
   const constant = summary.baselines?.constant.metrics[summary.goal.metric];
   const linear = summary.baselines?.linear?.metrics[summary.goal.metric];
   if (constant !== undefined) lines.push(`baselines on the validation rows (${summary.goal.metric}): constant ${formatNumber(constant)}${linear !== undefined ? `, linear ${formatNumber(linear)}` : ''}; this trial ${formatNumber(summary.score)}`, '');
-  lines.push(...thresholdLines(summary));
+  lines.push(...thresholdLines(summary), ...costLines(summary));
   if (summary.classes?.validation) lines.push(classReportText(summary.classes.validation).replace(/^validation rows/, 'validation split'), '');
   if (summary.classes?.test) lines.push(classReportText(summary.classes.test).replace(/^validation rows/, 'test split (retrained model)'), '');
   if (!summary.test && summary.retrained) lines.push('No test metrics: the study holds no test split (data.testFraction is 0).');
@@ -291,6 +313,19 @@ export function exportReport(summary: ExportSummary): string {
   lines.push(...(summary.warnings ?? []));
   lines.push(summary.caution);
   return lines.join('\n');
+}
+
+/** What the export's decisions cost per row and per 1,000 rows, beside predicting one class for every row. */
+function costLines(summary: ExportSummary): string[] {
+  const costs = summary.costs;
+  if (!costs) return [];
+  const at = (perRow: number | undefined): string => (perRow === undefined ? '-' : `${formatNumber(perRow)} per row, ${formatNumber(perRow * 1000)} per 1,000 rows`);
+  const validation = summary.threshold?.costPerRow ?? summary.validation.cost;
+  const lines = [`cost (${costs.unit}): validation ${at(validation)}${summary.test ? `; test ${at(summary.test.cost)}` : ''}`];
+  lines.push(`  predicting '${costs.constant.predicted}' for every row would cost ${at(costs.constant.costPerRow)} on the validation rows`);
+  if (costs.decision === 'least expected cost') lines.push('  each row gets the class of least expected cost under the study\'s costs (predict does the same)');
+  lines.push('');
+  return lines;
 }
 
 /** Which epoch's weights were exported, in words (early stopping only: otherwise they are the last epoch's). */

@@ -11,7 +11,8 @@ export const CLASSIFICATION_METRICS = ['accuracy', 'macroF1', 'logLoss'] as cons
 export const BINARY_METRICS = [...CLASSIFICATION_METRICS, 'auc'] as const;
 export const REGRESSION_METRICS = ['rmse', 'mae', 'r2'] as const;
 export const SCHEDULES = ['constant', 'step', 'cosine'] as const;
-export const METRICS = ['accuracy', 'macroF1', 'logLoss', 'auc', 'rmse', 'mae', 'r2', 'validationLoss'] as const;
+/** `cost`: the mean cost per validation row of a classifier's decisions, under the study's `data.costs` (src/metrics/costs.ts). */
+export const METRICS = ['accuracy', 'macroF1', 'logLoss', 'auc', 'rmse', 'mae', 'r2', 'validationLoss', 'cost'] as const;
 
 export type Activation = (typeof ACTIVATIONS)[number];
 export type OptimizerName = (typeof OPTIMIZERS)[number];
@@ -54,7 +55,7 @@ export function beats(a: number, b: number, better: Goal['better']): boolean {
   return better === 'higher' ? a > b : a < b;
 }
 
-export const LOWER_IS_BETTER: ReadonlySet<MetricName> = new Set(['logLoss', 'rmse', 'mae', 'validationLoss']);
+export const LOWER_IS_BETTER: ReadonlySet<MetricName> = new Set(['logLoss', 'rmse', 'mae', 'validationLoss', 'cost']);
 
 
 

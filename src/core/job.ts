@@ -26,6 +26,11 @@ export interface SharedDataset {
    * (src/data/class-weights.ts). Absent: every row weighs the same.
    */
   classWeights?: number[];
+  /**
+   * Classification only: the cost of each confusion-matrix cell, `[actual][predicted]` by class
+   * index (`data.costs`); present, every epoch also reports the `cost` metric. Absent: no costs.
+   */
+  costMatrix?: number[][];
 }
 
 /** Train one trial's configuration from one epoch count to another. */

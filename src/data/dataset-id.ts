@@ -3,11 +3,11 @@ import { createReadStream } from 'node:fs';
 import type { PreparedData, SplitArrays } from './types.js';
 
 /**
- * A content hash of the training and validation matrices (and the class weights, when there are
- * any): equal ids mean equal data, on any machine.
+ * A content hash of the training and validation matrices (and the class weights and the cost
+ * matrix, when there are any): equal ids mean equal data sets as a worker sees them, on any machine.
  */
-export function datasetId(data: Pick<PreparedData, 'recipe' | 'train' | 'validation' | 'classWeights'>): string {
-  return splitsHash(data.recipe, [data.train, data.validation], data.classWeights);
+export function datasetId(data: Pick<PreparedData, 'recipe' | 'train' | 'validation' | 'classWeights' | 'costMatrix'>): string {
+  return splitsHash(data.recipe, [data.train, data.validation], data.classWeights, data.costMatrix);
 }
 
 /** Content hashes of the CSV file and of the prepared splits, as the study file records them. */
@@ -31,12 +31,14 @@ export async function dataHashes(csvFile: string, data: PreparedData, csvSha256?
     for await (const chunk of createReadStream(csvFile)) csv.update(chunk as Buffer);
     hex = csv.digest('hex');
   }
-  return { csv: `sha256:${hex}`, trainAndValidation: datasetId(data), test: splitsHash(data.recipe, [data.test]) };
+  // Without the costs: changing what errors cost does not change the data.
+  return { csv: `sha256:${hex}`, trainAndValidation: splitsHash(data.recipe, [data.train, data.validation], data.classWeights), test: splitsHash(data.recipe, [data.test]) };
 }
 
-function splitsHash(recipe: PreparedData['recipe'], splits: readonly SplitArrays[], classWeights?: readonly number[]): string {
+function splitsHash(recipe: PreparedData['recipe'], splits: readonly SplitArrays[], classWeights?: readonly number[], costMatrix?: readonly (readonly number[])[]): string {
   const hash = createHash('sha256').update(JSON.stringify(recipe));
   if (classWeights) hash.update(`classWeights:${JSON.stringify(classWeights)}`);
+  if (costMatrix) hash.update(`costMatrix:${JSON.stringify(costMatrix)}`);
   for (const split of splits) {
     hash.update(`${split.rows}/${split.x.length}/${split.y.length}`);
     hash.update(new Uint8Array(split.x.buffer, split.x.byteOffset, split.x.byteLength));

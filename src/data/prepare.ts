@@ -6,6 +6,7 @@ import type { SharedDataset } from '../core/job.js';
 import type { DataSettings } from '../study/definition.js';
 import { didYouMean } from '../text/nearest.js';
 import { checkClassWeightLabels, trainingClassWeights } from './class-weights.js';
+import { costMatrixFor } from './costs.js';
 import { checkFeatureColumns } from './feature-checks.js';
 import { isMissing } from './csv.js';
 import { ColumnSink, type ColumnTable, type RawColumn } from './columns.js';
@@ -224,6 +225,7 @@ export async function prepareData(
   const target = readTarget(settings, table, notes);
   const classes = target.kind === 'labels' ? checkClasses(settings, target, csvFile, definitionFile) : undefined;
   if (classes && settings.classWeights) checkClassWeightLabels(settings.classWeights, classes.classes, settings.target, definitionFile);
+  if (classes && settings.costs) costMatrixFor(settings.costs, classes.classes, settings.target, definitionFile);
   const counts = classes?.counts;
   const fractions = { validationFraction: settings.validationFraction, testFraction: settings.testFraction };
   if (counts !== undefined) {
@@ -266,6 +268,7 @@ export async function prepareData(
   };
   const weights = recipe.classes && settings.classWeights ? trainingClassWeights(settings.classWeights, recipe.classes, data.train.y) : undefined;
   if (weights) data.classWeights = weights;
+  if (recipe.classes && settings.costs) data.costMatrix = costMatrixFor(settings.costs, recipe.classes, settings.target, definitionFile);
   if (settings.folds !== undefined) {
     if (options.foldSeed === undefined) throw new Error('prepareData: data.folds needs options.foldSeed (the study seed)');
     data.folds = prepareFolds({ settings, features, target, rows: [...indices.train, ...indices.validation], k: settings.folds, seed: options.foldSeed, file: csvFile, definitionFile });
@@ -314,6 +317,7 @@ function prepareFolds(context: {
     const fold: PreparedFold = { recipe, train: part(trainingRows), validation: part(validationRows), rows: validationRows };
     const weights = recipe.classes && settings.classWeights ? trainingClassWeights(settings.classWeights, recipe.classes, fold.train.y) : undefined;
     if (weights) fold.classWeights = weights;
+    if (recipe.classes && settings.costs) fold.costMatrix = costMatrixFor(settings.costs, recipe.classes, settings.target, definitionFile);
     return fold;
   });
 }
@@ -343,5 +347,6 @@ export function toSharedDataset(data: PreparedData, id: string): SharedDataset {
   };
   if (recipe.targetScaling !== undefined) dataset.targetScaling = { ...recipe.targetScaling };
   if (data.classWeights) dataset.classWeights = [...data.classWeights];
+  if (data.costMatrix) dataset.costMatrix = data.costMatrix.map((row) => [...row]);
   return dataset;
 }

@@ -52,6 +52,8 @@ export interface PreparedData {
   test: SplitArrays;
   /** The training loss's weight per class index (`data.classWeights`, from the training rows); absent: all rows weigh the same. */
   classWeights?: number[];
+  /** `data.costs` as `[actual][predicted]` by class index (src/data/costs.ts); absent without costs. */
+  costMatrix?: number[][];
   /** 0-based data-row indices (row 0 = the first line after the header) of each split, ascending; what `splits.json` records. */
   rowIndices?: { train: number[]; validation: number[]; test: number[] };
   /**
@@ -70,6 +72,8 @@ export interface PreparedFold {
   train: SplitArrays;
   validation: SplitArrays;
   classWeights?: number[];
+  /** `data.costs` as `[actual][predicted]` by class index (src/data/costs.ts); absent without costs. */
+  costMatrix?: number[][];
   /** 0-based data-row indices of this fold's validation rows, ascending. */
   rows: number[];
 }

@@ -30,10 +30,22 @@ export interface LastEpochFigures {
   metrics: Metrics;
 }
 
+/** The study's costs as the export carries them (`data.costs`), so `predict` decides by them. */
+export interface ExportCosts {
+  /** What a cost is counted in. */
+  unit: string;
+  /** `matrix[actual][predicted]`: the cost of one row, in the order of the classes. */
+  matrix: number[][];
+  /** binary: by the threshold (outputs.thresholdChoice says which rule chose it); multiclass: each row gets the class of least expected cost (Elkan, IJCAI 2001). */
+  decision: 'threshold' | 'least expected cost';
+  /** The constant predictor on the validation rows: the one class that costs least when predicted for every row, and its cost per row. */
+  constant: { predicted: string; costPerRow: number };
+}
+
 /** What the model's outputs mean. */
 export type ModelOutputs =
   | { task: 'binary'; meaning: string; classes: string[]; threshold: number; thresholdChoice: ThresholdChoice }
-  | { task: 'multiclass'; meaning: string; classes: string[] }
+  | { task: 'multiclass'; meaning: string; classes: string[]; decision?: 'least expected cost' }
   | { task: 'regression'; meaning: string; units: 'target' };
 
 /** How to call `model.onnx`, written into `configuration.json`. */
@@ -84,13 +96,15 @@ export interface ExportConfiguration {
   /** Network inputs in order: a numeric column's name, or `column=category` for each one-hot input. */
   inputs: string[];
   outputs: ModelOutputs;
+  /** With the study's `data.costs`: the cost matrix and the constant predictor's cost. */
+  costs?: ExportCosts;
   model: { file: string; weights: string; format: 'tfjs layers model' };
   /** With `--format onnx`: how to call `model.onnx`. */
   onnx?: OnnxDescription;
   caution: string;
 }
 
-function modelOutputs(recipe: PreprocessingRecipe, threshold: ThresholdChoice | undefined): ModelOutputs {
+function modelOutputs(recipe: PreprocessingRecipe, threshold: ThresholdChoice | undefined, costs: ExportCosts | undefined): ModelOutputs {
   const classes = recipe.classes ?? [];
   if (recipe.task === 'binary') {
     const choice = threshold ?? defaultThresholdChoice();
@@ -102,6 +116,9 @@ function modelOutputs(recipe: PreprocessingRecipe, threshold: ThresholdChoice | 
       thresholdChoice: choice,
       meaning: `one output: the probability of class '${classes[1]}' (sigmoid); '${classes[1]}' is predicted when it is at least ${choice.threshold} (${how})`,
     };
+  }
+  if (recipe.task === 'multiclass' && costs) {
+    return { task: 'multiclass', classes, decision: 'least expected cost', meaning: 'one probability per class, in the order of classes (softmax); the predicted class is the one of least expected cost under costs.matrix' };
   }
   if (recipe.task === 'multiclass') return { task: 'multiclass', classes, meaning: 'one probability per class, in the order of classes (softmax)' };
   return {
@@ -136,6 +153,8 @@ export interface ExportFigures {
   classes?: ExportConfiguration['classes'];
   /** True when the network was retrained on training and validation rows (with --retrain, and always for a k-fold study). */
   retrained?: boolean;
+  /** With the study's costs. */
+  costs?: ExportCosts;
 }
 
 /** The record of the 0.5 default when the study gives no rule (no figures: nothing was chosen). */
@@ -162,7 +181,7 @@ export function buildConfiguration(doc: StudyDocument, trial: TrialRecord, rank:
     trainedOn: retrained || figures.retrained ? 'training and validation splits' : 'training split',
     recipe: doc.recipe,
     inputs: inputNames(doc.recipe),
-    outputs: modelOutputs(doc.recipe, figures.threshold),
+    outputs: modelOutputs(doc.recipe, figures.threshold, figures.costs),
     model: { file: MODEL_FILE, weights: WEIGHTS_FILE, format: 'tfjs layers model' },
     caution: OPTIMISM_CAUTION,
   };
@@ -171,6 +190,7 @@ export function buildConfiguration(doc: StudyDocument, trial: TrialRecord, rank:
   if (figures.handOff) configuration.handOff = figures.handOff;
   if (doc.baselines) configuration.baselines = doc.baselines;
   if (figures.classes) configuration.classes = figures.classes;
+  if (figures.costs) configuration.costs = figures.costs;
   return configuration;
 }
 

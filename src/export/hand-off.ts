@@ -10,6 +10,7 @@ import { strictInputError, type InputIssue } from '../data/input-checks.js';
 import { encodeFeaturesChecked } from '../data/recipe.js';
 import { UserError } from '../core/errors.js';
 import { argmaxRows } from '../metrics/metrics.js';
+import { leastExpectedCostClasses } from '../metrics/costs.js';
 import { initBackend } from '../trainers/tfjs/backend.js';
 import { readConfiguration, type ExportConfiguration } from './configuration.js';
 import { MODEL_FILE, loadLayersModelFromDir, predictRows } from './model-files.js';
@@ -85,7 +86,11 @@ export function encodeRowsChecked(configuration: ExportConfiguration, rows: read
   return encodeFeaturesChecked(configuration.recipe, cells, source, lines);
 }
 
-/** Turns the network's row-major outputs into answers (probabilities to classes with the threshold). */
+/**
+ * Turns the network's row-major outputs into answers: a binary model's class by its threshold; a
+ * multiclass model's by the largest probability, or with the study's costs the class of least
+ * expected cost (Elkan, IJCAI 2001).
+ */
 export function interpretOutputs(configuration: ExportConfiguration, outputs: Float32Array, rows: number): Prediction[] {
   const { recipe } = configuration;
   if (recipe.task === 'regression') return Array.from({ length: rows }, (_, r) => ({ predicted: outputs[r]! }));
@@ -97,7 +102,8 @@ export function interpretOutputs(configuration: ExportConfiguration, outputs: Fl
       return { predicted: classes[p >= threshold ? 1 : 0]!, probabilities: { [classes[0]!]: 1 - p, [classes[1]!]: p } };
     });
   }
-  const best = argmaxRows(outputs, classes.length);
+  const costs = configuration.costs;
+  const best = costs ? leastExpectedCostClasses(outputs, classes.length, costs.matrix) : argmaxRows(outputs, classes.length);
   return Array.from({ length: rows }, (_, r) => ({
     predicted: classes[best[r]!]!,
     probabilities: Object.fromEntries(classes.map((label, c) => [label, outputs[r * classes.length + c]!])),

@@ -13,6 +13,7 @@ const METRIC_LABELS: Record<MetricName, string> = {
   mae: 'MAE (target units)',
   r2: 'R²',
   validationLoss: 'validation loss',
+  cost: 'cost per row (the study\'s unit)',
 };
 
 /** "validation AUC (higher is better)". */

@@ -19,7 +19,9 @@ export function rankingTable(ranking: readonly RankedTrial[], goal: Goal): strin
   // Classification: accuracy and macro-F1 side by side (besides the goal's metric), to see what class weights trade.
   const scoredPoint = (trial: RankedTrial['trial']) => (trial.bestEpoch !== undefined ? trial.curve.find((p) => p.epoch === trial.bestEpoch) : trial.curve.at(-1));
   const sideBySide = (['accuracy', 'macroF1'] as const).filter((name) => name !== goal.metric && ranking.some(({ trial }) => scoredPoint(trial)?.metrics[name] !== undefined));
-  const header = ['rank', 'trial', 'rung', 'epochs', ...(stopping ? ['best epoch'] : []), folds ? `${goal.metric} (fold mean ± SE)` : goal.metric, ...sideBySide, 'depth', 'width', 'activation', 'learning rate', ...(schedules ? ['schedule'] : []), 'batch', 'optimizer', 'l2', 'dropout', ...(flagged ? ['flags'] : [])];
+  // The cost goal is per row; a column per 1,000 rows reads as an amount a user can weigh.
+  const perThousand = goal.metric === 'cost';
+  const header = ['rank', 'trial', 'rung', 'epochs', ...(stopping ? ['best epoch'] : []), folds ? `${goal.metric} (fold mean ± SE)` : goal.metric, ...(perThousand ? ['cost per 1,000 rows'] : []), ...sideBySide, 'depth', 'width', 'activation', 'learning rate', ...(schedules ? ['schedule'] : []), 'batch', 'optimizer', 'l2', 'dropout', ...(flagged ? ['flags'] : [])];
   const rows = ranking.map(({ rank, trial }) => [
     String(rank),
     String(trial.id),
@@ -27,6 +29,7 @@ export function rankingTable(ranking: readonly RankedTrial[], goal: Goal): strin
     String(trial.epochsTrained) + (trial.stoppedEarly ? ' (stopped)' : ''),
     ...(stopping ? [trial.bestEpoch === undefined ? '-' : String(trial.bestEpoch)] : []),
     scoreText(trial.score, trial.scoreStandardError),
+    ...(perThousand ? [trial.score === null ? '-' : formatNumber(trial.score * 1000)] : []),
     ...sideBySide.map((name) => formatNumber(scoredPoint(trial)?.metrics[name])),
     String(trial.configuration.depth),
     String(trial.configuration.width),

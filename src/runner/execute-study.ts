@@ -95,6 +95,7 @@ function foldDatasets(data: PreparedData): SharedDataset[] {
   return (data.folds ?? []).map((fold) => {
     const part: PreparedData = { recipe: fold.recipe, train: fold.train, validation: fold.validation, test: { rows: 0, x: new Float32Array(0), y: new Float32Array(0) } };
     if (fold.classWeights) part.classWeights = fold.classWeights;
+    if (fold.costMatrix) part.costMatrix = fold.costMatrix;
     return toSharedDataset(part, datasetId(part));
   });
 }

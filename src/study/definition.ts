@@ -45,7 +45,30 @@ export const dataSchema = z.strictObject({
     .describe(
       'Classification only: how much each class weighs in the training loss. "none" (default): every row the same; "balanced": n / (classes x rows of the class), from the training rows; or an object of class label to weight (classes it does not name weigh 1). Weights are scaled so the training rows\' mean weight is 1.',
     ),
+  costs: z
+    .strictObject({
+      unit: z.string().min(1).max(20).optional().describe('What a cost is counted in (EUR, hours, ...), shown beside every cost; default "cost units".'),
+      cells: z
+        .array(
+          z.strictObject({
+            actual: z.string().min(1).describe('The class the row truly is (a label of the target column).'),
+            predicted: z.string().min(1).describe('The class the model predicts for it.'),
+            cost: z.number().finite().describe('What one such row costs; a gain is a negative cost.'),
+          }),
+        )
+        .min(1)
+        .describe('Cells of the confusion matrix with their cost per row; a cell not listed costs 0. Each (actual, predicted) pair at most once.'),
+    })
+    .optional()
+    .describe(
+      'Classification only: what each kind of decision costs per row. Present: every epoch also reports the metric "cost" (mean cost per validation row: binary at the threshold of least cost, multiclass by choosing for each row the class of least expected cost), the default goal becomes "cost", and a binary export\'s default threshold rule is "least-cost".',
+    ),
 });
+
+/** The unit costs are shown in when `data.costs.unit` is not given. */
+export const DEFAULT_COST_UNIT = 'cost units';
+
+export type CostSettings = NonNullable<z.output<typeof dataSchema>['costs']>;
 
 export const goalSchema = z.strictObject({
   metric: z.enum(METRICS).describe('Validation metric to rank trials by.'),
@@ -57,10 +80,11 @@ const thresholdShare = z.number().gt(0).max(1).describe('A share between 0 (excl
 export const decisionThresholdSchema = z
   .discriminatedUnion('choose', [
     z.strictObject({ choose: z.literal('largest-f1').describe('The threshold with the largest F1 of the positive class.') }),
+    z.strictObject({ choose: z.literal('least-cost').describe('The threshold with the least mean cost per row under data.costs (which it needs).') }),
     z.strictObject({ choose: z.literal('min-precision').describe('The threshold with the largest recall among those reaching this precision.'), value: thresholdShare }),
     z.strictObject({ choose: z.literal('min-recall').describe('The threshold with the largest precision among those reaching this recall.'), value: thresholdShare }),
   ])
-  .describe('Binary only: how the exported model\'s decision threshold is chosen on the validation rows; absent means 0.5.');
+  .describe('Binary only: how the exported model\'s decision threshold is chosen on the validation rows; absent means 0.5, or least-cost when data.costs is given.');
 
 export type DecisionThresholdRule = z.output<typeof decisionThresholdSchema>;
 
@@ -75,7 +99,7 @@ export const studySchema = z.strictObject({
   space: spaceSchema,
   budget: budgetSchema,
   sampler: samplerSchema.default({ kind: 'random', seed: 0 }),
-  goal: goalSchema.optional().describe('Default: auc for binary, accuracy for multiclass, rmse for regression.'),
+  goal: goalSchema.optional().describe('Default: cost when data.costs is given, else auc for binary, accuracy for multiclass, rmse for regression.'),
   workers: z.int().min(1).max(256).optional().describe('Worker threads; default: available cores.'),
   trialTimeoutSeconds: z.number().positive().optional().describe('A trial running longer is stopped and marked timed-out.'),
   retries: z.int().min(0).max(10).default(0).describe('Times a failed trial is run again before it is given up.'),
@@ -126,12 +150,18 @@ export type SamplerSettings = StudyDefinition['sampler'];
 export type SamplerKind = SamplerSettings['kind'];
 export type DataSettings = StudyDefinition['data'];
 
-/** The goal in force: the study's own, else the task's default; which way is better follows the metric unless given. */
+/** The goal in force: the study's own, else `cost` when the study gives costs, else the task's default; which way is better follows the metric unless given. */
 export function resolveGoal(definition: Pick<StudyDefinition, 'goal' | 'data'>): Goal {
   const metric: MetricName =
     definition.goal?.metric ??
-    (definition.data.task === 'binary' ? 'auc' : definition.data.task === 'multiclass' ? 'accuracy' : 'rmse');
+    (definition.data.costs !== undefined ? 'cost' : definition.data.task === 'binary' ? 'auc' : definition.data.task === 'multiclass' ? 'accuracy' : 'rmse');
   const better = definition.goal?.better ?? (LOWER_IS_BETTER.has(metric) ? 'lower' : 'higher');
   return { metric, better };
 }
 
+
+/** The decision-threshold rule in force for a binary study: the study's own, else `least-cost` when it gives costs, else none (0.5). */
+export function resolveThresholdRule(definition: Pick<StudyDefinition, 'decisionThreshold' | 'data'>): DecisionThresholdRule | undefined {
+  if (definition.data.task !== 'binary') return undefined;
+  return definition.decisionThreshold ?? (definition.data.costs !== undefined ? { choose: 'least-cost' } : undefined);
+}

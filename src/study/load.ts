@@ -78,9 +78,29 @@ export function parseJson(text: string, file: string): unknown {
   }
 }
 
-function metricsAllowed(task: StudyDefinition['data']['task']): readonly MetricName[] {
+function metricsAllowed(task: StudyDefinition['data']['task'], withCosts: boolean): readonly MetricName[] {
   const base = task === 'binary' ? BINARY_METRICS : task === 'multiclass' ? CLASSIFICATION_METRICS : REGRESSION_METRICS;
-  return [...base, 'validationLoss'];
+  return [...base, 'validationLoss', ...(withCosts ? (['cost'] as const) : [])];
+}
+
+/** Problems of `data.costs` the schema cannot see: a regression task, a cell given twice, a least-cost rule or cost goal without costs. */
+function costProblems(definition: StudyDefinition): [string, string][] {
+  const { data } = definition;
+  const problems: [string, string][] = [];
+  if (data.costs && data.task === 'regression') problems.push(['data.costs', 'is for classification; a regression task takes no costs']);
+  const seen = new Set<string>();
+  data.costs?.cells.forEach((cell, i) => {
+    const key = JSON.stringify([cell.actual, cell.predicted]);
+    if (seen.has(key)) problems.push([`data.costs.cells[${i}]`, `gives actual "${cell.actual}", predicted "${cell.predicted}" a second time; give each cell once`]);
+    seen.add(key);
+  });
+  if (definition.decisionThreshold?.choose === 'least-cost' && !data.costs) {
+    problems.push(['decisionThreshold.choose', '"least-cost" needs data.costs (the cost of each kind of decision)']);
+  }
+  if (definition.goal?.metric === 'cost' && !data.costs && data.task !== 'regression') {
+    problems.push(['goal.metric', '"cost" needs data.costs (the cost of each kind of decision)']);
+  }
+  return problems;
 }
 
 /** Rules that span several fields, each as `[json path, message]`. */
@@ -94,8 +114,8 @@ function crossFieldProblems(definition: StudyDefinition): [string, string][] {
     ]);
   }
   if (goal) {
-    const allowed = metricsAllowed(data.task);
-    if (!allowed.includes(goal.metric)) {
+    const allowed = metricsAllowed(data.task, data.costs !== undefined);
+    if (!allowed.includes(goal.metric) && !(goal.metric === 'cost' && data.task !== 'regression')) {
       problems.push(['goal.metric', `found "${goal.metric}", expected for a ${data.task} task one of ${allowed.map((m) => `"${m}"`).join(', ')}`]);
     }
   }
@@ -110,6 +130,7 @@ function crossFieldProblems(definition: StudyDefinition): [string, string][] {
   if (definition.decisionThreshold && data.task !== 'binary') {
     problems.push(['decisionThreshold', `is for binary tasks; this study's task is ${data.task}`]);
   }
+  problems.push(...costProblems(definition));
   const stopping = earlyStoppingProblem(definition.earlyStopping, resolveGoal(definition));
   if (stopping) problems.push(['earlyStopping.rule', stopping]);
   if (definition.earlyStopping && data.folds !== undefined) {

@@ -12,6 +12,7 @@ import { jobClassFigures } from '../../metrics/class-figures.js';
 import type { ClassFigures } from '../../core/class-figures.js';
 import { divergenceReason } from './divergence.js';
 import { computeMetrics } from '../../metrics/metrics.js';
+import { costMetric } from '../../metrics/costs.js';
 import { hasSchedule, learningRateAt } from '../../core/schedule.js';
 
 /** What a trainer does for one epoch: the mean training loss, then the validation loss and outputs. */
@@ -75,7 +76,7 @@ export function runEpochs(
       epoch,
       trainLoss,
       validationLoss: validation.loss,
-      metrics: computeMetrics(dataset.task, dataset.validation.y, validation.outputs, dataset.outputCount, dataset.targetScaling),
+      metrics: validationMetrics(request, validation.outputs),
       seconds: (performance.now() - epochStarted) / 1000,
     };
     epochs.push(report);
@@ -92,6 +93,14 @@ export function runEpochs(
     }
   }
   return { epochs, ...(stopping ? { stopping } : {}) };
+}
+
+/** The epoch's validation metrics, with the `cost` metric when the data set carries costs. */
+function validationMetrics(request: TrainRequest, outputs: Float32Array): EpochReport['metrics'] {
+  const { dataset } = request;
+  const metrics = computeMetrics(dataset.task, dataset.validation.y, outputs, dataset.outputCount, dataset.targetScaling);
+  if (dataset.costMatrix) metrics.cost = costMetric(Int32Array.from(dataset.validation.y), outputs, dataset.outputCount, dataset.costMatrix);
+  return metrics;
 }
 
 /** The rule's state the trial's checkpoint carries (none for a fresh start or a checkpoint written without early stopping). */

@@ -34,6 +34,7 @@ export function encodeDataset(dataset: SharedDataset): Buffer {
     outputCount: dataset.outputCount,
     ...(dataset.targetScaling ? { targetScaling: dataset.targetScaling } : {}),
     ...(dataset.classWeights ? { classWeights: dataset.classWeights } : {}),
+    ...(dataset.costMatrix ? { costMatrix: dataset.costMatrix } : {}),
     splits: [sizes(dataset.train), sizes(dataset.validation)],
   };
   const json = Buffer.from(JSON.stringify(header), 'utf8');
@@ -94,6 +95,8 @@ export function decodeDataset(bytes: Buffer, expectedId: string, expectedSha256?
     validation: validation!,
     ...(header.targetScaling ? { targetScaling: header.targetScaling } : {}),
     ...(header.classWeights ? { classWeights: header.classWeights } : {}),
+    ...(header.costMatrix ? { costMatrix: header.costMatrix } : {}),
+    ...(header.costMatrix ? { costMatrix: header.costMatrix } : {}),
   };
 }
 

@@ -129,6 +129,7 @@ export const datasetHeaderSchema = z
     outputCount: positiveCount,
     targetScaling: z.strictObject({ mean: z.number(), std: z.number().min(0) }).optional(),
     classWeights: z.array(z.number().min(0)).optional(),
+    costMatrix: z.array(z.array(z.number().finite())).optional(),
     splits: z.tuple([
       z.strictObject({ rows: positiveCount, x: count, y: count }),
       z.strictObject({ rows: positiveCount, x: count, y: count }),
