@@ -143,35 +143,59 @@ export async function exportModel(options: ExportCommandOptions): Promise<Export
 
   // With --retrain, the study's own network too (when kept), to be scored on the same test rows.
   const studyWeights = retrain && folds === undefined ? await keptCheckpointWeights(runDir, doc, chosen).catch(() => undefined) : undefined;
-  let figures: ExportFigures = {};
-  await writeFolderAtomically(
-    out,
-    (existing) => existsSync(path.join(existing, CONFIGURATION_FILE)),
-    async (partial) => {
-      await initBackend();
-      const weights = retrain ? await retrainTrial(data!, trial, doc.definition.budget.maxEpochs) : kept!;
-      const model = buildLayersModel(trial.configuration, doc.recipe, weights);
-      try {
-        figures = { ...exportFigures(model, doc, trial, data, rule, retrain), ...(retrain ? { retrained: true } : {}) };
-        if (studyWeights && data && data.test.rows > 0) figures = { ...figures, ...studyNetworkOnTest(studyWeights, model, doc, trial, data, figures) };
-        await saveLayersModel(model, partial);
-        const configuration = buildConfiguration(doc, trial, rank, figures);
-        if (format === 'onnx') {
-          const { describeOnnx, writeOnnxModel } = await import('../export/onnx.js');
-          configuration.onnx = describeOnnx(configuration);
-          await writeOnnxModel(model, configuration, partial, packageVersion());
-        }
-        await writeFile(path.join(partial, CONFIGURATION_FILE), `${JSON.stringify(configuration, null, 2)}\n`);
-        if (splitRecord) await copyFile(splitRecord, path.join(partial, SPLIT_RECORD_NAME));
-      } finally {
-        model.dispose();
-      }
-    },
-  );
+  const plan: ExportPlan = { doc, trial, rank, data, rule, retrain, format, splitRecord, ...(kept ? { kept } : {}), ...(studyWeights ? { studyWeights } : {}) };
+  const figures = await writeFolderAtomically(out, (existing) => existsSync(path.join(existing, CONFIGURATION_FILE)), (partial) => writeExport(plan, partial));
+  return exportSummaryOf(plan, { dir: runDir, out, figures, studyNetworkLost: retrain && folds === undefined && !studyWeights });
+}
 
+/** Everything an export writes, decided before the folder is touched. */
+interface ExportPlan {
+  doc: StudyDocument;
+  trial: TrialRecord;
+  rank: number;
+  data: PreparedData | undefined;
+  rule: DecisionThresholdRule | undefined;
+  retrain: boolean;
+  format: 'tfjs' | 'onnx';
+  splitRecord: string | undefined;
+  /** The kept checkpoint's weights (without --retrain). */
+  kept?: NamedWeights[];
+  /** With --retrain: the study's own network, when its checkpoint is kept, to score beside the retrained one. */
+  studyWeights?: NamedWeights[];
+}
+
+/** Fills the export folder: the network (retrained or the study's own), its configuration, ONNX on request, the split record. */
+async function writeExport(plan: ExportPlan, partial: string): Promise<ExportFigures> {
+  const { doc, trial, data, rule, retrain } = plan;
+  await initBackend();
+  const weights = retrain ? await retrainTrial(data!, trial, doc.definition.budget.maxEpochs) : plan.kept!;
+  const model = buildLayersModel(trial.configuration, doc.recipe, weights);
+  try {
+    let figures: ExportFigures = { ...exportFigures(model, doc, trial, data, rule, retrain), ...(retrain ? { retrained: true } : {}) };
+    if (plan.studyWeights && data && data.test.rows > 0) figures = { ...figures, ...studyNetworkOnTest(plan.studyWeights, model, doc, trial, data, figures) };
+    await saveLayersModel(model, partial);
+    const configuration = buildConfiguration(doc, trial, plan.rank, figures);
+    if (plan.format === 'onnx') {
+      const { describeOnnx, writeOnnxModel } = await import('../export/onnx.js');
+      configuration.onnx = describeOnnx(configuration);
+      await writeOnnxModel(model, configuration, partial, packageVersion());
+    }
+    await writeFile(path.join(partial, CONFIGURATION_FILE), `${JSON.stringify(configuration, null, 2)}\n`);
+    if (plan.splitRecord) await copyFile(plan.splitRecord, path.join(partial, SPLIT_RECORD_NAME));
+    return figures;
+  } finally {
+    model.dispose();
+  }
+}
+
+/** What `export` returns: where it went, the scores (validation, test, baselines), the threshold, costs and warnings. */
+function exportSummaryOf(plan: ExportPlan, written: { dir: string; out: string; figures: ExportFigures; studyNetworkLost: boolean }): ExportSummary {
+  const { doc, trial, rank, retrain, format, splitRecord } = plan;
+  const { figures } = written;
+  const folds = doc.definition.data.folds;
   const summary: ExportSummary = {
-    dir: runDir,
-    out,
+    dir: written.dir,
+    out: written.out,
     study: doc.name,
     trialId: trial.id,
     rank,
@@ -190,7 +214,7 @@ export async function exportModel(options: ExportCommandOptions): Promise<Export
   if (figures.studyTest) summary.studyTest = figures.studyTest;
   if (doc.baselines) summary.baselines = doc.baselines;
   if (figures.handOff) summary.handOff = figures.handOff;
-  const warnings = handOffWarnings(summary, retrain && folds === undefined && !studyWeights);
+  const warnings = handOffWarnings(summary, written.studyNetworkLost);
   if (warnings.length > 0) summary.warnings = warnings;
   if (folds !== undefined) summary.folds = folds;
   if (figures.threshold) summary.threshold = figures.threshold;

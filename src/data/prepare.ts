@@ -206,40 +206,11 @@ export async function prepareData(
 ): Promise<{ data: PreparedData; summary: DataSummary; notes: string[]; warnings: string[]; csvSha256: string }> {
   const started = performance.now();
   const emit = (event: DataEvent): void => options.onDataEvent?.(event);
-  const csvFile = displayPath(path.resolve(path.dirname(definitionFile), settings.csv));
-  const info = await stat(csvFile).catch(() => undefined);
-  if (info === undefined) throw studyError(definitionFile, 'data.csv', `${csvFile} not found (the path is relative to the study file's folder)`);
-  if (info.isDirectory()) throw studyError(definitionFile, 'data.csv', `${csvFile} is a directory; expected a CSV file (the path is relative to the study file's folder)`);
-
-  const sink = new ColumnSink(csvFile, {
-    asText: new Set(settings.task === 'regression' ? [] : [settings.target]),
-    totalBytes: info.size,
-    onHeader: (columns) => checkHeader(settings, columns, csvFile, definitionFile),
-  });
-  const dialect = await streamCsv(csvFile, sink, { ...(options.signal ? { signal: options.signal } : {}), onEvent: emit });
-  const table = sink.table();
-  const notes: string[] = [];
-  if (dialect.delimiter !== ',') notes.push(`${csvFile}: read with ${delimiterName(dialect.delimiter)} as the delimiter (the header line holds more of it than of ',')`);
-  await checkpoint(options.signal);
+  const { csvFile, table, dialect, notes } = await readTable(settings, definitionFile, options, emit);
 
   const target = readTarget(settings, table, notes);
-  const classes = target.kind === 'labels' ? checkClasses(settings, target, csvFile, definitionFile) : undefined;
-  if (classes && settings.classWeights) checkClassWeightLabels(settings.classWeights, classes.classes, settings.target, definitionFile);
-  if (classes && settings.costs) costMatrixFor(settings.costs, classes.classes, settings.target, definitionFile);
-  const counts = classes?.counts;
+  const counts = checkTargetClasses(settings, target, table.rows, csvFile, definitionFile);
   const fractions = { validationFraction: settings.validationFraction, testFraction: settings.testFraction };
-  if (counts !== undefined) {
-    const splits = splitSizes({ rows: table.rows, ...fractions, file: csvFile }).filter((size) => size > 0).length;
-    const small = classes!.classes.find((label) => counts[label]! < splits);
-    if (small !== undefined) {
-      throw studyError(
-        definitionFile,
-        'data',
-        `class '${small}' of column '${settings.target}' has ${counts[small]} row${counts[small] === 1 ? '' : 's'} in ${csvFile}; ` +
-          `the stratified split into ${splits === 3 ? 'training, validation and test' : 'training and validation'} needs at least ${splits} rows of each class`,
-      );
-    }
-  }
   const names = featureNames(settings, table.columns, csvFile, definitionFile);
   const { features, missing } = await readFeatures(names, table, { definitionFile, notes, options, emit });
 
@@ -275,6 +246,62 @@ export async function prepareData(
     data.foldSeed = options.foldSeed;
   }
 
+  const summary = dataSummary(csvFile, table, data, missing, counts);
+  for (const message of notes) emit({ type: 'note', file: csvFile, message });
+  for (const message of warnings) emit({ type: 'warning', file: csvFile, message });
+  emit({ type: 'ready', file: csvFile, rows: table.rows, columns: table.columns.length, seconds: (performance.now() - started) / 1000 });
+  return { data, summary, notes, warnings, csvSha256: dialect.sha256 ?? '' };
+}
+
+
+/** Reads the CSV into typed columns, with a note when its delimiter is not a comma. */
+async function readTable(
+  settings: DataSettings,
+  definitionFile: string,
+  options: DataLoadOptions,
+  emit: (event: DataEvent) => void,
+): Promise<{ csvFile: string; table: ColumnTable; dialect: Awaited<ReturnType<typeof streamCsv>>; notes: string[] }> {
+  const csvFile = displayPath(path.resolve(path.dirname(definitionFile), settings.csv));
+  const info = await stat(csvFile).catch(() => undefined);
+  if (info === undefined) throw studyError(definitionFile, 'data.csv', `${csvFile} not found (the path is relative to the study file's folder)`);
+  if (info.isDirectory()) throw studyError(definitionFile, 'data.csv', `${csvFile} is a directory; expected a CSV file (the path is relative to the study file's folder)`);
+  const sink = new ColumnSink(csvFile, {
+    asText: new Set(settings.task === 'regression' ? [] : [settings.target]),
+    totalBytes: info.size,
+    onHeader: (columns) => checkHeader(settings, columns, csvFile, definitionFile),
+  });
+  const dialect = await streamCsv(csvFile, sink, { ...(options.signal ? { signal: options.signal } : {}), onEvent: emit });
+  const notes: string[] = [];
+  if (dialect.delimiter !== ',') notes.push(`${csvFile}: read with ${delimiterName(dialect.delimiter)} as the delimiter (the header line holds more of it than of ',')`);
+  await checkpoint(options.signal);
+  return { csvFile, table: sink.table(), dialect, notes };
+}
+
+/**
+ * Classification: the target's classes, checked against the class weights and costs the study names
+ * and against the stratified split (every class needs a row in each split); the rows of each class.
+ */
+function checkTargetClasses(settings: DataSettings, target: TargetValues, rows: number, csvFile: string, definitionFile: string): Record<string, number> | undefined {
+  const classes = target.kind === 'labels' ? checkClasses(settings, target, csvFile, definitionFile) : undefined;
+  if (!classes) return undefined;
+  if (settings.classWeights) checkClassWeightLabels(settings.classWeights, classes.classes, settings.target, definitionFile);
+  if (settings.costs) costMatrixFor(settings.costs, classes.classes, settings.target, definitionFile);
+  const counts = classes.counts;
+  const splits = splitSizes({ rows, validationFraction: settings.validationFraction, testFraction: settings.testFraction, file: csvFile }).filter((size) => size > 0).length;
+  const small = classes.classes.find((label) => counts[label]! < splits);
+  if (small !== undefined) {
+    throw studyError(
+      definitionFile,
+      'data',
+      `class '${small}' of column '${settings.target}' has ${counts[small]} row${counts[small] === 1 ? '' : 's'} in ${csvFile}; ` +
+        `the stratified split into ${splits === 3 ? 'training, validation and test' : 'training and validation'} needs at least ${splits} rows of each class`,
+    );
+  }
+  return counts;
+}
+
+/** What the study file records of the data: its size, the splits' rows, inputs, missing values and class counts. */
+function dataSummary(csvFile: string, table: ColumnTable, data: PreparedData, missing: DataSummary['missingValues'], counts: Record<string, number> | undefined): DataSummary {
   const summary: DataSummary = {
     file: csvFile,
     rows: table.rows,
@@ -282,14 +309,11 @@ export async function prepareData(
     trainRows: data.train.rows,
     validationRows: data.validation.rows,
     testRows: data.test.rows,
-    inputCount: recipe.inputCount,
+    inputCount: data.recipe.inputCount,
     missingValues: missing,
   };
   if (counts !== undefined) summary.classCounts = counts;
-  for (const message of notes) emit({ type: 'note', file: csvFile, message });
-  for (const message of warnings) emit({ type: 'warning', file: csvFile, message });
-  emit({ type: 'ready', file: csvFile, rows: table.rows, columns: table.columns.length, seconds: (performance.now() - started) / 1000 });
-  return { data, summary, notes, warnings, csvSha256: dialect.sha256 ?? '' };
+  return summary;
 }
 
 /**
