@@ -6,7 +6,8 @@
 # Builds each revision in a scratch worktree, runs every demo study (studies/demo/*.json) and its
 # ranking with 2 worker threads, masks what is measured (seconds, clock times, rates, utilisation,
 # dates), and prints a unified diff per study; it exits 1 when any output differs. Asynchronous
-# halving decides by the order results arrive, so its output may differ between any two runs.
+# halving decides by the order results arrive, so its output may differ between any two runs. The
+# per-job progress lines are left out: their counters depend on which thread ends first.
 set -euo pipefail
 ROOT=$(cd "$(dirname "$0")/.." && pwd)
 before=${1:?usage: scripts/demo-outputs.sh REV_BEFORE [REV_AFTER]}
@@ -23,7 +24,8 @@ checkout() { # name rev -> folder with a build
 }
 
 mask() {
-  sed -E \
+  # The piped progress lines' counters depend on which thread ends first, so they are left out.
+  grep -v -E '^\[[0-9]+/' | sed -E \
     -e 's/[0-9]+(\.[0-9]+)? ?(s|ms|min)\b/<time>/g' \
     -e 's/\b[0-9]{1,2}:[0-9]{2}(:[0-9]{2})?\b/<clock>/g' \
     -e 's/[0-9]{4}-[0-9]{2}-[0-9]{2}T[0-9:.]+Z/<date>/g' \
