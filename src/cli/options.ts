@@ -1,5 +1,6 @@
 /** Flag parsers and flag groups that several commands share. */
 import { type Command, InvalidArgumentError } from 'commander';
+import type { QueueFlags } from '../commands/queue.js';
 
 /** A flag value that must be a whole number from 0 up. */
 export function wholeNumber(value: string, name: string): number {
@@ -26,14 +27,8 @@ export function queueOptions(command: Command): Command {
     .option('--key-file <file>', 'with --queue: the study key, on the first line of this file (or set RUNGWISE_STUDY_KEY): jobs are signed, unsigned results refused');
 }
 
-export interface QueueFlagValues {
-  queue?: string;
-  threads?: number;
-  queueWaitSeconds?: number;
-  passwordFile?: string;
-  caFile?: string;
-  keyFile?: string;
-}
+/** The queue flags as commander parses them: the command functions' own `QueueFlags`. */
+export type QueueFlagValues = QueueFlags;
 
 /** The queue flags that were given, for the study commands. */
 export function queueFlags(flags: QueueFlagValues): QueueFlagValues {
