@@ -72,7 +72,7 @@ function wholeStep(seconds: number): Pick<EngineSample, 'step' | 'validation'> {
   const rows = quick ? 1024 : 4096;
   const dataset = benchDataset(rows, 256, 20, 3);
   const params = { depth: 4, width: 256, activation: 'relu', learningRate: 1e-3, batchSize: 256, optimizer: 'adam', l2: 0, dropout: 0 } as const;
-  const trial = EngineTrial.create({ trialId: 1, seed: 7, params, dataset });
+  const trial = EngineTrial.create({ trialId: 1, seed: 7, configuration: params, dataset });
   let epoch = 0;
   const epochsPerSecond = rate(() => trial.trainEpoch(++epoch), seconds);
   const samplesPerSecond = epochsPerSecond * rows;

@@ -6,7 +6,7 @@ import { fork } from 'node:child_process';
 import { rm } from 'node:fs/promises';
 import path from 'node:path';
 import { TrialPool } from '../src/transports/threads/pool.js';
-import { paramsForTrial } from '../src/space/sample.js';
+import { configurationForTrial } from '../src/space/sample.js';
 import { studySchema } from '../src/study/definition.js';
 import type { BenchOptions } from './index.js';
 import type { MemoryReading, ProbedResult } from './fixtures/memory-probe-worker.js';
@@ -58,7 +58,7 @@ export async function measureMemory(options: BenchOptions): Promise<GroupResult>
   try {
     for (let id = 1; id <= trials; id++) {
       // Every trial returns a checkpoint, as in a halving study.
-      const request = { trialId: id, seed: id, configuration: paramsForTrial(space, 3, id), dataset, datasetId: dataset.id, fromEpoch: 0, toEpoch: 2 };
+      const request = { trialId: id, seed: id, configuration: configurationForTrial(space, 3, id), dataset, datasetId: dataset.id, fromEpoch: 0, toEpoch: 2 };
       const result = (await pool.run(request, () => undefined)) as ProbedResult;
       if (result.tensorsAfter !== result.tensorsBefore) leakedTrials += 1;
       readings.push(result.memory);

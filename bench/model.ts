@@ -13,7 +13,7 @@ import { runStudy } from '../src/runner/run-study.js';
 import { createSampler } from '../src/samplers/index.js';
 import type { Job } from '../src/samplers/sampler.js';
 import { TpeModel, type Observation } from '../src/samplers/tpe-model.js';
-import { pointOfParams } from '../src/space/dimensions.js';
+import { pointOfConfiguration } from '../src/space/dimensions.js';
 import { spaceDesign } from '../src/samplers/design.js';
 import { budgetSchema } from '../src/core/budget.js';
 import { samplerSchema } from '../src/samplers/registry.js';
@@ -53,7 +53,7 @@ function proposalCost(seed: number): { tpe: number; tpeHyperbandModel: number } 
   for (let trialId = 0; trialId < 1000; trialId++) {
     const job = sampler.next() as Job;
     sampler.report({ trialId, rung: 0, loss: loss(job) });
-    observations.push({ trialId, point: pointOfParams(definition.space, job.configuration), loss: loss(job) });
+    observations.push({ trialId, point: pointOfConfiguration(definition.space, job.configuration), loss: loss(job) });
   }
   let started = performance.now();
   const proposal = sampler.next();

@@ -61,7 +61,7 @@ const seconds = args.includes('--quick') ? 0.6 : 2;
 const dataset = benchDataset(PACE_ROWS, 256, 20, 3);
 const samples: LoopSample[] = PACE_NETWORKS.map(({ depth, width, batchSize }, i) => {
   const params = { depth, width, activation: 'relu', learningRate: 1e-3, batchSize, optimizer: 'adam', l2: 0, dropout: 0 } as const;
-  const trial = EngineTrial.create({ trialId: i + 1, seed: 7, params, dataset });
+  const trial = EngineTrial.create({ trialId: i + 1, seed: 7, configuration: params, dataset });
   const { perSecond, perCpuSecond, epochs } = samplesPerSecond(trial, seconds);
   return { network: `${depth}x${width}`, batchSize, samplesPerSecond: perSecond, samplesPerCpuSecond: perCpuSecond, epochs };
 });

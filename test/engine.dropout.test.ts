@@ -12,7 +12,7 @@ describe('engine dropout', () => {
     const rate = 0.4;
     const rows = 128;
     const width = 2048;
-    const trial = EngineTrial.create({ trialId: 1, seed: 5, params: { ...baseParams, depth: 1, width, dropout: rate, batchSize: rows, activation: 'sigmoid' }, dataset });
+    const trial = EngineTrial.create({ trialId: 1, seed: 5, configuration: { ...baseParams, depth: 1, width, dropout: rate, batchSize: rows, activation: 'sigmoid' }, dataset });
     trial.setUpdating(false);
     trial.setOrder(Int32Array.from({ length: dataset.train.rows }, (_, i) => i));
     trial.drawMasks(stream(5, 'dropout', 1, 0), rows);
@@ -43,7 +43,7 @@ describe('engine dropout', () => {
   it("draws its masks from the trial's seed: the same seed gives the same training, another seed another", async () => {
     const params = { ...baseParams, dropout: 0.3 };
     const run = (seed: number): number[] => {
-      const trial = EngineTrial.create({ trialId: 1, seed, params, dataset });
+      const trial = EngineTrial.create({ trialId: 1, seed, configuration: params, dataset });
       return [1, 2, 3].map((epoch) => trial.trainEpoch(epoch));
     };
     expect(run(9)).toStrictEqual(run(9));

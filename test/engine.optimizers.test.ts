@@ -16,7 +16,7 @@ const rows = dataset.train.rows;
 const learningRate = 0.05;
 
 function trialFor(optimizer: OptimizerName, l2 = 0): EngineTrial {
-  const trial = EngineTrial.create({ trialId: 1, seed: 3, params: { ...baseParams, depth: 1, width: 5, optimizer, learningRate, l2, batchSize: rows }, dataset });
+  const trial = EngineTrial.create({ trialId: 1, seed: 3, configuration: { ...baseParams, depth: 1, width: 5, optimizer, learningRate, l2, batchSize: rows }, dataset });
   trial.setOrder(Int32Array.from({ length: rows }, (_, i) => i));
   return trial;
 }

@@ -4,10 +4,10 @@ import { AsyncHalvingSampler } from '../src/samplers/async-halving.js';
 import type { Job } from '../src/samplers/sampler.js';
 import type { TrialConfiguration } from '../src/core/configuration.js';
 
-const paramsFor = (trialId: number): TrialConfiguration => ({
+const configurationFor = (trialId: number): TrialConfiguration => ({
   depth: 1, width: 8 + trialId, activation: 'relu', learningRate: 0.01, batchSize: 32, optimizer: 'adam', l2: 0, dropout: 0,
 });
-const create = (trials: number, maxEpochs = 9) => new AsyncHalvingSampler({ trials, minEpochs: 1, maxEpochs, eta: 3, paramsFor });
+const create = (trials: number, maxEpochs = 9) => new AsyncHalvingSampler({ trials, minEpochs: 1, maxEpochs, eta: 3, configurationFor });
 const job = (answer: Job | 'wait' | 'done') => {
   if (typeof answer === 'string') throw new Error(`expected a job, got ${answer}`);
   return [answer.trialId, answer.rung, answer.fromEpoch, answer.toEpoch];
@@ -21,8 +21,8 @@ function startAndReport(sampler: AsyncHalvingSampler, losses: (number | null)[])
 describe('async halving sampler', () => {
   it('places rungs at minEpochs * eta^k with maxEpochs on top', () => {
     // Source: Li et al., MLSys 2020: resource at rung k is r * eta^(s + k); r = 1, eta = 3, s = 0, R = 81 (derived)
-    expect(new AsyncHalvingSampler({ trials: 1, minEpochs: 1, maxEpochs: 81, eta: 3, paramsFor }).rungs).toEqual([1, 3, 9, 27, 81]);
-    expect(new AsyncHalvingSampler({ trials: 1, minEpochs: 2, maxEpochs: 30, eta: 3, paramsFor }).rungs).toEqual([2, 6, 18, 30]);
+    expect(new AsyncHalvingSampler({ trials: 1, minEpochs: 1, maxEpochs: 81, eta: 3, configurationFor }).rungs).toEqual([1, 3, 9, 27, 81]);
+    expect(new AsyncHalvingSampler({ trials: 1, minEpochs: 2, maxEpochs: 30, eta: 3, configurationFor }).rungs).toEqual([2, 6, 18, 30]);
   });
 
   it('after 3 results at rung 0 with losses (0.5, 0.2, 0.9) promotes the trial with 0.2', () => {

@@ -13,7 +13,7 @@ import { samplerSchema } from '../src/samplers/registry.js';
 import { spaceSchema } from '../src/space/schema.js';
 import type { TrialConfiguration } from '../src/core/configuration.js';
 
-const paramsFor = (trialId: number): TrialConfiguration => ({
+const configurationFor = (trialId: number): TrialConfiguration => ({
   depth: 1, width: 8 + trialId, activation: 'relu', learningRate: 0.01, batchSize: 32, optimizer: 'adam', l2: 0, dropout: 0,
 });
 
@@ -27,7 +27,7 @@ function drain(sampler: Sampler): Job[] {
 describe('halving samplers with early stopping', () => {
   it('successive halving (9 trials, eta 3): the best of rung 0 stopped early, so the next three are promoted', () => {
     // Source: Jamieson, Talwalkar, AISTATS 2016: rung 1 keeps floor(9 / 3) = 3 of rung 0 (the plan).
-    const sampler = new SuccessiveHalvingSampler({ trials: 9, minEpochs: 1, maxEpochs: 9, eta: 3, paramsFor });
+    const sampler = new SuccessiveHalvingSampler({ trials: 9, minEpochs: 1, maxEpochs: 9, eta: 3, configurationFor });
     const first = drain(sampler);
     expect(first.map((j) => j.trialId)).toEqual([0, 1, 2, 3, 4, 5, 6, 7, 8]);
     // Trial 0 has the smallest loss but stopped early; losses grow with the id.
@@ -37,7 +37,7 @@ describe('halving samplers with early stopping', () => {
   });
 
   it('successive halving: a stopped trial is not kept for promotion while its rung is still open', () => {
-    const sampler = new SuccessiveHalvingSampler({ trials: 3, minEpochs: 1, maxEpochs: 3, eta: 3, paramsFor });
+    const sampler = new SuccessiveHalvingSampler({ trials: 3, minEpochs: 1, maxEpochs: 3, eta: 3, configurationFor });
     drain(sampler);
     sampler.report({ trialId: 1, rung: 0, loss: 0.1, stopped: true });
     expect(sampler.mayContinue(1)).toBe(false);
@@ -46,7 +46,7 @@ describe('halving samplers with early stopping', () => {
 
   it('asynchronous halving: a stopped trial in the top 1/eta is passed over, not promoted', () => {
     // Source: Li et al., MLSys 2020, Algorithm 2: the candidates are the top floor(|rung| / eta).
-    const sampler = new AsyncHalvingSampler({ trials: 10, minEpochs: 1, maxEpochs: 9, eta: 3, paramsFor });
+    const sampler = new AsyncHalvingSampler({ trials: 10, minEpochs: 1, maxEpochs: 9, eta: 3, configurationFor });
     for (let i = 0; i < 3; i++) sampler.next();
     sampler.report({ trialId: 0, rung: 0, loss: 0.5 });
     sampler.report({ trialId: 1, rung: 0, loss: 0.2, stopped: true });
@@ -58,7 +58,7 @@ describe('halving samplers with early stopping', () => {
 
   it('Hyperband: inside a bracket the stopped trial gives its place to the next best', () => {
     // Source: Li et al., Hyperband, JMLR 2018: R = 9, eta = 3, bracket s = 2 starts 9 configurations at 1 epoch, keeps 3.
-    const sampler = new HyperbandSampler({ maxEpochs: 9, minEpochs: 1, eta: 3, paramsFor, overlapBrackets: false });
+    const sampler = new HyperbandSampler({ maxEpochs: 9, minEpochs: 1, eta: 3, configurationFor, overlapBrackets: false });
     const rung0 = drain(sampler);
     expect(rung0).toHaveLength(9);
     for (const job of rung0) sampler.report({ trialId: job.trialId, rung: 0, loss: job.trialId / 10, ...(job.trialId === 2 ? { stopped: true } : {}) });

@@ -5,7 +5,7 @@ import { simulate } from '../src/samplers/simulate.js';
 import type { Job } from '../src/samplers/sampler.js';
 import type { TrialConfiguration } from '../src/core/configuration.js';
 
-const paramsFor = (trialId: number): TrialConfiguration => ({
+const configurationFor = (trialId: number): TrialConfiguration => ({
   depth: 1, width: 8 + trialId, activation: 'relu', learningRate: 0.01, batchSize: 32, optimizer: 'adam', l2: 0, dropout: 0,
 });
 const pairs = (maxEpochs: number, eta: number, minEpochs = 1) =>
@@ -66,7 +66,7 @@ describe('hyperbandSchedule', () => {
 describe('hyperband sampler', () => {
   // R = 9, eta = 3: brackets s=2 (9@1, 3@3, 1@9), s=1 (5@3, 1@9), s=0 (3@9). 17 configurations.
   const create = (overlapBrackets?: boolean) =>
-    new HyperbandSampler({ maxEpochs: 9, minEpochs: 1, eta: 3, paramsFor, ...(overlapBrackets === undefined ? {} : { overlapBrackets }) });
+    new HyperbandSampler({ maxEpochs: 9, minEpochs: 1, eta: 3, configurationFor, ...(overlapBrackets === undefined ? {} : { overlapBrackets }) });
 
   it('numbers trials across brackets and tags jobs with the bracket s', () => {
     const log = simulate(create(), { workers: 1, loss: (job) => job.trialId / 100 });
@@ -105,7 +105,7 @@ describe('hyperband sampler', () => {
   });
 
   it('repeats the brackets for several passes, trial ids running on', () => {
-    const twice = new HyperbandSampler({ maxEpochs: 9, minEpochs: 1, eta: 3, paramsFor, iterations: 2 });
+    const twice = new HyperbandSampler({ maxEpochs: 9, minEpochs: 1, eta: 3, configurationFor, iterations: 2 });
     const log = simulate(twice, { workers: 2, loss: (job) => job.trialId / 100 });
     const started = log.jobs.filter((j) => j.rung === 0);
     expect(started.map((j) => j.trialId).sort((a, b) => a - b)).toEqual([...Array(34).keys()]);
@@ -115,7 +115,7 @@ describe('hyperband sampler', () => {
   it('holds a bracket, and every later one, while mayStartBracket says no, and records the injected origin', () => {
     let open = false;
     const held = new HyperbandSampler({
-      maxEpochs: 9, minEpochs: 1, eta: 3, paramsFor,
+      maxEpochs: 9, minEpochs: 1, eta: 3, configurationFor,
       mayStartBracket: (index) => index === 0 || open,
       originFor: (trialId) => ({ method: 'test', batch: trialId }),
     });

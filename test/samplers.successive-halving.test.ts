@@ -3,7 +3,7 @@ import { SuccessiveHalvingSampler, halvingSchedule } from '../src/samplers/succe
 import type { Job, Sampler } from '../src/samplers/sampler.js';
 import type { TrialConfiguration } from '../src/core/configuration.js';
 
-const paramsFor = (trialId: number): TrialConfiguration => ({
+const configurationFor = (trialId: number): TrialConfiguration => ({
   depth: 1, width: 8 + trialId, activation: 'relu', learningRate: 0.01, batchSize: 32, optimizer: 'adam', l2: 0, dropout: 0,
 });
 
@@ -46,7 +46,7 @@ describe('halvingSchedule', () => {
 
 describe('successive halving sampler', () => {
   // 9 configurations, rungs at 1, 3 and 9 epochs.
-  const create = () => new SuccessiveHalvingSampler({ trials: 9, minEpochs: 1, maxEpochs: 9, eta: 3, paramsFor });
+  const create = () => new SuccessiveHalvingSampler({ trials: 9, minEpochs: 1, maxEpochs: 9, eta: 3, configurationFor });
   const rung0Losses = [0.9, 0.1, 0.5, 0.3, 0.3, 0.8, 0.2, 0.7, 0.6];
 
   it('hands out all of rung 0, then waits until every result is in', () => {
@@ -90,7 +90,7 @@ describe('successive halving sampler', () => {
   });
 
   it('never promotes a diverged trial, and ends early when every trial diverged', () => {
-    const sampler = new SuccessiveHalvingSampler({ trials: 3, minEpochs: 1, maxEpochs: 3, eta: 3, paramsFor });
+    const sampler = new SuccessiveHalvingSampler({ trials: 3, minEpochs: 1, maxEpochs: 3, eta: 3, configurationFor });
     drain(sampler);
     sampler.report({ trialId: 0, rung: 0, loss: null });
     expect(sampler.mayContinue(0)).toBe(false);
@@ -100,7 +100,7 @@ describe('successive halving sampler', () => {
   });
 
   it('ranks a diverged trial below every finite loss', () => {
-    const sampler = new SuccessiveHalvingSampler({ trials: 3, minEpochs: 1, maxEpochs: 3, eta: 3, paramsFor });
+    const sampler = new SuccessiveHalvingSampler({ trials: 3, minEpochs: 1, maxEpochs: 3, eta: 3, configurationFor });
     drain(sampler);
     sampler.report({ trialId: 0, rung: 0, loss: null });
     sampler.report({ trialId: 1, rung: 0, loss: 5 });

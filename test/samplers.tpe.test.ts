@@ -40,7 +40,7 @@ function randomOn(fn: TestFunction, trials: number, seed: number): RandomSampler
   const sampler = new RandomSampler({
     trials,
     maxEpochs: 1,
-    paramsFor: (trialId) => {
+    configurationFor: (trialId) => {
       const rng = stream(seed, 'random', trialId);
       points[trialId] = fn.dimensions.map(() => rng());
       return PLACEHOLDER_PARAMS;

@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { stream } from '../src/random/streams.js';
-import { decode, encode, paramsAt, pointOfParams, snap, spaceDimensions, unitOf, valueAt, type Dimension } from '../src/space/dimensions.js';
+import { decode, encode, configurationAt, pointOfConfiguration, snap, spaceDimensions, unitOf, valueAt, type Dimension } from '../src/space/dimensions.js';
 import { drawInteger } from '../src/space/sample.js';
 import { spaceSchema } from '../src/space/schema.js';
 
@@ -22,15 +22,15 @@ describe('search space dimensions', () => {
   });
 
   it('maps the corners of the cube to the ends of every range', () => {
-    expect(paramsAt(space, [0, 0, 0, 0, 0, 0, 0])).toEqual({
+    expect(configurationAt(space, [0, 0, 0, 0, 0, 0, 0])).toEqual({
       depth: 1, width: 4, activation: 'relu', learningRate: expect.closeTo(1e-4, 15), batchSize: 32, optimizer: 'sgd', l2: expect.closeTo(1e-6, 15), dropout: 0,
     });
-    expect(paramsAt(space, [1, 1, 1, 1, 1, 1, 1])).toMatchObject({ depth: 4, width: 256, activation: 'elu', batchSize: 128, optimizer: 'adam' });
-    expect(paramsAt(space, [1, 1, 1, 1, 1, 1, 1]).learningRate).toBeCloseTo(0.5, 12);
+    expect(configurationAt(space, [1, 1, 1, 1, 1, 1, 1])).toMatchObject({ depth: 4, width: 256, activation: 'elu', batchSize: 128, optimizer: 'adam' });
+    expect(configurationAt(space, [1, 1, 1, 1, 1, 1, 1]).learningRate).toBeCloseTo(0.5, 12);
   });
 
   it('puts a log scale\'s midpoint at the geometric mean: learning rate sqrt(1e-4 * 0.5)', () => {
-    expect(paramsAt(space, [0, 0, 0, 0.5, 0, 0, 0]).learningRate).toBeCloseTo(Math.sqrt(1e-4 * 0.5), 12);
+    expect(configurationAt(space, [0, 0, 0, 0.5, 0, 0, 0]).learningRate).toBeCloseTo(Math.sqrt(1e-4 * 0.5), 12);
   });
 
   it('gives an integer the same value random drawing gives for the same uniform number', () => {
@@ -45,9 +45,9 @@ describe('search space dimensions', () => {
   it('maps a configuration to the centre of its cells and back to the same configuration', () => {
     const rng = stream(2, 'points');
     for (let i = 0; i < 100; i++) {
-      const params = paramsAt(space, spaceDimensions(space).map(() => rng()));
-      const point = pointOfParams(space, params);
-      const again = paramsAt(space, point);
+      const params = configurationAt(space, spaceDimensions(space).map(() => rng()));
+      const point = pointOfConfiguration(space, params);
+      const again = configurationAt(space, point);
       expect({ ...again, learningRate: 0, l2: 0 }).toEqual({ ...params, learningRate: 0, l2: 0 });
       expect(again.learningRate).toBeCloseTo(params.learningRate, 12);
       expect(snap(spaceDimensions(space), point)).toEqual(point.map((u, d) => (d === 3 || d === 6 ? expect.closeTo(u, 12) : u)));

@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
-import { drawInteger, logUniform, paramsForTrial, sampleParams } from '../src/space/sample.js';
-import { paramsAt } from '../src/space/dimensions.js';
+import { drawInteger, logUniform, configurationForTrial, sampleConfiguration } from '../src/space/sample.js';
+import { configurationAt } from '../src/space/dimensions.js';
 import { spaceSchema, type SearchSpace } from '../src/space/schema.js';
 import { stream } from '../src/random/streams.js';
 
@@ -15,25 +15,25 @@ const space: SearchSpace = spaceSchema.parse({
   dropout: { min: 0, max: 0.5 },
 });
 
-describe('paramsForTrial', () => {
+describe('configurationForTrial', () => {
   it('gives the same configuration for the same seed and trial id', () => {
-    expect(paramsForTrial(space, 7, 3)).toEqual(paramsForTrial(space, 7, 3));
+    expect(configurationForTrial(space, 7, 3)).toEqual(configurationForTrial(space, 7, 3));
   });
 
   it('gives different configurations to different trial ids and different seeds', () => {
-    expect(paramsForTrial(space, 7, 3)).not.toEqual(paramsForTrial(space, 7, 4));
-    expect(paramsForTrial(space, 7, 3)).not.toEqual(paramsForTrial(space, 8, 3));
+    expect(configurationForTrial(space, 7, 3)).not.toEqual(configurationForTrial(space, 7, 4));
+    expect(configurationForTrial(space, 7, 3)).not.toEqual(configurationForTrial(space, 8, 3));
   });
 
   it('does not depend on which trials were drawn before', () => {
-    const alone = paramsForTrial(space, 1, 9);
-    for (let id = 0; id < 9; id++) paramsForTrial(space, 1, id);
-    expect(paramsForTrial(space, 1, 9)).toEqual(alone);
+    const alone = configurationForTrial(space, 1, 9);
+    for (let id = 0; id < 9; id++) configurationForTrial(space, 1, id);
+    expect(configurationForTrial(space, 1, 9)).toEqual(alone);
   });
 });
 
-describe('sampleParams', () => {
-  const draws = Array.from({ length: 2000 }, (_, id) => paramsForTrial(space, 0, id));
+describe('sampleConfiguration', () => {
+  const draws = Array.from({ length: 2000 }, (_, id) => configurationForTrial(space, 0, id));
 
   it('keeps every field inside its range or list', () => {
     for (const p of draws) {
@@ -71,8 +71,8 @@ describe('sampleParams', () => {
   it('sets l2 and dropout to 0 when the space leaves them out, without moving the other draws', () => {
     const { l2: _l2, dropout: _dropout, ...rest } = space;
     const bare: SearchSpace = rest;
-    const withOptional = sampleParams(space, stream(5, 'params', 0));
-    const without = sampleParams(bare, stream(5, 'params', 0));
+    const withOptional = sampleConfiguration(space, stream(5, 'params', 0));
+    const without = sampleConfiguration(bare, stream(5, 'params', 0));
     expect(without).toEqual({ ...withOptional, l2: 0, dropout: 0 });
   });
 });
@@ -101,29 +101,29 @@ describe('the scale of real ranges (log key)', () => {
     for (let id = 0; id < 50; id++) {
       const rng = stream(3, 'params', id);
       const before = [rng(), rng(), rng(), rng(), rng(), rng(), rng(), rng()];
-      const drawn = paramsForTrial(defaults, 3, id);
+      const drawn = configurationForTrial(defaults, 3, id);
       // The formulas random drawing used before the log key: log-uniform learning rate and L2, uniform dropout.
       expect(drawn.learningRate).toBe(logUniform(1e-4, 1e-1, before[3]!));
       expect(drawn.l2).toBe(logUniform(1e-6, 1e-2, before[6]!));
       expect(drawn.dropout).toBe(0.01 + before[7]! * (0.5 - 0.01));
-      expect(paramsForTrial(explicit, 3, id)).toEqual(drawn);
+      expect(configurationForTrial(explicit, 3, id)).toEqual(drawn);
     }
   });
 
   it('maps u = 0.5 to the arithmetic middle with log: false and to the geometric middle with log: true', () => {
     // Source: definition of the uniform and log-uniform distributions (middle of [a, b]: (a + b) / 2, sqrt(a b)).
     const point = [0.5, 0.5, 0.5, 0.5, 0.5, 0.5, 0.5, 0.5];
-    const uniformAt = paramsAt(uniformRates, point);
+    const uniformAt = configurationAt(uniformRates, point);
     expect(uniformAt.learningRate).toBeCloseTo((1e-4 + 1e-1) / 2, 12);
     expect(uniformAt.l2).toBeCloseTo((1e-6 + 1e-2) / 2, 12);
     expect(uniformAt.dropout).toBeCloseTo(Math.sqrt(0.01 * 0.5), 12);
-    const defaultAt = paramsAt(defaults, point);
+    const defaultAt = configurationAt(defaults, point);
     expect(defaultAt.learningRate).toBeCloseTo(Math.sqrt(1e-4 * 1e-1), 12);
     expect(defaultAt.dropout).toBeCloseTo((0.01 + 0.5) / 2, 12);
   });
 
   it('puts about half of uniform learning-rate draws above the middle of the range (a log scale puts 1/3 per decade)', () => {
-    const rates = Array.from({ length: 2000 }, (_, id) => paramsForTrial(uniformRates, 0, id).learningRate);
+    const rates = Array.from({ length: 2000 }, (_, id) => configurationForTrial(uniformRates, 0, id).learningRate);
     const above = rates.filter((rate) => rate > (1e-4 + 1e-1) / 2).length / rates.length;
     expect(above).toBeGreaterThan(0.45);
     expect(above).toBeLessThan(0.55);

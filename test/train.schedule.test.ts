@@ -8,8 +8,8 @@ import { beforeAll, describe, expect, it } from 'vitest';
 import { prepareData, toSharedDataset } from '../src/data/index.js';
 import { trainSegmentOnEngine } from '../src/trainers/engine/segment.js';
 import type { EpochReport, SharedDataset } from '../src/core/job.js';
-import { paramsForTrial } from '../src/space/sample.js';
-import { paramsAt, pointOfParams, spaceDimensions } from '../src/space/dimensions.js';
+import { configurationForTrial } from '../src/space/sample.js';
+import { configurationAt, pointOfConfiguration, spaceDimensions } from '../src/space/dimensions.js';
 import { dataSchema } from '../src/study/definition.js';
 import { spaceSchema } from '../src/space/schema.js';
 import type { TrialConfiguration } from '../src/core/configuration.js';
@@ -79,7 +79,7 @@ describe('the schedule in the search space', () => {
   it('draws the kind and every setting; a fixed setting keeps its value; the draws before it are those of a space without a schedule', () => {
     const { schedule: _schedule, ...plain } = space;
     for (let id = 0; id < 30; id++) {
-      const drawn = paramsForTrial(space, 7, id);
+      const drawn = configurationForTrial(space, 7, id);
       expect(['step', 'cosine']).toContain(drawn.schedule);
       expect(drawn.gamma).toBeGreaterThanOrEqual(0.2);
       expect(drawn.gamma).toBeLessThanOrEqual(0.8);
@@ -87,23 +87,23 @@ describe('the schedule in the search space', () => {
       expect([0, 1, 2, 3]).toContain(drawn.warmupEpochs);
       expect(drawn.minFactor).toBe(0); // the default of a space naming cosine
       const { schedule: _s, gamma: _g, stepEpochs: _e, warmupEpochs: _w, minFactor: _m, ...rest } = drawn;
-      expect(rest).toEqual(paramsForTrial(plain, 7, id));
+      expect(rest).toEqual(configurationForTrial(plain, 7, id));
     }
   });
 
   it('is a set of unit-cube dimensions (kind categorical, settings numeric) that map back to the configuration', () => {
     expect(spaceDimensions(space).map((d) => d.name).slice(-5)).toEqual(['schedule', 'gamma', 'stepEpochs', 'warmupEpochs', 'minFactor']);
     for (let id = 0; id < 10; id++) {
-      const drawn = paramsForTrial(space, 3, id);
-      const back = paramsAt(space, pointOfParams(space, drawn));
+      const drawn = configurationForTrial(space, 3, id);
+      const back = configurationAt(space, pointOfConfiguration(space, drawn));
       expect(back).toEqual({ ...drawn, gamma: expect.closeTo(drawn.gamma!, 12), learningRate: expect.closeTo(drawn.learningRate, 12) });
     }
   });
 
   it('a space with only cosine has no step settings', () => {
     const cosine = spaceSchema.parse({ ...space, schedule: { kind: ['cosine'], minFactor: 0.05 } });
-    expect(Object.keys(paramsForTrial(cosine, 1, 0)).slice(-3)).toEqual(['schedule', 'warmupEpochs', 'minFactor']);
-    expect(paramsForTrial(cosine, 1, 0).minFactor).toBe(0.05);
+    expect(Object.keys(configurationForTrial(cosine, 1, 0)).slice(-3)).toEqual(['schedule', 'warmupEpochs', 'minFactor']);
+    expect(configurationForTrial(cosine, 1, 0).minFactor).toBe(0.05);
   });
 
   it('refuses an unknown kind and a setting out of range with one line naming the field', () => {

@@ -22,6 +22,7 @@ export interface CheckpointManifest {
   trialId: number;
   /** Epochs trained when the checkpoint was written. */
   epoch: number;
+  /** The trial's configuration (the key keeps its name from the first checkpoint format). */
   params: TrialConfiguration;
   variables: VariableEntry[];
   optimizer: { name: OptimizerName; iterations: number; variables: VariableEntry[] };

@@ -49,16 +49,16 @@ function unscaledOutput(recipe: PreprocessingRecipe, kernel: NamedWeights, bias:
  * kernel, bias per hidden layer, then the output layer). Layer names are fixed (`hidden_1`, ...,
  * `output`) so the weight names in model.json do not depend on tfjs's global layer counter.
  */
-export function buildLayersModel(params: TrialConfiguration, recipe: PreprocessingRecipe, weights: readonly NamedWeights[]): tf.Sequential {
-  const expected = 2 * (params.depth + 1);
-  if (weights.length !== expected) throw new Error(`the checkpoint holds ${weights.length} weights, a network of depth ${params.depth} has ${expected}`);
+export function buildLayersModel(configuration: TrialConfiguration, recipe: PreprocessingRecipe, weights: readonly NamedWeights[]): tf.Sequential {
+  const expected = 2 * (configuration.depth + 1);
+  if (weights.length !== expected) throw new Error(`the checkpoint holds ${weights.length} weights, a network of depth ${configuration.depth} has ${expected}`);
   const model = tf.sequential({ name: 'rungwise_mlp' });
   const dense: { layer: tf.layers.Layer; kernel: NamedWeights; bias: NamedWeights }[] = [];
-  for (let i = 0; i < params.depth; i++) {
-    const activation: DenseActivation | 'linear' = params.activation === 'leakyRelu' ? 'linear' : params.activation;
+  for (let i = 0; i < configuration.depth; i++) {
+    const activation: DenseActivation | 'linear' = configuration.activation === 'leakyRelu' ? 'linear' : configuration.activation;
     const layer = tf.layers.dense({
       name: `hidden_${i + 1}`,
-      units: params.width,
+      units: configuration.width,
       activation,
       // Initial weights are overwritten at once; zeros keeps construction free of unseeded draws.
       kernelInitializer: 'zeros',
@@ -66,17 +66,17 @@ export function buildLayersModel(params: TrialConfiguration, recipe: Preprocessi
     });
     model.add(layer);
     dense.push({ layer, kernel: weights[2 * i]!, bias: weights[2 * i + 1]! });
-    if (params.activation === 'leakyRelu') model.add(tf.layers.leakyReLU({ name: `leaky_relu_${i + 1}`, alpha: LEAKY_RELU_SLOPE }));
+    if (configuration.activation === 'leakyRelu') model.add(tf.layers.leakyReLU({ name: `leaky_relu_${i + 1}`, alpha: LEAKY_RELU_SLOPE }));
   }
   const output = tf.layers.dense({
     name: 'output',
     units: outputCount(recipe),
     activation: outputActivation(recipe),
     kernelInitializer: 'zeros',
-    ...(params.depth === 0 ? { inputShape: [recipe.inputCount] } : {}),
+    ...(configuration.depth === 0 ? { inputShape: [recipe.inputCount] } : {}),
   });
   model.add(output);
-  const [kernel, bias] = unscaledOutput(recipe, weights[2 * params.depth]!, weights[2 * params.depth + 1]!);
+  const [kernel, bias] = unscaledOutput(recipe, weights[2 * configuration.depth]!, weights[2 * configuration.depth + 1]!);
   dense.push({ layer: output, kernel, bias });
   for (const { layer, kernel: k, bias: b } of dense) {
     const tensors = [tf.tensor(k.values, k.shape), tf.tensor(b.values, b.shape)];

@@ -3,7 +3,7 @@ import { halvingFields } from '../core/fields.js';
 import { checkHalvingBudget } from './successive-halving.js';
 import { defineSampler, type Job, type JobOutcome, type Sampler } from './sampler.js';
 import { bracketsPlan, EMPTY_PLAN, type RungPlan } from './plan.js';
-import { assertPositiveInteger, isPromotable, rank, resultsOf, rungEpochs, type ParamsForTrial } from './rungs.js';
+import { assertPositiveInteger, isPromotable, rank, resultsOf, rungEpochs, type ConfigurationForTrial } from './rungs.js';
 
 export interface AsyncHalvingOptions {
   /** Configurations to start (trial ids 0 .. trials - 1). */
@@ -12,7 +12,7 @@ export interface AsyncHalvingOptions {
   minEpochs: number;
   maxEpochs: number;
   eta: number;
-  paramsFor: ParamsForTrial;
+  configurationFor: ConfigurationForTrial;
   /**
    * The most trials promoted out of each rung (the plugin passes its plan's: the synchronous schedule's
    * n_(k+1) out of rung k), so the run never passes the planned jobs and epochs. A candidate that comes
@@ -156,7 +156,7 @@ export class AsyncHalvingSampler implements Sampler {
     const fromEpoch = rung === 0 ? 0 : this.rungs[rung - 1]!;
     const job: Job = {
       trialId,
-      configuration: this.options.paramsFor(trialId),
+      configuration: this.options.configurationFor(trialId),
       rung,
       bracket: 0,
       fromEpoch,
@@ -181,7 +181,7 @@ export const asyncHalvingPlugin = defineSampler({
     checkHalvingBudget(options, context.budget);
     const { trials, maxEpochs } = context.budget;
     const promotionsPerRung = asyncHalvingRounds(trials, options.minEpochs, maxEpochs, options.eta).slice(1).map((round) => round.configurations);
-    return new AsyncHalvingSampler({ ...options, trials, maxEpochs, paramsFor: context.randomParams, promotionsPerRung });
+    return new AsyncHalvingSampler({ ...options, trials, maxEpochs, configurationFor: context.randomConfiguration, promotionsPerRung });
   },
   plan: (options, budget) => {
     if (options.minEpochs > budget.maxEpochs) return EMPTY_PLAN;

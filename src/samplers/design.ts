@@ -4,7 +4,7 @@
  * (closed-form functions of a few reals).
  */
 import type { Rng } from '../random/streams.js';
-import { paramsAt, snap, spaceDimensions, unitOf, type Dimension, type DimensionValue } from '../space/dimensions.js';
+import { configurationAt, snap, spaceDimensions, unitOf, type Dimension, type DimensionValue } from '../space/dimensions.js';
 import { SobolSequence, digitalShift } from '../space/sobol.js';
 import type { SearchSpace } from '../space/schema.js';
 import type { TrialConfiguration } from '../core/configuration.js';
@@ -12,7 +12,7 @@ import type { TrialConfiguration } from '../core/configuration.js';
 export interface UnitDesign {
   dimensions: readonly Dimension[];
   /** The configuration a trial at this point trains. */
-  paramsAt(point: readonly number[]): TrialConfiguration;
+  configurationAt(point: readonly number[]): TrialConfiguration;
   /**
    * The configuration the study lists for trial `trialId` to try first (`tryFirst`), with its point
    * (clamped to the unit cube), or undefined: samplers that propose points give these trials exactly
@@ -31,7 +31,7 @@ export interface ListedConfiguration {
 export function spaceDesign(space: SearchSpace, tryFirst: readonly TrialConfiguration[] = []): UnitDesign {
   const dimensions = spaceDimensions(space);
   const listed = tryFirst.map((configuration) => ({ configuration, point: nearestPoint(dimensions, configuration) }));
-  return { dimensions, paramsAt: (point) => paramsAt(space, point), listed: (trialId) => listed[trialId] };
+  return { dimensions, configurationAt: (point) => configurationAt(space, point), listed: (trialId) => listed[trialId] };
 }
 
 /** How the Sobol design is randomised by the seed. */

@@ -5,7 +5,7 @@ import { bracketsPlan, EMPTY_PLAN } from './plan.js';
 import type { ProposalOrigin } from '../core/trial.js';
 import { HalvingBracket, checkHalvingBudget } from './successive-halving.js';
 import type { RungPlan } from './plan.js';
-import { assertEta, assertPositiveInteger, type ParamsForTrial } from './rungs.js';
+import { assertEta, assertPositiveInteger, type ConfigurationForTrial } from './rungs.js';
 
 /** One Hyperband bracket: its index s (s_max runs first) and its rounds of successive halving. */
 export interface HyperbandBracketPlan {
@@ -107,7 +107,7 @@ export interface HyperbandOptions {
   /** Epochs of one resource unit (the shortest round). */
   minEpochs: number;
   eta: number;
-  paramsFor: ParamsForTrial;
+  configurationFor: ConfigurationForTrial;
   /**
    * Let later brackets hand out jobs while an earlier one waits for its rung to fill. Decisions stay
    * deterministic either way: each bracket ranks only its own rung's results.
@@ -152,9 +152,9 @@ export class HyperbandSampler implements Sampler {
   constructor(private readonly options: HyperbandOptions) {
     this.overlap = options.overlapBrackets ?? true;
     let firstTrialId = 0;
-    const { paramsFor, originFor } = options;
+    const { configurationFor, originFor } = options;
     for (const plan of hyperbandPlanOf(options)) {
-      this.brackets.push(new HalvingBracket({ plan: plan.rounds, firstTrialId, bracket: plan.s, paramsFor, ...(originFor ? { originFor } : {}) }));
+      this.brackets.push(new HalvingBracket({ plan: plan.rounds, firstTrialId, bracket: plan.s, configurationFor, ...(originFor ? { originFor } : {}) }));
       firstTrialId += plan.rounds[0]!.configurations;
     }
   }
@@ -208,7 +208,7 @@ export const hyperbandPlugin = defineSampler({
   traits: { deterministic: true, stopsAtRungs: true, trialsFromBudget: true },
   create: (options, context) => {
     checkHalvingBudget(options, context.budget);
-    return new HyperbandSampler({ ...options, maxEpochs: context.budget.maxEpochs, trials: context.budget.trials, paramsFor: context.randomParams });
+    return new HyperbandSampler({ ...options, maxEpochs: context.budget.maxEpochs, trials: context.budget.trials, configurationFor: context.randomConfiguration });
   },
   plan: (options, budget) => {
     if (options.minEpochs > budget.maxEpochs) return EMPTY_PLAN;

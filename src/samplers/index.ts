@@ -1,4 +1,4 @@
-import { paramsForTrial } from '../space/sample.js';
+import { configurationForTrial } from '../space/sample.js';
 import type { Budget } from '../core/budget.js';
 import type { SearchSpace } from '../space/schema.js';
 import type { TrialConfiguration } from '../core/configuration.js';
@@ -54,7 +54,7 @@ export function samplerContext(definition: SamplerDefinition): SamplerContext {
     seed: sampler.seed,
     tryFirst,
     // A listed configuration takes its trial's place; every other trial draws as without the list.
-    randomParams: (trialId) => tryFirst[trialId] ?? paramsForTrial(space, sampler.seed, trialId),
+    randomConfiguration: (trialId) => tryFirst[trialId] ?? configurationForTrial(space, sampler.seed, trialId),
     stream: (...key) => stream(sampler.seed, 'sampler', sampler.kind, ...key),
   };
 }

@@ -3,14 +3,14 @@ import { seedField } from '../core/fields.js';
 import { defineSampler, type Job, type JobOutcome, type Sampler } from './sampler.js';
 import { oneJobEachPlan } from './plan.js';
 import type { ProposalOrigin } from '../core/trial.js';
-import { assertPositiveInteger, type ParamsForTrial } from './rungs.js';
+import { assertPositiveInteger, type ConfigurationForTrial } from './rungs.js';
 
 export interface RandomSamplerOptions {
   /** Configurations to try; trial ids run 0 .. trials - 1. */
   trials: number;
   /** Every trial trains from scratch to this many epochs in one job. */
   maxEpochs: number;
-  paramsFor: ParamsForTrial;
+  configurationFor: ConfigurationForTrial;
   /** Recorded with each trial's job (a design other than random drawing names itself here). */
   originFor?: (trialId: number) => ProposalOrigin;
 }
@@ -33,7 +33,7 @@ export class RandomSampler implements Sampler {
     if (this.nextTrialId >= this.options.trials) return 'done';
     const trialId = this.nextTrialId++;
     this.outstanding.add(trialId);
-    const job: Job = { trialId, configuration: this.options.paramsFor(trialId), rung: 0, bracket: 0, fromEpoch: 0, toEpoch: this.options.maxEpochs };
+    const job: Job = { trialId, configuration: this.options.configurationFor(trialId), rung: 0, bracket: 0, fromEpoch: 0, toEpoch: this.options.maxEpochs };
     if (this.options.originFor) job.origin = this.options.originFor(trialId);
     return job;
   }
@@ -56,6 +56,6 @@ export const randomPlugin = defineSampler({
   summary: 'every trial trains maxEpochs; configurations drawn at random (Bergstra and Bengio 2012)',
   schema: z.strictObject({ kind: z.literal('random'), seed: seedField.default(0) }),
   traits: { deterministic: true, stopsAtRungs: false, trialsFromBudget: true },
-  create: (_options, context) => new RandomSampler({ trials: context.budget.trials, maxEpochs: context.budget.maxEpochs, paramsFor: context.randomParams }),
+  create: (_options, context) => new RandomSampler({ trials: context.budget.trials, maxEpochs: context.budget.maxEpochs, configurationFor: context.randomConfiguration }),
   plan: (_options, budget) => oneJobEachPlan(budget),
 });

@@ -1,7 +1,7 @@
 import type { TrialConfiguration } from '../core/configuration.js';
 
 /** Gives the configuration of a trial id; samplers never draw parameters themselves. */
-export type ParamsForTrial = (trialId: number) => TrialConfiguration;
+export type ConfigurationForTrial = (trialId: number) => TrialConfiguration;
 
 /** One result inside a rung. */
 export interface RungResult {

@@ -55,8 +55,8 @@ export interface SamplerContext {
   /** The sampler's seed (`sampler.seed` in the study file). */
   seed: number;
   /** The configuration drawn at random for a trial id: the same for the same seed and id, in any order. */
-  randomParams(trialId: number): TrialConfiguration;
-  /** Configurations the study lists to try first: trial k < tryFirst.length trains tryFirst[k] (randomParams already gives it). */
+  randomConfiguration(trialId: number): TrialConfiguration;
+  /** Configurations the study lists to try first: trial k < tryFirst.length trains tryFirst[k] (randomConfiguration already gives it). */
   tryFirst?: readonly TrialConfiguration[];
   /** A seeded stream keyed by the sampler's seed and the given parts, e.g. `stream('tpe', batch)`. */
   stream(...key: (string | number)[]): Rng;

@@ -25,7 +25,7 @@ export const sobolPlugin = defineSampler({
     return new RandomSampler({
       trials: context.budget.trials,
       maxEpochs: context.budget.maxEpochs,
-      paramsFor: (trialId) => design.listed?.(trialId)?.configuration ?? design.paramsAt(pointAt(trialId)),
+      configurationFor: (trialId) => design.listed?.(trialId)?.configuration ?? design.configurationAt(pointAt(trialId)),
       originFor: (trialId) => ({ method: design.listed?.(trialId) ? 'listed' : 'sobol' }),
     });
   },

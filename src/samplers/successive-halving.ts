@@ -4,7 +4,7 @@ import { halvingFields } from '../core/fields.js';
 import { defineSampler, type Job, type JobOutcome, type Sampler } from './sampler.js';
 import { bracketsPlan, EMPTY_PLAN, type RungPlan } from './plan.js';
 import type { ProposalOrigin } from '../core/trial.js';
-import { assertEta, assertPositiveInteger, isPromotable, rank, resultsOf, rungEpochs, type ParamsForTrial } from './rungs.js';
+import { assertEta, assertPositiveInteger, isPromotable, rank, resultsOf, rungEpochs, type ConfigurationForTrial } from './rungs.js';
 
 /**
  * The successive-halving plan for n configurations starting at r epochs, with at most R epochs:
@@ -29,7 +29,7 @@ export interface HalvingBracketOptions {
   firstTrialId: number;
   /** Written into every job. */
   bracket: number;
-  paramsFor: ParamsForTrial;
+  configurationFor: ConfigurationForTrial;
   /** Recorded with each trial's rung-0 job, for samplers that propose configurations themselves. */
   originFor?: (trialId: number) => ProposalOrigin;
 }
@@ -73,10 +73,10 @@ export class HalvingBracket implements Sampler {
     const trialId = this.members[this.handedOut];
     if (trialId === undefined) return 'wait';
     this.handedOut++;
-    const { plan, bracket, paramsFor, originFor } = this.options;
+    const { plan, bracket, configurationFor, originFor } = this.options;
     const job: Job = {
       trialId,
-      configuration: paramsFor(trialId),
+      configuration: configurationFor(trialId),
       rung: this.rung,
       bracket,
       fromEpoch: this.rung === 0 ? 0 : plan[this.rung - 1]!.epochs,
@@ -141,7 +141,7 @@ export interface SuccessiveHalvingOptions {
   /** Epochs of the last rung. */
   maxEpochs: number;
   eta: number;
-  paramsFor: ParamsForTrial;
+  configurationFor: ConfigurationForTrial;
 }
 
 /** Successive halving of `trials` configurations from minEpochs up to maxEpochs; see {@link HalvingBracket}. */
@@ -152,7 +152,7 @@ export class SuccessiveHalvingSampler extends HalvingBracket {
       plan: halvingSchedule(options.trials, options.minEpochs, options.maxEpochs, options.eta),
       firstTrialId: 0,
       bracket: 0,
-      paramsFor: options.paramsFor,
+      configurationFor: options.configurationFor,
     });
   }
 }
@@ -175,7 +175,7 @@ export const successiveHalvingPlugin = defineSampler({
   traits: { deterministic: true, stopsAtRungs: true, trialsFromBudget: true },
   create: (options, context) => {
     checkHalvingBudget(options, context.budget);
-    return new SuccessiveHalvingSampler({ ...options, trials: context.budget.trials, maxEpochs: context.budget.maxEpochs, paramsFor: context.randomParams });
+    return new SuccessiveHalvingSampler({ ...options, trials: context.budget.trials, maxEpochs: context.budget.maxEpochs, configurationFor: context.randomConfiguration });
   },
   plan: (options, budget) => {
     if (options.minEpochs > budget.maxEpochs) return EMPTY_PLAN;

@@ -68,7 +68,7 @@ export class TpeHyperbandSampler implements Sampler {
       iterations: options.iterations,
       ...(options.trials !== undefined ? { trials: options.trials } : {}),
       overlapBrackets: true,
-      paramsFor: (trialId) => options.design.listed?.(trialId)?.configuration ?? options.design.paramsAt(this.proposal(trialId).point),
+      configurationFor: (trialId) => options.design.listed?.(trialId)?.configuration ?? options.design.configurationAt(this.proposal(trialId).point),
       originFor: (trialId) => this.proposal(trialId).origin,
       mayStartBracket: (index) => {
         for (let earlier = 0; earlier < index - lag; earlier++) if (!this.hyperband.isBracketFinished(earlier)) return false;

@@ -77,7 +77,7 @@ export class TpeSampler implements Sampler {
     this.outstanding.add(trialId);
     return {
       trialId,
-      configuration: listed?.configuration ?? this.options.design.paramsAt(proposal.point),
+      configuration: listed?.configuration ?? this.options.design.configurationAt(proposal.point),
       rung: 0,
       bracket: 0,
       fromEpoch: 0,

@@ -113,7 +113,7 @@ export function spaceDimensions(space: SearchSpace): Dimension[] {
 }
 
 /** The configuration at a point of the unit cube over {@link spaceDimensions}. */
-export function paramsAt(space: SearchSpace, point: readonly number[]): TrialConfiguration {
+export function configurationAt(space: SearchSpace, point: readonly number[]): TrialConfiguration {
   const values = decode(spaceDimensions(space), point);
   return {
     depth: values['depth'] as number,
@@ -135,7 +135,7 @@ function scheduleValues(values: Record<string, DimensionValue>): Partial<TrialCo
 }
 
 /** The point of the unit cube of a configuration (cell centres for integers and categories). */
-export function pointOfParams(space: SearchSpace, params: TrialConfiguration): number[] {
-  const values: Record<string, DimensionValue> = { ...params };
+export function pointOfConfiguration(space: SearchSpace, configuration: TrialConfiguration): number[] {
+  const values: Record<string, DimensionValue> = { ...configuration };
   return encode(spaceDimensions(space), values);
 }

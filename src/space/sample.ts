@@ -9,7 +9,7 @@ import { stream, type Rng } from '../random/streams.js';
  * learningRate, batchSize, optimizer, l2, dropout), even when the field is fixed or absent. So
  * adding `l2` to a space, or giving a list a single entry, leaves every other field's draw unchanged.
  */
-export function sampleParams(space: SearchSpace, rng: Rng): TrialConfiguration {
+export function sampleConfiguration(space: SearchSpace, rng: Rng): TrialConfiguration {
   const depth = drawInteger(space.depth, rng());
   const width = drawInteger(space.width, rng());
   const activation = choose(space.activation, rng());
@@ -64,8 +64,8 @@ export function scheduleAt(schedule: NonNullable<SearchSpace['schedule']>, u: re
  * The configuration of trial `trialId`: depends only on the space, the study seed and the id,
  * never on the order in which trials run.
  */
-export function paramsForTrial(space: SearchSpace, studySeed: number, trialId: number): TrialConfiguration {
-  return sampleParams(space, stream(studySeed, 'params', trialId));
+export function configurationForTrial(space: SearchSpace, studySeed: number, trialId: number): TrialConfiguration {
+  return sampleConfiguration(space, stream(studySeed, 'params', trialId));
 }
 
 /** An integer in [min, max]: uniform, or log-uniform when `log` (each k weighted by ln((k+1)/k)). */

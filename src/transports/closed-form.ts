@@ -10,8 +10,8 @@ export interface ClosedFormEpoch {
 }
 
 export interface ClosedFormTransportOptions {
-  /** The figures of `params` after `epoch` epochs (1-based). A non-finite loss is reported as divergence. */
-  evaluate(params: TrialConfiguration, epoch: number, trialId: number): ClosedFormEpoch;
+  /** The figures of `configuration` after `epoch` epochs (1-based). A non-finite loss is reported as divergence. */
+  evaluate(configuration: TrialConfiguration, epoch: number, trialId: number): ClosedFormEpoch;
   /** Jobs that may run at once. @default 1 */
   capacity?: number;
   /** Wall time each epoch takes, so that jobs overlap as they do in training. @default 0 */

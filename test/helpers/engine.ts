@@ -26,7 +26,7 @@ export function engineGradients(trial: EngineTrial): Float32Array[] {
  * biases drawn from `rng` (so that bias paths are exercised with non-zero values).
  */
 export function twinNetworks(params: TrialConfiguration, dataset: SharedDataset, seed: number, rng: Rng): { trial: EngineTrial; network: Network } {
-  const trial = EngineTrial.create({ trialId: 1, seed, params, dataset });
+  const trial = EngineTrial.create({ trialId: 1, seed, configuration: params, dataset });
   for (const layer of trial.layers) {
     trial.writeMatrix(layer.at.bias, layer.outStride, Float32Array.from({ length: layer.fanOut }, () => rng() - 0.5), layer.fanOut);
   }

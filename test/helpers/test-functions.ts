@@ -72,7 +72,7 @@ export const HARTMANN6: TestFunction = {
 /** Every job trains the same placeholder configuration: the function reads the trial's point instead. */
 export const PLACEHOLDER_PARAMS: TrialConfiguration = { depth: 1, width: 8, activation: 'relu', learningRate: 0.01, batchSize: 32, optimizer: 'adam', l2: 0, dropout: 0 };
 
-export const designOf = (fn: TestFunction): UnitDesign => ({ dimensions: fn.dimensions, paramsAt: () => PLACEHOLDER_PARAMS });
+export const designOf = (fn: TestFunction): UnitDesign => ({ dimensions: fn.dimensions, configurationAt: () => PLACEHOLDER_PARAMS });
 
 /** Something that can tell which point of the unit cube a trial was given. */
 export interface PointSource {

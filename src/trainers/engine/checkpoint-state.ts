@@ -18,9 +18,9 @@ interface Variable {
 }
 
 function variables(trial: EngineTrial): Variable[] {
-  const { trialId, params } = trial.spec;
+  const { trialId, configuration } = trial.spec;
   return trial.layers.flatMap((layer, l) => {
-    const prefix = layerPrefix(trialId, l, params.depth);
+    const prefix = layerPrefix(trialId, l, configuration.depth);
     return [
       { name: `${prefix}/kernel`, shape: [layer.fanIn, layer.fanOut], at: layer.at.kernel, stride: layer.outStride, slots: [layer.at.kernelSlot1, layer.at.kernelSlot2] },
       { name: `${prefix}/bias`, shape: [layer.fanOut], at: layer.at.bias, stride: layer.outStride, slots: [layer.at.biasSlot1, layer.at.biasSlot2] },
@@ -32,7 +32,7 @@ const rowsOf = (shape: number[]): number => (shape.length === 2 ? shape[0]! : 1)
 const columnsOf = (shape: number[]): number => shape.at(-1)!;
 
 function slotNames(trial: EngineTrial, list: Variable[]): { name: string; variable: Variable; slot: 0 | 1 }[] {
-  const optimizer = trial.spec.params.optimizer;
+  const optimizer = trial.spec.configuration.optimizer;
   if (optimizer === 'sgd') return [];
   if (optimizer === 'momentum') return list.map((variable) => ({ name: `${variable.name}/momentum`, variable, slot: 0 }));
   return [
@@ -53,14 +53,14 @@ export function optimizerWeights(trial: EngineTrial): NamedWeights[] {
     shape: variable.shape,
     values: trial.readMatrix(variable.slots[slot], variable.stride, rowsOf(variable.shape), columnsOf(variable.shape)),
   }));
-  if (trial.spec.params.optimizer !== 'adam') return slots;
+  if (trial.spec.configuration.optimizer !== 'adam') return slots;
   const power = (name: 'power1' | 'power2'): Float32Array => Float32Array.of(trial.constant(name));
   return [...slots, { name: adamPowerName('accBeta1'), shape: [], values: power('power1') }, { name: adamPowerName('accBeta2'), shape: [], values: power('power2') }];
 }
 
 /** The trial's checkpoint at `epoch`, as bytes. */
 export function trialCheckpoint(trial: EngineTrial, epoch: number): Uint8Array {
-  const { trialId, params } = trial.spec;
+  const { trialId, configuration } = trial.spec;
   const network = networkWeights(trial);
   const slots = optimizerWeights(trial);
   const entry = ({ name, shape }: NamedWeights): { name: string; shape: number[] } => ({ name, shape });
@@ -68,9 +68,9 @@ export function trialCheckpoint(trial: EngineTrial, epoch: number): Uint8Array {
     formatVersion: CHECKPOINT_FORMAT_VERSION,
     trialId,
     epoch,
-    params,
+    params: configuration,
     variables: network.map(entry),
-    optimizer: { name: params.optimizer, iterations: trial.iterations, variables: slots.map(entry) },
+    optimizer: { name: configuration.optimizer, iterations: trial.iterations, variables: slots.map(entry) },
   };
   return encodeCheckpoint(manifest, [...network, ...slots].map((w) => w.values));
 }
@@ -79,7 +79,7 @@ export function trialCheckpoint(trial: EngineTrial, epoch: number): Uint8Array {
 export function restoreTrialCheckpoint(bytes: Uint8Array, trial: EngineTrial, epoch: number): void {
   const { manifest, network, optimizer } = decodeCheckpoint(bytes);
   const list = variables(trial);
-  checkCheckpoint(manifest, network, { trialId: trial.spec.trialId, epoch, optimizer: trial.spec.params.optimizer }, list);
+  checkCheckpoint(manifest, network, { trialId: trial.spec.trialId, epoch, optimizer: trial.spec.configuration.optimizer }, list);
   list.forEach((v, i) => trial.writeMatrix(v.at, v.stride, network[i]!.values, columnsOf(v.shape)));
   const stored = new Map(optimizer.map((w) => [w.name, w]));
   for (const { name, variable, slot } of slotNames(trial, list)) {
@@ -87,7 +87,7 @@ export function restoreTrialCheckpoint(bytes: Uint8Array, trial: EngineTrial, ep
     // tfjs creates a slot at the first step; a checkpoint written before any step has none (zeros).
     if (weights) trial.writeMatrix(variable.slots[slot], variable.stride, weights.values, columnsOf(variable.shape));
   }
-  if (trial.spec.params.optimizer === 'adam') {
+  if (trial.spec.configuration.optimizer === 'adam') {
     const power1 = stored.get(adamPowerName('accBeta1'));
     const power2 = stored.get(adamPowerName('accBeta2'));
     if (power1) trial.setConstant('power1', power1.values[0]!);

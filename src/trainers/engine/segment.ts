@@ -17,7 +17,7 @@ import { EngineTrial } from './trial.js';
 export async function trainSegmentOnEngine(request: TrainRequest, onEpoch?: (report: EpochReport) => void): Promise<TrainResult> {
   const started = performance.now();
   const { dataset, configuration } = request;
-  const trial = EngineTrial.create({ trialId: request.trialId, seed: request.seed, params: configuration, dataset });
+  const trial = EngineTrial.create({ trialId: request.trialId, seed: request.seed, configuration, dataset });
   if (request.fromEpoch > 0) {
     if (!request.checkpoint) throw new Error(`trial ${request.trialId}: fromEpoch is ${request.fromEpoch} but no checkpoint was given`);
     restoreTrialCheckpoint(request.checkpoint, trial, request.fromEpoch);

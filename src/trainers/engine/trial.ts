@@ -20,7 +20,7 @@ export const EVALUATION_CHUNK_ROWS = 256;
 export interface EngineTrialSpec {
   trialId: number;
   seed: number;
-  params: TrialConfiguration;
+  configuration: TrialConfiguration;
   dataset: SharedDataset;
 }
 
@@ -61,17 +61,17 @@ export class EngineTrial {
   ) {}
 
   static create(spec: EngineTrialSpec): EngineTrial {
-    const { params, dataset } = spec;
+    const { configuration, dataset } = spec;
     const data = residentData(dataset);
-    const capacityRows = Math.max(params.batchSize, EVALUATION_CHUNK_ROWS);
+    const capacityRows = Math.max(configuration.batchSize, EVALUATION_CHUNK_ROWS);
     const memory = allocator(data.end);
-    const net = memory.take(descriptorBytes(params.depth));
+    const net = memory.take(descriptorBytes(configuration.depth));
     const buffers = {
       order: memory.take(dataset.train.rows * 4),
       batchX: memory.take(capacityRows * data.stride * 4),
       batchY: memory.take(capacityRows * 4),
     };
-    const { layers, scratchFloats } = layOutLayers(params, dataset, capacityRows, memory);
+    const { layers, scratchFloats } = layOutLayers(configuration, dataset, capacityRows, memory);
     const scratch = memory.take(scratchFloats * 4);
     const outputsAt = memory.take(dataset.validation.rows * dataset.outputCount * 4);
     const classWeights = dataset.classWeights ? memory.take(dataset.classWeights.length * 4) : 0;
@@ -81,7 +81,7 @@ export class EngineTrial {
 
     const trial = new EngineTrial(spec, data, net, layers, capacityRows, outputsAt);
     layers.forEach((layer, l) => {
-      const rule = l < params.depth ? initRuleFor(params.activation) : 'glorotUniform';
+      const rule = l < configuration.depth ? initRuleFor(configuration.activation) : 'glorotUniform';
       trial.writeMatrix(layer.at.kernel, layer.outStride, initialKernel(rule, layer.fanIn, layer.fanOut, stream(spec.seed, 'init', l)), layer.fanOut);
     });
     return trial;
@@ -133,7 +133,7 @@ export class EngineTrial {
 
   /** Draws this step's inverted-dropout masks, layer after layer, `rows` x width each (as the tfjs path draws them). */
   drawMasks(rng: Rng, rows: number): void {
-    const { dropout } = this.spec.params;
+    const { dropout } = this.spec.configuration;
     const keep = 1 / (1 - dropout);
     for (const layer of this.layers.slice(0, -1)) {
       const mask = this.floats(layer.at.mask, rows * layer.outStride);
@@ -157,14 +157,14 @@ export class EngineTrial {
    * batches of each batch's data loss (every batch weighs the same, a shorter last one too).
    */
   trainEpoch(epoch: number): number {
-    const { seed, params, dataset } = this.spec;
+    const { seed, configuration, dataset } = this.spec;
     const rows = dataset.train.rows;
     this.setOrder(permutation(rows, stream(seed, 'shuffle', epoch)));
     let sum = 0;
     let batches = 0;
-    for (let start = 0; start < rows; start += params.batchSize, batches++) {
-      const size = Math.min(rows, start + params.batchSize) - start;
-      if (params.dropout > 0) this.drawMasks(stream(seed, 'dropout', epoch, batches), size);
+    for (let start = 0; start < rows; start += configuration.batchSize, batches++) {
+      const size = Math.min(rows, start + configuration.batchSize) - start;
+      if (configuration.dropout > 0) this.drawMasks(stream(seed, 'dropout', epoch, batches), size);
       sum += this.step(start, size);
     }
     return sum / batches;
@@ -182,14 +182,14 @@ type Allocator = ReturnType<typeof allocator>;
 
 /** Each layer's shape and the engine memory of its weights, gradients, optimizer slots and row buffers. */
 function layOutLayers(
-  params: EngineTrialSpec['params'],
+  configuration: EngineTrialSpec['configuration'],
   dataset: EngineTrialSpec['dataset'],
   capacityRows: number,
   memory: Allocator,
 ): { layers: LayerShape[]; scratchFloats: number } {
-  const widths = [dataset.inputCount, ...Array.from({ length: params.depth }, () => params.width), dataset.outputCount];
-  const slots = params.optimizer === 'adam' ? 2 : params.optimizer === 'momentum' ? 1 : 0;
-  const dropout = params.dropout > 0;
+  const widths = [dataset.inputCount, ...Array.from({ length: configuration.depth }, () => configuration.width), dataset.outputCount];
+  const slots = configuration.optimizer === 'adam' ? 2 : configuration.optimizer === 'momentum' ? 1 : 0;
+  const dropout = configuration.dropout > 0;
   let scratchFloats = 0;
   const layers: LayerShape[] = [];
   for (let l = 0; l + 1 < widths.length; l++) {
@@ -200,7 +200,7 @@ function layOutLayers(
     if (l > 0) scratchFloats = Math.max(scratchFloats, fanOut * inStride);
     const kernelBytes = fanIn * outStride * 4;
     const rowsBytes = capacityRows * outStride * 4;
-    const hidden = l < params.depth;
+    const hidden = l < configuration.depth;
     layers.push({
       fanIn,
       fanOut,
@@ -239,22 +239,22 @@ interface TrialBuffers {
 
 /** Writes the network descriptor the engine reads: the configuration as words, its float32 constants, each layer's shape and buffers. */
 function writeDescriptor(net: number, spec: EngineTrialSpec, layers: readonly LayerShape[], buffers: TrialBuffers): void {
-  const { params, dataset } = spec;
-  const words = new Int32Array(engine().memory.buffer, net, descriptorBytes(params.depth) / 4);
+  const { configuration, dataset } = spec;
+  const words = new Int32Array(engine().memory.buffer, net, descriptorBytes(configuration.depth) / 4);
   const floats = new Float32Array(words.buffer, net, words.length);
-  words[WORD.depth] = params.depth;
-  words[WORD.activation] = ACTIVATIONS.indexOf(params.activation);
+  words[WORD.depth] = configuration.depth;
+  words[WORD.activation] = ACTIVATIONS.indexOf(configuration.activation);
   words[WORD.task] = TASKS.indexOf(dataset.task);
-  words[WORD.optimizer] = OPTIMIZERS.indexOf(params.optimizer);
+  words[WORD.optimizer] = OPTIMIZERS.indexOf(configuration.optimizer);
   words[WORD.outputs] = dataset.outputCount;
-  words[WORD.dropout] = params.dropout > 0 ? 1 : 0;
+  words[WORD.dropout] = configuration.dropout > 0 ? 1 : 0;
   words[WORD.update] = 1;
-  words[WORD.l2] = params.l2 > 0 ? 1 : 0;
+  words[WORD.l2] = configuration.l2 > 0 ? 1 : 0;
   for (const field of ['trainX', 'trainY', 'order', 'batchX', 'batchY', 'scratch', 'classWeights'] as const) words[WORD[field]] = buffers[field];
   if (dataset.classWeights) new Float32Array(engine().memory.buffer, buffers.classWeights, dataset.classWeights.length).set(dataset.classWeights);
   // float32 constants computed as tfjs computes its scalars (in double, then rounded)
-  floats[CONSTANT.negativeLearningRate] = -params.learningRate;
-  floats[CONSTANT.twiceL2] = 2 * params.l2;
+  floats[CONSTANT.negativeLearningRate] = -configuration.learningRate;
+  floats[CONSTANT.twiceL2] = 2 * configuration.l2;
   floats[CONSTANT.momentum] = MOMENTUM;
   floats[CONSTANT.beta1] = ADAM.beta1;
   floats[CONSTANT.oneMinusBeta1] = 1 - ADAM.beta1;

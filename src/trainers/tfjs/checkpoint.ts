@@ -44,7 +44,7 @@ function entry(named: { name: string; tensor: tf.Tensor } | tf.Variable): Variab
 
 /** The checkpoint of a network and its optimizer after `info.epoch` epochs, as bytes. */
 export async function checkpointBytes(
-  info: { trialId: number; epoch: number; params: TrialConfiguration },
+  info: { trialId: number; epoch: number; configuration: TrialConfiguration },
   variables: tf.Variable[],
   optimizer: tf.Optimizer,
 ): Promise<Uint8Array> {
@@ -54,9 +54,11 @@ export async function checkpointBytes(
     const slots = state.tensors.map(entry);
     const manifest: CheckpointManifest = {
       formatVersion: CHECKPOINT_FORMAT_VERSION,
-      ...info,
+      trialId: info.trialId,
+      epoch: info.epoch,
+      params: info.configuration,
       variables: network.map(({ name, shape }) => ({ name, shape })),
-      optimizer: { name: info.params.optimizer, iterations: state.iterations, variables: slots.map(({ name, shape }) => ({ name, shape })) },
+      optimizer: { name: info.configuration.optimizer, iterations: state.iterations, variables: slots.map(({ name, shape }) => ({ name, shape })) },
     };
     return encodeCheckpoint(manifest, [...network, ...slots].map((e) => e.tensor.dataSync() as Float32Array));
   } finally {

@@ -51,7 +51,7 @@ const seconds = (since: number): number => (performance.now() - since) / 1000;
  * order as gathering per batch, and the sum adds the losses in batch order, as `addN` did.
  */
 function trainEpoch(request: TrainRequest, network: Network, optimizer: tf.Optimizer, data: DatasetTensors, epoch: number): number {
-  const { configuration: params, seed, dataset } = request;
+  const { configuration, seed, dataset } = request;
   const rows = dataset.train.rows;
   const order = permutation(rows, stream(seed, 'shuffle', epoch));
   const { x: shuffledX, y: shuffledY, weights: shuffledWeights } = tf.tidy(() => {
@@ -61,22 +61,22 @@ function trainEpoch(request: TrainRequest, network: Network, optimizer: tf.Optim
   let lossSum: tf.Scalar | undefined;
   let batches = 0;
   try {
-    for (let start = 0; start < rows; batches++, start += params.batchSize) {
-      const size = Math.min(rows, start + params.batchSize) - start;
+    for (let start = 0; start < rows; batches++, start += configuration.batchSize) {
+      const size = Math.min(rows, start + configuration.batchSize) - start;
       const batch = batches;
       const previousSum = lossSum;
       lossSum = tf.tidy(() => {
         const x = tf.slice(shuffledX, [start, 0], [size, -1]);
         const y = tf.slice(shuffledY, [start, 0], [size, -1]);
         const weights = shuffledWeights && tf.slice(shuffledWeights, [start, 0], [size, -1]);
-        const dropout = params.dropout > 0 ? { rate: params.dropout, rng: stream(seed, 'dropout', epoch, batch) } : undefined;
+        const dropout = configuration.dropout > 0 ? { rate: configuration.dropout, rng: stream(seed, 'dropout', epoch, batch) } : undefined;
         let batchLoss: tf.Scalar | undefined;
         optimizer.minimize(
           () => {
             const dataLoss = lossFromLogits(dataset.task, forward(network, x, dropout), y, weights);
             // A copy is kept: minimize() disposes the tensor f returns.
             batchLoss = tf.keep(tf.clone(dataLoss));
-            return params.l2 > 0 ? tf.add(dataLoss, l2Penalty(network, params.l2)) : dataLoss;
+            return configuration.l2 > 0 ? tf.add(dataLoss, l2Penalty(network, configuration.l2)) : dataLoss;
           },
           false,
           network.variables,
@@ -121,19 +121,19 @@ function validate(request: TrainRequest, network: Network, data: DatasetTensors)
  */
 export async function trainSegment(request: TrainRequest, onEpoch?: (report: EpochReport) => void): Promise<TrainResult> {
   const started = performance.now();
-  const { dataset, configuration: params } = request;
+  const { dataset, configuration } = request;
   const data = datasetTensors(dataset);
   const tensorsBefore = tf.memory().numTensors;
   let epochs: EpochReport[] = [];
   let divergence: TrainResult['divergence'];
   let completed: ReturnType<typeof completeJob> | undefined;
 
-  const network = createNetwork(networkSpec(request.trialId, request.seed, params, dataset.inputCount, dataset.outputCount));
-  const optimizer = createOptimizer(params.optimizer, params.learningRate);
+  const network = createNetwork(networkSpec(request.trialId, request.seed, configuration, dataset.inputCount, dataset.outputCount));
+  const optimizer = createOptimizer(configuration.optimizer, configuration.learningRate);
   try {
     if (request.fromEpoch > 0) {
       if (!request.checkpoint) throw new Error(`trial ${request.trialId}: fromEpoch is ${request.fromEpoch} but no checkpoint was given`);
-      const expected = { trialId: request.trialId, epoch: request.fromEpoch, optimizer: params.optimizer };
+      const expected = { trialId: request.trialId, epoch: request.fromEpoch, optimizer: configuration.optimizer };
       await restoreCheckpoint(request.checkpoint, expected, network.variables, optimizer);
     }
     const run = runEpochs(
@@ -148,7 +148,7 @@ export async function trainSegment(request: TrainRequest, onEpoch?: (report: Epo
     );
     ({ epochs, divergence } = run);
     if (!divergence) {
-      const bytes = await checkpointBytes({ trialId: request.trialId, epoch: lastEpochOf(request, run.stopping), params }, network.variables, optimizer);
+      const bytes = await checkpointBytes({ trialId: request.trialId, epoch: lastEpochOf(request, run.stopping), configuration }, network.variables, optimizer);
       completed = completeJob(request, run.stopping, bytes, () => validate(request, network, data).outputs);
     }
   } finally {

@@ -157,6 +157,6 @@ export function l2Penalty(network: Network, l2: number): tf.Scalar {
 }
 
 /** The network shape a request describes. */
-export function networkSpec(trialId: number, seed: number, params: TrialConfiguration, inputCount: number, outputCount: number): NetworkSpec {
-  return { trialId, seed, inputCount, outputCount, depth: params.depth, width: params.width, activation: params.activation };
+export function networkSpec(trialId: number, seed: number, configuration: TrialConfiguration, inputCount: number, outputCount: number): NetworkSpec {
+  return { trialId, seed, inputCount, outputCount, depth: configuration.depth, width: configuration.width, activation: configuration.activation };
 }
