@@ -15,6 +15,7 @@ const DEMO_FILES = [
   'studies/demo/study-tpe.json',
   'studies/demo/study-tpe-hyperband.json',
   'studies/demo/study-imbalance.json',
+  'studies/demo/study-costs.json',
   'studies/demo/study-early-stopping.json',
   'studies/demo/study-folds.json',
 ];
@@ -62,11 +63,12 @@ describe('committed study definitions', () => {
 });
 
 describe('the demo studies', () => {
-  it('search the same space with the AUC objective', () => {
+  it('search the same space with the AUC objective (the costs demo by its cost)', () => {
     const [random, ...others] = DEMO_FILES.map(load);
     // The early-stopping demo searches schedules as well; the rest of its space is everyone's.
     for (const definition of others) expect({ ...definition!.space, schedule: undefined }).toEqual({ ...random!.space, schedule: undefined });
-    for (const definition of [random, ...others]) expect(definition!.goal?.metric).toBe('auc');
+    for (const definition of [random, ...others]) expect(definition!.goal?.metric).toBe(definition!.data.costs ? 'cost' : 'auc');
+    expect(others.filter((definition) => definition!.data.costs).map((definition) => definition!.name)).toEqual(['demo-costs']);
     expect(random!.sampler.kind).toBe('random');
     expect(random!.budget).toEqual({ trials: 16, maxEpochs: 20 });
   });
