@@ -16,7 +16,8 @@
  * Usage: `npm run drill` (or `node dist/scripts/fault-drill.js [--trials N]` after `npm run build`).
  * Needs redis-server (Debian: apt-get install redis-server).
  */
-import { spawn, type ChildProcess } from 'node:child_process';
+import type { ChildProcess } from 'node:child_process';
+import { spawnCliProcess, type CliProcess } from './cli-process.js';
 import { randomBytes } from 'node:crypto';
 import { mkdtemp, readFile, rm, writeFile } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
@@ -35,45 +36,20 @@ const BIN = path.join(ROOT, 'bin', 'rungwise.js');
 const STALL_SECONDS = 2;
 
 /** A process of the drill with its output, and a way to wait for a line. */
-interface Started {
-  child: ChildProcess;
-  output(): string;
-  printed(pattern: RegExp): Promise<void>;
-  exited: Promise<number | null>;
-}
+type Started = CliProcess;
 
 const processes = new Set<ChildProcess>();
 
 function start(args: readonly string[], env: NodeJS.ProcessEnv, label: string): Started {
-  const child = spawn(process.execPath, [BIN, ...args], { env: { ...process.env, ...env }, stdio: ['ignore', 'pipe', 'pipe'] });
-  processes.add(child);
-  let text = '';
-  const waiters = new Set<() => void>();
-  const onData = (chunk: Buffer): void => {
-    text += chunk.toString();
-    for (const line of chunk.toString().split('\n').filter(Boolean)) log(`  ${label}: ${line}`);
-    for (const waiter of waiters) waiter();
-  };
-  child.stdout!.on('data', onData);
-  child.stderr!.on('data', onData);
-  const exited = new Promise<number | null>((resolve) => child.on('close', (code) => resolve(code)));
-  return {
-    child,
-    output: () => text,
-    exited,
-    printed: (pattern) =>
-      new Promise<void>((resolve, reject) => {
-        const check = (): void => {
-          if (pattern.test(text)) {
-            waiters.delete(check);
-            resolve();
-          }
-        };
-        waiters.add(check);
-        check();
-        void exited.then(() => (pattern.test(text) ? resolve() : reject(new Error(`${label} ended before printing ${pattern}`))));
-      }),
-  };
+  const started = spawnCliProcess(BIN, args, {
+    env,
+    label,
+    onOutput: (chunk) => {
+      for (const line of chunk.split('\n').filter(Boolean)) log(`  ${label}: ${line}`);
+    },
+  });
+  processes.add(started.child);
+  return started;
 }
 
 let verbose = false;
@@ -150,7 +126,7 @@ export async function faultDrill(options: { trials?: number; verbose?: boolean }
   try {
     say('undisturbed run on local threads ...');
     const reference = start(['run', studyFile, '--out', path.join(dir, 'reference'), '--threads', '2', '--quiet'], {}, 'reference');
-    if ((await reference.exited) !== 0) throw new Error(`the undisturbed run failed:\n${reference.output()}`);
+    if ((await reference.exited).code !== 0) throw new Error(`the undisturbed run failed:\n${reference.output()}`);
 
     say(`disturbed run over Redis on port ${redis.port} (append-only file on, study key set) ...`);
     const workerArgs = ['worker', redis.url, '--threads', '1', '--stall-seconds', String(STALL_SECONDS)];
@@ -182,7 +158,7 @@ export async function faultDrill(options: { trials?: number; verbose?: boolean }
     second.child.kill('SIGCONT');
     say(`stopped worker 2 (SIGSTOP) for ${STALL_SECONDS * 2 + 1} s, longer than its stall time of ${STALL_SECONDS} s, then let it go on`);
 
-    const code = await coordinator.exited;
+    const { code } = await coordinator.exited;
     for (const worker of [second, third]) worker.child.kill('SIGTERM');
     await Promise.all([second.exited, third.exited]);
     const refusedRegistry = /worker registry entry forged-host\/1 ignored/.test(coordinator.output());

