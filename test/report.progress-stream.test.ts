@@ -5,7 +5,6 @@
  * terminal and in a pipe, the job and epoch counters never go back and never fall behind the jobs
  * ended, and the leader shown is always the one the runner's ranking named, so it never gets worse.
  */
-import { Writable } from 'node:stream';
 import { describe, expect, it } from 'vitest';
 import { plannedWork } from '../src/report/budget.js';
 import { progressObserver } from '../src/report/progress.js';
@@ -15,6 +14,7 @@ import type { StudyDocument } from '../src/store/types.js';
 import type { TrialRecord } from '../src/core/trial.js';
 import type { Goal, TrialConfiguration } from '../src/core/configuration.js';
 import { trialRecord } from './helpers/trials.js';
+import { sink } from './helpers/sink.js';
 
 const goal: Goal = { metric: 'accuracy', better: 'higher' };
 const plan = plannedWork({ budget: { trials: 9, maxEpochs: 9 }, sampler: { kind: 'successive-halving', seed: 1, eta: 3, minEpochs: 1 } } as never);
@@ -67,16 +67,6 @@ function recordedStream(): { at: number; event: StudyEvent }[] {
   return events;
 }
 
-function sink(): { stream: Writable; text: () => string } {
-  let text = '';
-  const stream = new Writable({
-    write(chunk: Buffer, _encoding, done) {
-      text += chunk.toString();
-      done();
-    },
-  });
-  return { stream, text: () => text };
-}
 
 function replay(live: boolean): { text: string; bests: (number | undefined)[] } {
   const out = sink();

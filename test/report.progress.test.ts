@@ -1,4 +1,3 @@
-import { Writable } from 'node:stream';
 import { describe, expect, it } from 'vitest';
 import { plannedWork } from '../src/report/budget.js';
 import { progressObserver } from '../src/report/progress.js';
@@ -10,20 +9,11 @@ import type { StudyDocument } from '../src/store/types.js';
 import type { TrialRecord } from '../src/core/trial.js';
 import type { Goal, TrialConfiguration } from '../src/core/configuration.js';
 import { trialRecord } from './helpers/trials.js';
+import { sink } from './helpers/sink.js';
 
 const goal: Goal = { metric: 'accuracy', better: 'higher' };
 const params = { depth: 1, width: 8, activation: 'relu', learningRate: 0.01, batchSize: 16, optimizer: 'adam', l2: 0, dropout: 0 } as TrialConfiguration;
 
-function sink(): { stream: Writable; text: () => string } {
-  let text = '';
-  const stream = new Writable({
-    write(chunk: Buffer, _encoding, done) {
-      text += chunk.toString();
-      done();
-    },
-  });
-  return { stream, text: () => text };
-}
 
 function job(trialId: number, rung: number, fromEpoch: number, toEpoch: number, bracket = 0): Job {
   return { trialId, configuration: params, rung, bracket, fromEpoch, toEpoch };
