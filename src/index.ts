@@ -26,6 +26,8 @@ export { plannedWork, type PlannedWork } from './report/budget.js';
 export { studyResultJson, type StudyResultJson, type TrialEntry } from './report/study-result.js';
 export { run, type RunCommandOptions } from './commands/run.js';
 export type { ProgressTarget } from './commands/observe.js';
+export type { SessionOptions } from './commands/session.js';
+export type { QueueFlags } from './commands/queue.js';
 export { ranking, type RankingCommandOptions, type RankingResult } from './commands/ranking.js';
 export { resume, type ResumeCommandOptions } from './commands/resume.js';
 export { plot, type PlotOptions } from './commands/plot.js';

@@ -1,5 +1,3 @@
-import type { FaultInjector } from '../transports/threads/transport.js';
-import type { WriteStepHook } from '../store/file-adapter.js';
 import path from 'node:path';
 import { runStudy, type StudyOutcome } from '../runner/run-study.js';
 import { isDataOnly, resolveGoal, type DataOnlyStudy, type StudyDefinitionInput } from '../study/definition.js';
@@ -7,11 +5,10 @@ import { DEFINITION_OBJECT_LABEL, loadStudy, readStudyJson, studyFromObject, typ
 import { UserError } from '../core/errors.js';
 import type { Task } from '../core/configuration.js';
 import { dataOnlyDefinition, studyFromData } from './default-study.js';
-import { dataObserver, studyObserver, type ProgressTarget } from './observe.js';
-import { oversubscriptionWarning } from './oversubscription.js';
-import { queueRun, settleQueued, type QueueFlags } from './queue.js';
+import { queueRun, settleQueued } from './queue.js';
+import { sessionRunnerOptions, warnIfCrowded, type SessionOptions } from './session.js';
 
-export interface RunCommandOptions extends ProgressTarget, QueueFlags {
+export interface RunCommandOptions extends SessionOptions {
   /**
    * A study definition file (JSON), or the definition itself as an object; either may give only
    * `data` (a study from its data alone). With `target`: the path of a CSV instead.
@@ -31,24 +28,8 @@ export interface RunCommandOptions extends ProgressTarget, QueueFlags {
   baseDir?: string;
   /** Run directory. @default `runs/<study name>` */
   out?: string;
-  /** Threads of this machine training jobs at once. @default the study's `threads`, else available cores; with `queue`, 0 (only `rungwise worker` processes train) */
-  threads?: number;
   /** Replace a run directory that already holds a study. */
   force?: boolean;
-  /** Aborting stops starting jobs; running ones finish and the study is saved as interrupted. */
-  signal?: AbortSignal;
-  /** Where notes of the queue go. @default process.stderr */
-  stderr?: NodeJS.WritableStream;
-  /** Minutes this session may start jobs (fractions allowed). @default the study's `budget.minutes`, else no limit */
-  minutes?: number;
-  /** At the time limit, cut running jobs off instead of letting them finish. @default false */
-  cutAtLimit?: boolean;
-  /** Milliseconds clock the time limit is read from. @default Date.now */
-  clock?: () => number;
-  /** Test-only: faults to inject into trials (see `runner/faults.ts`). @default none */
-  faults?: FaultInjector;
-  /** Test-only: called at each step of every study-file write (see `runner/faults.ts`). @default none */
-  onWriteStep?: WriteStepHook;
 }
 
 /**
@@ -68,28 +49,17 @@ export async function run(options: RunCommandOptions): Promise<StudyOutcome> {
   // Validate before anything is drawn, so bad input gives only its one-line error.
   const { study, fromData } = await resolveStudy(options);
   const goal = resolveGoal(study.definition);
-  const threads = options.threads ?? study.definition.threads;
-  const crowded = options.queue === undefined && threads !== undefined ? oversubscriptionWarning(threads) : undefined;
-  if (crowded) options.onWarning?.(crowded);
-  const onEvent = studyObserver(options, study.definition, goal);
-  const onDataEvent = dataObserver(options);
+  warnIfCrowded(options, study.definition);
   const dir = path.resolve(options.out ?? path.join('runs', study.definition.name));
   const queue = queueRun(options, { name: study.definition.name, dir, fresh: true }, options.stderr ?? process.stderr, options.signal);
+  const session = sessionRunnerOptions(options, queue, study.definition, goal);
   return settleQueued(queue, dir, () => runStudy(study, {
     ...(options.out !== undefined ? { out: options.out } : {}),
-    ...(options.queue === undefined && options.threads !== undefined ? { threads: options.threads } : {}),
     ...(options.force !== undefined ? { force: options.force } : {}),
     ...(fromData ? { writeDefinition: true } : {}),
-    ...(queue.signal ? { signal: queue.signal } : {}),
-    ...(queue.transport ? { transport: queue.transport } : {}),
-    ...(onEvent ? { onEvent } : {}),
-    ...(options.faults ? { faults: options.faults } : {}),
-    ...(options.onWriteStep ? { onWriteStep: options.onWriteStep } : {}),
-    ...(onDataEvent ? { onDataEvent } : {}),
-    ...(options.minutes !== undefined ? { minutes: options.minutes } : {}),
-    ...(options.cutAtLimit ? { cutAtLimit: true } : {}),
-    ...(options.clock ? { clock: options.clock } : {}),
+    ...session,
   }));
+
 }
 
 /** The study to run: a full definition as given, or one rungwise defines from the data (`fromData`). */
