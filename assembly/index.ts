@@ -10,6 +10,7 @@ import {
 import { outputLoss } from './losses';
 import { columnSums, gemm, gemmTransposedA, transpose } from './matmul';
 import { addL2, update } from './optimizers';
+import { updateAfterBackward, updatesAfterBackward } from './regularisers';
 
 export { gemm } from './matmul';
 
@@ -77,6 +78,7 @@ export function trainStep(net: usize, start: i32, rows: i32): f64 {
   const dropout = word(net, DROPOUT) != 0;
   const applying = word(net, UPDATE) != 0;
   const l2 = word(net, L2) != 0;
+  const later = updatesAfterBackward(net);
   const scratch = pointer(net, SCRATCH);
   for (let l = depth; l >= 0; l--) {
     const fanIn = field(net, l, FAN_IN), fanOut = field(net, l, FAN_OUT);
@@ -96,11 +98,12 @@ export function trainStep(net: usize, start: i32, rows: i32): f64 {
       gemm(delta, outStride, scratch, inStride, 0, address(net, l - 1, DELTA), inStride, rows, fanOut, inStride);
     }
     const kernelCount = fanIn * outStride;
-    if (applying) {
+    if (applying && !later) {
       update(optimizer, kernel, kernelGradient, address(net, l, KERNEL_SLOT1), address(net, l, KERNEL_SLOT2), kernelCount, l2, net);
       update(optimizer, address(net, l, BIAS), address(net, l, BIAS_GRADIENT), address(net, l, BIAS_SLOT1), address(net, l, BIAS_SLOT2), outStride, false, net);
     } else if (l2) addL2(kernel, kernelGradient, kernelCount, constant(net, TWICE_L2));
   }
+  if (applying && later) updateAfterBackward(net, depth, optimizer);
   if (applying && optimizer == ADAM) {
     setConstant(net, POWER1, constant(net, POWER1) * constant(net, BETA1));
     setConstant(net, POWER2, constant(net, POWER2) * constant(net, BETA2));

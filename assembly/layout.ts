@@ -75,3 +75,12 @@ export const DELTA = 16;
 @inline export function layerField(net: usize, layer: i32, field: i32): i32 {
   return load<i32>(net + (<usize>(LAYERS + layer * LAYER_WORDS + field) << 2));
 }
+
+// Regularisers searched with the rest (assembly/regularisers.ts), taken from the top of the free
+// words below LAYERS: 0 or absent means off, and an off regulariser leaves every step as before.
+/** 1 when the optimizer updates wait until every layer's gradient is known (weight decay or clipping on). */
+export const UPDATE_AFTER_BACKWARD = 31;
+/** float32: this step's decoupled weight decay factor (lambda times the schedule's multiplier), 0 when off. */
+export const WEIGHT_DECAY_STEP = 30;
+/** float32: the largest gradient norm over all weights and biases, 0 when off. */
+export const MAX_GRADIENT_NORM = 29;

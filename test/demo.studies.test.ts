@@ -18,6 +18,7 @@ const DEMO_FILES = [
   'studies/demo/study-costs.json',
   'studies/demo/study-early-stopping.json',
   'studies/demo/study-folds.json',
+  'studies/demo/study-regularisers.json',
 ];
 const TINY_FILES = [
   'studies/tiny/study.json',
@@ -65,8 +66,9 @@ describe('committed study definitions', () => {
 describe('the demo studies', () => {
   it('search the same space with the AUC objective (the costs demo by its cost)', () => {
     const [random, ...others] = DEMO_FILES.map(load);
-    // The early-stopping demo searches schedules as well; the rest of its space is everyone's.
-    for (const definition of others) expect({ ...definition!.space, schedule: undefined }).toEqual({ ...random!.space, schedule: undefined });
+    // The early-stopping and regularisers demos search schedules (and regularisers) as well; the rest of their space is everyone's.
+    const shared = (space: StudyDefinition['space']) => ({ ...space, schedule: undefined, weightDecay: undefined, maxGradientNorm: undefined });
+    for (const definition of others) expect(shared(definition!.space)).toEqual(shared(random!.space));
     for (const definition of [random, ...others]) expect(definition!.goal?.metric).toBe(definition!.data.costs ? 'cost' : 'auc');
     expect(others.filter((definition) => definition!.data.costs).map((definition) => definition!.name)).toEqual(['demo-costs']);
     expect(random!.sampler.kind).toBe('random');

@@ -40,6 +40,13 @@ export interface TrialConfiguration {
   stepEpochs?: number;
   /** cosine only (present when the space's schedule kinds include cosine). */
   minFactor?: number;
+  /**
+   * Decoupled weight decay lambda: each step shrinks every kernel by lambda times the schedule's
+   * multiplier (Loshchilov and Hutter, ICLR 2019); absent: none.
+   */
+  weightDecay?: number;
+  /** Gradient-norm clipping: all gradients together are scaled down to this norm when above it (Pascanu et al., ICML 2013); absent: none. */
+  maxGradientNorm?: number;
 }
 
 

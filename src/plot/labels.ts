@@ -2,6 +2,8 @@ import type { MetricName, Goal, TrialConfiguration } from '../core/configuration
 import { samplerTraits } from '../samplers/index.js';
 import type { SamplerKind } from '../study/definition.js';
 import type { StudyDocument } from '../store/types.js';
+import { spaceRegularisers, type RegulariserName } from '../space/regularisers.js';
+import { drawsOnLogScale } from '../space/schema.js';
 
 /** Metric names as a reader says them, with units where the metric has one. */
 const METRIC_LABELS: Record<MetricName, string> = {
@@ -63,7 +65,21 @@ export function parameterAxes(study: StudyDocument): ParameterAxis[] {
     { key: 'activation', title: 'activation', shortTitle: 'activation', kind: 'nominal', categories: [...space.activation] },
     { key: 'optimizer', title: 'optimizer', shortTitle: 'optimizer', kind: 'nominal', categories: [...space.optimizer] },
     ...scheduleAxes(study),
+    ...regulariserAxes(study),
   ];
+}
+
+/** The regularisers the space searches (src/space/regularisers.ts), each on its own scale. */
+function regulariserAxes(study: StudyDocument): ParameterAxis[] {
+  const words: Record<RegulariserName, { title: string; shortTitle: string }> = {
+    weightDecay: { title: 'decoupled weight decay per step', shortTitle: 'weight decay' },
+    maxGradientNorm: { title: 'largest gradient norm (clipping)', shortTitle: 'max gradient norm' },
+  };
+  return spaceRegularisers(study.definition.space).map(({ dimension, range }) => {
+    const log = drawsOnLogScale(range, dimension.defaultLog);
+    const { title, shortTitle } = words[dimension.name];
+    return { key: dimension.name, title: log ? `${title} (log scale)` : title, shortTitle: log ? `${shortTitle} (log)` : shortTitle, kind: log ? 'log' : 'linear' };
+  });
 }
 
 /** The learning-rate schedule's settings, when the space has a schedule (src/core/schedule.ts). */

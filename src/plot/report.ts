@@ -1,4 +1,5 @@
 import { scheduleInWords } from '../core/schedule.js';
+import { regularisersInWords } from '../core/regularisers.js';
 import { formatNumber } from '../report/format.js';
 import type { StudyDocument } from '../store/types.js';
 import type { TrialRecord } from '../core/trial.js';
@@ -55,6 +56,7 @@ function configurationText(trial: TrialRecord): string {
     `L2 penalty ${formatNumber(p.l2)}`,
     `dropout ${formatNumber(p.dropout)}`,
     ...(p.schedule ? [`learning-rate schedule ${scheduleInWords(p)}`] : []),
+    ...(regularisersInWords(p) ? [regularisersInWords(p)!] : []),
   ].join(', ');
 }
 

@@ -1,4 +1,5 @@
 import { scheduleInWords } from '../core/schedule.js';
+import { regularisersInWords } from '../core/regularisers.js';
 import { formatNumber } from '../report/format.js';
 import { scoreText } from '../report/ranking-table.js';
 import type { StudyDocument } from '../store/types.js';
@@ -51,7 +52,7 @@ export function topConfigurations(study: StudyDocument, top = TOP_CONFIGURATIONS
       epochs: String(trial.epochsTrained) + (trial.bestEpoch !== undefined ? ` (best ${trial.bestEpoch}${trial.stoppedEarly ? ', stopped' : ''})` : ''),
       'worker s': formatNumber(trial.workerSeconds),
       ...Object.fromEntries(metricNames.map((name) => [name, formatNumber(metrics.get(name))])),
-      configuration: `${p.depth} x ${p.width} ${p.activation}, ${p.optimizer} at learning rate ${formatNumber(p.learningRate)}, batch ${p.batchSize}, L2 ${formatNumber(p.l2)}, dropout ${formatNumber(p.dropout)}${p.schedule ? `, schedule ${scheduleInWords(p)}` : ''}`,
+      configuration: `${p.depth} x ${p.width} ${p.activation}, ${p.optimizer} at learning rate ${formatNumber(p.learningRate)}, batch ${p.batchSize}, L2 ${formatNumber(p.l2)}, dropout ${formatNumber(p.dropout)}${p.schedule ? `, schedule ${scheduleInWords(p)}` : ''}${regularisersInWords(p) ? `, ${regularisersInWords(p)}` : ''}`,
     };
     if (anyFlags) row.flags = flagsText(trial.flags) || '-';
     if (anyRepeats) {

@@ -10,6 +10,7 @@
 import { drawsOnLogScale, type SearchSpace } from './schema.js';
 import type { TrialConfiguration } from '../core/configuration.js';
 import { choose, drawInteger, logUniform, uniform, type ScheduleSetting } from './sample.js';
+import { regulariserFields, spaceRegularisers } from './regularisers.js';
 
 export interface NumericDimension {
   kind: 'numeric';
@@ -84,7 +85,8 @@ export function snap(dimensions: readonly Dimension[], point: readonly number[])
 
 /**
  * The dimensions of a rungwise search space, in the order random drawing uses (depth, width,
- * activation, learningRate, batchSize, optimizer, l2, dropout); absent l2 and dropout are not dimensions.
+ * activation, learningRate, batchSize, optimizer, l2, dropout, then the schedule's settings and the
+ * regularisers); absent l2, dropout, schedule and regularisers are not dimensions.
  */
 export function spaceDimensions(space: SearchSpace): Dimension[] {
   const dimensions: Dimension[] = [
@@ -109,6 +111,9 @@ export function spaceDimensions(space: SearchSpace): Dimension[] {
     dimensions.push(numeric('warmupEpochs', schedule.warmupEpochs, true));
     if (schedule.kind.includes('cosine')) dimensions.push(numeric('minFactor', schedule.minFactor, false));
   }
+  for (const { dimension, range } of spaceRegularisers(space)) {
+    dimensions.push({ kind: 'numeric', name: dimension.name, min: range.min, max: range.max, log: drawsOnLogScale(range, dimension.defaultLog), integer: false });
+  }
   return dimensions;
 }
 
@@ -125,6 +130,7 @@ export function configurationAt(space: SearchSpace, point: readonly number[]): T
     l2: space.l2 ? (values['l2'] as number) : 0,
     dropout: space.dropout ? (values['dropout'] as number) : 0,
     ...(space.schedule ? scheduleValues(values) : {}),
+    ...regulariserFields(space, (name) => values[name] as number),
   };
 }
 

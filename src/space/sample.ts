@@ -1,6 +1,7 @@
 import { drawsOnLogScale, type SearchSpace } from './schema.js';
 import type { TrialConfiguration } from '../core/configuration.js';
 import { stream, type Rng } from '../random/streams.js';
+import { REGULARISERS, regulariserFields, spaceRegularisers } from './regularisers.js';
 
 /**
  * Draw one configuration from the search space.
@@ -8,6 +9,7 @@ import { stream, type Rng } from '../random/streams.js';
  * Every field consumes exactly one draw, always in the same order (depth, width, activation,
  * learningRate, batchSize, optimizer, l2, dropout), even when the field is fixed or absent. So
  * adding `l2` to a space, or giving a list a single entry, leaves every other field's draw unchanged.
+ * The schedule's draws (with a schedule) and the regularisers' (always) come after them.
  */
 export function sampleConfiguration(space: SearchSpace, rng: Rng): TrialConfiguration {
   const depth = drawInteger(space.depth, rng());
@@ -28,10 +30,19 @@ export function sampleConfiguration(space: SearchSpace, rng: Rng): TrialConfigur
     l2: space.l2 ? drawReal(space.l2, true, l2Draw) : 0,
     dropout: space.dropout ? drawReal(space.dropout, false, dropoutDraw) : 0,
   };
-  if (!space.schedule) return configuration;
   // Drawn after every other field, five draws always, so a space without a schedule draws as before.
-  const draws = [rng(), rng(), rng(), rng(), rng()] as const;
-  return { ...configuration, ...scheduleAt(space.schedule, draws) };
+  const scheduled = space.schedule ? { ...configuration, ...scheduleAt(space.schedule, [rng(), rng(), rng(), rng(), rng()]) } : configuration;
+  // Then the regularisers, one draw each when the space has any (regularisers.ts): a space without them draws as before.
+  const ranges = new Map(spaceRegularisers(space).map(({ dimension, range }) => [dimension.name, { range, dimension }]));
+  if (ranges.size === 0) return scheduled;
+  const regulariserDraws = REGULARISERS.map(() => rng());
+  return {
+    ...scheduled,
+    ...regulariserFields(space, (name) => {
+      const { range, dimension } = ranges.get(name)!;
+      return drawReal(range, dimension.defaultLog, regulariserDraws[REGULARISERS.indexOf(dimension)]!);
+    }),
+  };
 }
 
 /** A schedule setting as the space gives it: one value, or a range. */

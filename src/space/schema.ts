@@ -38,6 +38,15 @@ const positiveLogRange = z
   })
   .superRefine(minNotAboveMax);
 
+/** A decoupled weight decay range: per-step factors, above 0 and below 1. */
+const decayRange = z
+  .strictObject({
+    min: z.number().positive().lt(1).describe('Smallest value, inclusive.'),
+    max: z.number().positive().lt(1).describe('Largest value, inclusive.'),
+    log: scaleKey('log'),
+  })
+  .superRefine(minNotAboveMax);
+
 const fractionRange = z
   .strictObject({
     min: z.number().min(0).max(0.9),
@@ -95,6 +104,12 @@ export const spaceSchema = z.strictObject({
   l2: positiveLogRange.optional().describe('L2 weight penalty; drawn on a log scale unless log is false; absent means none.'),
   dropout: fractionRange.optional().describe('Dropout rate after each hidden layer; drawn uniformly unless log is true (then min must be above 0); absent means none.'),
   schedule: scheduleSchema.optional(),
+  weightDecay: decayRange
+    .optional()
+    .describe('Decoupled weight decay (Loshchilov and Hutter 2019): each step shrinks every kernel by this factor times the schedule multiplier (learning rate now / configured); drawn on a log scale unless log is false; absent means none.'),
+  maxGradientNorm: positiveLogRange
+    .optional()
+    .describe('Gradient-norm clipping (Pascanu et al. 2013): when the norm of all gradients together exceeds this, they are scaled down to it; drawn on a log scale unless log is false; absent means none.'),
 });
 
 
@@ -117,6 +132,8 @@ export const listedConfigurationSchema = z.strictObject({
   gamma: z.number().gt(0).max(1).optional(),
   stepEpochs: z.int().min(1).optional(),
   minFactor: z.number().min(0).lt(1).optional(),
+  weightDecay: z.number().positive().lt(1).optional().describe('Required when the space has weightDecay, refused otherwise.'),
+  maxGradientNorm: z.number().positive().optional().describe('Required when the space has maxGradientNorm, refused otherwise.'),
 });
 
 /** The fields a listed configuration must give for this space's schedule, and those it must leave out. */

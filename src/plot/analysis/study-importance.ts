@@ -6,6 +6,7 @@ import { scoreAt } from '../../core/ranking.js';
 import { variedParameterAxes, type ParameterAxis } from '../labels.js';
 import { forestImportance, type InputKind } from './importance.js';
 import { drawsOnLogScale } from '../../space/schema.js';
+import { spaceRegularisers } from '../../space/regularisers.js';
 
 /** Fewest scored configurations worth fitting a forest to. */
 export const FEWEST_FOR_IMPORTANCE = 8;
@@ -37,8 +38,10 @@ function coding(axis: ParameterAxis, study: StudyDocument): Coding {
         return { min: space.width.min, max: space.width.max, log: space.width.log };
       case 'dropout':
         return space.dropout ? { min: space.dropout.min, max: space.dropout.max, log: drawsOnLogScale(space.dropout, false) } : undefined;
-      default:
-        return undefined;
+      default: {
+        const regulariser = spaceRegularisers(space).find(({ dimension }) => dimension.name === axis.key);
+        return regulariser ? { min: regulariser.range.min, max: regulariser.range.max, log: drawsOnLogScale(regulariser.range, regulariser.dimension.defaultLog) } : undefined;
+      }
     }
   };
   const bounds = range();

@@ -68,3 +68,16 @@ export const layerWord = (layer: number, field: LayerField): number => LAYERS_WO
 
 /** Bytes of the descriptor of a network with `depth` hidden layers. */
 export const descriptorBytes = (depth: number): number => (LAYERS_WORD + (depth + 1) * LAYER_WORDS) * 4;
+
+/**
+ * Descriptor words of the regularisers (assembly/regularisers.ts), taken from the top of the free
+ * words below the layer records; 0 means off.
+ */
+export const REGULARISER_WORD = {
+  /** int: 1 when updates wait for the whole backward pass (weight decay or clipping on). */
+  updateAfterBackward: 31,
+  /** float32: this step's decoupled weight decay factor. */
+  weightDecayStep: 30,
+  /** float32: the largest gradient norm. */
+  maxGradientNorm: 29,
+} as const;

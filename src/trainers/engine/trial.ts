@@ -12,6 +12,7 @@ import { ADAM, MOMENTUM } from '../shared/optimizer-constants.js';
 import { CONSTANT, descriptorBytes, layerWord, WORD, type LayerField } from './layout.js';
 import { align16, engine, padColumns, reserve } from './module.js';
 import { residentData, type ResidentData } from './resident-data.js';
+import { setWeightDecayStep, writeRegularisers } from './regularisers.js';
 
 /** Rows the evaluation pass runs at once (buffers hold at least this many rows). */
 export const EVALUATION_CHUNK_ROWS = 256;
@@ -78,6 +79,7 @@ export class EngineTrial {
     reserve(memory.end());
     new Uint8Array(engine().memory.buffer, data.end, memory.end() - data.end).fill(0);
     writeDescriptor(net, spec, layers, { ...buffers, trainX: data.trainX, trainY: data.trainY, scratch, classWeights });
+    writeRegularisers(net, configuration);
 
     const trial = new EngineTrial(spec, data, net, layers, capacityRows, outputsAt);
     layers.forEach((layer, l) => {
@@ -118,6 +120,7 @@ export class EngineTrial {
   /** Sets the learning rate of the next steps (float32, as tfjs's scalar of -learningRate). */
   setLearningRate(learningRate: number): void {
     this.setConstant('negativeLearningRate', -learningRate);
+    setWeightDecayStep(this.net, this.spec.configuration, learningRate);
   }
 
   /** 1 applies the optimizer after each step's gradients, 0 leaves the gradients only (for checking). */

@@ -8,6 +8,8 @@ import { checkpointBytes, restoreCheckpoint } from './checkpoint.js';
 import { datasetTensors, type DatasetTensors } from './data-cache.js';
 import { completeJob, lastEpochOf, runEpochs } from '../shared/epochs.js';
 import { ADAM, MOMENTUM } from '../shared/optimizer-constants.js';
+import { updatesAfterBackward } from '../shared/regularisers.js';
+import { regularisedStep } from './regularisers.js';
 import { createNetwork, disposeNetwork, forward, l2Penalty, lossFromLogits, networkSpec, outputFromLogits, type Network } from './network.js';
 
 export { ADAM, MOMENTUM } from '../shared/optimizer-constants.js';
@@ -71,16 +73,14 @@ function trainEpoch(request: TrainRequest, network: Network, optimizer: tf.Optim
         const weights = shuffledWeights && tf.slice(shuffledWeights, [start, 0], [size, -1]);
         const dropout = configuration.dropout > 0 ? { rate: configuration.dropout, rng: stream(seed, 'dropout', epoch, batch) } : undefined;
         let batchLoss: tf.Scalar | undefined;
-        optimizer.minimize(
-          () => {
-            const dataLoss = lossFromLogits(dataset.task, forward(network, x, dropout), y, weights);
-            // A copy is kept: minimize() disposes the tensor f returns.
-            batchLoss = tf.keep(tf.clone(dataLoss));
-            return configuration.l2 > 0 ? tf.add(dataLoss, l2Penalty(network, configuration.l2)) : dataLoss;
-          },
-          false,
-          network.variables,
-        );
+        const objective = (): tf.Scalar => {
+          const dataLoss = lossFromLogits(dataset.task, forward(network, x, dropout), y, weights);
+          // A copy is kept: minimize() disposes the tensor f returns.
+          batchLoss = tf.keep(tf.clone(dataLoss));
+          return configuration.l2 > 0 ? tf.add(dataLoss, l2Penalty(network, configuration.l2)) : dataLoss;
+        };
+        if (updatesAfterBackward(configuration)) regularisedStep(optimizer, objective, network, configuration);
+        else optimizer.minimize(objective, false, network.variables);
         if (!previousSum) return batchLoss!;
         const sum = tf.add(previousSum, batchLoss!) as tf.Scalar;
         batchLoss!.dispose(); // kept above, so the scope does not release it

@@ -39,6 +39,8 @@ export const configurationSchema = z.strictObject({
   gamma: z.number().gt(0).max(1).optional(),
   stepEpochs: positiveCount.optional(),
   minFactor: z.number().min(0).lt(1).optional(),
+  weightDecay: z.number().min(0).lt(1).optional(),
+  maxGradientNorm: z.number().positive().optional(),
 });
 
 /** Compiles only while the schema and `TrialConfiguration` have the same fields (a strict schema would refuse a new one). */
