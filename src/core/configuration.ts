@@ -11,6 +11,8 @@ export const CLASSIFICATION_METRICS = ['accuracy', 'macroF1', 'logLoss'] as cons
 export const BINARY_METRICS = [...CLASSIFICATION_METRICS, 'auc'] as const;
 export const REGRESSION_METRICS = ['rmse', 'mae', 'r2'] as const;
 export const SCHEDULES = ['constant', 'step', 'cosine'] as const;
+/** Hidden-layer widths: `constant` (every layer `width`) or `funnel` (halved per layer; src/core/size.ts). */
+export const SHAPES = ['constant', 'funnel'] as const;
 /** `cost`: the mean cost per validation row of a classifier's decisions, under the study's `data.costs` (src/metrics/costs.ts). */
 export const METRICS = ['accuracy', 'macroF1', 'logLoss', 'auc', 'rmse', 'mae', 'r2', 'validationLoss', 'cost'] as const;
 
@@ -19,6 +21,7 @@ export type OptimizerName = (typeof OPTIMIZERS)[number];
 export type Task = (typeof TASKS)[number];
 export type MetricName = (typeof METRICS)[number];
 export type ScheduleKind = (typeof SCHEDULES)[number];
+export type Shape = (typeof SHAPES)[number];
 
 
 /** One point of the search space: what a trial trains (a trial's configuration). */
@@ -40,6 +43,8 @@ export interface TrialConfiguration {
   stepEpochs?: number;
   /** cosine only (present when the space's schedule kinds include cosine). */
   minFactor?: number;
+  /** Present only when the space has a `shape`; absent: constant (every hidden layer `width` units). */
+  shape?: Shape;
 }
 
 

@@ -8,6 +8,7 @@ import { readFile, writeFile } from 'node:fs/promises';
 import path from 'node:path';
 import type { PreprocessingRecipe } from '../data/types.js';
 import type { Activation, TrialConfiguration } from '../core/configuration.js';
+import { hiddenWidths } from '../core/size.js';
 import type { NamedWeights } from '../trainers/tfjs/checkpoint.js';
 import { LEAKY_RELU_SLOPE } from '../trainers/tfjs/network.js';
 
@@ -54,11 +55,12 @@ export function buildLayersModel(configuration: TrialConfiguration, recipe: Prep
   if (weights.length !== expected) throw new Error(`the checkpoint holds ${weights.length} weights, a network of depth ${configuration.depth} has ${expected}`);
   const model = tf.sequential({ name: 'rungwise_mlp' });
   const dense: { layer: tf.layers.Layer; kernel: NamedWeights; bias: NamedWeights }[] = [];
+  const widths = hiddenWidths(configuration);
   for (let i = 0; i < configuration.depth; i++) {
     const activation: DenseActivation | 'linear' = configuration.activation === 'leakyRelu' ? 'linear' : configuration.activation;
     const layer = tf.layers.dense({
       name: `hidden_${i + 1}`,
-      units: configuration.width,
+      units: widths[i]!,
       activation,
       // Initial weights are overwritten at once; zeros keeps construction free of unseeded draws.
       kernelInitializer: 'zeros',

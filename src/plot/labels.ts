@@ -63,6 +63,7 @@ export function parameterAxes(study: StudyDocument): ParameterAxis[] {
     { key: 'activation', title: 'activation', shortTitle: 'activation', kind: 'nominal', categories: [...space.activation] },
     { key: 'optimizer', title: 'optimizer', shortTitle: 'optimizer', kind: 'nominal', categories: [...space.optimizer] },
     ...scheduleAxes(study),
+    ...(space.shape ? [{ key: 'shape', title: 'hidden-layer widths (constant or funnel)', shortTitle: 'shape', kind: 'nominal', categories: [...space.shape] } satisfies ParameterAxis] : []),
   ];
 }
 

@@ -84,7 +84,8 @@ export function snap(dimensions: readonly Dimension[], point: readonly number[])
 
 /**
  * The dimensions of a rungwise search space, in the order random drawing uses (depth, width,
- * activation, learningRate, batchSize, optimizer, l2, dropout); absent l2 and dropout are not dimensions.
+ * activation, learningRate, batchSize, optimizer, l2, dropout, the schedule's, shape); absent l2, dropout,
+ * schedule and shape are not dimensions.
  */
 export function spaceDimensions(space: SearchSpace): Dimension[] {
   const dimensions: Dimension[] = [
@@ -109,6 +110,7 @@ export function spaceDimensions(space: SearchSpace): Dimension[] {
     dimensions.push(numeric('warmupEpochs', schedule.warmupEpochs, true));
     if (schedule.kind.includes('cosine')) dimensions.push(numeric('minFactor', schedule.minFactor, false));
   }
+  if (space.shape) dimensions.push({ kind: 'categorical', name: 'shape', choices: space.shape });
   return dimensions;
 }
 
@@ -125,6 +127,7 @@ export function configurationAt(space: SearchSpace, point: readonly number[]): T
     l2: space.l2 ? (values['l2'] as number) : 0,
     dropout: space.dropout ? (values['dropout'] as number) : 0,
     ...(space.schedule ? scheduleValues(values) : {}),
+    ...(space.shape ? { shape: values['shape'] as TrialConfiguration['shape'] } : {}),
   };
 }
 

@@ -28,10 +28,14 @@ export function sampleConfiguration(space: SearchSpace, rng: Rng): TrialConfigur
     l2: space.l2 ? drawReal(space.l2, true, l2Draw) : 0,
     dropout: space.dropout ? drawReal(space.dropout, false, dropoutDraw) : 0,
   };
-  if (!space.schedule) return configuration;
-  // Drawn after every other field, five draws always, so a space without a schedule draws as before.
-  const draws = [rng(), rng(), rng(), rng(), rng()] as const;
-  return { ...configuration, ...scheduleAt(space.schedule, draws) };
+  if (space.schedule) {
+    // Drawn after the fields above, five draws always, so a space without a schedule draws as before.
+    const draws = [rng(), rng(), rng(), rng(), rng()] as const;
+    Object.assign(configuration, scheduleAt(space.schedule, draws));
+  }
+  // One draw after everything else, only when the space has a shape, so a space without one draws as before.
+  if (space.shape) configuration.shape = choose(space.shape, rng());
+  return configuration;
 }
 
 /** A schedule setting as the space gives it: one value, or a range. */

@@ -1,6 +1,6 @@
 /** The search space as the study file states it: ranges and choices for each part of a configuration. */
 import { z } from 'zod';
-import { ACTIVATIONS, OPTIMIZERS, SCHEDULES } from '../core/configuration.js';
+import { ACTIVATIONS, OPTIMIZERS, SCHEDULES, SHAPES } from '../core/configuration.js';
 
 /** A range whose min exceeds its max names both values. */
 function minNotAboveMax(range: { min: number; max: number }, ctx: z.RefinementCtx): void {
@@ -95,6 +95,11 @@ export const spaceSchema = z.strictObject({
   l2: positiveLogRange.optional().describe('L2 weight penalty; drawn on a log scale unless log is false; absent means none.'),
   dropout: fractionRange.optional().describe('Dropout rate after each hidden layer; drawn uniformly unless log is true (then min must be above 0); absent means none.'),
   schedule: scheduleSchema.optional(),
+  shape: z
+    .array(z.enum(SHAPES))
+    .min(1)
+    .optional()
+    .describe('Hidden-layer widths to choose from: constant (every layer width units) or funnel (layer i has ceil(width / 2^i) units, never fewer than min(width, 8)); absent means constant.'),
 });
 
 
@@ -117,10 +122,13 @@ export const listedConfigurationSchema = z.strictObject({
   gamma: z.number().gt(0).max(1).optional(),
   stepEpochs: z.int().min(1).optional(),
   minFactor: z.number().min(0).lt(1).optional(),
+  shape: z.enum(SHAPES).optional().describe('Required when the space has a shape, left out otherwise.'),
 });
 
-/** The fields a listed configuration must give for this space's schedule, and those it must leave out. */
+/** The fields a listed configuration must give for this space's schedule and shape, and those it must leave out. */
 export function listedScheduleProblem(entry: z.output<typeof listedConfigurationSchema>, space: SearchSpace): string | undefined {
+  const shape = listedShapeProblem(entry, space);
+  if (shape) return shape;
   const schedule = space.schedule;
   const given = (['schedule', 'warmupEpochs', 'gamma', 'stepEpochs', 'minFactor'] as const).filter((key) => entry[key] !== undefined);
   if (!schedule) return given.length > 0 ? `gives ${given.join(', ')} but the space has no schedule; leave them out` : undefined;
@@ -131,4 +139,11 @@ export function listedScheduleProblem(entry: z.output<typeof listedConfiguration
   if (missing.length > 0) return `lacks ${missing.join(', ')}, which this space's schedule draws; give them`;
   const extra = given.filter((key) => !needed.includes(key));
   return extra.length > 0 ? `gives ${extra.join(', ')}, which this space's schedule kinds do not use; leave them out` : undefined;
+}
+
+/** A listed configuration gives `shape` exactly when the space has one, and one of the space's shapes. */
+function listedShapeProblem(entry: z.output<typeof listedConfigurationSchema>, space: SearchSpace): string | undefined {
+  if (!space.shape) return entry.shape !== undefined ? 'gives shape but the space has no shape; leave it out' : undefined;
+  if (entry.shape === undefined) return `lacks shape, which this space draws (${space.shape.join(', ')}); give it`;
+  return undefined;
 }

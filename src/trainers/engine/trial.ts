@@ -7,6 +7,7 @@
 import type { SharedDataset } from '../../core/job.js';
 import { permutation, stream, type Rng } from '../../random/streams.js';
 import { ACTIVATIONS, OPTIMIZERS, TASKS, type TrialConfiguration } from '../../core/configuration.js';
+import { hiddenWidths } from '../../core/size.js';
 import { initialKernel, initRuleFor } from '../shared/initial-weights.js';
 import { ADAM, MOMENTUM } from '../shared/optimizer-constants.js';
 import { CONSTANT, descriptorBytes, layerWord, WORD, type LayerField } from './layout.js';
@@ -187,7 +188,7 @@ function layOutLayers(
   capacityRows: number,
   memory: Allocator,
 ): { layers: LayerShape[]; scratchFloats: number } {
-  const widths = [dataset.inputCount, ...Array.from({ length: configuration.depth }, () => configuration.width), dataset.outputCount];
+  const widths = [dataset.inputCount, ...hiddenWidths(configuration), dataset.outputCount];
   const slots = configuration.optimizer === 'adam' ? 2 : configuration.optimizer === 'momentum' ? 1 : 0;
   const dropout = configuration.dropout > 0;
   let scratchFloats = 0;

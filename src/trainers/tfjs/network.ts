@@ -1,5 +1,6 @@
 import * as tf from '@tensorflow/tfjs';
 import type { Activation, Task, TrialConfiguration } from '../../core/configuration.js';
+import { hiddenWidths } from '../../core/size.js';
 import { stream, type Rng } from '../../random/streams.js';
 import { initialKernel, initRuleFor, layerPrefix, type InitRule } from '../shared/initial-weights.js';
 
@@ -13,6 +14,8 @@ export interface NetworkSpec {
   outputCount: number;
   depth: number;
   width: number;
+  /** Each hidden layer's units (src/core/size.ts `hiddenWidths`; absent: `width` for every layer). */
+  widths?: readonly number[];
   activation: Activation;
 }
 
@@ -45,8 +48,9 @@ export function createNetwork(spec: NetworkSpec): Network {
   const hidden: DenseLayer[] = [];
   let fanIn = spec.inputCount;
   for (let i = 0; i < spec.depth; i++) {
-    hidden.push(denseLayer(layerPrefix(spec.trialId, i, spec.depth), fanIn, spec.width, initRuleFor(spec.activation), stream(spec.seed, 'init', i)));
-    fanIn = spec.width;
+    const units = spec.widths?.[i] ?? spec.width;
+    hidden.push(denseLayer(layerPrefix(spec.trialId, i, spec.depth), fanIn, units, initRuleFor(spec.activation), stream(spec.seed, 'init', i)));
+    fanIn = units;
   }
   const output = denseLayer(layerPrefix(spec.trialId, spec.depth, spec.depth), fanIn, spec.outputCount, 'glorotUniform', stream(spec.seed, 'init', spec.depth));
   const variables = [...hidden, output].flatMap((layer) => [layer.kernel, layer.bias]);
@@ -158,5 +162,6 @@ export function l2Penalty(network: Network, l2: number): tf.Scalar {
 
 /** The network shape a request describes. */
 export function networkSpec(trialId: number, seed: number, configuration: TrialConfiguration, inputCount: number, outputCount: number): NetworkSpec {
-  return { trialId, seed, inputCount, outputCount, depth: configuration.depth, width: configuration.width, activation: configuration.activation };
+  const { depth, width, activation } = configuration;
+  return { trialId, seed, inputCount, outputCount, depth, width, widths: hiddenWidths(configuration), activation };
 }
