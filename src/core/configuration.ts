@@ -13,6 +13,8 @@ export const REGRESSION_METRICS = ['rmse', 'mae', 'r2'] as const;
 export const SCHEDULES = ['constant', 'step', 'cosine'] as const;
 /** Hidden-layer widths: `constant` (every layer `width`) or `funnel` (halved per layer; src/core/size.ts). */
 export const SHAPES = ['constant', 'funnel'] as const;
+/** How hidden layers are stacked: `plain` (dense, activation, dropout) or `residual` blocks with layer normalisation (src/core/size.ts). */
+export const BLOCKS = ['plain', 'residual'] as const;
 /** `cost`: the mean cost per validation row of a classifier's decisions, under the study's `data.costs` (src/metrics/costs.ts). */
 export const METRICS = ['accuracy', 'macroF1', 'logLoss', 'auc', 'rmse', 'mae', 'r2', 'validationLoss', 'cost'] as const;
 
@@ -22,6 +24,7 @@ export type Task = (typeof TASKS)[number];
 export type MetricName = (typeof METRICS)[number];
 export type ScheduleKind = (typeof SCHEDULES)[number];
 export type Shape = (typeof SHAPES)[number];
+export type Block = (typeof BLOCKS)[number];
 
 
 /** One point of the search space: what a trial trains (a trial's configuration). */
@@ -45,6 +48,8 @@ export interface TrialConfiguration {
   minFactor?: number;
   /** Present only when the space has a `shape`; absent: constant (every hidden layer `width` units). */
   shape?: Shape;
+  /** Present only when the space has a `block`; absent: plain. */
+  block?: Block;
 }
 
 

@@ -84,8 +84,8 @@ export function snap(dimensions: readonly Dimension[], point: readonly number[])
 
 /**
  * The dimensions of a rungwise search space, in the order random drawing uses (depth, width,
- * activation, learningRate, batchSize, optimizer, l2, dropout, the schedule's, shape); absent l2, dropout,
- * schedule and shape are not dimensions.
+ * activation, learningRate, batchSize, optimizer, l2, dropout, the schedule's, shape, block); absent l2,
+ * dropout, schedule, shape and block are not dimensions.
  */
 export function spaceDimensions(space: SearchSpace): Dimension[] {
   const dimensions: Dimension[] = [
@@ -111,6 +111,7 @@ export function spaceDimensions(space: SearchSpace): Dimension[] {
     if (schedule.kind.includes('cosine')) dimensions.push(numeric('minFactor', schedule.minFactor, false));
   }
   if (space.shape) dimensions.push({ kind: 'categorical', name: 'shape', choices: space.shape });
+  if (space.block) dimensions.push({ kind: 'categorical', name: 'block', choices: space.block });
   return dimensions;
 }
 
@@ -128,6 +129,7 @@ export function configurationAt(space: SearchSpace, point: readonly number[]): T
     dropout: space.dropout ? (values['dropout'] as number) : 0,
     ...(space.schedule ? scheduleValues(values) : {}),
     ...(space.shape ? { shape: values['shape'] as TrialConfiguration['shape'] } : {}),
+    ...(space.block ? { block: values['block'] as TrialConfiguration['block'] } : {}),
   };
 }
 

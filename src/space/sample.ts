@@ -35,6 +35,8 @@ export function sampleConfiguration(space: SearchSpace, rng: Rng): TrialConfigur
   }
   // One draw after everything else, only when the space has a shape, so a space without one draws as before.
   if (space.shape) configuration.shape = choose(space.shape, rng());
+  // Likewise the block, last of all.
+  if (space.block) configuration.block = choose(space.block, rng());
   return configuration;
 }
 

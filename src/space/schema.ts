@@ -1,6 +1,6 @@
 /** The search space as the study file states it: ranges and choices for each part of a configuration. */
 import { z } from 'zod';
-import { ACTIVATIONS, OPTIMIZERS, SCHEDULES, SHAPES } from '../core/configuration.js';
+import { ACTIVATIONS, BLOCKS, OPTIMIZERS, SCHEDULES, SHAPES } from '../core/configuration.js';
 
 /** A range whose min exceeds its max names both values. */
 function minNotAboveMax(range: { min: number; max: number }, ctx: z.RefinementCtx): void {
@@ -100,6 +100,11 @@ export const spaceSchema = z.strictObject({
     .min(1)
     .optional()
     .describe('Hidden-layer widths to choose from: constant (every layer width units) or funnel (layer i has ceil(width / 2^i) units, never fewer than min(width, 8)); absent means constant.'),
+  block: z
+    .array(z.enum(BLOCKS))
+    .min(1)
+    .optional()
+    .describe('How hidden layers are stacked: plain (dense, activation, dropout) or residual (depth blocks of layer normalisation, dense, activation, dropout, dense, dropout, added to the block input; Gorishniy et al. 2021); absent means plain.'),
 });
 
 
@@ -123,6 +128,7 @@ export const listedConfigurationSchema = z.strictObject({
   stepEpochs: z.int().min(1).optional(),
   minFactor: z.number().min(0).lt(1).optional(),
   shape: z.enum(SHAPES).optional().describe('Required when the space has a shape, left out otherwise.'),
+  block: z.enum(BLOCKS).optional().describe('Required when the space has a block, left out otherwise.'),
 });
 
 /** The fields a listed configuration must give for this space's schedule and shape, and those it must leave out. */
@@ -141,9 +147,12 @@ export function listedScheduleProblem(entry: z.output<typeof listedConfiguration
   return extra.length > 0 ? `gives ${extra.join(', ')}, which this space's schedule kinds do not use; leave them out` : undefined;
 }
 
-/** A listed configuration gives `shape` exactly when the space has one, and one of the space's shapes. */
+/** A listed configuration gives `shape` and `block` exactly when the space has them. */
 function listedShapeProblem(entry: z.output<typeof listedConfigurationSchema>, space: SearchSpace): string | undefined {
-  if (!space.shape) return entry.shape !== undefined ? 'gives shape but the space has no shape; leave it out' : undefined;
-  if (entry.shape === undefined) return `lacks shape, which this space draws (${space.shape.join(', ')}); give it`;
+  for (const key of ['shape', 'block'] as const) {
+    const drawn = space[key];
+    if (!drawn && entry[key] !== undefined) return `gives ${key} but the space has no ${key}; leave it out`;
+    if (drawn && entry[key] === undefined) return `lacks ${key}, which this space draws (${drawn.join(', ')}); give it`;
+  }
   return undefined;
 }
