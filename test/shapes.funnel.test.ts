@@ -1,7 +1,8 @@
 /**
  * Per-layer widths (`shape: funnel`): the stated rule, the weight count against tfjs's own count, the
  * engine's gradients against tfjs's automatic differentiation, the exported tfjs and ONNX models
- * against the trained network, and a study that runs, exports and predicts with a funnel.
+ * against the trained network, and studies that run, export and predict with a funnel (and with
+ * residual blocks).
  */
 import { readFileSync } from 'node:fs';
 import { mkdtemp, readFile } from 'node:fs/promises';
@@ -186,22 +187,31 @@ describe('the exported funnel computes what the trained network computes', () =>
   });
 });
 
-describe('a study with shape funnel', () => {
-  it('trains funnels, exports rank 1 with its widths, and predict gives the ONNX model\'s outputs', async () => {
+const studies: { name: string; space: { shape: string[]; block?: string[] } }[] = [
+  { name: 'shape funnel', space: { shape: ['funnel'] } },
+  { name: 'shape funnel and residual blocks', space: { shape: ['funnel'], block: ['residual'] } },
+];
+
+describe.each(studies)('a study with $name', ({ space: added }) => {
+  it('trains its networks, exports rank 1 with its widths, and predict gives the ONNX model\'s outputs', async () => {
     const definition = JSON.parse(readFileSync(path.join(TINY, 'study.json'), 'utf8')) as StudyDefinitionInput & { $schema?: string };
     delete definition.$schema;
-    const space = { ...definition.space, depth: { min: 2, max: 3 }, width: { min: 24, max: 32 }, shape: ['funnel'] };
+    const space = { ...definition.space, depth: { min: 2, max: 3 }, width: { min: 24, max: 32 }, ...added };
     const out = path.join(await mkdtemp(path.join(tmpdir(), 'rungwise-funnel-')), 'study');
     await run({ definition: { ...definition, space, budget: { trials: 2, maxEpochs: 2 } } as StudyDefinitionInput, baseDir: TINY, out, progress: false });
     const study = JSON.parse(await readFile(path.join(out, 'study.json'), 'utf8')) as { trials: { configuration: TrialConfiguration }[] };
     expect(study.trials.map((t) => t.configuration.shape)).toEqual(['funnel', 'funnel']);
+    expect(study.trials.map((t) => t.configuration.block)).toEqual(added.block ? ['residual', 'residual'] : [undefined, undefined]);
     const exported = (await exportModel({ dir: out, format: 'onnx' })).out;
     const model = await loadModel(exported);
     try {
       const configuration = model.configuration;
-      const units = JSON.parse(await readFile(path.join(exported, 'model.json'), 'utf8')).modelTopology.config.layers.map((l: { config: { units?: number } }) => l.config.units);
+      const layers = JSON.parse(await readFile(path.join(exported, 'model.json'), 'utf8')).modelTopology.config.layers as { class_name: string; config: { units?: number } }[];
+      const units = layers.map((l) => l.config.units).filter((u) => u !== undefined);
       const trained = configuration.configuration;
-      expect(units.filter((u: number | undefined) => u !== undefined)).toEqual([...hiddenWidths(trained), 1]);
+      const { width } = trained;
+      expect(units).toEqual(added.block ? [width, ...hiddenWidths(trained).flatMap((inner) => [inner, width]), 1] : [...hiddenWidths(trained), 1]);
+      expect(layers.filter((l) => l.class_name === 'LayerNormalization')).toHaveLength(added.block ? trained.depth + 1 : 0);
       expect(trained.shape).toBe('funnel');
       const table = await readCsv(path.join(TINY, 'tiny.csv'));
       const rows = table.rows.slice(0, 50);

@@ -1,17 +1,26 @@
 /**
  * Residual blocks with layer normalisation (`block: residual`): the tfjs path's normalisation against
- * tfjs's own LayerNormalization layer, and the engine's loss and every gradient (gains and biases of
- * the normalisations included) against tfjs's automatic differentiation of the tfjs path's network.
+ * tfjs's own LayerNormalization layer, the engine's loss and every gradient (gains and biases of
+ * the normalisations included) against tfjs's automatic differentiation of the tfjs path's network,
+ * training against the tfjs path and across a checkpoint, and the exported tfjs and ONNX models.
  */
 import * as tf from '@tensorflow/tfjs';
+import * as ort from 'onnxruntime-node';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { TASKS, type TrialConfiguration } from '../src/core/configuration.js';
 import { weightCount } from '../src/core/size.js';
+import { networkTrainingBytes, trainingBytes } from '../src/study/capacity.js';
 import { stream } from '../src/random/streams.js';
 import { networkWeights } from '../src/trainers/engine/checkpoint-state.js';
 import type { EngineTrial } from '../src/trainers/engine/trial.js';
 import { initBackend } from '../src/trainers/tfjs/backend.js';
-import { disposeNetwork, forward, l2Penalty, layerNorm, lossFromLogits } from '../src/trainers/tfjs/network.js';
+import { disposeNetwork, forward, l2Penalty, layerNorm, lossFromLogits, outputFromLogits } from '../src/trainers/tfjs/network.js';
+import { trainSegment } from '../src/trainers/tfjs/loop.js';
+import { trainSegmentOnEngine } from '../src/trainers/engine/segment.js';
+import type { PreprocessingRecipe } from '../src/data/types.js';
+import type { ExportConfiguration } from '../src/export/configuration.js';
+import { buildLayersModel, predictRows } from '../src/export/model-files.js';
+import { onnxModelBytes } from '../src/export/onnx.js';
 import { NORM_EPSILON } from '../src/trainers/shared/layer-plan.js';
 import { labelTensor, relativeError, twinNetworks } from './helpers/engine.js';
 import { baseParams, syntheticDataset } from './helpers/synthetic.js';
@@ -105,3 +114,80 @@ describe('engine gradients of residual blocks against tf.variableGrads', () => {
     }
   }
 });
+
+describe('the memory check', () => {
+  it('prices a plain network as before and a residual one above it', () => {
+    expect(networkTrainingBytes({ depth: 4, width: 256 }, 20, 1, 128)).toBe(trainingBytes(20, 4, 256, 1, 128));
+    expect(networkTrainingBytes({ depth: 4, width: 256, block: 'residual' }, 20, 1, 128)).toBeGreaterThan(1.9 * trainingBytes(20, 4, 256, 1, 128));
+  });
+});
+
+describe('training residual blocks', () => {
+  const dataset = syntheticDataset({ task: 'multiclass', rows: 120, inputs: 5, classes: 3, seed: 12 });
+  const configuration: TrialConfiguration = { ...baseParams, depth: 2, width: 12, shape: 'funnel', block: 'residual', dropout: 0.1, batchSize: 16, l2: 1e-4 };
+  const request = { trialId: 3, seed: 5, configuration, dataset, datasetId: dataset.id, fromEpoch: 0, toEpoch: 6 };
+
+  it('follows the tfjs path epoch by epoch (validation loss within 1e-4 over 6 epochs of Adam with dropout)', async () => {
+    // Source: tfjs 4.22 (the tfjs path's network, tf.train.adam semantics) as the reference; tolerance: Common practice (no source).
+    const engine = await trainSegmentOnEngine(request);
+    const reference = await trainSegment(request);
+    expect(engine.status).toBe('completed');
+    expect(engine.epochs).toHaveLength(6);
+    engine.epochs.forEach((report, i) => expect(Math.abs(report.validationLoss - reference.epochs[i]!.validationLoss), `epoch ${i + 1}`).toBeLessThan(1e-4));
+    expect(engine.epochs.at(-1)!.validationLoss).toBeLessThan(engine.epochs[0]!.validationLoss);
+  });
+
+  it('continues from its checkpoint exactly as straight through, on either trainer', async () => {
+    const straight = await trainSegmentOnEngine(request);
+    const first = await trainSegmentOnEngine({ ...request, toEpoch: 3 });
+    const second = await trainSegmentOnEngine({ ...request, fromEpoch: 3, checkpoint: first.checkpoint! });
+    expect(second.epochs.map((e) => e.validationLoss)).toEqual(straight.epochs.slice(3).map((e) => e.validationLoss));
+    // The tfjs path reads the engine's checkpoint (same names, shapes and slots) and goes on training.
+    const onTfjs = await trainSegment({ ...request, fromEpoch: 3, checkpoint: first.checkpoint! });
+    onTfjs.epochs.forEach((report, i) => expect(Math.abs(report.validationLoss - straight.epochs[3 + i]!.validationLoss)).toBeLessThan(1e-4));
+  });
+});
+
+describe('the exported residual network computes what the trained network computes', () => {
+  it('tfjs functional model and ONNX LayerNormalization (opset 17, onnxruntime-node) give the tfjs path\'s outputs within 1e-5', async () => {
+    // Source: onnxruntime-node, the ONNX reference runtime (LayerNormalization from operator set 17); tfjs 4.22 for the network.
+    const dataset = syntheticDataset({ task: 'binary', rows: 40, inputs: 4, seed: 14 });
+    const params: TrialConfiguration = { ...baseParams, depth: 2, width: 9, shape: 'funnel', block: 'residual', activation: 'leakyRelu' };
+    const { trial, network } = twinNetworks(params, dataset, 4, stream('residual-export'));
+    const rng = stream('residual-export-gains');
+    for (const layer of trial.layers.filter((l) => l.plan.norm)) trial.writeMatrix(layer.at.normGain, layer.inStride, Float32Array.from({ length: layer.fanIn }, () => 0.5 + rng()), layer.fanIn);
+    const weights = networkWeights(trial);
+    weights.forEach((w, i) => network.variables[i]!.assign(tf.tensor(w.values, w.shape)));
+    const rows = dataset.validation.rows;
+    const recipe: PreprocessingRecipe = { task: 'binary', target: 't', features: ['a', 'b', 'c', 'd'].map((name) => ({ kind: 'numeric' as const, name, mean: 0, std: 1 })), inputCount: 4, classes: ['no', 'yes'] };
+    try {
+      const trained = tf.tidy(() => outputFromLogits('binary', forward(network, tf.tensor2d(dataset.validation.x, [rows, 4]))).dataSync() as Float32Array);
+      const model = buildLayersModel(params, recipe, weights);
+      try {
+        expect(largestDifference(predictRows(model, dataset.validation.x, rows, 4), trained)).toBeLessThan(1e-5);
+        // Source: tfjs 4.22, LayersModel.countParams, for the weight count the memory check prices.
+        expect(weightCount(params, 4, 1)).toBe(model.countParams());
+        const configuration = { recipe, study: 's', trialId: 0, outputs: { task: 'binary', classes: ['no', 'yes'], meaning: '' } } as unknown as ExportConfiguration;
+        const bytes = onnxModelBytes(model, configuration, 'test');
+        const session = await ort.InferenceSession.create(bytes);
+        try {
+          const result = await session.run({ features: new ort.Tensor('float32', dataset.validation.x, [rows, 4]) });
+          expect(largestDifference(result.output!.data as Float32Array, trained)).toBeLessThan(1e-5);
+        } finally {
+          await session.release();
+        }
+      } finally {
+        model.dispose();
+      }
+    } finally {
+      disposeNetwork(network);
+    }
+  });
+});
+
+function largestDifference(a: ArrayLike<number>, b: ArrayLike<number>): number {
+  expect(a.length).toBe(b.length);
+  let largest = 0;
+  for (let i = 0; i < a.length; i++) largest = Math.max(largest, Math.abs(a[i]! - b[i]!));
+  return largest;
+}

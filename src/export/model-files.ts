@@ -11,6 +11,7 @@ import type { Activation, TrialConfiguration } from '../core/configuration.js';
 import { hiddenWidths } from '../core/size.js';
 import type { NamedWeights } from '../trainers/tfjs/checkpoint.js';
 import { LEAKY_RELU_SLOPE } from '../trainers/tfjs/network.js';
+import { buildResidualModel } from './residual-model.js';
 
 export const MODEL_FILE = 'model.json';
 export const WEIGHTS_FILE = 'weights.bin';
@@ -47,10 +48,14 @@ function unscaledOutput(recipe: PreprocessingRecipe, kernel: NamedWeights, bias:
 
 /**
  * Builds a `tf.sequential` with the trial's architecture and the given weights (checkpoint order:
- * kernel, bias per hidden layer, then the output layer). Layer names are fixed (`hidden_1`, ...,
+ * kernel, bias per hidden layer, then the output layer); residual blocks give a functional model
+ * (`export/residual-model.ts`). Layer names are fixed (`hidden_1`, ...,
  * `output`) so the weight names in model.json do not depend on tfjs's global layer counter.
  */
-export function buildLayersModel(configuration: TrialConfiguration, recipe: PreprocessingRecipe, weights: readonly NamedWeights[]): tf.Sequential {
+export function buildLayersModel(configuration: TrialConfiguration, recipe: PreprocessingRecipe, weights: readonly NamedWeights[]): tf.LayersModel {
+  if (configuration.block === 'residual') {
+    return buildResidualModel(configuration, recipe, weights, { units: outputCount(recipe), activation: outputActivation(recipe), unscale: (kernel, bias) => unscaledOutput(recipe, kernel, bias) });
+  }
   const expected = 2 * (configuration.depth + 1);
   if (weights.length !== expected) throw new Error(`the checkpoint holds ${weights.length} weights, a network of depth ${configuration.depth} has ${expected}`);
   const model = tf.sequential({ name: 'rungwise_mlp' });
