@@ -5,12 +5,13 @@ import { activateRows, backRows, multiplyRows } from './activations';
 import {
   ACTIVATED, ACTIVATION, BATCH_X, BATCH_Y, BETA1, BETA2, BIAS, BIAS_GRADIENT, BIAS_SLOT1, BIAS_SLOT2, CLASS_WEIGHTS, constant, DELTA, DEPTH, DROPOUT,
   FAN_IN, FAN_OUT, IN_STRIDE, KERNEL, KERNEL_GRADIENT, KERNEL_SLOT1, KERNEL_SLOT2, L2, layerField, MASK, OPTIMIZER, ORDER, OUT_STRIDE,
-  OUTPUT, OUTPUTS, POWER1, POWER2, PRE_ACTIVATION, SCRATCH, setConstant, TASK, TRAIN_X, TRAIN_Y, TWICE_L2, UPDATE, word, pointer,
+  OUTPUT, OUTPUTS, POWER1, POWER2, PRE_ACTIVATION, SCRATCH, setConstant, TASK, TRAIN_X, TRAIN_Y, TWICE_L2, UPDATE, word, pointer, BLOCKS,
 } from './layout';
 import { outputLoss } from './losses';
 import { columnSums, gemm, gemmTransposedA, transpose } from './matmul';
 import { addL2, update } from './optimizers';
 import { updateAfterBackward, updatesAfterBackward } from './regularisers';
+import { forwardResidual, residualOutputLayer, trainResidualStep } from './residual';
 
 export { gemm } from './matmul';
 
@@ -59,6 +60,7 @@ function forward(net: usize, x: usize, rows: i32, training: bool): void {
  * the gradients (L2 term included) in the gradient buffers.
  */
 export function trainStep(net: usize, start: i32, rows: i32): f64 {
+  if (word(net, BLOCKS) != 0) return trainResidualStep(net, start, rows);
   const depth = word(net, DEPTH);
   const stride = field(net, 0, IN_STRIDE);
   const rowBytes = <usize>stride << 2;
@@ -116,7 +118,9 @@ export function trainStep(net: usize, start: i32, rows: i32): f64 {
  * rows, every row weighing the same (class weights are for training only); the output function's values go to `out` (rows x outputs, no padding).
  */
 export function evaluate(net: usize, x: usize, y: usize, rows: i32, chunk: i32, out: usize): f64 {
-  const depth = word(net, DEPTH);
+  const residual = word(net, BLOCKS) != 0;
+  // the output layer's index
+  const depth = residual ? residualOutputLayer(net) : word(net, DEPTH);
   const rowBytes = <usize>field(net, 0, IN_STRIDE) << 2;
   const outputs = word(net, OUTPUTS);
   const stride = field(net, depth, OUT_STRIDE);
@@ -124,7 +128,8 @@ export function evaluate(net: usize, x: usize, y: usize, rows: i32, chunk: i32, 
   let total: f64 = 0;
   for (let s = 0; s < rows; s += chunk) {
     const n = min(chunk, rows - s);
-    forward(net, x + <usize>s * rowBytes, n, false);
+    if (residual) forwardResidual(net, x + <usize>s * rowBytes, n, false);
+    else forward(net, x + <usize>s * rowBytes, n, false);
     total += outputLoss(word(net, TASK), address(net, depth, PRE_ACTIVATION), probabilities, 0, stride, n, outputs, y + (<usize>s << 2), n, 0);
     for (let r = 0; r < n; r++) {
       memory.copy(out + ((<usize>(s + r) * <usize>outputs) << 2), probabilities + ((<usize>r * <usize>stride) << 2), <usize>outputs << 2);

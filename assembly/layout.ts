@@ -30,9 +30,16 @@ export const EPSILON = 23;
 export const POWER1 = 24;
 export const POWER2 = 25;
 
+// residual blocks (src/trainers/shared/layer-plan.ts): 1 when the layers are residual blocks, and
+// the residual stream, its gradient and the gradient of a normalisation's output (rows x width each)
+export const BLOCKS = 40;
+export const RESIDUAL = 41;
+export const RESIDUAL_DELTA = 42;
+export const NORM_DELTA = 43;
+
 // one record of LAYER_WORDS words per dense layer from word LAYERS on, the output layer last
-export const LAYERS = 32;
-export const LAYER_WORDS = 20;
+export const LAYERS = 48;
+export const LAYER_WORDS = 32;
 export const FAN_IN = 0;
 export const FAN_OUT = 1;
 export const IN_STRIDE = 2;
@@ -50,6 +57,23 @@ export const ACTIVATED = 13;
 export const OUTPUT = 14;
 export const MASK = 15;
 export const DELTA = 16;
+// the layer normalisation a layer reads (residual blocks; 0 otherwise), over its fan-in
+export const NORM_GAIN = 17;
+export const NORM_BIAS = 18;
+export const NORM_GAIN_GRADIENT = 19;
+export const NORM_BIAS_GRADIENT = 20;
+export const NORM_GAIN_SLOT1 = 21;
+export const NORM_BIAS_SLOT1 = 22;
+export const NORM_GAIN_SLOT2 = 23;
+export const NORM_BIAS_SLOT2 = 24;
+/** (x - mean) / sqrt(variance + epsilon), rows x fan-in. */
+export const NORMALISED = 25;
+/** gain x normalised + bias, rows x fan-in. */
+export const NORM_OUTPUT = 26;
+/** 1 / sqrt(variance + epsilon), one float per row. */
+export const INVERSE_STD = 27;
+/** The activation of NORM_OUTPUT, when the activation follows the normalisation (before the output layer). */
+export const NORM_ACTIVATED = 28;
 
 // @ts-ignore: decorator
 @inline export function word(net: usize, index: i32): i32 {

@@ -107,4 +107,12 @@ describe('regularisers in the search space', () => {
     expect(messageOf(study({}, { weightDecay: 1e-4 }))).toBe('study.json: tryFirst[0]: gives weightDecay but the space has no such range; leave them out or add the range to the space');
     expect(messageOf(study(regularisers, { weightDecay: 1e-4, maxGradientNorm: 1 }))).toBe('accepted');
   });
+
+  it('are refused beside residual blocks, whose training step has no pass after the backward one where they act', () => {
+    const result = spaceSchema.safeParse({ ...plain, ...regularisers, block: ['plain', 'residual'] });
+    expect(result.success).toBe(false);
+    expect(result.error?.issues.map((issue) => issue.path.join('.'))).toEqual(['weightDecay', 'maxGradientNorm']);
+    expect(result.error?.issues[0]!.message).toMatch(/cannot be searched together with block "residual" yet/);
+    expect(spaceSchema.safeParse({ ...plain, ...regularisers, block: ['plain'] }).success).toBe(true);
+  });
 });

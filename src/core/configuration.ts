@@ -11,6 +11,10 @@ export const CLASSIFICATION_METRICS = ['accuracy', 'macroF1', 'logLoss'] as cons
 export const BINARY_METRICS = [...CLASSIFICATION_METRICS, 'auc'] as const;
 export const REGRESSION_METRICS = ['rmse', 'mae', 'r2'] as const;
 export const SCHEDULES = ['constant', 'step', 'cosine'] as const;
+/** Hidden-layer widths: `constant` (every layer `width`) or `funnel` (halved per layer; src/core/size.ts). */
+export const SHAPES = ['constant', 'funnel'] as const;
+/** How hidden layers are stacked: `plain` (dense, activation, dropout) or `residual` blocks with layer normalisation (src/core/size.ts). */
+export const BLOCKS = ['plain', 'residual'] as const;
 /** `cost`: the mean cost per validation row of a classifier's decisions, under the study's `data.costs` (src/metrics/costs.ts). */
 export const METRICS = ['accuracy', 'macroF1', 'logLoss', 'auc', 'rmse', 'mae', 'r2', 'validationLoss', 'cost'] as const;
 
@@ -19,6 +23,8 @@ export type OptimizerName = (typeof OPTIMIZERS)[number];
 export type Task = (typeof TASKS)[number];
 export type MetricName = (typeof METRICS)[number];
 export type ScheduleKind = (typeof SCHEDULES)[number];
+export type Shape = (typeof SHAPES)[number];
+export type Block = (typeof BLOCKS)[number];
 
 
 /** One point of the search space: what a trial trains (a trial's configuration). */
@@ -47,6 +53,10 @@ export interface TrialConfiguration {
   weightDecay?: number;
   /** Gradient-norm clipping: all gradients together are scaled down to this norm when above it (Pascanu et al., ICML 2013); absent: none. */
   maxGradientNorm?: number;
+  /** Present only when the space has a `shape`; absent: constant (every hidden layer `width` units). */
+  shape?: Shape;
+  /** Present only when the space has a `block`; absent: plain. */
+  block?: Block;
 }
 
 

@@ -8,8 +8,10 @@ import { readFile, writeFile } from 'node:fs/promises';
 import path from 'node:path';
 import type { PreprocessingRecipe } from '../data/types.js';
 import type { Activation, TrialConfiguration } from '../core/configuration.js';
+import { hiddenWidths } from '../core/size.js';
 import type { NamedWeights } from '../trainers/tfjs/checkpoint.js';
 import { LEAKY_RELU_SLOPE } from '../trainers/tfjs/network.js';
+import { buildResidualModel } from './residual-model.js';
 
 export const MODEL_FILE = 'model.json';
 export const WEIGHTS_FILE = 'weights.bin';
@@ -46,19 +48,24 @@ function unscaledOutput(recipe: PreprocessingRecipe, kernel: NamedWeights, bias:
 
 /**
  * Builds a `tf.sequential` with the trial's architecture and the given weights (checkpoint order:
- * kernel, bias per hidden layer, then the output layer). Layer names are fixed (`hidden_1`, ...,
+ * kernel, bias per hidden layer, then the output layer); residual blocks give a functional model
+ * (`export/residual-model.ts`). Layer names are fixed (`hidden_1`, ...,
  * `output`) so the weight names in model.json do not depend on tfjs's global layer counter.
  */
-export function buildLayersModel(configuration: TrialConfiguration, recipe: PreprocessingRecipe, weights: readonly NamedWeights[]): tf.Sequential {
+export function buildLayersModel(configuration: TrialConfiguration, recipe: PreprocessingRecipe, weights: readonly NamedWeights[]): tf.LayersModel {
+  if (configuration.block === 'residual') {
+    return buildResidualModel(configuration, recipe, weights, { units: outputCount(recipe), activation: outputActivation(recipe), unscale: (kernel, bias) => unscaledOutput(recipe, kernel, bias) });
+  }
   const expected = 2 * (configuration.depth + 1);
   if (weights.length !== expected) throw new Error(`the checkpoint holds ${weights.length} weights, a network of depth ${configuration.depth} has ${expected}`);
   const model = tf.sequential({ name: 'rungwise_mlp' });
   const dense: { layer: tf.layers.Layer; kernel: NamedWeights; bias: NamedWeights }[] = [];
+  const widths = hiddenWidths(configuration);
   for (let i = 0; i < configuration.depth; i++) {
     const activation: DenseActivation | 'linear' = configuration.activation === 'leakyRelu' ? 'linear' : configuration.activation;
     const layer = tf.layers.dense({
       name: `hidden_${i + 1}`,
-      units: configuration.width,
+      units: widths[i]!,
       activation,
       // Initial weights are overwritten at once; zeros keeps construction free of unseeded draws.
       kernelInitializer: 'zeros',

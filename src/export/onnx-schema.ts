@@ -102,6 +102,8 @@ message TypeProto {
 /** ONNX IR version and default-domain operator set the export targets (onnxruntime 1.x reads both). */
 export const ONNX_IR_VERSION = 8;
 export const ONNX_OPSET = 13;
+/** The operator set of a model with LayerNormalization (residual blocks), which the default domain has from set 17 on. */
+export const ONNX_OPSET_LAYER_NORMALIZATION = 17;
 /** TensorProto.DataType.FLOAT. */
 export const ONNX_FLOAT = 1;
 /** The file `export --format onnx` writes beside the tfjs model. */

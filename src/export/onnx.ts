@@ -1,5 +1,6 @@
 /**
- * `export --format onnx`: the exported network as `model.onnx` (ONNX IR 8, operator set 13), with the
+ * `export --format onnx`: the exported network as `model.onnx` (ONNX IR 8, operator set 13; 17 when it
+ * holds residual blocks, for LayerNormalization), with the
  * numeric preprocessing folded in as its first nodes: a missing value (NaN) becomes the training mean
  * (IsNaN, Where), then (x - mean) / std (Sub, Div). Categorical columns cannot be folded (ONNX tensors
  * of one type per input, and a category map is not an operator of the default domain), so they come
@@ -12,7 +13,7 @@ import protobuf from 'protobufjs';
 import type { PreprocessingRecipe } from '../data/types.js';
 import type { ExportConfiguration, OnnxDescription } from './configuration.js';
 import { inputNames, outputCount } from './model-files.js';
-import { ONNX_FILE, ONNX_FLOAT, ONNX_IR_VERSION, ONNX_OPSET, ONNX_SUBSET_PROTO } from './onnx-schema.js';
+import { ONNX_FILE, ONNX_FLOAT, ONNX_IR_VERSION, ONNX_OPSET, ONNX_OPSET_LAYER_NORMALIZATION, ONNX_SUBSET_PROTO } from './onnx-schema.js';
 
 export { ONNX_FILE } from './onnx-schema.js';
 export const ONNX_INPUT = 'features';
@@ -89,6 +90,62 @@ function activationNodes(activation: string, x: string, prefix: string, nodes: N
   }
 }
 
+/** The value name a layer reads: its inbound layer's output, or the graph's scaled input for the first layer. */
+function inboundNames(layer: tf.layers.Layer, outputs: ReadonlyMap<string, string>, input: string): string[] {
+  const inbound = layer.inboundNodes[0]?.inboundLayers ?? [];
+  const names = inbound.map((source) => outputs.get(source.name) ?? input);
+  return names.length > 0 ? names : [input];
+}
+
+/** The nodes of one layer (Dense, an activation, LayerNormalization, Add) reading `inputs`; returns its output name. */
+function nodesOfLayer(layer: tf.layers.Layer, inputs: string[], nodes: NodeSpec[], tensors: TensorSpec[]): string {
+  const name = layer.name;
+  const config = layer.getConfig() as { alpha?: number; activation?: string; epsilon?: number };
+  const x = inputs[0]!;
+  switch (layer.getClassName()) {
+    case 'LeakyReLU':
+      return activationNodes('leakyRelu', x, name, nodes, tensors, Number(config.alpha));
+    case 'Activation':
+      return activationNodes(String(config.activation ?? 'linear'), x, name, nodes, tensors);
+    case 'Add':
+      nodes.push({ opType: 'Add', input: inputs, output: [`${name}_sum`] });
+      return `${name}_sum`;
+    case 'LayerNormalization': {
+      // Operator set 17: Y = (X - mean) / sqrt(variance + epsilon) * Scale + B over the last axis.
+      const [gain, bias] = layer.getWeights();
+      tensors.push({ name: `${name}_gain`, dims: gain!.shape, values: Float32Array.from(gain!.dataSync()) });
+      tensors.push({ name: `${name}_bias`, dims: bias!.shape, values: Float32Array.from(bias!.dataSync()) });
+      const attribute = [{ name: 'axis', type: ATTRIBUTE_INT, i: -1 }, { name: 'epsilon', type: ATTRIBUTE_FLOAT, f: Number(config.epsilon) }];
+      nodes.push({ opType: 'LayerNormalization', input: [x, `${name}_gain`, `${name}_bias`], output: [`${name}_norm`], attribute });
+      return `${name}_norm`;
+    }
+    case 'Dense': {
+      const [kernel, bias] = layer.getWeights();
+      tensors.push({ name: `${name}_kernel`, dims: kernel!.shape, values: Float32Array.from(kernel!.dataSync()) });
+      tensors.push({ name: `${name}_bias`, dims: bias!.shape, values: Float32Array.from(bias!.dataSync()) });
+      nodes.push({ opType: 'Gemm', input: [x, `${name}_kernel`, `${name}_bias`], output: [`${name}_dense`] });
+      return activationNodes(String(config.activation ?? 'linear'), `${name}_dense`, name, nodes, tensors);
+    }
+    default:
+      throw new Error(`layer ${name} (${layer.getClassName()}) has no ONNX form in rungwise's export`);
+  }
+}
+
+/** The nodes of every layer in the model's order (a plain stack, or a functional graph of residual blocks); returns the last output's name. */
+function layerNodes(network: tf.LayersModel, input: string, nodes: NodeSpec[], tensors: TensorSpec[]): string {
+  const outputs = new Map<string, string>();
+  let last = input;
+  for (const layer of network.layers) {
+    if (layer.getClassName() === 'InputLayer') {
+      outputs.set(layer.name, input);
+      continue;
+    }
+    last = nodesOfLayer(layer, inboundNames(layer, outputs, input), nodes, tensors);
+    outputs.set(layer.name, last);
+  }
+  return last;
+}
+
 /** Fill, mean and std per network input: numeric inputs from the recipe, one-hot inputs pass unchanged. */
 function inputScaling(recipe: PreprocessingRecipe): { fill: Float32Array; mean: Float32Array; std: Float32Array } {
   const fill: number[] = [];
@@ -123,21 +180,7 @@ export function onnxModelBytes(network: tf.LayersModel, configuration: ExportCon
     { opType: 'Sub', input: ['filled', 'mean'], output: ['centred'] },
     { opType: 'Div', input: ['centred', 'std'], output: ['scaled'] },
   );
-  let x = 'scaled';
-  for (const layer of network.layers) {
-    const name = layer.name;
-    const className = layer.getClassName();
-    if (className === 'LeakyReLU') {
-      x = activationNodes('leakyRelu', x, name, nodes, tensors, Number((layer.getConfig() as { alpha?: number }).alpha));
-      continue;
-    }
-    if (className !== 'Dense') throw new Error(`layer ${name} (${className}) has no ONNX form in rungwise's export`);
-    const [kernel, bias] = layer.getWeights();
-    tensors.push({ name: `${name}_kernel`, dims: kernel!.shape, values: Float32Array.from(kernel!.dataSync()) });
-    tensors.push({ name: `${name}_bias`, dims: bias!.shape, values: Float32Array.from(bias!.dataSync()) });
-    nodes.push({ opType: 'Gemm', input: [x, `${name}_kernel`, `${name}_bias`], output: [`${name}_dense`] });
-    x = activationNodes(String((layer.getConfig() as { activation?: string }).activation ?? 'linear'), `${name}_dense`, name, nodes, tensors);
-  }
+  const x = layerNodes(network, 'scaled', nodes, tensors);
   // The graph's output must be a node's output under its published name.
   nodes.push({ opType: 'Identity', input: [x], output: [ONNX_OUTPUT] });
 
@@ -146,7 +189,7 @@ export function onnxModelBytes(network: tf.LayersModel, configuration: ExportCon
   const ModelProto = onnxModelType();
   const message = ModelProto.fromObject({
     irVersion: ONNX_IR_VERSION,
-    opsetImport: [{ domain: '', version: ONNX_OPSET }],
+    opsetImport: [{ domain: '', version: nodes.some((node) => node.opType === 'LayerNormalization') ? ONNX_OPSET_LAYER_NORMALIZATION : ONNX_OPSET }],
     producerName: 'rungwise',
     producerVersion,
     docString: `${description.numeric} ${description.categorical} Output: ${description.outputMeaning}`,

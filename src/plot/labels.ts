@@ -66,6 +66,8 @@ export function parameterAxes(study: StudyDocument): ParameterAxis[] {
     { key: 'optimizer', title: 'optimizer', shortTitle: 'optimizer', kind: 'nominal', categories: [...space.optimizer] },
     ...scheduleAxes(study),
     ...regulariserAxes(study),
+    ...(space.shape ? [{ key: 'shape', title: 'hidden-layer widths (constant or funnel)', shortTitle: 'shape', kind: 'nominal', categories: [...space.shape] } satisfies ParameterAxis] : []),
+    ...(space.block ? [{ key: 'block', title: 'hidden layers stacked plain or in residual blocks', shortTitle: 'block', kind: 'nominal', categories: [...space.block] } satisfies ParameterAxis] : []),
   ];
 }
 

@@ -16,6 +16,8 @@ export function rankingTable(ranking: readonly RankedTrial[], goal: Goal): strin
   // Columns for schedules and early stopping only when a trial has them, so other rankings read as before.
   const schedules = ranking.some(({ trial }) => trial.configuration.schedule !== undefined);
   const stopping = ranking.some(({ trial }) => trial.bestEpoch !== undefined);
+  const shapes = ranking.some(({ trial }) => trial.configuration.shape !== undefined);
+  const blocks = ranking.some(({ trial }) => trial.configuration.block !== undefined);
   const flagged = ranking.some(({ trial }) => (trial.flags?.length ?? 0) > 0);
   const regularised = ranking.some(({ trial }) => regularisersInWords(trial.configuration) !== undefined);
   // Classification: accuracy and macro-F1 side by side (besides the goal's metric), to see what class weights trade.
@@ -23,7 +25,7 @@ export function rankingTable(ranking: readonly RankedTrial[], goal: Goal): strin
   const sideBySide = (['accuracy', 'macroF1'] as const).filter((name) => name !== goal.metric && ranking.some(({ trial }) => scoredPoint(trial)?.metrics[name] !== undefined));
   // The cost goal is per row; a column per 1,000 rows reads as an amount a user can weigh.
   const perThousand = goal.metric === 'cost';
-  const header = ['rank', 'trial', 'rung', 'epochs', ...(stopping ? ['best epoch'] : []), folds ? `${goal.metric} (fold mean ± SE)` : goal.metric, ...(perThousand ? ['cost per 1,000 rows'] : []), ...sideBySide, 'depth', 'width', 'activation', 'learning rate', ...(schedules ? ['schedule'] : []), 'batch', 'optimizer', 'l2', 'dropout', ...(regularised ? ['regularisers'] : []), ...(flagged ? ['flags'] : [])];
+  const header = ['rank', 'trial', 'rung', 'epochs', ...(stopping ? ['best epoch'] : []), folds ? `${goal.metric} (fold mean ± SE)` : goal.metric, ...(perThousand ? ['cost per 1,000 rows'] : []), ...sideBySide, 'depth', 'width', ...(shapes ? ['shape'] : []), ...(blocks ? ['block'] : []), 'activation', 'learning rate', ...(schedules ? ['schedule'] : []), 'batch', 'optimizer', 'l2', 'dropout', ...(regularised ? ['regularisers'] : []), ...(flagged ? ['flags'] : [])];
   const rows = ranking.map(({ rank, trial }) => [
     String(rank),
     String(trial.id),
@@ -35,6 +37,8 @@ export function rankingTable(ranking: readonly RankedTrial[], goal: Goal): strin
     ...sideBySide.map((name) => formatNumber(scoredPoint(trial)?.metrics[name])),
     String(trial.configuration.depth),
     String(trial.configuration.width),
+    ...(shapes ? [trial.configuration.shape ?? 'constant'] : []),
+    ...(blocks ? [trial.configuration.block ?? 'plain'] : []),
     trial.configuration.activation,
     formatNumber(trial.configuration.learningRate),
     ...(schedules ? [scheduleInWords(trial.configuration) ?? 'constant'] : []),

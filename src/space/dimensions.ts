@@ -85,8 +85,8 @@ export function snap(dimensions: readonly Dimension[], point: readonly number[])
 
 /**
  * The dimensions of a rungwise search space, in the order random drawing uses (depth, width,
- * activation, learningRate, batchSize, optimizer, l2, dropout, then the schedule's settings and the
- * regularisers); absent l2, dropout, schedule and regularisers are not dimensions.
+ * activation, learningRate, batchSize, optimizer, l2, dropout, then the schedule's settings, the
+ * regularisers, shape and block); absent l2, dropout, schedule, regularisers, shape and block are not dimensions.
  */
 export function spaceDimensions(space: SearchSpace): Dimension[] {
   const dimensions: Dimension[] = [
@@ -114,6 +114,8 @@ export function spaceDimensions(space: SearchSpace): Dimension[] {
   for (const { dimension, range } of spaceRegularisers(space)) {
     dimensions.push({ kind: 'numeric', name: dimension.name, min: range.min, max: range.max, log: drawsOnLogScale(range, dimension.defaultLog), integer: false });
   }
+  if (space.shape) dimensions.push({ kind: 'categorical', name: 'shape', choices: space.shape });
+  if (space.block) dimensions.push({ kind: 'categorical', name: 'block', choices: space.block });
   return dimensions;
 }
 
@@ -131,6 +133,8 @@ export function configurationAt(space: SearchSpace, point: readonly number[]): T
     dropout: space.dropout ? (values['dropout'] as number) : 0,
     ...(space.schedule ? scheduleValues(values) : {}),
     ...regulariserFields(space, (name) => values[name] as number),
+    ...(space.shape ? { shape: values['shape'] as TrialConfiguration['shape'] } : {}),
+    ...(space.block ? { block: values['block'] as TrialConfiguration['block'] } : {}),
   };
 }
 

@@ -31,18 +31,22 @@ export function sampleConfiguration(space: SearchSpace, rng: Rng): TrialConfigur
     dropout: space.dropout ? drawReal(space.dropout, false, dropoutDraw) : 0,
   };
   // Drawn after every other field, five draws always, so a space without a schedule draws as before.
-  const scheduled = space.schedule ? { ...configuration, ...scheduleAt(space.schedule, [rng(), rng(), rng(), rng(), rng()]) } : configuration;
+  const scheduled: TrialConfiguration = space.schedule ? { ...configuration, ...scheduleAt(space.schedule, [rng(), rng(), rng(), rng(), rng()]) } : configuration;
   // Then the regularisers, one draw each when the space has any (regularisers.ts): a space without them draws as before.
   const ranges = new Map(spaceRegularisers(space).map(({ dimension, range }) => [dimension.name, { range, dimension }]));
-  if (ranges.size === 0) return scheduled;
-  const regulariserDraws = REGULARISERS.map(() => rng());
-  return {
+  const regulariserDraws = ranges.size === 0 ? [] : REGULARISERS.map(() => rng());
+  const drawn: TrialConfiguration = ranges.size === 0 ? scheduled : {
     ...scheduled,
     ...regulariserFields(space, (name) => {
       const { range, dimension } = ranges.get(name)!;
       return drawReal(range, dimension.defaultLog, regulariserDraws[REGULARISERS.indexOf(dimension)]!);
     }),
   };
+  // One draw after everything else, only when the space has a shape, so a space without one draws as before.
+  if (space.shape) drawn.shape = choose(space.shape, rng());
+  // Likewise the block, last of all.
+  if (space.block) drawn.block = choose(space.block, rng());
+  return drawn;
 }
 
 /** A schedule setting as the space gives it: one value, or a range. */

@@ -1,6 +1,6 @@
 /** The search space as the study file states it: ranges and choices for each part of a configuration. */
 import { z } from 'zod';
-import { ACTIVATIONS, OPTIMIZERS, SCHEDULES } from '../core/configuration.js';
+import { ACTIVATIONS, BLOCKS, OPTIMIZERS, SCHEDULES, SHAPES } from '../core/configuration.js';
 
 /** A range whose min exceeds its max names both values. */
 function minNotAboveMax(range: { min: number; max: number }, ctx: z.RefinementCtx): void {
@@ -110,7 +110,29 @@ export const spaceSchema = z.strictObject({
   maxGradientNorm: positiveLogRange
     .optional()
     .describe('Gradient-norm clipping (Pascanu et al. 2013): when the norm of all gradients together exceeds this, they are scaled down to it; drawn on a log scale unless log is false; absent means none.'),
-});
+  shape: z
+    .array(z.enum(SHAPES))
+    .min(1)
+    .optional()
+    .describe('Hidden-layer widths to choose from: constant (every layer width units) or funnel (layer i has ceil(width / 2^i) units, never fewer than min(width, 8)); absent means constant.'),
+  block: z
+    .array(z.enum(BLOCKS))
+    .min(1)
+    .optional()
+    .describe('How hidden layers are stacked: plain (dense, activation, dropout) or residual (depth blocks of layer normalisation, dense, activation, dropout, dense, dropout, added to the block input; Gorishniy et al. 2021); absent means plain.'),
+}).superRefine(residualWithoutRegularisers);
+
+/**
+ * The engine's residual step updates each layer during the backward pass and has no pass after it,
+ * where decoupled weight decay and gradient-norm clipping act: so the two are refused together
+ * rather than silently left out.
+ */
+function residualWithoutRegularisers(space: { block?: readonly string[] | undefined; weightDecay?: unknown; maxGradientNorm?: unknown }, ctx: z.RefinementCtx): void {
+  if (!space.block?.includes('residual')) return;
+  for (const key of ['weightDecay', 'maxGradientNorm'] as const) {
+    if (space[key] !== undefined) ctx.addIssue({ code: 'custom', path: [key], message: `cannot be searched together with block "residual" yet (residual blocks train without it); drop ${key} or the residual block` });
+  }
+}
 
 
 
@@ -134,10 +156,14 @@ export const listedConfigurationSchema = z.strictObject({
   minFactor: z.number().min(0).lt(1).optional(),
   weightDecay: z.number().positive().lt(1).optional().describe('Required when the space has weightDecay, refused otherwise.'),
   maxGradientNorm: z.number().positive().optional().describe('Required when the space has maxGradientNorm, refused otherwise.'),
+  shape: z.enum(SHAPES).optional().describe('Required when the space has a shape, left out otherwise.'),
+  block: z.enum(BLOCKS).optional().describe('Required when the space has a block, left out otherwise.'),
 });
 
-/** The fields a listed configuration must give for this space's schedule, and those it must leave out. */
+/** The fields a listed configuration must give for this space's schedule and shape, and those it must leave out. */
 export function listedScheduleProblem(entry: z.output<typeof listedConfigurationSchema>, space: SearchSpace): string | undefined {
+  const shape = listedShapeProblem(entry, space);
+  if (shape) return shape;
   const schedule = space.schedule;
   const given = (['schedule', 'warmupEpochs', 'gamma', 'stepEpochs', 'minFactor'] as const).filter((key) => entry[key] !== undefined);
   if (!schedule) return given.length > 0 ? `gives ${given.join(', ')} but the space has no schedule; leave them out` : undefined;
@@ -148,4 +174,14 @@ export function listedScheduleProblem(entry: z.output<typeof listedConfiguration
   if (missing.length > 0) return `lacks ${missing.join(', ')}, which this space's schedule draws; give them`;
   const extra = given.filter((key) => !needed.includes(key));
   return extra.length > 0 ? `gives ${extra.join(', ')}, which this space's schedule kinds do not use; leave them out` : undefined;
+}
+
+/** A listed configuration gives `shape` and `block` exactly when the space has them. */
+function listedShapeProblem(entry: z.output<typeof listedConfigurationSchema>, space: SearchSpace): string | undefined {
+  for (const key of ['shape', 'block'] as const) {
+    const drawn = space[key];
+    if (!drawn && entry[key] !== undefined) return `gives ${key} but the space has no ${key}; leave it out`;
+    if (drawn && entry[key] === undefined) return `lacks ${key}, which this space draws (${drawn.join(', ')}); give it`;
+  }
+  return undefined;
 }

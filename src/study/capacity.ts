@@ -1,5 +1,7 @@
 import { availableParallelism, freemem } from 'node:os';
 import { UserError } from '../core/errors.js';
+import type { TrialConfiguration } from '../core/configuration.js';
+import { denseShapes, weightCount } from '../core/size.js';
 import { plannedTrialCount, samplerTraits } from '../samplers/index.js';
 import type { StudyDefinition } from './definition.js';
 
@@ -32,6 +34,17 @@ export function trainingBytes(inputs: number, depth: number, width: number, outp
   const weights = parameterCount(inputs, depth, width, outputs) * 4 * COPIES_PER_PARAMETER;
   const activations = batchSize * (depth * width + outputs) * 4 * ACTIVATION_COPIES;
   return weights + activations;
+}
+
+/**
+ * Bytes one trial of a configuration's network needs while it trains (`trainingBytes` for a plain
+ * stack; residual blocks add each normalisation's values and its row buffers).
+ */
+export function networkTrainingBytes(network: Pick<TrialConfiguration, 'depth' | 'width' | 'shape' | 'block'>, inputs: number, outputs: number, batchSize: number): number {
+  const weights = weightCount(network, inputs, outputs) * 4 * COPIES_PER_PARAMETER;
+  const norms = network.block === 'residual' ? 2 * network.width * (network.depth + 1) : 0;
+  const units = denseShapes(network, inputs, outputs).reduce((sum, layer) => sum + layer.fanOut, 0) + norms;
+  return weights + batchSize * units * 4 * ACTIVATION_COPIES;
 }
 
 /** Memory this process may use: the system's available memory, or the container's limit when lower. */
@@ -67,12 +80,15 @@ export function checkCapacity(input: CapacityInput, file: string): void {
   const { depth, width, batchSize } = definition.space;
   const batch = Math.max(...batchSize);
   const perWorker = Math.min(available / threads, WASM_BYTES);
-  const needs = (w: number): number => trainingBytes(inputCount, depth.max, w, outputCount, batch);
+  // The largest network: residual blocks when the space has them (each block two layers).
+  const block = definition.space.block?.includes('residual') ? ('residual' as const) : undefined;
+  const largest = (w: number) => ({ depth: depth.max, width: w, ...(block ? { block } : {}) });
+  const needs = (w: number): number => networkTrainingBytes(largest(w), inputCount, outputCount, batch);
   if (needs(width.max) > perWorker) {
     let fits = 0;
     for (let step = 2 ** 30; step >= 1; step = Math.floor(step / 2)) if (needs(fits + step) <= perWorker) fits += step;
     const limit = perWorker === WASM_BYTES ? `one thread's wasm memory holds at most ${gib(WASM_BYTES)}` : `this machine has ${gib(available)} available for ${threads} thread${threads === 1 ? '' : 's'}`;
-    const parameters = parameterCount(inputCount, depth.max, width.max, outputCount);
+    const parameters = weightCount(largest(width.max), inputCount, outputCount);
     throw new UserError(
       'E_STUDY_TOO_LARGE',
       `${file}: space.width: max ${width.max} at depth up to ${depth.max} (${inputCount} inputs, batch ${batch}) gives ${count(parameters)} parameters, about ${gib(needs(width.max))} per trial while training; ` +

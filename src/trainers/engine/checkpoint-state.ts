@@ -5,7 +5,6 @@
  */
 import { CHECKPOINT_FORMAT_VERSION, decodeCheckpoint, encodeCheckpoint, type NamedWeights } from '../../checkpoints/format.js';
 import { adamPowerName, checkCheckpoint } from '../../checkpoints/format.js';
-import { layerPrefix } from '../shared/initial-weights.js';
 import type { EngineTrial } from './trial.js';
 
 interface Variable {
@@ -17,13 +16,21 @@ interface Variable {
   slots: [number, number];
 }
 
+/** Per dense layer: its normalisation's gain and bias when it reads one (residual blocks), then kernel and bias (the tfjs network's order). */
 function variables(trial: EngineTrial): Variable[] {
-  const { trialId, configuration } = trial.spec;
-  return trial.layers.flatMap((layer, l) => {
-    const prefix = layerPrefix(trialId, l, configuration.depth);
+  return trial.layers.flatMap((layer) => {
+    const { prefix, norm } = layer.plan;
+    const { at } = layer;
+    const normalisation: Variable[] = norm
+      ? [
+          { name: `${norm.prefix}/gain`, shape: [layer.fanIn], at: at.normGain, stride: layer.inStride, slots: [at.normGainSlot1, at.normGainSlot2] },
+          { name: `${norm.prefix}/bias`, shape: [layer.fanIn], at: at.normBias, stride: layer.inStride, slots: [at.normBiasSlot1, at.normBiasSlot2] },
+        ]
+      : [];
     return [
-      { name: `${prefix}/kernel`, shape: [layer.fanIn, layer.fanOut], at: layer.at.kernel, stride: layer.outStride, slots: [layer.at.kernelSlot1, layer.at.kernelSlot2] },
-      { name: `${prefix}/bias`, shape: [layer.fanOut], at: layer.at.bias, stride: layer.outStride, slots: [layer.at.biasSlot1, layer.at.biasSlot2] },
+      ...normalisation,
+      { name: `${prefix}/kernel`, shape: [layer.fanIn, layer.fanOut], at: at.kernel, stride: layer.outStride, slots: [at.kernelSlot1, at.kernelSlot2] },
+      { name: `${prefix}/bias`, shape: [layer.fanOut], at: at.bias, stride: layer.outStride, slots: [at.biasSlot1, at.biasSlot2] },
     ] satisfies Variable[];
   });
 }

@@ -21,6 +21,12 @@ export const WORD = {
   scratch: 13,
   /** Per-class training-loss weights, 0 when rows weigh the same. */
   classWeights: 14,
+  /** 1 for residual blocks (then `depth` counts blocks), 0 for the plain stack. */
+  blocks: 40,
+  /** Residual blocks: the residual stream, its gradient, and the gradient of a normalisation's output. */
+  residual: 41,
+  residualDelta: 42,
+  normDelta: 43,
 } as const;
 
 /** float32 words of the descriptor. */
@@ -37,8 +43,8 @@ export const CONSTANT = {
   power2: 25,
 } as const;
 
-export const LAYERS_WORD = 32;
-export const LAYER_WORDS = 20;
+export const LAYERS_WORD = 48;
+export const LAYER_WORDS = 32;
 
 /** Fields of one layer record. */
 export const LAYER = {
@@ -59,6 +65,19 @@ export const LAYER = {
   output: 14,
   mask: 15,
   delta: 16,
+  /** The layer normalisation the layer reads (residual blocks), over its fan-in. */
+  normGain: 17,
+  normBias: 18,
+  normGainGradient: 19,
+  normBiasGradient: 20,
+  normGainSlot1: 21,
+  normBiasSlot1: 22,
+  normGainSlot2: 23,
+  normBiasSlot2: 24,
+  normalised: 25,
+  normOutput: 26,
+  inverseStd: 27,
+  normActivated: 28,
 } as const;
 
 export type LayerField = keyof typeof LAYER;
@@ -66,8 +85,8 @@ export type LayerField = keyof typeof LAYER;
 /** The word index of `field` of layer `layer` (the output layer is layer `depth`). */
 export const layerWord = (layer: number, field: LayerField): number => LAYERS_WORD + layer * LAYER_WORDS + LAYER[field];
 
-/** Bytes of the descriptor of a network with `depth` hidden layers. */
-export const descriptorBytes = (depth: number): number => (LAYERS_WORD + (depth + 1) * LAYER_WORDS) * 4;
+/** Bytes of the descriptor of a network of `layers` dense layers (the output layer included). */
+export const descriptorBytes = (layers: number): number => (LAYERS_WORD + layers * LAYER_WORDS) * 4;
 
 /**
  * Descriptor words of the regularisers (assembly/regularisers.ts), taken from the top of the free

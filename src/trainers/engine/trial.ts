@@ -7,7 +7,8 @@
 import type { SharedDataset } from '../../core/job.js';
 import { permutation, stream, type Rng } from '../../random/streams.js';
 import { ACTIVATIONS, OPTIMIZERS, TASKS, type TrialConfiguration } from '../../core/configuration.js';
-import { initialKernel, initRuleFor } from '../shared/initial-weights.js';
+import { initialKernel } from '../shared/initial-weights.js';
+import { layerPlan, type DenseLayerPlan } from '../shared/layer-plan.js';
 import { ADAM, MOMENTUM } from '../shared/optimizer-constants.js';
 import { CONSTANT, descriptorBytes, layerWord, WORD, type LayerField } from './layout.js';
 import { align16, engine, padColumns, reserve } from './module.js';
@@ -30,6 +31,8 @@ interface LayerShape {
   fanOut: number;
   inStride: number;
   outStride: number;
+  /** Names, initial rule, and what follows the layer (src/trainers/shared/layer-plan.ts). */
+  plan: DenseLayerPlan;
   /** Byte addresses of the layer's buffers (0 when the trial does not use one). */
   at: Record<Exclude<LayerField, 'fanIn' | 'fanOut' | 'inStride' | 'outStride'>, number>;
 }
@@ -66,30 +69,33 @@ export class EngineTrial {
     const data = residentData(dataset);
     const capacityRows = Math.max(configuration.batchSize, EVALUATION_CHUNK_ROWS);
     const memory = allocator(data.end);
-    const net = memory.take(descriptorBytes(configuration.depth));
+    const plans = layerPlan(spec.trialId, configuration, dataset.inputCount, dataset.outputCount);
+    const net = memory.take(descriptorBytes(plans.length));
     const buffers = {
       order: memory.take(dataset.train.rows * 4),
       batchX: memory.take(capacityRows * data.stride * 4),
       batchY: memory.take(capacityRows * 4),
     };
-    const { layers, scratchFloats } = layOutLayers(configuration, dataset, capacityRows, memory);
+    const { layers, scratchFloats } = layOutLayers(plans, configuration, capacityRows, memory);
+    const residual = residualBuffers(configuration, capacityRows, memory);
     const scratch = memory.take(scratchFloats * 4);
     const outputsAt = memory.take(dataset.validation.rows * dataset.outputCount * 4);
     const classWeights = dataset.classWeights ? memory.take(dataset.classWeights.length * 4) : 0;
     reserve(memory.end());
     new Uint8Array(engine().memory.buffer, data.end, memory.end() - data.end).fill(0);
-    writeDescriptor(net, spec, layers, { ...buffers, trainX: data.trainX, trainY: data.trainY, scratch, classWeights });
+    writeDescriptor(net, spec, layers, { ...buffers, ...residual, trainX: data.trainX, trainY: data.trainY, scratch, classWeights });
     writeRegularisers(net, configuration);
 
     const trial = new EngineTrial(spec, data, net, layers, capacityRows, outputsAt);
     layers.forEach((layer, l) => {
-      const rule = l < configuration.depth ? initRuleFor(configuration.activation) : 'glorotUniform';
-      trial.writeMatrix(layer.at.kernel, layer.outStride, initialKernel(rule, layer.fanIn, layer.fanOut, stream(spec.seed, 'init', l)), layer.fanOut);
+      trial.writeMatrix(layer.at.kernel, layer.outStride, initialKernel(layer.plan.rule, layer.fanIn, layer.fanOut, stream(spec.seed, 'init', l)), layer.fanOut);
+      if (layer.at.normGain !== 0) trial.floats(layer.at.normGain, layer.fanIn).fill(1);
     });
     return trial;
   }
 
-  private floats(at: number, count: number): Float32Array {
+  /** `count` floats of engine memory from byte address `at`. */
+  floats(at: number, count: number): Float32Array {
     return new Float32Array(engine().memory.buffer, at, count);
   }
 
@@ -134,11 +140,12 @@ export class EngineTrial {
     new Int32Array(engine().memory.buffer, at, order.length).set(order);
   }
 
-  /** Draws this step's inverted-dropout masks, layer after layer, `rows` x width each (as the tfjs path draws them). */
+  /** Draws this step's inverted-dropout masks, layer after layer (those followed by dropout), `rows` x width each (as the tfjs path draws them). */
   drawMasks(rng: Rng, rows: number): void {
     const { dropout } = this.spec.configuration;
     const keep = 1 / (1 - dropout);
-    for (const layer of this.layers.slice(0, -1)) {
+    for (const layer of this.layers) {
+      if (layer.at.mask === 0) continue;
       const mask = this.floats(layer.at.mask, rows * layer.outStride);
       for (let r = 0; r < rows; r++) {
         const row = r * layer.outStride;
@@ -185,30 +192,28 @@ type Allocator = ReturnType<typeof allocator>;
 
 /** Each layer's shape and the engine memory of its weights, gradients, optimizer slots and row buffers. */
 function layOutLayers(
+  plans: readonly DenseLayerPlan[],
   configuration: EngineTrialSpec['configuration'],
-  dataset: EngineTrialSpec['dataset'],
   capacityRows: number,
   memory: Allocator,
 ): { layers: LayerShape[]; scratchFloats: number } {
-  const widths = [dataset.inputCount, ...Array.from({ length: configuration.depth }, () => configuration.width), dataset.outputCount];
   const slots = configuration.optimizer === 'adam' ? 2 : configuration.optimizer === 'momentum' ? 1 : 0;
   const dropout = configuration.dropout > 0;
   let scratchFloats = 0;
   const layers: LayerShape[] = [];
-  for (let l = 0; l + 1 < widths.length; l++) {
-    const fanIn = widths[l]!;
-    const fanOut = widths[l + 1]!;
+  plans.forEach((plan, l) => {
+    const { fanIn, fanOut } = plan;
     const inStride = padColumns(fanIn);
     const outStride = padColumns(fanOut);
     if (l > 0) scratchFloats = Math.max(scratchFloats, fanOut * inStride);
     const kernelBytes = fanIn * outStride * 4;
     const rowsBytes = capacityRows * outStride * 4;
-    const hidden = l < configuration.depth;
     layers.push({
       fanIn,
       fanOut,
       inStride,
       outStride,
+      plan,
       at: {
         kernel: memory.take(kernelBytes),
         bias: memory.take(outStride * 4),
@@ -220,13 +225,48 @@ function layOutLayers(
         biasSlot2: slots >= 2 ? memory.take(outStride * 4) : 0,
         preActivation: memory.take(rowsBytes),
         activated: memory.take(rowsBytes),
-        output: hidden && dropout ? memory.take(rowsBytes) : 0,
-        mask: hidden && dropout ? memory.take(rowsBytes) : 0,
+        output: plan.masked && dropout ? memory.take(rowsBytes) : 0,
+        mask: plan.masked && dropout ? memory.take(rowsBytes) : 0,
         delta: memory.take(rowsBytes),
+        ...normBuffers(plan, slots, capacityRows, memory),
       },
     });
-  }
+  });
   return { layers, scratchFloats };
+}
+
+type NormField = Extract<LayerField, `norm${string}` | 'inverseStd'>;
+
+/** The buffers of the layer normalisation a layer reads (all 0 when it reads none). */
+function normBuffers(plan: DenseLayerPlan, slots: number, capacityRows: number, memory: Allocator): Record<NormField, number> {
+  const stride = padColumns(plan.fanIn);
+  const vector = (): number => memory.take(stride * 4);
+  const rows = (): number => memory.take(capacityRows * stride * 4);
+  if (!plan.norm) {
+    const none = 0;
+    return { normGain: none, normBias: none, normGainGradient: none, normBiasGradient: none, normGainSlot1: none, normBiasSlot1: none, normGainSlot2: none, normBiasSlot2: none, normalised: none, normOutput: none, inverseStd: none, normActivated: none };
+  }
+  return {
+    normGain: vector(),
+    normBias: vector(),
+    normGainGradient: vector(),
+    normBiasGradient: vector(),
+    normGainSlot1: slots >= 1 ? vector() : 0,
+    normBiasSlot1: slots >= 1 ? vector() : 0,
+    normGainSlot2: slots >= 2 ? vector() : 0,
+    normBiasSlot2: slots >= 2 ? vector() : 0,
+    normalised: rows(),
+    normOutput: rows(),
+    inverseStd: memory.take(capacityRows * 4),
+    normActivated: plan.norm.activated ? rows() : 0,
+  };
+}
+
+/** Residual blocks: the stream, its gradient and a normalisation's output gradient, rows x width each (0 for the plain stack). */
+function residualBuffers(configuration: EngineTrialSpec['configuration'], capacityRows: number, memory: Allocator): { residual: number; residualDelta: number; normDelta: number } {
+  if (configuration.block !== 'residual') return { residual: 0, residualDelta: 0, normDelta: 0 };
+  const bytes = capacityRows * padColumns(configuration.width) * 4;
+  return { residual: memory.take(bytes), residualDelta: memory.take(bytes), normDelta: memory.take(bytes) };
 }
 
 /** Where the trial's shared buffers are in engine memory. */
@@ -238,12 +278,15 @@ interface TrialBuffers {
   batchY: number;
   scratch: number;
   classWeights: number;
+  residual: number;
+  residualDelta: number;
+  normDelta: number;
 }
 
 /** Writes the network descriptor the engine reads: the configuration as words, its float32 constants, each layer's shape and buffers. */
 function writeDescriptor(net: number, spec: EngineTrialSpec, layers: readonly LayerShape[], buffers: TrialBuffers): void {
   const { configuration, dataset } = spec;
-  const words = new Int32Array(engine().memory.buffer, net, descriptorBytes(configuration.depth) / 4);
+  const words = new Int32Array(engine().memory.buffer, net, descriptorBytes(layers.length) / 4);
   const floats = new Float32Array(words.buffer, net, words.length);
   words[WORD.depth] = configuration.depth;
   words[WORD.activation] = ACTIVATIONS.indexOf(configuration.activation);
@@ -253,7 +296,8 @@ function writeDescriptor(net: number, spec: EngineTrialSpec, layers: readonly La
   words[WORD.dropout] = configuration.dropout > 0 ? 1 : 0;
   words[WORD.update] = 1;
   words[WORD.l2] = configuration.l2 > 0 ? 1 : 0;
-  for (const field of ['trainX', 'trainY', 'order', 'batchX', 'batchY', 'scratch', 'classWeights'] as const) words[WORD[field]] = buffers[field];
+  for (const field of ['trainX', 'trainY', 'order', 'batchX', 'batchY', 'scratch', 'classWeights', 'residual', 'residualDelta', 'normDelta'] as const) words[WORD[field]] = buffers[field];
+  words[WORD.blocks] = configuration.block === 'residual' ? 1 : 0;
   if (dataset.classWeights) new Float32Array(engine().memory.buffer, buffers.classWeights, dataset.classWeights.length).set(dataset.classWeights);
   // float32 constants computed as tfjs computes its scalars (in double, then rounded)
   floats[CONSTANT.negativeLearningRate] = -configuration.learningRate;

@@ -1,7 +1,8 @@
 import * as tf from '@tensorflow/tfjs';
-import type { Activation, Task, TrialConfiguration } from '../../core/configuration.js';
+import type { Activation, Block, Shape, Task, TrialConfiguration } from '../../core/configuration.js';
 import { stream, type Rng } from '../../random/streams.js';
-import { initialKernel, initRuleFor, layerPrefix, type InitRule } from '../shared/initial-weights.js';
+import { initialKernel, type InitRule } from '../shared/initial-weights.js';
+import { layerPlan, NORM_EPSILON, type DenseLayerPlan } from '../shared/layer-plan.js';
 
 export { initialKernel, initRuleFor, type InitRule } from '../shared/initial-weights.js';
 
@@ -13,15 +14,25 @@ export interface NetworkSpec {
   outputCount: number;
   depth: number;
   width: number;
+  /** Hidden widths (src/core/size.ts; absent: constant). */
+  shape?: Shape;
+  /** Plain or residual blocks (absent: plain). */
+  block?: Block;
   activation: Activation;
 }
 
 interface DenseLayer {
   kernel: tf.Variable;
   bias: tf.Variable;
+  plan: DenseLayerPlan;
+  /** The layer normalisation it reads (residual blocks). */
+  norm?: { gain: tf.Variable; bias: tf.Variable };
 }
 
-/** An MLP held as named variables; `variables` lists them in a fixed order (kernel, bias per layer). */
+/**
+ * An MLP held as named variables; `variables` lists them in a fixed order (per dense layer: its
+ * normalisation's gain and bias when it reads one, then kernel and bias).
+ */
 export interface Network {
   spec: NetworkSpec;
   hidden: DenseLayer[];
@@ -32,25 +43,35 @@ export interface Network {
 /** Slope of leakyRelu below zero (the tfjs layers default, fixed by the study definition). */
 export const LEAKY_RELU_SLOPE = 0.2;
 
-function denseLayer(prefix: string, fanIn: number, fanOut: number, rule: InitRule, rng: Rng): DenseLayer {
+function denseLayer(plan: DenseLayerPlan, rule: InitRule, rng: Rng): DenseLayer {
+  const { prefix, fanIn, fanOut } = plan;
   const kernel = tf.tidy(() =>
     tf.variable(tf.tensor2d(initialKernel(rule, fanIn, fanOut, rng), [fanIn, fanOut]), true, `${prefix}/kernel`),
   );
   const bias = tf.tidy(() => tf.variable(tf.zeros([fanOut]), true, `${prefix}/bias`));
-  return { kernel, bias };
+  if (!plan.norm) return { kernel, bias, plan };
+  // Gains start at one and biases at zero (Ba et al. 2016): the normalised input as it is.
+  const norm = { gain: tf.variable(tf.ones([fanIn]), true, `${plan.norm.prefix}/gain`), bias: tf.variable(tf.zeros([fanIn]), true, `${plan.norm.prefix}/bias`) };
+  return { kernel, bias, plan, norm };
 }
 
-/** Builds the network with seeded initial weights: layer i draws from `stream(seed, 'init', i)`. */
+/** Builds the network with seeded initial weights: dense layer i draws from `stream(seed, 'init', i)`. */
 export function createNetwork(spec: NetworkSpec): Network {
-  const hidden: DenseLayer[] = [];
-  let fanIn = spec.inputCount;
-  for (let i = 0; i < spec.depth; i++) {
-    hidden.push(denseLayer(layerPrefix(spec.trialId, i, spec.depth), fanIn, spec.width, initRuleFor(spec.activation), stream(spec.seed, 'init', i)));
-    fanIn = spec.width;
-  }
-  const output = denseLayer(layerPrefix(spec.trialId, spec.depth, spec.depth), fanIn, spec.outputCount, 'glorotUniform', stream(spec.seed, 'init', spec.depth));
-  const variables = [...hidden, output].flatMap((layer) => [layer.kernel, layer.bias]);
-  return { spec, hidden, output, variables };
+  const plans = layerPlan(spec.trialId, spec, spec.inputCount, spec.outputCount);
+  const layers = plans.map((plan, i) => denseLayer(plan, plan.rule, stream(spec.seed, 'init', i)));
+  const variables = layers.flatMap((layer) => [...(layer.norm ? [layer.norm.gain, layer.norm.bias] : []), layer.kernel, layer.bias]);
+  return { spec, hidden: layers.slice(0, -1), output: layers.at(-1)!, variables };
+}
+
+/**
+ * Layer normalisation over each row's features: (x - mean) / sqrt(variance + epsilon) x gain + bias,
+ * the variance without Bessel's correction. Source: Ba, Kiros, Hinton, "Layer Normalization", 2016, eq. 4.
+ */
+export function layerNorm(x: tf.Tensor2D, gain: tf.Tensor, bias: tf.Tensor): tf.Tensor2D {
+  return tf.tidy(() => {
+    const { mean, variance } = tf.moments(x, -1, true);
+    return tf.add(tf.mul(tf.mul(tf.sub(x, mean), tf.rsqrt(tf.add(variance, NORM_EPSILON))), gain), bias) as tf.Tensor2D;
+  });
 }
 
 export function disposeNetwork(network: Network): void {
@@ -109,9 +130,25 @@ function dense(x: tf.Tensor2D, layer: DenseLayer): tf.Tensor2D {
   return affine(x, layer.kernel as tf.Tensor2D, layer.bias as tf.Tensor1D);
 }
 
+/** The residual network's logits: masks after each block's activation and after its second layer, in that order. */
+function forwardResidual(network: Network, x: tf.Tensor2D, dropout?: DropoutPlan): tf.Tensor2D {
+  const masked = (h: tf.Tensor2D): tf.Tensor2D => (dropout && dropout.rate > 0 ? tf.mul(h, dropoutMask(h.shape[0], h.shape[1], dropout)) : h);
+  const [first, ...blocks] = network.hidden;
+  let residual = dense(x, first!);
+  for (let b = 0; b + 1 < blocks.length; b += 2) {
+    const inner = blocks[b]!;
+    const normalised = layerNorm(residual, inner.norm!.gain, inner.norm!.bias);
+    const activated = masked(activate(network.spec.activation, dense(normalised, inner)) as tf.Tensor2D);
+    residual = tf.add(residual, masked(dense(activated, blocks[b + 1]!)));
+  }
+  const head = network.output.norm!;
+  return dense(activate(network.spec.activation, layerNorm(residual, head.gain, head.bias)) as tf.Tensor2D, network.output);
+}
+
 /** Logits (pre-output-function values), rows x outputCount. Pass `dropout` during training only. */
 export function forward(network: Network, x: tf.Tensor2D, dropout?: DropoutPlan): tf.Tensor2D {
   return tf.tidy(() => {
+    if (network.spec.block === 'residual') return forwardResidual(network, x, dropout);
     let h: tf.Tensor2D = x;
     for (const layer of network.hidden) {
       h = activate(network.spec.activation, dense(h, layer)) as tf.Tensor2D;
@@ -158,5 +195,6 @@ export function l2Penalty(network: Network, l2: number): tf.Scalar {
 
 /** The network shape a request describes. */
 export function networkSpec(trialId: number, seed: number, configuration: TrialConfiguration, inputCount: number, outputCount: number): NetworkSpec {
-  return { trialId, seed, inputCount, outputCount, depth: configuration.depth, width: configuration.width, activation: configuration.activation };
+  const { depth, width, activation, shape, block } = configuration;
+  return { trialId, seed, inputCount, outputCount, depth, width, activation, ...(shape ? { shape } : {}), ...(block ? { block } : {}) };
 }
