@@ -63,7 +63,20 @@ export function parameterAxes(study: StudyDocument): ParameterAxis[] {
     { key: 'activation', title: 'activation', shortTitle: 'activation', kind: 'nominal', categories: [...space.activation] },
     { key: 'optimizer', title: 'optimizer', shortTitle: 'optimizer', kind: 'nominal', categories: [...space.optimizer] },
     ...scheduleAxes(study),
+    ...preprocessingAxes(study),
   ];
+}
+
+/** The preprocessing choices, when the space searches them. */
+function preprocessingAxes(study: StudyDocument): ParameterAxis[] {
+  const { numericInputs, poolCategoriesBelow } = study.definition.space;
+  const axes: ParameterAxis[] = [];
+  if (numericInputs) axes.push({ key: 'numericInputs', title: 'numeric inputs', shortTitle: 'numeric inputs', kind: 'nominal', categories: [...numericInputs] });
+  if (poolCategoriesBelow) {
+    const categories = [...poolCategoriesBelow].sort((a, b) => a - b);
+    axes.push({ key: 'poolCategoriesBelow', title: 'categories pooled below (training rows)', shortTitle: 'pool below', kind: 'ordinal', categories });
+  }
+  return axes;
 }
 
 /** The learning-rate schedule's settings, when the space has a schedule (src/core/schedule.ts). */

@@ -109,6 +109,8 @@ export function spaceDimensions(space: SearchSpace): Dimension[] {
     dimensions.push(numeric('warmupEpochs', schedule.warmupEpochs, true));
     if (schedule.kind.includes('cosine')) dimensions.push(numeric('minFactor', schedule.minFactor, false));
   }
+  if (space.numericInputs) dimensions.push({ kind: 'categorical', name: 'numericInputs', choices: space.numericInputs });
+  if (space.poolCategoriesBelow) dimensions.push({ kind: 'categorical', name: 'poolCategoriesBelow', choices: space.poolCategoriesBelow });
   return dimensions;
 }
 
@@ -125,6 +127,8 @@ export function configurationAt(space: SearchSpace, point: readonly number[]): T
     l2: space.l2 ? (values['l2'] as number) : 0,
     dropout: space.dropout ? (values['dropout'] as number) : 0,
     ...(space.schedule ? scheduleValues(values) : {}),
+    ...(space.numericInputs ? { numericInputs: values['numericInputs'] as TrialConfiguration['numericInputs'] } : {}),
+    ...(space.poolCategoriesBelow ? { poolCategoriesBelow: values['poolCategoriesBelow'] as number } : {}),
   };
 }
 

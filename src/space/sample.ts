@@ -8,6 +8,8 @@ import { stream, type Rng } from '../random/streams.js';
  * Every field consumes exactly one draw, always in the same order (depth, width, activation,
  * learningRate, batchSize, optimizer, l2, dropout), even when the field is fixed or absent. So
  * adding `l2` to a space, or giving a list a single entry, leaves every other field's draw unchanged.
+ * A schedule takes five more draws, the preprocessing choices (`numericInputs`, `poolCategoriesBelow`)
+ * two more after those, only when the space has them.
  */
 export function sampleConfiguration(space: SearchSpace, rng: Rng): TrialConfiguration {
   const depth = drawInteger(space.depth, rng());
@@ -28,10 +30,18 @@ export function sampleConfiguration(space: SearchSpace, rng: Rng): TrialConfigur
     l2: space.l2 ? drawReal(space.l2, true, l2Draw) : 0,
     dropout: space.dropout ? drawReal(space.dropout, false, dropoutDraw) : 0,
   };
-  if (!space.schedule) return configuration;
-  // Drawn after every other field, five draws always, so a space without a schedule draws as before.
-  const draws = [rng(), rng(), rng(), rng(), rng()] as const;
-  return { ...configuration, ...scheduleAt(space.schedule, draws) };
+  if (space.schedule) {
+    // Drawn after every other field, five draws always, so a space without a schedule draws as before.
+    const draws = [rng(), rng(), rng(), rng(), rng()] as const;
+    Object.assign(configuration, scheduleAt(space.schedule, draws));
+  }
+  if (space.numericInputs === undefined && space.poolCategoriesBelow === undefined) return configuration;
+  // Two draws after everything else, always together, so a space without preprocessing choices draws as before.
+  const numericDraw = rng();
+  const poolDraw = rng();
+  if (space.numericInputs) configuration.numericInputs = choose(space.numericInputs, numericDraw);
+  if (space.poolCategoriesBelow) configuration.poolCategoriesBelow = choose(space.poolCategoriesBelow, poolDraw);
+  return configuration;
 }
 
 /** A schedule setting as the space gives it: one value, or a range. */

@@ -1,6 +1,6 @@
 /** The search space as the study file states it: ranges and choices for each part of a configuration. */
 import { z } from 'zod';
-import { ACTIVATIONS, OPTIMIZERS, SCHEDULES } from '../core/configuration.js';
+import { ACTIVATIONS, NUMERIC_INPUTS, OPTIMIZERS, SCHEDULES } from '../core/configuration.js';
 
 /** A range whose min exceeds its max names both values. */
 function minNotAboveMax(range: { min: number; max: number }, ctx: z.RefinementCtx): void {
@@ -95,6 +95,22 @@ export const spaceSchema = z.strictObject({
   l2: positiveLogRange.optional().describe('L2 weight penalty; drawn on a log scale unless log is false; absent means none.'),
   dropout: fractionRange.optional().describe('Dropout rate after each hidden layer; drawn uniformly unless log is true (then min must be above 0); absent means none.'),
   schedule: scheduleSchema.optional(),
+  numericInputs: z
+    .array(z.enum(NUMERIC_INPUTS))
+    .min(1)
+    .max(NUMERIC_INPUTS.length)
+    .refine((list) => new Set(list).size === list.length, 'each choice at most once')
+    .optional()
+    .describe(
+      'How numeric columns become inputs, to choose from: standardise (training mean and standard deviation), robust-clip (median and interquartile range, then a smooth clip into (-3, 3)), normal-quantiles (training quantiles mapped onto the standard normal). Absent means standardise.',
+    ),
+  poolCategoriesBelow: z
+    .array(z.int().min(0).max(100_000))
+    .min(1)
+    .max(4)
+    .refine((list) => new Set(list).size === list.length, 'each value at most once')
+    .optional()
+    .describe('Categories seen in fewer training rows than this share one input, to choose from (0: every category its own input). Absent means 0.'),
 });
 
 
@@ -117,7 +133,21 @@ export const listedConfigurationSchema = z.strictObject({
   gamma: z.number().gt(0).max(1).optional(),
   stepEpochs: z.int().min(1).optional(),
   minFactor: z.number().min(0).lt(1).optional(),
+  numericInputs: z.enum(NUMERIC_INPUTS).optional().describe('Required when the space has numericInputs, one of its choices.'),
+  poolCategoriesBelow: z.int().min(0).optional().describe('Required when the space has poolCategoriesBelow, one of its values.'),
 });
+
+/** A listed configuration's preprocessing fields against the space's: each given exactly when the space has it, and one of its choices. */
+export function listedPreprocessingProblem(entry: z.output<typeof listedConfigurationSchema>, space: SearchSpace): string | undefined {
+  for (const key of ['numericInputs', 'poolCategoriesBelow'] as const) {
+    const choices: readonly (string | number)[] | undefined = space[key];
+    const value = entry[key];
+    if (choices === undefined && value !== undefined) return `gives ${key} but the space has no ${key}; leave it out`;
+    if (choices !== undefined && value === undefined) return `lacks ${key}, which the space draws; give one of ${choices.join(', ')}`;
+    if (choices !== undefined && !choices.includes(value!)) return `gives ${key} ${String(value)}, which is not among the space's ${choices.join(', ')}`;
+  }
+  return undefined;
+}
 
 /** The fields a listed configuration must give for this space's schedule, and those it must leave out. */
 export function listedScheduleProblem(entry: z.output<typeof listedConfigurationSchema>, space: SearchSpace): string | undefined {

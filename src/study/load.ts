@@ -9,7 +9,7 @@ import { utf16Kind } from '../text/encoding.js';
 import { formatIssue } from './issues.js';
 import { earlyStoppingProblem } from '../core/early-stopping.js';
 import { renamedKeysNote, renameSamplerKeys } from './renamed-keys.js';
-import { listedScheduleProblem } from '../space/schema.js';
+import { listedPreprocessingProblem, listedScheduleProblem } from '../space/schema.js';
 
 export interface LoadedStudy {
   definition: StudyDefinition;
@@ -138,7 +138,7 @@ function crossFieldProblems(definition: StudyDefinition): [string, string][] {
     problems.push(['earlyStopping', `cannot be combined with data.folds yet (each fold would stop at its own epoch); use one or the other`]);
   }
   definition.tryFirst?.forEach((entry, index) => {
-    const problem = listedScheduleProblem(entry, definition.space);
+    const problem = listedScheduleProblem(entry, definition.space) ?? listedPreprocessingProblem(entry, definition.space);
     if (problem) problems.push([`tryFirst[${index}]`, problem]);
   });
   if (data.features?.includes(data.target)) {

@@ -5,7 +5,7 @@
  * {@link describeIssue} turns the first problem into a short phrase naming the field.
  */
 import { z } from 'zod';
-import { ACTIVATIONS, METRICS, OPTIMIZERS, SCHEDULES, TASKS, type TrialConfiguration } from '../../core/configuration.js';
+import { ACTIVATIONS, METRICS, NUMERIC_INPUTS, OPTIMIZERS, SCHEDULES, TASKS, type TrialConfiguration } from '../../core/configuration.js';
 import { earlyStoppingSchema } from '../../core/fields.js';
 
 const count = z.int().min(0);
@@ -39,6 +39,8 @@ export const configurationSchema = z.strictObject({
   gamma: z.number().gt(0).max(1).optional(),
   stepEpochs: positiveCount.optional(),
   minFactor: z.number().min(0).lt(1).optional(),
+  numericInputs: z.enum(NUMERIC_INPUTS).optional(),
+  poolCategoriesBelow: count.optional(),
 });
 
 /** Compiles only while the schema and `TrialConfiguration` have the same fields (a strict schema would refuse a new one). */

@@ -1,0 +1,206 @@
+import { readFileSync } from 'node:fs';
+import { mkdtemp, writeFile } from 'node:fs/promises';
+import { tmpdir } from 'node:os';
+import path from 'node:path';
+import { fileURLToPath } from 'node:url';
+import * as ort from 'onnxruntime-node';
+import { beforeAll, describe, expect, it } from 'vitest';
+import { exportModel } from '../src/commands/export.js';
+import { DEFAULT_PREPROCESSING, type TrialConfiguration } from '../src/core/configuration.js';
+import type { SharedDataset, TrainJob } from '../src/core/job.js';
+import { isMissing, readCsv, type CsvTable } from '../src/data/csv.js';
+import { datasetId } from '../src/data/dataset-id.js';
+import { prepareData } from '../src/data/prepare.js';
+import type { PreprocessingRecipe } from '../src/data/types.js';
+import type { ExportConfiguration } from '../src/export/configuration.js';
+import { loadModel, predict, type ClassPrediction } from '../src/export/hand-off.js';
+import { auc } from '../src/metrics/metrics.js';
+import { runStudy } from '../src/runner/run-study.js';
+import { configurationForTrial } from '../src/space/sample.js';
+import { configurationAt, pointOfConfiguration, spaceDimensions } from '../src/space/dimensions.js';
+import { spaceSchema } from '../src/space/schema.js';
+import { loadStudy } from '../src/study/load.js';
+import { ThreadTransport } from '../src/transports/threads/transport.js';
+import type { TrialTransport } from '../src/transports/transport.js';
+
+const ROOT = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '..');
+const DEMO_CSV = path.join(ROOT, 'studies/demo/pump-logs.csv');
+const demo = JSON.parse(readFileSync(path.join(ROOT, 'studies/demo/study.json'), 'utf8')) as { data: Record<string, unknown>; space: Record<string, unknown> };
+const CHOICES = { numericInputs: ['standardise', 'robust-clip', 'normal-quantiles'], poolCategoriesBelow: [0, 500] };
+
+describe('drawing preprocessing choices', () => {
+  const plain = spaceSchema.parse(demo.space);
+  const searched = spaceSchema.parse({ ...demo.space, ...CHOICES });
+
+  it('leaves a space without them drawing exactly as before, and draws them after every other field', () => {
+    for (let trial = 0; trial < 30; trial++) {
+      const before = configurationForTrial(plain, 7, trial);
+      const after = configurationForTrial(searched, 7, trial);
+      expect(before).not.toHaveProperty('numericInputs');
+      expect(before).not.toHaveProperty('poolCategoriesBelow');
+      const { numericInputs, poolCategoriesBelow, ...rest } = after;
+      expect(rest).toEqual(before);
+      expect(CHOICES.numericInputs).toContain(numericInputs);
+      expect(CHOICES.poolCategoriesBelow).toContain(poolCategoriesBelow);
+    }
+  });
+
+  it('are categorical dimensions of the unit cube, so model-based samplers search them too', () => {
+    const names = spaceDimensions(searched).map((d) => d.name);
+    expect(names.slice(-2)).toEqual(['numericInputs', 'poolCategoriesBelow']);
+    const configuration = configurationForTrial(searched, 3, 4);
+    expect(configurationAt(searched, pointOfConfiguration(searched, configuration))).toMatchObject({ numericInputs: configuration.numericInputs, poolCategoriesBelow: configuration.poolCategoriesBelow });
+  });
+});
+
+describe('one prepared data set per choice', () => {
+  it('keeps the default data set (and its id) as it was, and gives every other choice its own', async () => {
+    const settings = { csv: DEMO_CSV, target: 'fails_within_week', task: 'binary' as const, validationFraction: 0.2, testFraction: 0.15, splitSeed: 1, maxDistinctShare: 0.5 };
+    const definitionFile = path.join(ROOT, 'studies/demo/study.json');
+    const plain = (await prepareData(settings, definitionFile)).data;
+    const withChoices = (await prepareData(settings, definitionFile, { choices: true })).data;
+    expect(plain.prepareChoice).toBeUndefined();
+    expect(datasetId(withChoices)).toBe(datasetId(plain));
+    const again = await withChoices.prepareChoice!(DEFAULT_PREPROCESSING);
+    expect(datasetId(again)).toBe(datasetId(plain));
+    const robust = await withChoices.prepareChoice!({ numericInputs: 'robust-clip', poolCategoriesBelow: 500 });
+    expect(datasetId(robust)).not.toBe(datasetId(plain));
+    expect(robust.rowIndices).toEqual(plain.rowIndices);
+    expect(Array.from(robust.train.y)).toEqual(Array.from(plain.train.y));
+    // The categories with fewer than 500 training rows, counted here from the CSV and the training rows, are pooled: one input for them all.
+    const table = await readCsv(DEMO_CSV);
+    const rare = (column: string): string[] => {
+      const counts = new Map<string, number>();
+      for (const row of plain.rowIndices!.train) counts.set(table.rows[row]![column]!, (counts.get(table.rows[row]![column]!) ?? 0) + 1);
+      return [...counts].filter(([, count]) => count < 500).map(([category]) => category).sort();
+    };
+    const pooled = robust.recipe.features.flatMap((f) => (f.kind === 'categorical' ? [f.pooled ?? []] : []));
+    expect(pooled).toEqual([rare('site_type'), rare('impeller_material')]);
+    expect(pooled.flat().length).toBeGreaterThan(1);
+    expect(robust.recipe.inputCount).toBe(plain.recipe.inputCount - pooled.flat().length + pooled.filter((list) => list.length > 0).length);
+    // Every robust input stays inside the smooth clip's (-3, 3).
+    for (const value of robust.train.x) expect(Math.abs(value)).toBeLessThan(3);
+  });
+});
+
+/** Records which data set each job named and which data sets were added, around real threads. */
+function recording(inner: TrialTransport, jobs: TrainJob[], added: string[]): TrialTransport {
+  return {
+    get capacity() {
+      return inner.capacity;
+    },
+    addDataset: async (dataset: SharedDataset) => {
+      added.push(dataset.id);
+      await inner.addDataset(dataset);
+    },
+    run: (job, onEpoch, signal) => {
+      jobs.push(job);
+      return inner.run(job, onEpoch, signal);
+    },
+    close: () => inner.close(),
+  };
+}
+
+/** The inputs `model.onnx` documents, built from the CSV without rungwise's encoder: numbers as written, categories one-hot, pooled and unseen ones on `column=(pooled)`. */
+function onnxInputs(recipe: PreprocessingRecipe, table: CsvTable): Float32Array {
+  const x = new Float32Array(table.rows.length * recipe.inputCount);
+  table.rows.forEach((row, r) => {
+    let offset = r * recipe.inputCount;
+    for (const feature of recipe.features) {
+      const value = row[feature.name] ?? '';
+      if (feature.kind === 'numeric') x[offset++] = isMissing(value) ? Number.NaN : Number(value);
+      else {
+        const category = isMissing(value) ? feature.fill : value;
+        for (const known of feature.categories) x[offset++] = known === category ? 1 : 0;
+        if (feature.pooled) x[offset++] = feature.categories.includes(category) ? 0 : 1;
+      }
+    }
+  });
+  return x;
+}
+
+async function runOnnx(file: string, x: Float32Array, rows: number, columns: number): Promise<Float32Array> {
+  const session = await ort.InferenceSession.create(file);
+  try {
+    const result = await session.run({ features: new ort.Tensor('float32', x, [rows, columns]) });
+    return result.output!.data as Float32Array;
+  } finally {
+    await session.release();
+  }
+}
+
+describe('a study that searches preprocessing, end to end', () => {
+  const listed: Partial<TrialConfiguration>[] = [
+    { numericInputs: 'robust-clip', poolCategoriesBelow: 500 },
+    { numericInputs: 'normal-quantiles', poolCategoriesBelow: 0 },
+    { numericInputs: 'standardise', poolCategoriesBelow: 0 },
+  ];
+  const jobs: TrainJob[] = [];
+  const added: string[] = [];
+  let out: string;
+  let trials: { id: number; configuration: TrialConfiguration; rank: number; auc: number }[];
+
+  beforeAll(async () => {
+    const dir = await mkdtemp(path.join(tmpdir(), 'rungwise-choices-'));
+    const base = { depth: 1, width: 8, activation: 'tanh', learningRate: 0.01, batchSize: 64, optimizer: 'adam', l2: 0.0001, dropout: 0 };
+    const definition = {
+      name: 'choices',
+      data: { ...demo.data, csv: DEMO_CSV },
+      space: { ...demo.space, width: { min: 4, max: 16, log: true }, ...CHOICES },
+      tryFirst: listed.map((choice) => ({ ...base, ...choice })),
+      budget: { trials: 6, maxEpochs: 3 },
+      sampler: { kind: 'random', seed: 7 },
+      goal: { metric: 'auc', better: 'higher' },
+      workers: 2,
+    };
+    const file = path.join(dir, 'study.json');
+    await writeFile(file, JSON.stringify(definition));
+    out = path.join(dir, 'run');
+    const outcome = await runStudy(await loadStudy(file), { out, transport: ({ workers }) => recording(new ThreadTransport({ threads: workers }), jobs, added) });
+    trials = outcome.ranking.map((ranked, i) => ({ id: ranked.trial.id, configuration: ranked.trial.configuration, rank: i + 1, auc: ranked.trial.curve.at(-1)!.metrics.auc! }));
+  }, 240_000);
+
+  it('trains each choice on its own data set, added to the transport once, before its first job', () => {
+    expect(trials).toHaveLength(6);
+    const byChoice = new Map<string, Set<string>>();
+    for (const job of jobs) {
+      const key = `${job.configuration.numericInputs}/${job.configuration.poolCategoriesBelow}`;
+      byChoice.set(key, (byChoice.get(key) ?? new Set()).add(job.datasetId));
+      expect(added).toContain(job.datasetId);
+    }
+    for (const ids of byChoice.values()) expect(ids.size).toBe(1);
+    const ids = [...byChoice.values()].map((set) => [...set][0]);
+    expect(new Set(ids).size).toBe(byChoice.size);
+    expect(new Set(added).size).toBe(added.length);
+    expect(byChoice.size).toBeGreaterThanOrEqual(3);
+  });
+
+  for (const [index, kind] of [[0, 'robust-clip'], [1, 'normal-quantiles']] as const) {
+    it(`exports a ${kind} trial whose recipe, predict and model.onnx agree with what it trained on`, async () => {
+      const trial = trials.find((t) => t.id === index)!;
+      expect(trial.configuration.numericInputs).toBe(kind);
+      const exported = await exportModel({ dir: out, rank: trial.rank, format: 'onnx', out: path.join(out, `export-${kind}`) });
+      const configuration = JSON.parse(readFileSync(path.join(exported.out, 'configuration.json'), 'utf8')) as ExportConfiguration;
+      const numeric = configuration.recipe.features.find((f) => f.kind === 'numeric');
+      expect(numeric?.kind === 'numeric' && numeric.transform?.kind).toBe(kind);
+      expect(configuration.recipe.features.some((f) => f.kind === 'categorical' && f.pooled !== undefined)).toBe(index === 0);
+      expect(configuration.onnx!.numeric).toContain(kind);
+
+      const table = await readCsv(DEMO_CSV);
+      const model = await loadModel(exported.out);
+      const probabilities = predict(model, table.rows).map((answer) => (answer as ClassPrediction).probabilities['yes']!);
+      const classes = model.configuration.recipe.classes!;
+      model.dispose();
+      const onnx = await runOnnx(path.join(exported.out, 'model.onnx'), onnxInputs(configuration.recipe, table), table.rows.length, configuration.recipe.inputCount);
+      let largest = 0;
+      onnx.forEach((value, r) => (largest = Math.max(largest, Math.abs(value - probabilities[r]!))));
+      expect(largest).toBeLessThan(1e-5);
+
+      // predict on the validation rows gives the AUC the study recorded for the trial: the exported recipe is the one it trained on.
+      const splits = JSON.parse(readFileSync(path.join(out, 'splits.json'), 'utf8')) as { validation: number[] };
+      const labels = splits.validation.map((row) => classes.indexOf(table.rows[row - 1]!['fails_within_week']!));
+      const scores = splits.validation.map((row) => probabilities[row - 1]!);
+      expect(auc(labels, scores)).toBeCloseTo(trial.auc, 4);
+    }, 120_000);
+  }
+});
