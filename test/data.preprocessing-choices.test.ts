@@ -1,4 +1,4 @@
-import { readFileSync } from 'node:fs';
+import { existsSync, readFileSync } from 'node:fs';
 import { mkdtemp, writeFile } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
 import path from 'node:path';
@@ -22,6 +22,8 @@ import { spaceSchema } from '../src/space/schema.js';
 import { loadStudy } from '../src/study/load.js';
 import { ThreadTransport } from '../src/transports/threads/transport.js';
 import type { TrialTransport } from '../src/transports/transport.js';
+import { runCli } from './helpers/cli.js';
+import { tinyStudy, writeTinyStudy } from './helpers/studies.js';
 
 const ROOT = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '..');
 const DEMO_CSV = path.join(ROOT, 'studies/demo/pump-logs.csv');
@@ -203,4 +205,50 @@ describe('a study that searches preprocessing, end to end', () => {
       expect(auc(labels, scores)).toBeCloseTo(trial.auc, 4);
     }, 120_000);
   }
+});
+
+describe('preprocessing choices from the command line', () => {
+  let dir: string;
+  let file: string;
+
+  beforeAll(async () => {
+    const base = tinyStudy();
+    file = await writeTinyStudy(tinyStudy({ space: { ...base.space, numericInputs: ['robust-clip', 'normal-quantiles'], poolCategoriesBelow: [0, 40] } }));
+    dir = path.join(path.dirname(file), 'run');
+  });
+
+  it('runs a study file that searches them, exports its winner as ONNX and predicts a CSV with it', async () => {
+    const ran = await runCli(['run', file, '--out', dir]);
+    expect(ran.code).toBe(0);
+    const exported = await runCli(['export', dir, '--format', 'onnx']);
+    expect(exported.code).toBe(0);
+    const folder = path.join(dir, 'export', 'rank-1');
+    const configuration = JSON.parse(readFileSync(path.join(folder, 'configuration.json'), 'utf8')) as ExportConfiguration;
+    const numeric = configuration.recipe.features.find((f) => f.kind === 'numeric');
+    expect(['robust-clip', 'normal-quantiles']).toContain(numeric?.kind === 'numeric' ? numeric.transform?.kind : undefined);
+    const output = path.join(dir, 'predictions.csv');
+    const predicted = await runCli(['predict', folder, path.join(path.dirname(file), 'tiny.csv'), '--output', output]);
+    expect(predicted.code).toBe(0);
+    expect(readFileSync(output, 'utf8').trim().split('\n')).toHaveLength(121);
+  }, 120_000);
+
+  it('refuses a choice it does not know with one line naming the field, exit code 2', async () => {
+    const base = tinyStudy();
+    const bad = await writeTinyStudy(tinyStudy({ space: { ...base.space, numericInputs: ['min-max'] } as unknown as typeof base.space }));
+    const result = await runCli(['run', bad, '--out', path.join(path.dirname(bad), 'run')]);
+    expect(result.code).toBe(2);
+    expect(result.stderr).toContain('space.numericInputs[0]');
+    expect(result.stderr.trim().split('\n')).toHaveLength(1);
+    expect(existsSync(path.join(path.dirname(bad), 'run', 'study.json'))).toBe(false);
+  });
+
+  it('refuses a listed configuration without the choices the space draws', async () => {
+    const base = tinyStudy();
+    const listed = { depth: 1, width: 8, activation: 'tanh', learningRate: 0.01, batchSize: 16 };
+    const bad = await writeTinyStudy(tinyStudy({ space: { ...base.space, poolCategoriesBelow: [0, 40] }, tryFirst: [listed] } as unknown as typeof base));
+    const result = await runCli(['run', bad, '--out', path.join(path.dirname(bad), 'run')]);
+    expect(result.code).toBe(2);
+    expect(result.stderr).toContain('tryFirst[0]');
+    expect(result.stderr).toContain('poolCategoriesBelow');
+  });
 });
