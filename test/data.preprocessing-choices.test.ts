@@ -23,7 +23,8 @@ import { loadStudy } from '../src/study/load.js';
 import { ThreadTransport } from '../src/transports/threads/transport.js';
 import type { TrialTransport } from '../src/transports/transport.js';
 import { runCli } from './helpers/cli.js';
-import { tinyStudy, writeTinyStudy } from './helpers/studies.js';
+import { runUntilTrialsFinished, tinyStudy, writeTinyStudy } from './helpers/studies.js';
+import { resumeStudy } from '../src/runner/resume-study.js';
 
 const ROOT = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '..');
 const DEMO_CSV = path.join(ROOT, 'studies/demo/pump-logs.csv');
@@ -251,4 +252,46 @@ describe('preprocessing choices from the command line', () => {
     expect(result.stderr).toContain('tryFirst[0]');
     expect(result.stderr).toContain('poolCategoriesBelow');
   });
+});
+
+describe('a study searching preprocessing is deterministic, with folds too', () => {
+  const base = tinyStudy();
+  const searching = (folds?: number) =>
+    tinyStudy({
+      space: { ...base.space, numericInputs: ['standardise', 'robust-clip', 'normal-quantiles'], poolCategoriesBelow: [0, 40] },
+      budget: { trials: 6, maxEpochs: 2 },
+      ...(folds ? { data: { ...base.data, folds } } : {}),
+    });
+  const trialsOf = (trials: readonly { id: number; configuration: TrialConfiguration; score?: number | null; status: string }[]) =>
+    trials.map((t) => ({ id: t.id, choice: `${t.configuration.numericInputs}/${t.configuration.poolCategoriesBelow}`, score: t.score, status: t.status })).sort((a, b) => a.id - b.id);
+
+  it('gives the same trials with 1 and 2 threads, and after an interruption and a resume', async () => {
+    const straight = async (workers: number) => {
+      const file = await writeTinyStudy(searching());
+      return trialsOf((await runStudy(file, { out: path.join(path.dirname(file), 'run'), workers })).doc.trials);
+    };
+    const one = await straight(1);
+    expect(new Set(one.map((t) => t.choice)).size).toBeGreaterThan(1);
+    expect(await straight(2)).toEqual(one);
+    const { out, interrupted } = await runUntilTrialsFinished(searching(), 3, { workers: 2 });
+    expect(interrupted.doc.state).not.toBe('finished');
+    const resumed = await resumeStudy(out, { workers: 2 });
+    expect(resumed.doc.state).toBe('finished');
+    expect(trialsOf(resumed.doc.trials)).toEqual(one);
+  }, 240_000);
+
+  it('trains every choice on its own k folds', async () => {
+    const file = await writeTinyStudy(searching(3));
+    const jobs: TrainJob[] = [];
+    const added: string[] = [];
+    const outcome = await runStudy(file, { out: path.join(path.dirname(file), 'run'), transport: ({ workers }) => recording(new ThreadTransport({ threads: workers }), jobs, added) });
+    expect(outcome.doc.trials.every((t) => t.status === 'trained' && t.scoreStandardError !== undefined)).toBe(true);
+    // The study's own data set (the default choice) is always added; then each other choice its trials name.
+    const choices = new Set(['standardise/0', ...outcome.doc.trials.map((t) => `${t.configuration.numericInputs}/${t.configuration.poolCategoriesBelow}`)]);
+    expect(choices.size).toBeGreaterThan(2);
+    // Three fold data sets per choice, each added once, and every fold job names one of them.
+    expect(added).toHaveLength(3 * choices.size);
+    expect(new Set(added).size).toBe(added.length);
+    for (const job of jobs) expect(added).toContain(job.datasetId);
+  }, 240_000);
 });
