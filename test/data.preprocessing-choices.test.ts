@@ -221,6 +221,9 @@ describe('preprocessing choices from the command line', () => {
   it('runs a study file that searches them, exports its winner as ONNX and predicts a CSV with it', async () => {
     const ran = await runCli(['run', file, '--out', dir]);
     expect(ran.code).toBe(0);
+    // The ranking shows each trial's choice.
+    expect(ran.stdout).toContain('preprocessing');
+    expect(ran.stdout).toMatch(/(robust-clip|normal-quantiles)(, pooled below 40)?/);
     const exported = await runCli(['export', dir, '--format', 'onnx']);
     expect(exported.code).toBe(0);
     const folder = path.join(dir, 'export', 'rank-1');

@@ -9,19 +9,26 @@ export function scoreText(score: number | null, standardError?: number): string 
   return standardError === undefined || score === null ? formatNumber(score) : `${formatNumber(score)} ± ${formatNumber(standardError)}`;
 }
 
+/** A configuration's preprocessing choice in a few words, e.g. `robust-clip, pooled below 20`. */
+function preprocessingInWords(configuration: RankedTrial['trial']['configuration']): string {
+  const pool = configuration.poolCategoriesBelow ?? 0;
+  return `${configuration.numericInputs ?? 'standardise'}${pool > 0 ? `, pooled below ${pool}` : ''}`;
+}
+
 /** The ranking as a text table: rank, trial, rung, epochs, score (± standard error with folds) and the configuration. */
 export function rankingTable(ranking: readonly RankedTrial[], goal: Goal): string {
   const folds = ranking.some(({ trial }) => trial.scoreStandardError !== undefined);
   // Columns for schedules and early stopping only when a trial has them, so other rankings read as before.
   const schedules = ranking.some(({ trial }) => trial.configuration.schedule !== undefined);
   const stopping = ranking.some(({ trial }) => trial.bestEpoch !== undefined);
+  const preprocessing = ranking.some(({ trial }) => trial.configuration.numericInputs !== undefined || trial.configuration.poolCategoriesBelow !== undefined);
   const flagged = ranking.some(({ trial }) => (trial.flags?.length ?? 0) > 0);
   // Classification: accuracy and macro-F1 side by side (besides the goal's metric), to see what class weights trade.
   const scoredPoint = (trial: RankedTrial['trial']) => (trial.bestEpoch !== undefined ? trial.curve.find((p) => p.epoch === trial.bestEpoch) : trial.curve.at(-1));
   const sideBySide = (['accuracy', 'macroF1'] as const).filter((name) => name !== goal.metric && ranking.some(({ trial }) => scoredPoint(trial)?.metrics[name] !== undefined));
   // The cost goal is per row; a column per 1,000 rows reads as an amount a user can weigh.
   const perThousand = goal.metric === 'cost';
-  const header = ['rank', 'trial', 'rung', 'epochs', ...(stopping ? ['best epoch'] : []), folds ? `${goal.metric} (fold mean ± SE)` : goal.metric, ...(perThousand ? ['cost per 1,000 rows'] : []), ...sideBySide, 'depth', 'width', 'activation', 'learning rate', ...(schedules ? ['schedule'] : []), 'batch', 'optimizer', 'l2', 'dropout', ...(flagged ? ['flags'] : [])];
+  const header = ['rank', 'trial', 'rung', 'epochs', ...(stopping ? ['best epoch'] : []), folds ? `${goal.metric} (fold mean ± SE)` : goal.metric, ...(perThousand ? ['cost per 1,000 rows'] : []), ...sideBySide, 'depth', 'width', 'activation', 'learning rate', ...(schedules ? ['schedule'] : []), 'batch', 'optimizer', 'l2', 'dropout', ...(preprocessing ? ['preprocessing'] : []), ...(flagged ? ['flags'] : [])];
   const rows = ranking.map(({ rank, trial }) => [
     String(rank),
     String(trial.id),
@@ -40,6 +47,7 @@ export function rankingTable(ranking: readonly RankedTrial[], goal: Goal): strin
     trial.configuration.optimizer,
     formatNumber(trial.configuration.l2),
     formatNumber(trial.configuration.dropout),
+    ...(preprocessing ? [preprocessingInWords(trial.configuration)] : []),
     ...(flagged ? [flagsText(trial.flags) || '-'] : []),
   ]);
   return textTable(header, rows);
