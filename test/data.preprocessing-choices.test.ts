@@ -214,7 +214,8 @@ describe('preprocessing choices from the command line', () => {
 
   beforeAll(async () => {
     const base = tinyStudy();
-    file = await writeTinyStudy(tinyStudy({ space: { ...base.space, numericInputs: ['robust-clip', 'normal-quantiles'], poolCategoriesBelow: [0, 40] } }));
+    // 8 trials: enough for the report's hyperparameter importance.
+    file = await writeTinyStudy(tinyStudy({ space: { ...base.space, numericInputs: ['robust-clip', 'normal-quantiles'], poolCategoriesBelow: [0, 40] }, budget: { trials: 8, maxEpochs: 3 } }));
     dir = path.join(path.dirname(file), 'run');
   });
 
@@ -234,7 +235,11 @@ describe('preprocessing choices from the command line', () => {
     const predicted = await runCli(['predict', folder, path.join(path.dirname(file), 'tiny.csv'), '--output', output]);
     expect(predicted.code).toBe(0);
     expect(readFileSync(output, 'utf8').trim().split('\n')).toHaveLength(121);
-  }, 120_000);
+    // The report weighs the choices as hyperparameters.
+    const plotted = await runCli(['plot', dir]);
+    expect(plotted.code).toBe(0);
+    expect(readFileSync(path.join(dir, 'plots', 'report.html'), 'utf8')).toContain('numeric inputs');
+  }, 180_000);
 
   it('refuses a choice it does not know with one line naming the field, exit code 2', async () => {
     const base = tinyStudy();
