@@ -17,6 +17,8 @@ export type { StudyDocument, StudyTotals } from './store/types.js';
 export type { TrialRecord, TrialStatus, CurvePoint } from './core/trial.js';
 export type { PreparedData, PreparedFold, PreprocessingRecipe, FeatureRecipe, DataSummary } from './data/types.js';
 export { prepareData } from './data/prepare.js';
+export type { NumericTransform } from './data/numeric-inputs.js';
+export { NUMERIC_INPUTS, type NumericInputs, type PreprocessingChoice } from './core/configuration.js';
 export type { DataEvent, DataObserver, DataLoadOptions } from './data/events.js';
 export { checkCapacity, parameterCount, trainingBytes, type CapacityInput } from './study/capacity.js';
 export type { Sampler, Job, JobOutcome } from './samplers/sampler.js';

@@ -26,7 +26,7 @@ import type { StudyDocument } from '../store/types.js';
 import type { TrialRecord } from '../core/trial.js';
 import { DEFAULT_COST_UNIT, resolveThresholdRule, type DecisionThresholdRule } from '../study/definition.js';
 import { constantPredictionCost, costMetric } from '../metrics/costs.js';
-import type { MetricName, Goal } from '../core/configuration.js';
+import { isDefaultPreprocessing, preprocessingOf, type MetricName, type Goal, type PreprocessingChoice } from '../core/configuration.js';
 import { initBackend } from '../trainers/tfjs/backend.js';
 import type { Metrics } from '../metrics/metrics.js';
 
@@ -110,6 +110,12 @@ async function exportData(doc: StudyDocument, studyFile: string, allowChangedDat
   return data;
 }
 
+/** The study's data encoded under a trial's preprocessing choice (its recipe fitted on the same training rows). */
+async function choiceData(data: PreparedData, choice: PreprocessingChoice): Promise<PreparedData> {
+  if (!data.prepareChoice) throw new Error(`export: the study's data were prepared without its preprocessing choices`);
+  return data.prepareChoice(choice);
+}
+
 /**
  * `rungwise export`: writes the trial at `rank` as a tfjs Layers model (`model.json`, `weights.bin`)
  * with `configuration.json`, into a folder that appears complete or not at all.
@@ -135,7 +141,11 @@ export async function exportModel(options: ExportCommandOptions): Promise<Export
   // Every check that can refuse runs before the export folder is touched.
   const kept = retrain ? undefined : await keptCheckpointWeights(runDir, doc, chosen);
   const rule = resolveThresholdRule(doc.definition);
-  const data = retrain || rule || doc.definition.data.costs ? await exportData(doc, studyFile, options.allowChangedData ?? false, retrain) : undefined;
+  // A trial trained under another preprocessing choice than the study's own recipe: its recipe is fitted again from the data.
+  const choice = preprocessingOf(trial.configuration);
+  const ownRecipe = !isDefaultPreprocessing(choice);
+  const loaded = retrain || rule || doc.definition.data.costs || ownRecipe ? await exportData(doc, studyFile, options.allowChangedData ?? false, retrain) : undefined;
+  const data = loaded && ownRecipe ? await choiceData(loaded, choice) : loaded;
   const out = path.resolve(options.out ?? runPaths.exportDir(runDir, rank));
   const format = options.format ?? 'tfjs';
   // The rows of each split travel with the model, so the winner can be re-scored elsewhere (absent for studies from before the record).
@@ -143,7 +153,7 @@ export async function exportModel(options: ExportCommandOptions): Promise<Export
 
   // With --retrain, the study's own network too (when kept), to be scored on the same test rows.
   const studyWeights = retrain && folds === undefined ? await keptCheckpointWeights(runDir, doc, chosen).catch(() => undefined) : undefined;
-  const plan: ExportPlan = { doc, trial, rank, data, rule, retrain, format, splitRecord, ...(kept ? { kept } : {}), ...(studyWeights ? { studyWeights } : {}) };
+  const plan: ExportPlan = { doc: data && ownRecipe ? { ...doc, recipe: data.recipe } : doc, trial, rank, data, rule, retrain, format, splitRecord, ...(kept ? { kept } : {}), ...(studyWeights ? { studyWeights } : {}) };
   const figures = await writeFolderAtomically(out, (existing) => existsSync(path.join(existing, CONFIGURATION_FILE)), (partial) => writeExport(plan, partial));
   return exportSummaryOf(plan, { dir: runDir, out, figures, studyNetworkLost: retrain && folds === undefined && !studyWeights });
 }

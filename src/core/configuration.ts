@@ -15,6 +15,12 @@ export const SCHEDULES = ['constant', 'step', 'cosine'] as const;
 export const SHAPES = ['constant', 'funnel'] as const;
 /** How hidden layers are stacked: `plain` (dense, activation, dropout) or `residual` blocks with layer normalisation (src/core/size.ts). */
 export const BLOCKS = ['plain', 'residual'] as const;
+/**
+ * How numeric columns become inputs (src/data/numeric-inputs.ts): `standardise` (training mean and
+ * standard deviation, the default), `robust-clip` (median and interquartile range, then a smooth clip
+ * to (-3, 3)), `normal-quantiles` (the training quantiles mapped onto a standard normal's).
+ */
+export const NUMERIC_INPUTS = ['standardise', 'robust-clip', 'normal-quantiles'] as const;
 /** `cost`: the mean cost per validation row of a classifier's decisions, under the study's `data.costs` (src/metrics/costs.ts). */
 export const METRICS = ['accuracy', 'macroF1', 'logLoss', 'auc', 'rmse', 'mae', 'r2', 'validationLoss', 'cost'] as const;
 
@@ -25,6 +31,7 @@ export type MetricName = (typeof METRICS)[number];
 export type ScheduleKind = (typeof SCHEDULES)[number];
 export type Shape = (typeof SHAPES)[number];
 export type Block = (typeof BLOCKS)[number];
+export type NumericInputs = (typeof NUMERIC_INPUTS)[number];
 
 
 /** One point of the search space: what a trial trains (a trial's configuration). */
@@ -57,6 +64,35 @@ export interface TrialConfiguration {
   shape?: Shape;
   /** Present only when the space has a `block`; absent: plain. */
   block?: Block;
+  /** Present only when the space has `numericInputs`; absent: `standardise`. */
+  numericInputs?: NumericInputs;
+  /** Present only when the space has `poolCategoriesBelow`; absent: 0 (every training category its own input). */
+  poolCategoriesBelow?: number;
+}
+
+/** The preprocessing a configuration trains on: one prepared data set per distinct choice. */
+export interface PreprocessingChoice {
+  numericInputs: NumericInputs;
+  /** Categories seen in fewer training rows than this share one input; 0: none are pooled. */
+  poolCategoriesBelow: number;
+}
+
+/** The default: what every study trained on before the choice was searchable. */
+export const DEFAULT_PREPROCESSING: PreprocessingChoice = { numericInputs: 'standardise', poolCategoriesBelow: 0 };
+
+/** A configuration's preprocessing, with the defaults for absent fields. */
+export function preprocessingOf(configuration: Pick<TrialConfiguration, 'numericInputs' | 'poolCategoriesBelow'>): PreprocessingChoice {
+  return { numericInputs: configuration.numericInputs ?? 'standardise', poolCategoriesBelow: configuration.poolCategoriesBelow ?? 0 };
+}
+
+/** True when a search space searches preprocessing (`numericInputs` or `poolCategoriesBelow`): its trials may train on more than one data set. */
+export function searchesPreprocessing(space: { numericInputs?: readonly unknown[] | undefined; poolCategoriesBelow?: readonly unknown[] | undefined }): boolean {
+  return space.numericInputs !== undefined || space.poolCategoriesBelow !== undefined;
+}
+
+/** True for the default choice (the study's own recipe). */
+export function isDefaultPreprocessing(choice: PreprocessingChoice): boolean {
+  return choice.numericInputs === DEFAULT_PREPROCESSING.numericInputs && choice.poolCategoriesBelow === DEFAULT_PREPROCESSING.poolCategoriesBelow;
 }
 
 

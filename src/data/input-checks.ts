@@ -8,6 +8,9 @@ import { UserError } from '../core/errors.js';
 import type { FeatureRecipe, PreprocessingRecipe } from './types.js';
 import type { FeatureValues } from './values.js';
 
+/** The label of a categorical column's pooled input in input names (`column=(pooled)`), and what an unseen category is encoded as where a column pools. */
+export const POOLED_INPUT = '(pooled)';
+
 export type InputIssueKind = 'unseen-category' | 'blank-category' | 'missing-number';
 
 /** One kind of filled-in or unplaced cell in one column, with how many rows had it and the first. */
@@ -22,7 +25,7 @@ export interface InputIssue {
   firstRow: number;
   /** CSV line of the first such row, when the rows came from a CSV. */
   firstLine?: number;
-  /** What the cells were encoded as: the training category or mean filled in; absent for an unseen category (no category). */
+  /** What the cells were encoded as: the training category or mean filled in, or the pooled input for an unseen category where the column pools; absent for an unseen category otherwise (no category). */
   filledWith?: string | number;
 }
 
@@ -57,7 +60,7 @@ export function countInputIssues(recipe: PreprocessingRecipe, features: readonly
         if (Number.isNaN(value)) note('missing-number', row);
       });
     } else if (feature.kind === 'categorical') {
-      const known = new Set(feature.categories);
+      const known = new Set([...feature.categories, ...(feature.pooled ?? [])]);
       const seen = column.labels.map((label) => known.has(label));
       column.codes.forEach((code, row) => {
         if (code < 0) note('blank-category', row);
@@ -75,6 +78,7 @@ export function countInputIssues(recipe: PreprocessingRecipe, features: readonly
 function filledWith(feature: FeatureRecipe, kind: InputIssueKind): string | number | undefined {
   if (kind === 'missing-number' && feature.kind === 'numeric') return feature.mean;
   if (kind === 'blank-category' && feature.kind === 'categorical') return feature.fill;
+  if (kind === 'unseen-category' && feature.kind === 'categorical' && feature.pooled) return POOLED_INPUT;
   return undefined;
 }
 
@@ -90,7 +94,7 @@ export function inputIssueWarning(issue: InputIssue, source: string): string {
   const one = issue.count === 1;
   switch (issue.kind) {
     case 'unseen-category':
-      return `${where}: ${rows(issue.count)} ${one ? 'holds' : 'hold'} a category the training split never held (first ${first}); encoded as no category`;
+      return `${where}: ${rows(issue.count)} ${one ? 'holds' : 'hold'} a category the training split never held (first ${first}); ${issue.filledWith === POOLED_INPUT ? 'encoded as the pooled rare categories' : 'encoded as no category'}`;
     case 'blank-category':
       return `${where}: ${rows(issue.count)} ${one ? 'has' : 'have'} no category (first ${first}); filled with the training's most frequent category ${shown(issue.filledWith)}`;
     case 'missing-number':

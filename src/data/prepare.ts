@@ -3,6 +3,7 @@ import path from 'node:path';
 import { setImmediate as nextTurn } from 'node:timers/promises';
 import { UserError } from '../core/errors.js';
 import type { SharedDataset } from '../core/job.js';
+import { DEFAULT_PREPROCESSING, type PreprocessingChoice } from '../core/configuration.js';
 import type { DataSettings } from '../study/definition.js';
 import { didYouMean } from '../text/nearest.js';
 import { checkClassWeightLabels, trainingClassWeights } from './class-weights.js';
@@ -195,14 +196,15 @@ async function readFeatures(
  * silently dropped. How odd cells were read comes back as `notes` (also sent as 'note' events), feature
  * columns that look like dates or identifiers or pass the distinct-value limit by being listed
  * (`feature-checks.ts`) as `warnings` ('warning' events), and
- * `csvSha256` is the SHA-256 of the CSV's bytes as they were read.
+ * `csvSha256` is the SHA-256 of the CSV's bytes as they were read. With `choices` (a space that
+ * searches preprocessing), `data.prepareChoice` encodes the same rows under another choice.
  * @throws UserError (E_DATA) with one line naming the study field or the CSV line (or a text column
  * with more distinct values than `data.maxDistinctShare` allows); the signal's reason when aborted.
  */
 export async function prepareData(
   settings: DataSettings,
   definitionFile: string,
-  options: DataLoadOptions & { foldSeed?: number } = {},
+  options: DataLoadOptions & { foldSeed?: number; choices?: boolean } = {},
 ): Promise<{ data: PreparedData; summary: DataSummary; notes: string[]; warnings: string[]; csvSha256: string }> {
   const started = performance.now();
   const emit = (event: DataEvent): void => options.onDataEvent?.(event);
@@ -223,12 +225,43 @@ export async function prepareData(
     file: csvFile,
   });
   const warnings = checkFeatureColumns({ settings, features, rows: table.rows, file: csvFile, definitionFile, ...(options.started ? { started: true } : {}) });
-  const recipe = buildColumnRecipe({ task: settings.task, target: settings.target, features, targetValues: target, trainingRows: indices.train });
-  // Training and validation are encoded straight into shared memory: the workers read them there.
+  const context: EncodingContext = { settings, definitionFile, csvFile, features, target, indices, lines: table.lines, ...(options.foldSeed !== undefined ? { foldSeed: options.foldSeed } : {}) };
+  const data = await encodePrepared(context, DEFAULT_PREPROCESSING, { emit, ...(options.signal ? { signal: options.signal } : {}) });
+  // Another choice of preprocessing is encoded from the same typed columns and splits, on demand.
+  if (options.choices) data.prepareChoice = (choice) => encodePrepared(context, choice, {});
+
+  const summary = dataSummary(csvFile, table, data, missing, counts);
+  for (const message of notes) emit({ type: 'note', file: csvFile, message });
+  for (const message of warnings) emit({ type: 'warning', file: csvFile, message });
+  emit({ type: 'ready', file: csvFile, rows: table.rows, columns: table.columns.length, seconds: (performance.now() - started) / 1000 });
+  return { data, summary, notes, warnings, csvSha256: dialect.sha256 ?? '' };
+}
+
+
+/** What a recipe and the encoded splits are made from: the typed columns and the rows of each split. */
+interface EncodingContext {
+  settings: DataSettings;
+  definitionFile: string;
+  csvFile: string;
+  features: FeatureValues[];
+  target: TargetValues;
+  indices: { train: number[]; validation: number[]; test: number[] };
+  lines: ArrayLike<number>;
+  foldSeed?: number;
+}
+
+/**
+ * The recipe of a preprocessing choice fitted on the training rows, every split encoded with it (the
+ * training and validation splits in shared memory), the class weights, costs and, with `data.folds`,
+ * the folds under the same choice.
+ */
+async function encodePrepared(context: EncodingContext, choice: PreprocessingChoice, progress: { emit?: (event: DataEvent) => void; signal?: AbortSignal }): Promise<PreparedData> {
+  const { settings, definitionFile, csvFile, features, target, indices } = context;
+  const recipe = buildColumnRecipe({ task: settings.task, target: settings.target, features, targetValues: target, trainingRows: indices.train, preprocessing: choice });
   const splitArrays = async (rows: readonly number[], done: number, shared: boolean): Promise<SplitArrays> => {
-    emit({ type: 'preparing', file: csvFile, step: 'encoding', done, total: 3 });
-    await checkpoint(options.signal);
-    return { rows: rows.length, x: encodeColumns(recipe, features, rows, shared), y: encodeTargetValues(recipe, target, rows, shared), lines: Int32Array.from(rows, (row) => table.lines[row]!) };
+    progress.emit?.({ type: 'preparing', file: csvFile, step: 'encoding', done, total: 3 });
+    await checkpoint(progress.signal);
+    return { rows: rows.length, x: encodeColumns(recipe, features, rows, shared), y: encodeTargetValues(recipe, target, rows, shared), lines: Int32Array.from(rows, (row) => context.lines[row]!) };
   };
   const data: PreparedData = {
     recipe,
@@ -241,18 +274,13 @@ export async function prepareData(
   if (weights) data.classWeights = weights;
   if (recipe.classes && settings.costs) data.costMatrix = costMatrixFor(settings.costs, recipe.classes, settings.target, definitionFile);
   if (settings.folds !== undefined) {
-    if (options.foldSeed === undefined) throw new Error('prepareData: data.folds needs options.foldSeed (the study seed)');
-    data.folds = prepareFolds({ settings, features, target, rows: [...indices.train, ...indices.validation], k: settings.folds, seed: options.foldSeed, file: csvFile, definitionFile });
-    data.foldSeed = options.foldSeed;
+    if (context.foldSeed === undefined) throw new Error('prepareData: data.folds needs options.foldSeed (the study seed)');
+    const rows = [...indices.train, ...indices.validation];
+    data.folds = prepareFolds({ settings, features, target, rows, k: settings.folds, seed: context.foldSeed, file: csvFile, definitionFile, choice });
+    data.foldSeed = context.foldSeed;
   }
-
-  const summary = dataSummary(csvFile, table, data, missing, counts);
-  for (const message of notes) emit({ type: 'note', file: csvFile, message });
-  for (const message of warnings) emit({ type: 'warning', file: csvFile, message });
-  emit({ type: 'ready', file: csvFile, rows: table.rows, columns: table.columns.length, seconds: (performance.now() - started) / 1000 });
-  return { data, summary, notes, warnings, csvSha256: dialect.sha256 ?? '' };
+  return data;
 }
-
 
 /** Reads the CSV into typed columns, with a note when its delimiter is not a comma. */
 async function readTable(
@@ -329,14 +357,15 @@ function prepareFolds(context: {
   seed: number;
   file: string;
   definitionFile: string;
+  choice: PreprocessingChoice;
 }): PreparedFold[] {
-  const { settings, features, target, k, seed, file, definitionFile } = context;
+  const { settings, features, target, k, seed, file, definitionFile, choice } = context;
   const strata = target.kind === 'labels' ? Array.from(target.codes, (code) => target.labels[code]!) : undefined;
   const rows = [...context.rows].sort((a, b) => a - b);
   const folds = assignFolds({ rows, ...(strata ? { strata } : {}), k, seed, file, definitionFile });
   return folds.map((validationRows, i): PreparedFold => {
     const trainingRows = otherFolds(folds, i);
-    const recipe = buildColumnRecipe({ task: settings.task, target: settings.target, features, targetValues: target, trainingRows });
+    const recipe = buildColumnRecipe({ task: settings.task, target: settings.target, features, targetValues: target, trainingRows, preprocessing: choice });
     const part = (members: readonly number[]): SplitArrays => ({ rows: members.length, x: encodeColumns(recipe, features, members, true), y: encodeTargetValues(recipe, target, members, true) });
     const fold: PreparedFold = { recipe, train: part(trainingRows), validation: part(validationRows), rows: validationRows };
     const weights = recipe.classes && settings.classWeights ? trainingClassWeights(settings.classWeights, recipe.classes, fold.train.y) : undefined;

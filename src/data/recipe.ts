@@ -1,7 +1,10 @@
 import { UserError } from '../core/errors.js';
-import type { Task } from '../core/configuration.js';
+import { DEFAULT_PREPROCESSING, type PreprocessingChoice, type Task } from '../core/configuration.js';
+import { applyNumericTransform, fitNumericTransform } from './numeric-inputs.js';
 import { isMissing, parseNumber } from './csv.js';
-import { countInputIssues, type InputIssue } from './input-checks.js';
+import { countInputIssues, POOLED_INPUT, type InputIssue } from './input-checks.js';
+
+export { POOLED_INPUT };
 import { decimalCommaNumber, isNotFinite } from './typing.js';
 import type { FeatureRecipe, PreprocessingRecipe } from './types.js';
 import type { FeatureValues } from './values.js';
@@ -51,6 +54,31 @@ export interface ColumnRecipeOptions {
   targetValues: TargetValues;
   /** Row indices of the TRAINING split, ascending: every statistic of the recipe comes from them. */
   trainingRows: ArrayLike<number>;
+  /** How numeric columns become inputs and which categories are pooled. @default standardise, none pooled */
+  preprocessing?: PreprocessingChoice;
+}
+
+/** Inputs a categorical recipe column takes: one per category, and one for the pooled ones. */
+export function categoricalWidth(feature: Extract<FeatureRecipe, { kind: 'categorical' }>): number {
+  return feature.categories.length + (feature.pooled ? 1 : 0);
+}
+
+/** A numeric column's recipe: mean and std always (the fill), and the transform of a choice other than standardise. */
+function numericRecipe(name: string, present: Float64Array, choice: PreprocessingChoice): FeatureRecipe {
+  const recipe: FeatureRecipe = { kind: 'numeric', name, ...meanAndStd(present) };
+  if (choice.numericInputs !== 'standardise') recipe.transform = fitNumericTransform(choice.numericInputs, present);
+  return recipe;
+}
+
+/** A categorical column's recipe from its training counts: categories seen in fewer than `poolBelow` rows are pooled. */
+function categoricalRecipe(name: string, counts: Map<string, number>, poolBelow: number): FeatureRecipe {
+  const all = [...counts.keys()].sort();
+  // Most frequent; ties go to the first in sorted order so the fill is stable.
+  let fill = all[0] ?? '';
+  for (const category of all) if (counts.get(category)! > counts.get(fill)!) fill = category;
+  const pooled = all.filter((category) => counts.get(category)! < poolBelow);
+  if (pooled.length === 0) return { kind: 'categorical', name, categories: all, fill };
+  return { kind: 'categorical', name, categories: all.filter((category) => counts.get(category)! >= poolBelow), fill, pooled };
 }
 
 function presentNumbers(values: Float64Array, rows: ArrayLike<number>): Float64Array {
@@ -65,20 +93,17 @@ function presentNumbers(values: Float64Array, rows: ArrayLike<number>): Float64A
 /** Builds the preprocessing recipe from the training rows of typed columns, so validation and test rows never leak into it. */
 export function buildColumnRecipe(options: ColumnRecipeOptions): PreprocessingRecipe {
   const { task, target, trainingRows, targetValues } = options;
+  const choice = options.preprocessing ?? DEFAULT_PREPROCESSING;
   const features: FeatureRecipe[] = options.features.map((column): FeatureRecipe => {
-    if (column.kind === 'numeric') return { kind: 'numeric', name: column.name, ...meanAndStd(presentNumbers(column.values, trainingRows)) };
+    if (column.kind === 'numeric') return numericRecipe(column.name, presentNumbers(column.values, trainingRows), choice);
     const counts = new Map<string, number>();
     for (let i = 0; i < trainingRows.length; i++) {
       const code = column.codes[trainingRows[i]!]!;
       if (code >= 0) counts.set(column.labels[code]!, (counts.get(column.labels[code]!) ?? 0) + 1);
     }
-    const categories = [...counts.keys()].sort();
-    // Most frequent; ties go to the first in sorted order so the fill is stable.
-    let fill = categories[0] ?? '';
-    for (const category of categories) if (counts.get(category)! > counts.get(fill)!) fill = category;
-    return { kind: 'categorical', name: column.name, categories, fill };
+    return categoricalRecipe(column.name, counts, choice.poolCategoriesBelow);
   });
-  const inputCount = features.reduce((total, f) => total + (f.kind === 'numeric' ? 1 : f.categories.length), 0);
+  const inputCount = features.reduce((total, f) => total + (f.kind === 'numeric' ? 1 : categoricalWidth(f)), 0);
   const recipe: PreprocessingRecipe = { task, target, features, inputCount };
   if (targetValues.kind === 'numbers') {
     recipe.targetScaling = meanAndStd(Float64Array.from({ length: trainingRows.length }, (_, i) => targetValues.values[trainingRows[i]!]!));
@@ -97,8 +122,9 @@ function float32s(count: number, shared: boolean): Float32Array {
 
 /**
  * Model inputs for the given rows of typed columns (row-major, `rows.length x recipe.inputCount`):
- * numeric values standardised with the training mean and std (missing → training mean → 0),
- * categories one-hot (missing → the training mode, unseen → all zeros). `features` follow the recipe's order.
+ * numeric values standardised with the training mean and std, or through the recipe's transform
+ * (missing → training mean first), categories one-hot (missing → the training mode; pooled and unseen
+ * ones → the pooled input when the column has one, else all zeros). `features` follow the recipe's order.
  * With `shared`, the matrix lives in a SharedArrayBuffer, so worker threads read it without a copy.
  */
 export function encodeColumns(recipe: PreprocessingRecipe, features: readonly FeatureValues[], rows: ArrayLike<number>, shared = false): Float32Array {
@@ -107,25 +133,40 @@ export function encodeColumns(recipe: PreprocessingRecipe, features: readonly Fe
   recipe.features.forEach((feature, f) => {
     const column = features[f]!;
     if (feature.kind === 'numeric' && column.kind === 'numeric') {
-      for (let r = 0; r < rows.length; r++) {
-        const value = column.values[rows[r]!]!;
-        if (!Number.isNaN(value)) x[r * recipe.inputCount + offset] = (value - feature.mean) / feature.std;
-      }
+      encodeNumeric(feature, column.values, rows, (r, value) => (x[r * recipe.inputCount + offset] = value));
       offset += 1;
     } else if (feature.kind === 'categorical' && column.kind === 'categorical') {
-      const fill = feature.categories.indexOf(feature.fill);
-      const index = column.labels.map((label) => feature.categories.indexOf(label));
+      const place = categoryPlaces(feature);
+      const fill = place(feature.fill);
+      const index = column.labels.map(place);
       for (let r = 0; r < rows.length; r++) {
         const code = column.codes[rows[r]!]!;
         const hot = code < 0 ? fill : index[code]!;
         if (hot >= 0) x[r * recipe.inputCount + offset + hot] = 1;
       }
-      offset += feature.categories.length;
+      offset += categoricalWidth(feature);
     } else {
       throw new Error(`column '${feature.name}' is ${column.kind} but the recipe says ${feature.kind}`);
     }
   });
   return x;
+}
+
+/** Writes each row's input of a numeric column; a missing value stays 0 when standardising (the mean's own input). */
+function encodeNumeric(feature: Extract<FeatureRecipe, { kind: 'numeric' }>, values: Float64Array, rows: ArrayLike<number>, write: (r: number, value: number) => void): void {
+  const transform = feature.transform;
+  for (let r = 0; r < rows.length; r++) {
+    const value = values[rows[r]!]!;
+    if (transform) write(r, applyNumericTransform(transform, Number.isNaN(value) ? feature.mean : value));
+    else if (!Number.isNaN(value)) write(r, (value - feature.mean) / feature.std);
+  }
+}
+
+/** A category's input within its column: its own, the pooled one (pooled or unseen, when the column pools), or -1 (none). */
+function categoryPlaces(feature: Extract<FeatureRecipe, { kind: 'categorical' }>): (label: string) => number {
+  const own = new Map(feature.categories.map((category, i) => [category, i]));
+  const pooled = feature.pooled ? feature.categories.length : -1;
+  return (label) => own.get(label) ?? pooled;
 }
 
 /** Model targets for the given rows: the class index (classification) or the standardised value (regression); `shared` as for {@link encodeColumns}. */
@@ -188,6 +229,8 @@ export interface RecipeOptions {
   features: readonly FeatureColumn[];
   /** The TRAINING rows only: every statistic of the recipe comes from them. Target values must be present. */
   trainingRows: readonly Record<string, string>[];
+  /** How numeric columns become inputs and which categories are pooled. @default standardise, none pooled */
+  preprocessing?: PreprocessingChoice;
 }
 
 /** Builds the preprocessing recipe from training rows given as records (see {@link buildColumnRecipe}). */
@@ -197,7 +240,7 @@ export function buildRecipe(options: RecipeOptions): PreprocessingRecipe {
   const targets = trainingRows.map((row) => row[target] ?? '');
   const targetValues: TargetValues =
     task === 'regression' ? { kind: 'numbers', values: Float64Array.from(targets, (value) => parseNumber(value) ?? Number.NaN) } : { kind: 'labels', ...labelsOf(targets, () => false) };
-  return buildColumnRecipe({ task, target, features, targetValues, trainingRows: allRows(trainingRows.length) });
+  return buildColumnRecipe({ task, target, features, targetValues, trainingRows: allRows(trainingRows.length), ...(options.preprocessing ? { preprocessing: options.preprocessing } : {}) });
 }
 
 /**

@@ -1,4 +1,5 @@
-import type { Task } from '../core/configuration.js';
+import type { PreprocessingChoice, Task } from '../core/configuration.js';
+import type { NumericTransform } from './numeric-inputs.js';
 
 /** How one input column becomes model inputs; every statistic comes from the training split only. */
 export type FeatureRecipe =
@@ -9,6 +10,8 @@ export type FeatureRecipe =
       mean: number;
       /** Training-split standard deviation (population); 1 when the column is constant. */
       std: number;
+      /** With `numericInputs` other than standardise: the transform applied instead of (x - mean) / std (missing values still take the mean first). */
+      transform?: NumericTransform;
     }
   | {
       kind: 'categorical';
@@ -17,6 +20,11 @@ export type FeatureRecipe =
       categories: string[];
       /** Most frequent training category, used for missing values. */
       fill: string;
+      /**
+       * With `poolCategoriesBelow`: the training categories seen in fewer rows than that, which share one
+       * input after `categories` (so do categories unseen in training). Absent, or no category was that rare: no pooled input.
+       */
+      pooled?: string[];
     };
 
 /** Everything needed to turn a raw CSV row into model inputs, and model outputs back into answers. */
@@ -63,6 +71,11 @@ export interface PreparedData {
   folds?: PreparedFold[];
   /** The seed the folds were drawn with (the study seed). */
   foldSeed?: number;
+  /**
+   * With `prepareData`'s `choices`: the same rows and splits (and folds) encoded under another
+   * preprocessing choice, its recipe fitted on the same training rows. Absent: only this one.
+   */
+  prepareChoice?: (choice: PreprocessingChoice) => Promise<PreparedData>;
 }
 
 /** One fold of k-fold cross-validation: its data set as trials train on it. */

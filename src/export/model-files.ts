@@ -7,6 +7,7 @@ import * as tf from '@tensorflow/tfjs';
 import { readFile, writeFile } from 'node:fs/promises';
 import path from 'node:path';
 import type { PreprocessingRecipe } from '../data/types.js';
+import { POOLED_INPUT } from '../data/input-checks.js';
 import type { Activation, TrialConfiguration } from '../core/configuration.js';
 import { hiddenWidths } from '../core/size.js';
 import type { NamedWeights } from '../trainers/tfjs/checkpoint.js';
@@ -21,7 +22,9 @@ type DenseActivation = Exclude<Activation, 'leakyRelu'>;
 
 /** One name per network input, in input order: a numeric column's name, or `column=category` per one-hot input. */
 export function inputNames(recipe: PreprocessingRecipe): string[] {
-  return recipe.features.flatMap((feature) => (feature.kind === 'numeric' ? [feature.name] : feature.categories.map((category) => `${feature.name}=${category}`)));
+  return recipe.features.flatMap((feature) =>
+    feature.kind === 'numeric' ? [feature.name] : [...feature.categories, ...(feature.pooled ? [POOLED_INPUT] : [])].map((category) => `${feature.name}=${category}`),
+  );
 }
 
 /** Network outputs: 1 for binary (P of the second class) and regression, one per class for multiclass. */

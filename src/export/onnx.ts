@@ -13,24 +13,16 @@ import protobuf from 'protobufjs';
 import type { PreprocessingRecipe } from '../data/types.js';
 import type { ExportConfiguration, OnnxDescription } from './configuration.js';
 import { inputNames, outputCount } from './model-files.js';
+import { categoricalWidth } from '../data/recipe.js';
+import { POOLED_INPUT } from '../data/input-checks.js';
+import { SMOOTH_CLIP } from '../data/numeric-inputs.js';
+import { quantileNodes } from './onnx-quantiles.js';
+import type { NodeSpec, TensorSpec } from './onnx-nodes.js';
 import { ONNX_FILE, ONNX_FLOAT, ONNX_IR_VERSION, ONNX_OPSET, ONNX_OPSET_LAYER_NORMALIZATION, ONNX_SUBSET_PROTO } from './onnx-schema.js';
 
 export { ONNX_FILE } from './onnx-schema.js';
 export const ONNX_INPUT = 'features';
 export const ONNX_OUTPUT = 'output';
-
-interface NodeSpec {
-  opType: string;
-  input: string[];
-  output: string[];
-  attribute?: { name: string; type: number; f?: number; i?: number }[];
-}
-
-interface TensorSpec {
-  name: string;
-  dims: number[];
-  values: Float32Array;
-}
 
 const ATTRIBUTE_FLOAT = 1;
 const ATTRIBUTE_INT = 2;
@@ -146,18 +138,24 @@ function layerNodes(network: tf.LayersModel, input: string, nodes: NodeSpec[], t
   return last;
 }
 
-/** Fill, mean and std per network input: numeric inputs from the recipe, one-hot inputs pass unchanged. */
+/**
+ * Per network input: the fill for a missing value, then (x - shift) / divisor. Numeric inputs take the
+ * training mean as fill; a standardised one its mean and std, a robust one its median and scale
+ * (Infinity for a constant column, so it is 0), a quantile one Infinity (0 here: the interpolation adds
+ * its value). One-hot inputs pass unchanged.
+ */
 function inputScaling(recipe: PreprocessingRecipe): { fill: Float32Array; mean: Float32Array; std: Float32Array } {
   const fill: number[] = [];
   const mean: number[] = [];
   const std: number[] = [];
   for (const feature of recipe.features) {
     if (feature.kind === 'numeric') {
+      const transform = feature.transform;
       fill.push(feature.mean);
-      mean.push(feature.mean);
-      std.push(feature.std);
+      mean.push(transform === undefined ? feature.mean : transform.kind === 'robust-clip' ? transform.centre : 0);
+      std.push(transform === undefined ? feature.std : transform.kind === 'robust-clip' && transform.scale > 0 ? transform.scale : Number.POSITIVE_INFINITY);
     } else {
-      for (let i = 0; i < feature.categories.length; i++) {
+      for (let i = 0; i < categoricalWidth(feature); i++) {
         fill.push(0);
         mean.push(0);
         std.push(1);
@@ -167,11 +165,8 @@ function inputScaling(recipe: PreprocessingRecipe): { fill: Float32Array; mean: 
   return { fill: Float32Array.from(fill), mean: Float32Array.from(mean), std: Float32Array.from(std) };
 }
 
-/** The ONNX model (protobuf bytes) computing what the tfjs Layers `network` computes, from raw numeric inputs. */
-export function onnxModelBytes(network: tf.LayersModel, configuration: ExportConfiguration, producerVersion: string): Uint8Array {
-  const { recipe } = configuration;
-  const nodes: NodeSpec[] = [];
-  const tensors: TensorSpec[] = [];
+/** The network input's values after preprocessing, from `features` (raw numbers, NaN where missing, and one-hot categories). */
+function preprocessingNodes(recipe: PreprocessingRecipe, nodes: NodeSpec[], tensors: TensorSpec[]): string {
   const scaling = inputScaling(recipe);
   tensors.push({ name: 'fill', dims: [recipe.inputCount], values: scaling.fill }, { name: 'mean', dims: [recipe.inputCount], values: scaling.mean }, { name: 'std', dims: [recipe.inputCount], values: scaling.std });
   nodes.push(
@@ -180,7 +175,35 @@ export function onnxModelBytes(network: tf.LayersModel, configuration: ExportCon
     { opType: 'Sub', input: ['filled', 'mean'], output: ['centred'] },
     { opType: 'Div', input: ['centred', 'std'], output: ['scaled'] },
   );
-  const x = layerNodes(network, 'scaled', nodes, tensors);
+  const clipped = smoothClipNodes(recipe, 'scaled', nodes, tensors);
+  return quantileNodes(recipe, clipped, nodes, tensors);
+}
+
+/** The smooth clip z / sqrt(1 + (g z)^2) with g = 1/3 on robust inputs and 0 elsewhere (identity); no nodes without robust inputs. */
+function smoothClipNodes(recipe: PreprocessingRecipe, x: string, nodes: NodeSpec[], tensors: TensorSpec[]): string {
+  const gain: number[] = [];
+  for (const feature of recipe.features) {
+    if (feature.kind === 'numeric') gain.push(feature.transform?.kind === 'robust-clip' ? 1 / SMOOTH_CLIP : 0);
+    else for (let i = 0; i < categoricalWidth(feature); i++) gain.push(0);
+  }
+  if (gain.every((g) => g === 0)) return x;
+  tensors.push({ name: 'clip_gain', dims: [recipe.inputCount], values: Float32Array.from(gain) }, { name: 'clip_one', dims: [], values: Float32Array.of(1) });
+  nodes.push(
+    { opType: 'Mul', input: [x, 'clip_gain'], output: ['clip_scaled'] },
+    { opType: 'Mul', input: ['clip_scaled', 'clip_scaled'], output: ['clip_square'] },
+    { opType: 'Add', input: ['clip_square', 'clip_one'], output: ['clip_sum'] },
+    { opType: 'Sqrt', input: ['clip_sum'], output: ['clip_root'] },
+    { opType: 'Div', input: [x, 'clip_root'], output: ['clipped'] },
+  );
+  return 'clipped';
+}
+
+/** The ONNX model (protobuf bytes) computing what the tfjs Layers `network` computes, from raw numeric inputs. */
+export function onnxModelBytes(network: tf.LayersModel, configuration: ExportConfiguration, producerVersion: string): Uint8Array {
+  const { recipe } = configuration;
+  const nodes: NodeSpec[] = [];
+  const tensors: TensorSpec[] = [];
+  const x = layerNodes(network, preprocessingNodes(recipe, nodes, tensors), nodes, tensors);
   // The graph's output must be a node's output under its published name.
   nodes.push({ opType: 'Identity', input: [x], output: [ONNX_OUTPUT] });
 
@@ -215,12 +238,26 @@ export function describeOnnx(configuration: ExportConfiguration): OnnxDescriptio
     input: ONNX_INPUT,
     output: ONNX_OUTPUT,
     inputs: inputNames(configuration.recipe),
-    numeric:
-      'Numeric columns go in as they are in the CSV, NaN where missing: the graph fills a missing value with the training mean and standardises with the training mean and standard deviation.',
-    categorical:
-      "Categorical columns go in one-hot, one input per `column=category` of `inputs` (1 for the row's category, else 0): all zeros for a category unseen in training; for a missing value, the recipe's `fill` category.",
+    numeric: numericDescription(configuration.recipe),
+    categorical: `Categorical columns go in one-hot, one input per \`column=category\` of \`inputs\` (1 for the row's category, else 0): ${
+      configuration.recipe.features.some((feature) => feature.kind === 'categorical' && feature.pooled)
+        ? `a column with a \`column=${POOLED_INPUT}\` input takes its rare categories and categories unseen in training there; elsewhere all zeros for a category unseen in training`
+        : 'all zeros for a category unseen in training'
+    }; for a missing value, the recipe's \`fill\` category.`,
     outputMeaning: configuration.outputs.meaning,
   };
+}
+
+/** How the graph treats numeric columns, by the transforms the recipe uses. */
+function numericDescription(recipe: PreprocessingRecipe): string {
+  const kinds = new Set(recipe.features.map((feature) => (feature.kind === 'numeric' ? (feature.transform?.kind ?? 'standardise') : undefined)));
+  const ways: string[] = [];
+  if (!kinds.has('robust-clip') && !kinds.has('normal-quantiles')) kinds.add('standardise');
+  if (kinds.has('standardise')) ways.push('standardises with the training mean and standard deviation');
+  if (kinds.has('robust-clip')) ways.push(`subtracts the training median, divides by the interquartile range and clips smoothly, z / sqrt(1 + (z / ${SMOOTH_CLIP})^2) (\`transform.kind\` 'robust-clip')`);
+  if (kinds.has('normal-quantiles')) ways.push("maps the value onto the standard normal by piecewise-linear interpolation between the recipe's training quantiles (`knots`) and their normal scores (`scores`), as clamped segments summed by two 0/1 MatMuls (`transform.kind` 'normal-quantiles')");
+  const nonFinite = ways.length > 1 || !kinds.has('standardise') ? ' (pass non-finite values as NaN)' : '';
+  return `Numeric columns go in as they are in the CSV, NaN where missing${nonFinite}: the graph fills a missing value with the training mean and ${ways.join('; or ') || 'passes it on'}.`;
 }
 
 /** Writes `model.onnx` for `network` into `dir`. */

@@ -68,6 +68,7 @@ export function parameterAxes(study: StudyDocument): ParameterAxis[] {
     ...regulariserAxes(study),
     ...(space.shape ? [{ key: 'shape', title: 'hidden-layer widths (constant or funnel)', shortTitle: 'shape', kind: 'nominal', categories: [...space.shape] } satisfies ParameterAxis] : []),
     ...(space.block ? [{ key: 'block', title: 'hidden layers stacked plain or in residual blocks', shortTitle: 'block', kind: 'nominal', categories: [...space.block] } satisfies ParameterAxis] : []),
+    ...preprocessingAxes(study),
   ];
 }
 
@@ -82,6 +83,18 @@ function regulariserAxes(study: StudyDocument): ParameterAxis[] {
     const { title, shortTitle } = words[dimension.name];
     return { key: dimension.name, title: log ? `${title} (log scale)` : title, shortTitle: log ? `${shortTitle} (log)` : shortTitle, kind: log ? 'log' : 'linear' };
   });
+}
+
+/** The preprocessing choices, when the space searches them. */
+function preprocessingAxes(study: StudyDocument): ParameterAxis[] {
+  const { numericInputs, poolCategoriesBelow } = study.definition.space;
+  const axes: ParameterAxis[] = [];
+  if (numericInputs) axes.push({ key: 'numericInputs', title: 'numeric inputs', shortTitle: 'numeric inputs', kind: 'nominal', categories: [...numericInputs] });
+  if (poolCategoriesBelow) {
+    const categories = [...poolCategoriesBelow].sort((a, b) => a - b);
+    axes.push({ key: 'poolCategoriesBelow', title: 'categories pooled below (training rows)', shortTitle: 'pool below', kind: 'ordinal', categories });
+  }
+  return axes;
 }
 
 /** The learning-rate schedule's settings, when the space has a schedule (src/core/schedule.ts). */

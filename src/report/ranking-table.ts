@@ -10,6 +10,12 @@ export function scoreText(score: number | null, standardError?: number): string 
   return standardError === undefined || score === null ? formatNumber(score) : `${formatNumber(score)} ± ${formatNumber(standardError)}`;
 }
 
+/** A configuration's preprocessing choice in a few words, e.g. `robust-clip, pooled below 20`. */
+function preprocessingInWords(configuration: RankedTrial['trial']['configuration']): string {
+  const pool = configuration.poolCategoriesBelow ?? 0;
+  return `${configuration.numericInputs ?? 'standardise'}${pool > 0 ? `, pooled below ${pool}` : ''}`;
+}
+
 /** The ranking as a text table: rank, trial, rung, epochs, score (± standard error with folds) and the configuration. */
 export function rankingTable(ranking: readonly RankedTrial[], goal: Goal): string {
   const folds = ranking.some(({ trial }) => trial.scoreStandardError !== undefined);
@@ -18,6 +24,7 @@ export function rankingTable(ranking: readonly RankedTrial[], goal: Goal): strin
   const stopping = ranking.some(({ trial }) => trial.bestEpoch !== undefined);
   const shapes = ranking.some(({ trial }) => trial.configuration.shape !== undefined);
   const blocks = ranking.some(({ trial }) => trial.configuration.block !== undefined);
+  const preprocessing = ranking.some(({ trial }) => trial.configuration.numericInputs !== undefined || trial.configuration.poolCategoriesBelow !== undefined);
   const flagged = ranking.some(({ trial }) => (trial.flags?.length ?? 0) > 0);
   const regularised = ranking.some(({ trial }) => regularisersInWords(trial.configuration) !== undefined);
   // Classification: accuracy and macro-F1 side by side (besides the goal's metric), to see what class weights trade.
@@ -25,7 +32,7 @@ export function rankingTable(ranking: readonly RankedTrial[], goal: Goal): strin
   const sideBySide = (['accuracy', 'macroF1'] as const).filter((name) => name !== goal.metric && ranking.some(({ trial }) => scoredPoint(trial)?.metrics[name] !== undefined));
   // The cost goal is per row; a column per 1,000 rows reads as an amount a user can weigh.
   const perThousand = goal.metric === 'cost';
-  const header = ['rank', 'trial', 'rung', 'epochs', ...(stopping ? ['best epoch'] : []), folds ? `${goal.metric} (fold mean ± SE)` : goal.metric, ...(perThousand ? ['cost per 1,000 rows'] : []), ...sideBySide, 'depth', 'width', ...(shapes ? ['shape'] : []), ...(blocks ? ['block'] : []), 'activation', 'learning rate', ...(schedules ? ['schedule'] : []), 'batch', 'optimizer', 'l2', 'dropout', ...(regularised ? ['regularisers'] : []), ...(flagged ? ['flags'] : [])];
+  const header = ['rank', 'trial', 'rung', 'epochs', ...(stopping ? ['best epoch'] : []), folds ? `${goal.metric} (fold mean ± SE)` : goal.metric, ...(perThousand ? ['cost per 1,000 rows'] : []), ...sideBySide, 'depth', 'width', ...(shapes ? ['shape'] : []), ...(blocks ? ['block'] : []), 'activation', 'learning rate', ...(schedules ? ['schedule'] : []), 'batch', 'optimizer', 'l2', 'dropout', ...(regularised ? ['regularisers'] : []), ...(preprocessing ? ['preprocessing'] : []), ...(flagged ? ['flags'] : [])];
   const rows = ranking.map(({ rank, trial }) => [
     String(rank),
     String(trial.id),
@@ -47,6 +54,7 @@ export function rankingTable(ranking: readonly RankedTrial[], goal: Goal): strin
     formatNumber(trial.configuration.l2),
     formatNumber(trial.configuration.dropout),
     ...(regularised ? [regularisersInWords(trial.configuration) ?? '-'] : []),
+    ...(preprocessing ? [preprocessingInWords(trial.configuration)] : []),
     ...(flagged ? [flagsText(trial.flags) || '-'] : []),
   ]);
   return textTable(header, rows);

@@ -2,9 +2,7 @@ import type { WriteStepHook } from '../store/file-adapter.js';
 import { availableParallelism } from 'node:os';
 import { FolderCheckpointStore } from '../checkpoints/folder-store.js';
 import type { CheckpointStore } from '../checkpoints/store.js';
-import { datasetId } from '../data/dataset-id.js';
 import { hasSchedule } from '../core/schedule.js';
-import { toSharedDataset } from '../data/index.js';
 import type { PreparedData } from '../data/types.js';
 import { studyStoppedError } from '../core/errors.js';
 import { createSampler, plannedBudget, replay } from '../samplers/index.js';
@@ -24,6 +22,7 @@ import { CheckpointKeeper } from './checkpoint-keeper.js';
 import type { StudyObserver, StudyProgress } from './events.js';
 import { TrialLifecycle, type JobFailure } from './lifecycle.js';
 import { BatchedPersistence } from './persistence.js';
+import { StudyDatasets } from './study-datasets.js';
 import { StopControl, type Clock } from './stop-control.js';
 
 /** After an interrupt, running jobs get this long to finish before they are cut off. */
@@ -90,16 +89,6 @@ export function recordedOutcomes(trials: readonly TrialRecord[], goal: Goal): Jo
   return outcomes;
 }
 
-/** The k fold data sets, each named by its content hash. */
-function foldDatasets(data: PreparedData): SharedDataset[] {
-  return (data.folds ?? []).map((fold) => {
-    const part: PreparedData = { recipe: fold.recipe, train: fold.train, validation: fold.validation, test: { rows: 0, x: new Float32Array(0), y: new Float32Array(0) } };
-    if (fold.classWeights) part.classWeights = fold.classWeights;
-    if (fold.costMatrix) part.costMatrix = fold.costMatrix;
-    return toSharedDataset(part, datasetId(part));
-  });
-}
-
 function defaultTransport(options: ExecuteOptions): (context: TransportContext) => TrialTransport {
   return ({ threads }) =>
     new ThreadTransport({
@@ -145,7 +134,8 @@ interface Session {
   lifecycle: TrialLifecycle;
   keeper: CheckpointKeeper;
   persistence: BatchedPersistence<Announced>;
-  dataset: SharedDataset;
+  /** The study's own data set and one per other preprocessing choice met so far. */
+  datasets: StudyDatasets;
   stop: StopControl;
   /** Running jobs by trial id. */
   running: Map<number, Promise<void>>;
@@ -171,9 +161,9 @@ async function drive(store: StudyStore, data: PreparedData, options: ExecuteOpti
   announceStart(session, resumed, resumeNotes);
   const inner = (options.transport ?? defaultTransport(options))({ threads: session.threads });
   // k-fold: every job runs once per fold on the inner transport; the run loop sees one job and the fold mean.
-  const transport = data.folds ? new FoldsTransport(inner, foldDatasets(data)) : inner;
+  const transport = data.folds ? new FoldsTransport(inner, (dataset) => session.datasets.foldsOf(dataset)) : inner;
   try {
-    await transport.addDataset(session.dataset);
+    await transport.addDataset(session.datasets.study);
     await dispatch(session, transport);
     await session.persistence.flush();
   } finally {
@@ -203,10 +193,10 @@ async function openSession(store: StudyStore, data: PreparedData, options: Execu
     onStop: (reason) => emit({ type: 'stopping', reason: reason === 'interrupted' ? 'interrupted' : `time limit of ${minutes} minute${minutes === 1 ? '' : 's'}` }),
   });
   const threads = options.threads ?? definition.threads ?? availableParallelism();
-  const dataset = toSharedDataset(data, datasetId(data));
+  const datasets = new StudyDatasets(data);
   // Before the first trial, so every trial is checked against them (a study from before baselines gets them on resume).
-  store.doc.baselines ??= await studyBaselines(data, data.folds ? foldDatasets(data) : [dataset], goal, definition.budget.maxEpochs, definition.sampler.seed);
-  return { store, options, definition, threads, emit, note: noteOnce(emit), sampler, planned, queue, lifecycle, keeper, persistence, dataset, stop, running: new Map(), busySeconds: 0, jobsEnded: 0, epochsAtStart: lifecycle.progress().epochsDone };
+  store.doc.baselines ??= await studyBaselines(data, data.folds ? datasets.foldsOf(datasets.study) : [datasets.study], goal, definition.budget.maxEpochs, definition.sampler.seed);
+  return { store, options, definition, threads, emit, note: noteOnce(emit), sampler, planned, queue, lifecycle, keeper, persistence, datasets, stop, running: new Map(), busySeconds: 0, jobsEnded: 0, epochsAtStart: lifecycle.progress().epochsDone };
 }
 
 /** After each save: one `trial-finished` event per saved job, with the ranking's leader at that moment. */
@@ -261,11 +251,12 @@ async function startJob(session: Session, transport: TrialTransport, proposed: J
   const { keeper, lifecycle, emit, running } = session;
   const checkpoint = proposed.fromEpoch > 0 ? await keeper.at(proposed.trialId, proposed.fromEpoch) : undefined;
   const job = proposed.fromEpoch > 0 && !checkpoint ? fromScratch(session, proposed) : proposed;
+  const datasetId = await session.datasets.idFor(job.configuration, (dataset) => transport.addDataset(dataset));
   const record = lifecycle.started(job, checkpoint !== undefined);
   emit({ type: 'job-started', job, fromCheckpoint: checkpoint !== undefined });
   const abort = jobAbort(session);
   const done = transport
-    .run(trainJobOf(session, job, record.seed, checkpoint), (report) => emit({ type: 'epoch', report }), abort.signal)
+    .run(trainJobOf(session, job, record.seed, datasetId, checkpoint), (report) => emit({ type: 'epoch', report }), abort.signal)
     .then(
       (result) => settleResult(session, job, result),
       (error: unknown) => settleFailure(session, transport, job, abort.timedOut(), error),
@@ -311,13 +302,13 @@ function jobAbort(session: Session): { signal: AbortSignal; timedOut: () => bool
 }
 
 /** What the transport is asked to train for a job. */
-function trainJobOf(session: Session, job: Job, seed: number, checkpoint: Uint8Array | undefined): TrainJob {
-  const { definition, store, dataset } = session;
+function trainJobOf(session: Session, job: Job, seed: number, datasetId: string, checkpoint: Uint8Array | undefined): TrainJob {
+  const { definition, store } = session;
   return {
     trialId: job.trialId,
     seed,
     configuration: job.configuration,
-    datasetId: dataset.id,
+    datasetId,
     fromEpoch: job.fromEpoch,
     toEpoch: job.toEpoch,
     ...(hasSchedule(job.configuration) ? { maxEpochs: definition.budget.maxEpochs } : {}),

@@ -8,6 +8,7 @@ import { UserError, studyStoppedError } from '../core/errors.js';
 import { writeFailure } from '../files/write-cause.js';
 import { checkCapacity } from '../study/capacity.js';
 import { resolveGoal } from '../study/definition.js';
+import { searchesPreprocessing } from '../core/configuration.js';
 import { loadStudy, type LoadedStudy } from '../study/load.js';
 import { LOCK_FILES, lockStudy } from '../store/lock.js';
 import { writeFileDurably } from '../files/durable-write.js';
@@ -37,6 +38,7 @@ export async function runStudy(study: string | LoadedStudy, options: RunOptions 
   for (const message of notes ?? []) options.onEvent?.({ type: 'note', message });
   const { data, summary, csvSha256 } = await prepareData(definition.data, file, {
     foldSeed: definition.sampler.seed,
+    choices: searchesPreprocessing(definition.space),
     ...(options.signal ? { signal: options.signal } : {}),
     ...(options.onDataEvent ? { onDataEvent: options.onDataEvent } : {}),
   });

@@ -116,6 +116,8 @@ export function spaceDimensions(space: SearchSpace): Dimension[] {
   }
   if (space.shape) dimensions.push({ kind: 'categorical', name: 'shape', choices: space.shape });
   if (space.block) dimensions.push({ kind: 'categorical', name: 'block', choices: space.block });
+  if (space.numericInputs) dimensions.push({ kind: 'categorical', name: 'numericInputs', choices: space.numericInputs });
+  if (space.poolCategoriesBelow) dimensions.push({ kind: 'categorical', name: 'poolCategoriesBelow', choices: space.poolCategoriesBelow });
   return dimensions;
 }
 
@@ -135,6 +137,8 @@ export function configurationAt(space: SearchSpace, point: readonly number[]): T
     ...regulariserFields(space, (name) => values[name] as number),
     ...(space.shape ? { shape: values['shape'] as TrialConfiguration['shape'] } : {}),
     ...(space.block ? { block: values['block'] as TrialConfiguration['block'] } : {}),
+    ...(space.numericInputs ? { numericInputs: values['numericInputs'] as TrialConfiguration['numericInputs'] } : {}),
+    ...(space.poolCategoriesBelow ? { poolCategoriesBelow: values['poolCategoriesBelow'] as number } : {}),
   };
 }
 

@@ -9,7 +9,8 @@ import { REGULARISERS, regulariserFields, spaceRegularisers } from './regularise
  * Every field consumes exactly one draw, always in the same order (depth, width, activation,
  * learningRate, batchSize, optimizer, l2, dropout), even when the field is fixed or absent. So
  * adding `l2` to a space, or giving a list a single entry, leaves every other field's draw unchanged.
- * The schedule's draws (with a schedule) and the regularisers' (always) come after them.
+ * The schedule's draws (with a schedule), the regularisers', shape, block and the preprocessing
+ * choices' come after them, each only when the space has it.
  */
 export function sampleConfiguration(space: SearchSpace, rng: Rng): TrialConfiguration {
   const depth = drawInteger(space.depth, rng());
@@ -46,6 +47,12 @@ export function sampleConfiguration(space: SearchSpace, rng: Rng): TrialConfigur
   if (space.shape) drawn.shape = choose(space.shape, rng());
   // Likewise the block, last of all.
   if (space.block) drawn.block = choose(space.block, rng());
+  if (space.numericInputs === undefined && space.poolCategoriesBelow === undefined) return drawn;
+  // Two draws after everything else, always together, so a space without preprocessing choices draws as before.
+  const numericDraw = rng();
+  const poolDraw = rng();
+  if (space.numericInputs) drawn.numericInputs = choose(space.numericInputs, numericDraw);
+  if (space.poolCategoriesBelow) drawn.poolCategoriesBelow = choose(space.poolCategoriesBelow, poolDraw);
   return drawn;
 }
 

@@ -1,6 +1,6 @@
 /** The search space as the study file states it: ranges and choices for each part of a configuration. */
 import { z } from 'zod';
-import { ACTIVATIONS, BLOCKS, OPTIMIZERS, SCHEDULES, SHAPES } from '../core/configuration.js';
+import { ACTIVATIONS, BLOCKS, NUMERIC_INPUTS, OPTIMIZERS, SCHEDULES, SHAPES } from '../core/configuration.js';
 
 /** A range whose min exceeds its max names both values. */
 function minNotAboveMax(range: { min: number; max: number }, ctx: z.RefinementCtx): void {
@@ -120,6 +120,22 @@ export const spaceSchema = z.strictObject({
     .min(1)
     .optional()
     .describe('How hidden layers are stacked: plain (dense, activation, dropout) or residual (depth blocks of layer normalisation, dense, activation, dropout, dense, dropout, added to the block input; Gorishniy et al. 2021); absent means plain.'),
+  numericInputs: z
+    .array(z.enum(NUMERIC_INPUTS))
+    .min(1)
+    .max(NUMERIC_INPUTS.length)
+    .refine((list) => new Set(list).size === list.length, 'each choice at most once')
+    .optional()
+    .describe(
+      'How numeric columns become inputs, to choose from: standardise (training mean and standard deviation), robust-clip (median and interquartile range, then a smooth clip into (-3, 3)), normal-quantiles (training quantiles mapped onto the standard normal). Absent means standardise.',
+    ),
+  poolCategoriesBelow: z
+    .array(z.int().min(0).max(100_000))
+    .min(1)
+    .max(4)
+    .refine((list) => new Set(list).size === list.length, 'each value at most once')
+    .optional()
+    .describe('Categories seen in fewer training rows than this share one input, to choose from (0: every category its own input). Absent means 0.'),
 }).superRefine(residualWithoutRegularisers);
 
 /**
@@ -158,7 +174,21 @@ export const listedConfigurationSchema = z.strictObject({
   maxGradientNorm: z.number().positive().optional().describe('Required when the space has maxGradientNorm, refused otherwise.'),
   shape: z.enum(SHAPES).optional().describe('Required when the space has a shape, left out otherwise.'),
   block: z.enum(BLOCKS).optional().describe('Required when the space has a block, left out otherwise.'),
+  numericInputs: z.enum(NUMERIC_INPUTS).optional().describe('Required when the space has numericInputs, one of its choices.'),
+  poolCategoriesBelow: z.int().min(0).optional().describe('Required when the space has poolCategoriesBelow, one of its values.'),
 });
+
+/** A listed configuration's preprocessing fields against the space's: each given exactly when the space has it, and one of its choices. */
+export function listedPreprocessingProblem(entry: z.output<typeof listedConfigurationSchema>, space: SearchSpace): string | undefined {
+  for (const key of ['numericInputs', 'poolCategoriesBelow'] as const) {
+    const choices: readonly (string | number)[] | undefined = space[key];
+    const value = entry[key];
+    if (choices === undefined && value !== undefined) return `gives ${key} but the space has no ${key}; leave it out`;
+    if (choices !== undefined && value === undefined) return `lacks ${key}, which the space draws; give one of ${choices.join(', ')}`;
+    if (choices !== undefined && !choices.includes(value!)) return `gives ${key} ${String(value)}, which is not among the space's ${choices.join(', ')}`;
+  }
+  return undefined;
+}
 
 /** The fields a listed configuration must give for this space's schedule and shape, and those it must leave out. */
 export function listedScheduleProblem(entry: z.output<typeof listedConfigurationSchema>, space: SearchSpace): string | undefined {

@@ -9,7 +9,7 @@ import { utf16Kind } from '../text/encoding.js';
 import { formatIssue } from './issues.js';
 import { earlyStoppingProblem } from '../core/early-stopping.js';
 import { renamedDefinitionNote, renamedKeysNote, renameDefinitionKeys, renameSamplerKeys } from './renamed-keys.js';
-import { listedScheduleProblem } from '../space/schema.js';
+import { listedPreprocessingProblem, listedScheduleProblem } from '../space/schema.js';
 import { listedRegulariserProblem } from '../space/regularisers.js';
 
 export interface LoadedStudy {
@@ -142,7 +142,7 @@ function crossFieldProblems(definition: StudyDefinition): [string, string][] {
     problems.push(['earlyStopping', `cannot be combined with data.folds yet (each fold would stop at its own epoch); use one or the other`]);
   }
   definition.tryFirst?.forEach((entry, index) => {
-    const problem = listedScheduleProblem(entry, definition.space) ?? listedRegulariserProblem(entry, definition.space);
+    const problem = listedScheduleProblem(entry, definition.space) ?? listedRegulariserProblem(entry, definition.space) ?? listedPreprocessingProblem(entry, definition.space);
     if (problem) problems.push([`tryFirst[${index}]`, problem]);
   });
   if (data.features?.includes(data.target)) {

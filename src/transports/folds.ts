@@ -63,17 +63,35 @@ export function combinedClassFigures(figures: readonly ClassFigures[]): ClassFig
   return combined;
 }
 
+function checkFoldCount(folds: readonly SharedDataset[]): void {
+  if (folds.length < 2) throw new RangeError(`folds transport: needs at least 2 fold data sets, got ${folds.length}`);
+}
+
 /** Wraps a transport so that every job runs once per fold. */
 export class FoldsTransport implements TrialTransport {
   private busy = 0;
   private readonly waiting: (() => void)[] = [];
 
-  /** `folds`: the k fold data sets, in fold order (the one the split record lists). */
+  /** The fold data sets of each study data set added, by its id. */
+  private readonly foldSets = new Map<string, readonly SharedDataset[]>();
+  private readonly foldsOf: (dataset: SharedDataset) => readonly SharedDataset[];
+  private readonly fixed: readonly SharedDataset[] | undefined;
+
+  /**
+   * `folds`: the k fold data sets, in fold order (the one the split record lists); or, for a study
+   * that trains on several data sets (one per preprocessing choice), the k fold data sets of each.
+   */
   constructor(
     private readonly inner: TrialTransport,
-    private readonly folds: readonly SharedDataset[],
+    folds: readonly SharedDataset[] | ((dataset: SharedDataset) => readonly SharedDataset[]),
   ) {
-    if (folds.length < 2) throw new RangeError(`folds transport: needs at least 2 fold data sets, got ${folds.length}`);
+    if (typeof folds === 'function') {
+      this.foldsOf = folds;
+    } else {
+      checkFoldCount(folds);
+      this.fixed = folds;
+      this.foldsOf = () => folds;
+    }
   }
 
   /** As many trials at once as the inner transport has slots; their fold jobs share those slots, first come first served. */
@@ -81,16 +99,21 @@ export class FoldsTransport implements TrialTransport {
     return this.inner.capacity;
   }
 
-  /** The study's own data set is not trained on: the fold data sets go to the inner transport instead. */
-  async addDataset(_dataset: SharedDataset): Promise<void> {
-    for (const fold of this.folds) await this.inner.addDataset(fold);
+  /** The study's own data set is not trained on: its fold data sets go to the inner transport instead. */
+  async addDataset(dataset: SharedDataset): Promise<void> {
+    const folds = this.foldsOf(dataset);
+    checkFoldCount(folds);
+    this.foldSets.set(dataset.id, folds);
+    for (const fold of folds) await this.inner.addDataset(fold);
   }
 
   async run(job: TrainJob, onEpoch: (report: EpochReport) => void, signal: AbortSignal): Promise<TrainResult> {
     if (signal.aborted) throw new Error(`trial ${job.trialId}: stopped`);
-    const k = this.folds.length;
+    const folds = this.foldSets.get(job.datasetId) ?? this.fixed;
+    if (!folds) throw new Error(`folds transport: no data set with id ${job.datasetId} was added`);
+    const k = folds.length;
     const parts = job.checkpoint ? decodeFoldBundle(job.checkpoint, k) : undefined;
-    const byEpoch = this.folds.map(() => new Map<number, EpochReport>());
+    const byEpoch = folds.map(() => new Map<number, EpochReport>());
     let announced = job.fromEpoch;
     const reported = (fold: number) => (report: EpochReport): void => {
       byEpoch[fold]!.set(report.epoch, report);
@@ -108,7 +131,7 @@ export class FoldsTransport implements TrialTransport {
     signal.addEventListener('abort', onAbort, { once: true });
     try {
       const settled = await Promise.allSettled(
-        this.folds.map((fold, i) =>
+        folds.map((fold, i) =>
           this.inSlot(stop.signal, () => {
             const foldJob: TrainJob = { ...job, datasetId: fold.id };
             if (parts) foldJob.checkpoint = parts[i]!;

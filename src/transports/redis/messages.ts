@@ -5,7 +5,7 @@
  * {@link describeIssue} turns the first problem into a short phrase naming the field.
  */
 import { z } from 'zod';
-import { ACTIVATIONS, BLOCKS, METRICS, OPTIMIZERS, SCHEDULES, SHAPES, TASKS, type TrialConfiguration } from '../../core/configuration.js';
+import { ACTIVATIONS, BLOCKS, METRICS, NUMERIC_INPUTS, OPTIMIZERS, SCHEDULES, SHAPES, TASKS, type TrialConfiguration } from '../../core/configuration.js';
 import { earlyStoppingSchema } from '../../core/fields.js';
 
 const count = z.int().min(0);
@@ -43,6 +43,8 @@ export const configurationSchema = z.strictObject({
   maxGradientNorm: z.number().positive().optional(),
   shape: z.enum(SHAPES).optional(),
   block: z.enum(BLOCKS).optional(),
+  numericInputs: z.enum(NUMERIC_INPUTS).optional(),
+  poolCategoriesBelow: count.optional(),
 });
 
 /** Compiles only while the schema and `TrialConfiguration` have the same fields (a strict schema would refuse a new one). */
