@@ -47,6 +47,18 @@ const decayRange = z
   })
   .superRefine(minNotAboveMax);
 
+/** A label smoothing range: epsilon from 0 to 0.5. */
+const smoothingRange = z
+  .strictObject({
+    min: z.number().min(0).max(0.5).describe('Smallest value, inclusive.'),
+    max: z.number().min(0).max(0.5).describe('Largest value, inclusive.'),
+    log: scaleKey('linear'),
+  })
+  .superRefine((range, ctx) => {
+    minNotAboveMax(range, ctx);
+    logNeedsPositiveMin(range, ctx);
+  });
+
 const fractionRange = z
   .strictObject({
     min: z.number().min(0).max(0.9),
@@ -110,6 +122,9 @@ export const spaceSchema = z.strictObject({
   maxGradientNorm: positiveLogRange
     .optional()
     .describe('Gradient-norm clipping (Pascanu et al. 2013): when the norm of all gradients together exceeds this, they are scaled down to it; drawn on a log scale unless log is false; absent means none.'),
+  labelSmoothing: smoothingRange
+    .optional()
+    .describe('Label smoothing epsilon, classification only (Szegedy et al. 2016): training targets (1 - epsilon) x one-hot + epsilon / classes; drawn uniformly unless log is true; absent means none.'),
 });
 
 
@@ -134,6 +149,7 @@ export const listedConfigurationSchema = z.strictObject({
   minFactor: z.number().min(0).lt(1).optional(),
   weightDecay: z.number().positive().lt(1).optional().describe('Required when the space has weightDecay, refused otherwise.'),
   maxGradientNorm: z.number().positive().optional().describe('Required when the space has maxGradientNorm, refused otherwise.'),
+  labelSmoothing: z.number().min(0).max(0.5).optional().describe('Required when the space has labelSmoothing, refused otherwise.'),
 });
 
 /** The fields a listed configuration must give for this space's schedule, and those it must leave out. */

@@ -41,6 +41,7 @@ export const configurationSchema = z.strictObject({
   minFactor: z.number().min(0).lt(1).optional(),
   weightDecay: z.number().min(0).lt(1).optional(),
   maxGradientNorm: z.number().positive().optional(),
+  labelSmoothing: z.number().min(0).lt(1).optional(),
 });
 
 /** Compiles only while the schema and `TrialConfiguration` have the same fields (a strict schema would refuse a new one). */
