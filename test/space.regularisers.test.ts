@@ -86,7 +86,7 @@ describe('regularisers in the search space', () => {
     const sampler = createSampler({ space: space(), budget: budgetSchema.parse({ trials: 40, maxEpochs: 1 }), sampler: samplerSchema.parse({ kind: 'tpe', seed: 5 }) });
     // A bowl in log coordinates, lowest at weight decay 1e-4 and norm 1 (an invented loss, for the sampler only).
     const distance = (c: TrialConfiguration): number => Math.abs(Math.log10(c.weightDecay! / 1e-4)) + Math.abs(Math.log10(c.maxGradientNorm!));
-    const log = simulate(sampler, { workers: 1, loss: (job) => distance(job.configuration) });
+    const log = simulate(sampler, { threads: 1, loss: (job) => distance(job.configuration) });
     const distances = log.jobs.map((job) => distance(job.configuration));
     expect(distances).toHaveLength(40);
     const mean = (xs: number[]): number => xs.reduce((a, b) => a + b, 0) / xs.length;
