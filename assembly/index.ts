@@ -12,6 +12,8 @@ import { columnSums, gemm, gemmTransposedA, transpose } from './matmul';
 import { addL2, update } from './optimizers';
 import { updateAfterBackward, updatesAfterBackward } from './regularisers';
 import { forwardResidual, residualOutputLayer, trainResidualStep } from './residual';
+import { smoothedOutputLoss } from './smoothed-losses';
+import { SMOOTHING_KEEP, SMOOTHING_SHARE } from './layout';
 
 export { gemm } from './matmul';
 
@@ -73,7 +75,10 @@ export function trainStep(net: usize, start: i32, rows: i32): f64 {
   }
   forward(net, batchX, rows, true);
   const lastStride = field(net, depth, OUT_STRIDE);
-  const loss = outputLoss(word(net, TASK), address(net, depth, PRE_ACTIVATION), address(net, depth, ACTIVATED), address(net, depth, DELTA), lastStride, rows, word(net, OUTPUTS), batchY, rows, pointer(net, CLASS_WEIGHTS));
+  const smoothing = constant(net, SMOOTHING_KEEP);
+  const loss = smoothing != 0
+    ? smoothedOutputLoss(word(net, TASK), address(net, depth, PRE_ACTIVATION), address(net, depth, ACTIVATED), address(net, depth, DELTA), lastStride, rows, word(net, OUTPUTS), batchY, rows, pointer(net, CLASS_WEIGHTS), smoothing, constant(net, SMOOTHING_SHARE))
+    : outputLoss(word(net, TASK), address(net, depth, PRE_ACTIVATION), address(net, depth, ACTIVATED), address(net, depth, DELTA), lastStride, rows, word(net, OUTPUTS), batchY, rows, pointer(net, CLASS_WEIGHTS));
 
   const kind = word(net, ACTIVATION);
   const optimizer = word(net, OPTIMIZER);

@@ -108,3 +108,7 @@ export const UPDATE_AFTER_BACKWARD = 31;
 export const WEIGHT_DECAY_STEP = 30;
 /** float32: the largest gradient norm over all weights and biases, 0 when off. */
 export const MAX_GRADIENT_NORM = 29;
+/** float32: label smoothing's weight on the true label, 1 - epsilon (0 when off). */
+export const SMOOTHING_KEEP = 28;
+/** float32: label smoothing's share for every class, epsilon / classes (two for binary). */
+export const SMOOTHING_SHARE = 27;

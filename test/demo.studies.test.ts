@@ -67,7 +67,7 @@ describe('the demo studies', () => {
   it('search the same space with the AUC objective (the costs demo by its cost)', () => {
     const [random, ...others] = DEMO_FILES.map(load);
     // The early-stopping and regularisers demos search schedules (and regularisers) as well; the rest of their space is everyone's.
-    const shared = (space: StudyDefinition['space']) => ({ ...space, schedule: undefined, weightDecay: undefined, maxGradientNorm: undefined });
+    const shared = (space: StudyDefinition['space']) => ({ ...space, schedule: undefined, weightDecay: undefined, maxGradientNorm: undefined, labelSmoothing: undefined });
     for (const definition of others) expect(shared(definition!.space)).toEqual(shared(random!.space));
     for (const definition of [random, ...others]) expect(definition!.goal?.metric).toBe(definition!.data.costs ? 'cost' : 'auc');
     expect(others.filter((definition) => definition!.data.costs).map((definition) => definition!.name)).toEqual(['demo-costs']);

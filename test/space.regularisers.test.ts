@@ -25,10 +25,11 @@ const plain = {
   dropout: { min: 0, max: 0.5 },
   schedule: { kind: ['constant', 'cosine'], warmupEpochs: { min: 0, max: 2 } },
 };
-const regularisers = { weightDecay: { min: 1e-6, max: 1e-2 }, maxGradientNorm: { min: 0.1, max: 10 } };
+const regularisers = { weightDecay: { min: 1e-6, max: 1e-2 }, maxGradientNorm: { min: 0.1, max: 10 }, labelSmoothing: { min: 0, max: 0.2 } };
 const space = (extra: object = regularisers): SearchSpace => spaceSchema.parse({ ...plain, ...extra });
 
-const withoutRegularisers = ({ weightDecay: _d, maxGradientNorm: _n, ...rest }: TrialConfiguration): TrialConfiguration => rest;
+const withoutLabelSmoothing = ({ labelSmoothing: _s, ...rest }: TrialConfiguration): TrialConfiguration => rest;
+const withoutRegularisers = ({ weightDecay: _d, maxGradientNorm: _n, labelSmoothing: _s, ...rest }: TrialConfiguration): TrialConfiguration => rest;
 
 describe('regularisers in the search space', () => {
   it('leave every other field of every trial as a space without them draws it', () => {
@@ -39,14 +40,19 @@ describe('regularisers in the search space', () => {
       expect(drawn.weightDecay).toBeLessThanOrEqual(1e-2);
       expect(drawn.maxGradientNorm).toBeGreaterThanOrEqual(0.1);
       expect(drawn.maxGradientNorm).toBeLessThanOrEqual(10);
+      expect(drawn.labelSmoothing).toBeGreaterThanOrEqual(0);
+      expect(drawn.labelSmoothing).toBeLessThanOrEqual(0.2);
     }
+    // Adding a regulariser later leaves the draws of those before it where they were.
+    const twoOnly = configurationForTrial(space({ weightDecay: regularisers.weightDecay, maxGradientNorm: regularisers.maxGradientNorm }), 7, 4);
+    expect(twoOnly).toStrictEqual(withoutLabelSmoothing(configurationForTrial(space(), 7, 4)));
     expect(configurationForTrial(space({}), 7, 3)).not.toHaveProperty('weightDecay');
   });
 
   it('are dimensions after the schedule, on a log scale unless the range says otherwise', () => {
     const names = spaceDimensions(space()).map((d) => d.name);
-    expect(names.slice(-2)).toEqual(['weightDecay', 'maxGradientNorm']);
-    expect(spaceDimensions(space()).slice(-2).map((d) => d.kind === 'numeric' && d.log)).toEqual([true, true]);
+    expect(names.slice(-3)).toEqual(['weightDecay', 'maxGradientNorm', 'labelSmoothing']);
+    expect(spaceDimensions(space()).slice(-3).map((d) => d.kind === 'numeric' && d.log)).toEqual([true, true, false]);
     const linear = spaceDimensions(space({ weightDecay: { min: 0.001, max: 0.01, log: false } })).at(-1)!;
     expect(linear).toMatchObject({ name: 'weightDecay', log: false });
   });
@@ -57,6 +63,7 @@ describe('regularisers in the search space', () => {
     // Common practice (no source): a log-uniform range's midpoint is sqrt(min * max).
     expect(centre.weightDecay).toBeCloseTo(1e-4, 12);
     expect(centre.maxGradientNorm).toBeCloseTo(1, 12);
+    expect(centre.labelSmoothing).toBeCloseTo(0.1, 12);
     const drawn = configurationForTrial(space(), 3, 11);
     const back = configurationAt(space(), pointOfConfiguration(space(), drawn));
     expect(back.weightDecay).toBeCloseTo(drawn.weightDecay!, 12);
@@ -103,9 +110,11 @@ describe('regularisers in the search space', () => {
       }
       return 'accepted';
     };
-    expect(messageOf(study(regularisers, { weightDecay: 1e-4 }))).toBe('study.json: tryFirst[0]: lacks maxGradientNorm, which this space draws; give them');
+    expect(messageOf(study(regularisers, { weightDecay: 1e-4 }))).toBe('study.json: tryFirst[0]: lacks maxGradientNorm, labelSmoothing, which this space draws; give them');
     expect(messageOf(study({}, { weightDecay: 1e-4 }))).toBe('study.json: tryFirst[0]: gives weightDecay but the space has no such range; leave them out or add the range to the space');
-    expect(messageOf(study(regularisers, { weightDecay: 1e-4, maxGradientNorm: 1 }))).toBe('accepted');
+    expect(messageOf(study(regularisers, { weightDecay: 1e-4, maxGradientNorm: 1, labelSmoothing: 0.1 }))).toBe('accepted');
+    const regression = { ...(study({ labelSmoothing: regularisers.labelSmoothing }, { labelSmoothing: 0.1 }) as object), data: { csv: 'flow.csv', target: 'flow', task: 'regression' } };
+    expect(messageOf(regression)).toBe('study.json: space.labelSmoothing: is for classification; a regression task has no labels to smooth, leave it out');
   });
 
   it('are refused beside residual blocks, whose training step has no pass after the backward one where they act', () => {

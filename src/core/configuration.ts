@@ -60,6 +60,8 @@ export interface TrialConfiguration {
   weightDecay?: number;
   /** Gradient-norm clipping: all gradients together are scaled down to this norm when above it (Pascanu et al., ICML 2013); absent: none. */
   maxGradientNorm?: number;
+  /** Label smoothing epsilon, classification only (Szegedy et al., CVPR 2016, section 7); absent: none. */
+  labelSmoothing?: number;
   /** Present only when the space has a `shape`; absent: constant (every hidden layer `width` units). */
   shape?: Shape;
   /** Present only when the space has a `block`; absent: plain. */

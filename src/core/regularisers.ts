@@ -8,5 +8,6 @@ export function regularisersInWords(configuration: TrialConfiguration): string |
   const parts: string[] = [];
   if (configuration.weightDecay !== undefined) parts.push(`weight decay ${round(configuration.weightDecay)}`);
   if (configuration.maxGradientNorm !== undefined) parts.push(`gradient norm at most ${round(configuration.maxGradientNorm)}`);
+  if (configuration.labelSmoothing !== undefined) parts.push(`label smoothing ${round(configuration.labelSmoothing)}`);
   return parts.length > 0 ? parts.join(', ') : undefined;
 }

@@ -77,6 +77,7 @@ function regulariserAxes(study: StudyDocument): ParameterAxis[] {
   const words: Record<RegulariserName, { title: string; shortTitle: string }> = {
     weightDecay: { title: 'decoupled weight decay per step', shortTitle: 'weight decay' },
     maxGradientNorm: { title: 'largest gradient norm (clipping)', shortTitle: 'max gradient norm' },
+    labelSmoothing: { title: 'label smoothing (epsilon)', shortTitle: 'label smoothing' },
   };
   return spaceRegularisers(study.definition.space).map(({ dimension, range }) => {
     const log = drawsOnLogScale(range, dimension.defaultLog);

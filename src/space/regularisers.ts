@@ -9,7 +9,7 @@ import type { z } from 'zod';
 
 /** A regulariser's space key (also its configuration field) and the scale it is drawn on unless its range says. */
 export interface RegulariserDimension {
-  name: 'weightDecay' | 'maxGradientNorm';
+  name: 'weightDecay' | 'maxGradientNorm' | 'labelSmoothing';
   defaultLog: boolean;
 }
 
@@ -17,6 +17,7 @@ export interface RegulariserDimension {
 export const REGULARISERS: readonly RegulariserDimension[] = [
   { name: 'weightDecay', defaultLog: true },
   { name: 'maxGradientNorm', defaultLog: true },
+  { name: 'labelSmoothing', defaultLog: false },
 ];
 
 export type RegulariserName = RegulariserDimension['name'];

@@ -47,6 +47,18 @@ const decayRange = z
   })
   .superRefine(minNotAboveMax);
 
+/** A label smoothing range: epsilon from 0 to 0.5. */
+const smoothingRange = z
+  .strictObject({
+    min: z.number().min(0).max(0.5).describe('Smallest value, inclusive.'),
+    max: z.number().min(0).max(0.5).describe('Largest value, inclusive.'),
+    log: scaleKey('linear'),
+  })
+  .superRefine((range, ctx) => {
+    minNotAboveMax(range, ctx);
+    logNeedsPositiveMin(range, ctx);
+  });
+
 const fractionRange = z
   .strictObject({
     min: z.number().min(0).max(0.9),
@@ -136,16 +148,20 @@ export const spaceSchema = z.strictObject({
     .refine((list) => new Set(list).size === list.length, 'each value at most once')
     .optional()
     .describe('Categories seen in fewer training rows than this share one input, to choose from (0: every category its own input). Absent means 0.'),
+  labelSmoothing: smoothingRange
+    .optional()
+    .describe('Label smoothing epsilon, classification only (Szegedy et al. 2016): training targets (1 - epsilon) x one-hot + epsilon / classes; drawn uniformly unless log is true; absent means none.'),
 }).superRefine(residualWithoutRegularisers);
 
 /**
  * The engine's residual step updates each layer during the backward pass and has no pass after it,
- * where decoupled weight decay and gradient-norm clipping act: so the two are refused together
+ * where decoupled weight decay and gradient-norm clipping act, and computes the plain loss without
+ * label smoothing: so these are refused together
  * rather than silently left out.
  */
-function residualWithoutRegularisers(space: { block?: readonly string[] | undefined; weightDecay?: unknown; maxGradientNorm?: unknown }, ctx: z.RefinementCtx): void {
+function residualWithoutRegularisers(space: { block?: readonly string[] | undefined; weightDecay?: unknown; maxGradientNorm?: unknown; labelSmoothing?: unknown }, ctx: z.RefinementCtx): void {
   if (!space.block?.includes('residual')) return;
-  for (const key of ['weightDecay', 'maxGradientNorm'] as const) {
+  for (const key of ['weightDecay', 'maxGradientNorm', 'labelSmoothing'] as const) {
     if (space[key] !== undefined) ctx.addIssue({ code: 'custom', path: [key], message: `cannot be searched together with block "residual" yet (residual blocks train without it); drop ${key} or the residual block` });
   }
 }
@@ -172,6 +188,7 @@ export const listedConfigurationSchema = z.strictObject({
   minFactor: z.number().min(0).lt(1).optional(),
   weightDecay: z.number().positive().lt(1).optional().describe('Required when the space has weightDecay, refused otherwise.'),
   maxGradientNorm: z.number().positive().optional().describe('Required when the space has maxGradientNorm, refused otherwise.'),
+  labelSmoothing: z.number().min(0).max(0.5).optional().describe('Required when the space has labelSmoothing, refused otherwise.'),
   shape: z.enum(SHAPES).optional().describe('Required when the space has a shape, left out otherwise.'),
   block: z.enum(BLOCKS).optional().describe('Required when the space has a block, left out otherwise.'),
   numericInputs: z.enum(NUMERIC_INPUTS).optional().describe('Required when the space has numericInputs, one of its choices.'),

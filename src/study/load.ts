@@ -131,6 +131,9 @@ function crossFieldProblems(definition: StudyDefinition): [string, string][] {
   if (data.task === 'regression' && data.classWeights !== undefined && data.classWeights !== 'none') {
     problems.push(['data.classWeights', `is for classification; a regression task takes "none" or no classWeights`]);
   }
+  if (definition.space.labelSmoothing && data.task === 'regression') {
+    problems.push(['space.labelSmoothing', `is for classification; a regression task has no labels to smooth, leave it out`]);
+  }
   if (definition.decisionThreshold && data.task !== 'binary') {
     problems.push(['decisionThreshold', `is for binary tasks; this study's task is ${data.task}`]);
   }

@@ -99,4 +99,8 @@ export const REGULARISER_WORD = {
   weightDecayStep: 30,
   /** float32: the largest gradient norm. */
   maxGradientNorm: 29,
+  /** float32: label smoothing's 1 - epsilon (0: off). */
+  smoothingKeep: 28,
+  /** float32: label smoothing's epsilon / classes. */
+  smoothingShare: 27,
 } as const;

@@ -84,7 +84,7 @@ export class EngineTrial {
     reserve(memory.end());
     new Uint8Array(engine().memory.buffer, data.end, memory.end() - data.end).fill(0);
     writeDescriptor(net, spec, layers, { ...buffers, ...residual, trainX: data.trainX, trainY: data.trainY, scratch, classWeights });
-    writeRegularisers(net, configuration);
+    writeRegularisers(net, configuration, dataset);
 
     const trial = new EngineTrial(spec, data, net, layers, capacityRows, outputsAt);
     layers.forEach((layer, l) => {

@@ -8,8 +8,8 @@ import { checkpointBytes, restoreCheckpoint } from './checkpoint.js';
 import { datasetTensors, type DatasetTensors } from './data-cache.js';
 import { completeJob, lastEpochOf, runEpochs } from '../shared/epochs.js';
 import { ADAM, MOMENTUM } from '../shared/optimizer-constants.js';
-import { updatesAfterBackward } from '../shared/regularisers.js';
-import { regularisedStep } from './regularisers.js';
+import { smoothedTargets, updatesAfterBackward } from '../shared/regularisers.js';
+import { regularisedStep, smoothLabels } from './regularisers.js';
 import { createNetwork, disposeNetwork, forward, l2Penalty, lossFromLogits, networkSpec, outputFromLogits, type Network } from './network.js';
 
 export { ADAM, MOMENTUM } from '../shared/optimizer-constants.js';
@@ -44,7 +44,8 @@ const seconds = (since: number): number => (performance.now() - since) / 1000;
 /**
  * One epoch over the training rows in the order `permutation(rows, stream(seed, 'shuffle', epoch))`.
  * Returns the training loss: the mean over the epoch's batches of each batch's data loss (the L2
- * penalty is part of the minimised objective but not of the reported loss; every batch weighs
+ * penalty is part of the minimised objective but not of the reported loss; with label smoothing the
+ * loss is against the smoothed targets, as minimised; every batch weighs
  * the same, including a shorter last one).
  *
  * Speed: the epoch's rows are gathered into shuffled order once, each batch is a contiguous
@@ -56,6 +57,7 @@ function trainEpoch(request: TrainRequest, network: Network, optimizer: tf.Optim
   const { configuration, seed, dataset } = request;
   const rows = dataset.train.rows;
   const order = permutation(rows, stream(seed, 'shuffle', epoch));
+  const smoothing = smoothedTargets(configuration, dataset.task, dataset.outputCount);
   const { x: shuffledX, y: shuffledY, weights: shuffledWeights } = tf.tidy(() => {
     const index = tf.tensor1d(order, 'int32');
     return { x: tf.gather(data.trainX, index), y: tf.gather(data.trainY, index), weights: data.trainWeights && tf.gather(data.trainWeights, index) };
@@ -74,7 +76,7 @@ function trainEpoch(request: TrainRequest, network: Network, optimizer: tf.Optim
         const dropout = configuration.dropout > 0 ? { rate: configuration.dropout, rng: stream(seed, 'dropout', epoch, batch) } : undefined;
         let batchLoss: tf.Scalar | undefined;
         const objective = (): tf.Scalar => {
-          const dataLoss = lossFromLogits(dataset.task, forward(network, x, dropout), y, weights);
+          const dataLoss = lossFromLogits(dataset.task, forward(network, x, dropout), smoothing ? smoothLabels(y, smoothing) : y, weights);
           // A copy is kept: minimize() disposes the tensor f returns.
           batchLoss = tf.keep(tf.clone(dataLoss));
           return configuration.l2 > 0 ? tf.add(dataLoss, l2Penalty(network, configuration.l2)) : dataLoss;

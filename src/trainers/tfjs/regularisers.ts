@@ -26,6 +26,11 @@ export function clipByNorm(gradients: tf.NamedTensorMap, limit: number): tf.Name
   return Object.fromEntries(names.map((name) => [name, tf.mul(gradients[name]!, factor)]));
 }
 
+/** Labels with label smoothing's targets: keep x label + share (one-hot rows for multiclass, 0/1 for binary). */
+export function smoothLabels(labels: tf.Tensor2D, targets: { keep: number; share: number }): tf.Tensor2D {
+  return tf.add(tf.mul(labels, tf.scalar(targets.keep)), tf.scalar(targets.share));
+}
+
 /** One optimizer step on `objective` with the configuration's weight decay and clipping. */
 export function regularisedStep(optimizer: tf.Optimizer, objective: () => tf.Scalar, network: Network, configuration: TrialConfiguration): void {
   const { grads } = optimizer.computeGradients(objective, network.variables);

@@ -45,6 +45,7 @@ export const configurationSchema = z.strictObject({
   block: z.enum(BLOCKS).optional(),
   numericInputs: z.enum(NUMERIC_INPUTS).optional(),
   poolCategoriesBelow: count.optional(),
+  labelSmoothing: z.number().min(0).lt(1).optional(),
 });
 
 /** Compiles only while the schema and `TrialConfiguration` have the same fields (a strict schema would refuse a new one). */
