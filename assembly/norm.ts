@@ -1,5 +1,5 @@
 // Layer normalisation over each row's features, forward and backward.
-// Source: Ba, Kiros, Hinton, "Layer Normalization", 2016, eq. 4; the variance without Bessel's
+// Source: Ba, Kiros, Hinton, "Layer Normalization", 2016, section 3 (from memory); the variance without Bessel's
 // correction; epsilon as NORM_EPSILON in src/trainers/shared/layer-plan.ts.
 
 const EPSILON: f32 = 1e-5;

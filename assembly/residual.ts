@@ -1,5 +1,5 @@
 // Residual blocks with layer normalisation (Gorishniy et al., "Revisiting Deep Learning Models for
-// Tabular Data", NeurIPS 2021, section 3.2): layer 0 maps the inputs to the residual stream; block b
+// Tabular Data", NeurIPS 2021, section 3.2, from memory): layer 0 maps the inputs to the residual stream; block b
 // is layers 1 + 2b (reads the normalised stream, activation, dropout) and 2 + 2b (dropout, added to
 // the stream); the output layer reads the activation of the normalised stream. The plain stack's
 // step (index.ts) is untouched; this is its counterpart for residual networks.

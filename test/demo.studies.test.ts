@@ -19,6 +19,7 @@ const DEMO_FILES = [
   'studies/demo/study-early-stopping.json',
   'studies/demo/study-folds.json',
   'studies/demo/study-regularisers.json',
+  'studies/demo/study-shapes.json',
 ];
 const TINY_FILES = [
   'studies/tiny/study.json',
@@ -66,8 +67,8 @@ describe('committed study definitions', () => {
 describe('the demo studies', () => {
   it('search the same space with the AUC objective (the costs demo by its cost)', () => {
     const [random, ...others] = DEMO_FILES.map(load);
-    // The early-stopping and regularisers demos search schedules (and regularisers) as well; the rest of their space is everyone's.
-    const shared = (space: StudyDefinition['space']) => ({ ...space, schedule: undefined, weightDecay: undefined, maxGradientNorm: undefined, labelSmoothing: undefined });
+    // The early-stopping, regularisers and shapes demos search schedules, regularisers, shapes and blocks as well; the rest of their space is everyone's.
+    const shared = (space: StudyDefinition['space']) => ({ ...space, schedule: undefined, weightDecay: undefined, maxGradientNorm: undefined, labelSmoothing: undefined, shape: undefined, block: undefined });
     for (const definition of others) expect(shared(definition!.space)).toEqual(shared(random!.space));
     for (const definition of [random, ...others]) expect(definition!.goal?.metric).toBe(definition!.data.costs ? 'cost' : 'auc');
     expect(others.filter((definition) => definition!.data.costs).map((definition) => definition!.name)).toEqual(['demo-costs']);
@@ -99,6 +100,15 @@ describe('the demo studies', () => {
     expect(early.data).toEqual(halving.data);
     expect(early.space.schedule?.kind).toEqual(['constant', 'step', 'cosine']);
     expect(early.earlyStopping).toMatchObject({ rule: 'patience', patience: 3 });
+  });
+
+  it('search the random-search demo with shapes and residual blocks in the shapes demo', () => {
+    const random = load('studies/demo/study.json');
+    const shapes = load('studies/demo/study-shapes.json');
+    expect(shapes.space).toEqual({ ...random.space, shape: ['constant', 'funnel'], block: ['plain', 'residual'] });
+    expect(shapes.data).toEqual(random.data);
+    expect(shapes.sampler).toEqual(random.sampler);
+    expect(shapes.budget).toEqual(random.budget);
   });
 
   it('score the random-search demo on 5 folds in the folds demo', () => {

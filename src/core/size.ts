@@ -21,7 +21,7 @@ export function hiddenWidths(configuration: Pick<TrialConfiguration, 'depth' | '
 
 /**
  * The dense layers' fan-in and fan-out, input side first, output layer last. Plain: one layer per
- * hidden width. Residual (Gorishniy et al. 2021, section 3.2): a first layer from the inputs to
+ * hidden width. Residual (Gorishniy et al. 2021, section 3.2, from memory): a first layer from the inputs to
  * `width`, then per block two layers, `width` to the block's hidden width and back to `width`.
  */
 export function denseShapes(configuration: Pick<TrialConfiguration, 'depth' | 'width' | 'shape' | 'block'>, inputs: number, outputs: number): { fanIn: number; fanOut: number }[] {

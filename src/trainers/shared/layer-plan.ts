@@ -8,7 +8,7 @@ import type { Activation, TrialConfiguration } from '../../core/configuration.js
 import { denseShapes } from '../../core/size.js';
 import { initRuleFor, layerPrefix, type InitRule } from './initial-weights.js';
 
-/** Layer normalisation's epsilon (added to the variance). Source: Ba, Kiros, Hinton, "Layer Normalization", 2016, eq. 4 (epsilon is not fixed there; 1e-5 is the ONNX LayerNormalization default). */
+/** Layer normalisation's epsilon (added to the variance). Common practice (no source): the paper (Ba, Kiros, Hinton, "Layer Normalization", 2016) fixes none; 1e-5 is the ONNX LayerNormalization default (from memory; onnxruntime-node runs the exported graph with the value written). */
 export const NORM_EPSILON = 1e-5;
 
 export interface DenseLayerPlan {
@@ -34,7 +34,7 @@ export type NetworkShape = Pick<TrialConfiguration, 'depth' | 'width' | 'shape' 
 /**
  * Plain: `depth` layers each followed by the activation and dropout, then the output layer.
  * Residual (Gorishniy et al., "Revisiting Deep Learning Models for Tabular Data", NeurIPS 2021,
- * section 3.2): a first layer to `width`; per block, norm, dense, activation, dropout, dense,
+ * section 3.2, from memory): a first layer to `width`; per block, norm, dense, activation, dropout, dense,
  * dropout, added to the block's input; then norm, activation and the output layer.
  */
 export function layerPlan(trialId: number, network: NetworkShape, inputs: number, outputs: number): DenseLayerPlan[] {

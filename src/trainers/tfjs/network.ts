@@ -65,7 +65,7 @@ export function createNetwork(spec: NetworkSpec): Network {
 
 /**
  * Layer normalisation over each row's features: (x - mean) / sqrt(variance + epsilon) x gain + bias,
- * the variance without Bessel's correction. Source: Ba, Kiros, Hinton, "Layer Normalization", 2016, eq. 4.
+ * the variance without Bessel's correction. Source: Ba, Kiros, Hinton, "Layer Normalization", 2016, section 3 (from memory; checked against tf.layers.layerNormalization).
  */
 export function layerNorm(x: tf.Tensor2D, gain: tf.Tensor, bias: tf.Tensor): tf.Tensor2D {
   return tf.tidy(() => {
