@@ -63,6 +63,7 @@ export function parameterAxes(study: StudyDocument): ParameterAxis[] {
     { key: 'activation', title: 'activation', shortTitle: 'activation', kind: 'nominal', categories: [...space.activation] },
     { key: 'optimizer', title: 'optimizer', shortTitle: 'optimizer', kind: 'nominal', categories: [...space.optimizer] },
     ...scheduleAxes(study),
+    ...(space.classWeights ? [{ key: 'classWeights', title: 'class weighting of the training loss', shortTitle: 'class weights', kind: 'nominal', categories: [...space.classWeights] } satisfies ParameterAxis] : []),
   ];
 }
 

@@ -1,4 +1,4 @@
-import type { Goal } from '../core/configuration.js';
+import type { Goal, TrialConfiguration } from '../core/configuration.js';
 import { isFinished, type RankedTrial } from '../core/ranking.js';
 import { flagsText } from '../core/health.js';
 import { scheduleInWords } from '../core/schedule.js';
@@ -15,13 +15,14 @@ export function rankingTable(ranking: readonly RankedTrial[], goal: Goal): strin
   // Columns for schedules and early stopping only when a trial has them, so other rankings read as before.
   const schedules = ranking.some(({ trial }) => trial.configuration.schedule !== undefined);
   const stopping = ranking.some(({ trial }) => trial.bestEpoch !== undefined);
+  const weightings = ranking.some(({ trial }) => trial.configuration.classWeights !== undefined);
   const flagged = ranking.some(({ trial }) => (trial.flags?.length ?? 0) > 0);
   // Classification: accuracy and macro-F1 side by side (besides the goal's metric), to see what class weights trade.
   const scoredPoint = (trial: RankedTrial['trial']) => (trial.bestEpoch !== undefined ? trial.curve.find((p) => p.epoch === trial.bestEpoch) : trial.curve.at(-1));
   const sideBySide = (['accuracy', 'macroF1'] as const).filter((name) => name !== goal.metric && ranking.some(({ trial }) => scoredPoint(trial)?.metrics[name] !== undefined));
   // The cost goal is per row; a column per 1,000 rows reads as an amount a user can weigh.
   const perThousand = goal.metric === 'cost';
-  const header = ['rank', 'trial', 'rung', 'epochs', ...(stopping ? ['best epoch'] : []), folds ? `${goal.metric} (fold mean ± SE)` : goal.metric, ...(perThousand ? ['cost per 1,000 rows'] : []), ...sideBySide, 'depth', 'width', 'activation', 'learning rate', ...(schedules ? ['schedule'] : []), 'batch', 'optimizer', 'l2', 'dropout', ...(flagged ? ['flags'] : [])];
+  const header = ['rank', 'trial', 'rung', 'epochs', ...(stopping ? ['best epoch'] : []), folds ? `${goal.metric} (fold mean ± SE)` : goal.metric, ...(perThousand ? ['cost per 1,000 rows'] : []), ...sideBySide, 'depth', 'width', 'activation', 'learning rate', ...(schedules ? ['schedule'] : []), 'batch', 'optimizer', 'l2', 'dropout', ...(weightings ? ['class weights'] : []), ...(flagged ? ['flags'] : [])];
   const rows = ranking.map(({ rank, trial }) => [
     String(rank),
     String(trial.id),
@@ -40,9 +41,17 @@ export function rankingTable(ranking: readonly RankedTrial[], goal: Goal): strin
     trial.configuration.optimizer,
     formatNumber(trial.configuration.l2),
     formatNumber(trial.configuration.dropout),
+    ...(weightings ? [classWeightingText(trial.configuration)] : []),
     ...(flagged ? [flagsText(trial.flags) || '-'] : []),
   ]);
   return textTable(header, rows);
+}
+
+/** A trial's class weighting in a few words: the weighting, with its beta for `effective`. */
+export function classWeightingText(configuration: TrialConfiguration): string {
+  const { classWeights, effectiveBeta } = configuration;
+  if (classWeights === undefined) return '-';
+  return classWeights === 'effective' ? `effective (beta ${formatNumber(effectiveBeta)})` : classWeights;
 }
 
 /** The ranking as plain data for `--json`. */

@@ -9,7 +9,8 @@
  */
 import { drawsOnLogScale, type SearchSpace } from './schema.js';
 import type { TrialConfiguration } from '../core/configuration.js';
-import { choose, drawInteger, logUniform, uniform, type ScheduleSetting } from './sample.js';
+import { choose, classWeightingAt, drawInteger, logUniform, uniform, type ScheduleSetting } from './sample.js';
+import type { ClassWeighting } from '../core/class-weighting.js';
 
 export interface NumericDimension {
   kind: 'numeric';
@@ -109,6 +110,7 @@ export function spaceDimensions(space: SearchSpace): Dimension[] {
     dimensions.push(numeric('warmupEpochs', schedule.warmupEpochs, true));
     if (schedule.kind.includes('cosine')) dimensions.push(numeric('minFactor', schedule.minFactor, false));
   }
+  if (space.classWeights) dimensions.push({ kind: 'categorical', name: 'classWeights', choices: space.classWeights });
   return dimensions;
 }
 
@@ -125,6 +127,7 @@ export function configurationAt(space: SearchSpace, point: readonly number[]): T
     l2: space.l2 ? (values['l2'] as number) : 0,
     dropout: space.dropout ? (values['dropout'] as number) : 0,
     ...(space.schedule ? scheduleValues(values) : {}),
+    ...(space.classWeights ? classWeightingAt(space, values['classWeights'] as ClassWeighting) : {}),
   };
 }
 

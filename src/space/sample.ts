@@ -1,6 +1,7 @@
 import { drawsOnLogScale, type SearchSpace } from './schema.js';
 import type { TrialConfiguration } from '../core/configuration.js';
 import { stream, type Rng } from '../random/streams.js';
+import { DEFAULT_EFFECTIVE_BETA, type ClassWeighting } from '../core/class-weighting.js';
 
 /**
  * Draw one configuration from the search space.
@@ -28,10 +29,19 @@ export function sampleConfiguration(space: SearchSpace, rng: Rng): TrialConfigur
     l2: space.l2 ? drawReal(space.l2, true, l2Draw) : 0,
     dropout: space.dropout ? drawReal(space.dropout, false, dropoutDraw) : 0,
   };
-  if (!space.schedule) return configuration;
-  // Drawn after every other field, five draws always, so a space without a schedule draws as before.
-  const draws = [rng(), rng(), rng(), rng(), rng()] as const;
-  return { ...configuration, ...scheduleAt(space.schedule, draws) };
+  if (space.schedule) {
+    // Drawn after every other field, five draws always, so a space without a schedule draws as before.
+    const draws = [rng(), rng(), rng(), rng(), rng()] as const;
+    Object.assign(configuration, scheduleAt(space.schedule, draws));
+  }
+  // One draw after the schedule's, only when the space has class weightings: other spaces draw as before.
+  if (space.classWeights) Object.assign(configuration, classWeightingAt(space, choose(space.classWeights, rng())));
+  return configuration;
+}
+
+/** The class-weighting fields of a configuration for the chosen weighting: `classWeights`, and `effectiveBeta` for `effective`. */
+export function classWeightingAt(space: SearchSpace, weighting: ClassWeighting): Partial<TrialConfiguration> {
+  return weighting === 'effective' ? { classWeights: weighting, effectiveBeta: space.effectiveBeta ?? DEFAULT_EFFECTIVE_BETA } : { classWeights: weighting };
 }
 
 /** A schedule setting as the space gives it: one value, or a range. */

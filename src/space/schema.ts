@@ -1,6 +1,7 @@
 /** The search space as the study file states it: ranges and choices for each part of a configuration. */
 import { z } from 'zod';
 import { ACTIVATIONS, OPTIMIZERS, SCHEDULES } from '../core/configuration.js';
+import { CLASS_WEIGHTINGS } from '../core/class-weighting.js';
 
 /** A range whose min exceeds its max names both values. */
 function minNotAboveMax(range: { min: number; max: number }, ctx: z.RefinementCtx): void {
@@ -95,6 +96,19 @@ export const spaceSchema = z.strictObject({
   l2: positiveLogRange.optional().describe('L2 weight penalty; drawn on a log scale unless log is false; absent means none.'),
   dropout: fractionRange.optional().describe('Dropout rate after each hidden layer; drawn uniformly unless log is true (then min must be above 0); absent means none.'),
   schedule: scheduleSchema.optional(),
+  classWeights: z
+    .array(z.enum(CLASS_WEIGHTINGS))
+    .min(1)
+    .optional()
+    .describe(
+      'Classification only: class weightings of the training loss to choose from, so the goal picks one: "none" (every row the same), "balanced" (n / (classes x rows of the class)), "effective" (1 / effective number of samples, (1 - beta) / (1 - beta^rows of the class): Cui et al. 2019), each from the training rows and scaled to a mean row weight of 1. Absent: data.classWeights for every trial. Not together with data.classWeights.',
+    ),
+  effectiveBeta: z
+    .number()
+    .gt(0)
+    .lt(1)
+    .optional()
+    .describe('The beta of the "effective" class weighting, in (0, 1): near 1 it approaches "balanced", smaller values soften it; default 0.999.'),
 });
 
 
@@ -117,6 +131,8 @@ export const listedConfigurationSchema = z.strictObject({
   gamma: z.number().gt(0).max(1).optional(),
   stepEpochs: z.int().min(1).optional(),
   minFactor: z.number().min(0).lt(1).optional(),
+  classWeights: z.enum(CLASS_WEIGHTINGS).optional().describe('Required when the space has classWeights (one of its weightings); then effectiveBeta too when it is "effective".'),
+  effectiveBeta: z.number().gt(0).lt(1).optional(),
 });
 
 /** The fields a listed configuration must give for this space's schedule, and those it must leave out. */
@@ -131,4 +147,16 @@ export function listedScheduleProblem(entry: z.output<typeof listedConfiguration
   if (missing.length > 0) return `lacks ${missing.join(', ')}, which this space's schedule draws; give them`;
   const extra = given.filter((key) => !needed.includes(key));
   return extra.length > 0 ? `gives ${extra.join(', ')}, which this space's schedule kinds do not use; leave them out` : undefined;
+}
+
+/** The class-weighting fields a listed configuration must give for this space, and those it must leave out. */
+export function listedClassWeightProblem(entry: z.output<typeof listedConfigurationSchema>, space: SearchSpace): string | undefined {
+  if (!space.classWeights) {
+    const given = (['classWeights', 'effectiveBeta'] as const).filter((key) => entry[key] !== undefined);
+    return given.length > 0 ? `gives ${given.join(', ')} but the space has no classWeights; leave them out` : undefined;
+  }
+  if (entry.classWeights === undefined) return `lacks classWeights, which this space draws; give one of ${space.classWeights.join(', ')}`;
+  if (entry.classWeights === 'effective' && entry.effectiveBeta === undefined) return 'lacks effectiveBeta, which the "effective" weighting needs';
+  if (entry.classWeights !== 'effective' && entry.effectiveBeta !== undefined) return `gives effectiveBeta, which the "${entry.classWeights}" weighting does not use; leave it out`;
+  return undefined;
 }

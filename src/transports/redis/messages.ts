@@ -7,6 +7,7 @@
 import { z } from 'zod';
 import { ACTIVATIONS, METRICS, OPTIMIZERS, SCHEDULES, TASKS, type TrialConfiguration } from '../../core/configuration.js';
 import { earlyStoppingSchema } from '../../core/fields.js';
+import { CLASS_WEIGHTINGS } from '../../core/class-weighting.js';
 
 const count = z.int().min(0);
 const positiveCount = z.int().min(1);
@@ -39,6 +40,8 @@ export const configurationSchema = z.strictObject({
   gamma: z.number().gt(0).max(1).optional(),
   stepEpochs: positiveCount.optional(),
   minFactor: z.number().min(0).lt(1).optional(),
+  classWeights: z.enum(CLASS_WEIGHTINGS).optional(),
+  effectiveBeta: z.number().gt(0).lt(1).optional(),
 });
 
 /** Compiles only while the schema and `TrialConfiguration` have the same fields (a strict schema would refuse a new one). */
