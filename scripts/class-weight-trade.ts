@@ -55,7 +55,8 @@ async function measure(name: string, base: StudyDefinitionInput, folder: string,
     await run({ definition, baseDir: folder, out, workers, force: true });
     const summary = await exportModel({ dir: out });
     const test = summary.studyTest ?? summary.test;
-    const chosen = (summary as { configuration?: { classWeights?: string } }).configuration?.classWeights ?? '';
+    const exported = JSON.parse(await readFile(path.join(summary.out, 'configuration.json'), 'utf8')) as { configuration: { classWeights?: string } };
+    const chosen = exported.configuration.classWeights ?? '';
     console.log(`${weightings.join(', ')} | trial ${summary.trialId} ${chosen} | ${test?.accuracy?.toFixed(3)} | ${test?.macroF1?.toFixed(3)} | ${summary.validation.macroF1?.toFixed(3)}`);
   }
 }
