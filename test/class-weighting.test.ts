@@ -6,7 +6,7 @@
  */
 import { readFile } from 'node:fs/promises';
 import path from 'node:path';
-import { describe, expect, it } from 'vitest';
+import { afterAll, describe, expect, it } from 'vitest';
 import { balancedWeights, classCounts, effectiveNumberWeights, weightsForCounts } from '../src/core/class-weighting.js';
 import { trainingClassWeights } from '../src/data/class-weights.js';
 import { configurationForTrial } from '../src/space/sample.js';
@@ -20,6 +20,9 @@ import { runStudy } from '../src/runner/run-study.js';
 import { rankingTable } from '../src/report/ranking-table.js';
 import { syntheticDataset, trainRequest } from './helpers/synthetic.js';
 import { tinyStudy, writeTinyStudy } from './helpers/studies.js';
+import { queuedStudy } from '../src/transports/redis/study.js';
+import { spawnWorker, startRedis, stopStarted } from './helpers/redis-server.js';
+import { studyOutcome } from './helpers/study-outcome.js';
 
 describe('the effective number of samples (Cui et al. 2019)', () => {
   it('E_1 = 1 and E_n = (1 - beta^n) / (1 - beta): the weight of a class is 1 / E_n', () => {
@@ -153,4 +156,26 @@ describe('a study that searches the class weighting', () => {
     const table = rankingTable(outcome.ranking, { metric: 'macroF1', better: 'higher' });
     expect(table.split('\n')[0]).toMatch(/macroF1 .*accuracy.*class weights/);
   });
+});
+
+describe('a searched class weighting on remote workers', () => {
+  afterAll(stopStarted);
+
+  it('gives the trials of local threads, with 3 folds (each fold weighs its own training rows)', async () => {
+    const redis = await startRedis();
+    const worker = spawnWorker(redis.url, ['--threads', '1']);
+    await worker.printed(/taking jobs from/);
+    const base = tinyStudy();
+    const definition = tinyStudy({ name: 'weights-remote', data: { ...base.data, folds: 3 }, space: { ...base.space, classWeights: ['none', 'balanced', 'effective'], effectiveBeta: 0.9 }, budget: { trials: 6, maxEpochs: 2 }, goal: { metric: 'macroF1' }, workers: 2 });
+    const file = await writeTinyStudy(definition);
+    const local = path.join(path.dirname(file), 'local');
+    await runStudy(file, { out: local, workers: 2 });
+    const remote = path.join(path.dirname(file), 'remote');
+    const remoteRun = await runStudy(file, { out: remote, transport: queuedStudy({ url: redis.url, studyName: definition.name, runDir: remote, fresh: true }).transport });
+    const expected = await studyOutcome(local);
+    expect(expected.state).toBe('finished');
+    expect(await studyOutcome(remote)).toEqual(expected);
+    expect(new Set(remoteRun.doc.trials.map((t) => t.configuration.classWeights)).size).toBeGreaterThan(1);
+    expect(remoteRun.doc.trials.flatMap((t) => t.jobs.map((j) => j.ranOn)).every((p) => p?.includes('/'))).toBe(true);
+  }, 180_000);
 });
