@@ -55,7 +55,7 @@ export async function studyBase(name: string, dir: string): Promise<StudyDefinit
 export async function budgetGroup(options: BenchOptions): Promise<GroupResult> {
   const configurations = options.quick ? 9 : 27;
   const maxEpochs = 9;
-  const workers = availableParallelism();
+  const threads = availableParallelism();
   const runs: BudgetRun[] = [];
   const notes: string[] = [];
   for (const name of ['demo', 'penguins']) {
@@ -73,7 +73,7 @@ export async function budgetGroup(options: BenchOptions): Promise<GroupResult> {
         budget: { trials, maxEpochs },
         sampler: kind === 'random' ? { kind, seed: 5 } : { kind, seed: 5, eta: 3, minEpochs: 1 },
         goal: { metric: 'accuracy', better: 'higher' },
-        workers,
+        threads,
       });
       // One whole pass of Hyperband's brackets (budget.trials now cuts or repeats them).
       const hyperbandCount = configurationsPerPass(maxEpochs, 3, 1);
@@ -81,7 +81,7 @@ export async function budgetGroup(options: BenchOptions): Promise<GroupResult> {
       for (const [kind, trials] of [['random', randomCount], ['successive-halving', configurations], ['hyperband', hyperbandCount]] as const) {
         const file = await writeDefinition(dir, definitionFor(kind, trials), `${kind}.json`);
         const started = performance.now();
-        const outcome = await runStudy(file, { out: path.join(dir, `run-${kind}`), workers });
+        const outcome = await runStudy(file, { out: path.join(dir, `run-${kind}`), threads });
         const trained = fullyTrained(outcome.doc.trials, maxEpochs);
         const run: BudgetRun = {
           dataset: name,
@@ -123,7 +123,7 @@ export async function budgetGroup(options: BenchOptions): Promise<GroupResult> {
     title: '7. Budget efficiency with real training (objective: validation accuracy)',
     tables: [
       {
-        title: `maxEpochs ${maxEpochs}, eta 3, minEpochs 1, sampler seed 5, ${workers} workers`,
+        title: `maxEpochs ${maxEpochs}, eta 3, minEpochs 1, sampler seed 5, ${threads} threads`,
         columns: ['data', 'sampler', 'configurations', 'epochs trained', 'best accuracy (trained to maxEpochs)', 'random: best of same first configurations', 'wall (s)'],
         rows: runs.map((r) => [
           r.dataset,

@@ -33,7 +33,7 @@ export async function earlyStoppingGroup(options: BenchOptions): Promise<GroupRe
   const base: StudyDefinitionInput = {
     ...halving,
     data: { ...halving.data, csv: path.resolve(path.dirname(source), halving.data.csv) },
-    workers: availableParallelism(),
+    threads: availableParallelism(),
     ...(options.quick ? { budget: { trials: 9, maxEpochs: 9 } } : {}),
   };
   delete (base as { $schema?: string }).$schema;
@@ -73,7 +73,7 @@ export async function earlyStoppingGroup(options: BenchOptions): Promise<GroupRe
     title: `Early stopping inside a trial: successive halving on the demo data (${metric}, validation split)`,
     tables: [
       {
-        title: `studies/demo/study-halving.json${options.quick ? ' (quick: 9 trials, maxEpochs 9)' : ''}, ${availableParallelism()} workers`,
+        title: `studies/demo/study-halving.json${options.quick ? ' (quick: 9 trials, maxEpochs 9)' : ''}, ${availableParallelism()} threads`,
         columns: ['variant', 'trials', 'epochs trained', 'stopped early', `leader (rank 1): trial, ${metric}, epochs (best epoch)`, `best ${metric} of any ranked trial`, 'wall (s)'],
         rows: runs.map((r) => [
           r.variant,

@@ -1,16 +1,16 @@
 /**
- * The engine's kernel and step figures (bench/engine-worker.ts runs them in a fresh thread):
+ * The engine's kernel and step figures (bench/engine-thread.ts runs them in a fresh thread):
  * matrix-product GFLOP/s beside tfjs-wasm's matMul, the whole step as a share of the kernel rate,
  * and what the validation pass costs per epoch.
  */
 import { Worker } from 'node:worker_threads';
-import type { EngineSample } from './engine-worker.js';
+import type { EngineSample } from './engine-thread.js';
 import type { BenchOptions } from './index.js';
 import { fmt, type GroupResult } from './report.js';
 
 function measure(quick: boolean): Promise<EngineSample> {
   return new Promise((resolve, reject) => {
-    const worker = new Worker(new URL('./engine-worker.js', import.meta.url), { workerData: { quick } });
+    const worker = new Worker(new URL('./engine-thread.js', import.meta.url), { workerData: { quick } });
     worker.once('message', (sample: EngineSample) => {
       resolve(sample);
       void worker.terminate();

@@ -9,7 +9,7 @@ import { TrialPool } from '../src/transports/threads/pool.js';
 import { configurationForTrial } from '../src/space/sample.js';
 import { studySchema } from '../src/study/definition.js';
 import type { BenchOptions } from './index.js';
-import type { MemoryReading, ProbedResult } from './fixtures/memory-probe-worker.js';
+import type { MemoryReading, ProbedResult } from './fixtures/memory-probe-thread.js';
 import { fmt, slope, type GroupResult } from './report.js';
 import { tempDir } from './studies.js';
 import { benchDataset, sharedDataset } from './synthetic.js';
@@ -52,7 +52,7 @@ export async function measureMemory(options: BenchOptions): Promise<GroupResult>
     budget: { trials, maxEpochs: 2 },
   }).space;
   const dir = await tempDir('memory');
-  const pool = new TrialPool({ workers: 1, workerFile: new URL('./fixtures/memory-probe-worker.js', import.meta.url).pathname });
+  const pool = new TrialPool({ threads: 1, threadFile: new URL('./fixtures/memory-probe-thread.js', import.meta.url).pathname });
   const readings: MemoryReading[] = [];
   let leakedTrials = 0;
   try {

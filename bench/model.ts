@@ -102,7 +102,7 @@ interface Progress {
   final: number;
 }
 
-async function runProgress(dir: string, name: string, definition: StudyDefinitionInput, workers: number): Promise<Progress> {
+async function runProgress(dir: string, name: string, definition: StudyDefinitionInput, threads: number): Promise<Progress> {
   const file = await writeDefinition(dir, definition, `${name}.json`);
   const sign = definition.goal?.better === 'lower' ? -1 : 1;
   const maxEpochs = definition.budget.maxEpochs;
@@ -112,7 +112,7 @@ async function runProgress(dir: string, name: string, definition: StudyDefinitio
   let best = -Infinity;
   await runStudy(file, {
     out: path.join(dir, `run-${name}`),
-    workers,
+    threads,
     onEvent: (event) => {
       if (event.type !== 'trial-finished') return;
       epochs += event.job.toEpoch - event.job.fromEpoch;
@@ -128,7 +128,7 @@ async function runProgress(dir: string, name: string, definition: StudyDefinitio
 const neededTo = (progress: Progress, target: number, unit: 'trials' | 'epochs'): number | null => progress.steps.find((step) => step.best >= target - 1e-12)?.[unit] ?? null;
 
 export async function modelGroup(options: BenchOptions): Promise<GroupResult> {
-  const workers = availableParallelism();
+  const threads = availableParallelism();
   const costs = [1, 2, 3, 4, 5].map(proposalCost);
   const tpeCost = median(costs.map((c) => c.tpe));
   const bohbCost = median(costs.map((c) => c.tpeHyperbandModel));
@@ -146,12 +146,12 @@ export async function modelGroup(options: BenchOptions): Promise<GroupResult> {
       const entry = { dataset: dataset.name, trials: [] as number[], epochs: [] as number[] };
       for (const seed of seeds) {
         const base = (sampler: NonNullable<StudyDefinitionInput['sampler']>, budget: StudyDefinitionInput['budget']): StudyDefinitionInput => ({
-          name: `bench-model-${dataset.name}`, data: dataset.data, space: SPACE, budget, sampler, goal: dataset.goal, workers,
+          name: `bench-model-${dataset.name}`, data: dataset.data, space: SPACE, budget, sampler, goal: dataset.goal, threads,
         });
-        const random = await runProgress(dir, `random-${dataset.name}-${seed}`, base({ kind: 'random', seed }, { trials, maxEpochs }), workers);
-        const tpe = await runProgress(dir, `tpe-${dataset.name}-${seed}`, base({ kind: 'tpe', seed, trialsBeforeModel: 6, batchSize: workers }, { trials, maxEpochs }), workers);
-        const hyperband = await runProgress(dir, `hb-${dataset.name}-${seed}`, base({ kind: 'hyperband', seed, eta: 3 }, { trials: 1, maxEpochs: hyperbandEpochs }), workers);
-        const tpeHyperband = await runProgress(dir, `tpehb-${dataset.name}-${seed}`, base({ kind: 'tpe-hyperband', seed, eta: 3 }, { trials: 1, maxEpochs: hyperbandEpochs }), workers);
+        const random = await runProgress(dir, `random-${dataset.name}-${seed}`, base({ kind: 'random', seed }, { trials, maxEpochs }), threads);
+        const tpe = await runProgress(dir, `tpe-${dataset.name}-${seed}`, base({ kind: 'tpe', seed, trialsBeforeModel: 6, batchSize: threads }, { trials, maxEpochs }), threads);
+        const hyperband = await runProgress(dir, `hb-${dataset.name}-${seed}`, base({ kind: 'hyperband', seed, eta: 3 }, { trials: 1, maxEpochs: hyperbandEpochs }), threads);
+        const tpeHyperband = await runProgress(dir, `tpehb-${dataset.name}-${seed}`, base({ kind: 'tpe-hyperband', seed, eta: 3 }, { trials: 1, maxEpochs: hyperbandEpochs }), threads);
         const tpeTrials = neededTo(tpe, random.final, 'trials');
         const hbEpochs = hyperband.steps.at(-1)!.epochs;
         const tpeHbEpochs = neededTo(tpeHyperband, hyperband.final, 'epochs');
@@ -178,7 +178,7 @@ export async function modelGroup(options: BenchOptions): Promise<GroupResult> {
     targets.push({ target: `${entry.dataset}: tpe-hyperband reaches Hyperband's final best in at most half its epochs (median over ${seeds.length} seeds)`, measured: Number.isFinite(e) ? `${fmt(e * 100)}% of the epochs` : 'not reached', holds: e <= 0.5 });
   }
   const table: Table = {
-    title: `random and tpe: ${trials} trials of ${maxEpochs} epochs; hyperband and tpe-hyperband: maxEpochs ${hyperbandEpochs}, eta 3, one pass; ${workers} workers`,
+    title: `random and tpe: ${trials} trials of ${maxEpochs} epochs; hyperband and tpe-hyperband: maxEpochs ${hyperbandEpochs}, eta 3, one pass; ${threads} threads`,
     columns: ['data', 'seed', 'random: final best', 'tpe: final best', 'tpe: trials to reach random\'s best', 'hyperband: final best', 'tpe-hyperband: final best', 'tpe-hyperband: epochs to reach hyperband\'s best'],
     rows,
   };

@@ -33,17 +33,17 @@ async function measureStudy(trials: number): Promise<{ gaps: Gaps; wallSeconds: 
       space: { depth: { min: 1, max: 2 }, width: { min: 4, max: 8 }, activation: ['relu'], learningRate: { min: 0.001, max: 0.1 } },
       budget: { trials, maxEpochs: 1 },
       sampler: { kind: 'random', seed: 1 },
-      workers: 1,
+      threads: 1,
     });
-    const workerFile = new URL('./fixtures/instant-worker.js', import.meta.url).pathname;
+    const threadFile = new URL('./fixtures/instant-worker.js', import.meta.url).pathname;
     // Timestamps by trial id, paired after the run; the worker's marker comes back in each trial's curve.
     const started = new Map<number, number>();
     const finished = new Map<number, number>();
     const studyStarted = now();
     const outcome = await runStudy(definition, {
       out: path.join(dir, 'run'),
-      workers: 1,
-      workerFile,
+      threads: 1,
+      threadFile,
       onEvent: (event) => {
         const at = now();
         if (event.type === 'job-started') started.set(event.job.trialId, at);
@@ -97,7 +97,7 @@ export async function overheadGroup(options: BenchOptions): Promise<GroupResult>
   const largest = sizes.at(-1)!;
   return {
     group: 'overhead',
-    title: '3. Scheduling overhead per trial (workers that train nothing, 1 worker)',
+    title: '3. Scheduling overhead per trial (threads that train nothing, 1 worker)',
     tables: [
       {
         title: 'Milliseconds per trial',

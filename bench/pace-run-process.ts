@@ -1,7 +1,7 @@
 /**
  * Child-process entry of the pace benchmark's end-to-end figure: the whole `runStudy` (data load,
- * worker thread start, training, validation and metrics every epoch, checkpoints, study-file saves)
- * with `--workers N` (default 1) on a study fixed to 3x128, batch 32, Adam, relu, on a seeded CSV of 20 numeric
+ * thread thread start, training, validation and metrics every epoch, checkpoints, study-file saves)
+ * with `--threads N` (default 1) on a study fixed to 3x128, batch 32, Adam, relu, on a seeded CSV of 20 numeric
  * inputs and 3 classes whose training split has 4,096 rows. Posts a `RunMeasurement`.
  */
 import { writeFile } from 'node:fs/promises';
@@ -19,12 +19,12 @@ export interface RunMeasurement {
   trainingWallSeconds: number;
   /** Seconds the worker spent in its jobs (sum of `workerSeconds`). */
   workerSeconds: number;
-  /** Sum of the epochs' own seconds (training epoch, validation pass, metrics) as the worker timed them. */
+  /** Sum of the epochs' own seconds (training epoch, validation pass, metrics) as the thread timed them. */
   epochSeconds: number;
   samplesPerSecond: number;
   /** Samples per second of the process's CPU time over the whole run (every thread, data load included). */
   samplesPerCpuSecond: number;
-  workers: number;
+  threads: number;
   /** Share of the training stretch the coordinating (main) thread was busy: dispatch, saves, checkpoint writes. */
   mainThreadBusy: number;
   /** CPU time of the whole process (every thread) over the training stretch's wall time: the cores actually obtained. */
@@ -50,7 +50,7 @@ async function writeCsv(file: string): Promise<void> {
 const argv = process.argv.slice(2);
 const quick = argv.includes('--quick');
 const option = (name: string, otherwise: number): number => (argv.includes(name) ? Number(argv[argv.indexOf(name) + 1]) : otherwise);
-const workers = option('--workers', 1);
+const threads = option('--threads', 1);
 const dir = await tempDir('pace-run');
 const csv = path.join(dir, 'pace.csv');
 await writeCsv(csv);
@@ -62,7 +62,7 @@ const definition = await writeDefinition(dir, {
   space: { depth: { min: 3, max: 3 }, width: { min: 128, max: 128 }, activation: ['relu'], learningRate: { min: 0.001, max: 0.001 }, batchSize: [32], optimizer: ['adam'] },
   budget: { trials, maxEpochs },
   sampler: { kind: 'random', seed: 1 },
-  workers,
+  threads,
 });
 let firstJob = 0;
 const cpuAtStart = process.cpuUsage();
@@ -71,7 +71,7 @@ let cpuFrom: NodeJS.CpuUsage | undefined;
 const started = performance.now();
 const outcome = await runStudy(definition, {
   out: path.join(dir, 'run'),
-  workers,
+  threads,
   onEvent: (event) => {
     if (event.type === 'job-started' && firstJob === 0) {
       firstJob = performance.now();
@@ -97,7 +97,7 @@ const result: RunMeasurement = {
   epochSeconds: doc.trials.reduce((sum, t) => sum + t.curve.reduce((s, p) => s + p.seconds, 0), 0),
   samplesPerSecond: (trainRows * epochs) / ((ended - started) / 1000),
   samplesPerCpuSecond: (trainRows * epochs) / ((cpuWhole.user + cpuWhole.system) / 1e6),
-  workers,
+  threads,
   mainThreadBusy: busy.utilization,
   coresUsed: (cpu.user + cpu.system) / 1e6 / ((ended - firstJob) / 1000),
 };

@@ -29,8 +29,8 @@ interface PlanRun {
 }
 
 /** Follows a run's events as the progress display does, and keeps its first estimate. */
-function estimateWatcher(workers: number, plannedEpochs: number): { onEvent: (event: StudyEvent) => void; first: () => { estimate: number; at: number } | undefined } {
-  const estimator = new TimeLeftEstimator(workers);
+function estimateWatcher(threads: number, plannedEpochs: number): { onEvent: (event: StudyEvent) => void; first: () => { estimate: number; at: number } | undefined } {
+  const estimator = new TimeLeftEstimator(threads);
   let trained = 0;
   let first: { estimate: number; at: number } | undefined;
   return {
@@ -56,14 +56,14 @@ export async function plansGroup(options: BenchOptions): Promise<GroupResult> {
   const folder = path.resolve('studies/demo'); // npm runs scripts from the package root
   const files = (await readdir(folder)).filter((name) => name.endsWith('.json')).sort();
   const chosen = options.quick ? files.filter((name) => /halving|hyperband/.test(name)).slice(0, 2) : files;
-  const workers = Math.min(2, availableParallelism());
+  const threads = Math.min(2, availableParallelism());
   const runs: PlanRun[] = [];
   const dir = await tempDir('plans');
   for (const name of chosen) {
     const study = await loadStudy(path.join(folder, name));
     const plan = plannedBudget(study.definition);
-    const watcher = estimateWatcher(workers, plan.epochs);
-    const outcome = await runStudy(study, { out: path.join(dir, name), workers, force: true, onEvent: watcher.onEvent });
+    const watcher = estimateWatcher(threads, plan.epochs);
+    const outcome = await runStudy(study, { out: path.join(dir, name), threads, force: true, onEvent: watcher.onEvent });
     const end = performance.now();
     const jobs = outcome.doc.trials.reduce((sum, t) => sum + t.jobs.filter((j) => j.status !== 'training' && j.status !== 'cut-off').length, 0);
     const first = watcher.first();
@@ -86,7 +86,7 @@ export async function plansGroup(options: BenchOptions): Promise<GroupResult> {
     title: 'Plans against runs, and the first time-left estimate against the time really left (demo studies)',
     tables: [
       {
-        title: `${workers} workers`,
+        title: `${threads} threads`,
         columns: ['study', 'sampler', 'jobs run / planned', 'epochs run / planned', 'plan', 'first time-left estimate (s)', 'real time left then (s)'],
         rows: runs.map((r) => [r.study, r.sampler, `${r.ranJobs} / ${r.plannedJobs}`, `${r.ranEpochs} / ${r.plannedEpochs}`, r.limit ? 'limit' : 'exact', r.firstEstimate ?? '-', r.realLeft ?? '-']),
       },

@@ -13,7 +13,7 @@ import { benchDataset, sharedDataset } from './synthetic.js';
 
 type Request = Omit<TrainRequest, 'progressPort'>;
 
-/** Runs requests keeping at most `pool.workers` in flight, as the run loop does (the pool's queue is that short). */
+/** Runs requests keeping at most `pool.threads` in flight, as the run loop does (the pool's queue is that short). */
 export async function runAll(pool: TrialPool, requests: readonly Request[]): Promise<TrainResult[]> {
   const results: TrainResult[] = [];
   let next = 0;
@@ -23,12 +23,12 @@ export async function runAll(pool: TrialPool, requests: readonly Request[]): Pro
       results.push(await pool.run(request, () => undefined));
     }
   };
-  await Promise.all(Array.from({ length: pool.workers }, lane));
+  await Promise.all(Array.from({ length: pool.threads }, lane));
   return results;
 }
 
 interface ScalingRun {
-  workers: number;
+  threads: number;
   startupSeconds: number;
   seconds: number;
   trialsPerSecond: number;
@@ -46,19 +46,19 @@ export async function poolGroup(options: BenchOptions): Promise<GroupResult> {
   const all = availableParallelism();
   const counts = all > 1 ? [1, all] : [1];
   const runs: ScalingRun[] = [];
-  for (const workers of counts) {
+  for (const threads of counts) {
     const started = performance.now();
-    const pool = new TrialPool({ workers });
+    const pool = new TrialPool({ threads });
     try {
       // Warm-up: one one-epoch trial per thread starts every thread, its backend and its data cache.
-      await Promise.all(Array.from({ length: workers }, (_, i) => pool.run({ ...requests[0]!, trialId: 1000 + i, toEpoch: 1 }, () => undefined)));
+      await Promise.all(Array.from({ length: threads }, (_, i) => pool.run({ ...requests[0]!, trialId: 1000 + i, toEpoch: 1 }, () => undefined)));
       const startupSeconds = (performance.now() - started) / 1000;
       const timed = performance.now();
       const cpu = process.cpuUsage();
       await runAll(pool, requests);
       const seconds = (performance.now() - timed) / 1000;
       const used = process.cpuUsage(cpu);
-      runs.push({ workers, startupSeconds, seconds, trialsPerSecond: trials / seconds, coresUsed: (used.user + used.system) / 1e6 / seconds });
+      runs.push({ threads, startupSeconds, seconds, trialsPerSecond: trials / seconds, coresUsed: (used.user + used.system) / 1e6 / seconds });
     } finally {
       await pool.close();
     }
@@ -72,21 +72,21 @@ export async function poolGroup(options: BenchOptions): Promise<GroupResult> {
     tables: [
       {
         title: `${trials} trials of 3x128, batch 32, ${epochs} epochs on ${dataset.train.rows} rows, trained on the engine`,
-        columns: ['workers', 'start-up + warm-up (s)', 'trials (s)', 'trials per second', 'speed-up', 'cores used (CPU time / wall)', 'trials per CPU-second'],
-        rows: runs.map((r) => [r.workers, r.startupSeconds, r.seconds, r.trialsPerSecond, `${fmt(r.trialsPerSecond / one.trialsPerSecond)}x`, r.coresUsed, r.trialsPerSecond / r.coresUsed]),
+        columns: ['threads', 'start-up + warm-up (s)', 'trials (s)', 'trials per second', 'speed-up', 'cores used (CPU time / wall)', 'trials per CPU-second'],
+        rows: runs.map((r) => [r.threads, r.startupSeconds, r.seconds, r.trialsPerSecond, `${fmt(r.trialsPerSecond / one.trialsPerSecond)}x`, r.coresUsed, r.trialsPerSecond / r.coresUsed]),
       },
     ],
     targets: [
       {
-        target: '>= 1.8x with 2 workers',
-        measured: most.workers === 1 ? 'only one core available' : `${fmt(speedup)}x with ${most.workers} workers`,
-        holds: most.workers === 1 ? null : speedup >= 1.8,
+        target: '>= 1.8x with 2 threads',
+        measured: most.threads === 1 ? 'only one core available' : `${fmt(speedup)}x with ${most.threads} threads`,
+        holds: most.threads === 1 ? null : speedup >= 1.8,
       },
     ],
     notes: [
       'Start-up (thread creation, engine set-up, data copy, one one-epoch trial per thread) is excluded from "trials (s)" and shown apart.',
       'On a machine shared with other jobs, the speed-up is bounded by the cores actually free: "cores used" is the CPU time the process got per second of wall time.',
-      'With one worker the process already uses more than one core: V8\'s background threads (JIT and wasm tier-up compilation, concurrent GC) run beside the worker. On 2 cores the one-worker baseline thus borrows part of the second core; compare trials per CPU-second for the scaling of the pool itself. (Measured once by hand: with `node --single-threaded` one worker uses 1.02 cores and 2 workers reach 1.66x.)',
+      'With one worker the process already uses more than one core: V8\'s background threads (JIT and wasm tier-up compilation, concurrent GC) run beside the worker. On 2 cores the one-worker baseline thus borrows part of the second core; compare trials per CPU-second for the scaling of the pool itself. (Measured once by hand: with `node --single-threaded` one worker uses 1.02 cores and 2 threads reach 1.66x.)',
     ],
     data: runs,
   };

@@ -146,8 +146,8 @@ async function realTraining(url: string, trials: number, epochs: number, childre
   const demo = path.resolve('studies/demo/study.json');
   const base = JSON.parse(await readFile(demo, 'utf8')) as StudyDefinitionInput;
   const dir = await tempDir('queue-training');
-  const file = await writeDefinition(dir, { ...base, name: 'bench-queue-training', data: { ...base.data, csv: path.resolve(path.dirname(demo), base.data.csv) }, budget: { trials, maxEpochs: epochs }, workers: 2 });
-  const local = await timedStudy((onEvent) => runStudy(file, { out: path.join(dir, 'local'), workers: 2, onEvent }));
+  const file = await writeDefinition(dir, { ...base, name: 'bench-queue-training', data: { ...base.data, csv: path.resolve(path.dirname(demo), base.data.csv) }, budget: { trials, maxEpochs: epochs }, threads: 2 });
+  const local = await timedStudy((onEvent) => runStudy(file, { out: path.join(dir, 'local'), threads: 2, onEvent }));
   try {
     const out = path.join(dir, 'queue');
     const queue = await timedStudy(async (onEvent) => {

@@ -29,14 +29,14 @@ function simulatedLoss(job: Job): number {
 
 interface Run {
   sampler: SamplerKind;
-  workers: number;
+  threads: number;
   trials: number;
   jobs: number;
   epochs: number;
   utilisation: number;
 }
 
-function runOne(kind: Exclude<SamplerKind, 'random'>, workers: number, trials: number, maxEpochs: number): Run {
+function runOne(kind: Exclude<SamplerKind, 'random'>, threads: number, trials: number, maxEpochs: number): Run {
   const definition = studySchema.parse({
     name: 'bench-scheduling',
     data: { csv: 'x.csv', target: 'y', task: 'binary' },
@@ -51,17 +51,17 @@ function runOne(kind: Exclude<SamplerKind, 'random'>, workers: number, trials: n
     sampler: { kind, seed: 11, eta: 3, minEpochs: 1 },
   });
   const log = simulate(createSampler(definition), {
-    workers,
+    threads,
     loss: simulatedLoss,
     duration: (job) => (job.toEpoch - job.fromEpoch) * epochSeconds(job.configuration),
   });
   return {
     sampler: kind,
-    workers,
+    threads,
     trials: new Set(log.jobs.map((j) => j.trialId)).size,
     jobs: log.jobs.length,
     epochs: log.jobs.reduce((sum, j) => sum + j.toEpoch - j.fromEpoch, 0),
-    utilisation: log.busy / (workers * log.elapsed),
+    utilisation: log.busy / (threads * log.elapsed),
   };
 }
 
@@ -71,13 +71,13 @@ export async function schedulingGroup(options: BenchOptions): Promise<GroupResul
   const trialCounts = options.quick ? [81] : [27, 81, 243, 729];
   const workerCounts = [...new Set([cores, 8])];
   const runs: Run[] = [];
-  for (const workers of workerCounts) {
+  for (const threads of workerCounts) {
     for (const trials of trialCounts) {
-      for (const kind of ['successive-halving', 'async-halving'] as const) runs.push(runOne(kind, workers, trials, maxEpochs));
+      for (const kind of ['successive-halving', 'async-halving'] as const) runs.push(runOne(kind, threads, trials, maxEpochs));
     }
-    runs.push(runOne('hyperband', workers, 1, maxEpochs)); // Hyperband derives its own configuration count
+    runs.push(runOne('hyperband', threads, 1, maxEpochs)); // Hyperband derives its own configuration count
   }
-  const asyncAtCores = runs.filter((r) => r.sampler === 'async-halving' && r.workers === cores);
+  const asyncAtCores = runs.filter((r) => r.sampler === 'async-halving' && r.threads === cores);
   const reference = asyncAtCores.find((r) => r.trials === 81) ?? asyncAtCores[0]!;
   const reaching = asyncAtCores.find((r) => r.utilisation >= 0.95);
   return {
@@ -86,8 +86,8 @@ export async function schedulingGroup(options: BenchOptions): Promise<GroupResul
     tables: [
       {
         title: `maxEpochs ${maxEpochs}, eta 3, minEpochs 1; epoch time varies with the network (depth 1-4, width 4-256, batch 32-128)`,
-        columns: ['sampler', 'workers', 'configurations', 'jobs', 'epochs', 'utilisation'],
-        rows: runs.map((r) => [r.sampler, r.workers, r.trials, r.jobs, r.epochs, `${fmt(r.utilisation * 100)}%`]),
+        columns: ['sampler', 'threads', 'configurations', 'jobs', 'epochs', 'utilisation'],
+        rows: runs.map((r) => [r.sampler, r.threads, r.trials, r.jobs, r.epochs, `${fmt(r.utilisation * 100)}%`]),
       },
     ],
     targets: [
@@ -98,7 +98,7 @@ export async function schedulingGroup(options: BenchOptions): Promise<GroupResul
       },
     ],
     notes: [
-      'utilisation = busy worker time / (workers x elapsed virtual time), from simulate() in src/samplers/simulate.ts; no training happens.',
+      'utilisation = busy thread time / (threads x elapsed virtual time), from simulate() in src/samplers/simulate.ts; no training happens.',
       'Asynchronous halving only idles at the end: once every configuration has started, the last promotions run one after another (the top rung trains 27 epochs alone); the idle tail is a fixed cost, so its share falls as configurations grow.',
       'Synchronous halving also idles at every rung barrier, waiting for the slowest configuration of the rung.',
     ],

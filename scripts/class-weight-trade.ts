@@ -6,7 +6,7 @@
  * the runs differ only in the weighting. Goal macro-F1, threshold 0.5; the rank-1 network (the
  * study's own, not retrained) scored once on the held-out test split.
  *
- *   node dist/scripts/class-weight-trade.js [--workers 2]
+ *   node dist/scripts/class-weight-trade.js [--threads 2]
  */
 import { copyFile, mkdtemp, readFile, writeFile } from 'node:fs/promises';
 import { createRequire } from 'node:module';
@@ -46,13 +46,13 @@ function penguinsDefinition(): StudyDefinitionInput {
   };
 }
 
-async function measure(name: string, base: StudyDefinitionInput, folder: string, workers: number): Promise<void> {
+async function measure(name: string, base: StudyDefinitionInput, folder: string, threads: number): Promise<void> {
   console.log(`\n${name}: rank 1 by validation macro-F1, scored on the test split`);
   console.log('space.classWeights | chosen | test accuracy | test macro-F1 | validation macro-F1');
   for (const weightings of WEIGHTINGS) {
     const definition = { ...base, name: `${name}-${weightings.join('-')}`, space: { ...base.space, classWeights: weightings }, goal: { metric: 'macroF1' as const, better: 'higher' as const } };
     const out = path.join(folder, definition.name);
-    await run({ definition, baseDir: folder, out, workers, force: true });
+    await run({ definition, baseDir: folder, out, threads, force: true });
     const summary = await exportModel({ dir: out });
     const test = summary.studyTest ?? summary.test;
     const exported = JSON.parse(await readFile(path.join(summary.out, 'configuration.json'), 'utf8')) as { configuration: { classWeights?: string } };
@@ -62,13 +62,13 @@ async function measure(name: string, base: StudyDefinitionInput, folder: string,
 }
 
 async function main(): Promise<void> {
-  const workersAt = process.argv.indexOf('--workers');
-  const workers = workersAt > 0 ? Number(process.argv[workersAt + 1]) : 2;
+  const threadsAt = process.argv.indexOf('--threads');
+  const threads = threadsAt > 0 ? Number(process.argv[threadsAt + 1]) : 2;
   const folder = await mkdtemp(path.join(tmpdir(), 'rungwise-class-weight-trade-'));
   await copyFile(path.join(DEMO, 'pump-logs.csv'), path.join(folder, 'pump-logs.csv'));
   await penguinsCsv(folder);
-  await measure('demo-imbalance', await demoDefinition(), folder, workers);
-  await measure('penguins', penguinsDefinition(), folder, workers);
+  await measure('demo-imbalance', await demoDefinition(), folder, threads);
+  await measure('penguins', penguinsDefinition(), folder, threads);
   console.log(`\nrun folders: ${folder}`);
 }
 

@@ -109,7 +109,7 @@ async function writeStudy(dir: string, trials: number): Promise<string> {
     budget: { trials, maxEpochs: 9 },
     sampler: { kind: 'successive-halving', eta: 3, minEpochs: 1, seed: 7 },
     goal: { metric: 'auc' },
-    workers: 2,
+    threads: 2,
   };
   const file = path.join(dir, 'study.json');
   await writeFile(file, JSON.stringify(definition, null, 2));
@@ -149,7 +149,7 @@ export async function faultDrill(options: { trials?: number; verbose?: boolean }
   const redis = await startPrivateRedis({ appendOnly: true });
   try {
     say('undisturbed run on local threads ...');
-    const reference = start(['run', studyFile, '--out', path.join(dir, 'reference'), '--workers', '2', '--quiet'], {}, 'reference');
+    const reference = start(['run', studyFile, '--out', path.join(dir, 'reference'), '--threads', '2', '--quiet'], {}, 'reference');
     if ((await reference.exited) !== 0) throw new Error(`the undisturbed run failed:\n${reference.output()}`);
 
     say(`disturbed run over Redis on port ${redis.port} (append-only file on, study key set) ...`);

@@ -8,7 +8,7 @@
  * (`ml-fnn`, classification only). Inputs for the references: numbers standardised, categories one-hot,
  * missing values filled, all from the training rows. Test scores, mean and standard error over split seeds.
  *
- *   node dist/scripts/reference-comparison.js [--seeds 0,1,2] [--sets iris,penguins,cars] [--workers 2]
+ *   node dist/scripts/reference-comparison.js [--seeds 0,1,2] [--sets iris,penguins,cars] [--threads 2]
  */
 import { mkdir, readFile, writeFile } from 'node:fs/promises';
 import { createRequire } from 'node:module';
@@ -126,10 +126,10 @@ const accuracy = (predicted: number[], truth: number[]): number => predicted.fil
 const rmse = (predicted: number[], truth: number[]): number => Math.sqrt(predicted.reduce((sum, p, i) => sum + (p - truth[i]!) ** 2, 0) / truth.length);
 
 /** rungwise's default study on the set, and the winner's test score (the exported network, no retraining). */
-async function rungwiseScore(set: DataSet, folder: string, seed: number, workers: number): Promise<{ score: number; split: SplitRecord; seconds: number }> {
+async function rungwiseScore(set: DataSet, folder: string, seed: number, threads: number): Promise<{ score: number; split: SplitRecord; seconds: number }> {
   const out = path.join(folder, `${set.name}-seed${seed}`);
   const started = Date.now();
-  await run({ definition: { name: `${set.name}-seed${seed}`, data: { csv: `${set.name}.csv`, target: set.target, splitSeed: seed } }, baseDir: folder, out, workers, force: true });
+  await run({ definition: { name: `${set.name}-seed${seed}`, data: { csv: `${set.name}.csv`, target: set.target, splitSeed: seed } }, baseDir: folder, out, threads, force: true });
   const seconds = (Date.now() - started) / 1000;
   const split = JSON.parse(await readFile(path.join(out, 'splits.json'), 'utf8')) as SplitRecord;
   const summary = await exportModel({ dir: out });
@@ -160,7 +160,7 @@ function option(name: string, fallback: string): string {
 async function main(): Promise<void> {
   const seeds = option('--seeds', '0,1,2').split(',').map(Number);
   const names = option('--sets', 'iris,penguins,cars').split(',');
-  const workers = Number(option('--workers', '2'));
+  const threads = Number(option('--threads', '2'));
   const folder = path.join(tmpdir(), 'rungwise-reference-comparison');
   await mkdir(folder, { recursive: true });
   for (const name of names) {
@@ -168,7 +168,7 @@ async function main(): Promise<void> {
     await writeFile(path.join(folder, `${set.name}.csv`), csvText(set));
     const scores: Scores[] = [];
     for (const seed of seeds) {
-      const ours = await rungwiseScore(set, folder, seed, workers);
+      const ours = await rungwiseScore(set, folder, seed, threads);
       const references = await referenceScores(set, ours.split);
       scores.push({ rungwise: ours.score, ...references });
       console.log(`${set.name} seed ${seed}: rungwise ${ours.score.toFixed(4)} (${ours.seconds.toFixed(0)} s), trees ${references.trees.toFixed(4)}, linear ${references.linear.toFixed(4)}${references.mlp !== undefined ? `, mlp ${references.mlp.toFixed(4)}` : ''}`);

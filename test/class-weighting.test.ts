@@ -166,10 +166,10 @@ describe('a searched class weighting on remote workers', () => {
     const worker = spawnWorker(redis.url, ['--threads', '1']);
     await worker.printed(/taking jobs from/);
     const base = tinyStudy();
-    const definition = tinyStudy({ name: 'weights-remote', data: { ...base.data, folds: 3 }, space: { ...base.space, classWeights: ['none', 'balanced', 'effective'], effectiveBeta: 0.9 }, budget: { trials: 6, maxEpochs: 2 }, goal: { metric: 'macroF1' }, workers: 2 });
+    const definition = tinyStudy({ name: 'weights-remote', data: { ...base.data, folds: 3 }, space: { ...base.space, classWeights: ['none', 'balanced', 'effective'], effectiveBeta: 0.9 }, budget: { trials: 6, maxEpochs: 2 }, goal: { metric: 'macroF1' }, threads: 2 });
     const file = await writeTinyStudy(definition);
     const local = path.join(path.dirname(file), 'local');
-    await runStudy(file, { out: local, workers: 2 });
+    await runStudy(file, { out: local, threads: 2 });
     const remote = path.join(path.dirname(file), 'remote');
     const remoteRun = await runStudy(file, { out: remote, transport: queuedStudy({ url: redis.url, studyName: definition.name, runDir: remote, fresh: true }).transport });
     const expected = await studyOutcome(local);

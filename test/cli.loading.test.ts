@@ -24,7 +24,7 @@ beforeAll(async () => {
   out.end();
   await once(out, 'finish');
   definition = path.join(folder, 'study.json');
-  await writeFile(definition, JSON.stringify(tinyStudy({ data: { csv: 'large.csv', target: 'label', task: 'binary' }, budget: { trials: 1, maxEpochs: 1 }, workers: 1 })));
+  await writeFile(definition, JSON.stringify(tinyStudy({ data: { csv: 'large.csv', target: 'label', task: 'binary' }, budget: { trials: 1, maxEpochs: 1 }, threads: 1 })));
 });
 afterAll(async () => {
   await rm(folder, { recursive: true, force: true });

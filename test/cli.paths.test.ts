@@ -10,7 +10,7 @@ let definition: string;
 let runDir: string;
 
 beforeAll(async () => {
-  definition = await writeTinyStudy(tinyStudy({ budget: { trials: 1, maxEpochs: 1 }, workers: 1 }));
+  definition = await writeTinyStudy(tinyStudy({ budget: { trials: 1, maxEpochs: 1 }, threads: 1 }));
   runDir = path.join(path.dirname(definition), 'run');
   const result = await runCli(['run', definition, '--out', runDir]);
   expect(result.code, result.stderr).toBe(0);

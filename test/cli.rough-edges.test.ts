@@ -1,6 +1,6 @@
 /**
  * The command line's rough edges found by trying it as a new user would, one test each: the exit code
- * of a stopped `plot --watch`, a hand-edited study file, more workers than cores, epochs in `ranking
+ * of a stopped `plot --watch`, a hand-edited study file, more threads than cores, epochs in `ranking
  * --json` against the table, `predict --quiet`, the `$schema` of a copied demo, the utilisation's
  * digits and a complete `compare --json`.
  */
@@ -28,12 +28,12 @@ beforeAll(async () => {
 });
 
 describe('the run summary', () => {
-  it('prints the worker utilisation with two significant digits', () => {
+  it('prints the thread utilisation with two significant digits', () => {
     expect(twoSignificantDigits(0.01215)).toBe('0.012');
     expect(twoSignificantDigits(0.1042)).toBe('0.10');
     expect(twoSignificantDigits(1)).toBe('1.0');
     expect(twoSignificantDigits(0)).toBe('0');
-    const figure = /worker utilisation ([\d.]+)/.exec(ran.stdout)?.[1];
+    const figure = /thread utilisation ([\d.]+)/.exec(ran.stdout)?.[1];
     expect(figure).toBeDefined();
     expect(figure!.replace(/^[0.]+/, '').replace('.', '')).toHaveLength(2);
   });
@@ -70,15 +70,15 @@ describe('a hand-edited study file', () => {
   });
 });
 
-describe('more workers than cores', () => {
+describe('more threads than cores', () => {
   it('warns in one line why the study will be slower, and still runs', async () => {
     const cores = availableParallelism();
-    const result = await runCli(['run', await writeTinyStudy(), '--out', path.join(folder, 'crowded'), '--workers', String(cores + 1), '--quiet']);
+    const result = await runCli(['run', await writeTinyStudy(), '--out', path.join(folder, 'crowded'), '--threads', String(cores + 1), '--quiet']);
     expect(result.code).toBe(0);
     expect(result.stderr.trimEnd().split('\n')).toEqual([
-      `warning: ${cores + 1} worker threads on ${cores} core${cores === 1 ? '' : 's'}: the threads take turns on the cores, so every trial trains slower and the study ends later than with ${cores}; use --workers ${cores} or fewer`,
+      `warning: ${cores + 1} threads on ${cores} core${cores === 1 ? '' : 's'}: the threads take turns on the cores, so every trial trains slower and the study ends later than with ${cores}; use --threads ${cores} or fewer`,
     ]);
-    const fitting = await runCli(['run', await writeTinyStudy(), '--out', path.join(folder, 'fitting'), '--workers', String(cores), '--quiet']);
+    const fitting = await runCli(['run', await writeTinyStudy(), '--out', path.join(folder, 'fitting'), '--threads', String(cores), '--quiet']);
     expect(fitting.stderr).toBe('');
   });
 });

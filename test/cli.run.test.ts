@@ -23,7 +23,7 @@ const study = {
   },
   budget: { trials: 3, maxEpochs: 4 },
   sampler: { kind: 'random', seed: 11 },
-  workers: 2,
+  threads: 2,
 };
 
 beforeAll(async () => {
@@ -39,7 +39,7 @@ describe('rungwise run and ranking', () => {
     const result = await runCli(['run', studyFile, '--out', out]);
     expect(result.code).toBe(0);
     // Progress (one line per ended job when not a terminal) goes to stderr, the result to stdout.
-    expect(result.stderr).toMatch(/^running study iris-cli on 2 workers: 3 jobs, 12 epochs planned/);
+    expect(result.stderr).toMatch(/^running study iris-cli on 2 threads: 3 jobs, 12 epochs planned/);
     expect(result.stderr.match(/^\[\d\/3 jobs, \d+\/12 epochs\] trial \d done/gm)).toHaveLength(3);
     expect(result.stdout).not.toMatch(/^\[\d+\/\d+ jobs|^running study/m);
     // The budget's account closes the result.

@@ -198,7 +198,7 @@ describe('rungwise run', () => {
       data: { csv: 'data/mixed.csv', target: 'kind', task: 'binary', ...data },
       space: { depth: { min: 1, max: 1 }, width: { min: 4, max: 4 }, activation: ['relu'], learningRate: { min: 0.01, max: 0.01 } },
       budget: { trials: 1, maxEpochs: 1 },
-      workers: 1,
+      threads: 1,
     });
 
   it('refuses the free-text column: exit 2, one error line, nothing on stdout, no run directory', async () => {

@@ -117,10 +117,10 @@ describe('the demo studies', () => {
 });
 
 describe('the tiny studies', () => {
-  it.each(TINY_FILES)('%s runs 4 trials of 3 epochs on 2 workers with random search', (path) => {
+  it.each(TINY_FILES)('%s runs 4 trials of 3 epochs on 2 threads with random search', (path) => {
     const definition = load(path);
     expect(definition.budget).toEqual({ trials: 4, maxEpochs: 3 });
-    expect(definition.workers).toBe(2);
+    expect(definition.threads).toBe(2);
     expect(definition.sampler.kind).toBe('random');
     expect(columnOf(path, definition)).toHaveLength(120);
   });

@@ -30,7 +30,7 @@ function staticImports(file: string): { files: Set<string>; packages: Set<string
 
 describe('modules of an engine thread', () => {
   it('the trial worker statically imports no @tensorflow package and not zod', () => {
-    const { files, packages } = staticImports(path.join(DIST, 'workers/trial-worker.js'));
+    const { files, packages } = staticImports(path.join(DIST, 'threads/trial-thread.js'));
     expect(files.size).toBeGreaterThan(10);
     expect(files.has(path.join(DIST, 'src/trainers/engine/segment.js'))).toBe(true);
     expect([...packages].filter((name) => name.startsWith('@tensorflow/') || name === 'zod')).toEqual([]);

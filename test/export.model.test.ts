@@ -49,7 +49,7 @@ const studies: Record<string, StudyDefinitionInput> = {
     space: space(['relu', 'tanh']),
     budget: { trials: 4, maxEpochs: 4 },
     sampler: { kind: 'random', seed: 5 },
-    workers: 1,
+    threads: 1,
   },
   binary: {
     name: 'iris-binary',
@@ -58,7 +58,7 @@ const studies: Record<string, StudyDefinitionInput> = {
     budget: { trials: 2, maxEpochs: 3 },
     sampler: { kind: 'random', seed: 5 },
     goal: { metric: 'logLoss' },
-    workers: 1,
+    threads: 1,
   },
   regression: {
     name: 'iris-regression',
@@ -66,7 +66,7 @@ const studies: Record<string, StudyDefinitionInput> = {
     space: space(['swish']),
     budget: { trials: 2, maxEpochs: 3 },
     sampler: { kind: 'random', seed: 5 },
-    workers: 1,
+    threads: 1,
   },
 };
 

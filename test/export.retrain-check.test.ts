@@ -33,7 +33,7 @@ beforeAll(async () => {
     budget: { trials: 1, maxEpochs: 1 },
     sampler: { kind: 'random', seed: 1 },
     goal: { metric: 'auc' },
-    workers: 1,
+    threads: 1,
   };
   await writeFile(path.join(root, 'study.json'), JSON.stringify(definition));
   await runStudy(path.join(root, 'study.json'), { out: path.join(root, 'run') });

@@ -40,7 +40,7 @@ beforeAll(async () => {
       },
       budget: { trials: 4, maxEpochs: 4 },
       sampler: { kind: 'random', seed: 8 },
-      workers: 1,
+      threads: 1,
     }),
   );
   runDir = path.join(root, 'run');

@@ -266,7 +266,7 @@ describe('a study with folds', () => {
       budget: { trials: 6, maxEpochs: 9 },
       sampler: { kind: 'successive-halving', seed: 2, eta: 3, minEpochs: 1 },
       goal: { metric: 'accuracy' },
-      workers: 2,
+      threads: 2,
     };
   });
 
@@ -314,15 +314,15 @@ describe('a study with folds', () => {
     expect(json.trials[0]!.scoreStandardError).toBe(best.scoreStandardError);
   }, 180_000);
 
-  it('gives the same trials with 1 and 2 workers, and after an interruption and resume', async () => {
-    const file = await writeStudy(csv, 'iris-workers', { ...halving, budget: { trials: 3, maxEpochs: 3 } });
-    const one = await runStudy(file, { out: path.join(path.dirname(csv), 'run-one'), workers: 1 });
-    const two = await runStudy(file, { out: path.join(path.dirname(csv), 'run-two'), workers: 2 });
+  it('gives the same trials with 1 and 2 threads, and after an interruption and resume', async () => {
+    const file = await writeStudy(csv, 'iris-threads', { ...halving, budget: { trials: 3, maxEpochs: 3 } });
+    const one = await runStudy(file, { out: path.join(path.dirname(csv), 'run-one'), threads: 1 });
+    const two = await runStudy(file, { out: path.join(path.dirname(csv), 'run-two'), threads: 2 });
     expect(summaryOf(two.doc.trials)).toEqual(summaryOf(one.doc.trials));
     const dir = path.join(path.dirname(csv), 'run-interrupted');
     const stop = new AbortController();
-    await runStudy(file, { out: dir, workers: 2, signal: stop.signal, onEvent: (event) => event.type === 'trial-finished' && stop.abort() });
-    const resumed = await resumeStudy(dir, { workers: 1 });
+    await runStudy(file, { out: dir, threads: 2, signal: stop.signal, onEvent: (event) => event.type === 'trial-finished' && stop.abort() });
+    const resumed = await resumeStudy(dir, { threads: 1 });
     expect(summaryOf(resumed.doc.trials)).toEqual(summaryOf(one.doc.trials));
   }, 180_000);
 
@@ -397,7 +397,7 @@ describe('accuracy with 5 folds on reference data', () => {
       budget: { trials: 8, maxEpochs: 40 },
       sampler: { kind: 'random', seed: 1 },
       goal: { metric: 'accuracy' },
-      workers: 2,
+      threads: 2,
     });
     const outcome = await runStudy(file, { out: path.join(path.dirname(csv), 'run') });
     expect(outcome.ranking[0]!.trial.score).toBeGreaterThanOrEqual(0.95);

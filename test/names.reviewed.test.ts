@@ -11,11 +11,11 @@ import { beforeAll, describe, expect, it } from 'vitest';
 import { buildProgram } from '../src/cli/main.js';
 import { runStudy } from '../src/runner/run-study.js';
 import { studySchema } from '../src/study/definition.js';
-import { RENAMED_SAMPLER_KEYS } from '../src/study/renamed-keys.js';
+import { RENAMED_DEFINITION_KEYS, RENAMED_SAMPLER_KEYS } from '../src/study/renamed-keys.js';
 import { tinyStudy, writeTinyStudy } from './helpers/studies.js';
 
 const ROOT = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '..');
-const RETIRED = [...Object.keys(RENAMED_SAMPLER_KEYS), 'objective', 'direction'];
+const RETIRED = [...Object.keys(RENAMED_SAMPLER_KEYS), ...Object.keys(RENAMED_DEFINITION_KEYS), 'workerUtilisation', 'objective', 'direction'];
 
 /** The reviewed names of one section of NAMES.md, with their origins. */
 async function reviewed(section: string): Promise<Map<string, string>> {
@@ -66,7 +66,7 @@ describe('the reviewed list of names (NAMES.md)', () => {
   beforeAll(async () => {
     // A halving study with early stopping, so trials carry rungs, jobs, best and stopped epochs.
     const file = await writeTinyStudy(
-      tinyStudy({ budget: { trials: 9, maxEpochs: 9 }, sampler: { kind: 'successive-halving', seed: 7, eta: 3, minEpochs: 1 }, earlyStopping: { rule: 'patience', patience: 1 }, workers: 1 }),
+      tinyStudy({ budget: { trials: 9, maxEpochs: 9 }, sampler: { kind: 'successive-halving', seed: 7, eta: 3, minEpochs: 1 }, earlyStopping: { rule: 'patience', patience: 1 }, threads: 1 }),
     );
     const out = path.join(path.dirname(file), 'run');
     await runStudy(file, { out });
@@ -93,7 +93,7 @@ describe('the reviewed list of names (NAMES.md)', () => {
     const program = buildProgram();
     const names = [...program.options, ...program.commands.flatMap((command) => command.options)].map((option) => option.long!);
     names.push(...program.commands.map((command) => command.name()));
-    expect(names).toContain('--workers');
+    expect(names).toContain('--threads');
     expect(unreviewed(new Set(names), await reviewed('Command line'))).toEqual([]);
   });
 

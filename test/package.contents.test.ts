@@ -15,9 +15,9 @@ async function packedFiles(): Promise<string[]> {
 }
 
 describe('the published package', () => {
-  it('holds the CLI, the library, its workers, the training engine, the schema, the demo study, the examples and the LICENSE; no bench, scripts or source maps', async () => {
+  it('holds the CLI, the library, its thread entry point, the training engine, the schema, the demo study, the examples and the LICENSE; no bench, scripts or source maps', async () => {
     const files = await packedFiles();
-    for (const needed of ['LICENSE', 'README.md', 'package.json', 'bin/rungwise.js', 'dist/src/index.js', 'dist/src/index.d.ts', 'dist/src/cli/main.js', 'dist/workers/trial-worker.js', 'dist/workers/esm-entry.cjs', 'dist/engine.wasm', 'schema/study.schema.json', 'studies/demo/study.json', 'studies/demo/pump-logs.csv', 'examples/predict.mjs', 'docs/library.md']) {
+    for (const needed of ['LICENSE', 'README.md', 'package.json', 'bin/rungwise.js', 'dist/src/index.js', 'dist/src/index.d.ts', 'dist/src/cli/main.js', 'dist/threads/trial-thread.js', 'dist/threads/esm-entry.cjs', 'dist/engine.wasm', 'schema/study.schema.json', 'studies/demo/study.json', 'studies/demo/pump-logs.csv', 'examples/predict.mjs', 'docs/library.md']) {
       expect(files, needed).toContain(needed);
     }
     expect(files.filter((file) => /(^|\/)(bench|scripts)\//.test(file))).toEqual([]);

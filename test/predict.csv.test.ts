@@ -46,7 +46,7 @@ async function studyAndExport(name: string, data: object): Promise<Exported> {
       space: { depth: { min: 1, max: 2 }, width: { min: 4, max: 12 }, activation: ['relu', 'elu'], learningRate: { min: 0.005, max: 0.05 }, batchSize: [16], optimizer: ['adam'] },
       budget: { trials: 2, maxEpochs: 4 },
       sampler: { kind: 'random', seed: 13 },
-      workers: 1,
+      threads: 1,
     }),
   );
   const runDir = path.join(root, `run-${name}`);

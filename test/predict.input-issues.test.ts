@@ -40,7 +40,7 @@ beforeAll(async () => {
       space: { depth: { min: 1, max: 1 }, width: { min: 8, max: 8 }, activation: ['relu'], learningRate: { min: 0.01, max: 0.01 }, batchSize: [32] },
       budget: { trials: 1, maxEpochs: 2 },
       sampler: { kind: 'random', seed: 4 },
-      workers: 1,
+      threads: 1,
     }),
   );
   const runDir = path.join(root, 'run');

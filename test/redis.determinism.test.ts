@@ -33,11 +33,11 @@ describe('the same study on local threads and on remote workers', () => {
   afterAll(stopStarted);
 
   it.each(samplers)('%s gives identical trials and ranking everywhere', async (_name, sampler, trials) => {
-    const definition = tinyStudy({ name: `same-${sampler.kind}`, budget: { trials, maxEpochs: 3 }, sampler, workers: 2 });
+    const definition = tinyStudy({ name: `same-${sampler.kind}`, budget: { trials, maxEpochs: 3 }, sampler, threads: 2 });
     const file = await writeTinyStudy(definition);
     const base = path.dirname(file);
     const local = path.join(base, 'local');
-    await runStudy(file, { out: local, workers: 2 });
+    await runStudy(file, { out: local, threads: 2 });
     const mixed = path.join(base, 'mixed');
     const mixedRun = await runStudy(file, { out: mixed, transport: queuedStudy({ url: oneWorker.url, studyName: definition.name, runDir: mixed, fresh: true, threads: 1 }).transport });
     const remote = path.join(base, 'remote');
@@ -61,11 +61,11 @@ describe('the same study on local threads and on remote workers', () => {
       data: { ...base.data, folds: 3 },
       budget: { trials: 9, maxEpochs: 3 },
       sampler: { kind: 'successive-halving', eta: 3, minEpochs: 1, seed: 24 },
-      workers: 2,
+      threads: 2,
     });
     const file = await writeTinyStudy(definition);
     const local = path.join(path.dirname(file), 'local');
-    await runStudy(file, { out: local, workers: 2 });
+    await runStudy(file, { out: local, threads: 2 });
     const remote = path.join(path.dirname(file), 'remote');
     const remoteRun = await runStudy(file, { out: remote, transport: queuedStudy({ url: threeWorkers.url, studyName: definition.name, runDir: remote, fresh: true }).transport });
     const expected = await studyOutcome(local);

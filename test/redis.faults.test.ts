@@ -20,7 +20,7 @@ const trialLines = (process: WorkerProcess, count: number) => process.printed(ne
 
 describe('a study over Redis survives the faults of many machines', () => {
   // Successive halving, so jobs after the first rung continue from checkpoints that cross Redis.
-  const definition = tinyStudy({ budget: { trials: 9, maxEpochs: 3 }, sampler: { kind: 'successive-halving', eta: 3, minEpochs: 1, seed: 5 }, workers: 2 });
+  const definition = tinyStudy({ budget: { trials: 9, maxEpochs: 3 }, sampler: { kind: 'successive-halving', eta: 3, minEpochs: 1, seed: 5 }, threads: 2 });
   let studyFile: string;
   let base: string;
   let reference: Awaited<ReturnType<typeof studyOutcome>>;
@@ -29,7 +29,7 @@ describe('a study over Redis survives the faults of many machines', () => {
   beforeAll(async () => {
     studyFile = await writeTinyStudy(definition);
     base = path.dirname(studyFile);
-    await runStudy(studyFile, { out: path.join(base, 'reference'), workers: 2 });
+    await runStudy(studyFile, { out: path.join(base, 'reference'), threads: 2 });
     reference = await studyOutcome(path.join(base, 'reference'));
   });
   afterEach(stopStarted);

@@ -233,7 +233,8 @@ describe('Redis addresses', () => {
 
   it('refuses the queue flags without --queue, before anything is written', async () => {
     const file = await writeTinyStudy();
-    await expect(run({ definition: file, out: path.join(path.dirname(file), 'run'), threads: 2 })).rejects.toThrow(/^--threads goes with --queue; without a queue, --workers sets the local threads$/);
+    await expect(run({ definition: file, out: path.join(path.dirname(file), 'run'), keyFile: 'study.key' })).rejects.toThrow(/^--key-file goes with --queue$/);
+    await expect(run({ definition: file, out: path.join(path.dirname(file), 'run'), threads: 0 })).rejects.toThrow(/^--threads 0 goes with --queue \(then only `rungwise worker` processes train\); without a queue, give 1 or more$/);
     expect(existsSync(path.join(path.dirname(file), 'run'))).toBe(false);
   });
 

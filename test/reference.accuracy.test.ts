@@ -18,8 +18,8 @@ const space: StudyDefinitionInput['space'] = {
   optimizer: ['adam'],
 };
 
-async function bestAccuracy(csv: string, data: Omit<StudyDefinitionInput['data'], 'csv' | 'task'>, trials: number, workers = 2): Promise<{ best: number; ids: number[] }> {
-  const file = path.join(path.dirname(csv), `study-${workers}.json`);
+async function bestAccuracy(csv: string, data: Omit<StudyDefinitionInput['data'], 'csv' | 'task'>, trials: number, threads = 2): Promise<{ best: number; ids: number[] }> {
+  const file = path.join(path.dirname(csv), `study-${threads}.json`);
   const definition: StudyDefinitionInput = {
     name: 'reference',
     data: { csv: path.basename(csv), task: 'multiclass', ...data },
@@ -27,10 +27,10 @@ async function bestAccuracy(csv: string, data: Omit<StudyDefinitionInput['data']
     budget: { trials, maxEpochs: 40 },
     sampler: { kind: 'random', seed: 1 },
     goal: { metric: 'accuracy' },
-    workers,
+    threads,
   };
   await writeFile(file, JSON.stringify(definition));
-  const outcome = await runStudy(file, { out: path.join(path.dirname(csv), `run-${workers}`) });
+  const outcome = await runStudy(file, { out: path.join(path.dirname(csv), `run-${threads}`) });
   return { best: outcome.ranking[0]!.trial.score!, ids: outcome.ranking.map((r) => r.trial.id) };
 }
 
@@ -51,7 +51,7 @@ describe('accuracy on reference data sets', () => {
     expect(best).toBeGreaterThanOrEqual(0.95);
   });
 
-  it('gives a random search the same ranking with 1 and with 2 workers', async () => {
+  it('gives a random search the same ranking with 1 and with 2 threads', async () => {
     const csv = await writeIrisCsv();
     const one = await bestAccuracy(csv, { target: 'species', splitSeed: 5 }, 4, 1);
     const two = await bestAccuracy(csv, { target: 'species', splitSeed: 5 }, 4, 2);

@@ -33,12 +33,12 @@ describe('the budget summary', () => {
     expect(summary.planned).toEqual({ trials: 9, jobs: 13, epochs: 21, limit: false });
     expect(summary.done).toEqual({ trials: 9, jobs: 13, epochs: 21 });
     expect(summary.rungs.map((r) => [r.rung, r.epochs])).toEqual([[0, 9], [1, 6], [2, 6]]);
-    expect(summary.session!.workers).toBe(2);
+    expect(summary.session!.threads).toBe(2);
     expect(summary.session!.trainingSeconds + summary.session!.waitingSeconds).toBeCloseTo(2 * summary.session!.wallSeconds, 6);
     const text = budgetSummaryText(summary);
     expect(text).toMatch(/^work: 13 of 13 jobs planned, 21 of 21 epochs \(100 %\), 9 of 9 configurations$/m);
     expect(text).toMatch(/^epochs by rung: rung 0 9 \(43 %\), rung 1 6 \(29 %\), rung 2 6 \(29 %\)$/m);
-    // The closed form trains in no time, so the workers mostly wait: the summary says why.
+    // The closed form trains in no time, so the threads mostly wait: the summary says why.
     expect(summary.lowUtilisation.some((reason) => reason.startsWith('start-up'))).toBe(true);
     expect(summary.lowUtilisation.some((reason) => reason.startsWith('rung barriers'))).toBe(true);
     expect(studyResultJson(outcome.doc, outcome.ranking, outcome.file).budget).toEqual(summary);

@@ -45,7 +45,7 @@ function recordedStream(): { at: number; event: StudyEvent }[] {
     records.set(trialId, record);
     push({ type: 'trial-finished', trial: record, job, best: best(), finishedTrials: 0, progress: { jobsDone: jobs, epochsDone: epochs, endedTrials: 0, plannedTrials: 9, plannedEpochs: 21 } });
   };
-  push({ type: 'study-started', name: 'stream', dir: '/runs/stream', workers: 2, plannedTrials: 9, plannedEpochs: 21, resumed: false, progress: { jobsDone: 0, epochsDone: 0, endedTrials: 0, plannedTrials: 9, plannedEpochs: 21 } });
+  push({ type: 'study-started', name: 'stream', dir: '/runs/stream', threads: 2, plannedTrials: 9, plannedEpochs: 21, resumed: false, progress: { jobsDone: 0, epochsDone: 0, endedTrials: 0, plannedTrials: 9, plannedEpochs: 21 } });
   // Rung 0: the leader is the best score so far among trials of 1 epoch (trial 5 fails, trial 2 is stopped early).
   let leader: TrialRecord | undefined;
   scores.forEach((score, id) => {
@@ -128,7 +128,7 @@ describe('the progress display on a recorded event stream', () => {
     const { text } = replay(true);
     const lines = text.split('\r').filter((line) => /jobs/.test(line));
     expect(lines[0]).not.toMatch(/left/);
-    // Every epoch took 0.7 worker-seconds; after the first job, 20 epochs are left on at most 2 busy workers.
+    // Every epoch took 0.7 worker-seconds; after the first job, 20 epochs are left on at most 2 busy threads.
     expect(lines.find((line) => /left/.test(line))).toMatch(/00:(0[7-9]|1[0-4]) left/);
   });
 });

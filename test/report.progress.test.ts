@@ -60,7 +60,7 @@ function playJob(observe: (event: StudyEvent) => void, j: Job, trial: TrialRecor
 function started(): StudyEvent {
   counted.jobs = 0;
   counted.epochs = 0;
-  return { type: 'study-started', name: 'pumps', dir: '/runs/pumps', workers: 2, plannedTrials: 9, plannedEpochs: 21, resumed: false, progress: progressOf(0, 0) };
+  return { type: 'study-started', name: 'pumps', dir: '/runs/pumps', threads: 2, plannedTrials: 9, plannedEpochs: 21, resumed: false, progress: progressOf(0, 0) };
 }
 
 describe('planned work of each sampler', () => {
@@ -98,7 +98,7 @@ describe('progress written to a pipe', () => {
     const promoted = record(1, [0.7, 0.8], 'trained');
     playJob(observe, job(1, 1, 1, 3), promoted, promoted);
     const lines = out.text().trim().split('\n');
-    expect(lines[0]).toBe('running study pumps on 2 workers: 13 jobs, 21 epochs planned; study file in /runs/pumps');
+    expect(lines[0]).toBe('running study pumps on 2 threads: 13 jobs, 21 epochs planned; study file in /runs/pumps');
     expect(lines.slice(1)).toEqual([
       '[1/13 jobs, 1/21 epochs] trial 0 rung 0 done at epoch 1: accuracy 0.5; leader trial 0 accuracy 0.5 after 1 epoch',
       '[2/13 jobs, 2/21 epochs] trial 1 rung 0 done at epoch 1: accuracy 0.7; leader trial 1 accuracy 0.7 after 1 epoch',

@@ -1,7 +1,7 @@
 /**
  * Early stopping through the real run loop: the study file records the best epoch and the stop, a
  * resumed study replays stopped trials as not promotable and ends as an uninterrupted one, and the
- * same trials come out with 1 and 2 workers.
+ * same trials come out with 1 and 2 threads.
  */
 import path from 'node:path';
 import { describe, expect, it } from 'vitest';
@@ -20,15 +20,15 @@ const definition: StudyDefinitionInput = tinyStudy({
   earlyStopping: { rule: 'patience', patience: 1 },
 });
 
-/** What must not depend on workers or interruptions: each trial's scores, best epoch, stop and jobs. */
+/** What must not depend on threads or interruptions: each trial's scores, best epoch, stop and jobs. */
 const trialsOf = (doc: StudyDocument) =>
   doc.trials
     .map((t) => ({ id: t.id, configuration: t.configuration, score: t.score, rungScores: t.rungScores, bestEpoch: t.bestEpoch, stoppedAtEpoch: t.stoppedAtEpoch, status: t.status, jobs: t.jobs.map((j) => [j.fromEpoch, j.toEpoch]) }))
     .sort((a, b) => a.id - b.id);
 
-async function uninterrupted(workers: number): Promise<StudyDocument> {
+async function uninterrupted(threads: number): Promise<StudyDocument> {
   const file = await writeTinyStudy(definition);
-  return (await runStudy(file, { out: path.join(path.dirname(file), 'run'), workers })).doc;
+  return (await runStudy(file, { out: path.join(path.dirname(file), 'run'), threads })).doc;
 }
 
 describe('early stopping in the run loop', () => {
@@ -50,12 +50,12 @@ describe('early stopping in the run loop', () => {
     for (const trial of stopped) expect(outcomes.find((o) => o.trialId === trial.id && o.rung === trial.rungScores.length - 1)?.stopped).toBe(true);
   });
 
-  it('gives the same trials with 1 and 2 workers, and after an interruption and a resume', async () => {
+  it('gives the same trials with 1 and 2 threads, and after an interruption and a resume', async () => {
     const one = trialsOf(await uninterrupted(1));
     expect(trialsOf(await uninterrupted(2))).toEqual(one);
-    const { out, interrupted } = await runUntilTrialsFinished(definition, 10, { workers: 2 });
+    const { out, interrupted } = await runUntilTrialsFinished(definition, 10, { threads: 2 });
     expect(interrupted.doc.state).not.toBe('finished');
-    const resumed = await resumeStudy(out, { workers: 2 });
+    const resumed = await resumeStudy(out, { threads: 2 });
     expect(resumed.doc.state).toBe('finished');
     expect(trialsOf(resumed.doc)).toEqual(one);
   });

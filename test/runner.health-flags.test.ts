@@ -27,7 +27,7 @@ beforeAll(async () => {
     budget: { trials: 28, maxEpochs: 4 },
     sampler: { kind: 'tpe', seed: 3, startupTrials: 8, batchSize: 4 },
     goal: { metric: 'accuracy' },
-    workers: 2,
+    threads: 2,
   };
   await writeFile(path.join(dir, 'study.json'), JSON.stringify(definition));
   outcome = await runStudy(path.join(dir, 'study.json'), { out: path.join(dir, 'run') });

@@ -70,7 +70,7 @@ async function runCase(dataName: string, samplerName: string, variant: 'plain' |
     budget,
     sampler,
     goal: set.goal,
-    workers: 2,
+    threads: 2,
     ...(variant === 'early-stopping' ? { earlyStopping: { rule: 'patience', patience: 1 } } : {}),
   };
   await writeFile(path.join(dir, 'study.json'), JSON.stringify(definition));

@@ -77,7 +77,7 @@ describe.each(SAMPLERS)('a time limit with %s', (_name, sampler, trials) => {
     expect(Math.max(...time.starts)).toBeLessThan(limit);
     expect(time.now()).toBeLessThan(limit + 2 * 9 * SECOND);
     expect(limited.doc.trials.length).toBeLessThan(trials);
-    // After 3 jobs the measured pace (2 workers, 1 virtual second an epoch) says the limit cuts the plan.
+    // After 3 jobs the measured pace (2 threads, 1 virtual second an epoch) says the limit cuts the plan.
     expect(notes.filter((n) => /the time limit stops the study near epoch \d+ of the \d+ planned/.test(n))).toHaveLength(1);
     const summary = studySummary(limited.doc);
     expect(summary).toContain(`study ${limited.doc.name} stopped by its time limit`);
@@ -103,7 +103,7 @@ describe('rungwise run --minutes', () => {
         space: { depth: { min: 1, max: 1 }, width: { min: 4, max: 8 }, activation: ['relu'], learningRate: { min: 0.003, max: 0.05 }, batchSize: [16], optimizer: ['adam'] },
         budget: { trials: 40, maxEpochs: 40 },
         sampler: { kind: 'random', seed: 11 },
-        workers: 1,
+        threads: 1,
       }),
     );
     const out = path.join(dir, 'run');

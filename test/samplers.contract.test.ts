@@ -47,7 +47,7 @@ describe.each(SAMPLER_PLUGINS.map((plugin) => [plugin.kind]))('sampler contract:
   const plugin = samplerPlugin(kind);
 
   it('hands out no job twice, and continues a trial only where its last job ended', () => {
-    const { jobs } = simulate(createSampler(definition), { workers: 3, loss, duration: durations.uneven });
+    const { jobs } = simulate(createSampler(definition), { threads: 3, loss, duration: durations.uneven });
     expect(new Set(jobs.map((j) => `${j.trialId}/${j.rung}`)).size).toBe(jobs.length);
     const reached = new Map<number, number>();
     for (const job of jobs) {
@@ -59,7 +59,7 @@ describe.each(SAMPLER_PLUGINS.map((plugin) => [plugin.kind]))('sampler contract:
 
   it('takes every outcome once and says done, within its planned trials and epochs', () => {
     const sampler = createSampler(definition);
-    const { jobs, outcomes } = simulate(sampler, { workers: 2, loss });
+    const { jobs, outcomes } = simulate(sampler, { threads: 2, loss });
     expect(outcomes).toHaveLength(jobs.length);
     expect(sampler.next()).toBe('done');
     const plan = plannedBudget(definition);
@@ -72,7 +72,7 @@ describe.each(SAMPLER_PLUGINS.map((plugin) => [plugin.kind]))('sampler contract:
   });
 
   it('never trains a job past maxEpochs, and gives each trial one configuration', () => {
-    const { jobs } = simulate(createSampler(definition), { workers: 2, loss });
+    const { jobs } = simulate(createSampler(definition), { threads: 2, loss });
     const params = new Map<number, TrialConfiguration>();
     for (const job of jobs) {
       expect(job.toEpoch).toBeLessThanOrEqual(definition.budget.maxEpochs);
@@ -90,7 +90,7 @@ describe.each(SAMPLER_PLUGINS.map((plugin) => [plugin.kind]))('sampler contract:
       for (const [trialId, seen] of checks) seen.push(sampler.mayContinue(trialId));
     };
     simulate(sampler, {
-      workers: 3,
+      threads: 3,
       loss,
       duration: durations.uneven,
       afterReport: (outcome: JobOutcome) => {
@@ -112,20 +112,20 @@ describe.each(SAMPLER_PLUGINS.map((plugin) => [plugin.kind]))('sampler contract:
 
   if (plugin.traits.deterministic) {
     it('hands out the same jobs with 1 worker and with 4, in any finishing order', () => {
-      const one = simulate(createSampler(definition), { workers: 1, loss }).jobs.map(key).sort();
-      const four = simulate(createSampler(definition), { workers: 4, loss, duration: durations.uneven }).jobs.map(key).sort();
+      const one = simulate(createSampler(definition), { threads: 1, loss }).jobs.map(key).sort();
+      const four = simulate(createSampler(definition), { threads: 4, loss, duration: durations.uneven }).jobs.map(key).sort();
       expect(four).toEqual(one);
     });
 
     it('after an interruption at any job boundary, a replayed sampler finishes with the same jobs', () => {
-      const whole = simulate(createSampler(definition), { workers: 2, loss, duration: durations.uneven });
+      const whole = simulate(createSampler(definition), { threads: 2, loss, duration: durations.uneven });
       const expected = whole.jobs.map(key).sort();
       for (let cut = 0; cut <= whole.outcomes.length; cut += 1) {
-        const crashed = simulate(createSampler(definition), { workers: 2, loss, duration: durations.uneven, stopAfterReports: cut });
+        const crashed = simulate(createSampler(definition), { threads: 2, loss, duration: durations.uneven, stopAfterReports: cut });
         const history = new Map(crashed.jobs.map((job) => [job.trialId, job.configuration]));
         const resumed = createSampler(definition);
         const { pending } = replay(resumed, crashed.outcomes, history);
-        const rest = simulate(resumed, { workers: 2, loss, duration: durations.uneven, running: pending });
+        const rest = simulate(resumed, { threads: 2, loss, duration: durations.uneven, running: pending });
         const finished = new Set(crashed.outcomes.map((o) => `${o.trialId}/${o.rung}`));
         const all = [...crashed.jobs.filter((job) => finished.has(`${job.trialId}/${job.rung}`)), ...pending, ...rest.jobs];
         expect(all.map(key).sort()).toEqual(expected);
@@ -134,7 +134,7 @@ describe.each(SAMPLER_PLUGINS.map((plugin) => [plugin.kind]))('sampler contract:
   }
 
   it('refuses to replay a history whose configurations it would not propose', () => {
-    const first = simulate(createSampler(definition), { workers: 1, loss, stopAfterReports: 2 });
+    const first = simulate(createSampler(definition), { threads: 1, loss, stopAfterReports: 2 });
     const tampered = new Map(first.jobs.map((job) => [job.trialId, { ...job.configuration, width: job.configuration.width + 1 }]));
     expect(() => replay(createSampler(definition), first.outcomes, tampered)).toThrow(/was trained with .* but the sampler now proposes/);
   });

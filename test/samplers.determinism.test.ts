@@ -24,7 +24,7 @@ const loss = (job: Job): number => {
   const { learningRate, width, depth } = job.configuration;
   return Math.abs(Math.log10(learningRate) + 2) + 0.1 * depth + (width / 128) * (3 / job.toEpoch) - width / 1280;
 };
-/** Durations that depend on the configuration, so several workers report in a different order than one. */
+/** Durations that depend on the configuration, so several threads report in a different order than one. */
 const duration = (job: Job): number => (job.toEpoch - job.fromEpoch) * (1 + job.configuration.width / 32);
 const jobKey = (job: Job) => `${job.trialId}/${job.rung}/${job.fromEpoch}-${job.toEpoch}/b${job.bracket}`;
 const best = (log: SimulationLog) => {
@@ -40,8 +40,8 @@ describe.each([
   ['tpe', { kind: 'tpe', seed: 11, trialsBeforeModel: 8, batchSize: 3 }],
   ['tpe-hyperband', { kind: 'tpe-hyperband', eta: 3, seed: 11, smallestGroup: 2 }],
 ])('%s with 1 worker and with 3', (_name, sampler) => {
-  const one = simulate(createSampler(definition(sampler)), { workers: 1, loss, duration });
-  const three = simulate(createSampler(definition(sampler)), { workers: 3, loss, duration });
+  const one = simulate(createSampler(definition(sampler)), { threads: 1, loss, duration });
+  const three = simulate(createSampler(definition(sampler)), { threads: 3, loss, duration });
 
   it('receives results in a different order (so the comparison means something)', () => {
     expect(three.outcomes.map((o) => `${o.trialId}/${o.rung}`)).not.toEqual(one.outcomes.map((o) => `${o.trialId}/${o.rung}`));
@@ -61,7 +61,7 @@ describe.each([
 describe('createSampler', () => {
   it('runs every planned configuration once at rung 0', () => {
     for (const sampler of [{ kind: 'random' }, { kind: 'successive-halving' }, { kind: 'hyperband' }, { kind: 'async-halving' }, { kind: 'sobol' }, { kind: 'tpe' }, { kind: 'tpe-hyperband' }]) {
-      const log = simulate(createSampler(definition(sampler, 12)), { workers: 2, loss });
+      const log = simulate(createSampler(definition(sampler, 12)), { threads: 2, loss });
       expect(log.jobs.filter((j) => j.rung === 0)).toHaveLength(plannedTrialCount(definition(sampler, 12)));
     }
   });

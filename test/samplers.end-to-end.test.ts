@@ -1,6 +1,6 @@
 /**
  * The halving samplers on real training: promoted trials continue from their checkpoints, and
- * successive halving and Hyperband give the same promotions, curves and ranking with 1 and 2 workers.
+ * successive halving and Hyperband give the same promotions, curves and ranking with 1 and 2 threads.
  */
 import { existsSync } from 'node:fs';
 import { readdir } from 'node:fs/promises';
@@ -10,12 +10,12 @@ import { runStudy, type StudyOutcome } from '../src/runner/run-study.js';
 import type { StudyDefinitionInput } from '../src/study/definition.js';
 import { tinyStudy, writeTinyStudy } from './helpers/studies.js';
 
-async function runWith(definition: StudyDefinitionInput, workers: number): Promise<StudyOutcome> {
+async function runWith(definition: StudyDefinitionInput, threads: number): Promise<StudyOutcome> {
   const file = await writeTinyStudy(definition);
-  return runStudy(file, { out: path.join(path.dirname(file), `run-${workers}`), workers });
+  return runStudy(file, { out: path.join(path.dirname(file), `run-${threads}`), threads });
 }
 
-/** Everything about the trials that must not depend on the number of workers. */
+/** Everything about the trials that must not depend on the number of threads. */
 const resultOf = (outcome: StudyOutcome) =>
   outcome.doc.trials
     .map((t) => ({
@@ -35,7 +35,7 @@ const halving = tinyStudy({
 });
 
 describe('successive halving on real training', () => {
-  it('gives the same promotions, curves and ranking with 1 and with 2 workers', async () => {
+  it('gives the same promotions, curves and ranking with 1 and with 2 threads', async () => {
     const one = await runWith(halving, 1);
     const two = await runWith(halving, 2);
     expect(resultOf(two)).toEqual(resultOf(one));
@@ -64,7 +64,7 @@ describe('successive halving on real training', () => {
 });
 
 describe('Hyperband and asynchronous halving on real training', () => {
-  it('Hyperband gives the same trials and ranking with 1 and with 2 workers', async () => {
+  it('Hyperband gives the same trials and ranking with 1 and with 2 threads', async () => {
     // maxEpochs 4, eta 2: brackets of 4, 3 and 3 configurations, so 10 is one whole pass.
     const definition = tinyStudy({ budget: { trials: 10, maxEpochs: 4 }, sampler: { kind: 'hyperband', seed: 2, eta: 2, minEpochs: 1 } });
     const one = await runWith(definition, 1);
@@ -82,7 +82,7 @@ describe('Hyperband and asynchronous halving on real training', () => {
     const promoted = outcome.doc.trials.filter((t) => t.rung > 0);
     expect(promoted.length).toBeGreaterThan(0);
     for (const trial of promoted) expect(trial.promotions?.map((p) => p.fromRung)).toEqual([...Array(trial.rung).keys()]);
-    expect(outcome.doc.totals!.workerUtilisation).toBeGreaterThan(0);
+    expect(outcome.doc.totals!.threadUtilisation).toBeGreaterThan(0);
     expect(existsSync(path.join(outcome.dir, 'checkpoints'))).toBe(true);
   });
 });

@@ -69,7 +69,7 @@ describe('hyperband sampler', () => {
     new HyperbandSampler({ maxEpochs: 9, minEpochs: 1, eta: 3, configurationFor, ...(overlapBrackets === undefined ? {} : { overlapBrackets }) });
 
   it('numbers trials across brackets and tags jobs with the bracket s', () => {
-    const log = simulate(create(), { workers: 1, loss: (job) => job.trialId / 100 });
+    const log = simulate(create(), { threads: 1, loss: (job) => job.trialId / 100 });
     const firstJobs = new Map<number, Job>();
     for (const job of log.jobs) if (!firstJobs.has(job.trialId)) firstJobs.set(job.trialId, job);
     expect([...firstJobs.keys()]).toEqual([...Array(17).keys()]);
@@ -78,7 +78,7 @@ describe('hyperband sampler', () => {
   });
 
   it('runs the planned rounds: with losses rising with the id, the lowest ids go on', () => {
-    const log = simulate(create(), { workers: 1, loss: (job) => job.trialId / 100 });
+    const log = simulate(create(), { threads: 1, loss: (job) => job.trialId / 100 });
     const promoted = log.jobs.filter((j) => j.rung > 0).map((j) => [j.bracket, j.trialId, j.rung, j.fromEpoch, j.toEpoch]);
     expect(promoted).toEqual([
       [2, 0, 1, 1, 3], [2, 1, 1, 1, 3], [2, 2, 1, 1, 3],
@@ -99,14 +99,14 @@ describe('hyperband sampler', () => {
   it('hands out the same jobs with 1 worker and with 4', () => {
     const loss = (job: Job) => ((job.trialId * 7) % 11) / (job.toEpoch + 1);
     const key = (j: Job) => `${j.trialId}/${j.rung}/${j.fromEpoch}/${j.toEpoch}/${j.bracket}`;
-    const one = simulate(create(), { workers: 1, loss }).jobs.map(key).sort();
-    const four = simulate(create(), { workers: 4, loss, duration: (j) => (j.trialId % 3) + j.toEpoch }).jobs.map(key).sort();
+    const one = simulate(create(), { threads: 1, loss }).jobs.map(key).sort();
+    const four = simulate(create(), { threads: 4, loss, duration: (j) => (j.trialId % 3) + j.toEpoch }).jobs.map(key).sort();
     expect(four).toEqual(one);
   });
 
   it('repeats the brackets for several passes, trial ids running on', () => {
     const twice = new HyperbandSampler({ maxEpochs: 9, minEpochs: 1, eta: 3, configurationFor, iterations: 2 });
-    const log = simulate(twice, { workers: 2, loss: (job) => job.trialId / 100 });
+    const log = simulate(twice, { threads: 2, loss: (job) => job.trialId / 100 });
     const started = log.jobs.filter((j) => j.rung === 0);
     expect(started.map((j) => j.trialId).sort((a, b) => a - b)).toEqual([...Array(34).keys()]);
     expect(started.filter((j) => j.trialId >= 17).map((j) => j.bracket)).toEqual([...Array(9).fill(2), ...Array(5).fill(1), ...Array(3).fill(0)]);

@@ -1,5 +1,5 @@
 /**
- * Every sampler runs what it plans: over many random budgets, with 1 and 4 workers, the jobs,
+ * Every sampler runs what it plans: over many random budgets, with 1 and 4 threads, the jobs,
  * epochs and configurations a sampler hands out equal its plan (synchronous samplers), or stay
  * within it (asynchronous halving, whose plan is a hard limit). A loss function stands in for training.
  */
@@ -25,7 +25,7 @@ const space = spaceSchema.parse({
 const loss = (job: Job): number => Math.abs(Math.log10(job.configuration.learningRate) + 2) + 1 / Math.sqrt(job.configuration.width) + 1 / job.toEpoch;
 /** Some configurations diverge past epoch 3: a rung then keeps fewer than planned. */
 const lossWithDivergence = (job: Job): number | null => (job.configuration.learningRate > 0.2 && job.toEpoch > 3 ? null : loss(job));
-/** Uneven job lengths, so results arrive out of order with 4 workers. */
+/** Uneven job lengths, so results arrive out of order with 4 threads. */
 const uneven = (job: Job): number => (job.toEpoch - job.fromEpoch) * (1 + ((job.trialId * 7) % 5));
 
 type Definition = Pick<StudyDefinition, 'space' | 'budget' | 'sampler'>;
@@ -64,13 +64,13 @@ function ran(jobs: readonly Job[]): { trials: number; jobs: number; epochs: numb
 describe.each(CASES)('the plan of $name over random budgets', ({ name, sampler }) => {
   const definitions = randomDefinitions(name, name.startsWith('tpe') ? 12 : 40, sampler);
 
-  it('is what runs (synchronous samplers) or a limit never passed (asynchronous halving), with 1 and 4 workers', () => {
+  it('is what runs (synchronous samplers) or a limit never passed (asynchronous halving), with 1 and 4 threads', () => {
     for (const definition of definitions) {
       const plan = plannedBudget(definition);
-      for (const workers of [1, 4]) {
-        const { jobs } = simulate(createSampler(definition), { workers, loss, duration: uneven });
+      for (const threads of [1, 4]) {
+        const { jobs } = simulate(createSampler(definition), { threads, loss, duration: uneven });
         const run = ran(jobs);
-        const context = { budget: definition.budget, sampler: definition.sampler, workers };
+        const context = { budget: definition.budget, sampler: definition.sampler, threads };
         // Every sampler starts exactly budget.trials configurations.
         expect({ ...context, trials: run.trials }).toEqual({ ...context, trials: definition.budget.trials });
         expect({ ...context, trials: plan.trials }).toEqual({ ...context, trials: definition.budget.trials });
@@ -86,7 +86,7 @@ describe.each(CASES)('the plan of $name over random budgets', ({ name, sampler }
   it('is never passed when trials diverge (a rung then keeps fewer)', () => {
     for (const definition of definitions) {
       const plan = plannedBudget(definition);
-      const run = ran(simulate(createSampler(definition), { workers: 4, loss: lossWithDivergence, duration: uneven }).jobs);
+      const run = ran(simulate(createSampler(definition), { threads: 4, loss: lossWithDivergence, duration: uneven }).jobs);
       expect(run.jobs).toBeLessThanOrEqual(plan.jobs);
       expect(run.epochs).toBeLessThanOrEqual(plan.epochs);
     }
@@ -106,7 +106,7 @@ describe('asynchronous halving under its limit', () => {
         if (!lengths.has(key)) lengths.set(key, (job.toEpoch - job.fromEpoch) * (0.2 + 3 * draw()));
         return lengths.get(key)!;
       };
-      const { jobs } = simulate(createSampler(definition), { workers: 1 + (order % 4), loss, duration });
+      const { jobs } = simulate(createSampler(definition), { threads: 1 + (order % 4), loss, duration });
       // Each rung promotes at most the schedule's count; with no trial diverging, every count is reached.
       expect(ran(jobs)).toEqual({ trials: 27, jobs: 40, epochs: 81 });
       expect(jobs.filter((job) => job.toEpoch === 27)).toHaveLength(1);
@@ -146,7 +146,7 @@ describe('Hyperband honours budget.trials', () => {
     const definition: Definition = { space, budget: budgetSchema.parse({ trials: 49, maxEpochs: 27 }), sampler: samplerSchema.parse({ kind: 'tpe-hyperband', seed: 7, iterations: 4 }) };
     const plan = plannedBudget(definition);
     expect(plan).toMatchObject({ trials: 49, jobs: 40 + 17 + 8 + 4 });
-    const run = ran(simulate(createSampler(definition), { workers: 4, loss, duration: uneven }).jobs);
+    const run = ran(simulate(createSampler(definition), { threads: 4, loss, duration: uneven }).jobs);
     expect(run).toEqual({ trials: plan.trials, jobs: plan.jobs, epochs: plan.epochs });
   });
 });

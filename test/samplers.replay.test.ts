@@ -23,12 +23,12 @@ const outcomeKey = (o: { trialId: number; rung: number }) => `${o.trialId}/${o.r
  * rebuild a fresh sampler by replay, and finish. Returns every job that was actually run, in any order.
  */
 function interruptedRun(sampler: object, reports: number, shuffle = false) {
-  const first = simulate(createSampler(definition(sampler)), { workers: 3, loss, duration, stopAfterReports: reports });
+  const first = simulate(createSampler(definition(sampler)), { threads: 3, loss, duration, stopAfterReports: reports });
   const recorded: JobOutcome[] = shuffle ? [...first.outcomes].reverse() : first.outcomes;
   const done = new Set(recorded.map(outcomeKey));
   const resumed = createSampler(definition(sampler));
   const { pending, unused } = replay(resumed, recorded);
-  const rest = simulate(resumed, { workers: 3, loss, duration, running: pending });
+  const rest = simulate(resumed, { threads: 3, loss, duration, running: pending });
   const runJobs = [...first.jobs.filter((job) => done.has(outcomeKey(job))), ...pending, ...rest.jobs];
   return { runJobs: runJobs.map(key).sort(), unused, pending };
 }
@@ -41,7 +41,7 @@ describe.each([
   ['tpe', { kind: 'tpe', seed: 3, trialsBeforeModel: 4, batchSize: 3 }],
   ['tpe-hyperband', { kind: 'tpe-hyperband', seed: 3, smallestGroup: 2 }],
 ])('replay of %s', (_name, sampler) => {
-  const uninterrupted = simulate(createSampler(definition(sampler)), { workers: 3, loss, duration });
+  const uninterrupted = simulate(createSampler(definition(sampler)), { threads: 3, loss, duration });
   const all = uninterrupted.jobs.map(key).sort();
 
   it.each([1, 4, 9, 13])('after a crash at %i reports gives the same jobs as an uninterrupted run', (reports) => {
@@ -61,7 +61,7 @@ describe.each([
   });
 
   it('hands the jobs running at the crash out again: as pending, or from the next calls to next()', () => {
-    const crashed = simulate(createSampler(definition(sampler)), { workers: 3, loss, duration, stopAfterReports: 5 });
+    const crashed = simulate(createSampler(definition(sampler)), { threads: 3, loss, duration, stopAfterReports: 5 });
     const resumed = createSampler(definition(sampler));
     const { pending } = replay(resumed, crashed.outcomes);
     const again = pending.map(key);
@@ -74,12 +74,12 @@ describe.each([
 describe('replay', () => {
   it('rebuilds asynchronous halving exactly from a one-worker history (outcomes in hand-out order)', () => {
     const sampler = { kind: 'async-halving', seed: 3 };
-    const whole = simulate(createSampler(definition(sampler)), { workers: 1, loss });
-    const crashed = simulate(createSampler(definition(sampler)), { workers: 1, loss, stopAfterReports: 8 });
+    const whole = simulate(createSampler(definition(sampler)), { threads: 1, loss });
+    const crashed = simulate(createSampler(definition(sampler)), { threads: 1, loss, stopAfterReports: 8 });
     const resumed = createSampler(definition(sampler));
     const { pending, unused } = replay(resumed, crashed.outcomes);
     expect(unused).toEqual([]);
-    const rest = simulate(resumed, { workers: 1, loss, running: pending });
+    const rest = simulate(resumed, { threads: 1, loss, running: pending });
     expect([...crashed.jobs.slice(0, 8), ...pending, ...rest.jobs].map(key)).toEqual(whole.jobs.map(key));
   });
 

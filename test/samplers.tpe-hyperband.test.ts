@@ -42,7 +42,7 @@ describe('tpe-hyperband proposals', () => {
   // maxEpochs 9, eta 3: brackets s = 2 (9 @ 1, 3 @ 3, 1 @ 9), s = 1 (5 @ 3, 1 @ 9), s = 0 (3 @ 9): 17 trials.
   it('draws the first two brackets at random and fits the third on bracket 0 at the largest budget with N_min + 2 results', () => {
     const sampler = create(BRANIN, 2, { randomShare: 0 });
-    const log = simulate(sampler, { workers: 2, loss: withEpochs(BRANIN, sampler), duration: unevenDuration });
+    const log = simulate(sampler, { threads: 2, loss: withEpochs(BRANIN, sampler), duration: unevenDuration });
     const origins = firstJobs(log.jobs).map((job) => job.origin);
     expect(origins.slice(0, 14)).toEqual([...Array(9).fill({ method: 'random', batch: 0 }), ...Array(5).fill({ method: 'random', batch: 1 })]);
     // N_min = 2 dimensions + 1 = 3: a budget needs 5 results. Bracket 0 has 9 at 1 epoch, 3 at 3, 1 at 9.
@@ -51,21 +51,21 @@ describe('tpe-hyperband proposals', () => {
 
   it('moves to a larger budget once it has enough results there (several passes)', () => {
     const sampler = create(BRANIN, 2, { randomShare: 0, iterations: 3 });
-    const log = simulate(sampler, { workers: 2, loss: withEpochs(BRANIN, sampler) });
+    const log = simulate(sampler, { threads: 2, loss: withEpochs(BRANIN, sampler) });
     const budgets = firstJobs(log.jobs).map((job) => job.origin?.fittedOnEpochs).filter((e) => e !== undefined);
     expect(Math.max(...budgets)).toBe(9);
   });
 
   it('draws about a third at random by default, and all of them with randomShare 1', () => {
     const sampler = create(HARTMANN6, 5, { iterations: 4 });
-    const log = simulate(sampler, { workers: 2, loss: withEpochs(HARTMANN6, sampler) });
+    const log = simulate(sampler, { threads: 2, loss: withEpochs(HARTMANN6, sampler) });
     const later = firstJobs(log.jobs).filter((job) => job.origin!.batch! >= 2);
     const share = later.filter((job) => job.origin!.method === 'random').length / later.length;
     // 4 passes of 17 trials, 66 from bracket 2 on: 1/3 random, +- 3 binomial standard errors (0.058 each).
     expect(share).toBeGreaterThan(1 / 3 - 0.18);
     expect(share).toBeLessThan(1 / 3 + 0.18);
     const allRandom = create(HARTMANN6, 5, { iterations: 4, randomShare: 1 });
-    const randomLog = simulate(allRandom, { workers: 2, loss: withEpochs(HARTMANN6, allRandom) });
+    const randomLog = simulate(allRandom, { threads: 2, loss: withEpochs(HARTMANN6, allRandom) });
     expect(firstJobs(randomLog.jobs).every((job) => job.origin!.method === 'random')).toBe(true);
   });
 
@@ -73,15 +73,15 @@ describe('tpe-hyperband proposals', () => {
     const sampler = create(BRANIN, 2, { randomShare: 0, overlapBrackets: false });
     for (let i = 0; i < 9; i++) sampler.next();
     expect(sampler.next()).toBe('wait');
-    const log = simulate(create(BRANIN, 2, { randomShare: 0, overlapBrackets: false }), { workers: 2, loss: (job) => job.trialId / 10 });
+    const log = simulate(create(BRANIN, 2, { randomShare: 0, overlapBrackets: false }), { threads: 2, loss: (job) => job.trialId / 10 });
     expect(firstJobs(log.jobs).slice(9, 14).map((job) => job.origin)).toEqual(Array(5).fill({ method: 'tpe', batch: 1, fittedOnEpochs: 1 }));
   });
 });
 
 describe('tpe-hyperband determinism', () => {
-  const trialsOf = (workers: number) => {
+  const trialsOf = (threads: number) => {
     const sampler = create(HARTMANN6, 7, { iterations: 2 });
-    const log = simulate(sampler, { workers, loss: withEpochs(HARTMANN6, sampler), duration: unevenDuration });
+    const log = simulate(sampler, { threads, loss: withEpochs(HARTMANN6, sampler), duration: unevenDuration });
     return {
       order: log.outcomes.map((o) => `${o.trialId}/${o.rung}`),
       jobs: log.jobs.map((job) => JSON.stringify([job.trialId, job.rung, job.fromEpoch, job.toEpoch, job.origin, sampler.pointOf(job.trialId)])).sort(),
@@ -103,15 +103,15 @@ describe('tpe-hyperband determinism', () => {
     };
     const loss = (job: Job) => Math.abs(Math.log10(job.configuration.learningRate) + 2) + job.configuration.width / (100 * job.toEpoch);
     const key = (job: Job) => JSON.stringify([job.trialId, job.rung, job.fromEpoch, job.toEpoch, job.configuration, job.origin ?? null]);
-    const whole = simulate(createSampler(definition), { workers: 3, loss, duration: unevenDuration });
+    const whole = simulate(createSampler(definition), { threads: 3, loss, duration: unevenDuration });
     expect(whole.jobs.filter((job) => job.rung === 0)).toHaveLength(plannedBudget(definition).trials);
     expect(whole.jobs.some((job) => job.origin?.method === 'tpe')).toBe(true);
     for (const reports of [3, 12, 20, 30]) {
-      const crashed = simulate(createSampler(definition), { workers: 3, loss, duration: unevenDuration, stopAfterReports: reports });
+      const crashed = simulate(createSampler(definition), { threads: 3, loss, duration: unevenDuration, stopAfterReports: reports });
       const resumed = createSampler(definition);
       const { pending, unused } = replay(resumed, crashed.outcomes);
       expect(unused).toEqual([]);
-      const rest = simulate(resumed, { workers: 3, loss, duration: unevenDuration, running: pending });
+      const rest = simulate(resumed, { threads: 3, loss, duration: unevenDuration, running: pending });
       const done = new Set(crashed.outcomes.map((o) => `${o.trialId}/${o.rung}`));
       const ran = [...crashed.jobs.filter((job) => done.has(`${job.trialId}/${job.rung}`)), ...pending, ...rest.jobs];
       expect(ran.map(key).sort()).toEqual(whole.jobs.map(key).sort());
@@ -126,7 +126,7 @@ describe('tpe-hyperband against Hyperband with random configurations', () => {
     const floor = HARTMANN6.minimum + 1 / 27;
     const bestAtTop = (options: object, seed: number) => {
       const sampler = create(HARTMANN6, seed, { iterations: 3, ...options }, 27);
-      const log = simulate(sampler, { workers: 2, loss: withEpochs(HARTMANN6, sampler) });
+      const log = simulate(sampler, { threads: 2, loss: withEpochs(HARTMANN6, sampler) });
       const full = new Set(log.jobs.filter((job) => job.toEpoch === 27).map((job) => `${job.trialId}/${job.rung}`));
       return Math.min(...log.outcomes.filter((o) => full.has(`${o.trialId}/${o.rung}`)).map((o) => o.loss!));
     };

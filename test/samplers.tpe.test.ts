@@ -91,9 +91,9 @@ describe('TPE batches', () => {
   });
 
   it('gives the same trials whatever the worker count and arrival order', () => {
-    const trialsOf = (workers: number) => {
+    const trialsOf = (threads: number) => {
       const sampler = tpeOn(HARTMANN6, 40, 3, { trialsBeforeModel: 8, batchSize: 4 });
-      const { log } = runOnFunction(sampler, HARTMANN6, workers, unevenDuration);
+      const { log } = runOnFunction(sampler, HARTMANN6, threads, unevenDuration);
       return { order: log.outcomes.map((o) => o.trialId), trials: log.jobs.map((job) => [job.trialId, job.origin, sampler.pointOf(job.trialId)]).sort((a, b) => (a[0] as number) - (b[0] as number)) };
     };
     const one = trialsOf(1);
@@ -103,9 +103,9 @@ describe('TPE batches', () => {
   });
 
   it('in asynchronous mode hands out a job whenever asked, so different worker counts may give different trials', () => {
-    const pointsOf = (workers: number) => {
+    const pointsOf = (threads: number) => {
       const sampler = tpeOn(HARTMANN6, 30, 3, { trialsBeforeModel: 8, asynchronous: true });
-      const { log } = runOnFunction(sampler, HARTMANN6, workers, unevenDuration);
+      const { log } = runOnFunction(sampler, HARTMANN6, threads, unevenDuration);
       expect(log.jobs).toHaveLength(30);
       return log.jobs.map((job) => sampler.pointOf(job.trialId));
     };
@@ -134,7 +134,7 @@ describe('the tpe kind in a study', () => {
   const key = (job: Job) => JSON.stringify([job.trialId, job.rung, job.fromEpoch, job.toEpoch, job.configuration, job.origin]);
 
   it('trains every trial to maxEpochs and moves towards the good region once the model proposes', () => {
-    const log = simulate(createSampler(definition), { workers: 2, loss, duration: unevenDuration });
+    const log = simulate(createSampler(definition), { threads: 2, loss, duration: unevenDuration });
     expect(log.jobs).toHaveLength(24);
     expect(log.jobs.every((job) => job.fromEpoch === 0 && job.toEpoch === 9)).toBe(true);
     const lossOf = (from: number, to: number) => median(log.jobs.filter((job) => job.trialId >= from && job.trialId < to).map(loss));
@@ -142,14 +142,14 @@ describe('the tpe kind in a study', () => {
   });
 
   it('resumed from the recorded outcomes at any point, proposes the same configurations as an uninterrupted run', () => {
-    const whole = simulate(createSampler(definition), { workers: 3, loss, duration: unevenDuration });
+    const whole = simulate(createSampler(definition), { threads: 3, loss, duration: unevenDuration });
     const all = whole.jobs.map(key).sort();
     for (const reports of [1, 8, 9, 13, 20]) {
-      const crashed = simulate(createSampler(definition), { workers: 3, loss, duration: unevenDuration, stopAfterReports: reports });
+      const crashed = simulate(createSampler(definition), { threads: 3, loss, duration: unevenDuration, stopAfterReports: reports });
       const resumed = createSampler(definition);
       const { pending, unused } = replay(resumed, [...crashed.outcomes].reverse());
       expect(unused).toEqual([]);
-      const rest = simulate(resumed, { workers: 3, loss, duration: unevenDuration, running: pending });
+      const rest = simulate(resumed, { threads: 3, loss, duration: unevenDuration, running: pending });
       const done = new Set(crashed.outcomes.map((o) => o.trialId));
       const ran = [...crashed.jobs.filter((job) => done.has(job.trialId)), ...pending, ...rest.jobs];
       expect(ran.map(key).sort()).toEqual(all);

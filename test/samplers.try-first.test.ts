@@ -38,7 +38,7 @@ describe.each([
   ['tpe', { kind: 'tpe', seed: 4, trialsBeforeModel: 4, batchSize: 2 }],
   ['tpe-hyperband', { kind: 'tpe-hyperband', eta: 3, seed: 4, smallestGroup: 2 }],
 ])('tryFirst with %s', (_name, sampler) => {
-  const withList = simulate(createSampler(definition(sampler, listed)), { workers: 1, loss, duration });
+  const withList = simulate(createSampler(definition(sampler, listed)), { threads: 1, loss, duration });
 
   it('gives trials 0 and 1 exactly the listed configurations', () => {
     const configurations = byTrial(withList);
@@ -47,15 +47,15 @@ describe.each([
   });
 
   it('hands out the same jobs with 1 worker and with 3', () => {
-    const three = simulate(createSampler(definition(sampler, listed)), { workers: 3, loss, duration });
+    const three = simulate(createSampler(definition(sampler, listed)), { threads: 3, loss, duration });
     expect(Object.fromEntries(byTrial(three))).toEqual(Object.fromEntries(byTrial(withList)));
   });
 });
 
 describe('tryFirst with random search', () => {
   it('leaves every trial after the list as it was drawn without the list', () => {
-    const plain = byTrial(simulate(createSampler(definition({ kind: 'random', seed: 4 })), { workers: 1, loss, duration }));
-    const withList = byTrial(simulate(createSampler(definition({ kind: 'random', seed: 4 }, listed)), { workers: 1, loss, duration }));
+    const plain = byTrial(simulate(createSampler(definition({ kind: 'random', seed: 4 })), { threads: 1, loss, duration }));
+    const withList = byTrial(simulate(createSampler(definition({ kind: 'random', seed: 4 }, listed)), { threads: 1, loss, duration }));
     for (let id = 2; id < 12; id++) expect(withList.get(id)).toEqual(plain.get(id));
     expect(withList.get(0)).not.toEqual(plain.get(0));
   });

@@ -28,7 +28,7 @@ const irisStudy = (name: string): object => ({
   space: { depth: { min: 1, max: 1 }, width: { min: 8, max: 8 }, activation: ['tanh'], learningRate: { min: 0.02, max: 0.05 }, batchSize: [16], optimizer: ['adam'] },
   budget: { trials: 2, maxEpochs: 6 },
   sampler: { kind: 'random', seed: 3 },
-  workers: 1,
+  threads: 1,
 });
 
 beforeAll(async () => {

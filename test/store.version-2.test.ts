@@ -86,7 +86,7 @@ describe('a version 2 study file', () => {
   });
 
   it('is resumed to the end that rungwise reached at format 2 and saved as version 3', async () => {
-    const outcome = await resume({ dir, workers: 1 });
+    const outcome = await resume({ dir, threads: 1 });
     expect(outcome.alreadyFinished).toBe(false);
     const saved = JSON.parse(await readFile(studyFile, 'utf8')) as Record<string, unknown> & { trials: Record<string, unknown>[] };
     expect(saved).toMatchObject({ version: 3, state: 'finished', goal: { metric: 'auc', better: 'higher' } });

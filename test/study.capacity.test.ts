@@ -16,7 +16,7 @@ function study(overrides: { width?: number; depth?: number; trials?: number; max
       batchSize: overrides.batchSize ?? [32],
     },
     budget: { trials: overrides.trials ?? 20, maxEpochs: overrides.maxEpochs ?? 10 },
-    workers: 2,
+    threads: 2,
   });
 }
 
@@ -42,17 +42,17 @@ describe('sizes checked against the machine before the first trial', () => {
       message = (error as Error).message;
     }
     const fits = Number(/keep width\.max at or below (\d+)/.exec(message)?.[1]);
-    // 16 GiB for 2 workers is 8 GiB each, above the 4 GiB a wasm memory holds: the wasm limit decides.
-    expect(message).toContain("one worker's wasm memory holds at most 4.0 GiB");
+    // 16 GiB for 2 threads is 8 GiB each, above the 4 GiB a wasm memory holds: the wasm limit decides.
+    expect(message).toContain("one thread's wasm memory holds at most 4.0 GiB");
     expect(trainingBytes(20, 2, fits, 1, 32)).toBeLessThanOrEqual(WASM_BYTES);
     expect(trainingBytes(20, 2, fits + 1, 1, 32)).toBeGreaterThan(WASM_BYTES);
   });
 
-  it('divides the available memory between the workers', () => {
+  it('divides the available memory between the threads', () => {
     // About 0.96 GiB per trial: one worker in 8 GiB fits, sixteen (0.5 GiB each) do not.
     const definition = study({ width: 8_000 });
-    expect(() => checkCapacity({ definition, inputCount: 20, outputCount: 1, availableBytes: 8 * GiB, workers: 1 }, 'study.json')).not.toThrow();
-    expect(() => checkCapacity({ definition, inputCount: 20, outputCount: 1, availableBytes: 8 * GiB, workers: 16 }, 'study.json')).toThrow(/this machine has 8\.0 GiB available for 16 workers/);
+    expect(() => checkCapacity({ definition, inputCount: 20, outputCount: 1, availableBytes: 8 * GiB, threads: 1 }, 'study.json')).not.toThrow();
+    expect(() => checkCapacity({ definition, inputCount: 20, outputCount: 1, availableBytes: 8 * GiB, threads: 16 }, 'study.json')).toThrow(/this machine has 8\.0 GiB available for 16 threads/);
   });
 
   it('rejects a budget whose results cannot be held, naming budget.trials and the most that fit', () => {

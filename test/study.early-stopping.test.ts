@@ -200,7 +200,7 @@ describe('studies with early stopping are ranked at the best epoch', () => {
       sampler: { kind: 'successive-halving', seed: 2, eta: 3, minEpochs: 3 },
       goal: { metric: 'logLoss' },
       earlyStopping: { rule: 'patience', patience: 2 },
-      workers: 2,
+      threads: 2,
     };
     await writeFile(file, JSON.stringify(definition));
     const outcome = await runStudy(file, { out: path.join(path.dirname(csv), 'run-stopping') });

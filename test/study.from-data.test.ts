@@ -91,7 +91,7 @@ describe('run from data alone', () => {
       definition: { data: { csv: path.basename(irisFile), target: IRIS_TARGET, splitSeed: 3 }, budget: { trials: 3, maxEpochs: 2 } },
       baseDir: folder,
       out,
-      workers: 1,
+      threads: 1,
       onEvent: (event) => {
         if (event.type === 'note') notes.push(event.message);
       },
@@ -125,7 +125,7 @@ describe('run from data alone', () => {
     const file = path.join(folder, 'only-data.json');
     await writeFile(file, JSON.stringify({ data: { csv: path.basename(penguinsFile), target: PENGUINS_TARGET }, budget: { trials: 2, maxEpochs: 1 } }));
     const out = path.join(folder, 'runs', 'penguins');
-    const outcome = await run({ definition: file, out, workers: 1 });
+    const outcome = await run({ definition: file, out, threads: 1 });
     expect(outcome.doc.definition.name).toBe('penguins');
     expect(JSON.parse(await readFile(path.join(out, 'definition.json'), 'utf8'))).toMatchObject({ data: { task: 'multiclass', target: PENGUINS_TARGET } });
   });

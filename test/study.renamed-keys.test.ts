@@ -34,7 +34,7 @@ describe('old sampler option names', () => {
   });
 
   it('a study file written with them opens with the new names and a note, and its sampler can be made again', async () => {
-    const file = await writeTinyStudy(tinyStudy({ sampler: { kind: 'tpe', seed: 3, trialsBeforeModel: 4, batchSize: 2 }, budget: { trials: 4, maxEpochs: 2 }, workers: 1 }));
+    const file = await writeTinyStudy(tinyStudy({ sampler: { kind: 'tpe', seed: 3, trialsBeforeModel: 4, batchSize: 2 }, budget: { trials: 4, maxEpochs: 2 }, threads: 1 }));
     const out = path.join(path.dirname(file), 'run');
     await runStudy(file, { out });
     // The study file as an earlier rungwise wrote it: the old name in the recorded definition.
@@ -50,5 +50,50 @@ describe('old sampler option names', () => {
     expect(() => createSampler(store.doc.definition)).not.toThrow();
     // Reading never writes: the file keeps its old name until a resume saves it.
     expect(await readFile(studyFile, 'utf8')).toContain('"startupTrials":4');
+  });
+});
+
+describe('the old key and flag "workers" (now "threads": a worker is a `rungwise worker` process)', () => {
+  it('a definition with "workers" is read as "threads", with one note saying what to rename', async () => {
+    const { threads: _threads, ...rest } = tinyStudy({ threads: 1 });
+    const file = await writeTinyStudy({ ...rest, workers: 3 } as never);
+    const loaded = await loadStudy(file);
+    expect(loaded.definition.threads).toBe(3);
+    expect(loaded.definition).not.toHaveProperty('workers');
+    expect(loaded.notes).toEqual([
+      `${file}: read the old key "workers" as "threads" (threads of this machine; a worker is a rungwise worker process); rename it in the definition`,
+    ]);
+  });
+
+  it('a definition with both "workers" and "threads" is refused, naming the old key', async () => {
+    const file = await writeTinyStudy({ ...tinyStudy({ threads: 1 }), workers: 1 } as never);
+    const result = await runCli(['run', file, '--out', path.join(path.dirname(file), 'run')]);
+    expect(result.code).toBe(2);
+    expect(result.stderr).toContain('workers');
+  });
+
+  it('a study file with "workers" in its definition and totals opens with "threads", and its summary reads them', async () => {
+    const file = await writeTinyStudy(tinyStudy({ budget: { trials: 2, maxEpochs: 1 }, threads: 1 }));
+    const out = path.join(path.dirname(file), 'run');
+    await runStudy(file, { out });
+    const studyFile = studyFilePath(out);
+    const doc = JSON.parse(await readFile(studyFile, 'utf8')) as { definition: Record<string, unknown>; totals: Record<string, unknown> };
+    // As an earlier rungwise wrote it.
+    const { threads, ...definition } = doc.definition;
+    const { threads: sessionThreads, threadUtilisation, ...totals } = doc.totals;
+    await writeFile(studyFile, JSON.stringify({ ...doc, definition: { ...definition, workers: threads }, totals: { ...totals, workers: sessionThreads, workerUtilisation: threadUtilisation } }));
+    const store = await StudyStore.open(out);
+    expect(store.doc.definition.threads).toBe(1);
+    expect(store.doc.totals).toMatchObject({ threads: 1, threadUtilisation });
+    expect(store.doc.totals).not.toHaveProperty('workers');
+    expect(store.notes).toEqual([`${studyFile}: definition: read the old key "workers" as "threads" (threads of this machine; a worker is a rungwise worker process); the study file keeps the old names until resume saves it`]);
+  });
+
+  it('--workers on the command line is read as --threads, with a note', async () => {
+    const file = await writeTinyStudy(tinyStudy({ budget: { trials: 1, maxEpochs: 1 } }));
+    const result = await runCli(['run', file, '--out', path.join(path.dirname(file), 'run'), '--workers', '1']);
+    expect(result.code).toBe(0);
+    expect(result.stderr).toContain('--workers is the old name of --threads (a worker is a `rungwise worker` process); read as --threads');
+    expect(result.stderr).toMatch(/running study \S+ on 1 thread:/);
   });
 });

@@ -5,7 +5,7 @@ import type { EpochReport } from '../src/core/job.js';
 import { initBackend } from '../src/trainers/tfjs/backend.js';
 import { datasetTensors } from '../src/trainers/tfjs/data-cache.js';
 import { trainSegment } from '../src/trainers/tfjs/loop.js';
-import trialWorker from '../workers/trial-worker.js';
+import trialThread from '../threads/trial-thread.js';
 import { createNetwork, disposeNetwork, forward, lossFromLogits, networkSpec } from '../src/trainers/tfjs/network.js';
 import { syntheticDataset, trainRequest } from './helpers/synthetic.js';
 
@@ -85,7 +85,7 @@ describe('trainSegment', () => {
         if (received.length === 3) resolve();
       });
     });
-    const result = await trialWorker(trainRequest(binary, { toEpoch: 3, trainer: 'tfjs', progressPort: channel.port1 }));
+    const result = await trialThread(trainRequest(binary, { toEpoch: 3, trainer: 'tfjs', progressPort: channel.port1 }));
     await allThree;
     channel.port1.close();
     expect(received).toEqual(result.epochs);

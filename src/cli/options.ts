@@ -1,5 +1,5 @@
 /** Flag parsers and flag groups that several commands share. */
-import { type Command, InvalidArgumentError } from 'commander';
+import { type Command, InvalidArgumentError, Option } from 'commander';
 import type { QueueFlags } from '../commands/queue.js';
 
 /** A flag value that must be a whole number from 0 up. */
@@ -20,7 +20,6 @@ export function positiveInteger(value: string, name: string): number {
 export function queueOptions(command: Command): Command {
   return command
     .option('--queue <url>', 'serve the study over Redis to `rungwise worker` processes (redis://HOST:PORT/DB or rediss://)')
-    .option('--threads <n>', 'with --queue: local threads training beside the workers (default 0)', (v) => wholeNumber(v, '--threads'))
     .option('--queue-wait-seconds <s>', 'with --queue: how long to wait for an unreachable Redis, at the start (then exit 2) or during the study (then save and stop) (default 120)', (v) => positiveInteger(v, '--queue-wait-seconds'))
     .option('--password-file <file>', 'with --queue: the Redis password, on the first line of this file (or set RUNGWISE_REDIS_PASSWORD)')
     .option('--ca-file <file>', "with a rediss:// queue: PEM certificate of the authority that signed the server's certificate")
@@ -34,7 +33,6 @@ export type QueueFlagValues = QueueFlags;
 export function queueFlags(flags: QueueFlagValues): QueueFlagValues {
   return {
     ...(flags.queue !== undefined ? { queue: flags.queue } : {}),
-    ...(flags.threads !== undefined ? { threads: flags.threads } : {}),
     ...(flags.queueWaitSeconds !== undefined ? { queueWaitSeconds: flags.queueWaitSeconds } : {}),
     ...(flags.passwordFile !== undefined ? { passwordFile: flags.passwordFile } : {}),
     ...(flags.caFile !== undefined ? { caFile: flags.caFile } : {}),
@@ -71,5 +69,25 @@ export function positiveMinutes(value: string): number {
 
 /** `--top <n>`. */
 export const topFlag = (value: string): number => positiveInteger(value, '--top');
-/** `--workers <n>`. */
-export const workersFlag = (value: string): number => positiveInteger(value, '--workers');
+/** `--threads <n>` (and its old name `--workers`, hidden from the help), on `run`, `resume` and `demo`. */
+export function threadsOptions(command: Command, defaults: string): Command {
+  return command
+    .option('--threads <n>', `threads of this machine training jobs at once (${defaults})`, (v) => wholeNumber(v, '--threads'))
+    .addOption(new Option('--workers <n>', 'old name of --threads').hideHelp().argParser((v) => wholeNumber(v, '--workers')));
+}
+
+export interface ThreadsFlagValues {
+  threads?: number;
+  /** The old name of `threads`. */
+  workers?: number;
+}
+
+/**
+ * The threads asked for: `--threads`, else the old `--workers` (with a note that it was renamed: a
+ * worker is a `rungwise worker` process).
+ */
+export function threadsFlag(flags: ThreadsFlagValues, note: (message: string) => void): { threads?: number } {
+  if (flags.workers !== undefined && flags.threads === undefined) note('--workers is the old name of --threads (a worker is a `rungwise worker` process); read as --threads');
+  const threads = flags.threads ?? flags.workers;
+  return threads !== undefined ? { threads } : {};
+}

@@ -22,8 +22,8 @@ export function demoFolder(): string {
 export interface DemoOptions extends ProgressTarget {
   /** Run directory. @default runs/demo */
   out?: string;
-  /** Worker threads. @default the demo's (2) */
-  workers?: number;
+  /** Threads of this machine training jobs at once. @default the demo's (2) */
+  threads?: number;
   signal?: AbortSignal;
 }
 

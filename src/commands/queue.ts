@@ -9,8 +9,6 @@ import type { TrialTransport } from '../transports/transport.js';
 export interface QueueFlags {
   /** `redis://HOST:PORT/DB` (or `rediss://`): jobs go to `rungwise worker` processes on any machine. */
   queue?: string;
-  /** With `queue`: local threads training beside the workers (0 for none). @default 0 */
-  threads?: number;
   /** With `queue`: seconds to wait for an unreachable Redis: at the start (then exit code 2), or during the study (then it is saved and stopped). */
   queueWaitSeconds?: number;
   /** With `queue`: a file whose first line is the Redis password (else the address's, else `RUNGWISE_REDIS_PASSWORD`). */
@@ -23,7 +21,6 @@ export interface QueueFlags {
 
 /** The queue flags that only make sense with `--queue`, by their option names. */
 const QUEUE_ONLY: readonly [keyof QueueFlags, string][] = [
-  ['threads', '--threads'],
   ['queueWaitSeconds', '--queue-wait-seconds'],
   ['passwordFile', '--password-file'],
   ['caFile', '--ca-file'],
@@ -54,11 +51,12 @@ export async function settleQueued<T>(queue: QueueRun, dir: string, start: () =>
   return outcome;
 }
 
-/** Wire `--queue` into a study command; without it, nothing changes. */
-export function queueRun(flags: QueueFlags, study: { name: string; dir: string; fresh: boolean }, stderr: NodeJS.WritableStream, signal?: AbortSignal): QueueRun {
+/** Wire `--queue` into a study command (`flags.threads`: this machine's threads beside the queue, default 0); without it, nothing changes. */
+export function queueRun(flags: QueueFlags & { threads?: number }, study: { name: string; dir: string; fresh: boolean }, stderr: NodeJS.WritableStream, signal?: AbortSignal): QueueRun {
   if (flags.queue === undefined) {
     const stray = QUEUE_ONLY.find(([field]) => flags[field] !== undefined)?.[1];
-    if (stray) throw new UserError('E_QUEUE_FLAGS', `${stray} goes with --queue; without a queue, --workers sets the local threads`);
+    if (stray) throw new UserError('E_QUEUE_FLAGS', `${stray} goes with --queue`);
+    if (flags.threads === 0) throw new UserError('E_QUEUE_FLAGS', '--threads 0 goes with --queue (then only `rungwise worker` processes train); without a queue, give 1 or more');
     return { ...(signal ? { signal } : {}), check: () => undefined, ready: async () => undefined };
   }
   const key = loadStudyKey(flags.keyFile !== undefined ? { keyFile: flags.keyFile } : {});

@@ -10,8 +10,8 @@ import { queueRun, settleQueued, type QueueFlags } from './queue.js';
 export interface ResumeCommandOptions extends ProgressTarget, QueueFlags {
   /** Run directory holding `study.json`. */
   dir: string;
-  /** Worker threads. @default the study's `workers`, else available cores */
-  workers?: number;
+  /** Threads of this machine training jobs at once. @default the study's `threads`, else available cores; with `queue`, 0 (only `rungwise worker` processes train) */
+  threads?: number;
   /** Go on although the CSV changed since the study started (the study file records it). @default false */
   allowChangedData?: boolean;
   signal?: AbortSignal;
@@ -35,15 +35,15 @@ export interface ResumeCommandOptions extends ProgressTarget, QueueFlags {
  */
 export async function resume(options: ResumeCommandOptions): Promise<ResumeOutcome> {
   const saved = await StudyStore.read(options.dir);
-  const workers = options.workers ?? saved.definition.workers;
-  const crowded = options.queue === undefined && workers !== undefined ? oversubscriptionWarning(workers) : undefined;
+  const threads = options.threads ?? saved.definition.threads;
+  const crowded = options.queue === undefined && threads !== undefined ? oversubscriptionWarning(threads) : undefined;
   if (crowded) options.onWarning?.(crowded);
   const onEvent = studyObserver(options, saved.definition, saved.goal);
   const onDataEvent = dataObserver(options);
   const dir = path.resolve(options.dir);
   const queue = queueRun(options, { name: saved.name, dir, fresh: false }, options.stderr ?? process.stderr, options.signal);
   return settleQueued(queue, dir, () => resumeStudy(options.dir, {
-    ...(options.workers !== undefined ? { workers: options.workers } : {}),
+    ...(options.queue === undefined && options.threads !== undefined ? { threads: options.threads } : {}),
     ...(queue.signal ? { signal: queue.signal } : {}),
     ...(queue.transport ? { transport: queue.transport } : {}),
     ...(options.allowChangedData ? { allowChangedData: true } : {}),

@@ -31,8 +31,8 @@ export interface RunCommandOptions extends ProgressTarget, QueueFlags {
   baseDir?: string;
   /** Run directory. @default `runs/<study name>` */
   out?: string;
-  /** Worker threads. @default the study's `workers`, else available cores */
-  workers?: number;
+  /** Threads of this machine training jobs at once. @default the study's `threads`, else available cores; with `queue`, 0 (only `rungwise worker` processes train) */
+  threads?: number;
   /** Replace a run directory that already holds a study. */
   force?: boolean;
   /** Aborting stops starting jobs; running ones finish and the study is saved as interrupted. */
@@ -68,8 +68,8 @@ export async function run(options: RunCommandOptions): Promise<StudyOutcome> {
   // Validate before anything is drawn, so bad input gives only its one-line error.
   const { study, fromData } = await resolveStudy(options);
   const goal = resolveGoal(study.definition);
-  const workers = options.workers ?? study.definition.workers;
-  const crowded = options.queue === undefined && workers !== undefined ? oversubscriptionWarning(workers) : undefined;
+  const threads = options.threads ?? study.definition.threads;
+  const crowded = options.queue === undefined && threads !== undefined ? oversubscriptionWarning(threads) : undefined;
   if (crowded) options.onWarning?.(crowded);
   const onEvent = studyObserver(options, study.definition, goal);
   const onDataEvent = dataObserver(options);
@@ -77,7 +77,7 @@ export async function run(options: RunCommandOptions): Promise<StudyOutcome> {
   const queue = queueRun(options, { name: study.definition.name, dir, fresh: true }, options.stderr ?? process.stderr, options.signal);
   return settleQueued(queue, dir, () => runStudy(study, {
     ...(options.out !== undefined ? { out: options.out } : {}),
-    ...(options.workers !== undefined ? { workers: options.workers } : {}),
+    ...(options.queue === undefined && options.threads !== undefined ? { threads: options.threads } : {}),
     ...(options.force !== undefined ? { force: options.force } : {}),
     ...(fromData ? { writeDefinition: true } : {}),
     ...(queue.signal ? { signal: queue.signal } : {}),

@@ -16,8 +16,8 @@ const SHORT_SESSION_SECONDS = 60;
 export interface BudgetSummary {
   planned: { trials: number; jobs: number; epochs: number; limit: boolean };
   done: { trials: number; jobs: number; epochs: number };
-  /** This session (the last `run` or `resume`): wall seconds, workers, worker-seconds training and waiting. */
-  session: { wallSeconds: number; workers: number; trainingSeconds: number; waitingSeconds: number; utilisation: number } | null;
+  /** This session (the last `run` or `resume`): wall seconds, threads, thread-seconds training and waiting. */
+  session: { wallSeconds: number; threads: number; trainingSeconds: number; waitingSeconds: number; utilisation: number } | null;
   /** Epochs trained in each rung and their share of all epochs trained (samplers that stop trials at rungs). */
   rungs: { rung: number; epochs: number; share: number }[];
   /** Why utilisation is low, when it is. */
@@ -46,13 +46,13 @@ export function budgetSummary(doc: StudyDocument): BudgetSummary {
 function sessionTime(doc: StudyDocument): BudgetSummary['session'] {
   const totals = doc.totals;
   if (!totals || totals.busySeconds === undefined) return null;
-  const capacity = totals.workers * totals.wallSeconds;
+  const capacity = totals.threads * totals.wallSeconds;
   return {
     wallSeconds: totals.wallSeconds,
-    workers: totals.workers,
+    threads: totals.threads,
     trainingSeconds: totals.busySeconds,
     waitingSeconds: Math.max(0, capacity - totals.busySeconds),
-    utilisation: totals.workerUtilisation,
+    utilisation: totals.threadUtilisation,
   };
 }
 
@@ -68,9 +68,9 @@ function lowUtilisationReasons(summary: BudgetSummary, waitsAtRungs: boolean): s
   if (!session || session.utilisation >= LOW_UTILISATION) return [];
   const reasons: string[] = [];
   if (session.wallSeconds < SHORT_SESSION_SECONDS) reasons.push('start-up: a short session spends a visible share of its time starting worker threads and sending them the data');
-  if (waitsAtRungs) reasons.push('rung barriers: a rung is ranked only when its last job ends, so workers wait for the slowest job of each rung');
-  if (summary.done.jobs < 2 * session.workers) reasons.push(`too few jobs: ${summary.done.jobs} jobs for ${session.workers} workers, so some workers had nothing to do`);
-  if (reasons.length === 0) reasons.push('jobs of very different lengths: the last long jobs ran while the other workers had nothing left to start');
+  if (waitsAtRungs) reasons.push('rung barriers: a rung is ranked only when its last job ends, so threads wait for the slowest job of each rung');
+  if (summary.done.jobs < 2 * session.threads) reasons.push(`too few jobs: ${summary.done.jobs} jobs for ${session.threads} threads, so some threads had nothing to do`);
+  if (reasons.length === 0) reasons.push('jobs of very different lengths: the last long jobs ran while the other threads had nothing left to start');
   return reasons;
 }
 
@@ -92,7 +92,7 @@ export function budgetSummaryText(summary: BudgetSummary): string {
   ];
   if (session) {
     lines.push(
-      `time: ${formatDuration(session.wallSeconds)} on ${session.workers} worker${session.workers === 1 ? '' : 's'}: ${formatDuration(session.trainingSeconds)} training, ${formatDuration(session.waitingSeconds)} waiting (worker utilisation ${twoSignificantDigits(session.utilisation)})`,
+      `time: ${formatDuration(session.wallSeconds)} on ${session.threads} thread${session.threads === 1 ? '' : 's'}: ${formatDuration(session.trainingSeconds)} training, ${formatDuration(session.waitingSeconds)} waiting (thread utilisation ${twoSignificantDigits(session.utilisation)})`,
     );
   }
   if (summary.rungs.length > 0) lines.push(`epochs by rung: ${summary.rungs.map((r) => `rung ${r.rung} ${r.epochs} (${Math.round(100 * r.share)} %)`).join(', ')}`);

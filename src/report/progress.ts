@@ -157,10 +157,10 @@ function onStudyStarted(display: Display, event: Extract<StudyEvent, { type: 'st
   state.plannedEpochs = event.plannedEpochs;
   state.jobs = event.progress.jobsDone;
   state.trained = event.progress.epochsDone;
-  state.timeLeft = new TimeLeftEstimator(event.workers);
-  const workers = `${event.workers} worker${event.workers === 1 ? '' : 's'}`;
+  state.timeLeft = new TimeLeftEstimator(event.threads);
+  const threads = `${event.threads} thread${event.threads === 1 ? '' : 's'}`;
   const planned = `${plan.limit ? 'at most ' : ''}${plan.jobs} jobs, ${state.plannedEpochs} epochs planned`;
-  options.stream.write(`${event.resumed ? 'resuming' : 'running'} study ${event.name} on ${workers}: ${planned}; study file in ${event.dir}\n`);
+  options.stream.write(`${event.resumed ? 'resuming' : 'running'} study ${event.name} on ${threads}: ${planned}; study file in ${event.dir}\n`);
   display.draw(true);
 }
 

@@ -25,7 +25,7 @@ export class TimeLeftEstimator {
   /** Running jobs by trial, with the epochs they have trained so far. */
   private readonly running = new Map<number, { job: Job; trained: number }>();
 
-  constructor(private readonly workers: number) {}
+  constructor(private readonly threads: number) {}
 
   started(job: Job, now: number): void {
     this.firstStart ??= now;
@@ -50,7 +50,7 @@ export class TimeLeftEstimator {
   /**
    * Seconds left for `epochsLeft` planned epochs, or undefined without a basis (no job ended, nothing
    * measured). Running jobs count at their own cost; the rest at the mean cost of the epochs so far.
-   * Divided by the workers the study keeps busy (measured, at most the workers it has).
+   * Divided by the threads the study keeps busy (measured, at most the threads it has).
    */
   secondsLeft(epochsLeft: number, now: number): number | undefined {
     if (!this.ended || this.seconds <= 0 || this.cost <= 0 || this.firstStart === undefined || epochsLeft <= 0) return undefined;
@@ -64,7 +64,7 @@ export class TimeLeftEstimator {
     }
     const rest = Math.max(0, epochsLeft - runningEpochs) * (this.cost / this.epochs);
     const elapsed = (now - this.firstStart) / 1000;
-    const busy = elapsed > 0 ? Math.min(this.workers, Math.max(1, this.seconds / elapsed)) : this.workers;
+    const busy = elapsed > 0 ? Math.min(this.threads, Math.max(1, this.seconds / elapsed)) : this.threads;
     return ((runningCost + rest) * perCost) / busy;
   }
 }

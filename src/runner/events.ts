@@ -19,7 +19,7 @@ export interface StudyProgress {
 
 /** What a running study tells its observer (the CLI's progress display, a test, a library user). */
 export type StudyEvent =
-  | { type: 'study-started'; name: string; dir: string; workers: number; plannedTrials: number; plannedEpochs: number; resumed: boolean; progress: StudyProgress }
+  | { type: 'study-started'; name: string; dir: string; threads: number; plannedTrials: number; plannedEpochs: number; resumed: boolean; progress: StudyProgress }
   | { type: 'job-started'; job: Job; fromCheckpoint: boolean }
   | { type: 'epoch'; report: EpochReport }
   /**

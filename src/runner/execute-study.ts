@@ -31,20 +31,20 @@ export const GRACE_SECONDS = 10;
 
 /** What a transport factory is told. */
 export interface TransportContext {
-  /** Jobs at once the study asks for (`--workers`, the study's `workers`, else available cores). */
-  workers: number;
+  /** Threads of this machine the study asks for (`--threads`, the study's `threads`, else available cores). */
+  threads: number;
 }
 
 export interface ExecuteOptions {
-  /** Jobs at once. @default the study's `workers`, else available cores */
-  workers?: number;
+  /** Threads of this machine training jobs at once. @default the study's `threads`, else available cores */
+  threads?: number;
   onEvent?: StudyObserver;
   /** Aborting stops handing out jobs; running jobs finish, then the study is saved as interrupted. */
   signal?: AbortSignal;
   /**
    * Where trials run: a factory called once per study.
    * @default worker threads on this machine ({@link ThreadTransport})
-   * @example { transport: ({ workers }) => new ThreadTransport({ threads: workers }) }
+   * @example { transport: ({ threads }) => new ThreadTransport({ threads }) }
    */
   transport?: (context: TransportContext) => TrialTransport;
   /** Where checkpoints live between jobs. @default the run directory's `checkpoints/` ({@link FolderCheckpointStore}) */
@@ -53,8 +53,8 @@ export interface ExecuteOptions {
   faults?: FaultInjector;
   /** Test-only: called at each step of every study-file write (see `runner/faults.ts`). @default none */
   onWriteStep?: WriteStepHook;
-  /** Worker entry point of the default transport (tests and benchmarks use fixture workers). */
-  workerFile?: string;
+  /** Thread entry point of the default transport (tests and benchmarks use fixture entry points). */
+  threadFile?: string;
   /** Seconds running jobs may take to finish after an interrupt. @default {@link GRACE_SECONDS} */
   graceSeconds?: number;
   /**
@@ -101,11 +101,11 @@ function foldDatasets(data: PreparedData): SharedDataset[] {
 }
 
 function defaultTransport(options: ExecuteOptions): (context: TransportContext) => TrialTransport {
-  return ({ workers }) =>
+  return ({ threads }) =>
     new ThreadTransport({
-      threads: workers,
+      threads,
       ...(options.faults ? { faults: options.faults } : {}),
-      ...(options.workerFile ? { workerFile: options.workerFile } : {}),
+      ...(options.threadFile ? { threadFile: options.threadFile } : {}),
     });
 }
 
@@ -134,7 +134,7 @@ interface Session {
   store: StudyStore;
   options: ExecuteOptions;
   definition: StudyDocument['definition'];
-  workers: number;
+  threads: number;
   emit: StudyObserver;
   /** Say something once per `key` (the message itself unless given). */
   note: (message: string, key?: string) => void;
@@ -169,7 +169,7 @@ async function drive(store: StudyStore, data: PreparedData, options: ExecuteOpti
   store.doc.state = 'running';
   await store.save();
   announceStart(session, resumed, resumeNotes);
-  const inner = (options.transport ?? defaultTransport(options))({ workers: session.workers });
+  const inner = (options.transport ?? defaultTransport(options))({ threads: session.threads });
   // k-fold: every job runs once per fold on the inner transport; the run loop sees one job and the fold mean.
   const transport = data.folds ? new FoldsTransport(inner, foldDatasets(data)) : inner;
   try {
@@ -202,11 +202,11 @@ async function openSession(store: StudyStore, data: PreparedData, options: Execu
     clock: options.clock ?? Date.now,
     onStop: (reason) => emit({ type: 'stopping', reason: reason === 'interrupted' ? 'interrupted' : `time limit of ${minutes} minute${minutes === 1 ? '' : 's'}` }),
   });
-  const workers = options.workers ?? definition.workers ?? availableParallelism();
+  const threads = options.threads ?? definition.threads ?? availableParallelism();
   const dataset = toSharedDataset(data, datasetId(data));
   // Before the first trial, so every trial is checked against them (a study from before baselines gets them on resume).
   store.doc.baselines ??= await studyBaselines(data, data.folds ? foldDatasets(data) : [dataset], goal, definition.budget.maxEpochs, definition.sampler.seed);
-  return { store, options, definition, workers, emit, note: noteOnce(emit), sampler, planned, queue, lifecycle, keeper, persistence, dataset, stop, running: new Map(), busySeconds: 0, jobsEnded: 0, epochsAtStart: lifecycle.progress().epochsDone };
+  return { store, options, definition, threads, emit, note: noteOnce(emit), sampler, planned, queue, lifecycle, keeper, persistence, dataset, stop, running: new Map(), busySeconds: 0, jobsEnded: 0, epochsAtStart: lifecycle.progress().epochsDone };
 }
 
 /** After each save: one `trial-finished` event per saved job, with the ranking's leader at that moment. */
@@ -229,8 +229,8 @@ function noteOnce(emit: StudyObserver): (message: string, key?: string) => void 
 }
 
 function announceStart(session: Session, resumed: boolean, resumeNotes: readonly string[]): void {
-  const { store, emit, workers, planned, lifecycle, note } = session;
-  emit({ type: 'study-started', name: store.doc.name, dir: store.dir, workers, plannedTrials: planned.trials, plannedEpochs: planned.epochs, resumed, progress: lifecycle.progress() });
+  const { store, emit, threads, planned, lifecycle, note } = session;
+  emit({ type: 'study-started', name: store.doc.name, dir: store.dir, threads, plannedTrials: planned.trials, plannedEpochs: planned.epochs, resumed, progress: lifecycle.progress() });
   for (const message of [...store.notes, ...resumeNotes]) note(message);
 }
 
@@ -378,15 +378,15 @@ function settleFailure(session: Session, transport: TrialTransport, job: Job, ti
 
 /** Record the end state and the totals, save, and tell the observer. */
 async function finish(session: Session, wallSeconds: number): Promise<StudyOutcome> {
-  const { store, lifecycle, stop, workers, persistence, emit } = session;
+  const { store, lifecycle, stop, threads, persistence, emit } = session;
   const doc = store.doc;
   if (stop.reason === undefined) lifecycle.endAll();
   doc.state = stop.reason ?? 'finished';
   doc.totals = {
     epochsTrained: doc.trials.reduce((sum, t) => sum + t.epochsTrained, 0),
-    workerUtilisation: wallSeconds > 0 ? Math.min(1, session.busySeconds / (workers * wallSeconds)) : 0,
+    threadUtilisation: wallSeconds > 0 ? Math.min(1, session.busySeconds / (threads * wallSeconds)) : 0,
     wallSeconds,
-    workers,
+    threads,
     busySeconds: session.busySeconds,
   };
   await persistence.saveNow();

@@ -41,7 +41,7 @@ export async function runStudy(study: string | LoadedStudy, options: RunOptions 
     ...(options.onDataEvent ? { onDataEvent: options.onDataEvent } : {}),
   });
   const outputCount = data.recipe.task === 'multiclass' ? (data.recipe.classes?.length ?? 0) : 1;
-  checkCapacity({ definition, inputCount: data.recipe.inputCount, outputCount, ...(options.workers !== undefined ? { workers: options.workers } : {}) }, file);
+  checkCapacity({ definition, inputCount: data.recipe.inputCount, outputCount, ...(options.threads !== undefined ? { threads: options.threads } : {}) }, file);
   const dir = path.resolve(options.out ?? path.join('runs', definition.name));
   const lock = await mkdir(dir, { recursive: true })
     .then(() => lockStudy(dir))

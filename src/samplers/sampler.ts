@@ -64,7 +64,7 @@ export interface SamplerContext {
 
 /** What a sampler promises, for the contract suite and the run loop. */
 export interface SamplerTraits {
-  /** The same jobs with 1 or N workers and after an interruption at any job boundary. */
+  /** The same jobs with 1 or N threads or workers and after an interruption at any job boundary. */
   deterministic: boolean;
   /** Stops trials at rungs and promotes the best (its trials' rung numbers mean something). */
   stopsAtRungs: boolean;

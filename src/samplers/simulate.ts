@@ -2,7 +2,7 @@ import type { Job, JobOutcome, Sampler } from './sampler.js';
 
 export interface SimulationOptions {
   /** Jobs that may run at once. */
-  workers: number;
+  threads: number;
   /** The job's outcome, oriented so smaller is better (null: diverged). */
   loss: (job: Job) => number | null;
   /**
@@ -34,7 +34,7 @@ export interface SimulationLog {
 }
 
 /**
- * Drive a sampler with a virtual clock and a fixed number of workers, as the run loop would, but with
+ * Drive a sampler with a virtual clock and a fixed number of threads, as the run loop would, but with
  * a loss function in place of training. No timers and no I/O: for tests, dry runs and planning figures.
  */
 export function simulate(sampler: Sampler, options: SimulationOptions): SimulationLog {
@@ -51,7 +51,7 @@ export function simulate(sampler: Sampler, options: SimulationOptions): Simulati
 
   for (;;) {
     let answer: Job | 'wait' | 'done' = 'wait';
-    while (running.length < options.workers) {
+    while (running.length < options.threads) {
       answer = sampler.next();
       if (answer === 'wait' || answer === 'done') break;
       log.jobs.push(answer);

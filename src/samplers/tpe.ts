@@ -137,7 +137,7 @@ export const tpePlugin = defineSampler({
     kind: z.literal('tpe'),
     seed: seedField.default(0),
     trialsBeforeModel: z.int().min(2).default(10).describe('Trials from the Sobol design before the model proposes.'),
-    batchSize: z.int().min(1).default(4).describe('Proposals per batch, each batch fitted on the results of earlier ones; at least the number of workers keeps them all busy.'),
+    batchSize: z.int().min(1).default(4).describe('Proposals per batch, each batch fitted on the results of earlier ones; at least the number of threads (and queue workers) keeps them all busy.'),
     asynchronous: z.boolean().default(false).describe('Propose whenever a worker is free, running trials counted as worst (constant liar); runs may then differ.'),
     ...modelFields(TPE_MODEL_DEFAULTS),
   }),

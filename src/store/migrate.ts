@@ -98,5 +98,13 @@ export function migrateStudyDocument(doc: { version: number }): StudyDocument {
   let current = doc as VersionOneDocument | VersionTwoDocument | StudyDocument;
   if (current.version === 1) current = fromVersion1(current);
   if (current.version === 2) current = fromVersion2(current);
-  return current;
+  return withThreadTotals(current);
+}
+
+/** Totals written before `workers` was renamed `threads` (same version: the rename added no meaning). */
+function withThreadTotals(doc: StudyDocument): StudyDocument {
+  const totals = doc.totals as (Partial<StudyDocument['totals']> & { workers?: number; workerUtilisation?: number }) | undefined;
+  if (!totals || totals.workers === undefined || totals.threads !== undefined) return doc;
+  const { workers, workerUtilisation, ...rest } = totals;
+  return { ...doc, totals: { ...rest, threads: workers, threadUtilisation: workerUtilisation ?? 0 } as StudyDocument['totals'] };
 }

@@ -62,7 +62,7 @@ const documentShape = z.looseObject({
     space: z.looseObject({}),
   }),
   trials: z.array(trialShape),
-  totals: z.looseObject({ epochsTrained: count, workerUtilisation: z.number(), wallSeconds: z.number(), workers: count }).optional(),
+  totals: z.looseObject({ epochsTrained: count, threadUtilisation: z.number(), wallSeconds: z.number(), threads: count }).optional(),
 });
 
 function found(value: unknown): string {

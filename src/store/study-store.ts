@@ -7,7 +7,7 @@ import { STUDY_FILE_NAME, runPaths } from './run-dir.js';
 import type { WriteStepHook } from './file-adapter.js';
 import { StudyFileAdapter } from './study-file.js';
 import { checkFieldTypes } from './study-file-shape.js';
-import { renamedKeysNote, renameSamplerKeys } from '../study/renamed-keys.js';
+import { renamedDefinitionNote, renamedKeysNote, renameDefinitionKeys, renameSamplerKeys } from '../study/renamed-keys.js';
 import type { StudyDocument } from './types.js';
 
 export { STUDY_FILE_NAME };
@@ -32,12 +32,15 @@ function checkShape(data: unknown, file: string): StudyDocument {
   return checkFieldTypes(migrateStudyDocument({ ...doc, version }), file);
 }
 
-/** A study file written before the sampler options were renamed, read with the new names (and a note). */
+/** A study file written before keys were renamed (sampler options, `workers`), read with the new names (and a note). */
 function renameOldSamplerOptions(doc: StudyDocument, file: string): { doc: StudyDocument; notes: string[] } {
-  const { sampler, renamed } = renameSamplerKeys(doc.definition.sampler);
-  const note = renamedKeysNote(`${file}: definition`, renamed, 'the study file keeps the old names until resume saves it');
-  if (!note) return { doc, notes: [] };
-  return { doc: { ...doc, definition: { ...doc.definition, sampler: sampler as StudyDocument['definition']['sampler'] } }, notes: [note] };
+  const advice = 'the study file keeps the old names until resume saves it';
+  const top = renameDefinitionKeys(doc.definition);
+  const definition = top.definition as StudyDocument['definition'];
+  const { sampler, renamed } = renameSamplerKeys(definition.sampler);
+  const notes = [renamedDefinitionNote(`${file}: definition`, top.renamed, advice), renamedKeysNote(`${file}: definition`, renamed, advice)].filter((note): note is string => note !== undefined);
+  if (notes.length === 0) return { doc, notes: [] };
+  return { doc: { ...doc, definition: { ...definition, sampler: sampler as StudyDocument['definition']['sampler'] } }, notes };
 }
 
 /**

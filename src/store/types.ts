@@ -9,11 +9,12 @@ import type { StudyBaselines } from '../core/baselines.js';
 
 export interface StudyTotals {
   epochsTrained: number;
-  /** Busy worker time divided by workers times wall time. */
-  workerUtilisation: number;
+  /** Busy thread time divided by threads times wall time (`workerUtilisation` in files from before the rename, read as this). */
+  threadUtilisation: number;
   wallSeconds: number;
-  workers: number;
-  /** Worker-seconds spent training jobs that brought a result, this session (absent in files from before it was kept). */
+  /** Threads of the session (`workers` in files from before the rename, read as this). */
+  threads: number;
+  /** Thread-seconds spent training jobs that brought a result, this session (absent in files from before it was kept). */
   busySeconds?: number;
 }
 

@@ -46,7 +46,7 @@ export interface CapacityInput {
   /** Model inputs after one-hot encoding, and outputs. */
   inputCount: number;
   outputCount: number;
-  workers?: number;
+  threads?: number;
   /** @default {@link availableMemoryBytes} */
   availableBytes?: number;
 }
@@ -62,21 +62,21 @@ const count = (value: number): string => Math.round(value).toLocaleString('en-US
  */
 export function checkCapacity(input: CapacityInput, file: string): void {
   const { definition, inputCount, outputCount } = input;
-  const workers = input.workers ?? definition.workers ?? availableParallelism();
+  const threads = input.threads ?? definition.threads ?? availableParallelism();
   const available = input.availableBytes ?? availableMemoryBytes();
   const { depth, width, batchSize } = definition.space;
   const batch = Math.max(...batchSize);
-  const perWorker = Math.min(available / workers, WASM_BYTES);
+  const perWorker = Math.min(available / threads, WASM_BYTES);
   const needs = (w: number): number => trainingBytes(inputCount, depth.max, w, outputCount, batch);
   if (needs(width.max) > perWorker) {
     let fits = 0;
     for (let step = 2 ** 30; step >= 1; step = Math.floor(step / 2)) if (needs(fits + step) <= perWorker) fits += step;
-    const limit = perWorker === WASM_BYTES ? `one worker's wasm memory holds at most ${gib(WASM_BYTES)}` : `this machine has ${gib(available)} available for ${workers} worker${workers === 1 ? '' : 's'}`;
+    const limit = perWorker === WASM_BYTES ? `one thread's wasm memory holds at most ${gib(WASM_BYTES)}` : `this machine has ${gib(available)} available for ${threads} thread${threads === 1 ? '' : 's'}`;
     const parameters = parameterCount(inputCount, depth.max, width.max, outputCount);
     throw new UserError(
       'E_STUDY_TOO_LARGE',
       `${file}: space.width: max ${width.max} at depth up to ${depth.max} (${inputCount} inputs, batch ${batch}) gives ${count(parameters)} parameters, about ${gib(needs(width.max))} per trial while training; ` +
-        `${limit}: ${fits >= width.min ? `keep width.max at or below ${fits}` : 'lower depth.max, the batch size or the number of workers'}`,
+        `${limit}: ${fits >= width.min ? `keep width.max at or below ${fits}` : 'lower depth.max, the batch size or the number of threads'}`,
     );
   }
   const trials = plannedTrialCount(definition);

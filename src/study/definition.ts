@@ -100,7 +100,7 @@ export const studySchema = z.strictObject({
   budget: budgetSchema,
   sampler: samplerSchema.default({ kind: 'random', seed: 0 }),
   goal: goalSchema.optional().describe('Default: cost when data.costs is given, else auc for binary, accuracy for multiclass, rmse for regression.'),
-  workers: z.int().min(1).max(256).optional().describe('Worker threads; default: available cores.'),
+  threads: z.int().min(1).max(256).optional().describe('Threads of this machine training jobs at once; default: available cores. (A worker is a `rungwise worker` process on any machine.)'),
   trialTimeoutSeconds: z.number().positive().optional().describe('A trial running longer is stopped and marked timed-out.'),
   retries: z.int().min(0).max(10).default(0).describe('Times a failed trial is run again before it is given up.'),
   decisionThreshold: decisionThresholdSchema.optional(),

@@ -8,7 +8,7 @@ import { samplerBudgetProblem } from '../samplers/index.js';
 import { utf16Kind } from '../text/encoding.js';
 import { formatIssue } from './issues.js';
 import { earlyStoppingProblem } from '../core/early-stopping.js';
-import { renamedKeysNote, renameSamplerKeys } from './renamed-keys.js';
+import { renamedDefinitionNote, renamedKeysNote, renameDefinitionKeys, renameSamplerKeys } from './renamed-keys.js';
 import { listedClassWeightProblem, listedScheduleProblem } from '../space/schema.js';
 
 export interface LoadedStudy {
@@ -26,10 +26,13 @@ type StudyGoal = NonNullable<StudyDefinition['goal']>;
 
 /**
  * Old key names, read as the new ones with a note saying what to rename (the JSON Schema shows only
- * the new names): the goal (below) and the sampler options of `renamed-keys.ts`.
+ * the new names): top-level keys and sampler options of `renamed-keys.ts`, and the goal (below).
  */
 function translateOldKeys(raw: unknown, file: string): { raw: unknown; notes: string[] } {
-  const goal = translateOldGoal(raw, file);
+  const top = renameDefinitionKeys(raw);
+  const topNote = renamedDefinitionNote(file, top.renamed);
+  const goal = translateOldGoal(top.definition, file);
+  if (topNote) goal.notes.unshift(topNote);
   if (goal.raw === null || typeof goal.raw !== 'object' || Array.isArray(goal.raw) || !('sampler' in goal.raw)) return goal;
   const { sampler, renamed } = renameSamplerKeys((goal.raw as { sampler: unknown }).sampler);
   const note = renamedKeysNote(file, renamed);

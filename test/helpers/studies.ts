@@ -24,7 +24,7 @@ export function tinyStudy(overrides: Partial<StudyDefinitionInput> = {}): StudyD
     budget: { trials: 4, maxEpochs: 3 },
     sampler: { kind: 'random', seed: 1 },
     goal: { metric: 'auc' },
-    workers: 2,
+    threads: 2,
     ...overrides,
   };
 }
@@ -33,12 +33,12 @@ export function tinyStudy(overrides: Partial<StudyDefinitionInput> = {}): StudyD
  * The tiny study with networks wide and epochs many enough that a trial lasts a few tenths of a
  * second on the engine, so a run is still going when a test interrupts or kills it.
  */
-export function longTinyStudy(trials: number, workers: number): StudyDefinitionInput {
+export function longTinyStudy(trials: number, threads: number): StudyDefinitionInput {
   const base = tinyStudy();
   return tinyStudy({
     space: { ...base.space, depth: { min: 2, max: 3 }, width: { min: 64, max: 256, log: true } },
     budget: { trials, maxEpochs: 30 },
-    workers,
+    threads,
   });
 }
 

@@ -79,11 +79,11 @@ export interface PointSource {
   pointOf(trialId: number): readonly number[] | undefined;
 }
 
-/** Runs `sampler` against `fn` with `workers` virtual workers; returns the log and the values in report order. */
-export function runOnFunction(sampler: Sampler & PointSource, fn: TestFunction, workers = 1, duration?: (job: Job) => number): { log: SimulationLog; values: number[] } {
+/** Runs `sampler` against `fn` with `threads` virtual threads; returns the log and the values in report order. */
+export function runOnFunction(sampler: Sampler & PointSource, fn: TestFunction, threads = 1, duration?: (job: Job) => number): { log: SimulationLog; values: number[] } {
   const values: number[] = [];
   const log = simulate(sampler, {
-    workers,
+    threads,
     ...(duration ? { duration } : {}),
     loss: (job) => {
       const value = fn.evaluate(decode(fn.dimensions, sampler.pointOf(job.trialId)!) as Record<string, number>);
@@ -94,7 +94,7 @@ export function runOnFunction(sampler: Sampler & PointSource, fn: TestFunction, 
   return { log, values };
 }
 
-/** Virtual durations that differ by trial (epochs times 1 to 5), so several workers report out of hand-out order. */
+/** Virtual durations that differ by trial (epochs times 1 to 5), so several threads report out of hand-out order. */
 export const unevenDuration = (job: Job): number => (job.toEpoch - job.fromEpoch) * (1 + ((job.trialId * 7) % 5));
 
 export const median = (xs: readonly number[]): number => {

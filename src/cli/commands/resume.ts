@@ -1,5 +1,5 @@
 import { type CommandDeclaration, newCommand } from '../command.js';
-import { limitFlags, limitOptions, type LimitFlagValues, queueFlags, queueOptions, type QueueFlagValues, topFlag, workersFlag } from '../options.js';
+import { limitFlags, limitOptions, type LimitFlagValues, queueFlags, queueOptions, type QueueFlagValues, threadsFlag, type ThreadsFlagValues, threadsOptions, topFlag } from '../options.js';
 import { finishStudy, untilInterrupted } from '../study-output.js';
 
 /** `rungwise resume <dir>`: continue an interrupted study. */
@@ -11,18 +11,17 @@ export const resumeCommand: CommandDeclaration = ({ program, io, inject }) => {
   ])
     .description('continue an interrupted study')
     .argument('<dir>', 'run directory')
-    .option('--workers <n>', "worker threads (default: the study's, else available cores)", workersFlag)
     .option('--top <n>', 'configurations in the result (default: 10 in the table, all in JSON)', topFlag)
     .option('--json', 'print the result as JSON: every trial, ranked ones first')
     .option('--allow-changed-data', 'go on although the CSV changed since the study started (the study file records it)')
-    .action(async (dir: string, flags: { workers?: number; top?: number; json?: boolean; allowChangedData?: boolean } & QueueFlagValues & LimitFlagValues) => {
+    .action(async (dir: string, flags: { top?: number; json?: boolean; allowChangedData?: boolean } & ThreadsFlagValues & QueueFlagValues & LimitFlagValues) => {
       const target = io();
       const { resume } = await import('../../commands/resume.js');
       const outcome = await untilInterrupted(target, (signal) =>
         resume({
           dir,
           ...inject,
-          ...(flags.workers !== undefined ? { workers: flags.workers } : {}),
+          ...threadsFlag(flags, target.note),
           ...(flags.allowChangedData ? { allowChangedData: true } : {}),
           ...queueFlags(flags),
           ...limitFlags(flags),
@@ -35,6 +34,7 @@ export const resumeCommand: CommandDeclaration = ({ program, io, inject }) => {
       if (outcome?.alreadyFinished) target.note(`study ${outcome.doc.name} is already finished; nothing to resume`);
       if (outcome) await finishStudy(target, outcome, flags);
     });
+  threadsOptions(command, "default: the study's threads, else available cores; with --queue: 0");
   queueOptions(command);
   limitOptions(command);
 };

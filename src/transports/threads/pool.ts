@@ -8,48 +8,48 @@ import type { ThreadTrainRequest } from './messages.js';
 
 export interface TrialPoolOptions {
   /** Worker threads. */
-  workers: number;
-  /** Worker entry point; default: the compiled `dist/workers/trial-worker.js`. */
-  workerFile?: string;
+  threads: number;
+  /** Thread entry point; default: the compiled `dist/threads/trial-thread.js`. */
+  threadFile?: string;
 }
 
-/** A compiled file of `dist/workers/`, whether this module runs from `dist/` or from source under a test runner. */
-function compiledWorkersFile(name: string): string {
+/** A compiled file of `dist/threads/`, whether this module runs from `dist/` or from source under a test runner. */
+function compiledThreadFile(name: string): string {
   const here = path.dirname(fileURLToPath(import.meta.url));
   const candidates = [
-    path.resolve(here, '../../../workers', name), // dist/src/transports/threads -> dist/workers
-    path.resolve(here, '../../../dist/workers', name), // src/transports/threads -> dist/workers
+    path.resolve(here, '../../../threads', name), // dist/src/transports/threads -> dist/threads
+    path.resolve(here, '../../../dist/threads', name), // src/transports/threads -> dist/threads
   ];
   const found = candidates.find((file) => existsSync(file));
   if (!found) throw new Error(`${name} not found (looked at ${candidates.join(', ')}); run \`npm run build\``);
   return found;
 }
 
-/** The compiled worker entry point. */
-export function defaultWorkerFile(): string {
-  return compiledWorkersFile('trial-worker.js');
+/** The compiled thread entry point. */
+export function defaultThreadFile(): string {
+  return compiledThreadFile('trial-thread.js');
 }
 
-/** A fixed-size pool of trial workers; each task trains one job and streams its epoch reports. */
+/** A fixed-size pool of trial threads; each task trains one job and streams its epoch reports. */
 export class TrialPool {
   private readonly piscina: Piscina;
-  readonly workers: number;
+  readonly threads: number;
 
   constructor(options: TrialPoolOptions) {
-    if (!Number.isInteger(options.workers) || options.workers < 1) {
-      throw new Error(`options.workers must be a positive integer, got ${options.workers}`);
+    if (!Number.isInteger(options.threads) || options.threads < 1) {
+      throw new Error(`options.threads must be a positive integer, got ${options.threads}`);
     }
-    this.workers = options.workers;
-    const workerFile = options.workerFile ?? defaultWorkerFile();
+    this.threads = options.threads;
+    const threadFile = options.threadFile ?? defaultThreadFile();
     this.piscina = new Piscina({
       // Piscina would require() the ES-module worker first, which can abort Node 20 (see
-      // workers/esm-entry.cts); the CommonJS entry imports it instead.
-      filename: compiledWorkersFile('esm-entry.cjs'),
-      workerData: { entry: pathToFileURL(path.resolve(workerFile)).href },
-      minThreads: options.workers,
-      maxThreads: options.workers,
+      // threads/esm-entry.cts); the CommonJS entry imports it instead.
+      filename: compiledThreadFile('esm-entry.cjs'),
+      workerData: { entry: pathToFileURL(path.resolve(threadFile)).href },
+      minThreads: options.threads,
+      maxThreads: options.threads,
       // Every worker is busy or about to be; never queue more than one job per worker.
-      maxQueue: options.workers,
+      maxQueue: options.threads,
       idleTimeout: 60_000,
       // A worker keeps its data tensors between trials; one task at a time per thread.
       concurrentTasksPerWorker: 1,

@@ -11,8 +11,8 @@ export type FaultInjector = (trialId: number, attempt: number) => FaultKind | un
 export interface ThreadTransportOptions {
   /** Worker threads, each training one job at a time. */
   threads: number;
-  /** Worker entry point (tests and benchmarks use fixture workers). @default the compiled `dist/workers/trial-worker.js` */
-  workerFile?: string;
+  /** Thread entry point (tests and benchmarks use fixture entry points). @default the compiled `dist/threads/trial-thread.js` */
+  threadFile?: string;
   /** Test-only fault injection, passed to the worker with the job. @default none */
   faults?: FaultInjector;
 }
@@ -33,7 +33,7 @@ export class ThreadTransport implements TrialTransport {
       throw new RangeError(`options.threads must be a positive integer, got ${options.threads}`);
     }
     this.capacity = options.threads;
-    this.pool = new TrialPool({ workers: options.threads, ...(options.workerFile ? { workerFile: options.workerFile } : {}) });
+    this.pool = new TrialPool({ threads: options.threads, ...(options.threadFile ? { threadFile: options.threadFile } : {}) });
   }
 
   async addDataset(dataset: SharedDataset): Promise<void> {

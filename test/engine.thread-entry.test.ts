@@ -3,7 +3,7 @@ import { describe, expect, it } from 'vitest';
 import { trainSegmentOnEngine } from '../src/trainers/engine/segment.js';
 import type { EpochReport } from '../src/core/job.js';
 import { trainSegment } from '../src/trainers/tfjs/loop.js';
-import trialWorker from '../workers/trial-worker.js';
+import trialThread from '../threads/trial-thread.js';
 import { syntheticDataset, trainRequest } from './helpers/synthetic.js';
 
 const figures = (reports: EpochReport[]) => reports.map(({ seconds: _, ...rest }) => rest);
@@ -12,14 +12,14 @@ const dataset = syntheticDataset({ task: 'binary', rows: 120 });
 describe('trainer selection in the trial worker', () => {
   it('trains on the engine when the request names no trainer', async () => {
     const request = trainRequest(dataset, { toEpoch: 2, params: { dropout: 0.2 } });
-    const viaWorker = await trialWorker(request);
-    expect(figures(viaWorker.epochs)).toStrictEqual(figures((await trainSegmentOnEngine(request)).epochs));
+    const viaThread = await trialThread(request);
+    expect(figures(viaThread.epochs)).toStrictEqual(figures((await trainSegmentOnEngine(request)).epochs));
   });
 
   it("trains on the tfjs path when the request says trainer: 'tfjs'", async () => {
     const request = trainRequest(dataset, { toEpoch: 2, trainer: 'tfjs' });
-    const viaWorker = await trialWorker(request);
-    expect(figures(viaWorker.epochs)).toStrictEqual(figures((await trainSegment(request)).epochs));
-    expect(figures(viaWorker.epochs)).not.toStrictEqual(figures((await trainSegmentOnEngine(request)).epochs));
+    const viaThread = await trialThread(request);
+    expect(figures(viaThread.epochs)).toStrictEqual(figures((await trainSegment(request)).epochs));
+    expect(figures(viaThread.epochs)).not.toStrictEqual(figures((await trainSegmentOnEngine(request)).epochs));
   });
 });

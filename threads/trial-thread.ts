@@ -1,5 +1,5 @@
 /**
- * Trial worker thread entry point (piscina): one ThreadTrainRequest in, one TrainResult out,
+ * The entry point of a training thread (piscina): one ThreadTrainRequest in, one TrainResult out,
  * epoch reports posted on `request.progressPort` as they happen.
  */
 import { threadId } from 'node:worker_threads';
@@ -7,7 +7,7 @@ import type { TrainResult } from '../src/core/job.js';
 import { runTrainRequest } from '../src/trainers/run-request.js';
 import type { ThreadTrainRequest } from '../src/transports/threads/messages.js';
 
-export default async function trialWorker(request: ThreadTrainRequest): Promise<TrainResult> {
+export default async function trialThread(request: ThreadTrainRequest): Promise<TrainResult> {
   // Test-only faults, checked before any work so their effect does not depend on timing.
   if (request.fault === 'throw') throw new Error(`injected fault: trial ${request.trialId} throws`);
   if (request.fault === 'hang') await new Promise<never>(() => {}); // never settles; no timer, no busy loop

@@ -1,28 +1,28 @@
 import { describe, expect, it } from 'vitest';
-import trialWorker from '../workers/trial-worker.js';
+import trialThread from '../threads/trial-thread.js';
 import { syntheticDataset, trainRequest } from './helpers/synthetic.js';
 
 const dataset = syntheticDataset({ task: 'binary', rows: 100 });
 
 describe('trial worker entry point', () => {
   it('initialises the backend and trains the requested epochs', async () => {
-    const result = await trialWorker(trainRequest(dataset, { toEpoch: 2 }));
+    const result = await trialThread(trainRequest(dataset, { toEpoch: 2 }));
     expect(result.status).toBe('completed');
     expect(result.epochs.map((e) => e.epoch)).toEqual([1, 2]);
   });
 
   it("rejects when asked to fault with 'throw'", async () => {
-    await expect(trialWorker(trainRequest(dataset, { fault: 'throw' }))).rejects.toThrow(/injected fault/);
+    await expect(trialThread(trainRequest(dataset, { fault: 'throw' }))).rejects.toThrow(/injected fault/);
   });
 
   it("never settles when asked to fault with 'hang'", async () => {
     let settled = false;
-    trialWorker(trainRequest(dataset, { trialId: 9, fault: 'hang' })).then(
+    trialThread(trainRequest(dataset, { trialId: 9, fault: 'hang' })).then(
       () => (settled = true),
       () => (settled = true),
     );
     // A whole training request runs (and yields to the event loop) meanwhile.
-    await trialWorker(trainRequest(dataset, { toEpoch: 2 }));
+    await trialThread(trainRequest(dataset, { toEpoch: 2 }));
     await new Promise((resolve) => setImmediate(resolve));
     expect(settled).toBe(false);
   });
