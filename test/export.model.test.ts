@@ -129,7 +129,20 @@ describe('rungwise export of a kept checkpoint', () => {
     expect(summary.out).toBe(path.join(runs.multiclass!, 'export', 'rank-1'));
     expect((await readdir(summary.out)).sort()).toEqual(['configuration.json', 'model.json', 'splits.json', 'weights.bin']);
     expect(summary.caution).toBe(OPTIMISM_CAUTION);
-    expect(summary.test).toBeUndefined();
+    expect(summary.retrained).toBe(false);
+    expect(summary.network).toMatch(/^the study's own network of trial \d+, trained on the training split, weights of epoch 4$/);
+  });
+
+  it("scores the study's own network once on the held-out test split: the exported model's accuracy on those rows", async () => {
+    const doc = await StudyStore.read(runs.multiclass!);
+    const { data } = await prepareData(doc.definition.data, doc.definitionFile);
+    const model = await loadWithTfjs(summary.out);
+    const outputs = tf.tidy(() => Float32Array.from((model.predict(tf.tensor2d(data.test.x, [data.test.rows, data.recipe.inputCount])) as tf.Tensor).dataSync()));
+    model.dispose();
+    const again = computeMetrics('multiclass', data.test.y, outputs, 3);
+    expect(data.test.rows).toBeGreaterThan(0);
+    expect(summary.test!.accuracy).toBeCloseTo(again.accuracy!, 9);
+    expect(Math.abs(summary.test!.logLoss! - again.logLoss!)).toBeLessThan(1e-5);
   });
 
   it('loads with tf.loadLayersModel and reproduces the validation accuracy and log loss the study recorded', async () => {
@@ -185,7 +198,7 @@ describe('rungwise export of a kept checkpoint', () => {
     expect(configuration.recipe).toEqual(doc.recipe);
     expect(configuration.recipe.classes).toEqual(['setosa', 'versicolor', 'virginica']);
     expect(configuration.inputs).toEqual(['sepal_length', 'sepal_width', 'petal_length', 'petal_width', 'site=east', 'site=north', 'site=south']);
-    expect(configuration.test).toBeUndefined();
+    expect(configuration.test).toEqual(summary.test);
   });
 
   it('exports a leakyRelu binary network through a LeakyReLU layer with slope 0.2 and reproduces its AUC and log loss', async () => {

@@ -10,6 +10,9 @@ import { fileURLToPath } from 'node:url';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { exportModel, exportReport, type ExportSummary } from '../src/commands/export.js';
 import { compareOnTest } from '../src/export/hand-off-check.js';
+import { retrainEpochs } from '../src/export/retrain.js';
+import type { TrialRecord } from '../src/core/trial.js';
+import type { PreparedData } from '../src/data/types.js';
 import { runStudy } from '../src/runner/run-study.js';
 import type { PreprocessingRecipe } from '../src/data/types.js';
 import { initBackend } from '../src/trainers/tfjs/backend.js';
@@ -50,8 +53,39 @@ describe('export --retrain against the study network', () => {
     expect(text).toMatch(/metric\s+validation \(study\)\s+test \(study network\)\s+test \(retrained\)/);
     // The warning appears exactly when the retrained network is worse by more than one standard error.
     const h = summary.handOff!;
-    expect(text.includes('warning: the retrained network')).toBe(h.study - h.retrained > h.standardError);
+    expect(text.includes('warning: the retrained network scores')).toBe(h.study - h.retrained > h.standardError);
     expect(text).toMatch(/^baselines on the validation rows \(auc\): constant 0\.5, linear \d/m);
+  });
+
+  it('retrains for the study\'s optimizer steps over the larger set, and warns when whole epochs cannot match them (best epoch 1)', () => {
+    // Source: Goodfellow, Bengio, Courville, Deep Learning, 2016, 7.8, Algorithm 7.2 (retrain on all data for the same number of steps; from memory).
+    const e = summary.retrainEpochs!;
+    expect(e.studyEpochs).toBe(1);
+    expect(e.studySteps).toBe(Math.ceil(e.studyRows / 32));
+    expect(e.epochs).toBe(1);
+    expect(e.steps).toBe(Math.ceil(e.rows / 32));
+    expect(e.steps / e.studySteps).toBeGreaterThan(1.25);
+    const text = exportReport(summary);
+    expect(text).toContain(`warning: the retrained network took ${e.steps} optimizer steps (1 epoch over ${e.rows} rows), the study's took ${e.studySteps}`);
+    expect(text).toMatch(/^network: a network retrained from trial 0's configuration and seed on the \d+ training and validation rows for 1 epoch \(the study: 1 over \d+ rows; the same number of optimizer steps/m);
+  });
+});
+
+describe('the retrained epoch count', () => {
+  const trial = (epochsTrained: number, batchSize: number, bestEpoch?: number) =>
+    ({ epochsTrained, ...(bestEpoch !== undefined ? { bestEpoch } : {}), configuration: { batchSize } }) as unknown as TrialRecord;
+  const data = (train: number, validation: number, folds?: number[]) =>
+    ({ train: { rows: train }, validation: { rows: validation }, ...(folds ? { folds: folds.map((rows) => ({ train: { rows } })) } : {}) }) as unknown as PreparedData;
+
+  it('keeps the number of optimizer steps: 20 epochs of 1950 rows in batches of 32 become 15 epochs of 2550 rows', () => {
+    // Source: Goodfellow et al., Deep Learning, 2016, 7.8, Algorithm 7.2 (from memory). Worked: 20 x ceil(1950 / 32) = 1220 steps; ceil(2550 / 32) = 80 per epoch; 1220 / 80 = 15.25 -> 15.
+    expect(retrainEpochs(data(1950, 600), trial(20, 32))).toMatchObject({ studyEpochs: 20, epochs: 15, studySteps: 1220, steps: 1200 });
+    // With early stopping the best epoch's steps: 8 x 61 = 488; 488 / 80 = 6.1 -> 6.
+    expect(retrainEpochs(data(1950, 600), trial(20, 32, 8)).epochs).toBe(6);
+    // With 5 folds each fold trained on 4/5 of the 2550 rows (2040): 10 x 64 = 640; 640 / 80 = 8.
+    expect(retrainEpochs(data(1950, 600, [2040, 2040, 2040, 2040, 2040]), trial(10, 32))).toMatchObject({ studyRows: 2040, epochs: 8 });
+    // Never below one epoch.
+    expect(retrainEpochs(data(10, 1000), trial(1, 32)).epochs).toBe(1);
   });
 });
 

@@ -14,7 +14,7 @@ import { DEFAULT_THRESHOLD, chooseThreshold, describeRule, type ThresholdChoice 
 import { classReport, classReportText, trialClassReport, type ClassReport } from '../report/class-report.js';
 import { classFigures } from '../metrics/class-figures.js';
 import { ONNX_FILE } from '../export/onnx-schema.js';
-import { retrainTrial } from '../export/retrain.js';
+import { RETRAIN_STEP_TOLERANCE, retrainEpochs, retrainTrial, type RetrainEpochs } from '../export/retrain.js';
 import { compareOnTest, type HandOffComparison } from '../export/hand-off-check.js';
 import type { NamedWeights } from '../checkpoints/format.js';
 import { keptCheckpointWeights, trialAtRank } from '../export/select.js';
@@ -73,8 +73,12 @@ export interface ExportSummary {
   stoppedAtEpoch?: number;
   /** Metrics the study recorded for the trial's last epoch, on the validation split. */
   validation: Metrics;
-  /** With --retrain: the retrained model's metrics on the held-out test split. */
+  /** The exported network's metrics on the held-out test split: the study's own network, or the retrained one with --retrain (and with folds). */
   test?: Metrics;
+  /** What the exported network is, in words: the study's own at which epoch, or retrained on which rows for how many epochs. */
+  network: string;
+  /** With --retrain (and with folds): the retrained network's epoch count and the rule that gave it. */
+  retrainEpochs?: RetrainEpochs;
   /** With --retrain (without folds): the study's own network's metrics on the same test split, when its checkpoint is kept. */
   studyTest?: Metrics;
   /** With --retrain: the two networks compared on the test split, with the noise of the difference. */
@@ -141,10 +145,11 @@ export async function exportModel(options: ExportCommandOptions): Promise<Export
   // Every check that can refuse runs before the export folder is touched.
   const kept = retrain ? undefined : await keptCheckpointWeights(runDir, doc, chosen);
   const rule = resolveThresholdRule(doc.definition);
+  const notes: string[] = [];
   // A trial trained under another preprocessing choice than the study's own recipe: its recipe is fitted again from the data.
   const choice = preprocessingOf(trial.configuration);
   const ownRecipe = !isDefaultPreprocessing(choice);
-  const loaded = retrain || rule || doc.definition.data.costs || ownRecipe ? await exportData(doc, studyFile, options.allowChangedData ?? false, retrain) : undefined;
+  const loaded = retrain || rule || doc.definition.data.costs || ownRecipe ? await exportData(doc, studyFile, options.allowChangedData ?? false, retrain) : await testSplitData(doc, studyFile, options.allowChangedData ?? false, notes);
   const data = loaded && ownRecipe ? await choiceData(loaded, choice) : loaded;
   const out = path.resolve(options.out ?? runPaths.exportDir(runDir, rank));
   const format = options.format ?? 'tfjs';
@@ -155,7 +160,24 @@ export async function exportModel(options: ExportCommandOptions): Promise<Export
   const studyWeights = retrain && folds === undefined ? await keptCheckpointWeights(runDir, doc, chosen).catch(() => undefined) : undefined;
   const plan: ExportPlan = { doc: data && ownRecipe ? { ...doc, recipe: data.recipe } : doc, trial, rank, data, rule, retrain, format, splitRecord, ...(kept ? { kept } : {}), ...(studyWeights ? { studyWeights } : {}) };
   const figures = await writeFolderAtomically(out, (existing) => existsSync(path.join(existing, CONFIGURATION_FILE)), (partial) => writeExport(plan, partial));
-  return exportSummaryOf(plan, { dir: runDir, out, figures, studyNetworkLost: retrain && folds === undefined && !studyWeights });
+  const summary = exportSummaryOf(plan, { dir: runDir, out, figures, studyNetworkLost: retrain && folds === undefined && !studyWeights });
+  if (notes.length > 0) summary.warnings = [...(summary.warnings ?? []), ...notes];
+  return summary;
+}
+
+/**
+ * The study's data for scoring the study's own network on the test split, when there is one; when
+ * the data cannot be read back unchanged, the export goes on without a test score and says why.
+ */
+async function testSplitData(doc: StudyDocument, studyFile: string, allowChangedData: boolean, notes: string[]): Promise<PreparedData | undefined> {
+  if (doc.definition.data.testFraction === 0) return undefined;
+  try {
+    return await exportData(doc, studyFile, allowChangedData, false);
+  } catch (error) {
+    if (!(error instanceof UserError)) throw error;
+    notes.push(`note: no test-split score: ${error.message}`);
+    return undefined;
+  }
 }
 
 /** Everything an export writes, decided before the folder is touched. */
@@ -211,7 +233,8 @@ function exportSummaryOf(plan: ExportPlan, written: { dir: string; out: string; 
     rank,
     goal: doc.goal,
     score: trial.score!,
-    epoch: retrain ? (trial.bestEpoch ?? trial.epochsTrained) : scoredEpoch(trial),
+    epoch: retrain && plan.data ? retrainEpochs(plan.data, trial).epochs : scoredEpoch(trial),
+    network: networkInWords(plan),
     ...(trial.bestEpoch !== undefined ? { bestEpoch: trial.bestEpoch } : {}),
     ...(trial.stoppedAtEpoch !== undefined ? { stoppedAtEpoch: trial.stoppedAtEpoch } : {}),
     validation: lastEpochFigures(trial).metrics,
@@ -220,6 +243,7 @@ function exportSummaryOf(plan: ExportPlan, written: { dir: string; out: string; 
     files: [CONFIGURATION_FILE, MODEL_FILE, WEIGHTS_FILE, ...(format === 'onnx' ? [ONNX_FILE] : []), ...(splitRecord ? [SPLIT_RECORD_NAME] : [])],
     caution: OPTIMISM_CAUTION,
   };
+  if (retrain && plan.data) summary.retrainEpochs = retrainEpochs(plan.data, trial);
   if (figures.test) summary.test = figures.test;
   if (figures.studyTest) summary.studyTest = figures.studyTest;
   if (doc.baselines) summary.baselines = doc.baselines;
@@ -231,6 +255,16 @@ function exportSummaryOf(plan: ExportPlan, written: { dir: string; out: string; 
   if (figures.classes) summary.classes = figures.classes;
   if (figures.costs) summary.costs = figures.costs;
   return summary;
+}
+
+/** What the exported network is: the study's own (and at which epoch), or retrained on which rows, for how many epochs, and why. */
+function networkInWords(plan: ExportPlan): string {
+  const { trial, data, doc } = plan;
+  if (!plan.retrain || !data) return `the study's own network of trial ${trial.id}, trained on the training split, weights of epoch ${scoredEpoch(trial)}${trial.bestEpoch !== undefined ? ' (its best epoch)' : ''}`;
+  const e = retrainEpochs(data, trial);
+  const folds = doc.definition.data.folds;
+  const why = folds !== undefined ? `, because the study trained ${folds} networks per trial (one per fold, none on every row) and none of them is exported` : '';
+  return `a network retrained from trial ${trial.id}'s configuration and seed on the ${e.rows} training and validation rows for ${e.epochs} epoch${e.epochs === 1 ? '' : 's'} (the study: ${e.studyEpochs} over ${formatNumber(e.studyRows)} rows; ${e.rule})${why}`;
 }
 
 /** The study's own network scored on the test split beside the retrained one, and the two compared. */
@@ -256,6 +290,12 @@ function handOffWarnings(summary: ExportSummary, studyNetworkMissing: boolean): 
   if (h?.worse) {
     warnings.push(
       `warning: the retrained network scores ${h.metric} ${formatNumber(h.retrained)} on the test split, worse than the study's own network (${formatNumber(h.study)}) by more than the noise (difference ${formatNumber(h.difference)}, standard error ${formatNumber(h.standardError)}, ${h.method}); \`rungwise export ${summary.dir} --rank ${summary.rank}\` exports the study's network`,
+    );
+  }
+  const e = summary.retrainEpochs;
+  if (e && Math.abs(e.steps / e.studySteps - 1) > RETRAIN_STEP_TOLERANCE) {
+    warnings.push(
+      `warning: the retrained network took ${e.steps} optimizer steps (${e.epochs} epoch${e.epochs === 1 ? '' : 's'} over ${e.rows} rows), the study's took ${e.studySteps} (${e.studyEpochs} over ${formatNumber(e.studyRows)} rows): whole epochs cannot match them, so it may be under- or over-trained; compare its test score with the study network's`,
     );
   }
   if (studyNetworkMissing) warnings.push(`note: rank ${summary.rank} (trial ${summary.trialId}) has no kept checkpoint, so the retrained network could not be compared with the study's own on the test split`);
@@ -286,7 +326,7 @@ function exportFigures(model: tf.LayersModel, doc: StudyDocument, trial: TrialRe
     const validation = trialClassReport(doc, trial);
     if (validation) classes.validation = validation;
   }
-  if (retrain && data && data.test.rows > 0) {
+  if (data && data.test.rows > 0) {
     const threshold = figures.threshold?.threshold ?? DEFAULT_THRESHOLD;
     const testOutputs = outputsOf(data.test);
     figures.test = evaluateExportedModel(model, recipe, data.test, threshold, testOutputs);
@@ -319,16 +359,15 @@ function exportCosts(doc: StudyDocument, data: PreparedData | undefined): Export
 export function exportReport(summary: ExportSummary): string {
   const lines = [
     `exported rank ${summary.rank} (trial ${summary.trialId}) of study ${summary.study}${summary.retrained ? ', retrained on training and validation rows' : ''}`,
-    ...(summary.folds !== undefined
-      ? [`the study scored each trial on ${summary.folds} folds, so the model was retrained on all of them (the training and validation rows) for the epochs the trial was scored at; its validation figures are the mean over the folds`]
-      : []),
+    `network: ${summary.network}`,
+    ...(summary.folds !== undefined ? [`the study scored each trial on ${summary.folds} folds: its validation figures are the mean over the folds' networks, not figures of the exported one`] : []),
     ...(summary.bestEpoch !== undefined ? [`weights: ${weightsLine(summary)}`] : []),
     `folder: ${summary.out} (${summary.files.join(', ')})`,
     '',
   ];
   const names = Object.keys(summary.validation) as MetricName[];
   const study = summary.folds !== undefined ? `validation (study, mean of ${summary.folds} folds)` : 'validation (study)';
-  const header = summary.test ? ['metric', study, ...(summary.studyTest ? ['test (study network)'] : []), 'test (retrained)'] : ['metric', study];
+  const header = summary.test ? ['metric', study, ...(summary.studyTest ? ['test (study network)'] : []), summary.retrained ? 'test (retrained)' : 'test (study network)'] : ['metric', study];
   const rows = names.map((name) => {
     const row = [name, formatNumber(summary.validation[name])];
     if (summary.test && summary.studyTest) row.push(formatNumber(summary.studyTest[name]));
@@ -341,9 +380,8 @@ export function exportReport(summary: ExportSummary): string {
   if (constant !== undefined) lines.push(`baselines on the validation rows (${summary.goal.metric}): constant ${formatNumber(constant)}${linear !== undefined ? `, linear ${formatNumber(linear)}` : ''}; this trial ${formatNumber(summary.score)}`, '');
   lines.push(...thresholdLines(summary), ...costLines(summary));
   if (summary.classes?.validation) lines.push(classReportText(summary.classes.validation).replace(/^validation rows/, 'validation split'), '');
-  if (summary.classes?.test) lines.push(classReportText(summary.classes.test).replace(/^validation rows/, 'test split (retrained model)'), '');
-  if (!summary.test && summary.retrained) lines.push('No test metrics: the study holds no test split (data.testFraction is 0).');
-  else if (!summary.test) lines.push(`No test metrics: \`rungwise export ${summary.dir} --rank ${summary.rank} --retrain\` scores the configuration on the held-out test split.`);
+  if (summary.classes?.test) lines.push(classReportText(summary.classes.test).replace(/^validation rows/, summary.retrained ? 'test split (retrained model)' : 'test split (study network)'), '');
+  if (!summary.test) lines.push('No test metrics: the study holds no test split (data.testFraction is 0), or its data could not be read back (see the note).');
   lines.push(...(summary.warnings ?? []));
   lines.push(summary.caution);
   return lines.join('\n');

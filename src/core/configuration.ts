@@ -2,6 +2,7 @@
  * The vocabulary every layer shares: what a trial's configuration is, the tasks, the metrics, and the
  * goal a study ranks by. Plain values and types; the study file's schema builds on them.
  */
+import type { ClassWeighting } from './class-weighting.js';
 
 /** Activations a hidden layer may use. `leakyRelu` uses slope 0.2 below zero (the tfjs layers default). */
 export const ACTIVATIONS = ['relu', 'leakyRelu', 'elu', 'selu', 'tanh', 'sigmoid', 'softplus', 'swish', 'relu6'] as const;
@@ -53,6 +54,13 @@ export interface TrialConfiguration {
   stepEpochs?: number;
   /** cosine only (present when the space's schedule kinds include cosine). */
   minFactor?: number;
+  /**
+   * Present only when the space has `classWeights` (src/core/class-weighting.ts): the training loss's
+   * class weighting, computed from the training rows by the trainer; absent: the study's `data.classWeights`.
+   */
+  classWeights?: ClassWeighting;
+  /** Cui et al.'s beta, present when `classWeights` is `effective` (the space's `effectiveBeta`). */
+  effectiveBeta?: number;
   /**
    * Decoupled weight decay lambda: each step shrinks every kernel by lambda times the schedule's
    * multiplier (Loshchilov and Hutter, ICLR 2019); absent: none.

@@ -5,35 +5,20 @@
  */
 import { UserError } from '../core/errors.js';
 import type { DataSettings } from '../study/definition.js';
+import { balancedWeights, classCounts, normaliseClassWeights } from '../core/class-weighting.js';
+
+export { classCounts, normaliseClassWeights };
 
 export type ClassWeightSetting = NonNullable<DataSettings['classWeights']>;
 
-/** The number of training rows of each class index, from the encoded labels. */
-export function classCounts(labels: ArrayLike<number>, classCount: number): number[] {
-  const counts = new Array<number>(classCount).fill(0);
-  for (let i = 0; i < labels.length; i++) counts[labels[i]!]! += 1;
-  return counts;
-}
-
 /**
- * The weight of each class before normalisation. `balanced`: w_c = n / (classes x n_c), the
- * formula of King and Zeng (2001) as scikit-learn's `compute_class_weight('balanced')` states it;
- * a map: the given weight, 1 for a class it does not name.
+ * The weight of each class before normalisation. `balanced`: {@link balancedWeights} (core); a map:
+ * the given weight, 1 for a class it does not name.
  */
 export function rawClassWeights(setting: ClassWeightSetting, classes: readonly string[], counts: readonly number[]): number[] {
-  if (setting === 'balanced') {
-    const n = counts.reduce((sum, count) => sum + count, 0);
-    return counts.map((count) => n / (classes.length * count));
-  }
+  if (setting === 'balanced') return balancedWeights(counts);
   if (setting === 'none') return classes.map(() => 1);
   return classes.map((label) => setting[label] ?? 1);
-}
-
-/** `weights` scaled so that sum_c counts_c * w_c = n: the mean weight over the training rows is 1. */
-export function normaliseClassWeights(weights: readonly number[], counts: readonly number[]): number[] {
-  const n = counts.reduce((sum, count) => sum + count, 0);
-  const total = weights.reduce((sum, weight, c) => sum + weight * counts[c]!, 0);
-  return weights.map((weight) => (weight * n) / total);
 }
 
 /**

@@ -81,14 +81,14 @@ export interface ExportConfiguration {
   score: number;
   /** Figures the study recorded for the trial's scored epoch (the last, or the best with early stopping; validation split; for a k-fold study the mean over folds). */
   validation: LastEpochFigures;
-  /** Set with --retrain: metrics of the retrained model on the held-out test split, computed once (a binary model's at its threshold). */
+  /** Metrics of the exported network on the held-out test split (the study's own, or the retrained one with --retrain), computed once (a binary model's at its threshold). */
   test?: Metrics;
   /** Set with --retrain when the study's own network was kept: its metrics on the same test split, and the two compared (the noise of the difference). */
   studyTest?: Metrics;
   handOff?: HandOffComparison;
   /** Baselines the study recorded on its validation rows (constant and linear), to compare the winner with. */
   baselines?: StudyDocument['baselines'];
-  /** Classification: per-class figures and the confusion matrix on the validation split (at the decision threshold for a binary model), and on the test split with --retrain. */
+  /** Classification: per-class figures and the confusion matrix on the validation split (at the decision threshold for a binary model), and on the test split. */
   classes?: { validation?: ClassReport; test?: ClassReport };
   /** Rows the exported weights were trained on. */
   trainedOn: 'training split' | 'training and validation splits';
@@ -146,7 +146,7 @@ export interface ExportFigures {
   studyTest?: Metrics;
   /** With --retrain: the two networks compared on the test split. */
   handOff?: HandOffComparison;
-  /** With --retrain: the retrained model's metrics on the test split. */
+  /** The exported network's metrics on the test split (the retrained model's with --retrain). */
   test?: Metrics;
   /** Binary: the threshold chosen by the study's rule (absent: 0.5, no rule). */
   threshold?: ThresholdChoice;
@@ -163,7 +163,6 @@ function defaultThresholdChoice(): ThresholdChoice {
 }
 
 export function buildConfiguration(doc: StudyDocument, trial: TrialRecord, rank: number, figures: ExportFigures = {}): ExportConfiguration {
-  const retrained = figures.test ? { test: figures.test } : undefined;
   const configuration: ExportConfiguration = {
     format: EXPORT_FORMAT,
     version: EXPORT_FORMAT_VERSION,
@@ -178,14 +177,14 @@ export function buildConfiguration(doc: StudyDocument, trial: TrialRecord, rank:
     goal: doc.goal,
     score: trial.score!,
     validation: lastEpochFigures(trial),
-    trainedOn: retrained || figures.retrained ? 'training and validation splits' : 'training split',
+    trainedOn: figures.retrained ? 'training and validation splits' : 'training split',
     recipe: doc.recipe,
     inputs: inputNames(doc.recipe),
     outputs: modelOutputs(doc.recipe, figures.threshold, figures.costs),
     model: { file: MODEL_FILE, weights: WEIGHTS_FILE, format: 'tfjs layers model' },
     caution: OPTIMISM_CAUTION,
   };
-  if (retrained) configuration.test = retrained.test;
+  if (figures.test) configuration.test = figures.test;
   if (figures.studyTest) configuration.studyTest = figures.studyTest;
   if (figures.handOff) configuration.handOff = figures.handOff;
   if (doc.baselines) configuration.baselines = doc.baselines;

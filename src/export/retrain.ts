@@ -33,9 +33,51 @@ function retrainDataset(data: PreparedData, trialId: number): SharedDataset {
   return { ...base, train: concatenate(data.train, data.validation) };
 }
 
+/** How many epochs a retrained network trains, and from what. */
+export interface RetrainEpochs {
+  /** The epochs the study scored the trial at (its best epoch with early stopping). */
+  studyEpochs: number;
+  /** Training rows per epoch in the study (with folds, the folds' mean). */
+  studyRows: number;
+  /** Training rows per epoch when retrained (training plus validation rows). */
+  rows: number;
+  /** The retrained network's epochs: the study's optimizer steps over the larger set, rounded, at least 1. */
+  epochs: number;
+  /** Optimizer steps in the study and when retrained (whole epochs make them differ). */
+  studySteps: number;
+  steps: number;
+  rule: string;
+}
+
+/**
+ * The retrained steps may differ from the study's by this share before the export warns (whole
+ * epochs cannot match them at one or two epochs). Common practice (no source).
+ */
+export const RETRAIN_STEP_TOLERANCE = 0.25;
+
+/** The rule in words, for the export's output. */
+export const RETRAIN_EPOCH_RULE =
+  'the same number of optimizer steps as the study took (epochs x ceil(rows / batch size)), so more rows take fewer epochs: Goodfellow, Bengio, Courville, Deep Learning, 2016, section 7.8, Algorithm 7.2';
+
+/**
+ * The retrained network's epoch count: the study's epochs (best epoch with early stopping) scaled so
+ * the optimizer takes as many steps over training plus validation rows as it took in the study.
+ * Source: Goodfellow et al., Deep Learning, 2016, 7.8, Algorithm 7.2 (retrain on all data for the
+ * same number of steps; from memory, which also notes that the same number of passes is the other choice).
+ */
+export function retrainEpochs(data: PreparedData, trial: TrialRecord): RetrainEpochs {
+  const studyEpochs = trial.bestEpoch ?? trial.epochsTrained;
+  const studyRows = data.folds && data.folds.length > 0 ? data.folds.reduce((sum, fold) => sum + fold.train.rows, 0) / data.folds.length : data.train.rows;
+  const rows = data.train.rows + data.validation.rows;
+  const batch = trial.configuration.batchSize;
+  const studySteps = studyEpochs * Math.ceil(studyRows / batch);
+  const epochs = Math.max(1, Math.round(studySteps / Math.ceil(rows / batch)));
+  return { studyEpochs, studyRows, rows, epochs, studySteps, steps: epochs * Math.ceil(rows / batch), rule: RETRAIN_EPOCH_RULE };
+}
+
 /**
  * Trains `trial`'s configuration from its seed on training plus validation rows for
- * `trial.epochsTrained` epochs (its best epoch's count with early stopping) and returns its network weights.
+ * {@link retrainEpochs} epochs and returns its network weights.
  * @throws UserError (E_EXPORT_DIVERGED) when the loss stops being finite.
  */
 export async function retrainTrial(data: PreparedData, trial: TrialRecord, maxEpochs?: number): Promise<NamedWeights[]> {
@@ -49,8 +91,8 @@ export async function retrainTrial(data: PreparedData, trial: TrialRecord, maxEp
       dataset,
       datasetId: dataset.id,
       fromEpoch: 0,
-      // With early stopping: as many epochs as the best epoch had (there is no validation split left to stop on).
-      toEpoch: trial.bestEpoch ?? trial.epochsTrained,
+      // The study's steps (to its best epoch with early stopping: no validation split is left to stop on).
+      toEpoch: retrainEpochs(data, trial).epochs,
       ...(maxEpochs !== undefined && hasSchedule(trial.configuration) ? { maxEpochs } : {}),
     });
     if (result.status === 'diverged') {

@@ -69,6 +69,7 @@ export function parameterAxes(study: StudyDocument): ParameterAxis[] {
     ...(space.shape ? [{ key: 'shape', title: 'hidden-layer widths (constant or funnel)', shortTitle: 'shape', kind: 'nominal', categories: [...space.shape] } satisfies ParameterAxis] : []),
     ...(space.block ? [{ key: 'block', title: 'hidden layers stacked plain or in residual blocks', shortTitle: 'block', kind: 'nominal', categories: [...space.block] } satisfies ParameterAxis] : []),
     ...preprocessingAxes(study),
+    ...(space.classWeights ? [{ key: 'classWeights', title: 'class weighting of the training loss', shortTitle: 'class weights', kind: 'nominal', categories: [...space.classWeights] } satisfies ParameterAxis] : []),
   ];
 }
 

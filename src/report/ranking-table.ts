@@ -1,4 +1,4 @@
-import type { Goal } from '../core/configuration.js';
+import type { Goal, TrialConfiguration } from '../core/configuration.js';
 import { isFinished, type RankedTrial } from '../core/ranking.js';
 import { flagsText } from '../core/health.js';
 import { scheduleInWords } from '../core/schedule.js';
@@ -25,6 +25,7 @@ export function rankingTable(ranking: readonly RankedTrial[], goal: Goal): strin
   const shapes = ranking.some(({ trial }) => trial.configuration.shape !== undefined);
   const blocks = ranking.some(({ trial }) => trial.configuration.block !== undefined);
   const preprocessing = ranking.some(({ trial }) => trial.configuration.numericInputs !== undefined || trial.configuration.poolCategoriesBelow !== undefined);
+  const weightings = ranking.some(({ trial }) => trial.configuration.classWeights !== undefined);
   const flagged = ranking.some(({ trial }) => (trial.flags?.length ?? 0) > 0);
   const regularised = ranking.some(({ trial }) => regularisersInWords(trial.configuration) !== undefined);
   // Classification: accuracy and macro-F1 side by side (besides the goal's metric), to see what class weights trade.
@@ -32,7 +33,7 @@ export function rankingTable(ranking: readonly RankedTrial[], goal: Goal): strin
   const sideBySide = (['accuracy', 'macroF1'] as const).filter((name) => name !== goal.metric && ranking.some(({ trial }) => scoredPoint(trial)?.metrics[name] !== undefined));
   // The cost goal is per row; a column per 1,000 rows reads as an amount a user can weigh.
   const perThousand = goal.metric === 'cost';
-  const header = ['rank', 'trial', 'rung', 'epochs', ...(stopping ? ['best epoch'] : []), folds ? `${goal.metric} (fold mean ± SE)` : goal.metric, ...(perThousand ? ['cost per 1,000 rows'] : []), ...sideBySide, 'depth', 'width', ...(shapes ? ['shape'] : []), ...(blocks ? ['block'] : []), 'activation', 'learning rate', ...(schedules ? ['schedule'] : []), 'batch', 'optimizer', 'l2', 'dropout', ...(regularised ? ['regularisers'] : []), ...(preprocessing ? ['preprocessing'] : []), ...(flagged ? ['flags'] : [])];
+  const header = ['rank', 'trial', 'rung', 'epochs', ...(stopping ? ['best epoch'] : []), folds ? `${goal.metric} (fold mean ± SE)` : goal.metric, ...(perThousand ? ['cost per 1,000 rows'] : []), ...sideBySide, 'depth', 'width', ...(shapes ? ['shape'] : []), ...(blocks ? ['block'] : []), 'activation', 'learning rate', ...(schedules ? ['schedule'] : []), 'batch', 'optimizer', 'l2', 'dropout', ...(regularised ? ['regularisers'] : []), ...(preprocessing ? ['preprocessing'] : []), ...(weightings ? ['class weights'] : []), ...(flagged ? ['flags'] : [])];
   const rows = ranking.map(({ rank, trial }) => [
     String(rank),
     String(trial.id),
@@ -55,9 +56,17 @@ export function rankingTable(ranking: readonly RankedTrial[], goal: Goal): strin
     formatNumber(trial.configuration.dropout),
     ...(regularised ? [regularisersInWords(trial.configuration) ?? '-'] : []),
     ...(preprocessing ? [preprocessingInWords(trial.configuration)] : []),
+    ...(weightings ? [classWeightingText(trial.configuration)] : []),
     ...(flagged ? [flagsText(trial.flags) || '-'] : []),
   ]);
   return textTable(header, rows);
+}
+
+/** A trial's class weighting in a few words: the weighting, with its beta for `effective`. */
+export function classWeightingText(configuration: TrialConfiguration): string {
+  const { classWeights, effectiveBeta } = configuration;
+  if (classWeights === undefined) return '-';
+  return classWeights === 'effective' ? `effective (beta ${formatNumber(effectiveBeta)})` : classWeights;
 }
 
 /** The ranking as plain data for `--json`. */

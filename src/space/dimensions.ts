@@ -9,8 +9,9 @@
  */
 import { drawsOnLogScale, type SearchSpace } from './schema.js';
 import type { TrialConfiguration } from '../core/configuration.js';
-import { choose, drawInteger, logUniform, uniform, type ScheduleSetting } from './sample.js';
 import { regulariserFields, spaceRegularisers } from './regularisers.js';
+import { choose, classWeightingAt, drawInteger, logUniform, uniform, type ScheduleSetting } from './sample.js';
+import type { ClassWeighting } from '../core/class-weighting.js';
 
 export interface NumericDimension {
   kind: 'numeric';
@@ -118,6 +119,7 @@ export function spaceDimensions(space: SearchSpace): Dimension[] {
   if (space.block) dimensions.push({ kind: 'categorical', name: 'block', choices: space.block });
   if (space.numericInputs) dimensions.push({ kind: 'categorical', name: 'numericInputs', choices: space.numericInputs });
   if (space.poolCategoriesBelow) dimensions.push({ kind: 'categorical', name: 'poolCategoriesBelow', choices: space.poolCategoriesBelow });
+  if (space.classWeights) dimensions.push({ kind: 'categorical', name: 'classWeights', choices: space.classWeights });
   return dimensions;
 }
 
@@ -139,6 +141,7 @@ export function configurationAt(space: SearchSpace, point: readonly number[]): T
     ...(space.block ? { block: values['block'] as TrialConfiguration['block'] } : {}),
     ...(space.numericInputs ? { numericInputs: values['numericInputs'] as TrialConfiguration['numericInputs'] } : {}),
     ...(space.poolCategoriesBelow ? { poolCategoriesBelow: values['poolCategoriesBelow'] as number } : {}),
+    ...(space.classWeights ? classWeightingAt(space, values['classWeights'] as ClassWeighting) : {}),
   };
 }
 

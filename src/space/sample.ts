@@ -2,6 +2,7 @@ import { drawsOnLogScale, type SearchSpace } from './schema.js';
 import type { TrialConfiguration } from '../core/configuration.js';
 import { stream, type Rng } from '../random/streams.js';
 import { REGULARISERS, regulariserFields, spaceRegularisers } from './regularisers.js';
+import { DEFAULT_EFFECTIVE_BETA, type ClassWeighting } from '../core/class-weighting.js';
 
 /**
  * Draw one configuration from the search space.
@@ -47,13 +48,21 @@ export function sampleConfiguration(space: SearchSpace, rng: Rng): TrialConfigur
   if (space.shape) drawn.shape = choose(space.shape, rng());
   // Likewise the block, last of all.
   if (space.block) drawn.block = choose(space.block, rng());
-  if (space.numericInputs === undefined && space.poolCategoriesBelow === undefined) return drawn;
-  // Two draws after everything else, always together, so a space without preprocessing choices draws as before.
-  const numericDraw = rng();
-  const poolDraw = rng();
-  if (space.numericInputs) drawn.numericInputs = choose(space.numericInputs, numericDraw);
-  if (space.poolCategoriesBelow) drawn.poolCategoriesBelow = choose(space.poolCategoriesBelow, poolDraw);
+  if (space.numericInputs !== undefined || space.poolCategoriesBelow !== undefined) {
+    // Two draws, always together, so a space without preprocessing choices draws as before.
+    const numericDraw = rng();
+    const poolDraw = rng();
+    if (space.numericInputs) drawn.numericInputs = choose(space.numericInputs, numericDraw);
+    if (space.poolCategoriesBelow) drawn.poolCategoriesBelow = choose(space.poolCategoriesBelow, poolDraw);
+  }
+  // One draw after every other, only when the space has class weightings: other spaces draw as before.
+  if (space.classWeights) Object.assign(drawn, classWeightingAt(space, choose(space.classWeights, rng())));
   return drawn;
+}
+
+/** The class-weighting fields of a configuration for the chosen weighting: `classWeights`, and `effectiveBeta` for `effective`. */
+export function classWeightingAt(space: SearchSpace, weighting: ClassWeighting): Partial<TrialConfiguration> {
+  return weighting === 'effective' ? { classWeights: weighting, effectiveBeta: space.effectiveBeta ?? DEFAULT_EFFECTIVE_BETA } : { classWeights: weighting };
 }
 
 /** A schedule setting as the space gives it: one value, or a range. */

@@ -1,6 +1,7 @@
 /** The search space as the study file states it: ranges and choices for each part of a configuration. */
 import { z } from 'zod';
 import { ACTIVATIONS, BLOCKS, NUMERIC_INPUTS, OPTIMIZERS, SCHEDULES, SHAPES } from '../core/configuration.js';
+import { CLASS_WEIGHTINGS } from '../core/class-weighting.js';
 
 /** A range whose min exceeds its max names both values. */
 function minNotAboveMax(range: { min: number; max: number }, ctx: z.RefinementCtx): void {
@@ -151,6 +152,19 @@ export const spaceSchema = z.strictObject({
   labelSmoothing: smoothingRange
     .optional()
     .describe('Label smoothing epsilon, classification only (Szegedy et al. 2016): training targets (1 - epsilon) x one-hot + epsilon / classes; drawn uniformly unless log is true; absent means none.'),
+  classWeights: z
+    .array(z.enum(CLASS_WEIGHTINGS))
+    .min(1)
+    .optional()
+    .describe(
+      'Classification only: class weightings of the training loss to choose from, so the goal picks one: "none" (every row the same), "balanced" (n / (classes x rows of the class)), "effective" (1 / effective number of samples, (1 - beta) / (1 - beta^rows of the class): Cui et al. 2019), each from the training rows and scaled to a mean row weight of 1. Absent: data.classWeights for every trial. Not together with data.classWeights.',
+    ),
+  effectiveBeta: z
+    .number()
+    .gt(0)
+    .lt(1)
+    .optional()
+    .describe('The beta of the "effective" class weighting, in (0, 1): near 1 it approaches "balanced", smaller values soften it; default 0.999.'),
 }).superRefine(residualWithoutRegularisers);
 
 /**
@@ -193,6 +207,8 @@ export const listedConfigurationSchema = z.strictObject({
   block: z.enum(BLOCKS).optional().describe('Required when the space has a block, left out otherwise.'),
   numericInputs: z.enum(NUMERIC_INPUTS).optional().describe('Required when the space has numericInputs, one of its choices.'),
   poolCategoriesBelow: z.int().min(0).optional().describe('Required when the space has poolCategoriesBelow, one of its values.'),
+  classWeights: z.enum(CLASS_WEIGHTINGS).optional().describe('Required when the space has classWeights (one of its weightings); then effectiveBeta too when it is "effective".'),
+  effectiveBeta: z.number().gt(0).lt(1).optional(),
 });
 
 /** A listed configuration's preprocessing fields against the space's: each given exactly when the space has it, and one of its choices. */
@@ -230,5 +246,17 @@ function listedShapeProblem(entry: z.output<typeof listedConfigurationSchema>, s
     if (!drawn && entry[key] !== undefined) return `gives ${key} but the space has no ${key}; leave it out`;
     if (drawn && entry[key] === undefined) return `lacks ${key}, which this space draws (${drawn.join(', ')}); give it`;
   }
+  return undefined;
+}
+
+/** The class-weighting fields a listed configuration must give for this space, and those it must leave out. */
+export function listedClassWeightProblem(entry: z.output<typeof listedConfigurationSchema>, space: SearchSpace): string | undefined {
+  if (!space.classWeights) {
+    const given = (['classWeights', 'effectiveBeta'] as const).filter((key) => entry[key] !== undefined);
+    return given.length > 0 ? `gives ${given.join(', ')} but the space has no classWeights; leave them out` : undefined;
+  }
+  if (entry.classWeights === undefined) return `lacks classWeights, which this space draws; give one of ${space.classWeights.join(', ')}`;
+  if (entry.classWeights === 'effective' && entry.effectiveBeta === undefined) return 'lacks effectiveBeta, which the "effective" weighting needs';
+  if (entry.classWeights !== 'effective' && entry.effectiveBeta !== undefined) return `gives effectiveBeta, which the "${entry.classWeights}" weighting does not use; leave it out`;
   return undefined;
 }

@@ -9,7 +9,7 @@ import { utf16Kind } from '../text/encoding.js';
 import { formatIssue } from './issues.js';
 import { earlyStoppingProblem } from '../core/early-stopping.js';
 import { renamedDefinitionNote, renamedKeysNote, renameDefinitionKeys, renameSamplerKeys } from './renamed-keys.js';
-import { listedPreprocessingProblem, listedScheduleProblem } from '../space/schema.js';
+import { listedClassWeightProblem, listedPreprocessingProblem, listedScheduleProblem } from '../space/schema.js';
 import { listedRegulariserProblem } from '../space/regularisers.js';
 
 export interface LoadedStudy {
@@ -145,23 +145,37 @@ function crossFieldProblems(definition: StudyDefinition): [string, string][] {
     problems.push(['earlyStopping', `cannot be combined with data.folds yet (each fold would stop at its own epoch); use one or the other`]);
   }
   definition.tryFirst?.forEach((entry, index) => {
-    const problem = listedScheduleProblem(entry, definition.space) ?? listedRegulariserProblem(entry, definition.space) ?? listedPreprocessingProblem(entry, definition.space);
+    const problem = listedScheduleProblem(entry, definition.space) ?? listedRegulariserProblem(entry, definition.space) ?? listedPreprocessingProblem(entry, definition.space) ?? listedClassWeightProblem(entry, definition.space);
     if (problem) problems.push([`tryFirst[${index}]`, problem]);
   });
+  problems.push(...spaceClassWeightProblems(definition));
   if (data.features?.includes(data.target)) {
     problems.push(['data.features', `lists the target column "${data.target}"; the target cannot be an input`]);
   }
   return problems;
 }
 
+/** The space's class weightings: classification only, and not together with `data.classWeights`. */
+function spaceClassWeightProblems(definition: StudyDefinition): [string, string][] {
+  const { space, data } = definition;
+  if (!space.classWeights) return space.effectiveBeta !== undefined ? [['space.effectiveBeta', 'is the beta of the "effective" class weighting; give space.classWeights with "effective", or leave it out']] : [];
+  if (data.task === 'regression') return [['space.classWeights', 'is for classification; leave it out for a regression task']];
+  if (data.classWeights !== undefined) return [['space.classWeights', 'and data.classWeights both set the class weights; keep one (space.classWeights lets the goal choose)']];
+  return [];
+}
+
 /**
- * The warning when the goal is accuracy and the class weights are fixed to balanced: balanced weights
- * buy the rare classes' recall with accuracy, so the goal and the training loss pull apart.
+ * The warning when the goal is accuracy and the class weights are fixed to balanced (by
+ * `data.classWeights`, or a space whose only weighting is balanced): balanced weights buy the rare
+ * classes' recall with accuracy, so the goal and the training loss pull apart.
  */
 function weightNotes(definition: StudyDefinition, file: string): string[] {
-  if (definition.data.classWeights !== 'balanced' || resolveGoal(definition).metric !== 'accuracy') return [];
+  if (resolveGoal(definition).metric !== 'accuracy') return [];
+  const spaceChoices = definition.space.classWeights;
+  const key = definition.data.classWeights === 'balanced' ? 'data.classWeights is "balanced"' : spaceChoices?.length === 1 && spaceChoices[0] === 'balanced' ? 'space.classWeights is only "balanced"' : undefined;
+  if (!key) return [];
   return [
-    `${file}: warning: data.classWeights is "balanced" while the goal is accuracy; balanced weights trade accuracy for the rare classes' recall, so the study may rank networks by a score their weights work against: use "none", or a goal such as macroF1`,
+    `${file}: warning: ${key} while the goal is accuracy; balanced weights trade accuracy for the rare classes' recall, so the study may rank networks by a score their weights work against: use "none", a choice of weightings in space.classWeights, or a goal such as macroF1`,
   ];
 }
 

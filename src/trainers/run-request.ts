@@ -6,6 +6,7 @@
 import type { EpochReport, TrainResult } from '../core/job.js';
 import type { Trainer, TrainerName, TrainRequest } from './contract.js';
 import { trainSegmentOnEngine } from './engine/segment.js';
+import { withConfiguredClassWeights } from './shared/class-weights.js';
 
 /** The WebAssembly SIMD engine (src/trainers/engine/): the default. */
 export const engineTrainer: Trainer = { name: 'engine', train: trainSegmentOnEngine };
@@ -22,7 +23,7 @@ export const tfjsTrainer: Trainer = {
 
 export const TRAINERS: Readonly<Record<TrainerName, Trainer>> = { engine: engineTrainer, tfjs: tfjsTrainer };
 
-/** Trains `request` with `request.trainer` ('engine' unless it says 'tfjs'). */
+/** Trains `request` with `request.trainer` ('engine' unless it says 'tfjs'), with the class weights its configuration chooses. */
 export function runTrainRequest(request: TrainRequest, onEpoch?: (report: EpochReport) => void): Promise<TrainResult> {
-  return TRAINERS[request.trainer ?? 'engine'].train(request, onEpoch);
+  return TRAINERS[request.trainer ?? 'engine'].train(withConfiguredClassWeights(request), onEpoch);
 }

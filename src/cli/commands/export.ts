@@ -5,7 +5,7 @@ import { positiveInteger } from '../options.js';
 /** `rungwise export <dir>`: a ranked configuration as a model folder. */
 export const exportCommand: CommandDeclaration = ({ program, io }) => {
   newCommand(program, 'export', [
-    ['rungwise export runs/demo', 'rank 1 as a tfjs model with its recipe'],
+    ['rungwise export runs/demo', "rank 1: the study's own network with its recipe, scored on the test split"],
     ['rungwise export runs/demo --rank 2 --retrain', 'retrain on training + validation rows, score on the test split'],
     ['rungwise export runs/demo --format onnx', 'model.onnx beside the tfjs files'],
   ])
@@ -13,9 +13,9 @@ export const exportCommand: CommandDeclaration = ({ program, io }) => {
     .argument('<dir>', 'run directory')
     .option('--rank <n>', 'rank in the study ranking', (v) => positiveInteger(v, '--rank'), 1)
     .option('--out <dir>', 'export folder (default: <dir>/export/rank-<n>)')
-    .option('--retrain', 'train afresh on training + validation rows, then score once on the held-out test split')
+    .option('--retrain', "train afresh on training + validation rows for the study's optimizer steps, then score it and the study's network on the held-out test split")
     .option('--format <format>', "'tfjs' (model.json, weights.bin) or 'onnx' (model.onnx as well)", 'tfjs')
-    .option('--allow-changed-data', 'with --retrain: go on although the CSV changed since the study ran')
+    .option('--allow-changed-data', 'go on although the CSV changed since the study ran (the test score is then on the changed data)')
     .option('--json', 'print the export summary as JSON')
     .action(async (dir: string, flags: { rank: number; out?: string; retrain?: boolean; format: string; json?: boolean; allowChangedData?: boolean }) => {
       const target = io();

@@ -27,10 +27,12 @@ function labels(dataset: SharedDataset, y: Float32Array, rows: number): tf.Tenso
  * Tensors created here are not part of a trial's tensor balance.
  */
 export function datasetTensors(dataset: SharedDataset): DatasetTensors {
-  const hit = cache.get(dataset.id);
+  // A trial's own class weighting (trainers/shared/class-weights.ts) keeps the id: the weights are part of the key.
+  const key = dataset.classWeights ? `${dataset.id}|class-weights:${dataset.classWeights.join(',')}` : dataset.id;
+  const hit = cache.get(key);
   if (hit) {
-    cache.delete(dataset.id);
-    cache.set(dataset.id, hit); // re-insert: Map order is the recency order
+    cache.delete(key);
+    cache.set(key, hit); // re-insert: Map order is the recency order
     return hit;
   }
   const { train, validation, inputCount } = dataset;
@@ -42,7 +44,7 @@ export function datasetTensors(dataset: SharedDataset): DatasetTensors {
   }));
   const { classWeights } = dataset;
   if (classWeights) tensors.trainWeights = tf.keep(tf.tensor2d(Float32Array.from(train.y, (label) => classWeights[label]!), [train.rows, 1]));
-  cache.set(dataset.id, tensors);
+  cache.set(key, tensors);
   while (cache.size > CACHED_DATASETS) {
     const [oldest, old] = cache.entries().next().value as [string, DatasetTensors];
     tf.dispose(Object.values(old) as tf.Tensor[]);

@@ -7,6 +7,7 @@
 import { z } from 'zod';
 import { ACTIVATIONS, BLOCKS, METRICS, NUMERIC_INPUTS, OPTIMIZERS, SCHEDULES, SHAPES, TASKS, type TrialConfiguration } from '../../core/configuration.js';
 import { earlyStoppingSchema } from '../../core/fields.js';
+import { CLASS_WEIGHTINGS } from '../../core/class-weighting.js';
 
 const count = z.int().min(0);
 const positiveCount = z.int().min(1);
@@ -46,6 +47,8 @@ export const configurationSchema = z.strictObject({
   numericInputs: z.enum(NUMERIC_INPUTS).optional(),
   poolCategoriesBelow: count.optional(),
   labelSmoothing: z.number().min(0).lt(1).optional(),
+  classWeights: z.enum(CLASS_WEIGHTINGS).optional(),
+  effectiveBeta: z.number().gt(0).lt(1).optional(),
 });
 
 /** Compiles only while the schema and `TrialConfiguration` have the same fields (a strict schema would refuse a new one). */
