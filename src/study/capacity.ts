@@ -1,3 +1,4 @@
+import { weightCount } from '../core/size.js';
 import { availableParallelism, freemem } from 'node:os';
 import { UserError } from '../core/errors.js';
 import { plannedTrialCount, samplerTraits } from '../samplers/index.js';
@@ -24,7 +25,7 @@ const RESULTS_SHARE = 0.5;
 
 /** Weights and biases of an MLP with `depth` hidden layers of `width` units. */
 export function parameterCount(inputs: number, depth: number, width: number, outputs: number): number {
-  return inputs * width + width + (depth - 1) * (width * width + width) + width * outputs + outputs;
+  return weightCount({ depth, width }, inputs, outputs);
 }
 
 /** Bytes one trial of that network needs while it trains with batches of `batchSize` rows. */

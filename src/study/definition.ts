@@ -89,6 +89,23 @@ export const decisionThresholdSchema = z
 export type DecisionThresholdRule = z.output<typeof decisionThresholdSchema>;
 
 
+export const footprintSchema = z
+  .strictObject({
+    maxWeights: z
+      .int()
+      .min(1)
+      .optional()
+      .describe('Largest network allowed, in trainable weights and biases (known from depth, width and the data before training). A drawn configuration over it is never trained: its width is cut to the widest that fits at its depth, then its depth if need be.'),
+    maxRowMicroseconds: z
+      .number()
+      .positive()
+      .optional()
+      .describe('Slowest network allowed, in microseconds per row of the forward pass, measured after a trial\'s first job on this machine. A trial over it is flagged too-slow: ranked after every trial within it, never told to the sampler as bad (the measurement is not deterministic).'),
+  })
+  .describe('What the network may cost where it runs: a size limit and a speed limit. Absent: no limit.');
+
+export type FootprintSettings = z.output<typeof footprintSchema>;
+
 export const studySchema = z.strictObject({
   $schema: z.string().optional(),
   name: z
@@ -110,6 +127,7 @@ export const studySchema = z.strictObject({
     .min(1)
     .optional()
     .describe('Configurations to train first, in order: trial 0 trains the first, trial 1 the second, ...; every sampler gives them their trials as listed, and model-based samplers learn from their results. Values may lie outside the space.'),
+  footprint: footprintSchema.optional(),
 });
 
 /**
