@@ -16,6 +16,7 @@ const DEMO_FILES = [
   'studies/demo/study-tpe-hyperband.json',
   'studies/demo/study-imbalance.json',
   'studies/demo/study-costs.json',
+  'studies/demo/study-front.json',
   'studies/demo/study-early-stopping.json',
   'studies/demo/study-folds.json',
 ];
@@ -68,7 +69,7 @@ describe('the demo studies', () => {
     // The early-stopping demo searches schedules as well; the rest of its space is everyone's.
     for (const definition of others) expect({ ...definition!.space, schedule: undefined }).toEqual({ ...random!.space, schedule: undefined });
     for (const definition of [random, ...others]) expect(definition!.goal?.metric).toBe(definition!.data.costs ? 'cost' : 'auc');
-    expect(others.filter((definition) => definition!.data.costs).map((definition) => definition!.name)).toEqual(['demo-costs']);
+    expect(others.filter((definition) => definition!.data.costs).map((definition) => definition!.name)).toEqual(['demo-costs', 'demo-front']);
     expect(random!.sampler.kind).toBe('random');
     expect(random!.budget).toEqual({ trials: 16, maxEpochs: 20 });
   });

@@ -2,6 +2,7 @@ import { z } from 'zod';
 import { samplerSchema } from '../samplers/registry.js';
 import { budgetSchema } from '../core/budget.js';
 import { LOWER_IS_BETTER, METRICS, TASKS, type Goal, type MetricName } from '../core/configuration.js';
+import { SECOND_GOALS } from '../core/front.js';
 import { earlyStoppingSchema, seedField as seed } from '../core/fields.js';
 import { listedConfigurationSchema, spaceSchema } from '../space/schema.js';
 
@@ -100,9 +101,13 @@ export const footprintSchema = z
       .number()
       .positive()
       .optional()
-      .describe('Slowest network allowed, in microseconds per row of the forward pass, measured after a trial\'s first job on this machine. A trial over it is flagged too-slow: ranked after every trial within it, never told to the sampler as bad (the measurement is not deterministic).'),
+      .describe('Slowest network allowed, in microseconds per row of the forward pass, measured after a trial\'s first job on this machine. A trial over it is flagged too-slow: ranked after every trial within it, never on the front, never told to the sampler as bad (the measurement is not deterministic).'),
+    against: z
+      .enum(SECOND_GOALS)
+      .optional()
+      .describe('A second goal to weigh the score against: weights or time (per row). The ranking then also lists the front (the configurations no other beats on both), the report draws it, and export --front picks from it.'),
   })
-  .describe('What the network may cost where it runs: a size limit and a speed limit. Absent: no limit.');
+  .describe('What the network may cost where it runs: a size limit, a speed limit and a second goal. Absent: no limit, one goal.');
 
 export type FootprintSettings = z.output<typeof footprintSchema>;
 
