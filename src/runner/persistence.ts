@@ -92,7 +92,8 @@ export class BatchedPersistence<Item> {
     const trials = this.store.doc.trials;
     const active = trials.filter((t) => isActive(t.status));
     const kept = new Set(ranking.slice(0, KEPT_CHECKPOINTS + active.length).map((r) => r.trial.id));
-    const against = this.store.doc.definition.footprint?.against;
+    // A test double of the store may hold no definition.
+    const against = this.store.doc.definition?.footprint?.against;
     if (against !== undefined) for (const member of frontOf(ranking, this.store.doc.goal, against)) kept.add(member.ranked.trial.id);
     const statusOf = new Map(trials.map((t) => [t.id, t.status]));
     for (const id of [...this.withCheckpoint]) {
