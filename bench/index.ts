@@ -7,6 +7,7 @@ import path from 'node:path';
 import { budgetGroup } from './budget.js';
 import { earlyStoppingGroup } from './early-stopping.js';
 import { engineGroup } from './engine.js';
+import { footprintGroup } from './footprint.js';
 import { dataGroup } from './data.js';
 import { memoryGroup } from './memory.js';
 import { modelGroup } from './model.js';
@@ -38,6 +39,7 @@ const GROUPS: Record<string, (options: BenchOptions) => Promise<GroupResult>> = 
   budget: budgetGroup,
   plans: plansGroup,
   'early-stopping': earlyStoppingGroup,
+  footprint: footprintGroup,
   model: modelGroup,
   startup: startupGroup,
   queue: queueGroup,

@@ -11,6 +11,8 @@ export { resumeStudy, type ResumeOptions, type ResumeOutcome } from './runner/re
 export { executeStudy, type ExecuteOptions } from './runner/execute-study.js';
 export type { StudyEvent, StudyObserver, StudyProgress } from './runner/events.js';
 export { rankTrials, type RankedTrial } from './core/ranking.js';
+export { weightCount } from './core/size.js';
+export { frontOf, nonDominatedFronts, type FrontMember, type SecondGoal } from './core/front.js';
 export { StudyStore, STUDY_FILE_NAME, studyFilePath } from './store/study-store.js';
 export { readSplitRecord, type SplitRecord } from './store/split-record.js';
 export type { StudyDocument, StudyTotals } from './store/types.js';

@@ -16,6 +16,7 @@ const DEMO_FILES = [
   'studies/demo/study-tpe-hyperband.json',
   'studies/demo/study-imbalance.json',
   'studies/demo/study-costs.json',
+  'studies/demo/study-front.json',
   'studies/demo/study-early-stopping.json',
   'studies/demo/study-folds.json',
   'studies/demo/study-regularisers.json',
@@ -71,7 +72,7 @@ describe('the demo studies', () => {
     const shared = (space: StudyDefinition['space']) => ({ ...space, schedule: undefined, weightDecay: undefined, maxGradientNorm: undefined, labelSmoothing: undefined, shape: undefined, block: undefined });
     for (const definition of others) expect(shared(definition!.space)).toEqual(shared(random!.space));
     for (const definition of [random, ...others]) expect(definition!.goal?.metric).toBe(definition!.data.costs ? 'cost' : 'auc');
-    expect(others.filter((definition) => definition!.data.costs).map((definition) => definition!.name)).toEqual(['demo-costs']);
+    expect(others.filter((definition) => definition!.data.costs).map((definition) => definition!.name)).toEqual(['demo-costs', 'demo-front']);
     expect(random!.sampler.kind).toBe('random');
     expect(random!.budget).toEqual({ trials: 16, maxEpochs: 20 });
   });

@@ -17,7 +17,7 @@ import { ONNX_FILE } from '../export/onnx-schema.js';
 import { RETRAIN_STEP_TOLERANCE, retrainEpochs, retrainTrial, type RetrainEpochs } from '../export/retrain.js';
 import { compareOnTest, type HandOffComparison } from '../export/hand-off-check.js';
 import type { NamedWeights } from '../checkpoints/format.js';
-import { keptCheckpointWeights, trialAtRank } from '../export/select.js';
+import { keptCheckpointWeights, rankOnFront, trialAtRank } from '../export/select.js';
 import { formatNumber, textTable } from '../report/format.js';
 import { SPLIT_RECORD_NAME, runPaths } from '../store/run-dir.js';
 import { studyData } from '../store/study-data.js';
@@ -33,8 +33,12 @@ import type { Metrics } from '../metrics/metrics.js';
 export interface ExportCommandOptions {
   /** Run directory holding `study.json` (and `checkpoints/`). */
   dir: string;
-  /** Rank in the study's ranking. @default 1 */
+  /** Rank in the study's ranking. @default 1 (not together with `front` or `maxWeights`) */
   rank?: number;
+  /** Place on the study's front (`footprint.against`), 1 = the smallest or fastest; instead of `rank`. */
+  front?: number;
+  /** The front of score against weights: export the configuration with the most weights at most this many; instead of `rank`. */
+  maxWeights?: number;
   /** With --retrain: go on although the CSV changed since the study ran. @default false */
   allowChangedData?: boolean;
   /** Export folder. @default `<dir>/export/rank-<rank>` */
@@ -120,6 +124,14 @@ async function choiceData(data: PreparedData, choice: PreprocessingChoice): Prom
   return data.prepareChoice(choice);
 }
 
+/** The rank to export: `rank`, or the one `front` or `maxWeights` chooses (one of the three at most). */
+function chosenRank(doc: StudyDocument, options: ExportCommandOptions, studyFile: string): number {
+  const given = [options.rank !== undefined && '--rank', options.front !== undefined && '--front', options.maxWeights !== undefined && '--max-weights'].filter((flag) => flag !== false);
+  if (given.length > 1) throw new UserError('E_USAGE', `export: ${given.join(' and ')} choose the configuration each; give one of them`);
+  if (options.front === undefined && options.maxWeights === undefined) return options.rank ?? 1;
+  return rankOnFront(doc, { ...(options.front !== undefined ? { front: options.front } : {}), ...(options.maxWeights !== undefined ? { maxWeights: options.maxWeights } : {}) }, studyFile);
+}
+
 /**
  * `rungwise export`: writes the trial at `rank` as a tfjs Layers model (`model.json`, `weights.bin`)
  * with `configuration.json`, into a folder that appears complete or not at all.
@@ -132,10 +144,10 @@ async function choiceData(data: PreparedData, choice: PreprocessingChoice): Prom
  * // out: runs/demo/export/rank-1; files: configuration.json, model.json, weights.bin, model.onnx
  */
 export async function exportModel(options: ExportCommandOptions): Promise<ExportSummary> {
-  const rank = options.rank ?? 1;
   const runDir = path.resolve(options.dir);
   const doc = await StudyStore.read(runDir);
   const studyFile = studyFilePath(runDir);
+  const rank = chosenRank(doc, options, studyFile);
   const chosen = trialAtRank(doc, rank, studyFile);
   const trial = chosen.trial;
   // A k-fold study trained k networks per trial, none on every row: its export always retrains on

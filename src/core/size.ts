@@ -1,6 +1,8 @@
 /**
- * The size of a configuration's network: the width of each hidden layer (its shape), its dense layers
- * (plain or residual blocks) and the number of weights it trains. One place, so that the trainers, the export and the cost estimates agree.
+ * The size of a configuration's network, known from its configuration and the data's shape before any
+ * training: the width of each hidden layer (its shape), its dense layers (plain or residual blocks) and
+ * the number of weights it trains. One place, so that the trainers, the export, the cost estimates and
+ * the weight limit (`footprint.maxWeights`, applied before a configuration is proposed) agree.
  */
 import type { TrialConfiguration } from './configuration.js';
 
@@ -38,4 +40,45 @@ export function denseShapes(configuration: Pick<TrialConfiguration, 'depth' | 'w
 export function weightCount(configuration: Pick<TrialConfiguration, 'depth' | 'width' | 'shape' | 'block'>, inputs: number, outputs: number): number {
   const dense = denseShapes(configuration, inputs, outputs).reduce((sum, { fanIn, fanOut }) => sum + fanIn * fanOut + fanOut, 0);
   return configuration.block === 'residual' ? dense + 2 * configuration.width * (configuration.depth + 1) : dense;
+}
+
+/** The data's shape a network is sized by: model inputs after encoding, and outputs (1, or the classes of a multiclass task). */
+export interface NetworkShape {
+  inputs: number;
+  outputs: number;
+}
+
+/** Integer ranges of depth and width a configuration may be narrowed within. */
+export interface SizeRanges {
+  depth: { min: number };
+  width: { min: number };
+}
+
+/**
+ * The configuration cut to fit `maxWeights`: unchanged when it fits; else its width is cut to the
+ * widest that fits at its depth (never below `ranges.width.min`), and if none fits, its depth is cut
+ * one layer at a time (never below `ranges.depth.min`). Undefined when even the smallest network of
+ * the ranges is over the limit. Deterministic: the same configuration always gives the same answer.
+ */
+export function fitWeightLimit<T extends Pick<TrialConfiguration, 'depth' | 'width' | 'shape' | 'block'>>(configuration: T, shape: NetworkShape, maxWeights: number, ranges: SizeRanges): T | undefined {
+  if (weightCount(configuration, shape.inputs, shape.outputs) <= maxWeights) return configuration;
+  for (let depth = configuration.depth; depth >= ranges.depth.min; depth--) {
+    const width = widestFitting({ ...configuration, depth }, shape, maxWeights, ranges.width.min, configuration.width);
+    if (width !== undefined) return { ...configuration, depth, width };
+  }
+  return undefined;
+}
+
+/** The largest width in [min, max] whose network (the configuration's depth, shape and block) fits `maxWeights` (weight count grows with width), or undefined. */
+function widestFitting(configuration: Pick<TrialConfiguration, 'depth' | 'shape' | 'block'>, shape: NetworkShape, maxWeights: number, min: number, max: number): number | undefined {
+  const fits = (width: number): boolean => weightCount({ ...configuration, width }, shape.inputs, shape.outputs) <= maxWeights;
+  if (!fits(min)) return undefined;
+  let low = min;
+  let high = max;
+  while (low < high) {
+    const middle = Math.ceil((low + high) / 2);
+    if (fits(middle)) low = middle;
+    else high = middle - 1;
+  }
+  return low;
 }

@@ -68,6 +68,14 @@ export interface TrialRecord {
   flags?: TrialFlag[];
   /** Rungs whose result the sampler was told as bad (a null loss) because the trial was flagged there; replayed on resume. */
   flaggedRungs?: number[];
+  /** Trainable weights and biases of its network (`core/size.ts`), from its configuration and the data's shape (absent in files from before it). */
+  weightCount?: number;
+  /**
+   * Measured microseconds per row of its network's forward pass (the median of several timed passes over
+   * a fixed batch, by the coordinating process after the trial's first result; `runner/row-timing.ts`).
+   * Machine-dependent and noisy, so never part of the deterministic results; absent until measured.
+   */
+  rowMicroseconds?: number;
   /** Why the sampler promoted the trial out of each rung (asynchronous halving records this). */
   promotions?: { fromRung: number; reason: string }[];
 }
@@ -77,9 +85,11 @@ export interface TrialRecord {
  * Why a trial's network is not to be trusted, whatever its score (`core/health.ts` decides):
  * `flat-output`: its validation predictions are one class for every row (or an AUC of exactly 0.5);
  * `blew-up`: its training diverged (with early stopping, possibly after a best epoch it is scored at);
- * `no-lift`: its score does not beat the constant predictor's (the majority class, or the training mean).
+ * `no-lift`: its score does not beat the constant predictor's (the majority class, or the training mean);
+ * `too-slow`: its measured time per row is over the study's `footprint.maxRowMicroseconds` (not a health
+ * problem but a limit; it ranks after every trial within the limit, and is never told to the sampler).
  */
-export type TrialFlag = 'flat-output' | 'blew-up' | 'no-lift';
+export type TrialFlag = 'flat-output' | 'blew-up' | 'no-lift' | 'too-slow';
 
 /** One job of a trial: a stretch of epochs, as the study file records it. */
 export interface JobRecord {

@@ -2,6 +2,7 @@ import { bestCheckpointWeights, decodeCheckpoint, type NamedWeights } from '../c
 import { FolderCheckpointStore } from '../checkpoints/folder-store.js';
 import { UserError } from '../core/errors.js';
 import { rankTrials, type RankedTrial } from '../core/ranking.js';
+import { frontOf } from '../core/front.js';
 import { runPaths } from '../store/run-dir.js';
 import type { StudyDocument } from '../store/types.js';
 
@@ -55,4 +56,39 @@ export async function keptCheckpointWeights(runDir: string, doc: StudyDocument, 
   const best = bestCheckpointWeights(bytes);
   if (best.epoch !== chosen.trial.bestEpoch) throw refuse(`holds the weights of epoch ${best.epoch}, but trial ${chosen.trial.id}'s best epoch is ${chosen.trial.bestEpoch}`);
   return best.weights;
+}
+
+/** Which configuration of the front to export: its place on the front, or the largest network within a weight count. */
+export interface FrontChoice {
+  /** 1 = the smallest (or fastest) configuration of the study's front (`footprint.against`). */
+  front?: number;
+  /** The front of score against weights: the configuration with the most weights at most this many. */
+  maxWeights?: number;
+}
+
+/**
+ * The rank in the study's ranking of the front configuration chosen.
+ * @throws UserError (E_EXPORT_FRONT) when the study has no second goal (for `front`), no weight counts
+ * (for `maxWeights`), or no front configuration answers the choice, naming what the front holds.
+ */
+export function rankOnFront(doc: StudyDocument, choice: FrontChoice, studyFile: string): number {
+  const ranking = rankTrials(doc.trials, doc.goal);
+  const against = choice.front !== undefined ? doc.definition.footprint?.against : 'weights';
+  if (against === undefined) throw new UserError('E_EXPORT_FRONT', `${studyFile}: --front needs a study with a second goal (footprint.against: weights or time); use --rank, or --max-weights for the front of score against weights`);
+  const front = frontOf(ranking, doc.goal, against);
+  if (front.length === 0) throw new UserError('E_EXPORT_FRONT', `${studyFile}: the study's front of ${doc.goal.metric} against ${against} is empty (no finished, unflagged trial with a recorded ${against === 'weights' ? 'weight count' : 'time per row'})`);
+  const places = `the front holds ${front.length} configuration${front.length === 1 ? '' : 's'}, ${against} ${front.map((m) => formatValue(m.value)).join(', ')}`;
+  if (choice.front !== undefined) {
+    const member = front[choice.front - 1];
+    if (member === undefined) throw new UserError('E_EXPORT_FRONT', `${studyFile}: --front ${choice.front} does not exist; ${places} (places 1 to ${front.length})`);
+    return member.ranked.rank;
+  }
+  const within = front.filter((m) => m.value <= choice.maxWeights!);
+  const member = within.at(-1);
+  if (member === undefined) throw new UserError('E_EXPORT_FRONT', `${studyFile}: --max-weights ${choice.maxWeights}: no front configuration is that small; ${places}`);
+  return member.ranked.rank;
+}
+
+function formatValue(value: number): string {
+  return Number.isInteger(value) ? String(value) : value.toPrecision(3);
 }

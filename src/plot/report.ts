@@ -142,6 +142,7 @@ export const QUESTIONS: readonly { heading: string; charts: readonly string[]; t
   { heading: 'Did the early rungs judge well?', charts: ['rung-agreement'], tables: rungAgreementTable },
   { heading: 'Which hyperparameters matter, and which values are good?', charts: ['hyperparameters'] },
   { heading: 'What did training look like?', charts: ['learning-curves'] },
+  { heading: 'What does a smaller or faster network cost in score?', charts: ['front'] },
 ];
 
 export interface ReportOptions {

@@ -15,7 +15,7 @@ export interface FlaggedRegion {
   trials: number;
 }
 
-const FLAG_ORDER: readonly TrialFlag[] = ['flat-output', 'blew-up', 'no-lift'];
+const FLAG_ORDER: readonly TrialFlag[] = ['flat-output', 'blew-up', 'no-lift', 'too-slow'];
 
 /** Cells of optimizer by learning-rate decade that hold a flagged trial, most flagged share first (then most flagged, then name). */
 export function flaggedRegions(trials: readonly TrialRecord[]): FlaggedRegion[] {

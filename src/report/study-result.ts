@@ -8,6 +8,7 @@ import { rankingTable } from './ranking-table.js';
 import { OPTIMISM_CAUTION } from './caution.js';
 import { studySummary } from './summary.js';
 import { budgetSummary, type BudgetSummary } from './budget-summary.js';
+import { frontJson, frontText, studyFront, type FrontJson } from './front-table.js';
 
 /** Rows of the text table when `--top` is not given. */
 export const DEFAULT_TABLE_ROWS = 10;
@@ -42,6 +43,8 @@ export interface TrialEntry {
   stoppedAtEpoch?: number;
   /** Ranked classification trials: per-class figures and the confusion matrix on the validation split. */
   classes?: ClassReport;
+  /** Trainable weights and biases of its network (absent in files from before weight counts). */
+  weights?: number;
 }
 
 /** The result of `run`, `resume` and `ranking` as plain data. */
@@ -62,6 +65,8 @@ export interface StudyResultJson {
   caution: string;
   /** The constant and linear baselines' validation figures (absent for files from before baselines). */
   baselines?: StudyDocument['baselines'];
+  /** With a second goal (`footprint.against`): the configurations no other beats on both, smallest or fastest first. */
+  front?: FrontJson;
 }
 
 function unrankedReason(trial: TrialRecord): string {
@@ -88,6 +93,7 @@ function entry(doc: StudyDocument, trial: TrialRecord, rank: number | null): Tri
     metrics: { ...((trial.bestEpoch !== undefined ? trial.curve.find((p) => p.epoch === trial.bestEpoch) : trial.curve.at(-1))?.metrics ?? {}) } as Record<string, number>,
   };
   if (trial.scoreStandardError !== undefined) result.scoreStandardError = trial.scoreStandardError;
+  if (trial.weightCount !== undefined) result.weights = trial.weightCount;
   if (trial.bestEpoch !== undefined) result.bestEpoch = trial.bestEpoch;
   if (trial.stoppedAtEpoch !== undefined) result.stoppedAtEpoch = trial.stoppedAtEpoch;
   if (rank === null) result.reason = unrankedReason(trial);
@@ -124,7 +130,13 @@ export function studyResultJson(doc: StudyDocument, ranking: readonly RankedTria
     trials,
     caution: OPTIMISM_CAUTION,
     ...(doc.baselines ? { baselines: doc.baselines } : {}),
+    ...frontField(doc, ranking),
   };
+}
+
+function frontField(doc: StudyDocument, ranking: readonly RankedTrial[]): { front?: FrontJson } {
+  const front = studyFront(doc, ranking);
+  return front === undefined ? {} : { front: frontJson(doc.definition.footprint!.against!, front) };
 }
 
 /** The result as text: the top of the ranking as a table, then the summary and the caution. */
@@ -133,5 +145,7 @@ export function studyResultText(doc: StudyDocument, ranking: readonly RankedTria
   const more = ranking.length - shown.length;
   const table = shown.length > 0 ? rankingTable(shown, doc.goal) : 'no trial is ranked yet (none finished a rung)';
   const tail = more > 0 ? `\n(${more} more ranked; --top ${ranking.length} shows all, --json gives every trial)` : '';
-  return `${table}${tail}\n\n${studySummary(doc, file)}`;
+  const front = studyFront(doc, ranking);
+  const frontPart = front === undefined ? '' : `\n\n${frontText(doc.definition.footprint!.against!, front, doc.goal)}`;
+  return `${table}${tail}${frontPart}\n\n${studySummary(doc, file)}`;
 }

@@ -8,7 +8,7 @@ import { studyStoppedError } from '../core/errors.js';
 import { createSampler, plannedBudget, replay } from '../samplers/index.js';
 import type { Job, JobOutcome, Sampler } from '../samplers/sampler.js';
 import type { SamplerPlan } from '../samplers/plan.js';
-import type { Goal } from '../core/configuration.js';
+import type { Goal, TrialConfiguration } from '../core/configuration.js';
 import { leaderOf, orientedLoss, rankTrials, type RankedTrial } from '../core/ranking.js';
 import { studyBaselines } from './baselines.js';
 import type { StudyStore } from '../store/study-store.js';
@@ -20,7 +20,8 @@ import type { TrialTransport } from '../transports/transport.js';
 import type { SharedDataset, TrainJob, TrainResult } from '../core/job.js';
 import { CheckpointKeeper } from './checkpoint-keeper.js';
 import type { StudyObserver, StudyProgress } from './events.js';
-import { TrialLifecycle, type JobFailure } from './lifecycle.js';
+import { TrialLifecycle, type JobFailure, type SizeAndSpeed } from './lifecycle.js';
+import { measureRowMicroseconds, type TimedShape } from '../trainers/engine/row-timing.js';
 import { BatchedPersistence } from './persistence.js';
 import { StudyDatasets } from './study-datasets.js';
 import { StopControl, type Clock } from './stop-control.js';
@@ -65,6 +66,11 @@ export interface ExecuteOptions {
   cutAtLimit?: boolean;
   /** Milliseconds clock the time limit is read from (tests move it instead of waiting). @default Date.now */
   clock?: Clock;
+  /**
+   * How a trial's time per row is measured, once after its first result (`false`: not measured).
+   * @default the engine's forward pass over a fixed batch in this thread ({@link measureRowMicroseconds})
+   */
+  timeRows?: ((configuration: TrialConfiguration, shape: TimedShape) => number) | false;
 }
 
 export interface StudyOutcome {
@@ -177,10 +183,15 @@ async function drive(store: StudyStore, data: PreparedData, options: ExecuteOpti
 async function openSession(store: StudyStore, data: PreparedData, options: ExecuteOptions): Promise<Session> {
   const { definition, goal, trials } = store.doc;
   const emit = options.onEvent ?? (() => undefined);
-  const sampler = createSampler(definition);
+  const datasets = new StudyDatasets(data);
+  // The study's own data set sizes the networks (a pooling choice only ever has fewer inputs).
+  const dataset = datasets.study;
+  const shape = { inputs: dataset.inputCount, outputs: dataset.outputCount };
+  const maxWeights = definition.footprint?.maxWeights;
+  const sampler = createSampler({ ...definition, ...(maxWeights !== undefined ? { weightLimit: { maxWeights, shape } } : {}) });
   const planned = plannedBudget(definition);
   const queue = replay(sampler, recordedOutcomes(trials, goal), new Map(trials.map((t) => [t.id, t.configuration]))).pending;
-  const lifecycle = new TrialLifecycle(store.doc, sampler, planned);
+  const lifecycle = new TrialLifecycle(store.doc, sampler, planned, sizeAndSpeed(dataset, options.timeRows));
   const keeper = new CheckpointKeeper(options.checkpoints ?? new FolderCheckpointStore(store.dir));
   const persistence = new BatchedPersistence<Announced>(store, keeper, sampler, announcer(emit, goal), [...(await keeper.list()), ...trials.map((t) => t.id)]);
   const minutes = options.minutes ?? definition.budget.minutes;
@@ -193,10 +204,18 @@ async function openSession(store: StudyStore, data: PreparedData, options: Execu
     onStop: (reason) => emit({ type: 'stopping', reason: reason === 'interrupted' ? 'interrupted' : `time limit of ${minutes} minute${minutes === 1 ? '' : 's'}` }),
   });
   const threads = options.threads ?? definition.threads ?? availableParallelism();
-  const datasets = new StudyDatasets(data);
   // Before the first trial, so every trial is checked against them (a study from before baselines gets them on resume).
   store.doc.baselines ??= await studyBaselines(data, data.folds ? datasets.foldsOf(datasets.study) : [datasets.study], goal, definition.budget.maxEpochs, definition.sampler.seed);
   return { store, options, definition, threads, emit, note: noteOnce(emit), sampler, planned, queue, lifecycle, keeper, persistence, datasets, stop, running: new Map(), busySeconds: 0, jobsEnded: 0, epochsAtStart: lifecycle.progress().epochsDone };
+}
+
+/** The data's shape for weight counts, and the row timer (the engine's forward pass in this thread unless the options replace or refuse it). */
+function sizeAndSpeed(dataset: SharedDataset, timeRows: ExecuteOptions['timeRows']): SizeAndSpeed {
+  const shape = { inputs: dataset.inputCount, outputs: dataset.outputCount };
+  if (timeRows === false) return { shape };
+  const timer = timeRows ?? measureRowMicroseconds;
+  const timed = { task: dataset.task, inputCount: dataset.inputCount, outputCount: dataset.outputCount };
+  return { shape, timeRows: (configuration) => timer(configuration, timed) };
 }
 
 /** After each save: one `trial-finished` event per saved job, with the ranking's leader at that moment. */

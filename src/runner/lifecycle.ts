@@ -11,11 +11,20 @@ import { orientedLoss, scoredEpochs } from '../core/ranking.js';
 import { isEnded } from '../core/trial-status.js';
 import { baselineScore } from '../core/baselines.js';
 import { healthFlags } from '../core/health.js';
-import type { JobRecord, TrialRecord } from '../core/trial.js';
+import type { JobRecord, TrialFlag, TrialRecord } from '../core/trial.js';
 import type { StudyDocument } from '../store/types.js';
 import type { TrainResult } from '../core/job.js';
 import type { StudyProgress } from './events.js';
 import { applyResult, newTrialRecord } from './trial-records.js';
+import { weightCount, type NetworkShape } from '../core/size.js';
+import type { TrialConfiguration } from '../core/configuration.js';
+
+/** What the lifecycle needs to record a trial's size and speed: the data's shape and a way to time a network (none: not timed). */
+export interface SizeAndSpeed {
+  shape: NetworkShape;
+  /** Microseconds per row of the configuration's network (`trainers/engine/row-timing.ts`), or undefined to leave it unmeasured. */
+  timeRows?: (configuration: TrialConfiguration) => number;
+}
 
 /** Why a job did not bring a result. */
 export type JobFailure = { kind: 'error'; message: string } | { kind: 'timed-out' } | { kind: 'cut-off' };
@@ -32,8 +41,11 @@ export class TrialLifecycle {
     private readonly doc: StudyDocument,
     private readonly sampler: Sampler,
     private readonly planned: { trials: number; epochs: number },
+    private readonly sizeAndSpeed?: SizeAndSpeed,
   ) {
     this.records = new Map(doc.trials.map((t) => [t.id, t]));
+    // A study from before weight counts gets them on resume (they follow from configuration and data alone).
+    if (sizeAndSpeed) for (const t of doc.trials) t.weightCount ??= weightCount(t.configuration, sizeAndSpeed.shape.inputs, sizeAndSpeed.shape.outputs);
     for (const t of doc.trials) if (t.status === 'waiting') this.waiting.add(t.id);
     this.jobsDone = doc.trials.reduce((sum, t) => sum + t.jobs.filter((j) => j.status !== 'training' && j.status !== 'cut-off').length, 0);
   }
@@ -74,6 +86,7 @@ export class TrialLifecycle {
     let record = this.records.get(job.trialId);
     if (!record) {
       record = newTrialRecord(job, trialSeed(this.definition.sampler.seed, job.trialId));
+      if (this.sizeAndSpeed) record.weightCount = weightCount(job.configuration, this.sizeAndSpeed.shape.inputs, this.sizeAndSpeed.shape.outputs);
       this.records.set(job.trialId, record);
       this.doc.trials.push(record);
     }
@@ -112,6 +125,7 @@ export class TrialLifecycle {
       this.waiting.add(record.id);
     }
     this.jobsDone++;
+    this.measureSpeed(record);
     const flagged = this.checkHealth(record, job.rung);
     const loss = flagged ? null : orientedLoss(record.score, this.goal);
     this.sampler.report({ trialId: job.trialId, rung: job.rung, loss, ...(result.stoppedAtEpoch !== undefined ? { stopped: true } : {}) });
@@ -127,7 +141,9 @@ export class TrialLifecycle {
    */
   private checkHealth(record: TrialRecord, rung: number): boolean {
     const flags = healthFlags(record, this.goal, baselineScore(this.doc.baselines?.constant, this.goal.metric));
-    if (flags.length > 0) record.flags = flags;
+    // Over the time limit is a flag for the ranking, never a bad result for the sampler: the time is measured, not deterministic.
+    const all = [...flags, ...limitFlags(record, this.definition.footprint?.maxRowMicroseconds)];
+    if (all.length > 0) record.flags = all;
     else delete record.flags;
     const flagged = flags.length > 0 && record.score !== null;
     const rungs = (record.flaggedRungs ?? []).filter((r) => r !== rung);
@@ -135,6 +151,13 @@ export class TrialLifecycle {
     if (rungs.length > 0) record.flaggedRungs = rungs;
     else delete record.flaggedRungs;
     return flagged;
+  }
+
+  /** Time the trial's network once, after its first result (the time depends on its shape alone). */
+  private measureSpeed(record: TrialRecord): void {
+    const timeRows = this.sizeAndSpeed?.timeRows;
+    if (timeRows === undefined || record.rowMicroseconds !== undefined || record.status === 'diverged') return;
+    record.rowMicroseconds = timeRows(record.configuration);
   }
 
   /**
@@ -182,4 +205,9 @@ export class TrialLifecycle {
 
 function jobKey(job: Job): string {
   return `${job.trialId}/${job.toEpoch}`;
+}
+
+/** `too-slow` when the trial's measured time per row is over the study's limit. */
+function limitFlags(record: TrialRecord, maxRowMicroseconds: number | undefined): TrialFlag[] {
+  return maxRowMicroseconds !== undefined && record.rowMicroseconds !== undefined && record.rowMicroseconds > maxRowMicroseconds ? ['too-slow'] : [];
 }

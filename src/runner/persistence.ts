@@ -3,6 +3,7 @@
  * saved together, then announced. A trial shown as finished is on disk, and so is every checkpoint
  * the study file counts on.
  */
+import { frontOf } from '../core/front.js';
 import type { Sampler } from '../samplers/sampler.js';
 import { rankTrials, type RankedTrial } from '../core/ranking.js';
 import { isActive } from '../core/trial-status.js';
@@ -83,12 +84,17 @@ export class BatchedPersistence<Item> {
    * KEPT_CHECKPOINTS plus one place for every trial still active: an active trial can leave the
    * ranking (a later job diverges or fails) and lift the ones below it, but nothing else can. So a
    * checkpoint is never deleted while it may still be needed, in whatever order jobs finish; when the
-   * study ends, no trial is active and exactly the best KEPT_CHECKPOINTS keep theirs.
+   * study ends, no trial is active and exactly the best KEPT_CHECKPOINTS keep theirs. With a second
+   * goal, the front's configurations keep theirs too (for `export --front`): the front holds finished
+   * trials only, whose records never change, so a trial that leaves it never comes back.
    */
   private async prune(ranking: readonly RankedTrial[]): Promise<void> {
     const trials = this.store.doc.trials;
     const active = trials.filter((t) => isActive(t.status));
     const kept = new Set(ranking.slice(0, KEPT_CHECKPOINTS + active.length).map((r) => r.trial.id));
+    // A test double of the store may hold no definition.
+    const against = this.store.doc.definition?.footprint?.against;
+    if (against !== undefined) for (const member of frontOf(ranking, this.store.doc.goal, against)) kept.add(member.ranked.trial.id);
     const statusOf = new Map(trials.map((t) => [t.id, t.status]));
     for (const id of [...this.withCheckpoint]) {
       const status = statusOf.get(id);

@@ -7,6 +7,7 @@ import type { DataLoadOptions } from '../data/events.js';
 import { UserError, studyStoppedError } from '../core/errors.js';
 import { writeFailure } from '../files/write-cause.js';
 import { checkCapacity } from '../study/capacity.js';
+import { checkFootprint } from '../study/footprint.js';
 import { resolveGoal } from '../study/definition.js';
 import { searchesPreprocessing } from '../core/configuration.js';
 import { loadStudy, type LoadedStudy } from '../study/load.js';
@@ -44,6 +45,7 @@ export async function runStudy(study: string | LoadedStudy, options: RunOptions 
   });
   const outputCount = data.recipe.task === 'multiclass' ? (data.recipe.classes?.length ?? 0) : 1;
   checkCapacity({ definition, inputCount: data.recipe.inputCount, outputCount, ...(options.threads !== undefined ? { threads: options.threads } : {}) }, file);
+  checkFootprint(definition, { inputs: data.recipe.inputCount, outputs: outputCount }, file);
   const dir = path.resolve(options.out ?? path.join('runs', definition.name));
   const lock = await mkdir(dir, { recursive: true })
     .then(() => lockStudy(dir))

@@ -27,11 +27,15 @@ export interface ListedConfiguration {
   point: number[];
 }
 
-/** The design of a rungwise search space (see `space/dimensions.ts`), with the configurations to try first. */
-export function spaceDesign(space: SearchSpace, tryFirst: readonly TrialConfiguration[] = []): UnitDesign {
+/**
+ * The design of a rungwise search space (see `space/dimensions.ts`), with the configurations to try
+ * first; `narrow` cuts the configuration at a point to the study's weight limit (the model still sees
+ * the point it proposed).
+ */
+export function spaceDesign(space: SearchSpace, tryFirst: readonly TrialConfiguration[] = [], narrow: (configuration: TrialConfiguration) => TrialConfiguration = (c) => c): UnitDesign {
   const dimensions = spaceDimensions(space);
   const listed = tryFirst.map((configuration) => ({ configuration, point: nearestPoint(dimensions, configuration) }));
-  return { dimensions, configurationAt: (point) => configurationAt(space, point), listed: (trialId) => listed[trialId] };
+  return { dimensions, configurationAt: (point) => narrow(configurationAt(space, point)), listed: (trialId) => listed[trialId] };
 }
 
 /** How the Sobol design is randomised by the seed. */

@@ -3,6 +3,7 @@ import type { Budget } from '../core/budget.js';
 import type { SearchSpace } from '../space/schema.js';
 import type { TrialConfiguration } from '../core/configuration.js';
 import { stream } from '../random/streams.js';
+import { fitWeightLimit, type NetworkShape } from '../core/size.js';
 import type { SamplerPlan } from './plan.js';
 import { SAMPLER_PLUGINS, type SamplerSettings } from './registry.js';
 import type { Sampler, SamplerContext, SamplerPlugin, SamplerTraits } from './sampler.js';
@@ -34,6 +35,25 @@ export interface SamplerDefinition {
   sampler: SamplerSettings;
   /** Configurations to try first, in order (the study's `tryFirst`). */
   tryFirst?: readonly TrialConfiguration[];
+  /** The study's weight limit with the data's shape (`footprint.maxWeights`); absent: no limit. */
+  weightLimit?: WeightLimit;
+}
+
+/** A largest network in weights, for the data's shape. */
+export interface WeightLimit {
+  maxWeights: number;
+  shape: NetworkShape;
+}
+
+/** Cuts a drawn configuration to the weight limit (see `fitWeightLimit`); the identity without one. */
+export function narrowing(space: SearchSpace, limit: WeightLimit | undefined): (configuration: TrialConfiguration) => TrialConfiguration {
+  if (limit === undefined) return (configuration) => configuration;
+  return (configuration) => {
+    const fitted = fitWeightLimit(configuration, limit.shape, limit.maxWeights, space);
+    // The study is refused before its first trial when the smallest network of the space is over the limit.
+    if (fitted === undefined) throw new Error(`no network of the space fits ${limit.maxWeights} weights`);
+    return fitted;
+  };
 }
 
 /** The registered plugin of a sampler kind. */
@@ -48,13 +68,15 @@ export function samplerPlugin(kind: string): SamplerPlugin {
 export function samplerContext(definition: SamplerDefinition): SamplerContext {
   const { space, budget, sampler } = definition;
   const tryFirst = definition.tryFirst ?? [];
+  const narrow = narrowing(space, definition.weightLimit);
   return {
     space,
     budget,
     seed: sampler.seed,
     tryFirst,
-    // A listed configuration takes its trial's place; every other trial draws as without the list.
-    randomConfiguration: (trialId) => tryFirst[trialId] ?? configurationForTrial(space, sampler.seed, trialId),
+    narrow,
+    // A listed configuration takes its trial's place; every other trial draws as without the list (cut to the weight limit).
+    randomConfiguration: (trialId) => tryFirst[trialId] ?? narrow(configurationForTrial(space, sampler.seed, trialId)),
     stream: (...key) => stream(sampler.seed, 'sampler', sampler.kind, ...key),
   };
 }

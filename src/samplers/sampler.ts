@@ -58,6 +58,12 @@ export interface SamplerContext {
   randomConfiguration(trialId: number): TrialConfiguration;
   /** Configurations the study lists to try first: trial k < tryFirst.length trains tryFirst[k] (randomConfiguration already gives it). */
   tryFirst?: readonly TrialConfiguration[];
+  /**
+   * A drawn configuration cut to the study's weight limit (`core/size.ts`'s `fitWeightLimit`); the
+   * identity without a limit. `randomConfiguration` already applies it; samplers that propose points
+   * apply it through `spaceDesign`, so a configuration over the limit is never proposed.
+   */
+  narrow?: (configuration: TrialConfiguration) => TrialConfiguration;
   /** A seeded stream keyed by the sampler's seed and the given parts, e.g. `stream('tpe', batch)`. */
   stream(...key: (string | number)[]): Rng;
 }

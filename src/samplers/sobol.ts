@@ -20,7 +20,7 @@ export const sobolPlugin = defineSampler({
   }),
   traits: { deterministic: true, stopsAtRungs: false, trialsFromBudget: true },
   create: (options, context) => {
-    const design = spaceDesign(context.space, context.tryFirst);
+    const design = spaceDesign(context.space, context.tryFirst, context.narrow);
     const pointAt = sobolDesign(design.dimensions, options.scramble, context.stream('design'));
     return new RandomSampler({
       trials: context.budget.trials,

@@ -150,7 +150,7 @@ export const tpeHyperbandPlugin = defineSampler({
   traits: { deterministic: true, stopsAtRungs: true, trialsFromBudget: true },
   create: (options, context) => {
     checkHalvingBudget(options, context.budget);
-    const design = spaceDesign(context.space, context.tryFirst);
+    const design = spaceDesign(context.space, context.tryFirst, context.narrow);
     return new TpeHyperbandSampler({
       maxEpochs: context.budget.maxEpochs,
       minEpochs: options.minEpochs,

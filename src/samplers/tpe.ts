@@ -144,7 +144,7 @@ export const tpePlugin = defineSampler({
   // In the default batch mode; `asynchronous: true` gives up this promise (see TpeSampler).
   traits: { deterministic: true, stopsAtRungs: false, trialsFromBudget: true },
   create: (options, context) => {
-    const design = spaceDesign(context.space, context.tryFirst);
+    const design = spaceDesign(context.space, context.tryFirst, context.narrow);
     return new TpeSampler({
       trials: context.budget.trials,
       maxEpochs: context.budget.maxEpochs,

@@ -26,7 +26,7 @@ const RESULTS_SHARE = 0.5;
 
 /** Weights and biases of an MLP with `depth` hidden layers of `width` units. */
 export function parameterCount(inputs: number, depth: number, width: number, outputs: number): number {
-  return inputs * width + width + (depth - 1) * (width * width + width) + width * outputs + outputs;
+  return weightCount({ depth, width }, inputs, outputs);
 }
 
 /** Bytes one trial of that network needs while it trains with batches of `batchSize` rows. */

@@ -2,6 +2,7 @@ import { z } from 'zod';
 import { samplerSchema } from '../samplers/registry.js';
 import { budgetSchema } from '../core/budget.js';
 import { LOWER_IS_BETTER, METRICS, TASKS, type Goal, type MetricName } from '../core/configuration.js';
+import { SECOND_GOALS } from '../core/front.js';
 import { earlyStoppingSchema, seedField as seed } from '../core/fields.js';
 import { listedConfigurationSchema, spaceSchema } from '../space/schema.js';
 
@@ -89,6 +90,27 @@ export const decisionThresholdSchema = z
 export type DecisionThresholdRule = z.output<typeof decisionThresholdSchema>;
 
 
+export const footprintSchema = z
+  .strictObject({
+    maxWeights: z
+      .int()
+      .min(1)
+      .optional()
+      .describe('Largest network allowed, in trainable weights and biases (known from depth, width and the data before training). A drawn configuration over it is never trained: its width is cut to the widest that fits at its depth, then its depth if need be.'),
+    maxRowMicroseconds: z
+      .number()
+      .positive()
+      .optional()
+      .describe('Slowest network allowed, in microseconds per row of the forward pass, measured after a trial\'s first job on this machine. A trial over it is flagged too-slow: ranked after every trial within it, never on the front, never told to the sampler as bad (the measurement is not deterministic).'),
+    against: z
+      .enum(SECOND_GOALS)
+      .optional()
+      .describe('A second goal to weigh the score against: weights or time (per row). The ranking then also lists the front (the configurations no other beats on both), the report draws it, and export --front picks from it.'),
+  })
+  .describe('What the network may cost where it runs: a size limit, a speed limit and a second goal. Absent: no limit, one goal.');
+
+export type FootprintSettings = z.output<typeof footprintSchema>;
+
 export const studySchema = z.strictObject({
   $schema: z.string().optional(),
   name: z
@@ -110,6 +132,7 @@ export const studySchema = z.strictObject({
     .min(1)
     .optional()
     .describe('Configurations to train first, in order: trial 0 trains the first, trial 1 the second, ...; every sampler gives them their trials as listed, and model-based samplers learn from their results. Values may lie outside the space.'),
+  footprint: footprintSchema.optional(),
 });
 
 /**

@@ -8,21 +8,26 @@ export const exportCommand: CommandDeclaration = ({ program, io }) => {
     ['rungwise export runs/demo', "rank 1: the study's own network with its recipe, scored on the test split"],
     ['rungwise export runs/demo --rank 2 --retrain', 'retrain on training + validation rows, score on the test split'],
     ['rungwise export runs/demo --format onnx', 'model.onnx beside the tfjs files'],
+    ['rungwise export runs/demo --max-weights 2000', 'the best configuration of at most 2,000 weights on the front'],
   ])
     .description('write a ranked configuration with its preprocessing recipe and trained model')
     .argument('<dir>', 'run directory')
-    .option('--rank <n>', 'rank in the study ranking', (v) => positiveInteger(v, '--rank'), 1)
+    .option('--rank <n>', 'rank in the study ranking (default: 1)', (v) => positiveInteger(v, '--rank'))
+    .option('--front <place>', "place on the study's front (footprint.against), 1 = the smallest or fastest", (v) => positiveInteger(v, '--front'))
+    .option('--max-weights <n>', 'the front configuration with the most weights at most n (the best score within that size)', (v) => positiveInteger(v, '--max-weights'))
     .option('--out <dir>', 'export folder (default: <dir>/export/rank-<n>)')
     .option('--retrain', "train afresh on training + validation rows for the study's optimizer steps, then score it and the study's network on the held-out test split")
     .option('--format <format>', "'tfjs' (model.json, weights.bin) or 'onnx' (model.onnx as well)", 'tfjs')
     .option('--allow-changed-data', 'go on although the CSV changed since the study ran (the test score is then on the changed data)')
     .option('--json', 'print the export summary as JSON')
-    .action(async (dir: string, flags: { rank: number; out?: string; retrain?: boolean; format: string; json?: boolean; allowChangedData?: boolean }) => {
+    .action(async (dir: string, flags: { rank?: number; front?: number; maxWeights?: number; out?: string; retrain?: boolean; format: string; json?: boolean; allowChangedData?: boolean }) => {
       const target = io();
       const { exportModel, exportReport, parseExportFormat } = await import('../../commands/export.js');
       const summary = await exportModel({
         dir,
-        rank: flags.rank,
+        ...(flags.rank !== undefined ? { rank: flags.rank } : {}),
+        ...(flags.front !== undefined ? { front: flags.front } : {}),
+        ...(flags.maxWeights !== undefined ? { maxWeights: flags.maxWeights } : {}),
         format: parseExportFormat(flags.format),
         ...(flags.out !== undefined ? { out: flags.out } : {}),
         ...(flags.retrain ? { retrain: true } : {}),

@@ -1,0 +1,164 @@
+/**
+ * Size and speed limits: the weight count of a configuration, the cut to a weight limit (never
+ * proposed over it, by every sampler, the same whatever the thread count), the time per row, and the
+ * time limit's flag in the one ranking rule.
+ */
+import path from 'node:path';
+import * as tf from '@tensorflow/tfjs';
+import { describe, expect, it } from 'vitest';
+import { fitWeightLimit, weightCount } from '../src/core/size.js';
+import { createSampler, SAMPLER_PLUGINS } from '../src/samplers/index.js';
+import type { Job, Sampler } from '../src/samplers/sampler.js';
+import type { StudyDefinitionInput } from '../src/study/definition.js';
+import { studySchema } from '../src/study/definition.js';
+import { checkFootprint } from '../src/study/footprint.js';
+import { measureRowMicroseconds, median } from '../src/trainers/engine/row-timing.js';
+import { runStudy } from '../src/runner/run-study.js';
+import { ClosedFormTransport } from '../src/transports/closed-form.js';
+import type { TrialConfiguration } from '../src/core/configuration.js';
+import { tinyStudy, writeTinyStudy } from './helpers/studies.js';
+
+describe('weightCount', () => {
+  it('counts the weights and biases of dense layers by hand', () => {
+    // Hand-worked: 4 inputs -> 3 -> 3 -> 2 outputs: (4x3 + 3) + (3x3 + 3) + (3x2 + 2) = 15 + 12 + 8 = 35.
+    // Common practice (no source): a dense layer of n inputs and m units has n x m weights and m biases.
+    expect(weightCount({ depth: 2, width: 3 }, 4, 2)).toBe(35);
+    expect(weightCount({ depth: 1, width: 5 }, 10, 1)).toBe(10 * 5 + 5 + 5 * 1 + 1);
+  });
+
+  it('equals the trainable parameters tfjs counts for the same network', () => {
+    // Source: TensorFlow.js, LayersModel.countParams() (tfjs-layers API reference), as the reference library.
+    for (const [depth, width, inputs, outputs] of [[1, 8, 13, 1], [3, 17, 5, 4], [4, 64, 29, 3]] as const) {
+      const model = tf.sequential();
+      for (let l = 0; l < depth; l++) model.add(tf.layers.dense({ units: width, activation: 'relu', ...(l === 0 ? { inputShape: [inputs] } : {}) }));
+      model.add(tf.layers.dense({ units: outputs }));
+      expect(weightCount({ depth, width }, inputs, outputs)).toBe(model.countParams());
+      model.dispose();
+    }
+  });
+});
+
+describe('fitWeightLimit', () => {
+  const ranges = { depth: { min: 1 }, width: { min: 2 } };
+  it('leaves a configuration that fits as it is', () => {
+    const configuration = { depth: 2, width: 8 };
+    expect(fitWeightLimit(configuration, { inputs: 10, outputs: 1 }, 200, ranges)).toBe(configuration);
+  });
+
+  it('cuts the width to the widest that fits at the same depth', () => {
+    // Hand-worked: 10 inputs, depth 2, 1 output: w^2 + 13w + 1 weights; w = 9 gives 199, w = 10 gives 231.
+    expect(fitWeightLimit({ depth: 2, width: 20 }, { inputs: 10, outputs: 1 }, 200, ranges)).toEqual({ depth: 2, width: 9 });
+  });
+
+  it('cuts the depth when no width of the range fits at the drawn depth', () => {
+    // Hand-worked, width.min 12: depth 3 gives 457, depth 2 gives 301 at width 12; depth 1 has 12w + 1, so w = 16 (193).
+    expect(fitWeightLimit({ depth: 3, width: 20 }, { inputs: 10, outputs: 1 }, 200, { depth: { min: 1 }, width: { min: 12 } })).toEqual({ depth: 1, width: 16 });
+    expect(fitWeightLimit({ depth: 3, width: 20 }, { inputs: 10, outputs: 1 }, 200, { depth: { min: 2 }, width: { min: 12 } })).toBeUndefined();
+  });
+});
+
+const LIMITED_SPACE: StudyDefinitionInput['space'] = { depth: { min: 1, max: 4 }, width: { min: 4, max: 128, log: true }, activation: ['relu'], learningRate: { min: 0.001, max: 0.1 }, batchSize: [32], optimizer: ['adam'] };
+const SHAPE = { inputs: 12, outputs: 1 };
+const MAX_WEIGHTS = 2000;
+
+/** Every configuration the sampler hands out, answering each job with a made-up loss that depends on the configuration alone. */
+function drain(sampler: Sampler, limit: number): TrialConfiguration[] {
+  const seen = new Map<number, TrialConfiguration>();
+  for (let step = 0; step < limit; step++) {
+    const job = sampler.next();
+    if (job === 'done') break;
+    if (job === 'wait') throw new Error('sampler waits with no job running');
+    seen.set(job.trialId, job.configuration);
+    const { learningRate, width } = (job as Job).configuration;
+    sampler.report({ trialId: job.trialId, rung: job.rung, loss: Math.abs(Math.log10(learningRate) + 2) + 4 / width });
+  }
+  return [...seen.values()];
+}
+
+describe.each(SAMPLER_PLUGINS.map((plugin) => [plugin.kind]))('a weight limit with the %s sampler', (kind) => {
+  const definition = studySchema.parse(tinyStudy({ space: LIMITED_SPACE, budget: { trials: 24, maxEpochs: 9 }, sampler: { kind, seed: 5 } as StudyDefinitionInput['sampler'] }));
+  const limited = { ...definition, weightLimit: { maxWeights: MAX_WEIGHTS, shape: SHAPE } };
+
+  it('never proposes a configuration over the limit, and cuts some that the space would give', () => {
+    const free = drain(createSampler(definition), 500);
+    const cut = drain(createSampler(limited), 500);
+    expect(cut.length).toBeGreaterThan(0);
+    for (const configuration of cut) expect(weightCount(configuration, SHAPE.inputs, SHAPE.outputs)).toBeLessThanOrEqual(MAX_WEIGHTS);
+    // Without the limit the same seed draws networks over it, so the check above can fail.
+    expect(free.some((c) => weightCount(c, SHAPE.inputs, SHAPE.outputs) > MAX_WEIGHTS)).toBe(true);
+  });
+
+  it('proposes the same configurations every time for the same seed', () => {
+    expect(drain(createSampler(limited), 500)).toEqual(drain(createSampler(limited), 500));
+  });
+});
+
+describe('checkFootprint', () => {
+  const definition = studySchema.parse(tinyStudy({ space: LIMITED_SPACE }));
+  it('refuses a limit below the smallest network of the space, naming the field and the least allowed', () => {
+    // Hand-worked: depth 1, width 4 over 12 inputs and 1 output: 12x4 + 4 + 4 + 1 = 57 weights.
+    expect(() => checkFootprint({ ...definition, footprint: { maxWeights: 56 } }, SHAPE, 'study.json')).toThrow(
+      /study\.json: footprint\.maxWeights: 56 is below the smallest network of the space .*57 weights\); allow at least 57/,
+    );
+    expect(() => checkFootprint({ ...definition, footprint: { maxWeights: 57 } }, SHAPE, 'study.json')).not.toThrow();
+  });
+
+  it('refuses a listed configuration over the limit', () => {
+    const tryFirst = [{ depth: 1, width: 4, activation: 'relu', learningRate: 0.01, batchSize: 32, optimizer: 'adam', l2: 0, dropout: 0 }] as const;
+    expect(() => checkFootprint({ ...definition, tryFirst: [...tryFirst, { ...tryFirst[0], depth: 2, width: 64 }], footprint: { maxWeights: 500 } }, SHAPE, 'study.json')).toThrow(
+      /tryFirst\[1\]: depth 2, width 64 has 5057 weights, over footprint\.maxWeights 500/,
+    );
+  });
+});
+
+describe('the time per row', () => {
+  it('is the median of the timed passes', () => {
+    expect(median([5, 1, 3])).toBe(3);
+    expect(median([4, 1, 3, 2])).toBe(2.5);
+  });
+
+  it('is measured on the engine for each task as a positive, finite number of microseconds', () => {
+    const configuration: TrialConfiguration = { depth: 2, width: 16, activation: 'tanh', learningRate: 0.01, batchSize: 32, optimizer: 'adam', l2: 0, dropout: 0.2 };
+    for (const shape of [{ task: 'binary', inputCount: 7, outputCount: 1 }, { task: 'multiclass', inputCount: 4, outputCount: 3 }, { task: 'regression', inputCount: 9, outputCount: 1 }] as const) {
+      const time = measureRowMicroseconds(configuration, shape, 64, 3);
+      expect(Number.isFinite(time) && time > 0).toBe(true);
+    }
+  });
+});
+
+describe('a study with a weight limit and a time limit', () => {
+  /** A made-up timer: a microsecond per 100 weights of the tiny study's network (deterministic, unlike a real measurement). */
+  const fakeTimer = (configuration: TrialConfiguration, shape: { inputCount: number; outputCount: number }): number => weightCount(configuration, shape.inputCount, shape.outputCount) / 100;
+
+  async function run(footprint: StudyDefinitionInput['footprint'], threads: number) {
+    const file = await writeTinyStudy(tinyStudy({ space: LIMITED_SPACE, budget: { trials: 12, maxEpochs: 3 }, ...(footprint ? { footprint } : {}) }));
+    return runStudy(file, {
+      out: path.join(path.dirname(file), 'run'),
+      timeRows: fakeTimer,
+      transport: () => new ClosedFormTransport({ capacity: threads, evaluate: (c) => ({ validationLoss: 1 / c.width, metrics: { auc: 1 - 1 / (2 + c.width) } }) }),
+    });
+  }
+
+  it('records weights and time per row, keeps every trial within the weight limit, and flags the slow ones after the rest', async () => {
+    const { doc, ranking } = await run({ maxWeights: 3000, maxRowMicroseconds: 10 }, 3);
+    const inputs = doc.data.inputCount;
+    for (const trial of doc.trials) {
+      expect(trial.weightCount).toBe(weightCount(trial.configuration, inputs, 1));
+      expect(trial.weightCount).toBeLessThanOrEqual(3000);
+      expect(trial.rowMicroseconds).toBe(trial.weightCount! / 100);
+      expect(trial.flags?.includes('too-slow') ?? false).toBe(trial.rowMicroseconds! > 10);
+    }
+    const slow = ranking.findIndex((r) => r.trial.flags?.includes('too-slow'));
+    expect(slow).toBeGreaterThan(0);
+    expect(ranking.slice(slow).every((r) => r.trial.flags?.includes('too-slow'))).toBe(true);
+    // The best score overall is a slow (wide) network: the limit, not the score, puts it after the others.
+    expect(Math.max(...ranking.slice(slow).map((r) => r.trial.score))).toBeGreaterThan(ranking[0]!.trial.score);
+  });
+
+  it('proposes the same configurations with a time limit as without, with 1 or 4 threads (the time never reaches the sampler)', async () => {
+    const configurations = async (footprint: StudyDefinitionInput['footprint'], threads: number) => (await run(footprint, threads)).doc.trials.map((t) => t.configuration);
+    const plain = await configurations({ maxWeights: 3000 }, 1);
+    expect(await configurations({ maxWeights: 3000, maxRowMicroseconds: 10 }, 4)).toEqual(plain);
+    expect(await configurations({ maxWeights: 3000 }, 4)).toEqual(plain);
+  });
+});
