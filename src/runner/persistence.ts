@@ -80,15 +80,16 @@ export class BatchedPersistence<Item> {
 
   /**
    * Keep a checkpoint while its trial may still be continued, and while it ranks among the best
-   * KEPT_CHECKPOINTS plus one place for every trial still active: an active trial can leave the
+   * `keptNetworks` (default KEPT_CHECKPOINTS) plus one place for every trial still active: an active trial can leave the
    * ranking (a later job diverges or fails) and lift the ones below it, but nothing else can. So a
    * checkpoint is never deleted while it may still be needed, in whatever order jobs finish; when the
-   * study ends, no trial is active and exactly the best KEPT_CHECKPOINTS keep theirs.
+   * study ends, no trial is active and exactly the best `keptNetworks` keep theirs.
    */
   private async prune(ranking: readonly RankedTrial[]): Promise<void> {
     const trials = this.store.doc.trials;
     const active = trials.filter((t) => isActive(t.status));
-    const kept = new Set(ranking.slice(0, KEPT_CHECKPOINTS + active.length).map((r) => r.trial.id));
+    const keep = this.store.doc.definition.keptNetworks ?? KEPT_CHECKPOINTS;
+    const kept = new Set(ranking.slice(0, keep + active.length).map((r) => r.trial.id));
     const statusOf = new Map(trials.map((t) => [t.id, t.status]));
     for (const id of [...this.withCheckpoint]) {
       const status = statusOf.get(id);
