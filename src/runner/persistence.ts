@@ -23,6 +23,8 @@ export class BatchedPersistence<Item> {
     /** Called after each save with the items saved and the ranking at that moment. */
     private readonly announce: (items: Item[], ranking: RankedTrial[]) => void,
     withCheckpoint: Iterable<number>,
+    /** How many of the best trials keep their checkpoint when the study ends (the study's `keptNetworks`). */
+    private readonly keptNetworks: number = KEPT_CHECKPOINTS,
   ) {
     this.withCheckpoint = new Set(withCheckpoint);
   }
@@ -88,8 +90,7 @@ export class BatchedPersistence<Item> {
   private async prune(ranking: readonly RankedTrial[]): Promise<void> {
     const trials = this.store.doc.trials;
     const active = trials.filter((t) => isActive(t.status));
-    const keep = this.store.doc.definition.keptNetworks ?? KEPT_CHECKPOINTS;
-    const kept = new Set(ranking.slice(0, keep + active.length).map((r) => r.trial.id));
+    const kept = new Set(ranking.slice(0, this.keptNetworks + active.length).map((r) => r.trial.id));
     const statusOf = new Map(trials.map((t) => [t.id, t.status]));
     for (const id of [...this.withCheckpoint]) {
       const status = statusOf.get(id);
