@@ -149,15 +149,18 @@ async function exportTestScore(set: DataSet, exportDir: string, split: SplitReco
 }
 
 /** rungwise's default study on the set (its CSV written in `folder`): the winner's and the ensemble's test scores (the study's networks, no retraining). */
-export async function rungwiseScores(set: DataSet, folder: string, seed: number, workers: number): Promise<{ score: number; ensemble: number; split: SplitRecord; seconds: number }> {
+export async function rungwiseScores(set: DataSet, folder: string, seed: number, workers: number): Promise<{ score: number; ensemble: number; members: string; split: SplitRecord; seconds: number }> {
   const out = path.join(folder, `${set.name}-seed${seed}`);
   const started = Date.now();
   await run({ definition: { name: `${set.name}-seed${seed}`, data: { csv: `${set.name}.csv`, target: set.target, splitSeed: seed } }, baseDir: folder, out, workers, force: true });
   const seconds = (Date.now() - started) / 1000;
   const split = JSON.parse(await readFile(path.join(out, 'splits.json'), 'utf8')) as SplitRecord;
   const score = await exportTestScore(set, (await exportModel({ dir: out })).out, split);
-  const ensemble = await exportTestScore(set, (await exportEnsemble({ dir: out, size: 3 })).out, split);
-  return { score, ensemble, split, seconds };
+  const exported = await exportEnsemble({ dir: out, size: 3 });
+  const ensemble = await exportTestScore(set, exported.out, split);
+  // The members as `rank:weight`, e.g. `1:0.67 3:0.33`.
+  const members = exported.ensemble.members.map((m) => `${m.rank}:${Number(m.weight.toFixed(2))}`).join(' ');
+  return { score, ensemble, members, split, seconds };
 }
 
 /** Mean and standard error (s / sqrt(n), s with n - 1). */
