@@ -16,6 +16,7 @@ import { paceGroup } from './pace.js';
 import { plansGroup } from './plans.js';
 import { poolGroup } from './pool.js';
 import { queueGroup } from './queue.js';
+import { referenceGroup } from './reference.js';
 import { reportRenderGroup } from './report-render.js';
 import { groupMarkdown, machineInfo, writeResults, type GroupResult } from './report.js';
 import { schedulingGroup } from './scheduling.js';
@@ -47,6 +48,7 @@ const GROUPS: Record<string, (options: BenchOptions) => Promise<GroupResult>> = 
   views: viewsGroup,
   pace: paceGroup,
   'report-render': reportRenderGroup,
+  reference: referenceGroup,
 };
 
 function parseArgs(argv: string[]): { quick: boolean; only: string[] } {

@@ -7,6 +7,9 @@
  * (`ml-logistic-regression` / `ml-regression-multivariate-linear`) and the library's default MLP
  * (`ml-fnn`, classification only). Inputs for the references: numbers standardised, categories one-hot,
  * missing values filled, all from the training rows. Test scores, mean and standard error over split seeds.
+ * rungwise's column is the single winner (rank 1, exported as trained); the ensemble column is
+ * `export --ensemble 3` (greedy selection over ranks 1 to 3 on the validation split), scored the same way.
+ * `npm run bench -- --only reference` runs the same comparison as a bench group (`bench/reference.ts`).
  *
  *   node dist/scripts/reference-comparison.js [--seeds 0,1,2] [--sets iris,penguins,cars] [--threads 2]
  */
@@ -14,14 +17,17 @@ import { mkdir, readFile, writeFile } from 'node:fs/promises';
 import { createRequire } from 'node:module';
 import { tmpdir } from 'node:os';
 import path from 'node:path';
+import { pathToFileURL } from 'node:url';
 import { run } from '../src/commands/run.js';
 import { exportModel } from '../src/commands/export.js';
+import { exportEnsemble } from '../src/commands/export-ensemble.js';
 import { loadModel, predict, type ClassPrediction, type InputRow, type ValuePrediction } from '../src/export/hand-off.js';
 import type { SplitRecord } from '../src/store/split-record.js';
 
 const require = createRequire(import.meta.url);
 
-interface DataSet {
+/** An open data set a package ships, as header and rows. */
+export interface DataSet {
   name: string;
   target: string;
   task: 'multiclass' | 'regression';
@@ -54,9 +60,9 @@ function carsSet(): DataSet {
   return { name: 'cars', target: 'Miles_per_Gallon', task: 'regression', header, rows };
 }
 
-const SETS: Record<string, () => DataSet> = { iris: irisSet, penguins: penguinsSet, cars: carsSet };
+export const SETS: Record<string, () => DataSet> = { iris: irisSet, penguins: penguinsSet, cars: carsSet };
 
-function csvText(set: DataSet): string {
+export function csvText(set: DataSet): string {
   const cell = (value: string | number | null): string => (value === null ? 'NA' : /[",\n]/.test(String(value)) ? `"${String(value).replace(/"/g, '""')}"` : String(value));
   return `${set.header.map(cell).join(',')}\n${set.rows.map((row) => row.map(cell).join(',')).join('\n')}\n`;
 }
@@ -81,8 +87,11 @@ function referenceInputs(set: DataSet, train: number[], rows: number[]): number[
   return rows.map((r) => columns.flatMap((c, i) => encoders[i]!(set.rows[r]![c]!)));
 }
 
-interface Scores {
+/** Test scores of one split seed: accuracy, or RMSE for regression. */
+export interface Scores {
   rungwise: number;
+  /** `export --ensemble 3`'s test score. */
+  ensemble: number;
   trees: number;
   linear: number;
   mlp?: number;
@@ -91,7 +100,8 @@ interface Scores {
 type Booster = { train(x: number[][], y: number[]): void; predict(x: number[][]): number[] };
 type XGBoostClass = new (options: Record<string, unknown>) => Booster;
 
-async function referenceScores(set: DataSet, split: SplitRecord): Promise<Omit<Scores, 'rungwise'>> {
+/** The three references fitted on the training and validation rows of `split`, scored on its test rows. */
+export async function referenceScores(set: DataSet, split: SplitRecord): Promise<Omit<Scores, 'rungwise' | 'ensemble'>> {
   const train = split.training.concat(split.validation).map((row) => row - 1);
   const test = split.test.map((row) => row - 1);
   const xTrain = referenceInputs(set, train, train);
@@ -125,31 +135,44 @@ async function referenceScores(set: DataSet, split: SplitRecord): Promise<Omit<S
 const accuracy = (predicted: number[], truth: number[]): number => predicted.filter((p, i) => Math.round(p) === truth[i]).length / truth.length;
 const rmse = (predicted: number[], truth: number[]): number => Math.sqrt(predicted.reduce((sum, p, i) => sum + (p - truth[i]!) ** 2, 0) / truth.length);
 
-/** rungwise's default study on the set, and the winner's test score (the exported network, no retraining). */
-async function rungwiseScore(set: DataSet, folder: string, seed: number, threads: number): Promise<{ score: number; split: SplitRecord; seconds: number }> {
-  const out = path.join(folder, `${set.name}-seed${seed}`);
-  const started = Date.now();
-  await run({ definition: { name: `${set.name}-seed${seed}`, data: { csv: `${set.name}.csv`, target: set.target, splitSeed: seed } }, baseDir: folder, out, threads, force: true });
-  const seconds = (Date.now() - started) / 1000;
-  const split = JSON.parse(await readFile(path.join(out, 'splits.json'), 'utf8')) as SplitRecord;
-  const summary = await exportModel({ dir: out });
-  const model = await loadModel(summary.out);
+/** An export folder's test score, from `predict` on the split's CSV rows (not from the export's own figures). */
+async function exportTestScore(set: DataSet, exportDir: string, split: SplitRecord): Promise<number> {
+  const model = await loadModel(exportDir);
   const targetIndex = set.header.indexOf(set.target);
   const rows: InputRow[] = split.test.map((row) => Object.fromEntries(set.header.map((column, i) => [column, set.rows[row - 1]![i] ?? null])));
   const predictions = predict(model, rows);
   model.dispose();
   const truth = split.test.map((row) => set.rows[row - 1]![targetIndex]);
-  const score =
-    set.task === 'regression'
-      ? rmse((predictions as ValuePrediction[]).map((p) => p.predicted), truth.map(Number))
-      : (predictions as ClassPrediction[]).filter((p, i) => p.predicted === String(truth[i])).length / truth.length;
-  return { score, split, seconds };
+  return set.task === 'regression'
+    ? rmse((predictions as ValuePrediction[]).map((p) => p.predicted), truth.map(Number))
+    : (predictions as ClassPrediction[]).filter((p, i) => p.predicted === String(truth[i])).length / truth.length;
+}
+
+/** rungwise's default study on the set (its CSV written in `folder`): the winner's and the ensemble's test scores (the study's networks, no retraining). */
+export async function rungwiseScores(set: DataSet, folder: string, seed: number, threads: number): Promise<{ score: number; ensemble: number; members: string; split: SplitRecord; seconds: number }> {
+  const out = path.join(folder, `${set.name}-seed${seed}`);
+  const started = Date.now();
+  await run({ definition: { name: `${set.name}-seed${seed}`, data: { csv: `${set.name}.csv`, target: set.target, splitSeed: seed } }, baseDir: folder, out, threads, force: true });
+  const seconds = (Date.now() - started) / 1000;
+  const split = JSON.parse(await readFile(path.join(out, 'splits.json'), 'utf8')) as SplitRecord;
+  const score = await exportTestScore(set, (await exportModel({ dir: out })).out, split);
+  const exported = await exportEnsemble({ dir: out, size: 3 });
+  const ensemble = await exportTestScore(set, exported.out, split);
+  // The members as `rank:weight`, e.g. `1:0.67 3:0.33`.
+  const members = exported.ensemble.members.map((m) => `${m.rank}:${Number(m.weight.toFixed(2))}`).join(' ');
+  return { score, ensemble, members, split, seconds };
+}
+
+/** Mean and standard error (s / sqrt(n), s with n - 1). */
+export function meanError(values: readonly number[]): { mean: number; error: number } {
+  const mean = values.reduce((a, b) => a + b, 0) / values.length;
+  const sd = values.length > 1 ? Math.sqrt(values.reduce((a, b) => a + (b - mean) ** 2, 0) / (values.length - 1)) : 0;
+  return { mean, error: sd / Math.sqrt(values.length) };
 }
 
 function meanAndError(values: readonly number[]): string {
-  const mean = values.reduce((a, b) => a + b, 0) / values.length;
-  const sd = values.length > 1 ? Math.sqrt(values.reduce((a, b) => a + (b - mean) ** 2, 0) / (values.length - 1)) : 0;
-  return `${mean.toFixed(3)} ± ${(sd / Math.sqrt(values.length)).toFixed(3)}`;
+  const { mean, error } = meanError(values);
+  return `${mean.toFixed(3)} ± ${error.toFixed(3)}`;
 }
 
 function option(name: string, fallback: string): string {
@@ -168,18 +191,21 @@ async function main(): Promise<void> {
     await writeFile(path.join(folder, `${set.name}.csv`), csvText(set));
     const scores: Scores[] = [];
     for (const seed of seeds) {
-      const ours = await rungwiseScore(set, folder, seed, threads);
+      const ours = await rungwiseScores(set, folder, seed, threads);
       const references = await referenceScores(set, ours.split);
-      scores.push({ rungwise: ours.score, ...references });
-      console.log(`${set.name} seed ${seed}: rungwise ${ours.score.toFixed(4)} (${ours.seconds.toFixed(0)} s), trees ${references.trees.toFixed(4)}, linear ${references.linear.toFixed(4)}${references.mlp !== undefined ? `, mlp ${references.mlp.toFixed(4)}` : ''}`);
+      scores.push({ rungwise: ours.score, ensemble: ours.ensemble, ...references });
+      console.log(`${set.name} seed ${seed}: rungwise ${ours.score.toFixed(4)}, ensemble ${ours.ensemble.toFixed(4)} (${ours.seconds.toFixed(0)} s), trees ${references.trees.toFixed(4)}, linear ${references.linear.toFixed(4)}${references.mlp !== undefined ? `, mlp ${references.mlp.toFixed(4)}` : ''}`);
     }
     const metric = set.task === 'regression' ? 'test RMSE (lower is better)' : 'test accuracy';
     const column = (key: keyof Scores): string => (scores.every((s) => s[key] !== undefined) ? meanAndError(scores.map((s) => s[key]!)) : 'n/a');
-    console.log(`| ${set.name} (${set.rows.length} rows, ${metric}) | rungwise ${column('rungwise')} | trees ${column('trees')} | linear ${column('linear')} | mlp ${column('mlp')} |`);
+    console.log(`| ${set.name} (${set.rows.length} rows, ${metric}) | rungwise ${column('rungwise')} | ensemble ${column('ensemble')} | trees ${column('trees')} | linear ${column('linear')} | mlp ${column('mlp')} |`);
   }
 }
 
-main().catch((error: unknown) => {
-  console.error(error instanceof Error ? error.message : error);
-  process.exitCode = 1;
-});
+// Run as a script (not when the bench imports the functions above).
+if (process.argv[1] !== undefined && import.meta.url === pathToFileURL(process.argv[1]).href) {
+  main().catch((error: unknown) => {
+    console.error(error instanceof Error ? error.message : error);
+    process.exitCode = 1;
+  });
+}

@@ -37,6 +37,7 @@ export { resume, type ResumeCommandOptions } from './commands/resume.js';
 export { plot, type PlotOptions } from './commands/plot.js';
 export type { Baseline, ChartReferences, NoiseBand } from './plot/charts/references.js';
 export { exportModel, exportReport, type ExportCommandOptions, type ExportFormat, type ExportSummary } from './commands/export.js';
+export { exportEnsemble, ensembleReport, type EnsembleExportOptions, type EnsembleExportSummary } from './commands/export-ensemble.js';
 export { predictCsv, predictReport, predictWarnings, type PredictCommandOptions, type PredictSummary } from './commands/predict.js';
 export type { InputIssue, InputIssueKind } from './data/input-checks.js';
 export { runDemo, copyDemo, type DemoOptions } from './commands/demo.js';
@@ -45,6 +46,7 @@ export {
   predict,
   predictWithChecks,
   decisionThreshold,
+  modelOutputs,
   type PredictOptions,
   type CheckedPredictions,
   type LoadedModel,

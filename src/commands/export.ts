@@ -353,7 +353,7 @@ function exportFigures(model: tf.LayersModel, doc: StudyDocument, trial: TrialRe
 }
 
 /** The study's costs for the export: the matrix, how a class is decided, and the constant predictor's cost on the validation rows. */
-function exportCosts(doc: StudyDocument, data: PreparedData | undefined): ExportCosts | undefined {
+export function exportCosts(doc: StudyDocument, data: PreparedData | undefined): ExportCosts | undefined {
   const settings = doc.definition.data.costs;
   const classes = doc.recipe.classes;
   if (!settings || !data?.costMatrix || !classes) return undefined;

@@ -3,6 +3,7 @@
  * file, and the record of how it was chosen and scored.
  */
 import type { HandOffComparison } from './hand-off-check.js';
+import type { EnsembleDescription } from './ensemble-description.js';
 import { readFile } from 'node:fs/promises';
 import path from 'node:path';
 import type { PreprocessingRecipe } from '../data/types.js';
@@ -101,6 +102,8 @@ export interface ExportConfiguration {
   model: { file: string; weights: string; format: 'tfjs layers model' };
   /** With `--format onnx`: how to call `model.onnx`. */
   onnx?: OnnxDescription;
+  /** With `export --ensemble`: the members (each in its own folder), their weights and the ensemble's figures; the fields above describe the single winner (rank 1). */
+  ensemble?: EnsembleDescription;
   caution: string;
 }
 

@@ -14,6 +14,7 @@ import { leastExpectedCostClasses } from '../metrics/costs.js';
 import { initBackend } from '../trainers/tfjs/backend.js';
 import { readConfiguration, type ExportConfiguration } from './configuration.js';
 import { MODEL_FILE, loadLayersModelFromDir, predictRows } from './model-files.js';
+import { loadEnsembleMembers, type WeightedNetwork } from './ensemble-files.js';
 
 /** An exported model, ready to predict. Call `dispose()` when done to free its tensors. */
 export interface LoadedModel {
@@ -21,8 +22,10 @@ export interface LoadedModel {
   dir: string;
   /** `configuration.json`: recipe, classes, metrics, how it was chosen. */
   configuration: ExportConfiguration;
-  /** The tfjs Layers network (inputs already encoded, outputs as described in `configuration.outputs`). */
+  /** The tfjs Layers network (inputs already encoded, outputs as described in `configuration.outputs`); for an ensemble, its first member. */
   network: tf.LayersModel;
+  /** An ensemble's members with their weights (`export --ensemble`); {@link modelOutputs} averages them. */
+  members?: readonly WeightedNetwork[];
   dispose(): void;
 }
 
@@ -62,11 +65,36 @@ export function decisionThreshold(configuration: ExportConfiguration): number {
 export async function loadModel(exportDir: string): Promise<LoadedModel> {
   const dir = path.resolve(exportDir);
   const configuration = await readConfiguration(dir);
+  if (configuration.ensemble) return loadEnsemble(dir, configuration);
   const modelFile = path.join(dir, MODEL_FILE);
   if (!existsSync(modelFile)) throw new UserError('E_MODEL', `${modelFile}: not found; export the model again with \`rungwise export\``);
   await initBackend();
   const network = await loadLayersModelFromDir(dir);
   return { dir, configuration, network, dispose: () => network.dispose() };
+}
+
+async function loadEnsemble(dir: string, configuration: ExportConfiguration): Promise<LoadedModel> {
+  await initBackend();
+  const members = await loadEnsembleMembers(dir, configuration);
+  if (members.length === 0) throw new UserError('E_MODEL', `${dir}: configuration.json names no ensemble member; export the ensemble again with \`rungwise export --ensemble\``);
+  return { dir, configuration, network: members[0]!.network, members, dispose: () => members.forEach((member) => member.network.dispose()) };
+}
+
+/**
+ * The model's outputs on encoded rows (row-major `rows x inputCount`): the network's, or for an
+ * ensemble the weighted mean of its members' (probabilities for classification, predictions in the
+ * target's units for regression).
+ */
+export function modelOutputs(model: LoadedModel, x: Float32Array, rows: number): Float32Array {
+  const inputs = model.configuration.recipe.inputCount;
+  if (!model.members) return predictRows(model.network, x, rows, inputs);
+  let sum: Float64Array | undefined;
+  for (const { network, weight } of model.members) {
+    const outputs = predictRows(network, x, rows, inputs);
+    sum ??= new Float64Array(outputs.length);
+    for (let i = 0; i < outputs.length; i++) sum[i] = sum[i]! + weight * outputs[i]!;
+  }
+  return Float32Array.from(sum ?? []);
 }
 
 function asCell(value: InputRow[string]): string {
@@ -145,6 +173,6 @@ export function predict(model: LoadedModel, rows: readonly InputRow[], options: 
 export function predictWithChecks(model: LoadedModel, rows: readonly InputRow[], options: PredictOptions = {}): CheckedPredictions {
   const { x, issues } = encodeRowsChecked(model.configuration, rows);
   if (options.strict && issues.length > 0) throw strictInputError(issues, 'rows', 'strict');
-  const outputs = predictRows(model.network, x, rows.length, model.configuration.recipe.inputCount);
+  const outputs = modelOutputs(model, x, rows.length);
   return { predictions: interpretOutputs(model.configuration, outputs, rows.length), inputIssues: issues };
 }

@@ -193,7 +193,8 @@ async function openSession(store: StudyStore, data: PreparedData, options: Execu
   const queue = replay(sampler, recordedOutcomes(trials, goal), new Map(trials.map((t) => [t.id, t.configuration]))).pending;
   const lifecycle = new TrialLifecycle(store.doc, sampler, planned, sizeAndSpeed(dataset, options.timeRows));
   const keeper = new CheckpointKeeper(options.checkpoints ?? new FolderCheckpointStore(store.dir));
-  const persistence = new BatchedPersistence<Announced>(store, keeper, sampler, announcer(emit, goal), [...(await keeper.list()), ...trials.map((t) => t.id)]);
+  const withCheckpoint = [...(await keeper.list()), ...trials.map((t) => t.id)];
+  const persistence = new BatchedPersistence<Announced>(store, keeper, sampler, announcer(emit, goal), withCheckpoint, definition.keptNetworks);
   const minutes = options.minutes ?? definition.budget.minutes;
   const stop = new StopControl({
     ...(options.signal ? { signal: options.signal } : {}),

@@ -24,6 +24,8 @@ export class BatchedPersistence<Item> {
     /** Called after each save with the items saved and the ranking at that moment. */
     private readonly announce: (items: Item[], ranking: RankedTrial[]) => void,
     withCheckpoint: Iterable<number>,
+    /** How many of the best trials keep their checkpoint when the study ends (the study's `keptNetworks`). */
+    private readonly keptNetworks: number = KEPT_CHECKPOINTS,
   ) {
     this.withCheckpoint = new Set(withCheckpoint);
   }
@@ -81,17 +83,17 @@ export class BatchedPersistence<Item> {
 
   /**
    * Keep a checkpoint while its trial may still be continued, and while it ranks among the best
-   * KEPT_CHECKPOINTS plus one place for every trial still active: an active trial can leave the
+   * `keptNetworks` (default KEPT_CHECKPOINTS) plus one place for every trial still active: an active trial can leave the
    * ranking (a later job diverges or fails) and lift the ones below it, but nothing else can. So a
    * checkpoint is never deleted while it may still be needed, in whatever order jobs finish; when the
-   * study ends, no trial is active and exactly the best KEPT_CHECKPOINTS keep theirs. With a second
+   * study ends, no trial is active and exactly the best `keptNetworks` keep theirs. With a second
    * goal, the front's configurations keep theirs too (for `export --front`): the front holds finished
    * trials only, whose records never change, so a trial that leaves it never comes back.
    */
   private async prune(ranking: readonly RankedTrial[]): Promise<void> {
     const trials = this.store.doc.trials;
     const active = trials.filter((t) => isActive(t.status));
-    const kept = new Set(ranking.slice(0, KEPT_CHECKPOINTS + active.length).map((r) => r.trial.id));
+    const kept = new Set(ranking.slice(0, this.keptNetworks + active.length).map((r) => r.trial.id));
     // A test double of the store may hold no definition.
     const against = this.store.doc.definition?.footprint?.against;
     if (against !== undefined) for (const member of frontOf(ranking, this.store.doc.goal, against)) kept.add(member.ranked.trial.id);

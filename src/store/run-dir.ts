@@ -10,6 +10,7 @@
  *   study.lock        the lock (proper-lockfile) and study.owner.json, who holds it
  *   checkpoints/      trial-<id>.ckpt, one per trial that may still continue or ranks among the kept
  *   export/rank-<n>/  default target of `rungwise export`
+ *   export/ensemble-<k>/  default target of `rungwise export --ensemble <k>`
  *   plots/            default target of `rungwise plot`
  */
 import path from 'node:path';
@@ -34,5 +35,6 @@ export const runPaths = {
   checkpoints: (dir: string): string => path.join(dir, 'checkpoints'),
   checkpoint: (dir: string, trialId: number): string => path.join(dir, 'checkpoints', `trial-${trialId}.ckpt`),
   exportDir: (dir: string, rank: number): string => path.join(dir, 'export', `rank-${rank}`),
+  ensembleExportDir: (dir: string, size: number): string => path.join(dir, 'export', `ensemble-${size}`),
   plotsDir: (dir: string): string => path.join(dir, 'plots'),
 } as const;

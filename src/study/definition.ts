@@ -125,6 +125,7 @@ export const studySchema = z.strictObject({
   threads: z.int().min(1).max(256).optional().describe('Threads of this machine training jobs at once; default: available cores. (A worker is a `rungwise worker` process on any machine.)'),
   trialTimeoutSeconds: z.number().positive().optional().describe('A trial running longer is stopped and marked timed-out.'),
   retries: z.int().min(0).max(10).default(0).describe('Times a failed trial is run again before it is given up.'),
+  keptNetworks: z.int().min(1).max(1000).optional().describe('How many of the best trials keep their network (checkpoint) when the study ends, for export and export --ensemble; default 3.'),
   decisionThreshold: decisionThresholdSchema.optional(),
   earlyStopping: earlyStoppingSchema.optional(),
   tryFirst: z

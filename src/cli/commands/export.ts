@@ -9,6 +9,7 @@ export const exportCommand: CommandDeclaration = ({ program, io }) => {
     ['rungwise export runs/demo --rank 2 --retrain', 'retrain on training + validation rows, score on the test split'],
     ['rungwise export runs/demo --format onnx', 'model.onnx beside the tfjs files'],
     ['rungwise export runs/demo --max-weights 2000', 'the best configuration of at most 2,000 weights on the front'],
+    ['rungwise export runs/demo --ensemble 3', 'an ensemble chosen from ranks 1 to 3, scored beside rank 1 on the test split'],
   ])
     .description('write a ranked configuration with its preprocessing recipe and trained model')
     .argument('<dir>', 'run directory')
@@ -18,10 +19,17 @@ export const exportCommand: CommandDeclaration = ({ program, io }) => {
     .option('--out <dir>', 'export folder (default: <dir>/export/rank-<n>)')
     .option('--retrain', "train afresh on training + validation rows for the study's optimizer steps, then score it and the study's network on the held-out test split")
     .option('--format <format>', "'tfjs' (model.json, weights.bin) or 'onnx' (model.onnx as well)", 'tfjs')
+    .option('--ensemble <k>', 'greedy ensemble selection over ranks 1 to k on the validation split; the ensemble and rank 1 scored on the test split', (v) => positiveInteger(v, '--ensemble'))
     .option('--allow-changed-data', 'go on although the CSV changed since the study ran (the test score is then on the changed data)')
     .option('--json', 'print the export summary as JSON')
-    .action(async (dir: string, flags: { rank?: number; front?: number; maxWeights?: number; out?: string; retrain?: boolean; format: string; json?: boolean; allowChangedData?: boolean }) => {
+    .action(async (dir: string, flags: { rank?: number; front?: number; maxWeights?: number; out?: string; retrain?: boolean; format: string; json?: boolean; allowChangedData?: boolean; ensemble?: number }) => {
       const target = io();
+      if (flags.ensemble !== undefined) {
+        const { exportEnsembleAction, ensembleReport } = await import('../../commands/export-ensemble.js');
+        const summary = await exportEnsembleAction(dir, { ...flags, ensemble: flags.ensemble });
+        target.out(flags.json ? json(summary) : `${ensembleReport(summary)}\n`);
+        return;
+      }
       const { exportModel, exportReport, parseExportFormat } = await import('../../commands/export.js');
       const summary = await exportModel({
         dir,
