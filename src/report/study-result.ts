@@ -8,6 +8,8 @@ import { rankingTable } from './ranking-table.js';
 import { OPTIMISM_CAUTION } from './caution.js';
 import { studySummary } from './summary.js';
 import { budgetSummary, type BudgetSummary } from './budget-summary.js';
+import { repeatText, studyRepeats } from './repeat-text.js';
+import type { RepeatSummary } from '../core/repeat-figures.js';
 
 /** Rows of the text table when `--top` is not given. */
 export const DEFAULT_TABLE_ROWS = 10;
@@ -62,6 +64,12 @@ export interface StudyResultJson {
   caution: string;
   /** The constant and linear baselines' validation figures (absent for files from before baselines). */
   baselines?: StudyDocument['baselines'];
+  /**
+   * The repeated configurations' mean ± standard error (over the search run and the further seeds, or
+   * over the folds), the paired difference to the winner, which cannot be told apart from it, and the
+   * one-standard-error pick; null when no repeat runs were recorded.
+   */
+  repeats: RepeatSummary | null;
 }
 
 function unrankedReason(trial: TrialRecord): string {
@@ -124,6 +132,7 @@ export function studyResultJson(doc: StudyDocument, ranking: readonly RankedTria
     trials,
     caution: OPTIMISM_CAUTION,
     ...(doc.baselines ? { baselines: doc.baselines } : {}),
+    repeats: studyRepeats(doc) ?? null,
   };
 }
 
@@ -133,5 +142,6 @@ export function studyResultText(doc: StudyDocument, ranking: readonly RankedTria
   const more = ranking.length - shown.length;
   const table = shown.length > 0 ? rankingTable(shown, doc.goal) : 'no trial is ranked yet (none finished a rung)';
   const tail = more > 0 ? `\n(${more} more ranked; --top ${ranking.length} shows all, --json gives every trial)` : '';
-  return `${table}${tail}\n\n${studySummary(doc, file)}`;
+  const repeats = shown.length > 0 ? `\n\n${repeatText(doc)}` : '';
+  return `${table}${tail}${repeats}\n\n${studySummary(doc, file)}`;
 }

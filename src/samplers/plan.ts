@@ -3,6 +3,7 @@
  * progress display, the capacity check and the report read it and never ask which kind it is.
  */
 import type { Budget } from '../core/budget.js';
+import type { RepeatSettings } from '../core/repeats.js';
 
 /** One rung of a plan: how many configurations train, and to how many epochs in all. */
 export interface RungPlan {
@@ -29,6 +30,16 @@ export interface SamplerPlan {
    * would take the study past the planned jobs or epochs.
    */
   limit: boolean;
+  /** The repeat runs after the search (src/core/repeats.ts), included in `jobs` and `epochs`; absent: none. */
+  repeats?: RepeatPlan;
+}
+
+/** The repeat runs a plan includes: `configurations` x `seeds` jobs of at most `maxEpochs` each. */
+export interface RepeatPlan {
+  configurations: number;
+  seeds: number;
+  jobs: number;
+  epochs: number;
 }
 
 /** The plan of options that do not fit the budget: nothing runs. */
@@ -56,4 +67,17 @@ export function bracketsPlan(brackets: readonly (readonly RungPlan[])[], limit =
     brackets: new Set(brackets.map((rounds) => rounds.length)).size,
     limit,
   };
+}
+
+/**
+ * The plan with the repeat runs after the search: the top `settings.top` configurations (at most the
+ * trials started) each train `settings.seeds` more times for at most `maxEpochs` (their scored epochs:
+ * fewer with early stopping). None without settings, with `top: 0`, or with folds (the fold scores serve).
+ */
+export function withRepeats(plan: SamplerPlan, settings: RepeatSettings | undefined, maxEpochs: number, folds: boolean): SamplerPlan {
+  if (!settings || settings.top === 0 || folds || plan.trials === 0) return plan;
+  const configurations = Math.min(settings.top, plan.trials);
+  const jobs = configurations * settings.seeds;
+  const epochs = jobs * maxEpochs;
+  return { ...plan, jobs: plan.jobs + jobs, epochs: plan.epochs + epochs, repeats: { configurations, seeds: settings.seeds, jobs, epochs } };
 }

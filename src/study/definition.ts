@@ -4,6 +4,7 @@ import { budgetSchema } from '../core/budget.js';
 import { LOWER_IS_BETTER, METRICS, TASKS, type Goal, type MetricName } from '../core/configuration.js';
 import { earlyStoppingSchema, seedField as seed } from '../core/fields.js';
 import { listedConfigurationSchema, spaceSchema } from '../space/schema.js';
+import { repeatsSchema } from '../core/repeats.js';
 
 export const dataSchema = z.strictObject({
   csv: z.string().min(1).describe('Path of the CSV file, relative to the study definition file.'),
@@ -110,6 +111,7 @@ export const studySchema = z.strictObject({
     .min(1)
     .optional()
     .describe('Configurations to train first, in order: trial 0 trains the first, trial 1 the second, ...; every sampler gives them their trials as listed, and model-based samplers learn from their results. Values may lie outside the space.'),
+  repeats: repeatsSchema,
 });
 
 /**
