@@ -24,6 +24,8 @@ import { studyData } from '../store/study-data.js';
 import { StudyStore, studyFilePath } from '../store/study-store.js';
 import type { StudyDocument } from '../store/types.js';
 import type { TrialRecord } from '../core/trial.js';
+import { rankTrials } from '../core/ranking.js';
+import { pickText, studyRepeats } from '../report/repeat-text.js';
 import { DEFAULT_COST_UNIT, resolveThresholdRule, type DecisionThresholdRule } from '../study/definition.js';
 import { constantPredictionCost, costMetric } from '../metrics/costs.js';
 import type { MetricName, Goal } from '../core/configuration.js';
@@ -35,6 +37,8 @@ export interface ExportCommandOptions {
   dir: string;
   /** Rank in the study's ranking. @default 1 */
   rank?: number;
+  /** Take the one-standard-error pick of the repeat runs (src/core/repeat-figures.ts) instead of `rank`. @default false */
+  oneSePick?: boolean;
   /** With --retrain: go on although the CSV changed since the study ran. @default false */
   allowChangedData?: boolean;
   /** Export folder. @default `<dir>/export/rank-<rank>` */
@@ -64,6 +68,10 @@ export interface ExportSummary {
   study: string;
   trialId: number;
   rank: number;
+  /** Why this trial was taken: rank 1 or the rank asked for, or the one-standard-error pick with its figures. */
+  choice: string;
+  /** The repeated configurations' figures, where the study has them: this trial's mean ± standard error and the pick. */
+  repeats?: { mean: number; standardError?: number; count: number; pickId: number; winnerId: number };
   goal: Goal;
   /** The trial's score: the goal's metric at its last epoch (the best epoch with early stopping), on the validation split. */
   score: number;
@@ -122,10 +130,10 @@ async function exportData(doc: StudyDocument, studyFile: string, allowChangedDat
  * // out: runs/demo/export/rank-1; files: configuration.json, model.json, weights.bin, model.onnx
  */
 export async function exportModel(options: ExportCommandOptions): Promise<ExportSummary> {
-  const rank = options.rank ?? 1;
   const runDir = path.resolve(options.dir);
   const doc = await StudyStore.read(runDir);
   const studyFile = studyFilePath(runDir);
+  const { rank, choice } = chosenRank(doc, studyFile, options);
   const chosen = trialAtRank(doc, rank, studyFile);
   const trial = chosen.trial;
   // A k-fold study trained k networks per trial, none on every row: its export always retrains on
@@ -143,9 +151,32 @@ export async function exportModel(options: ExportCommandOptions): Promise<Export
 
   // With --retrain, the study's own network too (when kept), to be scored on the same test rows.
   const studyWeights = retrain && folds === undefined ? await keptCheckpointWeights(runDir, doc, chosen).catch(() => undefined) : undefined;
-  const plan: ExportPlan = { doc, trial, rank, data, rule, retrain, format, splitRecord, ...(kept ? { kept } : {}), ...(studyWeights ? { studyWeights } : {}) };
+  const plan: ExportPlan = { doc, trial, rank, choice, data, rule, retrain, format, splitRecord, ...(kept ? { kept } : {}), ...(studyWeights ? { studyWeights } : {}) };
   const figures = await writeFolderAtomically(out, (existing) => existsSync(path.join(existing, CONFIGURATION_FILE)), (partial) => writeExport(plan, partial));
   return exportSummaryOf(plan, { dir: runDir, out, figures, studyNetworkLost: retrain && folds === undefined && !studyWeights });
+}
+
+/** The rank to export and why: the one-standard-error pick of the repeat runs when asked for, else the rank given (1). */
+function chosenRank(doc: StudyDocument, studyFile: string, options: Pick<ExportCommandOptions, 'rank' | 'oneSePick'>): { rank: number; choice: string } {
+  if (!options.oneSePick) {
+    const rank = options.rank ?? 1;
+    return { rank, choice: rank === 1 ? 'rank 1 of the ranking' : `rank ${rank} of the ranking, as asked` };
+  }
+  if (options.rank !== undefined && options.rank !== 1) throw new UserError('E_USAGE', 'export: --rank and --one-se-pick choose the trial two ways; give one of them');
+  const summary = studyRepeats(doc);
+  if (!summary) {
+    throw new UserError('E_EXPORT_PICK', `${studyFile}: the study has no repeat runs (a study from before them, or repeats.top 0), so there is no one-standard-error pick; export a rank instead`);
+  }
+  const rank = rankTrials(doc.trials, doc.goal).findIndex((r) => r.trial.id === summary.pickId) + 1;
+  return { rank, choice: `trial ${summary.pickId}, the ${pickText(summary, doc.goal.metric)}` };
+}
+
+/** This trial's repeat figures, where the study has them. */
+function repeatsOfTrial(doc: StudyDocument, trialId: number): ExportSummary['repeats'] | undefined {
+  const summary = studyRepeats(doc);
+  const figure = summary?.figures.find((f) => f.trialId === trialId);
+  if (!summary || !figure) return undefined;
+  return { mean: figure.mean, ...(figure.standardError !== undefined ? { standardError: figure.standardError } : {}), count: figure.count, pickId: summary.pickId, winnerId: summary.winnerId };
 }
 
 /** Everything an export writes, decided before the folder is touched. */
@@ -153,6 +184,7 @@ interface ExportPlan {
   doc: StudyDocument;
   trial: TrialRecord;
   rank: number;
+  choice: string;
   data: PreparedData | undefined;
   rule: DecisionThresholdRule | undefined;
   retrain: boolean;
@@ -190,14 +222,17 @@ async function writeExport(plan: ExportPlan, partial: string): Promise<ExportFig
 
 /** What `export` returns: where it went, the scores (validation, test, baselines), the threshold, costs and warnings. */
 function exportSummaryOf(plan: ExportPlan, written: { dir: string; out: string; figures: ExportFigures; studyNetworkLost: boolean }): ExportSummary {
-  const { doc, trial, rank, retrain, format, splitRecord } = plan;
+  const { doc, trial, rank, retrain, format, splitRecord, choice } = plan;
   const { figures } = written;
+  const repeats = repeatsOfTrial(doc, trial.id);
   const folds = doc.definition.data.folds;
   const summary: ExportSummary = {
     dir: written.dir,
     out: written.out,
     study: doc.name,
     trialId: trial.id,
+    choice,
+    ...(repeats ? { repeats } : {}),
     rank,
     goal: doc.goal,
     score: trial.score!,
@@ -312,6 +347,7 @@ export function exportReport(summary: ExportSummary): string {
     ...(summary.folds !== undefined
       ? [`the study scored each trial on ${summary.folds} folds, so the model was retrained on all of them (the training and validation rows) for the epochs the trial was scored at; its validation figures are the mean over the folds`]
       : []),
+    `chosen: ${summary.choice}`,
     ...(summary.bestEpoch !== undefined ? [`weights: ${weightsLine(summary)}`] : []),
     `folder: ${summary.out} (${summary.files.join(', ')})`,
     '',

@@ -178,7 +178,7 @@ async function drive(store: StudyStore, data: PreparedData, options: ExecuteOpti
     await transport.addDataset(session.dataset);
     await dispatch(session, transport);
     await session.persistence.flush();
-    if (!session.stop.stopping) await repeatRuns(session, transport, data.folds !== undefined);
+    if (!session.stop.stopping) await repeatRuns(session, transport);
   } finally {
     session.stop.dispose();
     await transport.close();
@@ -187,10 +187,10 @@ async function drive(store: StudyStore, data: PreparedData, options: ExecuteOpti
 }
 
 /** The repeat runs after the search (none in studies without the setting): counted in the session's busy time. */
-async function repeatRuns(session: Session, transport: TrialTransport, folds: boolean): Promise<void> {
+async function repeatRuns(session: Session, transport: TrialTransport): Promise<void> {
   const { store, dataset, stop, emit } = session;
   const context = { store, dataset, stop, emit, progress: () => progressOf(session) };
-  session.busySeconds += await runRepeats(context, transport, recordedRepeatSettings(session.definition), folds);
+  session.busySeconds += await runRepeats(context, transport, recordedRepeatSettings(session.definition), session.planned.repeats);
 }
 
 /** The study's progress: the search's trials and the repeat runs recorded. */

@@ -15,6 +15,7 @@ import type { StudyStore } from '../store/study-store.js';
 import type { TrialTransport } from '../transports/transport.js';
 import type { StudyObserver, StudyProgress } from './events.js';
 import type { StopControl } from './stop-control.js';
+import type { RepeatPlan } from '../samplers/plan.js';
 
 /** What the repeat runs work with. */
 export interface RepeatContext {
@@ -39,10 +40,13 @@ export function repeatSeed(studySeed: number, index: number): number {
   return deriveSeed(studySeed, 'repeat', index);
 }
 
-/** The study file's repeat record, chosen once (the top configurations when the search ended). */
-function openRecord(store: StudyStore, settings: RepeatSettings): RepeatsRecord {
+/**
+ * The study file's repeat record, chosen once (the top configurations when the search ended), at most
+ * `planned` of them (early stopping can finish more trials than the plan trains to the epoch limit).
+ */
+function openRecord(store: StudyStore, settings: RepeatSettings, planned: number): RepeatsRecord {
   const { doc } = store;
-  doc.repeats ??= { trialIds: repeatCandidates(doc.trials, doc.goal, settings.top).map((t) => t.id), seeds: settings.seeds, runs: [] };
+  doc.repeats ??= { trialIds: repeatCandidates(doc.trials, doc.goal, Math.min(settings.top, planned)).map((t) => t.id), seeds: settings.seeds, runs: [] };
   return doc.repeats;
 }
 
@@ -106,12 +110,12 @@ async function runOne(context: RepeatContext, transport: TrialTransport, repeats
 
 /**
  * Run the repeat runs not yet recorded, up to the transport's capacity at once, until all are recorded
- * or the study stops. Returns the worker-seconds they took. Nothing runs without settings, with
- * `top: 0`, or with folds (the fold scores serve instead).
+ * or the study stops. Returns the worker-seconds they took. Nothing runs without settings or a plan
+ * for them (`top: 0`, or folds, whose fold scores serve instead).
  */
-export async function runRepeats(context: RepeatContext, transport: TrialTransport, settings: RepeatSettings | undefined, folds: boolean): Promise<number> {
-  if (!settings || settings.top === 0 || folds) return 0;
-  const repeats = openRecord(context.store, settings);
+export async function runRepeats(context: RepeatContext, transport: TrialTransport, settings: RepeatSettings | undefined, planned: RepeatPlan | undefined): Promise<number> {
+  if (!settings || !planned) return 0;
+  const repeats = openRecord(context.store, settings, planned.configurations);
   const pending = pendingRuns(repeats, context.store.doc.trials);
   const running = new Set<Promise<void>>();
   let seconds = 0;
