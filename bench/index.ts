@@ -16,6 +16,7 @@ import { plansGroup } from './plans.js';
 import { poolGroup } from './pool.js';
 import { queueGroup } from './queue.js';
 import { reportRenderGroup } from './report-render.js';
+import { repeatsGroup } from './repeats.js';
 import { groupMarkdown, machineInfo, writeResults, type GroupResult } from './report.js';
 import { schedulingGroup } from './scheduling.js';
 import { startupGroup } from './startup.js';
@@ -45,6 +46,7 @@ const GROUPS: Record<string, (options: BenchOptions) => Promise<GroupResult>> = 
   views: viewsGroup,
   pace: paceGroup,
   'report-render': reportRenderGroup,
+  repeats: repeatsGroup,
 };
 
 function parseArgs(argv: string[]): { quick: boolean; only: string[] } {

@@ -13,6 +13,10 @@ import { studyResultJson, studyResultText } from '../src/report/study-result.js'
 import { rankTrials } from '../src/core/ranking.js';
 import { repeatSeed } from '../src/runner/repeats.js';
 import { tinyStudy, writeTinyStudy } from './helpers/studies.js';
+import { studyReferences } from '../src/plot/charts/references.js';
+import { studyDigest } from '../src/plot/digest.js';
+import { linearBaselineWarning } from '../src/report/baseline-text.js';
+import { studyRepeats } from '../src/report/repeat-text.js';
 
 const definition = tinyStudy({ budget: { trials: 6, maxEpochs: 4 }, repeats: { top: 3, seeds: 2 } });
 
@@ -47,6 +51,24 @@ describe('repeat runs', () => {
     expect(json.repeats?.winnerId).toBe(one.ranking[0]!.trial.id);
     expect(json.repeats?.figures.map((f) => f.count)).toEqual([3, 3, 3]);
     expect(studyResultText(one.doc, one.ranking, one.file)).toMatch(/one-standard-error pick: trial \d+/);
+    // The report draws the winner's band from its runs and the study's baselines; compare says the same in words.
+    const summary = studyRepeats(one.doc)!;
+    const references = studyReferences(one.doc);
+    expect(references.band).toEqual({ score: summary.figures[0]!.mean, standardError: summary.figures[0]!.standardError, from: '3 runs' });
+    expect(references.baselines?.map((b) => b.label)).toEqual(['constant', 'linear']);
+    expect(studyDigest(one.doc, undefined).noise).toContain(`one-standard-error pick: trial ${summary.pickId}`);
+  });
+
+  it('warns when the winner does not beat the linear model by more than its standard error over the runs', async () => {
+    const file = await writeTinyStudy(definition);
+    const outcome = await runStudy(file, { out: path.join(path.dirname(file), 'warn'), workers: 2 });
+    const summary = studyRepeats(outcome.doc)!;
+    const winner = summary.figures[0]!;
+    const se = winner.standardError ?? 0;
+    const withLinear = (score: number) => ({ ...outcome.doc, baselines: { constant: outcome.doc.baselines!.constant, linear: { metrics: { auc: score }, what: 'linear' } } });
+    // A linear model just under the winner's mean less its standard error is beaten; one just above it is not.
+    expect(linearBaselineWarning(withLinear(winner.mean - se - 1e-9), summary)).toBeUndefined();
+    expect(linearBaselineWarning(withLinear(winner.mean - se + 1e-9), summary)).toMatch(/does not beat the linear baseline/);
   });
 
   it('resume after an interrupt in the repeat runs gives the figures of a straight run', async () => {

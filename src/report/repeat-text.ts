@@ -54,3 +54,31 @@ export function repeatText(doc: RepeatDoc): string {
   const table = textTable(['trial', 'runs', `${metric} mean ± se`, 'weights', 'against the winner'], rows);
   return `${what}\n${table}\n${pickText(summary, metric)}`;
 }
+
+/** The repeat figures in one sentence: the winner's mean ± standard error, the runners-up it cannot be told from, the pick. */
+export function repeatSentence(doc: RepeatDoc): string {
+  const summary = studyRepeats(doc);
+  if (!summary) return 'no repeat runs';
+  const winner = summary.figures[0]!;
+  const tied = summary.figures.slice(1).filter((f) => f.indistinguishable).map((f) => f.trialId);
+  const over = summary.source === 'seeds' ? `${winner.count} runs` : `${winner.count} folds`;
+  const apart = summary.source === 'folds' ? '' : tied.length > 0 ? `; cannot be told apart from it: trial${tied.length > 1 ? 's' : ''} ${tied.join(', ')}` : '; every runner-up repeated is worse';
+  const pick = summary.figures.find((f) => f.trialId === summary.pickId)!;
+  return `trial ${winner.trialId}: ${doc.goal.metric} ${meanText(winner)} over ${over}${apart}; one-standard-error pick: trial ${pick.trialId} (${pick.weights} weights)`;
+}
+
+/** The repeat figures as table rows (for the report): trial, runs, mean ± se, weights, against the winner, pick. */
+export function repeatRows(doc: RepeatDoc): { header: string[]; rows: Record<string, string>[] } | undefined {
+  const summary = studyRepeats(doc);
+  if (!summary) return undefined;
+  const header = ['trial', 'runs', `${doc.goal.metric} mean ± se`, 'weights', 'against the winner', 'pick'];
+  const rows = summary.figures.map((f) => ({
+    trial: String(f.trialId),
+    runs: String(f.count),
+    [header[2]!]: meanText(f),
+    weights: String(f.weights),
+    'against the winner': againstWinner(f, summary),
+    pick: f.trialId === summary.pickId ? 'one-standard-error pick' : '',
+  }));
+  return { header, rows };
+}
