@@ -10,12 +10,13 @@ import { queuedJobSchema, queuedResultSchema, readEntry } from './messages.js';
 import type { EpochReport, TrainJob, TrainResult } from '../../core/job.js';
 
 /**
- * Raised whenever the job, result, data-set or registry layout changes (4: every entry is checked
+ * Raised whenever the job, result, data-set or registry layout changes (5: jobs may carry `repeat`, a
+ * repeat run after the search, which a version-4 worker's schema would refuse; 4: every entry is checked
  * against a schema, jobs carry their data set's SHA-256, entries may carry a study key's signature,
  * progress is `{ report, signature }`; 3: jobs carry `maxEpochs` and `earlyStopping`, results
  * `bestEpoch`, `stoppedAtEpoch` and `divergedAfterBest`).
  */
-export const QUEUE_PROTOCOL_VERSION = 4;
+export const QUEUE_PROTOCOL_VERSION = 5;
 
 /** BullMQ's key prefix and ours: everything rungwise keeps in Redis starts with it. */
 export const KEY_PREFIX = 'rungwise';
