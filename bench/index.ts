@@ -18,6 +18,7 @@ import { poolGroup } from './pool.js';
 import { queueGroup } from './queue.js';
 import { referenceGroup } from './reference.js';
 import { reportRenderGroup } from './report-render.js';
+import { repeatsGroup } from './repeats.js';
 import { groupMarkdown, machineInfo, writeResults, type GroupResult } from './report.js';
 import { schedulingGroup } from './scheduling.js';
 import { startupGroup } from './startup.js';
@@ -49,6 +50,7 @@ const GROUPS: Record<string, (options: BenchOptions) => Promise<GroupResult>> = 
   pace: paceGroup,
   'report-render': reportRenderGroup,
   reference: referenceGroup,
+  repeats: repeatsGroup,
 };
 
 function parseArgs(argv: string[]): { quick: boolean; only: string[] } {

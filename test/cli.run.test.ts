@@ -39,19 +39,27 @@ describe('rungwise run and ranking', () => {
     const result = await runCli(['run', studyFile, '--out', out]);
     expect(result.code).toBe(0);
     // Progress (one line per ended job when not a terminal) goes to stderr, the result to stdout.
-    expect(result.stderr).toMatch(/^running study iris-cli on 2 threads: 3 jobs, 12 epochs planned/);
-    expect(result.stderr.match(/^\[\d\/3 jobs, \d+\/12 epochs\] trial \d done/gm)).toHaveLength(3);
+    // 3 trials of 4 epochs, then the repeat runs (default 3 seeds each of the top 3) of 4 epochs.
+    expect(result.stderr).toMatch(/^running study iris-cli on 2 threads: 12 jobs, 48 epochs planned/);
+    expect(result.stderr.match(/^\[\d\/12 jobs, \d+\/48 epochs\] trial \d done/gm)).toHaveLength(3);
+    expect(result.stderr.match(/^\[\d+\/12 jobs, \d+\/48 epochs\] repeat \d of trial \d done/gm)).toHaveLength(9);
     expect(result.stdout).not.toMatch(/^\[\d+\/\d+ jobs|^running study/m);
     // The budget's account closes the result.
-    expect(result.stdout).toMatch(/^work: 3 of 3 jobs planned, 12 of 12 epochs \(100 %\), 3 of 3 configurations$/m);
+    expect(result.stdout).toMatch(/^work: 12 of 12 jobs planned, 48 of 48 epochs \(100 %\), 3 of 3 configurations$/m);
     expect(result.stdout).toMatch(/rank\s+trial\s+rung\s+epochs\s+accuracy/);
     expect(result.stdout).toContain(`study file: ${path.join(out, 'study.json')}`);
     expect(result.stdout).toContain('validation score of a configuration picked from many is optimistic');
 
     const ranking = await runCli(['ranking', out, '--json']);
     expect(ranking.code).toBe(0);
-    const parsed = JSON.parse(ranking.stdout) as { trials: { rank: number; trial: number; epochs: number; score: number }[] };
+    const parsed = JSON.parse(ranking.stdout) as { trials: { rank: number; trial: number; epochs: number; score: number }[]; repeats: { winnerId: number; pickId: number; figures: { trialId: number; count: number }[] } };
     expect(parsed.trials.map((r) => r.rank)).toEqual([1, 2, 3]);
+    // The repeat runs: every configuration's search run and 3 further seeds, the winner first, and the pick.
+    expect(parsed.repeats.figures.map((f) => [f.trialId, f.count])).toEqual(parsed.trials.map((r) => [r.trial, 4]));
+    expect(result.stdout).toContain(`one-standard-error pick: trial ${parsed.repeats.pickId} `);
+    const exported = await runCli(['export', out, '--one-se-pick']);
+    expect(exported.code).toBe(0);
+    expect(exported.stdout).toContain(`chosen: trial ${parsed.repeats.pickId}, the one-standard-error pick`);
     expect(parsed.trials.every((r) => r.epochs === 4)).toBe(true);
     const scores = parsed.trials.map((r) => r.score);
     expect([...scores].sort((a, b) => b - a)).toEqual(scores);

@@ -19,7 +19,7 @@ const figures = (params: TrialConfiguration, epoch: number) => {
 };
 
 describe('the budget summary', () => {
-  it('successive halving of 9 configurations, eta 3, 1 to 9 epochs: 13 of 13 jobs, 21 of 21 epochs, rungs of 9, 6 and 6 epochs', async () => {
+  it('successive halving of 9 configurations, eta 3, 1 to 9 epochs: 13 of 13 jobs, 21 of 21 epochs, rungs of 9, 6 and 6 epochs, then 3 repeat runs of the one finished configuration', async () => {
     const definition = tinyStudy({
       budget: { trials: 9, maxEpochs: 9 },
       sampler: { kind: 'successive-halving', seed: 2, eta: 3, minEpochs: 1 },
@@ -30,13 +30,17 @@ describe('the budget summary', () => {
     const summary = budgetSummary(outcome.doc);
     // Source: Jamieson, Talwalkar, AISTATS 2016, as restated in Li et al., JMLR 2018: 9, 3, 1 configurations at 1, 3, 9 epochs;
     // a promoted trial continues from its checkpoint, so rung 1 adds 2 epochs each and rung 2 adds 6.
-    expect(summary.planned).toEqual({ trials: 9, jobs: 13, epochs: 21, limit: false });
-    expect(summary.done).toEqual({ trials: 9, jobs: 13, epochs: 21 });
+    // The repeat runs (default top 5, 3 seeds) take the configurations trained to the epoch limit: the one
+    // of rung 2, 3 runs of 9 epochs each, counted in the plan and the work done.
+    expect(summary.planned).toEqual({ trials: 9, jobs: 13 + 3, epochs: 21 + 27, limit: false });
+    expect(summary.done).toEqual({ trials: 9, jobs: 13 + 3, epochs: 21 + 27 });
+    expect(summary.repeats).toMatchObject({ planned: { jobs: 3, epochs: 27 }, done: { jobs: 3, epochs: 27 } });
     expect(summary.rungs.map((r) => [r.rung, r.epochs])).toEqual([[0, 9], [1, 6], [2, 6]]);
     expect(summary.session!.threads).toBe(2);
     expect(summary.session!.trainingSeconds + summary.session!.waitingSeconds).toBeCloseTo(2 * summary.session!.wallSeconds, 6);
     const text = budgetSummaryText(summary);
-    expect(text).toMatch(/^work: 13 of 13 jobs planned, 21 of 21 epochs \(100 %\), 9 of 9 configurations$/m);
+    expect(text).toMatch(/^work: 16 of 16 jobs planned, 48 of 48 epochs \(100 %\), 9 of 9 configurations$/m);
+    expect(text).toMatch(/^repeat runs: 3 of 3 jobs, 27 of at most 27 epochs, /m);
     expect(text).toMatch(/^epochs by rung: rung 0 9 \(43 %\), rung 1 6 \(29 %\), rung 2 6 \(29 %\)$/m);
     // The closed form trains in no time, so the threads mostly wait: the summary says why.
     expect(summary.lowUtilisation.some((reason) => reason.startsWith('start-up'))).toBe(true);

@@ -60,12 +60,16 @@ describe('planned work of each sampler', () => {
     // Jobs: 121 + 49 + 21 + 10 + 5. Epochs, each round adding r_i - r_(i-1): 297 + 276 + 279 + 324 + 405 (derived).
     // Configurations: 81 + 34 + 15 + 8 + 5 = 143, so budget.trials 143 is one whole pass.
     const plan = plannedWork({ budget: { trials: 143, maxEpochs: 81 }, sampler: { kind: 'hyperband', seed: 1, eta: 3, minEpochs: 1 } } as never);
-    expect(plan).toEqual({ trials: 143, jobs: 206, epochs: 1581, rungs: 5, brackets: 5, limit: false });
+    // Trained to R = 81 (the last round of each bracket): 1 + 1 + 1 + 2 + 5.
+    expect(plan).toEqual({ trials: 143, jobs: 206, epochs: 1581, rungs: 5, brackets: 5, limit: false, finishing: 10 });
+    // With repeat runs (top 5, 3 seeds): 15 more jobs of at most 81 epochs.
+    const repeated = plannedWork({ budget: { trials: 143, maxEpochs: 81 }, sampler: { kind: 'hyperband', seed: 1, eta: 3, minEpochs: 1 }, repeats: { top: 5, seeds: 3 } } as never);
+    expect(repeated).toMatchObject({ jobs: 206 + 15, epochs: 1581 + 15 * 81, repeats: { configurations: 5, seeds: 3, jobs: 15, epochs: 1215 } });
   });
 
   it('successive halving of 9 configurations, eta 3, 1 to 9 epochs: 9 + 3 + 1 jobs, 9 + 3*2 + 1*6 epochs (asynchronous halving the same, as a hard limit); random search: trials x maxEpochs', () => {
     // Source: Jamieson, Talwalkar, AISTATS 2016, as restated in Li et al., JMLR 2018 (keep floor(n / eta) per rung).
-    expect(halving).toEqual({ trials: 9, jobs: 13, epochs: 21, rungs: 3, brackets: 1, limit: false });
+    expect(halving).toEqual({ trials: 9, jobs: 13, epochs: 21, rungs: 3, brackets: 1, limit: false, finishing: 1 });
     expect(plannedWork({ budget: { trials: 4, maxEpochs: 5 }, sampler: { kind: 'random', seed: 1 } } as never)).toMatchObject({ jobs: 4, epochs: 20 });
     const tpeHyperband = plannedWork({ budget: { trials: 143, maxEpochs: 81 }, sampler: { kind: 'tpe-hyperband', seed: 1, eta: 3, minEpochs: 1, iterations: 1 } } as never);
     expect(tpeHyperband).toMatchObject({ jobs: 206, rungs: 5, brackets: 5 });

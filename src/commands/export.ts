@@ -24,6 +24,8 @@ import { studyData } from '../store/study-data.js';
 import { StudyStore, studyFilePath } from '../store/study-store.js';
 import type { StudyDocument } from '../store/types.js';
 import type { TrialRecord } from '../core/trial.js';
+import { rankTrials } from '../core/ranking.js';
+import { pickText, studyRepeats } from '../report/repeat-text.js';
 import { DEFAULT_COST_UNIT, resolveThresholdRule, type DecisionThresholdRule } from '../study/definition.js';
 import { constantPredictionCost, costMetric } from '../metrics/costs.js';
 import { isDefaultPreprocessing, preprocessingOf, type MetricName, type Goal, type PreprocessingChoice } from '../core/configuration.js';
@@ -39,6 +41,8 @@ export interface ExportCommandOptions {
   front?: number;
   /** The front of score against weights: export the configuration with the most weights at most this many; instead of `rank`. */
   maxWeights?: number;
+  /** Take the one-standard-error pick of the repeat runs (src/core/repeat-figures.ts) instead of `rank`. @default false */
+  oneSePick?: boolean;
   /** With --retrain: go on although the CSV changed since the study ran. @default false */
   allowChangedData?: boolean;
   /** Export folder. @default `<dir>/export/rank-<rank>` */
@@ -68,6 +72,10 @@ export interface ExportSummary {
   study: string;
   trialId: number;
   rank: number;
+  /** Why this trial was taken: rank 1 or the rank asked for, or the one-standard-error pick with its figures. */
+  choice: string;
+  /** The repeated configurations' figures, where the study has them: this trial's mean ± standard error and the pick. */
+  repeats?: { mean: number; standardError?: number; count: number; pickId: number; winnerId: number };
   goal: Goal;
   /** The trial's score: the goal's metric at its last epoch (the best epoch with early stopping), on the validation split. */
   score: number;
@@ -124,14 +132,6 @@ async function choiceData(data: PreparedData, choice: PreprocessingChoice): Prom
   return data.prepareChoice(choice);
 }
 
-/** The rank to export: `rank`, or the one `front` or `maxWeights` chooses (one of the three at most). */
-function chosenRank(doc: StudyDocument, options: ExportCommandOptions, studyFile: string): number {
-  const given = [options.rank !== undefined && '--rank', options.front !== undefined && '--front', options.maxWeights !== undefined && '--max-weights'].filter((flag) => flag !== false);
-  if (given.length > 1) throw new UserError('E_USAGE', `export: ${given.join(' and ')} choose the configuration each; give one of them`);
-  if (options.front === undefined && options.maxWeights === undefined) return options.rank ?? 1;
-  return rankOnFront(doc, { ...(options.front !== undefined ? { front: options.front } : {}), ...(options.maxWeights !== undefined ? { maxWeights: options.maxWeights } : {}) }, studyFile);
-}
-
 /**
  * `rungwise export`: writes the trial at `rank` as a tfjs Layers model (`model.json`, `weights.bin`)
  * with `configuration.json`, into a folder that appears complete or not at all.
@@ -147,7 +147,7 @@ export async function exportModel(options: ExportCommandOptions): Promise<Export
   const runDir = path.resolve(options.dir);
   const doc = await StudyStore.read(runDir);
   const studyFile = studyFilePath(runDir);
-  const rank = chosenRank(doc, options, studyFile);
+  const { rank, choice: chosenBecause } = chosenRank(doc, studyFile, options);
   const chosen = trialAtRank(doc, rank, studyFile);
   const trial = chosen.trial;
   // A k-fold study trained k networks per trial, none on every row: its export always retrains on
@@ -170,7 +170,7 @@ export async function exportModel(options: ExportCommandOptions): Promise<Export
 
   // With --retrain, the study's own network too (when kept), to be scored on the same test rows.
   const studyWeights = retrain && folds === undefined ? await keptCheckpointWeights(runDir, doc, chosen).catch(() => undefined) : undefined;
-  const plan: ExportPlan = { doc: data && ownRecipe ? { ...doc, recipe: data.recipe } : doc, trial, rank, data, rule, retrain, format, splitRecord, ...(kept ? { kept } : {}), ...(studyWeights ? { studyWeights } : {}) };
+  const plan: ExportPlan = { doc: data && ownRecipe ? { ...doc, recipe: data.recipe } : doc, trial, rank, choice: chosenBecause, data, rule, retrain, format, splitRecord, ...(kept ? { kept } : {}), ...(studyWeights ? { studyWeights } : {}) };
   const figures = await writeFolderAtomically(out, (existing) => existsSync(path.join(existing, CONFIGURATION_FILE)), (partial) => writeExport(plan, partial));
   const summary = exportSummaryOf(plan, { dir: runDir, out, figures, studyNetworkLost: retrain && folds === undefined && !studyWeights });
   if (notes.length > 0) summary.warnings = [...(summary.warnings ?? []), ...notes];
@@ -192,11 +192,43 @@ async function testSplitData(doc: StudyDocument, studyFile: string, allowChanged
   }
 }
 
+/** The rank to export and why: the one-standard-error pick of the repeat runs when asked for, else the rank given (1). */
+function chosenRank(doc: StudyDocument, studyFile: string, options: Pick<ExportCommandOptions, 'rank' | 'front' | 'maxWeights' | 'oneSePick'>): { rank: number; choice: string } {
+  const given = [options.rank !== undefined && '--rank', options.front !== undefined && '--front', options.maxWeights !== undefined && '--max-weights', options.oneSePick === true && '--one-se-pick'].filter((flag) => flag !== false);
+  if (given.length > 1) throw new UserError('E_USAGE', `export: ${given.join(' and ')} choose the configuration each; give one of them`);
+  if (options.oneSePick) return oneStandardErrorRank(doc, studyFile);
+  if (options.front !== undefined || options.maxWeights !== undefined) {
+    const rank = rankOnFront(doc, { ...(options.front !== undefined ? { front: options.front } : {}), ...(options.maxWeights !== undefined ? { maxWeights: options.maxWeights } : {}) }, studyFile);
+    return { rank, choice: options.front !== undefined ? `place ${options.front} of the front, as asked` : `the front's configuration with the most weights at most ${options.maxWeights}` };
+  }
+  const rank = options.rank ?? 1;
+  return { rank, choice: rank === 1 ? 'rank 1 of the ranking' : `rank ${rank} of the ranking, as asked` };
+}
+
+/** The rank of the one-standard-error pick of the repeat runs. */
+function oneStandardErrorRank(doc: StudyDocument, studyFile: string): { rank: number; choice: string } {
+  const summary = studyRepeats(doc);
+  if (!summary) {
+    throw new UserError('E_EXPORT_PICK', `${studyFile}: the study has no repeat runs (a study from before them, or repeats.top 0), so there is no one-standard-error pick; export a rank instead`);
+  }
+  const rank = rankTrials(doc.trials, doc.goal).findIndex((r) => r.trial.id === summary.pickId) + 1;
+  return { rank, choice: `trial ${summary.pickId}, the ${pickText(summary, doc.goal.metric)}` };
+}
+
+/** This trial's repeat figures, where the study has them. */
+function repeatsOfTrial(doc: StudyDocument, trialId: number): ExportSummary['repeats'] | undefined {
+  const summary = studyRepeats(doc);
+  const figure = summary?.figures.find((f) => f.trialId === trialId);
+  if (!summary || !figure) return undefined;
+  return { mean: figure.mean, ...(figure.standardError !== undefined ? { standardError: figure.standardError } : {}), count: figure.count, pickId: summary.pickId, winnerId: summary.winnerId };
+}
+
 /** Everything an export writes, decided before the folder is touched. */
 interface ExportPlan {
   doc: StudyDocument;
   trial: TrialRecord;
   rank: number;
+  choice: string;
   data: PreparedData | undefined;
   rule: DecisionThresholdRule | undefined;
   retrain: boolean;
@@ -234,14 +266,17 @@ async function writeExport(plan: ExportPlan, partial: string): Promise<ExportFig
 
 /** What `export` returns: where it went, the scores (validation, test, baselines), the threshold, costs and warnings. */
 function exportSummaryOf(plan: ExportPlan, written: { dir: string; out: string; figures: ExportFigures; studyNetworkLost: boolean }): ExportSummary {
-  const { doc, trial, rank, retrain, format, splitRecord } = plan;
+  const { doc, trial, rank, retrain, format, splitRecord, choice } = plan;
   const { figures } = written;
+  const repeats = repeatsOfTrial(doc, trial.id);
   const folds = doc.definition.data.folds;
   const summary: ExportSummary = {
     dir: written.dir,
     out: written.out,
     study: doc.name,
     trialId: trial.id,
+    choice,
+    ...(repeats ? { repeats } : {}),
     rank,
     goal: doc.goal,
     score: trial.score!,
@@ -373,6 +408,7 @@ export function exportReport(summary: ExportSummary): string {
     `exported rank ${summary.rank} (trial ${summary.trialId}) of study ${summary.study}${summary.retrained ? ', retrained on training and validation rows' : ''}`,
     `network: ${summary.network}`,
     ...(summary.folds !== undefined ? [`the study scored each trial on ${summary.folds} folds: its validation figures are the mean over the folds' networks, not figures of the exported one`] : []),
+    `chosen: ${summary.choice}`,
     ...(summary.bestEpoch !== undefined ? [`weights: ${weightsLine(summary)}`] : []),
     `folder: ${summary.out} (${summary.files.join(', ')})`,
     '',

@@ -50,6 +50,8 @@ export interface TrainJob {
   maxEpochs?: number;
   /** Early stopping (src/core/early-stopping.ts): the rule and the goal it judges; absent: off. */
   earlyStopping?: EarlyStoppingSettings;
+  /** A repeat run of the trial's configuration with a further seed (1 .. seeds, src/core/repeats.ts); absent: the trial's own job. */
+  repeat?: number;
 }
 
 /** One epoch's figures. Metrics are on the validation split. */

@@ -25,6 +25,7 @@ const DIGEST_ROWS: readonly [string, Exclude<keyof StudyDigest, 'halving'>][] = 
   ['trials without a score', 'unscored'],
   ['baseline', 'baseline'],
   ['health flags', 'health'],
+  ["winner's noise", 'noise'],
 ];
 
 /** The digests as a table: one row per answer, one column per study. */

@@ -9,6 +9,7 @@ import { agreementText } from './charts/rung-agreement.js';
 import { isHalving } from './labels.js';
 import { QUESTIONS } from './report.js';
 import { bestTrial } from './winner.js';
+import { repeatSentence } from '../report/repeat-text.js';
 
 /** The answers of one study to the report's questions, as short texts (for `compare` and the report's findings). */
 export interface StudyDigest {
@@ -28,6 +29,8 @@ export interface StudyDigest {
   baseline: string;
   /** The flagged trials and where in the space they were, or 'none'. */
   health: string;
+  /** The winner's mean ± standard error over its repeat runs (or folds), the runners-up it cannot be told from, and the one-standard-error pick; 'no repeat runs' without them. */
+  noise: string;
 }
 
 const percent = (share: number): string => `${Math.round(share * 100)}%`;
@@ -62,6 +65,7 @@ export function studyDigest(study: StudyDocument, importance: StudyImportance | 
     unscored: `${unscored} of ${study.trials.length}`,
     baseline: constant === undefined ? '-' : `constant ${formatNumber(constant)}${linear === undefined ? '' : `, linear ${formatNumber(linear)}`} (${study.goal.metric})`,
     health: healthSummary(study.trials)?.replace(/^health: /, '') ?? 'none flagged',
+    noise: repeatSentence(study),
   };
 }
 
@@ -74,6 +78,7 @@ export function digestFindings(digest: StudyDigest): Map<string, string[]> {
     ...(digest.halving ? [`Compute by rung: ${digest.rungShares}.`] : []),
     ...(digest.baseline !== '-' ? [`Baseline on the validation rows: ${digest.baseline}; the winner: ${digest.winner}.`] : []),
     ...(digest.health !== 'none flagged' ? [`Health flags: ${digest.health}.`] : []),
+    ...(digest.noise !== 'no repeat runs' ? [`The winner's noise: ${digest.noise}.`] : []),
   ]);
   if (digest.rungAgreement !== '-') {
     findings.set(rungs!, [

@@ -4,6 +4,7 @@ import { formatNumber } from '../report/format.js';
 import type { StudyDocument } from '../store/types.js';
 import type { TrialRecord } from '../core/trial.js';
 import { OPTIMISM_CAUTION } from '../report/caution.js';
+import { repeatRows } from '../report/repeat-text.js';
 import { goalLabel } from './labels.js';
 import { escapeHtml } from './html.js';
 import { WINNER_SYMBOL } from './palette.js';
@@ -152,6 +153,17 @@ export interface ReportOptions {
   refreshSeconds?: number;
 }
 
+/** The repeat runs' table under the top configurations, or nothing for a study without them. */
+function repeatSection(study: StudyDocument): string {
+  const table = repeatRows(study);
+  if (!table) return '';
+  const how =
+    study.repeats !== undefined
+      ? `The top configurations trained again with ${study.repeats.seeds} further seed${study.repeats.seeds === 1 ? '' : 's'} on the same split: mean ± standard error over the search run and those runs, and the difference to the winner with its 95% paired t interval (an interval holding 0: cannot be told apart).`
+      : 'The top configurations\' fold scores: mean ± standard error over the folds.';
+  return `<p>${escapeHtml(how)} The one-standard-error pick is the configuration with the fewest weights whose mean is within one standard error of the best mean (Hastie, Tibshirani and Friedman 2009, 7.10); <code>rungwise export --one-se-pick</code> exports it.</p>\n${htmlTable(table.header, table.rows, 'repeats')}`;
+}
+
 /**
  * One self-contained HTML page: the summary, the caution, the top configurations, then each
  * question with its findings and charts. It loads nothing, so it opens the same offline.
@@ -176,6 +188,7 @@ ${summary}
 </table>
 <h2>Which configuration should I ship, and how sure is that?</h2>
 ${top.rows.length > 0 ? `<p>The top of the ranking (more epochs rank first, then the score). ${WINNER_SYMBOL} marks the winner here and in every chart.</p>\n${htmlTable(top.header, top.rows, 'top')}` : ''}
+${repeatSection(study)}
 ${classSection(study)}
 ${charts.length > 0 ? questions.join('\n') : '<p>No trial has a score yet, so there is nothing to plot.</p>'}`;
   return htmlPage(`${study.name}: rungwise study report`, body, options.refreshSeconds);

@@ -6,6 +6,7 @@
 import type { JobRecord } from '../core/trial.js';
 import type { StudyDocument } from '../store/types.js';
 import { plannedWork } from './budget.js';
+import { repeatProgress } from '../core/repeats.js';
 import { formatDuration, formatNumber } from './format.js';
 
 /** Below this utilisation the summary says why it is low. Common practice (no source). */
@@ -16,6 +17,8 @@ const SHORT_SESSION_SECONDS = 60;
 export interface BudgetSummary {
   planned: { trials: number; jobs: number; epochs: number; limit: boolean };
   done: { trials: number; jobs: number; epochs: number };
+  /** The repeat runs after the search (included in `planned` and `done`): jobs and epochs planned and done, and their worker-seconds. */
+  repeats?: { planned: { jobs: number; epochs: number }; done: { jobs: number; epochs: number }; workerSeconds: number };
   /** This session (the last `run` or `resume`): wall seconds, threads, thread-seconds training and waiting. */
   session: { wallSeconds: number; threads: number; trainingSeconds: number; waitingSeconds: number; utilisation: number } | null;
   /** Epochs trained in each rung and their share of all epochs trained (samplers that stop trials at rungs). */
@@ -30,10 +33,20 @@ const settled = (job: JobRecord): boolean => job.status !== 'training' && job.st
 export function budgetSummary(doc: StudyDocument): BudgetSummary {
   const plan = plannedWork(doc.definition);
   const jobs = doc.trials.flatMap((trial) => trial.jobs.filter(settled));
-  const epochs = doc.trials.reduce((sum, trial) => sum + trial.epochsTrained, 0);
+  const repeats = repeatProgress(doc.repeats);
+  const epochs = doc.trials.reduce((sum, trial) => sum + trial.epochsTrained, 0) + repeats.epochs;
   const summary: BudgetSummary = {
     planned: { trials: plan.trials, jobs: plan.jobs, epochs: plan.epochs, limit: plan.limit },
-    done: { trials: doc.trials.length, jobs: jobs.length, epochs },
+    done: { trials: doc.trials.length, jobs: jobs.length + repeats.jobs, epochs },
+    ...(plan.repeats
+      ? {
+          repeats: {
+            planned: { jobs: plan.repeats.jobs, epochs: plan.repeats.epochs },
+            done: repeats,
+            workerSeconds: (doc.repeats?.runs ?? []).reduce((sum, run) => sum + run.workerSeconds, 0),
+          },
+        }
+      : {}),
     session: sessionTime(doc),
     rungs: plan.rungs > 1 ? rungShares(jobs) : [],
     lowUtilisation: [],
@@ -94,6 +107,10 @@ export function budgetSummaryText(summary: BudgetSummary): string {
     lines.push(
       `time: ${formatDuration(session.wallSeconds)} on ${session.threads} thread${session.threads === 1 ? '' : 's'}: ${formatDuration(session.trainingSeconds)} training, ${formatDuration(session.waitingSeconds)} waiting (thread utilisation ${twoSignificantDigits(session.utilisation)})`,
     );
+  }
+  if (summary.repeats) {
+    const r = summary.repeats;
+    lines.push(`repeat runs: ${r.done.jobs} of ${r.planned.jobs} jobs, ${r.done.epochs} of at most ${r.planned.epochs} epochs, ${formatDuration(r.workerSeconds)} of worker time (included above)`);
   }
   if (summary.rungs.length > 0) lines.push(`epochs by rung: ${summary.rungs.map((r) => `rung ${r.rung} ${r.epochs} (${Math.round(100 * r.share)} %)`).join(', ')}`);
   for (const reason of summary.lowUtilisation) lines.push(`utilisation is low: ${reason}`);

@@ -199,6 +199,24 @@ function onTrialFinished(display: Display, event: TrialFinished): void {
   else display.options.stream.write(pipedLine(display, event));
 }
 
+type RepeatFinished = Extract<StudyEvent, { type: 'repeat-finished' }>;
+
+/** What came of a repeat run after the search. */
+export function describeRepeat(run: RepeatFinished['run'], metric: string): string {
+  const what = `repeat ${run.index} of trial ${run.trialId}`;
+  if (run.status === 'failed') return `${what} failed${run.error ? ` (${run.error})` : ''}`;
+  if (run.status === 'diverged') return `${what} diverged`;
+  return `${what} done at epoch ${run.epochs}: ${metric} ${formatNumber(run.score)}`;
+}
+
+function onRepeatFinished(display: Display, event: RepeatFinished): void {
+  const { state, options } = display;
+  state.jobs = Math.max(state.jobs + 1, event.progress.jobsDone);
+  state.trained = Math.max(state.trained, event.progress.epochsDone);
+  if (display.redrawn) display.draw(true);
+  else options.stream.write(`[${counterText(options.plan, state)}] ${describeRepeat(event.run, options.goal.metric)}\n`);
+}
+
 /** A line said between redraws of the live line. */
 function say(display: Display, text: string): void {
   display.clear();
@@ -217,6 +235,8 @@ function handle(display: Display, event: StudyEvent): void {
       return onEpoch(display, event.report.trialId, event.report.seconds);
     case 'trial-finished':
       return onTrialFinished(display, event);
+    case 'repeat-finished':
+      return onRepeatFinished(display, event);
     case 'note':
       return say(display, `note: ${event.message}\n`);
     case 'stopping':

@@ -9,6 +9,8 @@ import { OPTIMISM_CAUTION } from './caution.js';
 import { studySummary } from './summary.js';
 import { budgetSummary, type BudgetSummary } from './budget-summary.js';
 import { frontJson, frontText, studyFront, type FrontJson } from './front-table.js';
+import { repeatText, studyRepeats } from './repeat-text.js';
+import type { RepeatSummary } from '../core/repeat-figures.js';
 
 /** Rows of the text table when `--top` is not given. */
 export const DEFAULT_TABLE_ROWS = 10;
@@ -67,6 +69,12 @@ export interface StudyResultJson {
   baselines?: StudyDocument['baselines'];
   /** With a second goal (`footprint.against`): the configurations no other beats on both, smallest or fastest first. */
   front?: FrontJson;
+  /**
+   * The repeated configurations' mean ± standard error (over the search run and the further seeds, or
+   * over the folds), the paired difference to the winner, which cannot be told apart from it, and the
+   * one-standard-error pick; null when no repeat runs were recorded.
+   */
+  repeats: RepeatSummary | null;
 }
 
 function unrankedReason(trial: TrialRecord): string {
@@ -131,6 +139,7 @@ export function studyResultJson(doc: StudyDocument, ranking: readonly RankedTria
     caution: OPTIMISM_CAUTION,
     ...(doc.baselines ? { baselines: doc.baselines } : {}),
     ...frontField(doc, ranking),
+    repeats: studyRepeats(doc) ?? null,
   };
 }
 
@@ -147,5 +156,6 @@ export function studyResultText(doc: StudyDocument, ranking: readonly RankedTria
   const tail = more > 0 ? `\n(${more} more ranked; --top ${ranking.length} shows all, --json gives every trial)` : '';
   const front = studyFront(doc, ranking);
   const frontPart = front === undefined ? '' : `\n\n${frontText(doc.definition.footprint!.against!, front, doc.goal)}`;
-  return `${table}${tail}${frontPart}\n\n${studySummary(doc, file)}`;
+  const repeats = shown.length > 0 ? `\n\n${repeatText(doc)}` : '';
+  return `${table}${tail}${repeats}${frontPart}\n\n${studySummary(doc, file)}`;
 }

@@ -6,6 +6,7 @@ import { healthSummary } from './health-summary.js';
 import { baselineLine, linearBaselineWarning } from './baseline-text.js';
 import { budgetSummary, budgetSummaryText } from './budget-summary.js';
 import { stateText } from './progress.js';
+import { studyRepeats } from './repeat-text.js';
 
 /** A share as the summary prints it: two significant digits (0.012, 0.10, 1.0), 0 as 0. */
 export { twoSignificantDigits } from './budget-summary.js';
@@ -18,9 +19,10 @@ export function studySummary(doc: StudyDocument, file = ''): string {
   const lines = [`study ${doc.name} ${stateText(doc.state)}: ${doc.trials.length} trials (${byStatus || 'none'})`];
   if (doc.totals) lines.push(budgetSummaryText(budgetSummary(doc)));
   if (file) lines.push(`study file: ${file}`);
-  const baseline = baselineLine(doc);
+  const repeats = studyRepeats(doc);
+  const baseline = baselineLine(doc, repeats);
   if (baseline) lines.push(baseline);
-  const warning = linearBaselineWarning(doc);
+  const warning = linearBaselineWarning(doc, repeats);
   if (warning) lines.push(warning);
   const health = healthSummary(doc.trials);
   if (health) lines.push(health);

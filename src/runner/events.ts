@@ -2,7 +2,8 @@ import type { Job } from '../samplers/sampler.js';
 import type { RankedTrial } from '../core/ranking.js';
 import type { StudyDocument } from '../store/types.js';
 import type { TrialRecord } from '../core/trial.js';
-import type { EpochReport } from '../core/job.js';
+import type { EpochReport, TrainJob } from '../core/job.js';
+import type { RepeatRun } from '../core/repeats.js';
 
 /** How far a study has come, counted the same way for every sampler. */
 export interface StudyProgress {
@@ -29,6 +30,10 @@ export type StudyEvent =
   | { type: 'trial-finished'; trial: TrialRecord; job: Job; best: TrialRecord | undefined; finishedTrials: number; progress: StudyProgress }
   /** Something the user should know that is not an error, e.g. a lost checkpoint that is retrained. Said once per cause. */
   | { type: 'note'; message: string }
+  /** A repeat run after the search started (src/runner/repeats.ts). */
+  | { type: 'repeat-started'; job: TrainJob }
+  /** A repeat run settled and is on disk; `progress` counts it. */
+  | { type: 'repeat-finished'; run: RepeatRun; progress: StudyProgress }
   | { type: 'stopping'; reason: string }
   | { type: 'study-finished'; doc: StudyDocument; ranking: RankedTrial[] };
 

@@ -7,7 +7,9 @@ import type { PreparedData } from '../data/types.js';
 import { studyStoppedError } from '../core/errors.js';
 import { createSampler, plannedBudget, replay } from '../samplers/index.js';
 import type { Job, JobOutcome, Sampler } from '../samplers/sampler.js';
-import type { SamplerPlan } from '../samplers/plan.js';
+import { withRepeats, type SamplerPlan } from '../samplers/plan.js';
+import { repeatProgress } from '../core/repeats.js';
+import { recordedRepeatSettings, runRepeats } from './repeats.js';
 import type { Goal, TrialConfiguration } from '../core/configuration.js';
 import { leaderOf, orientedLoss, rankTrials, type RankedTrial } from '../core/ranking.js';
 import { studyBaselines } from './baselines.js';
@@ -172,11 +174,27 @@ async function drive(store: StudyStore, data: PreparedData, options: ExecuteOpti
     await transport.addDataset(session.datasets.study);
     await dispatch(session, transport);
     await session.persistence.flush();
+    if (!session.stop.stopping) await repeatRuns(session, transport);
   } finally {
     session.stop.dispose();
     await transport.close();
   }
   return finish(session, (session.stop.elapsedMs - started) / 1000);
+}
+
+/** The repeat runs after the search (none in studies without the setting): counted in the session's busy time. */
+async function repeatRuns(session: Session, transport: TrialTransport): Promise<void> {
+  const { store, datasets, stop, emit } = session;
+  const datasetIdFor = (configuration: TrialConfiguration): Promise<string> => datasets.idFor(configuration, (dataset) => transport.addDataset(dataset));
+  const context = { store, datasetIdFor, stop, emit, progress: () => progressOf(session) };
+  session.busySeconds += await runRepeats(context, transport, recordedRepeatSettings(session.definition), session.planned.repeats);
+}
+
+/** The study's progress: the search's trials and the repeat runs recorded. */
+function progressOf(session: Pick<Session, 'lifecycle' | 'store'>): StudyProgress {
+  const search = session.lifecycle.progress();
+  const repeats = repeatProgress(session.store.doc.repeats);
+  return { ...search, jobsDone: search.jobsDone + repeats.jobs, epochsDone: search.epochsDone + repeats.epochs };
 }
 
 /** The sampler (with the recorded outcomes replayed), the trial lifecycle, checkpoints, saving and stopping. */
@@ -189,7 +207,8 @@ async function openSession(store: StudyStore, data: PreparedData, options: Execu
   const shape = { inputs: dataset.inputCount, outputs: dataset.outputCount };
   const maxWeights = definition.footprint?.maxWeights;
   const sampler = createSampler({ ...definition, ...(maxWeights !== undefined ? { weightLimit: { maxWeights, shape } } : {}) });
-  const planned = plannedBudget(definition);
+  // The search's plan and the repeat runs after it: the progress counters count both.
+  const planned = withRepeats(plannedBudget(definition), recordedRepeatSettings(definition), definition.budget.maxEpochs, data.folds !== undefined);
   const queue = replay(sampler, recordedOutcomes(trials, goal), new Map(trials.map((t) => [t.id, t.configuration]))).pending;
   const lifecycle = new TrialLifecycle(store.doc, sampler, planned, sizeAndSpeed(dataset, options.timeRows));
   const keeper = new CheckpointKeeper(options.checkpoints ?? new FolderCheckpointStore(store.dir));
@@ -207,7 +226,7 @@ async function openSession(store: StudyStore, data: PreparedData, options: Execu
   const threads = options.threads ?? definition.threads ?? availableParallelism();
   // Before the first trial, so every trial is checked against them (a study from before baselines gets them on resume).
   store.doc.baselines ??= await studyBaselines(data, data.folds ? datasets.foldsOf(datasets.study) : [datasets.study], goal, definition.budget.maxEpochs, definition.sampler.seed);
-  return { store, options, definition, threads, emit, note: noteOnce(emit), sampler, planned, queue, lifecycle, keeper, persistence, datasets, stop, running: new Map(), busySeconds: 0, jobsEnded: 0, epochsAtStart: lifecycle.progress().epochsDone };
+  return { store, options, definition, threads, emit, note: noteOnce(emit), sampler, planned, queue, lifecycle, keeper, persistence, datasets, stop, running: new Map(), busySeconds: 0, jobsEnded: 0, epochsAtStart: lifecycle.progress().epochsDone + repeatProgress(store.doc.repeats).epochs };
 }
 
 /** The data's shape for weight counts, and the row timer (the engine's forward pass in this thread unless the options replace or refuse it). */
@@ -240,7 +259,7 @@ function noteOnce(emit: StudyObserver): (message: string, key?: string) => void 
 
 function announceStart(session: Session, resumed: boolean, resumeNotes: readonly string[]): void {
   const { store, emit, threads, planned, lifecycle, note } = session;
-  emit({ type: 'study-started', name: store.doc.name, dir: store.dir, threads, plannedTrials: planned.trials, plannedEpochs: planned.epochs, resumed, progress: lifecycle.progress() });
+  emit({ type: 'study-started', name: store.doc.name, dir: store.dir, threads, plannedTrials: planned.trials, plannedEpochs: planned.epochs, resumed, progress: progressOf(session) });
   for (const message of [...store.notes, ...resumeNotes]) note(message);
 }
 
@@ -346,7 +365,7 @@ function settleResult(session: Session, job: Job, result: TrainResult): void {
   }
   // A copy: by the time the save lands and the outcome is announced, the trial may be running again.
   const record = { ...lifecycle.succeeded(job, result) };
-  const progress = lifecycle.progress();
+  const progress = progressOf(session);
   persistence.queue({ record, job, progress });
   forecastTimeLimit(session, progress.epochsDone);
 }
@@ -383,7 +402,7 @@ function settleFailure(session: Session, transport: TrialTransport, job: Job, ti
       : { kind: 'error', message: error instanceof Error ? error.message : String(error) };
   const next = session.lifecycle.failed(job, failure);
   if (next === 'retry') return startJob(session, transport, job); // the same job again, from the same checkpoint
-  if (next === 'ended') session.persistence.queue({ record: { ...session.lifecycle.record(job.trialId) }, job, progress: session.lifecycle.progress() });
+  if (next === 'ended') session.persistence.queue({ record: { ...session.lifecycle.record(job.trialId) }, job, progress: progressOf(session) });
   return undefined;
 }
 

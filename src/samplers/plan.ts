@@ -3,6 +3,7 @@
  * progress display, the capacity check and the report read it and never ask which kind it is.
  */
 import type { Budget } from '../core/budget.js';
+import type { RepeatSettings } from '../core/repeats.js';
 
 /** One rung of a plan: how many configurations train, and to how many epochs in all. */
 export interface RungPlan {
@@ -29,6 +30,18 @@ export interface SamplerPlan {
    * would take the study past the planned jobs or epochs.
    */
   limit: boolean;
+  /** Configurations trained to the top of their bracket (the epoch limit): the ones the repeat runs may take. @default trials */
+  finishing?: number;
+  /** The repeat runs after the search (src/core/repeats.ts), included in `jobs` and `epochs`; absent: none. */
+  repeats?: RepeatPlan;
+}
+
+/** The repeat runs a plan includes: `configurations` x `seeds` jobs of at most `maxEpochs` each. */
+export interface RepeatPlan {
+  configurations: number;
+  seeds: number;
+  jobs: number;
+  epochs: number;
 }
 
 /** The plan of options that do not fit the budget: nothing runs. */
@@ -55,5 +68,20 @@ export function bracketsPlan(brackets: readonly (readonly RungPlan[])[], limit =
     // Hyperband's bracket s has s + 1 rounds, so distinct lengths are distinct brackets (passes repeat them).
     brackets: new Set(brackets.map((rounds) => rounds.length)).size,
     limit,
+    finishing: sum((rounds) => rounds.at(-1)?.configurations ?? 0),
   };
+}
+
+/**
+ * The plan with the repeat runs after the search: the top `settings.top` configurations (at most those
+ * the plan trains to the top of their bracket) each train `settings.seeds` more times for at most `maxEpochs` (their scored epochs:
+ * fewer with early stopping). None without settings, with `top: 0`, or with folds (the fold scores serve).
+ */
+export function withRepeats(plan: SamplerPlan, settings: RepeatSettings | undefined, maxEpochs: number, folds: boolean): SamplerPlan {
+  if (!settings || settings.top === 0 || folds || plan.trials === 0) return plan;
+  const configurations = Math.min(settings.top, plan.finishing ?? plan.trials);
+  if (configurations === 0) return plan;
+  const jobs = configurations * settings.seeds;
+  const epochs = jobs * maxEpochs;
+  return { ...plan, jobs: plan.jobs + jobs, epochs: plan.epochs + epochs, repeats: { configurations, seeds: settings.seeds, jobs, epochs } };
 }

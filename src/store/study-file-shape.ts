@@ -50,6 +50,16 @@ const trialShape = z.looseObject({
   jobs: z.array(jobShape),
 });
 
+const repeatRunShape = z.looseObject({
+  trialId: count,
+  index: count,
+  seed: z.int(),
+  epochs: count,
+  status: z.enum(['completed', 'diverged', 'failed']),
+  score: figure,
+  workerSeconds: z.number(),
+});
+
 const documentShape = z.looseObject({
   name: z.string(),
   state: z.enum(['running', 'interrupted', 'time-limit', 'finished']),
@@ -60,8 +70,10 @@ const documentShape = z.looseObject({
     budget: z.looseObject({ trials: count, maxEpochs: count }),
     sampler: z.looseObject({ kind: z.string() }),
     space: z.looseObject({}),
+    repeats: z.looseObject({ top: count, seeds: count }).optional(),
   }),
   trials: z.array(trialShape),
+  repeats: z.looseObject({ trialIds: z.array(count), seeds: count, runs: z.array(repeatRunShape) }).optional(),
   totals: z.looseObject({ epochsTrained: count, threadUtilisation: z.number(), wallSeconds: z.number(), threads: count }).optional(),
 });
 

@@ -6,6 +6,7 @@ import type { TrialRecord } from '../core/trial.js';
 import type { StudyDefinition } from '../study/definition.js';
 import type { ClassFigures } from '../core/class-figures.js';
 import type { StudyBaselines } from '../core/baselines.js';
+import type { RepeatsRecord } from '../core/repeats.js';
 
 export interface StudyTotals {
   epochsTrained: number;
@@ -41,6 +42,8 @@ export interface StudyDocument {
   dataHashes?: DataHashes;
   /** What every network must beat on the same validation rows (absent in files from before baselines; a resume adds them). */
   baselines?: StudyBaselines;
+  /** The repeat runs after the search (absent in files from before them, with `repeats.top` 0, and with folds). */
+  repeats?: RepeatsRecord;
   /** Each time the study was continued on a CSV that differs from the recorded one, because the user said so. */
   dataChanges?: { at: string; csv: string; command: string }[];
 }

@@ -5,6 +5,7 @@ import { LOWER_IS_BETTER, METRICS, TASKS, type Goal, type MetricName } from '../
 import { SECOND_GOALS } from '../core/front.js';
 import { earlyStoppingSchema, seedField as seed } from '../core/fields.js';
 import { listedConfigurationSchema, spaceSchema } from '../space/schema.js';
+import { repeatsSchema } from '../core/repeats.js';
 
 export const dataSchema = z.strictObject({
   csv: z.string().min(1).describe('Path of the CSV file, relative to the study definition file.'),
@@ -134,6 +135,7 @@ export const studySchema = z.strictObject({
     .optional()
     .describe('Configurations to train first, in order: trial 0 trains the first, trial 1 the second, ...; every sampler gives them their trials as listed, and model-based samplers learn from their results. Values may lie outside the space.'),
   footprint: footprintSchema.optional(),
+  repeats: repeatsSchema,
 });
 
 /**

@@ -9,8 +9,14 @@ export function trialsOf(doc: StudyDocument) {
     .sort((a, b) => a.id - b.id);
 }
 
-/** The trials and ranking (trial ids in rank order) of the study saved in `dir`. */
-export async function studyOutcome(dir: string): Promise<{ state: string; trials: ReturnType<typeof trialsOf>; ranking: number[] }> {
+/** The repeat runs after the search: which configurations, and each run's seed, epochs, status and score (no timings). */
+export function repeatsOf(doc: StudyDocument) {
+  if (!doc.repeats) return null;
+  return { trialIds: doc.repeats.trialIds, runs: doc.repeats.runs.map(({ workerSeconds: _s, ...run }) => run) };
+}
+
+/** The trials, ranking (trial ids in rank order) and repeat runs of the study saved in `dir`. */
+export async function studyOutcome(dir: string): Promise<{ state: string; trials: ReturnType<typeof trialsOf>; ranking: number[]; repeats: ReturnType<typeof repeatsOf> }> {
   const doc = (await StudyStore.open(dir)).doc;
-  return { state: doc.state, trials: trialsOf(doc), ranking: rankTrials(doc.trials, doc.goal).map((r) => r.trial.id) };
+  return { state: doc.state, trials: trialsOf(doc), ranking: rankTrials(doc.trials, doc.goal).map((r) => r.trial.id), repeats: repeatsOf(doc) };
 }

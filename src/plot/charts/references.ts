@@ -2,6 +2,8 @@ import type { StudyDocument } from '../../store/types.js';
 import { formatNumber } from '../../report/format.js';
 import { NOISE_BAND, REFERENCE } from '../palette.js';
 import { bestTrial } from '../winner.js';
+import { studyRepeats } from '../../report/repeat-text.js';
+import { baselineScore } from '../../core/baselines.js';
 import type { ChartLayer } from './chart.js';
 
 /** A score to beat that no trial produced (say, a constant model's), drawn as a dashed rule on the score axis. */
@@ -26,21 +28,36 @@ export interface ChartReferences {
 }
 
 /**
- * The winner's band from the study itself: the standard error of its score over folds, when the
- * study used folds. Undefined otherwise (a caller with repeat runs passes its own band).
+ * The winner's band from the study itself: its mean and standard error over the repeat runs (the search
+ * run and the further seeds) when the study has them, else the standard error of its score over folds,
+ * when the study used folds. Undefined otherwise.
  */
 export function winnerBand(study: StudyDocument): NoiseBand | undefined {
   const winner = bestTrial(study);
+  const repeats = study.repeats ? studyRepeats(study) : undefined;
+  const repeated = repeats && winner && repeats.winnerId === winner.id ? repeats.figures[0] : undefined;
+  if (repeated?.standardError !== undefined) return { score: repeated.mean, standardError: repeated.standardError, from: `${repeated.count} runs` };
   const error = winner?.scoreStandardError;
   if (!winner || winner.score === null || error === undefined || !Number.isFinite(error)) return undefined;
   const folds = study.definition.data.folds;
   return { score: winner.score, standardError: error, from: folds ? `${folds} folds` : 'folds' };
 }
 
-/** The references of a study: its own band unless the caller gives one, and the caller's baselines. */
+/** The study's own baselines on the goal's metric (constant and linear), as the charts draw them. */
+export function studyBaselineRules(study: StudyDocument): Baseline[] {
+  const rules: Baseline[] = [];
+  const constant = baselineScore(study.baselines?.constant, study.goal.metric);
+  const linear = baselineScore(study.baselines?.linear, study.goal.metric);
+  if (constant !== undefined) rules.push({ label: 'constant', score: constant });
+  if (linear !== undefined) rules.push({ label: 'linear', score: linear });
+  return rules;
+}
+
+/** The references of a study: its own band and baselines unless the caller gives them. */
 export function studyReferences(study: StudyDocument, given: ChartReferences = {}): ChartReferences {
   const band = given.band ?? winnerBand(study);
-  return { ...(given.baselines && given.baselines.length > 0 ? { baselines: given.baselines } : {}), ...(band ? { band } : {}) };
+  const baselines = given.baselines && given.baselines.length > 0 ? given.baselines : studyBaselineRules(study);
+  return { ...(baselines.length > 0 ? { baselines } : {}), ...(band ? { band } : {}) };
 }
 
 /** Scores a chart's axis must reach so the references are drawn (the band's edges, each baseline). */

@@ -71,6 +71,7 @@ export const wireJobSchema = z
     checkpoint: base64.optional(),
     maxEpochs: positiveCount.optional(),
     earlyStopping: z.strictObject({ rule: earlyStoppingSchema, goal: goalSchema }).optional(),
+    repeat: positiveCount.optional(),
   })
   .refine((job) => job.toEpoch > job.fromEpoch, { message: 'must be above fromEpoch', path: ['toEpoch'] })
   .refine((job) => job.fromEpoch === 0 || job.checkpoint !== undefined, { message: 'no checkpoint, though fromEpoch is above 0', path: ['checkpoint'] });

@@ -10,12 +10,13 @@ import { queuedJobSchema, queuedResultSchema, readEntry } from './messages.js';
 import type { EpochReport, TrainJob, TrainResult } from '../../core/job.js';
 
 /**
- * Raised whenever the job, result, data-set or registry layout changes (4: every entry is checked
+ * Raised whenever the job, result, data-set or registry layout changes (5: jobs may carry `repeat`, a
+ * repeat run after the search, which a version-4 worker's schema would refuse; 4: every entry is checked
  * against a schema, jobs carry their data set's SHA-256, entries may carry a study key's signature,
  * progress is `{ report, signature }`; 3: jobs carry `maxEpochs` and `earlyStopping`, results
  * `bestEpoch`, `stoppedAtEpoch` and `divergedAfterBest`).
  */
-export const QUEUE_PROTOCOL_VERSION = 4;
+export const QUEUE_PROTOCOL_VERSION = 5;
 
 /** BullMQ's key prefix and ours: everything rungwise keeps in Redis starts with it. */
 export const KEY_PREFIX = 'rungwise';
@@ -85,11 +86,12 @@ export function studyQueueName(studyName: string, runDir: string): string {
 /**
  * A job's id on the queue: one per trial, epoch range and data set, so a job added again (a resume, a
  * retry) is the same job, one that starts elsewhere (its checkpoint was lost) is another, and the k
- * fold jobs of a k-fold trial (same trial and epochs, one data set each) are k jobs.
+ * fold jobs of a k-fold trial (same trial and epochs, one data set each) are k jobs, and a repeat run
+ * (a further seed after the search) is its own job (`-r<index>`).
  */
-export function queueJobId(job: Pick<TrainJob, 'trialId' | 'fromEpoch' | 'toEpoch' | 'datasetId'>): string {
+export function queueJobId(job: Pick<TrainJob, 'trialId' | 'fromEpoch' | 'toEpoch' | 'datasetId' | 'repeat'>): string {
   const dataset = job.datasetId.replace(/^sha256:/, '').replace(/[^A-Za-z0-9]/g, '').slice(0, 8);
-  return `t${job.trialId}-f${job.fromEpoch}-e${job.toEpoch}-d${dataset}`;
+  return `t${job.trialId}-f${job.fromEpoch}-e${job.toEpoch}-d${dataset}${job.repeat !== undefined ? `-r${job.repeat}` : ''}`;
 }
 
 /** A job's queue entry (unsigned); `datasetSha256` is the trailing checksum of its data set's message. */
