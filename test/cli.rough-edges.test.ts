@@ -144,7 +144,7 @@ describe('compare --json', () => {
       expect(Object.keys(study).sort()).toEqual(
         ['answers', 'compute', 'dir', 'importance', 'name', 'rungAgreements', 'rungShares', 'sampler', 'state', 'trials', 'unscoredTrials', 'winner', 'winnerAtRungs', 'winnerLeadsFromEpoch'].sort(),
       );
-      expect(Object.keys(study.answers as object).sort()).toEqual(['baseline', 'health', 'importance', 'rungAgreement', 'rungShares', 'sampler', 'spent', 'unscored', 'winner', 'winnerAtRungs', 'winnerFound'].sort());
+      expect(Object.keys(study.answers as object).sort()).toEqual(['baseline', 'health', 'importance', 'noise', 'rungAgreement', 'rungShares', 'sampler', 'spent', 'unscored', 'winner', 'winnerAtRungs', 'winnerFound'].sort());
     }
     const halving = parsed.studies[1] as { rungShares: { share: number }[]; winner: { trial: number } };
     expect(halving.rungShares.reduce((sum, r) => sum + r.share, 0)).toBeCloseTo(1, 9);

@@ -120,7 +120,7 @@ describe('regularisers in the search space', () => {
   it('are refused beside residual blocks, whose training step has no pass after the backward one where they act', () => {
     const result = spaceSchema.safeParse({ ...plain, ...regularisers, block: ['plain', 'residual'] });
     expect(result.success).toBe(false);
-    expect(result.error?.issues.map((issue) => issue.path.join('.'))).toEqual(['weightDecay', 'maxGradientNorm']);
+    expect(result.error?.issues.map((issue) => issue.path.join('.'))).toEqual(['weightDecay', 'maxGradientNorm', 'labelSmoothing']);
     expect(result.error?.issues[0]!.message).toMatch(/cannot be searched together with block "residual" yet/);
     expect(spaceSchema.safeParse({ ...plain, ...regularisers, block: ['plain'] }).success).toBe(true);
   });
