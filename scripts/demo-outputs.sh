@@ -4,7 +4,7 @@
 #   scripts/demo-outputs.sh REV_BEFORE [REV_AFTER]    (REV_AFTER: HEAD; commit first)
 #
 # Builds each revision in a scratch worktree, runs every demo study (studies/demo/*.json) and its
-# ranking with 2 worker threads, masks what is measured (seconds, clock times, rates, utilisation,
+# ranking with 2 threads, masks what is measured (seconds, clock times, rates, utilisation,
 # dates), and prints a unified diff per study; it exits 1 when any output differs. Asynchronous
 # halving decides by the order results arrive, so its output may differ between any two runs. The
 # per-job progress lines are left out: their counters depend on which thread ends first.

@@ -118,7 +118,7 @@ describe('the progress display on a recorded event stream', () => {
     const { text } = replay(true);
     const lines = text.split('\r').filter((line) => /jobs/.test(line));
     expect(lines[0]).not.toMatch(/left/);
-    // Every epoch took 0.7 worker-seconds; after the first job, 20 epochs are left on at most 2 busy threads.
+    // Every epoch took 0.7 thread-seconds; after the first job, 20 epochs are left on at most 2 busy threads.
     expect(lines.find((line) => /left/.test(line))).toMatch(/00:(0[7-9]|1[0-4]) left/);
   });
 });

@@ -56,7 +56,7 @@ export function studyDigest(study: StudyDocument, importance: StudyImportance | 
     sampler: study.definition.sampler.kind,
     halving,
     winner: winner ? `trial ${winner.id}: ${study.goal.metric} ${formatNumber(winner.score)} after ${winner.epochsTrained} epochs` : 'none yet',
-    spent: `${spent.epochs} epochs${planned ? ` of ${planned} planned (${percent(spent.epochs / planned)})` : ''}, ${formatNumber(spent.workerSeconds)} worker-seconds`,
+    spent: `${spent.epochs} epochs${planned ? ` of ${planned} planned (${percent(spent.epochs / planned)})` : ''}, ${formatNumber(spent.workerSeconds)} thread-seconds`,
     winnerFound: crowned && spent.epochs > 0 ? `after ${crowned.epochsSpent} epochs (${percent(crowned.epochsSpent / spent.epochs)} of those spent)` : '-',
     rungShares: halving ? [...byRung].map(([rung, share]) => `rung ${rung} ${percent(share)}`).join(', ') : 'one rung (no halving)',
     rungAgreement: halving && agreements.length > 0 ? agreements.map((a) => `bracket ${a.bracket}, rung ${a.fromRung} to ${a.fromRung + 1}: ${agreementText(a.rho, a.configurations)}`).join('; ') : '-',

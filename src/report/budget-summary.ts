@@ -17,7 +17,7 @@ const SHORT_SESSION_SECONDS = 60;
 export interface BudgetSummary {
   planned: { trials: number; jobs: number; epochs: number; limit: boolean };
   done: { trials: number; jobs: number; epochs: number };
-  /** The repeat runs after the search (included in `planned` and `done`): jobs and epochs planned and done, and their worker-seconds. */
+  /** The repeat runs after the search (included in `planned` and `done`): jobs and epochs planned and done, and their training seconds. */
   repeats?: { planned: { jobs: number; epochs: number }; done: { jobs: number; epochs: number }; workerSeconds: number };
   /** This session (the last `run` or `resume`): wall seconds, threads, thread-seconds training and waiting. */
   session: { wallSeconds: number; threads: number; trainingSeconds: number; waitingSeconds: number; utilisation: number } | null;
@@ -110,7 +110,7 @@ export function budgetSummaryText(summary: BudgetSummary): string {
   }
   if (summary.repeats) {
     const r = summary.repeats;
-    lines.push(`repeat runs: ${r.done.jobs} of ${r.planned.jobs} jobs, ${r.done.epochs} of at most ${r.planned.epochs} epochs, ${formatDuration(r.workerSeconds)} of worker time (included above)`);
+    lines.push(`repeat runs: ${r.done.jobs} of ${r.planned.jobs} jobs, ${r.done.epochs} of at most ${r.planned.epochs} epochs, ${formatDuration(r.workerSeconds)} of training time (included above)`);
   }
   if (summary.rungs.length > 0) lines.push(`epochs by rung: ${summary.rungs.map((r) => `rung ${r.rung} ${r.epochs} (${Math.round(100 * r.share)} %)`).join(', ')}`);
   for (const reason of summary.lowUtilisation) lines.push(`utilisation is low: ${reason}`);

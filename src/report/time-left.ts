@@ -1,5 +1,5 @@
 /**
- * The time a study has left, from this study's own measurements: the worker-seconds its epochs took,
+ * The time a study has left, from this study's own measurements: the training seconds its epochs took,
  * per unit of an epoch's cost (depth x width^2, so a wide deep network counts for more), and the
  * epochs still planned. Start-up (reading the data, starting threads) is not in the measurement, so a
  * short study's first estimate is not inflated by it. No estimate until a job has ended.

@@ -113,7 +113,7 @@ async function runOne(context: RepeatContext, transport: TrialTransport, repeats
 
 /**
  * Run the repeat runs not yet recorded, up to the transport's capacity at once, until all are recorded
- * or the study stops. Returns the worker-seconds they took. Nothing runs without settings or a plan
+ * or the study stops. Returns the training seconds they took. Nothing runs without settings or a plan
  * for them (`top: 0`, or folds, whose fold scores serve instead).
  */
 export async function runRepeats(context: RepeatContext, transport: TrialTransport, settings: RepeatSettings | undefined, planned: RepeatPlan | undefined): Promise<number> {
