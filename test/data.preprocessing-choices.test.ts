@@ -8,10 +8,10 @@ import { beforeAll, describe, expect, it } from 'vitest';
 import { exportModel } from '../src/commands/export.js';
 import { DEFAULT_PREPROCESSING, type TrialConfiguration } from '../src/core/configuration.js';
 import type { SharedDataset, TrainJob } from '../src/core/job.js';
-import { isMissing, readCsv, type CsvTable } from '../src/data/csv.js';
+import { readCsv } from '../src/data/csv.js';
+import { onnxInputs } from './helpers/exports.js';
 import { datasetId } from '../src/data/dataset-id.js';
 import { prepareData } from '../src/data/prepare.js';
-import type { PreprocessingRecipe } from '../src/data/types.js';
 import type { ExportConfiguration } from '../src/export/configuration.js';
 import { loadModel, predict, type ClassPrediction } from '../src/export/hand-off.js';
 import { auc } from '../src/metrics/metrics.js';
@@ -104,23 +104,6 @@ function recording(inner: TrialTransport, jobs: TrainJob[], added: string[]): Tr
   };
 }
 
-/** The inputs `model.onnx` documents, built from the CSV without rungwise's encoder: numbers as written, categories one-hot, pooled and unseen ones on `column=(pooled)`. */
-function onnxInputs(recipe: PreprocessingRecipe, table: CsvTable): Float32Array {
-  const x = new Float32Array(table.rows.length * recipe.inputCount);
-  table.rows.forEach((row, r) => {
-    let offset = r * recipe.inputCount;
-    for (const feature of recipe.features) {
-      const value = row[feature.name] ?? '';
-      if (feature.kind === 'numeric') x[offset++] = isMissing(value) ? Number.NaN : Number(value);
-      else {
-        const category = isMissing(value) ? feature.fill : value;
-        for (const known of feature.categories) x[offset++] = known === category ? 1 : 0;
-        if (feature.pooled) x[offset++] = feature.categories.includes(category) ? 0 : 1;
-      }
-    }
-  });
-  return x;
-}
 
 async function runOnnx(file: string, x: Float32Array, rows: number, columns: number): Promise<Float32Array> {
   const session = await ort.InferenceSession.create(file);

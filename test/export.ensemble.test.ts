@@ -11,7 +11,8 @@ import { exportEnsemble, type EnsembleExportSummary } from '../src/commands/expo
 import { predictCsv } from '../src/commands/predict.js';
 import { run } from '../src/commands/run.js';
 import type { Task } from '../src/core/configuration.js';
-import { isMissing, readCsv, type CsvTable } from '../src/data/csv.js';
+import { readCsv, type CsvTable } from '../src/data/csv.js';
+import { onnxInputs } from './helpers/exports.js';
 import { loadModel, predict, type ClassPrediction, type LoadedModel, type ValuePrediction } from '../src/export/hand-off.js';
 import type { SplitRecord } from '../src/store/split-record.js';
 import { StudyStore } from '../src/store/study-store.js';
@@ -175,19 +176,3 @@ describe('export --ensemble on the tiny studies', () => {
   });
 });
 
-/** `model.onnx`'s documented inputs built from the CSV on their own: numbers as written (NaN where missing), categories one-hot. */
-function onnxInputs(recipe: LoadedModel['configuration']['recipe'], table: CsvTable): Float32Array {
-  const x = new Float32Array(table.rows.length * recipe.inputCount);
-  table.rows.forEach((row, r) => {
-    let offset = r * recipe.inputCount;
-    for (const feature of recipe.features) {
-      const value = row[feature.name] ?? '';
-      if (feature.kind === 'numeric') x[offset++] = isMissing(value) ? Number.NaN : Number(value);
-      else {
-        const category = isMissing(value) ? feature.fill : value;
-        for (const known of feature.categories) x[offset++] = known === category ? 1 : 0;
-      }
-    }
-  });
-  return x;
-}

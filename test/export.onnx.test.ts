@@ -8,6 +8,7 @@ import { beforeAll, describe, expect, it } from 'vitest';
 import { exportModel } from '../src/commands/export.js';
 import { run } from '../src/commands/run.js';
 import { isMissing, readCsv, type CsvTable } from '../src/data/csv.js';
+import { onnxInputs } from './helpers/exports.js';
 import type { PreprocessingRecipe } from '../src/data/types.js';
 import { loadModel, predict, type ClassPrediction, type ValuePrediction } from '../src/export/hand-off.js';
 import type { ExportConfiguration } from '../src/export/configuration.js';
@@ -21,25 +22,6 @@ import { exportTinyStudies, type TinyExport } from './helpers/exports.js';
 const ROOT = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '..');
 const DEMO = path.join(ROOT, 'studies/demo');
 
-/**
- * The inputs `model.onnx` documents, built here from the CSV on their own (not with rungwise's encoder):
- * numeric columns as written (NaN where missing), categorical ones one-hot, the fill category where missing.
- */
-function onnxInputs(recipe: PreprocessingRecipe, table: CsvTable): Float32Array {
-  const x = new Float32Array(table.rows.length * recipe.inputCount);
-  table.rows.forEach((row, r) => {
-    let offset = r * recipe.inputCount;
-    for (const feature of recipe.features) {
-      const value = row[feature.name] ?? '';
-      if (feature.kind === 'numeric') x[offset++] = isMissing(value) ? Number.NaN : Number(value);
-      else {
-        const category = isMissing(value) ? feature.fill : value;
-        for (const known of feature.categories) x[offset++] = known === category ? 1 : 0;
-      }
-    }
-  });
-  return x;
-}
 
 async function runOnnx(file: string | Uint8Array, x: Float32Array, rows: number, columns: number): Promise<Float32Array> {
   const session = await ort.InferenceSession.create(file as string);

@@ -6,6 +6,8 @@ import { fileURLToPath } from 'node:url';
 import { exportModel, type ExportFormat } from '../../src/commands/export.js';
 import { run } from '../../src/commands/run.js';
 import type { Task } from '../../src/core/configuration.js';
+import { isMissing, type CsvTable } from '../../src/data/csv.js';
+import type { PreprocessingRecipe } from '../../src/data/types.js';
 
 const TINY = fileURLToPath(new URL('../../studies/tiny/', import.meta.url));
 
@@ -34,4 +36,26 @@ export async function exportTinyStudies(format: ExportFormat = 'tfjs'): Promise<
     exports.push({ task, csv: path.join(TINY, csv), exportDir: summary.out });
   }
   return exports;
+}
+
+/**
+ * The inputs `model.onnx` documents, built from the CSV without rungwise's encoder: numbers as written
+ * (NaN where missing), categories one-hot (the fill category where missing), pooled and unseen ones on
+ * `column=(pooled)` when the column pools.
+ */
+export function onnxInputs(recipe: PreprocessingRecipe, table: CsvTable): Float32Array {
+  const x = new Float32Array(table.rows.length * recipe.inputCount);
+  table.rows.forEach((row, r) => {
+    let offset = r * recipe.inputCount;
+    for (const feature of recipe.features) {
+      const value = row[feature.name] ?? '';
+      if (feature.kind === 'numeric') x[offset++] = isMissing(value) ? Number.NaN : Number(value);
+      else {
+        const category = isMissing(value) ? feature.fill : value;
+        for (const known of feature.categories) x[offset++] = known === category ? 1 : 0;
+        if (feature.pooled) x[offset++] = feature.categories.includes(category) ? 0 : 1;
+      }
+    }
+  });
+  return x;
 }
