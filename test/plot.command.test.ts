@@ -97,7 +97,7 @@ describe('rungwise plot', () => {
     const html = await readFile(path.join(dir, 'plots', 'report.html'), 'utf8');
     expect(html).toContain(CAUTION);
     expect(CAUTION).toBe(
-      'Caution: the validation score of a configuration picked from many is optimistic; judge the chosen model on the held-out test split (rungwise export --retrain), and have any model whose predictions affect people reviewed before use.',
+      'Caution: the validation score of a configuration picked from many is optimistic; judge the chosen model on the held-out test split (rungwise export scores it there), and have any model whose predictions affect people reviewed before use.',
     );
     expect(html).toContain('<th scope="row">study</th><td>random-five</td>');
     expect(html).toContain('<th scope="row">sampler</th><td>random (seed 0)</td>');
