@@ -4,9 +4,10 @@
 import { activateRows, backRows, multiplyRows } from './activations';
 import {
   ACTIVATED, ACTIVATION, BATCH_X, BATCH_Y, BETA1, BETA2, BIAS, BIAS_GRADIENT, BIAS_SLOT1, BIAS_SLOT2, CLASS_WEIGHTS, constant, DELTA, DEPTH, DROPOUT,
-  FAN_IN, FAN_OUT, IN_STRIDE, KERNEL, KERNEL_GRADIENT, KERNEL_SLOT1, KERNEL_SLOT2, L2, layerField, MASK, OPTIMIZER, ORDER, OUT_STRIDE,
-  OUTPUT, OUTPUTS, POWER1, POWER2, PRE_ACTIVATION, SCRATCH, setConstant, TASK, TRAIN_X, TRAIN_Y, TWICE_L2, UPDATE, word, pointer, BLOCKS,
+  FAN_IN, FAN_OUT, IN_STRIDE, KERNEL, KERNEL_GRADIENT, KERNEL_SLOT1, KERNEL_SLOT2, L2, layerField, MASK, OPTIMIZER, OUT_STRIDE,
+  OUTPUT, OUTPUTS, POWER1, POWER2, PRE_ACTIVATION, SCRATCH, setConstant, TASK, TWICE_L2, UPDATE, word, pointer, BLOCKS,
 } from './layout';
+import { gatherBatch } from './batch';
 import { outputLoss } from './losses';
 import { columnSums, gemm, gemmTransposedA, transpose } from './matmul';
 import { addL2, update } from './optimizers';
@@ -64,15 +65,8 @@ function forward(net: usize, x: usize, rows: i32, training: bool): void {
 export function trainStep(net: usize, start: i32, rows: i32): f64 {
   if (word(net, BLOCKS) != 0) return trainResidualStep(net, start, rows);
   const depth = word(net, DEPTH);
-  const stride = field(net, 0, IN_STRIDE);
-  const rowBytes = <usize>stride << 2;
-  const order = pointer(net, ORDER), trainX = pointer(net, TRAIN_X), trainY = pointer(net, TRAIN_Y);
+  gatherBatch(net, start, rows);
   const batchX = pointer(net, BATCH_X), batchY = pointer(net, BATCH_Y);
-  for (let r = 0; r < rows; r++) {
-    const index = <usize>load<i32>(order + (<usize>(start + r) << 2));
-    memory.copy(batchX + <usize>r * rowBytes, trainX + index * rowBytes, rowBytes);
-    store<f32>(batchY + (<usize>r << 2), load<f32>(trainY + (index << 2)));
-  }
   forward(net, batchX, rows, true);
   const lastStride = field(net, depth, OUT_STRIDE);
   const smoothing = constant(net, SMOOTHING_KEEP);

@@ -8,9 +8,10 @@ import {
   ACTIVATED, ACTIVATION, BATCH_X, BATCH_Y, BETA1, BETA2, BIAS, BIAS_GRADIENT, BIAS_SLOT1, BIAS_SLOT2, CLASS_WEIGHTS, constant, DELTA, DEPTH, DROPOUT,
   FAN_IN, FAN_OUT, IN_STRIDE, INVERSE_STD, KERNEL, KERNEL_GRADIENT, KERNEL_SLOT1, KERNEL_SLOT2, L2, layerField, MASK, NORM_ACTIVATED, NORM_BIAS,
   NORM_BIAS_GRADIENT, NORM_BIAS_SLOT1, NORM_BIAS_SLOT2, NORM_DELTA, NORM_GAIN, NORM_GAIN_GRADIENT, NORM_GAIN_SLOT1, NORM_GAIN_SLOT2, NORM_OUTPUT,
-  NORMALISED, OPTIMIZER, ORDER, OUT_STRIDE, OUTPUT, OUTPUTS, POWER1, POWER2, PRE_ACTIVATION, RESIDUAL, RESIDUAL_DELTA, SCRATCH, setConstant, TASK,
-  TRAIN_X, TRAIN_Y, TWICE_L2, UPDATE, word, pointer,
+  NORMALISED, OPTIMIZER, OUT_STRIDE, OUTPUT, OUTPUTS, POWER1, POWER2, PRE_ACTIVATION, RESIDUAL, RESIDUAL_DELTA, SCRATCH, setConstant, TASK,
+  TWICE_L2, UPDATE, word, pointer,
 } from './layout';
+import { gatherBatch } from './batch';
 import { outputLoss } from './losses';
 import { columnSums, gemm, gemmTransposedA, transpose } from './matmul';
 import { addRows, normBack, normRows } from './norm';
@@ -130,14 +131,8 @@ function backBlocks(net: usize, rows: i32): void {
 
 /** The residual network's training step: the same contract as `trainStep` in index.ts. */
 export function trainResidualStep(net: usize, start: i32, rows: i32): f64 {
-  const rowBytes = <usize>field(net, 0, IN_STRIDE) << 2;
-  const order = pointer(net, ORDER), trainX = pointer(net, TRAIN_X), trainY = pointer(net, TRAIN_Y);
+  gatherBatch(net, start, rows);
   const batchX = pointer(net, BATCH_X), batchY = pointer(net, BATCH_Y);
-  for (let r = 0; r < rows; r++) {
-    const index = <usize>load<i32>(order + (<usize>(start + r) << 2));
-    memory.copy(batchX + <usize>r * rowBytes, trainX + index * rowBytes, rowBytes);
-    store<f32>(batchY + (<usize>r << 2), load<f32>(trainY + (index << 2)));
-  }
   forwardResidual(net, batchX, rows, true);
   const out = residualOutputLayer(net);
   const outDelta = address(net, out, DELTA);
