@@ -1,20 +1,17 @@
-import { existsSync } from 'node:fs';
 import { readFile } from 'node:fs/promises';
 import { createServer, type Server } from 'node:http';
 import type { AddressInfo } from 'node:net';
 import path from 'node:path';
 import { fileURLToPath } from 'node:url';
-import { chromium, type Browser } from 'playwright-core';
+import type { Browser } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { readCsv } from '../src/data/csv.js';
 import { encodeRows, loadModel } from '../src/export/hand-off.js';
 import { predictRows } from '../src/export/model-files.js';
+import { CHROMIUM, browserRunsHere as runsHere, launchChromium } from './helpers/browser.js';
 import { exportTinyStudies, type TinyExport } from './helpers/exports.js';
 
-const CHROMIUM = '/usr/bin/chromium';
 const ROOT = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '..');
-// Under CI the lead's script installs chromium, so a missing browser there is a failure, not a skip.
-const runsHere = existsSync(CHROMIUM) || (process.env.CI ?? '') !== '';
 
 const TYPES: Record<string, string> = { '.html': 'text/html', '.js': 'text/javascript', '.mjs': 'text/javascript', '.json': 'application/json', '.bin': 'application/octet-stream' };
 
@@ -48,10 +45,7 @@ describe.runIf(runsHere)('the exported tfjs model in headless Chromium', () => {
   beforeAll(async () => {
     exports = await exportTinyStudies();
     server = await serve(exports);
-    browser = await chromium.launch({
-      executablePath: CHROMIUM,
-      args: ['--headless', '--no-sandbox', '--disable-gpu', '--disable-quic', '--no-first-run', '--disable-background-networking', '--disable-component-update', '--disable-sync'],
-    });
+    browser = await launchChromium();
   });
 
   afterAll(async () => {

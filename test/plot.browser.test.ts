@@ -3,19 +3,16 @@ import { copyFile, mkdir, mkdtemp, readFile, rm, writeFile } from 'node:fs/promi
 import { tmpdir } from 'node:os';
 import path from 'node:path';
 import { fileURLToPath, pathToFileURL } from 'node:url';
-import { chromium, type Browser } from 'playwright-core';
+import type { Browser } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { compare } from '../src/commands/compare.js';
 import { plot } from '../src/commands/plot.js';
+import { CHROMIUM, browserRunsHere as runsHere, launchChromium, openPage, overflowOf } from './helpers/browser.js';
 
-const CHROMIUM = '/usr/bin/chromium';
 const ROOT = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '..');
 const FIXTURE = path.join(ROOT, 'test/fixtures/studies/hyperband-generated.json');
 const OTHER_FIXTURE = path.join(ROOT, 'test/fixtures/studies/random-five.json');
 const SCREENSHOTS = path.join(ROOT, 'test-output');
-
-// Under CI the lead's script installs chromium, so a missing browser there is a failure, not a skip.
-const runsHere = existsSync(CHROMIUM) || (process.env.CI ?? '') !== '';
 
 describe.runIf(runsHere)('report.html in headless Chromium', () => {
   let dir: string;
@@ -37,10 +34,7 @@ describe.runIf(runsHere)('report.html in headless Chromium', () => {
     await copyFile(OTHER_FIXTURE, path.join(dir, 'other', 'study.json'));
     const compared = await compare({ dirs: [dir, path.join(dir, 'other')] });
     comparisonUrl = pathToFileURL(compared.files.find((f) => f.endsWith('report.html'))!).href;
-    browser = await chromium.launch({
-      executablePath: CHROMIUM,
-      args: ['--headless', '--no-sandbox', '--disable-gpu', '--disable-quic', '--no-first-run', '--disable-background-networking', '--disable-component-update', '--disable-sync'],
-    });
+    browser = await launchChromium();
   });
 
   afterAll(async () => {
@@ -65,16 +59,7 @@ describe.runIf(runsHere)('report.html in headless Chromium', () => {
   for (const { page: pageName, url, charts, table } of pages)
   for (const width of [1400, 800]) {
     it(`${pageName}: opens offline at ${width} px with no console errors, requests nothing but itself, draws marks in every chart and cuts nothing off`, async () => {
-      const page = await browser.newPage({ viewport: { width, height: 900 } });
-      const errors: string[] = [];
-      const requests: string[] = [];
-      page.on('console', (message) => {
-        if (message.type() === 'error') errors.push(message.text());
-      });
-      page.on('pageerror', (error) => errors.push(error.message));
-      page.on('request', (request) => requests.push(request.url()));
-
-      await page.goto(url(), { waitUntil: 'load' });
+      const { page, errors, requests } = await openPage(browser, url(), width);
 
       expect(errors).toEqual([]);
       expect(requests).toEqual([url()]);
@@ -96,11 +81,7 @@ describe.runIf(runsHere)('report.html in headless Chromium', () => {
       expect(await page.$(table)).not.toBeNull();
 
       // Nothing is cut off: the page does not scroll sideways and every chart and table fits the window.
-      // Written as page source: the test project is typed for Node, without the DOM.
-      const overflow = (await page.evaluate(`({
-        page: document.documentElement.scrollWidth - window.innerWidth,
-        boxes: [...document.querySelectorAll('figure svg, table')].map((el) => Math.ceil(el.getBoundingClientRect().right) - window.innerWidth).filter((over) => over > 0),
-      })`)) as { page: number; boxes: number[] };
+      const overflow = await overflowOf(page, 'figure svg, table');
       expect(overflow.page).toBeLessThanOrEqual(0);
       expect(overflow.boxes).toEqual([]);
 

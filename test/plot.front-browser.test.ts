@@ -2,21 +2,17 @@
  * The report's front chart (a study with a second goal) in a real browser, like the other charts:
  * drawn, with the front's places, the winner's band over folds, nothing requested, nothing cut off.
  */
-import { existsSync } from 'node:fs';
 import { rm } from 'node:fs/promises';
 import path from 'node:path';
 import { pathToFileURL } from 'node:url';
-import { chromium, type Browser } from 'playwright-core';
+import type { Browser } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { plot } from '../src/commands/plot.js';
 import { runStudy } from '../src/runner/run-study.js';
 import { frontChart } from '../src/plot/specs.js';
+import { CHROMIUM, browserRunsHere as runsHere, launchChromium, openPage, overflowOf } from './helpers/browser.js';
 import { tinyStudy, writeTinyStudy } from './helpers/studies.js';
 import type { StudyDocument } from '../src/store/types.js';
-
-const CHROMIUM = '/usr/bin/chromium';
-// Under CI the lead's script installs chromium, so a missing browser there is a failure, not a skip.
-const runsHere = existsSync(CHROMIUM) || (process.env.CI ?? '') !== '';
 
 describe.runIf(runsHere)('the front chart in headless Chromium', () => {
   let root: string;
@@ -38,7 +34,7 @@ describe.runIf(runsHere)('the front chart in headless Chromium', () => {
     doc = (await runStudy(file, { out: dir })).doc;
     const { files } = await plot({ dir });
     reportUrl = pathToFileURL(files.find((f) => f.endsWith('report.html'))!).href;
-    browser = await chromium.launch({ executablePath: CHROMIUM, args: ['--headless', '--no-sandbox', '--disable-gpu', '--no-first-run', '--disable-background-networking', '--disable-component-update', '--disable-sync'] });
+    browser = await launchChromium();
   }, 180_000);
 
   afterAll(async () => {
@@ -52,15 +48,7 @@ describe.runIf(runsHere)('the front chart in headless Chromium', () => {
   });
 
   it('opens offline with no console errors, draws the front by place and the winner\'s band, and cuts nothing off', async () => {
-    const page = await browser.newPage({ viewport: { width: 1000, height: 900 } });
-    const errors: string[] = [];
-    const requests: string[] = [];
-    page.on('console', (message) => {
-      if (message.type() === 'error') errors.push(message.text());
-    });
-    page.on('pageerror', (error) => errors.push(error.message));
-    page.on('request', (request) => requests.push(request.url()));
-    await page.goto(reportUrl, { waitUntil: 'load' });
+    const { page, errors, requests } = await openPage(browser, reportUrl, 1000);
     expect(errors).toEqual([]);
     expect(requests).toEqual([reportUrl]);
     expect(await page.textContent('body')).toContain('What does a smaller or faster network cost in score?');
@@ -70,10 +58,7 @@ describe.runIf(runsHere)('the front chart in headless Chromium', () => {
     expect(titles.some((t) => /place 1 on the front/.test(t))).toBe(true);
     // The band of one standard error over the 3 folds, from the study itself.
     expect(titles.some((t) => /one standard error over 3 folds/.test(t))).toBe(true);
-    const overflow = (await page.evaluate(`({
-      page: document.documentElement.scrollWidth - window.innerWidth,
-      boxes: [...document.querySelectorAll('section#chart-front figure svg')].map((el) => Math.ceil(el.getBoundingClientRect().right) - window.innerWidth).filter((over) => over > 0),
-    })`)) as { page: number; boxes: number[] };
+    const overflow = await overflowOf(page, 'section#chart-front figure svg');
     expect(overflow.page).toBeLessThanOrEqual(0);
     expect(overflow.boxes).toEqual([]);
     await page.close();
