@@ -2,7 +2,7 @@
 // Tabular Data", NeurIPS 2021, section 3.2, from memory): layer 0 maps the inputs to the residual stream; block b
 // is layers 1 + 2b (reads the normalised stream, activation, dropout) and 2 + 2b (dropout, added to
 // the stream); the output layer reads the activation of the normalised stream. The plain stack's
-// step (index.ts) is untouched; this is its counterpart for residual networks, sharing its batch
+// step (index.ts) stays as it was; this is its counterpart for residual networks, sharing its batch
 // gather (batch.ts), its loss with label smoothing (smoothed-losses.ts) and its update after the
 // backward pass for weight decay and clipping (regularisers.ts).
 import { activateRows, backRows, multiplyRows } from './activations';
