@@ -3,7 +3,7 @@
 // src/engine/. Nothing here allocates.
 import { activateRows, backRows, multiplyRows } from './activations';
 import {
-  ACTIVATED, ACTIVATION, BATCH_X, BATCH_Y, BETA1, BETA2, BIAS, BIAS_GRADIENT, BIAS_SLOT1, BIAS_SLOT2, CLASS_WEIGHTS, constant, DELTA, DEPTH, DROPOUT,
+  ACTIVATED, ACTIVATION, BATCH_X, BETA1, BETA2, BIAS, BIAS_GRADIENT, BIAS_SLOT1, BIAS_SLOT2, constant, DELTA, DEPTH, DROPOUT,
   FAN_IN, FAN_OUT, IN_STRIDE, KERNEL, KERNEL_GRADIENT, KERNEL_SLOT1, KERNEL_SLOT2, L2, layerField, MASK, OPTIMIZER, OUT_STRIDE,
   OUTPUT, OUTPUTS, POWER1, POWER2, PRE_ACTIVATION, SCRATCH, setConstant, TASK, TWICE_L2, UPDATE, word, pointer, BLOCKS,
 } from './layout';
@@ -13,8 +13,7 @@ import { columnSums, gemm, gemmTransposedA, transpose } from './matmul';
 import { addL2, update } from './optimizers';
 import { updateAfterBackward, updatesAfterBackward } from './regularisers';
 import { forwardResidual, residualOutputLayer, trainResidualStep } from './residual';
-import { smoothedOutputLoss } from './smoothed-losses';
-import { SMOOTHING_KEEP, SMOOTHING_SHARE } from './layout';
+import { trainingLoss } from './smoothed-losses';
 
 export { gemm } from './matmul';
 
@@ -66,13 +65,9 @@ export function trainStep(net: usize, start: i32, rows: i32): f64 {
   if (word(net, BLOCKS) != 0) return trainResidualStep(net, start, rows);
   const depth = word(net, DEPTH);
   gatherBatch(net, start, rows);
-  const batchX = pointer(net, BATCH_X), batchY = pointer(net, BATCH_Y);
+  const batchX = pointer(net, BATCH_X);
   forward(net, batchX, rows, true);
-  const lastStride = field(net, depth, OUT_STRIDE);
-  const smoothing = constant(net, SMOOTHING_KEEP);
-  const loss = smoothing != 0
-    ? smoothedOutputLoss(word(net, TASK), address(net, depth, PRE_ACTIVATION), address(net, depth, ACTIVATED), address(net, depth, DELTA), lastStride, rows, word(net, OUTPUTS), batchY, rows, pointer(net, CLASS_WEIGHTS), smoothing, constant(net, SMOOTHING_SHARE))
-    : outputLoss(word(net, TASK), address(net, depth, PRE_ACTIVATION), address(net, depth, ACTIVATED), address(net, depth, DELTA), lastStride, rows, word(net, OUTPUTS), batchY, rows, pointer(net, CLASS_WEIGHTS));
+  const loss = trainingLoss(net, depth, rows);
 
   const kind = word(net, ACTIVATION);
   const optimizer = word(net, OPTIMIZER);

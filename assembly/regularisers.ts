@@ -3,9 +3,12 @@
 // (Pascanu, Mikolov, Bengio, "On the difficulty of training recurrent neural networks", ICML 2013,
 // Algorithm 1). Both need every layer's gradient before any update (clipping needs the norm of all of
 // them), so with either on the step leaves the gradients (L2 term included) and updates afterwards.
+// The plain step (index.ts) and the residual one (residual.ts) both end here; a layer that reads a
+// layer normalisation (residual blocks) has its gain and bias clipped and updated with it, never decayed.
 import {
-  BIAS, BIAS_GRADIENT, BIAS_SLOT1, BIAS_SLOT2, constant, FAN_IN, KERNEL, KERNEL_GRADIENT, KERNEL_SLOT1, KERNEL_SLOT2, layerField,
-  MAX_GRADIENT_NORM, OUT_STRIDE, UPDATE_AFTER_BACKWARD, WEIGHT_DECAY_STEP, word,
+  BIAS, BIAS_GRADIENT, BIAS_SLOT1, BIAS_SLOT2, constant, FAN_IN, IN_STRIDE, KERNEL, KERNEL_GRADIENT, KERNEL_SLOT1, KERNEL_SLOT2, layerField,
+  MAX_GRADIENT_NORM, NORM_BIAS, NORM_BIAS_GRADIENT, NORM_BIAS_SLOT1, NORM_BIAS_SLOT2, NORM_GAIN, NORM_GAIN_GRADIENT, NORM_GAIN_SLOT1,
+  NORM_GAIN_SLOT2, OUT_STRIDE, UPDATE_AFTER_BACKWARD, WEIGHT_DECAY_STEP, word,
 } from './layout';
 import { update } from './optimizers';
 
@@ -44,13 +47,26 @@ function scale(g: usize, count: i32, factor: f32): void {
   }
 }
 
-/** The norm of every kernel and bias gradient together (layers 0 .. depth). */
+/** Whether layer l reads a layer normalisation (residual blocks), whose gain and bias then train with it. */
+// @ts-ignore: decorator
+@inline function readsNorm(net: usize, l: i32): bool {
+  return layerField(net, l, NORM_GAIN) != 0;
+}
+
+/**
+ * The norm of every gradient together (layers 0 .. depth: kernels, biases, and the gains and
+ * biases of the layer normalisations the layers read).
+ */
 export function gradientNorm(net: usize, depth: i32): f64 {
   let total: f64 = 0;
   for (let l = 0; l <= depth; l++) {
     const outStride = layerField(net, l, OUT_STRIDE);
     total += sumOfSquares(<usize>layerField(net, l, KERNEL_GRADIENT), layerField(net, l, FAN_IN) * outStride);
     total += sumOfSquares(<usize>layerField(net, l, BIAS_GRADIENT), outStride);
+    if (!readsNorm(net, l)) continue;
+    const normStride = layerField(net, l, IN_STRIDE);
+    total += sumOfSquares(<usize>layerField(net, l, NORM_GAIN_GRADIENT), normStride);
+    total += sumOfSquares(<usize>layerField(net, l, NORM_BIAS_GRADIENT), normStride);
   }
   return Math.sqrt(total);
 }
@@ -64,13 +80,25 @@ function clipGradients(net: usize, depth: i32, limit: f32): void {
     const outStride = layerField(net, l, OUT_STRIDE);
     scale(<usize>layerField(net, l, KERNEL_GRADIENT), layerField(net, l, FAN_IN) * outStride, factor);
     scale(<usize>layerField(net, l, BIAS_GRADIENT), outStride, factor);
+    if (!readsNorm(net, l)) continue;
+    const normStride = layerField(net, l, IN_STRIDE);
+    scale(<usize>layerField(net, l, NORM_GAIN_GRADIENT), normStride, factor);
+    scale(<usize>layerField(net, l, NORM_BIAS_GRADIENT), normStride, factor);
   }
+}
+
+/** The optimizer step of layer l's normalisation gain and bias (not decayed: see updateAfterBackward). */
+function updateNorm(net: usize, l: i32, optimizer: i32): void {
+  const stride = layerField(net, l, IN_STRIDE);
+  update(optimizer, <usize>layerField(net, l, NORM_GAIN), <usize>layerField(net, l, NORM_GAIN_GRADIENT), <usize>layerField(net, l, NORM_GAIN_SLOT1), <usize>layerField(net, l, NORM_GAIN_SLOT2), stride, false, net);
+  update(optimizer, <usize>layerField(net, l, NORM_BIAS), <usize>layerField(net, l, NORM_BIAS_GRADIENT), <usize>layerField(net, l, NORM_BIAS_SLOT1), <usize>layerField(net, l, NORM_BIAS_SLOT2), stride, false, net);
 }
 
 /**
  * The optimizer update of every layer once the backward pass has left all gradients (the L2 term
  * already in them): clip them together, decay each kernel (biases are not decayed, as L2 leaves
- * them), then the optimizer's own step.
+ * them, nor are layer-normalisation gains and biases, which scale and shift the normalised stream
+ * rather than add capacity), then the optimizer's own step.
  */
 export function updateAfterBackward(net: usize, depth: i32, optimizer: i32): void {
   const limit = constant(net, MAX_GRADIENT_NORM);
@@ -83,5 +111,6 @@ export function updateAfterBackward(net: usize, depth: i32, optimizer: i32): voi
     if (decayFactor != 0) decay(kernel, kernelCount, decayFactor);
     update(optimizer, kernel, <usize>layerField(net, l, KERNEL_GRADIENT), <usize>layerField(net, l, KERNEL_SLOT1), <usize>layerField(net, l, KERNEL_SLOT2), kernelCount, false, net);
     update(optimizer, <usize>layerField(net, l, BIAS), <usize>layerField(net, l, BIAS_GRADIENT), <usize>layerField(net, l, BIAS_SLOT1), <usize>layerField(net, l, BIAS_SLOT2), outStride, false, net);
+    if (readsNorm(net, l)) updateNorm(net, l, optimizer);
   }
 }

@@ -2,20 +2,23 @@
 // Tabular Data", NeurIPS 2021, section 3.2, from memory): layer 0 maps the inputs to the residual stream; block b
 // is layers 1 + 2b (reads the normalised stream, activation, dropout) and 2 + 2b (dropout, added to
 // the stream); the output layer reads the activation of the normalised stream. The plain stack's
-// step (index.ts) is untouched; this is its counterpart for residual networks.
+// step (index.ts) stays as it was; this is its counterpart for residual networks, sharing its batch
+// gather (batch.ts), its loss with label smoothing (smoothed-losses.ts) and its update after the
+// backward pass for weight decay and clipping (regularisers.ts).
 import { activateRows, backRows, multiplyRows } from './activations';
 import {
-  ACTIVATED, ACTIVATION, BATCH_X, BATCH_Y, BETA1, BETA2, BIAS, BIAS_GRADIENT, BIAS_SLOT1, BIAS_SLOT2, CLASS_WEIGHTS, constant, DELTA, DEPTH, DROPOUT,
+  ACTIVATED, ACTIVATION, BATCH_X, BETA1, BETA2, BIAS, BIAS_GRADIENT, BIAS_SLOT1, BIAS_SLOT2, constant, DELTA, DEPTH, DROPOUT,
   FAN_IN, FAN_OUT, IN_STRIDE, INVERSE_STD, KERNEL, KERNEL_GRADIENT, KERNEL_SLOT1, KERNEL_SLOT2, L2, layerField, MASK, NORM_ACTIVATED, NORM_BIAS,
   NORM_BIAS_GRADIENT, NORM_BIAS_SLOT1, NORM_BIAS_SLOT2, NORM_DELTA, NORM_GAIN, NORM_GAIN_GRADIENT, NORM_GAIN_SLOT1, NORM_GAIN_SLOT2, NORM_OUTPUT,
-  NORMALISED, OPTIMIZER, OUT_STRIDE, OUTPUT, OUTPUTS, POWER1, POWER2, PRE_ACTIVATION, RESIDUAL, RESIDUAL_DELTA, SCRATCH, setConstant, TASK,
+  NORMALISED, OPTIMIZER, OUT_STRIDE, OUTPUT, POWER1, POWER2, PRE_ACTIVATION, RESIDUAL, RESIDUAL_DELTA, SCRATCH, setConstant,
   TWICE_L2, UPDATE, word, pointer,
 } from './layout';
 import { gatherBatch } from './batch';
-import { outputLoss } from './losses';
 import { columnSums, gemm, gemmTransposedA, transpose } from './matmul';
 import { addRows, normBack, normRows } from './norm';
 import { addL2, update } from './optimizers';
+import { updateAfterBackward, updatesAfterBackward } from './regularisers';
+import { trainingLoss } from './smoothed-losses';
 
 const ADAM = 2;
 
@@ -72,9 +75,12 @@ export function forwardResidual(net: usize, x: usize, rows: i32, training: bool)
   dense(net, out, address(net, out, NORM_ACTIVATED), rows);
 }
 
-/** Applies the optimizer to a run of `count` parameters, or with UPDATE = 0 only adds the L2 term to the gradient when `l2`. */
+/**
+ * Applies the optimizer to a run of `count` parameters, or only adds the L2 term to the gradient when
+ * `l2` if UPDATE = 0 or the update waits for the whole backward pass (regularisers.ts).
+ */
 function apply(net: usize, w: usize, g: usize, s1: usize, s2: usize, count: i32, l2: bool): void {
-  if (word(net, UPDATE) != 0) update(word(net, OPTIMIZER), w, g, s1, s2, count, l2, net);
+  if (word(net, UPDATE) != 0 && !updatesAfterBackward(net)) update(word(net, OPTIMIZER), w, g, s1, s2, count, l2, net);
   else if (l2) addL2(w, g, count, constant(net, TWICE_L2));
 }
 
@@ -132,17 +138,17 @@ function backBlocks(net: usize, rows: i32): void {
 /** The residual network's training step: the same contract as `trainStep` in index.ts. */
 export function trainResidualStep(net: usize, start: i32, rows: i32): f64 {
   gatherBatch(net, start, rows);
-  const batchX = pointer(net, BATCH_X), batchY = pointer(net, BATCH_Y);
+  const batchX = pointer(net, BATCH_X);
   forwardResidual(net, batchX, rows, true);
   const out = residualOutputLayer(net);
-  const outDelta = address(net, out, DELTA);
-  const loss = outputLoss(word(net, TASK), address(net, out, PRE_ACTIVATION), address(net, out, ACTIVATED), outDelta, field(net, out, OUT_STRIDE), rows, word(net, OUTPUTS), batchY, rows, pointer(net, CLASS_WEIGHTS));
+  const loss = trainingLoss(net, out, rows);
   const normDelta = pointer(net, NORM_DELTA);
-  backDense(net, out, address(net, out, NORM_ACTIVATED), outDelta, rows, normDelta);
+  backDense(net, out, address(net, out, NORM_ACTIVATED), address(net, out, DELTA), rows, normDelta);
   backRows(word(net, ACTIVATION), address(net, out, NORM_OUTPUT), address(net, out, NORM_ACTIVATED), normDelta, field(net, out, IN_STRIDE), rows);
   backNorm(net, out, normDelta, rows, false);
   backBlocks(net, rows);
   backDense(net, 0, batchX, pointer(net, RESIDUAL_DELTA), rows, 0);
+  if (word(net, UPDATE) != 0 && updatesAfterBackward(net)) updateAfterBackward(net, out, word(net, OPTIMIZER));
   if (word(net, UPDATE) != 0 && word(net, OPTIMIZER) == ADAM) {
     setConstant(net, POWER1, constant(net, POWER1) * constant(net, BETA1));
     setConstant(net, POWER2, constant(net, POWER2) * constant(net, BETA2));

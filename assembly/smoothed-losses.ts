@@ -3,7 +3,11 @@
 // keep * [c == label] + share, keep = 1 - epsilon and share = epsilon / classes (binary: the 0/1 label
 // y becomes keep * y + share with share = epsilon / 2), as tf.losses.softmaxCrossEntropy and
 // tf.losses.sigmoidCrossEntropy smooth their labels. Training only; the validation loss keeps the true labels.
-import { BINARY, MULTICLASS } from './losses';
+// The plain step (index.ts) and the residual one (residual.ts) both take their loss from `trainingLoss`.
+import {
+  ACTIVATED, BATCH_Y, CLASS_WEIGHTS, constant, DELTA, layerField, OUT_STRIDE, OUTPUTS, pointer, PRE_ACTIVATION, SMOOTHING_KEEP, SMOOTHING_SHARE, TASK, word,
+} from './layout';
+import { BINARY, MULTICLASS, outputLoss } from './losses';
 
 /** Binary: one row's loss from logit x and smoothed target t; writes the probability and the gradient (times `scale`). */
 // @ts-ignore: decorator
@@ -56,4 +60,18 @@ export function smoothedOutputLoss(task: i32, z: usize, p: usize, d: usize, ld: 
     if (d != 0) for (let c = outputs; c < ld; c++) store<f32>(d + row + (<usize>c << 2), 0);
   }
   return total;
+}
+
+/**
+ * The training step's summed batch loss at output layer `out` (logits in its PRE_ACTIVATION, labels in
+ * BATCH_Y): the output function into its ACTIVATED, the loss gradient into its DELTA, against smoothed
+ * targets when label smoothing is on.
+ */
+export function trainingLoss(net: usize, out: i32, rows: i32): f64 {
+  const z = <usize>layerField(net, out, PRE_ACTIVATION), p = <usize>layerField(net, out, ACTIVATED), d = <usize>layerField(net, out, DELTA);
+  const ld = layerField(net, out, OUT_STRIDE);
+  const keep = constant(net, SMOOTHING_KEEP);
+  return keep != 0
+    ? smoothedOutputLoss(word(net, TASK), z, p, d, ld, rows, word(net, OUTPUTS), pointer(net, BATCH_Y), rows, pointer(net, CLASS_WEIGHTS), keep, constant(net, SMOOTHING_SHARE))
+    : outputLoss(word(net, TASK), z, p, d, ld, rows, word(net, OUTPUTS), pointer(net, BATCH_Y), rows, pointer(net, CLASS_WEIGHTS));
 }

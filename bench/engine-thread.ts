@@ -1,9 +1,11 @@
 /**
  * The engine's own figures in a thread of their own: its matrix-product kernel beside tfjs-wasm's
- * matMul at the same sizes, a whole training step at 4x256 batch 256, and the validation pass.
+ * matMul at the same sizes, a whole training step at 4x256 batch 256, the validation pass, and what
+ * the regularisers (weight decay, clipping, label smoothing) add to a plain and a residual step.
  */
 import { parentPort, workerData } from 'node:worker_threads';
 import * as tf from '@tensorflow/tfjs';
+import type { TrialConfiguration } from '../src/core/configuration.js';
 import { EngineTrial } from '../src/trainers/engine/trial.js';
 import { align16, engine, reserve } from '../src/trainers/engine/module.js';
 import { initBackend } from '../src/trainers/tfjs/backend.js';
@@ -17,10 +19,18 @@ export interface KernelSample {
   tfjsGflops: number;
 }
 
+/** One network's epochs with the regularisers off and with all three on, alternating: milliseconds of each pair. */
+export interface RegulariserSample {
+  network: string;
+  rows: number;
+  pairs: { offMs: number; onMs: number }[];
+}
+
 export interface EngineSample {
   kernels: KernelSample[];
   step: { network: string; batchSize: number; samplesPerSecond: number; gflops: number };
   validation: { rows: number; evaluateMs: number; metricsMs: number; epochMs: number };
+  regularisers: RegulariserSample[];
 }
 
 const { quick } = workerData as { quick: boolean };
@@ -87,7 +97,45 @@ function wholeStep(seconds: number): Pick<EngineSample, 'step' | 'validation'> {
   };
 }
 
+/** The regularisers' settings of the comparison: all three on, at values a search draws. */
+const ALL_REGULARISERS = { weightDecay: 1e-4, maxGradientNorm: 1, labelSmoothing: 0.1 } as const;
+
+/**
+ * Samples per second of a plain 4x256 and a residual 2-block 256-wide network (batch 256, Adam), with
+ * the regularisers off and on in alternating epochs of 1024 rows of one trial (its regulariser words
+ * rewritten before each epoch), so that each pair shares the machine's load of the moment.
+ */
+function regulariserCost(seconds: number): RegulariserSample[] {
+  const rows = 1024;
+  const dataset = benchDataset(rows, 256, 20, 3);
+  const base: TrialConfiguration = { depth: 4, width: 256, activation: 'relu', learningRate: 1e-3, batchSize: 256, optimizer: 'adam', l2: 0, dropout: 0 };
+  const networks: { network: string; configuration: TrialConfiguration }[] = [
+    { network: 'plain 4x256', configuration: base },
+    { network: 'residual 2 blocks x 256', configuration: { ...base, depth: 2, block: 'residual' } },
+  ];
+  return networks.map(({ network, configuration }) => {
+    const on = { ...configuration, ...ALL_REGULARISERS };
+    const trial = EngineTrial.create({ trialId: 1, seed: 7, configuration: on, dataset });
+    const timed = (settings: TrialConfiguration, epoch: number): number => {
+      trial.setRegularisers(settings);
+      const started = performance.now();
+      trial.trainEpoch(epoch);
+      return performance.now() - started;
+    };
+    timed(configuration, 0);
+    timed(on, 0);
+    const pairs: RegulariserSample['pairs'] = [];
+    let spent = 0;
+    while (spent < seconds * 2000 || pairs.length < 5) {
+      const pair = { offMs: timed(configuration, 2 * pairs.length + 1), onMs: timed(on, 2 * pairs.length + 2) };
+      pairs.push(pair);
+      spent += pair.offMs + pair.onMs;
+    }
+    return { network, rows, pairs };
+  });
+}
+
 await initBackend();
 const seconds = quick ? 0.3 : 1.5;
-const sample: EngineSample = { kernels: kernels(seconds), ...wholeStep(seconds) };
+const sample: EngineSample = { kernels: kernels(seconds), ...wholeStep(seconds), regularisers: regulariserCost(seconds) };
 parentPort!.postMessage(sample);

@@ -4,7 +4,9 @@
 // studies as they were is checked by comparing this output with the same script run on the build
 // from before the change (test/regularisers.unchanged.test.ts holds one such recording).
 //
-//   node scripts/demo-curves.mjs [DIST] [TRIALS] [EPOCHS]
+//   node scripts/demo-curves.mjs [DIST] [TRIALS] [EPOCHS] [STUDY]
+//
+// STUDY is a study file's path from the repository (default studies/demo/study.json).
 import { readFileSync } from 'node:fs';
 import path from 'node:path';
 import { pathToFileURL } from 'node:url';
@@ -21,7 +23,7 @@ const { configurationForTrial } = await load('src/space/sample.js');
 const { trialSeed } = await load('src/random/streams.js');
 const { trainSegmentOnEngine } = await load('src/trainers/engine/segment.js');
 
-const studyFile = path.join(root, 'studies/demo/study.json');
+const studyFile = path.join(root, process.argv[5] ?? 'studies/demo/study.json');
 const definition = studySchema.parse(JSON.parse(readFileSync(studyFile, 'utf8')));
 const { data } = await prepareData(definition.data, studyFile);
 const dataset = toSharedDataset(data, 'demo');

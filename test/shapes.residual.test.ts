@@ -12,7 +12,6 @@ import { weightCount } from '../src/core/size.js';
 import { networkTrainingBytes, trainingBytes } from '../src/study/capacity.js';
 import { stream } from '../src/random/streams.js';
 import { networkWeights } from '../src/trainers/engine/checkpoint-state.js';
-import type { EngineTrial } from '../src/trainers/engine/trial.js';
 import { initBackend } from '../src/trainers/tfjs/backend.js';
 import { disposeNetwork, forward, l2Penalty, layerNorm, lossFromLogits, outputFromLogits } from '../src/trainers/tfjs/network.js';
 import { trainSegment } from '../src/trainers/tfjs/loop.js';
@@ -22,20 +21,11 @@ import type { ExportConfiguration } from '../src/export/configuration.js';
 import { buildLayersModel, predictRows } from '../src/export/model-files.js';
 import { onnxModelBytes } from '../src/export/onnx.js';
 import { NORM_EPSILON } from '../src/trainers/shared/layer-plan.js';
-import { labelTensor, relativeError, twinNetworks } from './helpers/engine.js';
+import { labelTensor, relativeError, residualGradients, twinNetworks } from './helpers/engine.js';
 import { baseParams, syntheticDataset } from './helpers/synthetic.js';
 
 beforeAll(() => initBackend());
 afterAll(() => tf.disposeVariables());
-
-/** The engine's gradients in the network's variable order: per layer its normalisation's gain and bias (when it reads one), kernel, bias. */
-function residualGradients(trial: EngineTrial): Float32Array[] {
-  return trial.layers.flatMap((layer) => [
-    ...(layer.plan.norm ? [trial.readMatrix(layer.at.normGainGradient, layer.inStride, 1, layer.fanIn), trial.readMatrix(layer.at.normBiasGradient, layer.inStride, 1, layer.fanIn)] : []),
-    trial.readMatrix(layer.at.kernelGradient, layer.outStride, layer.fanIn, layer.fanOut),
-    trial.readMatrix(layer.at.biasGradient, layer.outStride, 1, layer.fanOut),
-  ]);
-}
 
 describe('layer normalisation of the tfjs path', () => {
   it('computes what tf.layers.layerNormalization computes (within 1e-5)', () => {

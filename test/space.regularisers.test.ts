@@ -117,11 +117,10 @@ describe('regularisers in the search space', () => {
     expect(messageOf(regression)).toBe('study.json: space.labelSmoothing: is for classification; a regression task has no labels to smooth, leave it out');
   });
 
-  it('are refused beside residual blocks, whose training step has no pass after the backward one where they act', () => {
+  it('are searched beside residual blocks too (the residual step applies all three)', () => {
     const result = spaceSchema.safeParse({ ...plain, ...regularisers, block: ['plain', 'residual'] });
-    expect(result.success).toBe(false);
-    expect(result.error?.issues.map((issue) => issue.path.join('.'))).toEqual(['weightDecay', 'maxGradientNorm', 'labelSmoothing']);
-    expect(result.error?.issues[0]!.message).toMatch(/cannot be searched together with block "residual" yet/);
-    expect(spaceSchema.safeParse({ ...plain, ...regularisers, block: ['plain'] }).success).toBe(true);
+    expect(result.success).toBe(true);
+    expect(result.data?.block).toEqual(['plain', 'residual']);
+    expect(result.data?.weightDecay).toEqual(spaceSchema.parse({ ...plain, ...regularisers }).weightDecay);
   });
 });

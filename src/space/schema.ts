@@ -165,22 +165,7 @@ export const spaceSchema = z.strictObject({
     .lt(1)
     .optional()
     .describe('The beta of the "effective" class weighting, in (0, 1): near 1 it approaches "balanced", smaller values soften it; default 0.999.'),
-}).superRefine(residualWithoutRegularisers);
-
-/**
- * The engine's residual step updates each layer during the backward pass and has no pass after it,
- * where decoupled weight decay and gradient-norm clipping act, and computes the plain loss without
- * label smoothing: so these are refused together
- * rather than silently left out.
- */
-function residualWithoutRegularisers(space: { block?: readonly string[] | undefined; weightDecay?: unknown; maxGradientNorm?: unknown; labelSmoothing?: unknown }, ctx: z.RefinementCtx): void {
-  if (!space.block?.includes('residual')) return;
-  for (const key of ['weightDecay', 'maxGradientNorm', 'labelSmoothing'] as const) {
-    if (space[key] !== undefined) ctx.addIssue({ code: 'custom', path: [key], message: `cannot be searched together with block "residual" yet (residual blocks train without it); drop ${key} or the residual block` });
-  }
-}
-
-
+});
 
 /** A validated search space with defaults applied. */
 export type SearchSpace = z.output<typeof spaceSchema>;

@@ -21,6 +21,15 @@ export function engineGradients(trial: EngineTrial): Float32Array[] {
   ]);
 }
 
+/** The gradients in the tfjs network's variable order: per layer its normalisation's gain and bias (when it reads one), kernel, bias. */
+export function residualGradients(trial: EngineTrial): Float32Array[] {
+  return trial.layers.flatMap((layer) => [
+    ...(layer.plan.norm ? [trial.readMatrix(layer.at.normGainGradient, layer.inStride, 1, layer.fanIn), trial.readMatrix(layer.at.normBiasGradient, layer.inStride, 1, layer.fanIn)] : []),
+    trial.readMatrix(layer.at.kernelGradient, layer.outStride, layer.fanIn, layer.fanOut),
+    trial.readMatrix(layer.at.biasGradient, layer.outStride, 1, layer.fanOut),
+  ]);
+}
+
 /**
  * An engine trial and a tfjs network with the same weights: the seeded initial kernels, and
  * biases drawn from `rng` (so that bias paths are exercised with non-zero values).

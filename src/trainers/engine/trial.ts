@@ -129,6 +129,11 @@ export class EngineTrial {
     setWeightDecayStep(this.net, this.spec.configuration, learningRate);
   }
 
+  /** Rewrites the regularisers' words for `configuration`'s (benchmarks time one trial's steps with and without them). */
+  setRegularisers(configuration: TrialConfiguration): void {
+    writeRegularisers(this.net, configuration, this.spec.dataset);
+  }
+
   /** 1 applies the optimizer after each step's gradients, 0 leaves the gradients only (for checking). */
   setUpdating(updating: boolean): void {
     new Int32Array(engine().memory.buffer, this.net, WORD.scratch + 1)[WORD.update] = updating ? 1 : 0;

@@ -51,7 +51,9 @@ function denseLayer(plan: DenseLayerPlan, rule: InitRule, rng: Rng): DenseLayer 
   const bias = tf.tidy(() => tf.variable(tf.zeros([fanOut]), true, `${prefix}/bias`));
   if (!plan.norm) return { kernel, bias, plan };
   // Gains start at one and biases at zero (Ba et al. 2016): the normalised input as it is.
-  const norm = { gain: tf.variable(tf.ones([fanIn]), true, `${plan.norm.prefix}/gain`), bias: tf.variable(tf.zeros([fanIn]), true, `${plan.norm.prefix}/bias`) };
+  // Made in a tidy scope, as the kernel is, so the initial ones and zeros are released.
+  const normPrefix = plan.norm.prefix;
+  const norm = tf.tidy(() => ({ gain: tf.variable(tf.ones([fanIn]), true, `${normPrefix}/gain`), bias: tf.variable(tf.zeros([fanIn]), true, `${normPrefix}/bias`) }));
   return { kernel, bias, plan, norm };
 }
 
