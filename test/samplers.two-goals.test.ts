@@ -7,6 +7,13 @@
  * IEEE TEC 6(2), 2002, section III-A (the fronts).
  */
 import { describe, expect, it } from 'vitest';
+import { stream } from '../src/random/streams.js';
+import { sobolDesign, type UnitDesign } from '../src/samplers/design.js';
+import { simulate } from '../src/samplers/simulate.js';
+import type { Job } from '../src/samplers/sampler.js';
+import { TpeSampler, tpePlugin } from '../src/samplers/tpe.js';
+import type { TrialConfiguration } from '../src/core/configuration.js';
+import { PLACEHOLDER_PARAMS, median } from './helpers/test-functions.js';
 import { hypervolumeContributions, orderByFronts, referencePoint, secondGoalMeasure, type TwoGoalObservation } from '../src/samplers/two-goals.js';
 import { splitObservations, type Observation } from '../src/samplers/tpe-model.js';
 import { weightCount } from '../src/core/size.js';
@@ -140,5 +147,75 @@ describe('what TPE weighs the loss against', () => {
   it("time: the forward pass's multiply-adds per row, known before training", () => {
     // 10 x 8 + 8 x 8 + 8 x 1 = 152.
     expect(secondGoalMeasure('time', { inputs: 10, outputs: 1 })(network)).toBe(152);
+  });
+});
+
+/**
+ * ZDT1 on 6 variables in [0, 1]: f1 = x1, g = 1 + 9 (x2 + ... + x6) / 5, f2 = g (1 - sqrt(f1 / g)), both
+ * minimised; the Pareto front is g = 1, f2 = 1 - sqrt(f1). Source: Zitzler, Deb, Thiele, "Comparison of
+ * Multiobjective Evolutionary Algorithms: Empirical Results", Evolutionary Computation 8(2), 2000,
+ * section 4 (the paper uses 30 variables; From memory).
+ */
+const ZDT1_VARIABLES = 6;
+const zdt1Second = (x: readonly number[]): number => {
+  const g = 1 + (9 / (ZDT1_VARIABLES - 1)) * x.slice(1).reduce((sum, v) => sum + v, 0);
+  return g * (1 - Math.sqrt(x[0]! / g));
+};
+const ZDT1_REFERENCE: [number, number] = [1.1, 11];
+/** The Pareto front's hypervolume up to (1.1, 11): the integral of 11 - (1 - sqrt(f1)) over [0, 1], plus 0.1 x 11 = 11 - 1 + 2/3 + 1.1. */
+const ZDT1_BEST_VOLUME = 11 - 1 + 2 / 3 + 1.1;
+
+/** The (f1, f2) points of `trials` ZDT1 evaluations proposed by TPE with both goals, TPE with f1 alone, or drawn at random. */
+function zdt1Points(seed: number, proposer: 'two goals' | 'one goal' | 'random', trials: number): [number, number][] {
+  const dimensions = Array.from({ length: ZDT1_VARIABLES }, (_, j) => ({ kind: 'numeric' as const, name: `x${j + 1}`, min: 0, max: 1, log: false, integer: false }));
+  if (proposer === 'random') {
+    return Array.from({ length: trials }, (_, trialId) => {
+      const rng = stream(seed, 'random', trialId);
+      const x = dimensions.map(() => rng());
+      return [x[0]!, zdt1Second(x)];
+    });
+  }
+  // Each trial's configuration is a fresh object, so the second goal can find the point it was made from.
+  const pointOf = new WeakMap<TrialConfiguration, readonly number[]>();
+  const configurationAt = (point: readonly number[]): TrialConfiguration => {
+    const configuration = { ...PLACEHOLDER_PARAMS };
+    pointOf.set(configuration, point);
+    return configuration;
+  };
+  const design: UnitDesign = { dimensions, configurationAt };
+  const settings = tpePlugin.schema.parse({ kind: 'tpe', seed });
+  const sampler = new TpeSampler({
+    trials,
+    maxEpochs: 1,
+    design,
+    startupPoint: sobolDesign(dimensions, 'shift', stream(seed, 'design')),
+    trialsBeforeModel: settings.trialsBeforeModel,
+    batchSize: settings.batchSize,
+    asynchronous: false,
+    model: settings,
+    proposalStream: (trialId) => stream(seed, 'propose', trialId),
+    ...(proposer === 'two goals' ? { secondGoal: (configuration: TrialConfiguration) => zdt1Second(pointOf.get(configuration)!) } : {}),
+  });
+  const points: [number, number][] = [];
+  const loss = (job: Job): number => {
+    const x = sampler.pointOf(job.trialId)!;
+    points.push([x[0]!, zdt1Second(x)]);
+    return x[0]!;
+  };
+  simulate(sampler, { threads: 2, loss });
+  return points;
+}
+
+describe('TPE with two goals on ZDT1', () => {
+  const seeds = Array.from({ length: 20 }, (_, seed) => seed);
+  const gap = (proposer: 'two goals' | 'one goal' | 'random') => median(seeds.map((seed) => ZDT1_BEST_VOLUME - hypervolume(zdt1Points(seed, proposer, 60), ZDT1_REFERENCE)));
+
+  it("over 20 seeds, 60 evaluations leave a hypervolume gap to the Pareto front well under random search's and TPE-on-f1-alone's", () => {
+    // Deterministic given the seeds. Measured once: median gaps 1.12 (two goals), 2.36 (random), 2.97
+    // (f1 alone); the margins leave room for last-bit differences in Math.exp between machines.
+    const twoGoals = gap('two goals');
+    expect(twoGoals).toBeGreaterThan(0);
+    expect(twoGoals).toBeLessThan(0.6 * gap('random'));
+    expect(twoGoals).toBeLessThan(0.5 * gap('one goal'));
   });
 });
