@@ -2,7 +2,7 @@
  * TPE and TPE inside Hyperband in whole studies with a second goal (`footprint.against`), on a
  * transport that evaluates a closed-form function in place of training: the same trials with 1 and 2
  * at once and after an interruption and a resume, and other trials than the same study with one goal
- * (the split follows both goals). Source: Ozaki, Tanigaki, Watanabe, Onishi, GECCO 2020 (the split,
+ * (the split follows both goals); and both samplers on a virtual clock, replayed at several points. Source: Ozaki, Tanigaki, Watanabe, Onishi, GECCO 2020 (the split,
  * see test/samplers.two-goals.test.ts).
  */
 import path from 'node:path';
@@ -14,6 +14,11 @@ import type { StudyDefinitionInput } from '../src/study/definition.js';
 import type { TrialConfiguration } from '../src/core/configuration.js';
 import { ClosedFormTransport } from '../src/transports/closed-form.js';
 import { runUntilTrialsFinished, tinyStudy, writeTinyStudy } from './helpers/studies.js';
+import { unevenDuration } from './helpers/test-functions.js';
+import { createSampler, replay, secondGoalMeasure, simulate, type Job } from '../src/samplers/index.js';
+import { samplerSchema } from '../src/samplers/registry.js';
+import { budgetSchema } from '../src/core/budget.js';
+import { spaceSchema } from '../src/space/schema.js';
 
 /**
  * Best near learning rate 0.02 and with wide networks, so the score and the network's size pull apart;
@@ -64,5 +69,43 @@ describe.each(definitions)('a %s study against %s on a closed-form transport', (
     const modelled = (trials: typeof one) => trials.filter((t) => t.origin?.method === 'tpe').map((t) => [t.id, t.params]);
     expect(modelled(two).length).toBeGreaterThan(0);
     expect(modelled(two)).not.toEqual(modelled(one));
+  });
+});
+
+describe.each([
+  ['tpe', { kind: 'tpe', seed: 4, trialsBeforeModel: 8, batchSize: 3 }, 24],
+  ['tpe-hyperband', { kind: 'tpe-hyperband', seed: 3, iterations: 2, smallestGroup: 2 }, 34],
+] as const)('the %s sampler with a second goal on a virtual clock', (_kind, sampler, trials) => {
+  const definition = {
+    space: spaceSchema.parse({ depth: { min: 1, max: 3 }, width: { min: 8, max: 128, log: true }, activation: ['relu', 'tanh'], learningRate: { min: 1e-4, max: 1e-1 } }),
+    budget: budgetSchema.parse({ trials, maxEpochs: 9 }),
+    sampler: samplerSchema.parse(sampler),
+    secondGoal: secondGoalMeasure('weights', { inputs: 12, outputs: 1 }),
+  };
+  // Invented: better with wide networks, so the two goals pull apart.
+  const loss = (job: Job) => Math.abs(Math.log10(job.configuration.learningRate) + 2) + 16 / (job.configuration.width * job.configuration.depth) + 1 / job.toEpoch;
+  const key = (job: Job) => JSON.stringify([job.trialId, job.rung, job.fromEpoch, job.toEpoch, job.configuration, job.origin ?? null]);
+
+  it('hands out the same jobs with 1 and 3 threads, and after a replay at any of several points', () => {
+    const one = simulate(createSampler(definition), { threads: 1, loss });
+    const whole = simulate(createSampler(definition), { threads: 3, loss, duration: unevenDuration });
+    expect(whole.jobs.some((job) => job.origin?.method === 'tpe')).toBe(true);
+    expect(whole.jobs.map(key).sort()).toEqual(one.jobs.map(key).sort());
+    for (const reports of [3, 9, 13, 20]) {
+      const crashed = simulate(createSampler(definition), { threads: 3, loss, duration: unevenDuration, stopAfterReports: reports });
+      const resumed = createSampler(definition);
+      const { pending, unused } = replay(resumed, [...crashed.outcomes].reverse());
+      expect(unused).toEqual([]);
+      const rest = simulate(resumed, { threads: 3, loss, duration: unevenDuration, running: pending });
+      const done = new Set(crashed.outcomes.map((o) => `${o.trialId}/${o.rung}`));
+      const ran = [...crashed.jobs.filter((job) => done.has(`${job.trialId}/${job.rung}`)), ...pending, ...rest.jobs];
+      expect(ran.map(key).sort()).toEqual(whole.jobs.map(key).sort());
+    }
+  });
+
+  it('hands out other configurations than without the second goal', () => {
+    const { secondGoal: _secondGoal, ...oneGoal } = definition;
+    const modelled = (jobs: readonly Job[]) => jobs.filter((job) => job.origin?.method === 'tpe').map(key);
+    expect(modelled(simulate(createSampler(definition), { threads: 3, loss }).jobs)).not.toEqual(modelled(simulate(createSampler(oneGoal), { threads: 3, loss }).jobs));
   });
 });
