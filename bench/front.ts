@@ -8,7 +8,12 @@
 import { readFile, rm } from 'node:fs/promises';
 import path from 'node:path';
 import { frontOf } from '../src/core/front.js';
+import { budgetSchema } from '../src/core/budget.js';
+import { stream } from '../src/random/streams.js';
 import { runStudy } from '../src/runner/run-study.js';
+import { createSampler, secondGoalMeasure, type Job } from '../src/samplers/index.js';
+import { samplerSchema } from '../src/samplers/registry.js';
+import { spaceSchema } from '../src/space/schema.js';
 import type { StudyDefinitionInput } from '../src/study/definition.js';
 import type { BenchOptions } from './index.js';
 import { fmt, type GroupResult } from './report.js';
@@ -61,7 +66,34 @@ async function runFront(dir: string, proposer: Proposer, seed: number, options: 
   return { proposer, seed, front: frontOf(ranking, doc.goal, 'weights').map((m) => [m.ranked.trial.score!, m.value]) };
 }
 
+/**
+ * Milliseconds to propose the 1,001st configuration of a `tpe` study whose first 1,000 have finished,
+ * with the cost alone or with weights as a second goal (the split's non-dominated sorting is O(n^2)).
+ */
+function proposalCost(seed: number, twoGoals: boolean): number {
+  const definition = {
+    space: spaceSchema.parse({ depth: { min: 1, max: 4 }, width: { min: 4, max: 256, log: true }, activation: ['relu', 'tanh', 'elu'], learningRate: { min: 1e-4, max: 0.5 }, batchSize: [32, 64, 128] }),
+    budget: budgetSchema.parse({ trials: 1001, maxEpochs: 1 }),
+    sampler: samplerSchema.parse({ kind: 'tpe', seed, trialsBeforeModel: 1000 }),
+    ...(twoGoals ? { secondGoal: secondGoalMeasure('weights', { inputs: 14, outputs: 1 }) } : {}),
+  };
+  const sampler = createSampler(definition);
+  for (let trialId = 0; trialId < 1000; trialId++) {
+    const job = sampler.next() as Job;
+    const loss = Math.abs(Math.log10(job.configuration.learningRate) + 2) + 4 / job.configuration.width + stream(seed, 'noise', trialId)() * 0.1;
+    sampler.report({ trialId, rung: 0, loss });
+  }
+  const started = performance.now();
+  if (typeof sampler.next() === 'string') throw new Error('expected a proposal');
+  return performance.now() - started;
+}
+
+const median = (xs: readonly number[]): number => [...xs].sort((a, b) => a - b)[Math.floor(xs.length / 2)]!;
+
 export async function frontGroup(options: BenchOptions): Promise<GroupResult> {
+  const costSeeds = [1, 2, 3, 4, 5];
+  const cost = { one: median(costSeeds.map((seed) => proposalCost(seed, false))), two: median(costSeeds.map((seed) => proposalCost(seed, true))) };
+  console.log(`   proposal with 1,000 finished trials: cost alone ${fmt(cost.one)} ms, both goals ${fmt(cost.two)} ms (medians of 5)`);
   const seeds = options.quick ? [7] : [7, 1, 2, 3, 4];
   const dir = await tempDir('front');
   try {
@@ -99,13 +131,18 @@ export async function frontGroup(options: BenchOptions): Promise<GroupResult> {
           columns: ['proposer', 'front size', 'hypervolume share', 'share, log weights'],
           rows: means.map((m) => [m.proposer, fmt(m.size, 1), fmt(m.share, 3), fmt(m.logShare, 3)]),
         },
+        {
+          title: 'tpe: milliseconds to propose with 1,000 finished trials (median of 5 seeds)',
+          columns: ['goals', 'ms'],
+          rows: [['cost alone', fmt(cost.one)], ['cost and weights', fmt(cost.two)]],
+        },
       ],
       targets: [],
       notes: [
         `Hypervolume share: the area the front dominates up to the worst front cost seen (${fmt(worst[0], 1)}) and the limit (${WEIGHT_LIMIT} weights), over the area between that and the best cost and smallest network seen in any run (${fmt(best[0], 1)}, ${best[1]} weights); 1 would be one configuration best on both. The log share measures the weights on a log scale, as the report's front chart draws them.`,
         'Validation costs: optimistic for the configurations picked; one run per seed, so the seeds show the spread.',
       ],
-      data: { seeds, runs, best, worst, means },
+      data: { seeds, runs, best, worst, means, proposalMilliseconds: cost },
     };
   } finally {
     await rm(dir, { recursive: true, force: true });
