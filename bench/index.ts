@@ -8,6 +8,7 @@ import { budgetGroup } from './budget.js';
 import { earlyStoppingGroup } from './early-stopping.js';
 import { engineGroup } from './engine.js';
 import { footprintGroup } from './footprint.js';
+import { frontGroup } from './front.js';
 import { dataGroup } from './data.js';
 import { memoryGroup } from './memory.js';
 import { modelGroup } from './model.js';
@@ -42,6 +43,7 @@ const GROUPS: Record<string, (options: BenchOptions) => Promise<GroupResult>> = 
   plans: plansGroup,
   'early-stopping': earlyStoppingGroup,
   footprint: footprintGroup,
+  front: frontGroup,
   model: modelGroup,
   startup: startupGroup,
   queue: queueGroup,

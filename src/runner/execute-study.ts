@@ -5,7 +5,7 @@ import type { CheckpointStore } from '../checkpoints/store.js';
 import { hasSchedule } from '../core/schedule.js';
 import type { PreparedData } from '../data/types.js';
 import { studyStoppedError } from '../core/errors.js';
-import { createSampler, plannedBudget, replay } from '../samplers/index.js';
+import { createSampler, plannedBudget, replay, secondGoalMeasure } from '../samplers/index.js';
 import type { Job, JobOutcome, Sampler } from '../samplers/sampler.js';
 import { withRepeats, type SamplerPlan } from '../samplers/plan.js';
 import { repeatProgress } from '../core/repeats.js';
@@ -206,7 +206,12 @@ async function openSession(store: StudyStore, data: PreparedData, options: Execu
   const dataset = datasets.study;
   const shape = { inputs: dataset.inputCount, outputs: dataset.outputCount };
   const maxWeights = definition.footprint?.maxWeights;
-  const sampler = createSampler({ ...definition, ...(maxWeights !== undefined ? { weightLimit: { maxWeights, shape } } : {}) });
+  const against = definition.footprint?.against;
+  const sampler = createSampler({
+    ...definition,
+    ...(maxWeights !== undefined ? { weightLimit: { maxWeights, shape } } : {}),
+    ...(against !== undefined ? { secondGoal: secondGoalMeasure(against, shape) } : {}),
+  });
   // The search's plan and the repeat runs after it: the progress counters count both.
   const planned = withRepeats(plannedBudget(definition), recordedRepeatSettings(definition), definition.budget.maxEpochs, data.folds !== undefined);
   const queue = replay(sampler, recordedOutcomes(trials, goal), new Map(trials.map((t) => [t.id, t.configuration]))).pending;

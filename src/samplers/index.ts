@@ -7,6 +7,7 @@ import { fitWeightLimit, type NetworkShape } from '../core/size.js';
 import type { SamplerPlan } from './plan.js';
 import { SAMPLER_PLUGINS, type SamplerSettings } from './registry.js';
 import type { Sampler, SamplerContext, SamplerPlugin, SamplerTraits } from './sampler.js';
+import type { SecondGoalMeasure } from './two-goals.js';
 
 export { EMPTY_PLAN, type SamplerPlan } from './plan.js';
 export type { Job, JobOutcome, Sampler, SamplerContext, SamplerPlugin, SamplerTraits } from './sampler.js';
@@ -25,6 +26,7 @@ export { TpeSampler, type TpeSamplerOptions } from './tpe.js';
 export { TpeHyperbandSampler, type TpeHyperbandOptions } from './tpe-hyperband.js';
 export { TpeModel, splitObservations, type Observation, type TpeModelSettings } from './tpe-model.js';
 export { spaceDesign, sobolDesign, type UnitDesign } from './design.js';
+export { secondGoalMeasure, orderByFronts, hypervolumeContributions, type SecondGoalMeasure } from './two-goals.js';
 export { simulate, type SimulationLog, type SimulationOptions } from './simulate.js';
 export { compareResults, rungEpochs } from './rungs.js';
 
@@ -37,6 +39,8 @@ export interface SamplerDefinition {
   tryFirst?: readonly TrialConfiguration[];
   /** The study's weight limit with the data's shape (`footprint.maxWeights`); absent: no limit. */
   weightLimit?: WeightLimit;
+  /** The study's second goal (`footprint.against`) as TPE measures it (`secondGoalMeasure`); absent: one goal. */
+  secondGoal?: SecondGoalMeasure;
 }
 
 /** A largest network in weights, for the data's shape. */
@@ -75,6 +79,7 @@ export function samplerContext(definition: SamplerDefinition): SamplerContext {
     seed: sampler.seed,
     tryFirst,
     narrow,
+    ...(definition.secondGoal ? { secondGoal: definition.secondGoal } : {}),
     // A listed configuration takes its trial's place; every other trial draws as without the list (cut to the weight limit).
     randomConfiguration: (trialId) => tryFirst[trialId] ?? narrow(configurationForTrial(space, sampler.seed, trialId)),
     stream: (...key) => stream(sampler.seed, 'sampler', sampler.kind, ...key),

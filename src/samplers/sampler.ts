@@ -64,6 +64,11 @@ export interface SamplerContext {
    * apply it through `spaceDesign`, so a configuration over the limit is never proposed.
    */
   narrow?: (configuration: TrialConfiguration) => TrialConfiguration;
+  /**
+   * With a second goal (`footprint.against`): a configuration's value of it, smaller better and known
+   * before training (`two-goals.ts`); TPE then splits its trials by both goals. Absent: one goal.
+   */
+  secondGoal?: (configuration: TrialConfiguration) => number;
   /** A seeded stream keyed by the sampler's seed and the given parts, e.g. `stream('tpe', batch)`. */
   stream(...key: (string | number)[]): Rng;
 }

@@ -7,6 +7,7 @@ import { HyperbandSampler, configurationsPerPass, hyperbandBrackets } from './hy
 import { defineSampler, type Job, type JobOutcome, type Sampler } from './sampler.js';
 import { bracketsPlan, EMPTY_PLAN } from './plan.js';
 import type { ProposalOrigin } from '../core/trial.js';
+import type { TrialConfiguration } from '../core/configuration.js';
 import { checkHalvingBudget } from './successive-halving.js';
 import { TpeModel, modelFields, type Observation, type TpeModelSettings } from './tpe-model.js';
 
@@ -31,11 +32,15 @@ export interface TpeHyperbandOptions {
   overlapBrackets: boolean;
   /** Seeded streams keyed per trial, e.g. `(purpose, trialId) => context.stream(purpose, trialId)`. */
   stream: (purpose: string, trialId: number) => Rng;
+  /** With a second goal: a configuration's value of it (smaller better); each budget's split then follows both goals (`two-goals.ts`). */
+  secondGoal?: (configuration: TrialConfiguration) => number;
 }
 
 interface Proposal {
   point: number[];
   origin: ProposalOrigin;
+  /** The configuration's second-goal value, with a second goal. */
+  second?: number;
 }
 
 /**
@@ -45,7 +50,8 @@ interface Proposal {
  * enough results. Promotions continue from checkpoints as in Hyperband.
  * Source: Falkner, Klein, Hutter, "BOHB: Robust and Efficient Hyperparameter Optimization at Scale",
  * ICML 2018, Algorithm 2 (N_min = d + 1, |D_b| >= N_min + 2, rho = 1/3; From memory). BOHB fits one
- * multivariate kernel density; this fits the product of one-dimensional ones, as TPE does.
+ * multivariate kernel density; this fits the product of one-dimensional ones, as TPE does. With a
+ * second goal, each budget's good group is chosen by both goals (Ozaki et al. 2020, see `two-goals.ts`).
  *
  * Deterministic: the proposals of bracket k use only results of brackets that have finished before
  * bracket k may start (0 .. k - 2 with overlapBrackets, else 0 .. k - 1), so they do not depend on
@@ -68,7 +74,7 @@ export class TpeHyperbandSampler implements Sampler {
       iterations: options.iterations,
       ...(options.trials !== undefined ? { trials: options.trials } : {}),
       overlapBrackets: true,
-      configurationFor: (trialId) => options.design.listed?.(trialId)?.configuration ?? options.design.configurationAt(this.proposal(trialId).point),
+      configurationFor: (trialId) => this.configurationOf(trialId),
       originFor: (trialId) => this.proposal(trialId).origin,
       mayStartBracket: (index) => {
         for (let earlier = 0; earlier < index - lag; earlier++) if (!this.hyperband.isBracketFinished(earlier)) return false;
@@ -94,12 +100,22 @@ export class TpeHyperbandSampler implements Sampler {
     const epochs = this.jobEpochs.get(key)!;
     this.jobEpochs.delete(key);
     const atBudget = this.results.get(epochs) ?? [];
-    atBudget.push({ trialId: outcome.trialId, point: this.proposals.get(outcome.trialId)!.point, loss: outcome.loss, bracketIndex: this.hyperband.bracketIndexOf(outcome.trialId) });
+    const { point, second } = this.proposals.get(outcome.trialId)!;
+    atBudget.push({ trialId: outcome.trialId, point, loss: outcome.loss, bracketIndex: this.hyperband.bracketIndexOf(outcome.trialId), ...(second !== undefined ? { second } : {}) });
     this.results.set(epochs, atBudget);
   }
 
   mayContinue(trialId: number): boolean {
     return this.hyperband.mayContinue(trialId);
+  }
+
+  /** The configuration trial `trialId` trains: its listed one, or the one at its proposed point. */
+  private configurationOf(trialId: number): TrialConfiguration {
+    const { design, secondGoal } = this.options;
+    const proposal = this.proposal(trialId);
+    const configuration = design.listed?.(trialId)?.configuration ?? design.configurationAt(proposal.point);
+    if (secondGoal) proposal.second ??= secondGoal(configuration);
+    return configuration;
   }
 
   private proposal(trialId: number): Proposal {
@@ -163,6 +179,7 @@ export const tpeHyperbandPlugin = defineSampler({
       smallestGroup: options.smallestGroup ?? design.dimensions.length + 1,
       overlapBrackets: options.overlapBrackets,
       stream: (purpose, trialId) => context.stream(purpose, trialId),
+      ...(context.secondGoal ? { secondGoal: context.secondGoal } : {}),
     });
   },
   plan: (options, budget) => {

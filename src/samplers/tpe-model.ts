@@ -11,12 +11,15 @@ import type { Rng } from '../random/streams.js';
 import { snap, type Dimension } from '../space/dimensions.js';
 import { BANDWIDTH_RULES, drawIndex, fitCategorical, fitNumeric, numericDensity, sampleNumeric, type BandwidthRule, type NumericParzen } from './parzen.js';
 import { rank } from './rungs.js';
+import { orderByFronts } from './two-goals.js';
 
 /** A configuration the model learns from: its unit-cube point and its loss (null: diverged, failed, or a pending trial under the constant liar). */
 export interface Observation {
   trialId: number;
   point: readonly number[];
   loss: number | null;
+  /** With a study's second goal: the configuration's value of it, smaller better (`two-goals.ts`). */
+  second?: number;
 }
 
 export interface TpeModelSettings {
@@ -33,16 +36,26 @@ export interface TpeModelSettings {
 }
 
 /**
- * Good and rest: the best max(minimumGroup, ceil(gamma n)) observations (smaller loss first, null last,
- * ties by lower trial id) and the others, but at least minimumGroup of the worst.
+ * Good and rest: the best max(minimumGroup, ceil(gamma n)) observations and the others, but at least
+ * minimumGroup of the worst. Best: smaller loss first, null last, ties by lower trial id; with a
+ * second goal (every observation has `second`), the multiobjective order of `two-goals.ts`.
  */
 export function splitObservations(observations: readonly Observation[], gamma: number, minimumGroup = 1): { good: Observation[]; rest: Observation[] } {
-  const byTrial = new Map(observations.map((o) => [o.trialId, o]));
-  const ranked = rank(observations.map(({ trialId, loss }) => ({ trialId, loss }))).map((r) => byTrial.get(r.trialId)!);
+  const ranked = bestFirst(observations);
   const n = ranked.length;
   const goodCount = Math.min(n, Math.max(minimumGroup, Math.ceil(gamma * n)));
   const restCount = Math.min(n, Math.max(minimumGroup, n - goodCount));
   return { good: ranked.slice(0, goodCount), rest: ranked.slice(n - restCount) };
+}
+
+function bestFirst(observations: readonly Observation[]): Observation[] {
+  const withSecond = observations.filter((o): o is Observation & { second: number } => o.second !== undefined);
+  if (withSecond.length > 0) {
+    if (withSecond.length < observations.length) throw new Error('tpe model: some observations have a second-goal value and some do not');
+    return orderByFronts(withSecond);
+  }
+  const byTrial = new Map(observations.map((o) => [o.trialId, o]));
+  return rank(observations.map(({ trialId, loss }) => ({ trialId, loss }))).map((r) => byTrial.get(r.trialId)!);
 }
 
 type DimensionDensity = { kind: 'numeric'; parzen: NumericParzen } | { kind: 'categorical'; probabilities: number[] };

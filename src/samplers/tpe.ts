@@ -5,6 +5,7 @@ import { sobolDesign, spaceDesign, type UnitDesign } from './design.js';
 import { defineSampler, type Job, type JobOutcome, type Sampler } from './sampler.js';
 import { oneJobEachPlan } from './plan.js';
 import type { ProposalOrigin } from '../core/trial.js';
+import type { TrialConfiguration } from '../core/configuration.js';
 import { assertPositiveInteger } from './rungs.js';
 import { TpeModel, modelFields, type Observation, type TpeModelSettings } from './tpe-model.js';
 
@@ -24,6 +25,8 @@ export interface TpeSamplerOptions {
   model: TpeModelSettings;
   /** The seeded stream for one proposal, e.g. `(trialId) => context.stream('propose', trialId)`. */
   proposalStream: (trialId: number) => Rng;
+  /** With a second goal: a configuration's value of it (smaller better); the split then follows both goals (`two-goals.ts`). */
+  secondGoal?: (configuration: TrialConfiguration) => number;
 }
 
 /**
@@ -35,12 +38,16 @@ export interface TpeSamplerOptions {
  * Asynchronous mode fits on whatever has reported when asked, with every running trial as a liar,
  * and keeps to the Sobol design until trialsBeforeModel results are in (so a few more than trialsBeforeModel
  * may come from it): no worker waits, but the configurations depend on timing.
+ * With a second goal, the good group is chosen by both goals (Ozaki et al. 2020, see `two-goals.ts`);
+ * a liar has no loss, so it is still ranked worst.
  * Source: Bergstra, Bardenet, Bengio, Kégl, NeurIPS 2011; constant liar: Ginsbourger, Le Riche, Carraro,
  * "Kriging is well-suited to parallelize optimization", 2010 (CL-max, the worst value; From memory).
  */
 export class TpeSampler implements Sampler {
   private nextTrialId = 0;
   private readonly points: number[][] = [];
+  /** Each handed-out trial's second-goal value, with a second goal. */
+  private readonly seconds: number[] = [];
   private readonly losses = new Map<number, number | null>();
   private readonly outstanding = new Set<number>();
 
@@ -75,9 +82,11 @@ export class TpeSampler implements Sampler {
     this.nextTrialId++;
     this.points[trialId] = proposal.point;
     this.outstanding.add(trialId);
+    const configuration = listed?.configuration ?? this.options.design.configurationAt(proposal.point);
+    if (this.options.secondGoal) this.seconds[trialId] = this.options.secondGoal(configuration);
     return {
       trialId,
-      configuration: listed?.configuration ?? this.options.design.configurationAt(proposal.point),
+      configuration,
       rung: 0,
       bracket: 0,
       fromEpoch: 0,
@@ -106,7 +115,7 @@ export class TpeSampler implements Sampler {
     const observations: Observation[] = [];
     for (let id = 0; id < trialId; id++) {
       // Earlier batches with their results; earlier proposals of this batch as liars, whether or not they have reported.
-      observations.push({ trialId: id, point: this.points[id]!, loss: id < firstOfBatch ? this.losses.get(id)! : null });
+      observations.push(this.observation(id, id < firstOfBatch ? this.losses.get(id)! : null));
     }
     return { point: this.model(observations, trialId), origin: { method: 'tpe', batch } };
   }
@@ -115,9 +124,14 @@ export class TpeSampler implements Sampler {
     if (this.losses.size < this.options.trialsBeforeModel) return { point: this.options.startupPoint(trialId), origin: { method: 'sobol' } };
     const observations: Observation[] = [];
     for (let id = 0; id < trialId; id++) {
-      observations.push({ trialId: id, point: this.points[id]!, loss: this.losses.has(id) ? this.losses.get(id)! : null });
+      observations.push(this.observation(id, this.losses.has(id) ? this.losses.get(id)! : null));
     }
     return { point: this.model(observations, trialId), origin: { method: 'tpe' } };
+  }
+
+  private observation(trialId: number, loss: number | null): Observation {
+    const second = this.seconds[trialId];
+    return { trialId, point: this.points[trialId]!, loss, ...(second !== undefined ? { second } : {}) };
   }
 
   private model(observations: readonly Observation[], trialId: number): number[] {
@@ -155,6 +169,7 @@ export const tpePlugin = defineSampler({
       asynchronous: options.asynchronous,
       model: options,
       proposalStream: (trialId) => context.stream('propose', trialId),
+      ...(context.secondGoal ? { secondGoal: context.secondGoal } : {}),
     });
   },
   plan: (_options, budget) => oneJobEachPlan(budget),

@@ -106,7 +106,7 @@ export const footprintSchema = z
     against: z
       .enum(SECOND_GOALS)
       .optional()
-      .describe('A second goal to weigh the score against: weights or time (per row). The ranking then also lists the front (the configurations no other beats on both), the report draws it, and export --front picks from it.'),
+      .describe('A second goal to weigh the score against: weights or time (per row). The ranking then also lists the front (the configurations no other beats on both), the report draws it, export --front picks from it, and tpe and tpe-hyperband search for both goals.'),
   })
   .describe('What the network may cost where it runs: a size limit, a speed limit and a second goal. Absent: no limit, one goal.');
 
