@@ -17,6 +17,7 @@ import { runStudy } from '../src/runner/run-study.js';
 import { ClosedFormTransport } from '../src/transports/closed-form.js';
 import type { TrialConfiguration } from '../src/core/configuration.js';
 import { tinyStudy, writeTinyStudy } from './helpers/studies.js';
+import { studyOutcome } from './helpers/study-outcome.js';
 
 describe('weightCount', () => {
   it('counts the weights and biases of dense layers by hand', () => {
@@ -127,15 +128,14 @@ describe('the time per row', () => {
 });
 
 describe('a study with a weight limit and a time limit', () => {
-  /** A made-up timer: a microsecond per 100 weights of the tiny study's network (deterministic, unlike a real measurement). */
-  const fakeTimer = (configuration: TrialConfiguration, shape: { inputCount: number; outputCount: number }): number => weightCount(configuration, shape.inputCount, shape.outputCount) / 100;
+  /** A made-up time per row the transport returns for a job that asks for it: a microsecond per 4 hidden units (deterministic, unlike a real measurement). */
+  const fakeTime = (configuration: TrialConfiguration): number => (configuration.depth * configuration.width) / 4;
 
   async function run(footprint: StudyDefinitionInput['footprint'], threads: number) {
     const file = await writeTinyStudy(tinyStudy({ space: LIMITED_SPACE, budget: { trials: 12, maxEpochs: 3 }, ...(footprint ? { footprint } : {}) }));
     return runStudy(file, {
       out: path.join(path.dirname(file), 'run'),
-      timeRows: fakeTimer,
-      transport: () => new ClosedFormTransport({ capacity: threads, evaluate: (c) => ({ validationLoss: 1 / c.width, metrics: { auc: 1 - 1 / (2 + c.width) } }) }),
+      transport: () => new ClosedFormTransport({ capacity: threads, rowMicroseconds: fakeTime, evaluate: (c) => ({ validationLoss: 1 / c.width, metrics: { auc: 1 - 1 / (2 + c.width) } }) }),
     });
   }
 
@@ -145,7 +145,7 @@ describe('a study with a weight limit and a time limit', () => {
     for (const trial of doc.trials) {
       expect(trial.weightCount).toBe(weightCount(trial.configuration, inputs, 1));
       expect(trial.weightCount).toBeLessThanOrEqual(3000);
-      expect(trial.rowMicroseconds).toBe(trial.weightCount! / 100);
+      expect(trial.rowMicroseconds).toBe(fakeTime(trial.configuration));
       expect(trial.flags?.includes('too-slow') ?? false).toBe(trial.rowMicroseconds! > 10);
     }
     const slow = ranking.findIndex((r) => r.trial.flags?.includes('too-slow'));
@@ -160,5 +160,31 @@ describe('a study with a weight limit and a time limit', () => {
     const plain = await configurations({ maxWeights: 3000 }, 1);
     expect(await configurations({ maxWeights: 3000, maxRowMicroseconds: 10 }, 4)).toEqual(plain);
     expect(await configurations({ maxWeights: 3000 }, 4)).toEqual(plain);
+  });
+});
+
+describe('the time per row measured in the training threads', () => {
+  it('is recorded for every trial with 1 and with 2 threads, and the results are the same whatever it measures', async () => {
+    const file = await writeTinyStudy(tinyStudy({ space: LIMITED_SPACE, budget: { trials: 4, maxEpochs: 2 }, footprint: { maxWeights: 3000, maxRowMicroseconds: 1e6 } }));
+    const outcomes = [];
+    for (const threads of [1, 2]) {
+      const out = path.join(path.dirname(file), `run-${threads}`);
+      const { doc } = await runStudy(file, { out, threads });
+      for (const trial of doc.trials) {
+        // Measured by the thread that trained the trial (its job ran there), a positive, finite time.
+        expect(trial.jobs[0]!.ranOn).toMatch(/^thread \d+$/);
+        expect(Number.isFinite(trial.rowMicroseconds) && trial.rowMicroseconds! > 0).toBe(true);
+      }
+      outcomes.push(await studyOutcome(out));
+    }
+    // Configurations, curves, scores and ranking do not depend on the thread count nor on the measured times.
+    expect(outcomes[1]).toEqual(outcomes[0]);
+  });
+
+  it('is not asked for when timing is off', async () => {
+    const file = await writeTinyStudy(tinyStudy({ budget: { trials: 2, maxEpochs: 1 } }));
+    const { doc } = await runStudy(file, { out: path.join(path.dirname(file), 'run'), threads: 1, timeRows: false });
+    expect(doc.trials.length).toBe(2);
+    expect(doc.trials.every((t) => t.rowMicroseconds === undefined)).toBe(true);
   });
 });

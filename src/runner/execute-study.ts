@@ -22,8 +22,7 @@ import type { TrialTransport } from '../transports/transport.js';
 import type { SharedDataset, TrainJob, TrainResult } from '../core/job.js';
 import { CheckpointKeeper } from './checkpoint-keeper.js';
 import type { StudyObserver, StudyProgress } from './events.js';
-import { TrialLifecycle, type JobFailure, type SizeAndSpeed } from './lifecycle.js';
-import { measureRowMicroseconds, type TimedShape } from '../trainers/engine/row-timing.js';
+import { TrialLifecycle, type JobFailure } from './lifecycle.js';
 import { BatchedPersistence } from './persistence.js';
 import { StudyDatasets } from './study-datasets.js';
 import { StopControl, type Clock } from './stop-control.js';
@@ -69,10 +68,11 @@ export interface ExecuteOptions {
   /** Milliseconds clock the time limit is read from (tests move it instead of waiting). @default Date.now */
   clock?: Clock;
   /**
-   * How a trial's time per row is measured, once after its first result (`false`: not measured).
-   * @default the engine's forward pass over a fixed batch in this thread ({@link measureRowMicroseconds})
+   * Whether each trial's time per row is measured: its jobs ask the thread (or worker) that trains them
+   * to time the network after the job (`trainers/engine/row-timing.ts`) until a time is recorded.
+   * @default true
    */
-  timeRows?: ((configuration: TrialConfiguration, shape: TimedShape) => number) | false;
+  timeRows?: boolean;
 }
 
 export interface StudyOutcome {
@@ -210,7 +210,7 @@ async function openSession(store: StudyStore, data: PreparedData, options: Execu
   // The search's plan and the repeat runs after it: the progress counters count both.
   const planned = withRepeats(plannedBudget(definition), recordedRepeatSettings(definition), definition.budget.maxEpochs, data.folds !== undefined);
   const queue = replay(sampler, recordedOutcomes(trials, goal), new Map(trials.map((t) => [t.id, t.configuration]))).pending;
-  const lifecycle = new TrialLifecycle(store.doc, sampler, planned, sizeAndSpeed(dataset, options.timeRows));
+  const lifecycle = new TrialLifecycle(store.doc, sampler, planned, { shape, timeRows: options.timeRows ?? true });
   const keeper = new CheckpointKeeper(options.checkpoints ?? new FolderCheckpointStore(store.dir));
   const withCheckpoint = [...(await keeper.list()), ...trials.map((t) => t.id)];
   const persistence = new BatchedPersistence<Announced>(store, keeper, sampler, announcer(emit, goal), withCheckpoint, definition.keptNetworks);
@@ -227,15 +227,6 @@ async function openSession(store: StudyStore, data: PreparedData, options: Execu
   // Before the first trial, so every trial is checked against them (a study from before baselines gets them on resume).
   store.doc.baselines ??= await studyBaselines(data, data.folds ? datasets.foldsOf(datasets.study) : [datasets.study], goal, definition.budget.maxEpochs, definition.sampler.seed);
   return { store, options, definition, threads, emit, note: noteOnce(emit), sampler, planned, queue, lifecycle, keeper, persistence, datasets, stop, running: new Map(), busySeconds: 0, jobsEnded: 0, epochsAtStart: lifecycle.progress().epochsDone + repeatProgress(store.doc.repeats).epochs };
-}
-
-/** The data's shape for weight counts, and the row timer (the engine's forward pass in this thread unless the options replace or refuse it). */
-function sizeAndSpeed(dataset: SharedDataset, timeRows: ExecuteOptions['timeRows']): SizeAndSpeed {
-  const shape = { inputs: dataset.inputCount, outputs: dataset.outputCount };
-  if (timeRows === false) return { shape };
-  const timer = timeRows ?? measureRowMicroseconds;
-  const timed = { task: dataset.task, inputCount: dataset.inputCount, outputCount: dataset.outputCount };
-  return { shape, timeRows: (configuration) => timer(configuration, timed) };
 }
 
 /** After each save: one `trial-finished` event per saved job, with the ranking's leader at that moment. */
@@ -295,7 +286,7 @@ async function startJob(session: Session, transport: TrialTransport, proposed: J
   emit({ type: 'job-started', job, fromCheckpoint: checkpoint !== undefined });
   const abort = jobAbort(session);
   const done = transport
-    .run(trainJobOf(session, job, record.seed, datasetId, checkpoint), (report) => emit({ type: 'epoch', report }), abort.signal)
+    .run(trainJobOf(session, job, record, datasetId, checkpoint), (report) => emit({ type: 'epoch', report }), abort.signal)
     .then(
       (result) => settleResult(session, job, result),
       (error: unknown) => settleFailure(session, transport, job, abort.timedOut(), error),
@@ -341,11 +332,11 @@ function jobAbort(session: Session): { signal: AbortSignal; timedOut: () => bool
 }
 
 /** What the transport is asked to train for a job. */
-function trainJobOf(session: Session, job: Job, seed: number, datasetId: string, checkpoint: Uint8Array | undefined): TrainJob {
+function trainJobOf(session: Session, job: Job, record: TrialRecord, datasetId: string, checkpoint: Uint8Array | undefined): TrainJob {
   const { definition, store } = session;
   return {
     trialId: job.trialId,
-    seed,
+    seed: record.seed,
     configuration: job.configuration,
     datasetId,
     fromEpoch: job.fromEpoch,
@@ -353,6 +344,7 @@ function trainJobOf(session: Session, job: Job, seed: number, datasetId: string,
     ...(hasSchedule(job.configuration) ? { maxEpochs: definition.budget.maxEpochs } : {}),
     ...(definition.earlyStopping ? { earlyStopping: { rule: definition.earlyStopping, goal: store.doc.goal } } : {}),
     ...(checkpoint ? { checkpoint } : {}),
+    ...(session.lifecycle.wantsRowTime(record) ? { timeRows: true } : {}),
   };
 }
 

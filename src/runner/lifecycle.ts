@@ -17,13 +17,12 @@ import type { TrainResult } from '../core/job.js';
 import type { StudyProgress } from './events.js';
 import { applyResult, newTrialRecord } from './trial-records.js';
 import { weightCount, type NetworkShape } from '../core/size.js';
-import type { TrialConfiguration } from '../core/configuration.js';
 
-/** What the lifecycle needs to record a trial's size and speed: the data's shape and a way to time a network (none: not timed). */
+/** What the lifecycle needs to record a trial's size and speed: the data's shape, and whether jobs ask for the time per row. */
 export interface SizeAndSpeed {
   shape: NetworkShape;
-  /** Microseconds per row of the configuration's network (`trainers/engine/row-timing.ts`), or undefined to leave it unmeasured. */
-  timeRows?: (configuration: TrialConfiguration) => number;
+  /** True: a trial's jobs ask the thread that trains them to time its network (`TrainJob.timeRows`) until a time is recorded. */
+  timeRows: boolean;
 }
 
 /** Why a job did not bring a result. */
@@ -125,7 +124,7 @@ export class TrialLifecycle {
       this.waiting.add(record.id);
     }
     this.jobsDone++;
-    this.measureSpeed(record);
+    this.recordSpeed(record, result);
     const flagged = this.checkHealth(record, job.rung);
     const loss = flagged ? null : orientedLoss(record.score, this.goal);
     this.sampler.report({ trialId: job.trialId, rung: job.rung, loss, ...(result.stoppedAtEpoch !== undefined ? { stopped: true } : {}) });
@@ -153,11 +152,15 @@ export class TrialLifecycle {
     return flagged;
   }
 
-  /** Time the trial's network once, after its first result (the time depends on its shape alone). */
-  private measureSpeed(record: TrialRecord): void {
-    const timeRows = this.sizeAndSpeed?.timeRows;
-    if (timeRows === undefined || record.rowMicroseconds !== undefined || record.status === 'diverged') return;
-    record.rowMicroseconds = timeRows(record.configuration);
+  /** Whether the trial's next job is to time its network: timing is on and no time is recorded yet. */
+  wantsRowTime(record: TrialRecord): boolean {
+    return this.sizeAndSpeed?.timeRows === true && record.rowMicroseconds === undefined;
+  }
+
+  /** Record the time per row the trial's training thread measured, the first time one comes (the time depends on its shape alone). */
+  private recordSpeed(record: TrialRecord, result: TrainResult): void {
+    if (!this.wantsRowTime(record) || result.rowMicroseconds === undefined || record.status === 'diverged') return;
+    record.rowMicroseconds = result.rowMicroseconds;
   }
 
   /**
