@@ -3,7 +3,11 @@
  * proposed over it, by every sampler, the same whatever the thread count), the time per row, and the
  * time limit's flag in the one ranking rule.
  */
+import { readFileSync } from 'node:fs';
+import { mkdtemp, writeFile } from 'node:fs/promises';
+import { tmpdir } from 'node:os';
 import path from 'node:path';
+import { fileURLToPath } from 'node:url';
 import * as tf from '@tensorflow/tfjs';
 import { describe, expect, it } from 'vitest';
 import { fitWeightLimit, weightCount } from '../src/core/size.js';
@@ -15,7 +19,9 @@ import { checkFootprint } from '../src/study/footprint.js';
 import { measureRowMicroseconds, median } from '../src/trainers/engine/row-timing.js';
 import { runStudy } from '../src/runner/run-study.js';
 import { ClosedFormTransport } from '../src/transports/closed-form.js';
-import type { TrialConfiguration } from '../src/core/configuration.js';
+import { DEFAULT_PREPROCESSING, type TrialConfiguration } from '../src/core/configuration.js';
+import { readCsv } from '../src/data/csv.js';
+import { prepareData } from '../src/data/prepare.js';
 import { tinyStudy, writeTinyStudy } from './helpers/studies.js';
 import { studyOutcome } from './helpers/study-outcome.js';
 
@@ -186,5 +192,73 @@ describe('the time per row measured in the training threads', () => {
     const { doc } = await runStudy(file, { out: path.join(path.dirname(file), 'run'), threads: 1, timeRows: false });
     expect(doc.trials.length).toBe(2);
     expect(doc.trials.every((t) => t.rowMicroseconds === undefined)).toBe(true);
+  });
+});
+
+describe('a weight limit sized by each configuration\'s own inputs', () => {
+  const ROOT = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '..');
+  const DEMO_CSV = path.join(ROOT, 'studies/demo/pump-logs.csv');
+  const demo = JSON.parse(readFileSync(path.join(ROOT, 'studies/demo/study.json'), 'utf8')) as { data: StudyDefinitionInput['data'] };
+  // Every demo category has fewer than 100,000 training rows, so this choice pools them all into one input per column.
+  const POOL_ALL = 100_000;
+
+  /** Model inputs counted by hand from the demo CSV's training rows: one per numeric column, one per category (or one per column when all are pooled). */
+  async function handCountedInputs(trainRows: readonly number[]): Promise<{ plain: number; pooled: number }> {
+    const table = await readCsv(DEMO_CSV);
+    const features = Object.keys(table.rows[0]!).filter((column) => column !== demo.data.target);
+    const categorical = features.filter((column) => table.rows.some((row) => row[column] !== '' && Number.isNaN(Number(row[column]))));
+    const categories = categorical.map((column) => new Set(trainRows.map((r) => table.rows[r]![column]!).filter((value) => value !== '')).size);
+    const numeric = features.length - categorical.length;
+    return { plain: numeric + categories.reduce((a, b) => a + b, 0), pooled: numeric + categorical.length };
+  }
+
+  it('derives each choice\'s input count from its recipe, equal to the data set prepared for it', async () => {
+    const { data } = await prepareData({ ...demo.data, csv: DEMO_CSV } as Parameters<typeof prepareData>[0], path.join(ROOT, 'studies/demo/study.json'), { choices: true });
+    const hand = await handCountedInputs(data.rowIndices!.train);
+    // Hand-worked from the CSV: 7 numeric columns, site_type with 4 categories and impeller_material with 3.
+    expect(hand).toEqual({ plain: 14, pooled: 9 });
+    for (const choice of [DEFAULT_PREPROCESSING, { numericInputs: 'normal-quantiles', poolCategoriesBelow: 500 }, { numericInputs: 'standardise', poolCategoriesBelow: POOL_ALL }] as const) {
+      const prepared = await data.prepareChoice!(choice);
+      expect(data.inputCountFor!(choice)).toBe(prepared.recipe.inputCount);
+      expect(prepared.train.x.length).toBe(prepared.train.rows * prepared.recipe.inputCount);
+    }
+    expect(data.inputCountFor!({ numericInputs: 'standardise', poolCategoriesBelow: POOL_ALL })).toBe(hand.pooled);
+    expect(data.inputCountFor!(DEFAULT_PREPROCESSING)).toBe(hand.plain);
+  });
+
+  it('cuts each configuration to the limit for the inputs of its own preprocessing choice', async () => {
+    const dir = await mkdtemp(path.join(tmpdir(), 'rungwise-own-inputs-'));
+    const file = path.join(dir, 'study.json');
+    const definition: StudyDefinitionInput = {
+      name: 'own-inputs',
+      data: { ...demo.data, csv: DEMO_CSV },
+      space: { depth: { min: 1, max: 1 }, width: { min: 4, max: 64, log: false }, activation: ['relu'], learningRate: { min: 0.001, max: 0.1 }, batchSize: [64], optimizer: ['adam'], poolCategoriesBelow: [0, POOL_ALL] },
+      budget: { trials: 24, maxEpochs: 1 },
+      sampler: { kind: 'random', seed: 3 },
+      footprint: { maxWeights: 500 },
+    };
+    await writeFile(file, JSON.stringify(definition));
+    const { doc } = await runStudy(file, { out: path.join(dir, 'run'), timeRows: false, transport: () => new ClosedFormTransport({ evaluate: (c) => ({ validationLoss: 1 / c.width }) }) });
+    // Hand-worked, depth 1 and 1 output: (inputs + 2) x width + 1 weights; 500 allows width 31 at 14 inputs, 45 at 9.
+    const inputsOf = (c: TrialConfiguration): number => (c.poolCategoriesBelow === POOL_ALL ? 9 : 14);
+    for (const trial of doc.trials) {
+      const { width } = trial.configuration;
+      expect(trial.weightCount).toBe((inputsOf(trial.configuration) + 2) * width + 1);
+      expect(width).toBeLessThanOrEqual(inputsOf(trial.configuration) === 14 ? 31 : 45);
+    }
+    // Some pooled configurations are wider than the default data set's 14 inputs would allow: sized by their own 9.
+    expect(doc.trials.some((t) => t.configuration.poolCategoriesBelow === POOL_ALL && t.configuration.width > 31)).toBe(true);
+    expect(doc.trials.some((t) => t.configuration.poolCategoriesBelow === 0 && t.configuration.width === 31)).toBe(true);
+  });
+
+  it('refuses a listed configuration by the inputs of its own choice', () => {
+    const definition = studySchema.parse(tinyStudy({ space: { ...LIMITED_SPACE, poolCategoriesBelow: [0, 50] } }));
+    const inputsOf = (choice: { poolCategoriesBelow: number }): number => (choice.poolCategoriesBelow === 50 ? 9 : 14);
+    const listed = { depth: 1, width: 40, activation: 'relu', learningRate: 0.01, batchSize: 32, optimizer: 'adam', l2: 0, dropout: 0 } as const;
+    // Hand-worked: depth 1, width 40: (9 + 2) x 40 + 1 = 441 weights pooled, (14 + 2) x 40 + 1 = 641 not.
+    expect(() => checkFootprint({ ...definition, tryFirst: [{ ...listed, poolCategoriesBelow: 50 }], footprint: { maxWeights: 500 } }, { inputs: 14, outputs: 1 }, 'study.json', inputsOf)).not.toThrow();
+    expect(() => checkFootprint({ ...definition, tryFirst: [{ ...listed, poolCategoriesBelow: 0 }], footprint: { maxWeights: 500 } }, { inputs: 14, outputs: 1 }, 'study.json', inputsOf)).toThrow(/tryFirst\[0\]: depth 1, width 40 has 641 weights/);
+    // The smallest network (depth 1, width 4) must fit at the choice with the most inputs: (14 + 2) x 4 + 1 = 65.
+    expect(() => checkFootprint({ ...definition, footprint: { maxWeights: 64 } }, { inputs: 14, outputs: 1 }, 'study.json', inputsOf)).toThrow(/14 inputs, 1 output: 65 weights/);
   });
 });

@@ -202,15 +202,15 @@ async function openSession(store: StudyStore, data: PreparedData, options: Execu
   const { definition, goal, trials } = store.doc;
   const emit = options.onEvent ?? (() => undefined);
   const datasets = new StudyDatasets(data);
-  // The study's own data set sizes the networks (a pooling choice only ever has fewer inputs).
-  const dataset = datasets.study;
-  const shape = { inputs: dataset.inputCount, outputs: dataset.outputCount };
+  // Each configuration's network is sized by the inputs of the data prepared for its preprocessing choice.
+  const shape = { inputs: datasets.study.inputCount, outputs: datasets.study.outputCount };
+  const inputsFor = (configuration: TrialConfiguration): number => datasets.inputsFor(configuration);
   const maxWeights = definition.footprint?.maxWeights;
-  const sampler = createSampler({ ...definition, ...(maxWeights !== undefined ? { weightLimit: { maxWeights, shape } } : {}) });
+  const sampler = createSampler({ ...definition, ...(maxWeights !== undefined ? { weightLimit: { maxWeights, shape, inputsFor } } : {}) });
   // The search's plan and the repeat runs after it: the progress counters count both.
   const planned = withRepeats(plannedBudget(definition), recordedRepeatSettings(definition), definition.budget.maxEpochs, data.folds !== undefined);
   const queue = replay(sampler, recordedOutcomes(trials, goal), new Map(trials.map((t) => [t.id, t.configuration]))).pending;
-  const lifecycle = new TrialLifecycle(store.doc, sampler, planned, { shape, timeRows: options.timeRows ?? true });
+  const lifecycle = new TrialLifecycle(store.doc, sampler, planned, { shapeOf: (configuration) => ({ ...shape, inputs: inputsFor(configuration) }), timeRows: options.timeRows ?? true });
   const keeper = new CheckpointKeeper(options.checkpoints ?? new FolderCheckpointStore(store.dir));
   const withCheckpoint = [...(await keeper.list()), ...trials.map((t) => t.id)];
   const persistence = new BatchedPersistence<Announced>(store, keeper, sampler, announcer(emit, goal), withCheckpoint, definition.keptNetworks);
