@@ -249,8 +249,9 @@ function noteOnce(emit: StudyObserver): (message: string, key?: string) => void 
 }
 
 function announceStart(session: Session, resumed: boolean, resumeNotes: readonly string[]): void {
-  const { store, emit, threads, planned, lifecycle, note } = session;
-  emit({ type: 'study-started', name: store.doc.name, dir: store.dir, threads, plannedTrials: planned.trials, plannedEpochs: planned.epochs, resumed, progress: progressOf(session) });
+  const { store, emit, threads, planned, lifecycle, note, datasets } = session;
+  const shape = { inputs: datasets.study.inputCount, outputs: datasets.study.outputCount };
+  emit({ type: 'study-started', name: store.doc.name, dir: store.dir, threads, plannedTrials: planned.trials, plannedEpochs: planned.epochs, resumed, progress: progressOf(session), shape });
   for (const message of [...store.notes, ...resumeNotes]) note(message);
 }
 
