@@ -187,6 +187,25 @@ describe('the time per row measured in the training threads', () => {
     expect(outcomes[1]).toEqual(outcomes[0]);
   });
 
+  it('is asked for until a trial has a time, so a trial promoted to later rungs is timed once', async () => {
+    const file = await writeTinyStudy(tinyStudy({ space: LIMITED_SPACE, budget: { trials: 9, maxEpochs: 9 }, sampler: { kind: 'successive-halving', eta: 3, minEpochs: 1, seed: 4 } }));
+    const asked: { trialId: number; fromEpoch: number; timeRows: boolean; repeat: boolean }[] = [];
+    const inner = new ClosedFormTransport({ rowMicroseconds: () => 1, evaluate: (c) => ({ validationLoss: 1 / c.width, metrics: { auc: 1 - 1 / (2 + c.width) } }) });
+    const transport = { capacity: 1, addDataset: (d: Parameters<typeof inner.addDataset>[0]) => inner.addDataset(d), close: () => inner.close(), run: (job: Parameters<typeof inner.run>[0], onEpoch: Parameters<typeof inner.run>[1], signal: AbortSignal) => {
+      asked.push({ trialId: job.trialId, fromEpoch: job.fromEpoch, timeRows: job.timeRows === true, repeat: job.repeat !== undefined });
+      return inner.run(job, onEpoch, signal);
+    } };
+    const { doc } = await runStudy(file, { out: path.join(path.dirname(file), 'run'), transport: () => transport });
+    // The search's first job of each trial asks; its later rungs and the repeat runs after the search do not.
+    const search = asked.filter((a) => !a.repeat);
+    expect(search.filter((a) => a.fromEpoch === 0).every((a) => a.timeRows)).toBe(true);
+    expect(asked.filter((a) => a.repeat).every((a) => !a.timeRows)).toBe(true);
+    const later = search.filter((a) => a.fromEpoch > 0);
+    expect(later.length).toBeGreaterThan(0);
+    expect(later.every((a) => !a.timeRows)).toBe(true);
+    expect(doc.trials.every((t) => t.rowMicroseconds === 1)).toBe(true);
+  });
+
   it('is not asked for when timing is off', async () => {
     const file = await writeTinyStudy(tinyStudy({ budget: { trials: 2, maxEpochs: 1 } }));
     const { doc } = await runStudy(file, { out: path.join(path.dirname(file), 'run'), threads: 1, timeRows: false });
