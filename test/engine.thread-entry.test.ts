@@ -22,4 +22,14 @@ describe('trainer selection in the trial worker', () => {
     expect(figures(viaThread.epochs)).toStrictEqual(figures((await trainSegment(request)).epochs));
     expect(figures(viaThread.epochs)).not.toStrictEqual(figures((await trainSegmentOnEngine(request)).epochs));
   });
+
+  it('times the network after the job when the request asks, on either trainer, and trains the same', async () => {
+    for (const trainer of ['engine', 'tfjs'] as const) {
+      const plain = await trialThread(trainRequest(dataset, { toEpoch: 2, trainer }));
+      const timed = await trialThread({ ...trainRequest(dataset, { toEpoch: 2, trainer }), timeRows: true });
+      expect(plain.rowMicroseconds).toBeUndefined();
+      expect(Number.isFinite(timed.rowMicroseconds) && timed.rowMicroseconds! > 0).toBe(true);
+      expect(figures(timed.epochs)).toStrictEqual(figures(plain.epochs));
+    }
+  });
 });

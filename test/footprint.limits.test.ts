@@ -3,7 +3,11 @@
  * proposed over it, by every sampler, the same whatever the thread count), the time per row, and the
  * time limit's flag in the one ranking rule.
  */
+import { readFileSync } from 'node:fs';
+import { mkdtemp, writeFile } from 'node:fs/promises';
+import { tmpdir } from 'node:os';
 import path from 'node:path';
+import { fileURLToPath } from 'node:url';
 import * as tf from '@tensorflow/tfjs';
 import { describe, expect, it } from 'vitest';
 import { fitWeightLimit, weightCount } from '../src/core/size.js';
@@ -15,8 +19,11 @@ import { checkFootprint } from '../src/study/footprint.js';
 import { measureRowMicroseconds, median } from '../src/trainers/engine/row-timing.js';
 import { runStudy } from '../src/runner/run-study.js';
 import { ClosedFormTransport } from '../src/transports/closed-form.js';
-import type { TrialConfiguration } from '../src/core/configuration.js';
+import { DEFAULT_PREPROCESSING, type TrialConfiguration } from '../src/core/configuration.js';
+import { readCsv } from '../src/data/csv.js';
+import { prepareData } from '../src/data/prepare.js';
 import { tinyStudy, writeTinyStudy } from './helpers/studies.js';
+import { studyOutcome } from './helpers/study-outcome.js';
 
 describe('weightCount', () => {
   it('counts the weights and biases of dense layers by hand', () => {
@@ -127,15 +134,14 @@ describe('the time per row', () => {
 });
 
 describe('a study with a weight limit and a time limit', () => {
-  /** A made-up timer: a microsecond per 100 weights of the tiny study's network (deterministic, unlike a real measurement). */
-  const fakeTimer = (configuration: TrialConfiguration, shape: { inputCount: number; outputCount: number }): number => weightCount(configuration, shape.inputCount, shape.outputCount) / 100;
+  /** A made-up time per row the transport returns for a job that asks for it: a microsecond per 4 hidden units (deterministic, unlike a real measurement). */
+  const fakeTime = (configuration: TrialConfiguration): number => (configuration.depth * configuration.width) / 4;
 
   async function run(footprint: StudyDefinitionInput['footprint'], threads: number) {
     const file = await writeTinyStudy(tinyStudy({ space: LIMITED_SPACE, budget: { trials: 12, maxEpochs: 3 }, ...(footprint ? { footprint } : {}) }));
     return runStudy(file, {
       out: path.join(path.dirname(file), 'run'),
-      timeRows: fakeTimer,
-      transport: () => new ClosedFormTransport({ capacity: threads, evaluate: (c) => ({ validationLoss: 1 / c.width, metrics: { auc: 1 - 1 / (2 + c.width) } }) }),
+      transport: () => new ClosedFormTransport({ capacity: threads, rowMicroseconds: fakeTime, evaluate: (c) => ({ validationLoss: 1 / c.width, metrics: { auc: 1 - 1 / (2 + c.width) } }) }),
     });
   }
 
@@ -145,7 +151,7 @@ describe('a study with a weight limit and a time limit', () => {
     for (const trial of doc.trials) {
       expect(trial.weightCount).toBe(weightCount(trial.configuration, inputs, 1));
       expect(trial.weightCount).toBeLessThanOrEqual(3000);
-      expect(trial.rowMicroseconds).toBe(trial.weightCount! / 100);
+      expect(trial.rowMicroseconds).toBe(fakeTime(trial.configuration));
       expect(trial.flags?.includes('too-slow') ?? false).toBe(trial.rowMicroseconds! > 10);
     }
     const slow = ranking.findIndex((r) => r.trial.flags?.includes('too-slow'));
@@ -160,5 +166,118 @@ describe('a study with a weight limit and a time limit', () => {
     const plain = await configurations({ maxWeights: 3000 }, 1);
     expect(await configurations({ maxWeights: 3000, maxRowMicroseconds: 10 }, 4)).toEqual(plain);
     expect(await configurations({ maxWeights: 3000 }, 4)).toEqual(plain);
+  });
+});
+
+describe('the time per row measured in the training threads', () => {
+  it('is recorded for every trial with 1 and with 2 threads, and the results are the same whatever it measures', async () => {
+    const file = await writeTinyStudy(tinyStudy({ space: LIMITED_SPACE, budget: { trials: 4, maxEpochs: 2 }, footprint: { maxWeights: 3000, maxRowMicroseconds: 1e6 } }));
+    const outcomes = [];
+    for (const threads of [1, 2]) {
+      const out = path.join(path.dirname(file), `run-${threads}`);
+      const { doc } = await runStudy(file, { out, threads });
+      for (const trial of doc.trials) {
+        // Measured by the thread that trained the trial (its job ran there), a positive, finite time.
+        expect(trial.jobs[0]!.ranOn).toMatch(/^thread \d+$/);
+        expect(Number.isFinite(trial.rowMicroseconds) && trial.rowMicroseconds! > 0).toBe(true);
+      }
+      outcomes.push(await studyOutcome(out));
+    }
+    // Configurations, curves, scores and ranking do not depend on the thread count nor on the measured times.
+    expect(outcomes[1]).toEqual(outcomes[0]);
+  });
+
+  it('is asked for until a trial has a time, so a trial promoted to later rungs is timed once', async () => {
+    const file = await writeTinyStudy(tinyStudy({ space: LIMITED_SPACE, budget: { trials: 9, maxEpochs: 9 }, sampler: { kind: 'successive-halving', eta: 3, minEpochs: 1, seed: 4 } }));
+    const asked: { trialId: number; fromEpoch: number; timeRows: boolean; repeat: boolean }[] = [];
+    const inner = new ClosedFormTransport({ rowMicroseconds: () => 1, evaluate: (c) => ({ validationLoss: 1 / c.width, metrics: { auc: 1 - 1 / (2 + c.width) } }) });
+    const transport = { capacity: 1, addDataset: (d: Parameters<typeof inner.addDataset>[0]) => inner.addDataset(d), close: () => inner.close(), run: (job: Parameters<typeof inner.run>[0], onEpoch: Parameters<typeof inner.run>[1], signal: AbortSignal) => {
+      asked.push({ trialId: job.trialId, fromEpoch: job.fromEpoch, timeRows: job.timeRows === true, repeat: job.repeat !== undefined });
+      return inner.run(job, onEpoch, signal);
+    } };
+    const { doc } = await runStudy(file, { out: path.join(path.dirname(file), 'run'), transport: () => transport });
+    // The search's first job of each trial asks; its later rungs and the repeat runs after the search do not.
+    const search = asked.filter((a) => !a.repeat);
+    expect(search.filter((a) => a.fromEpoch === 0).every((a) => a.timeRows)).toBe(true);
+    expect(asked.filter((a) => a.repeat).every((a) => !a.timeRows)).toBe(true);
+    const later = search.filter((a) => a.fromEpoch > 0);
+    expect(later.length).toBeGreaterThan(0);
+    expect(later.every((a) => !a.timeRows)).toBe(true);
+    expect(doc.trials.every((t) => t.rowMicroseconds === 1)).toBe(true);
+  });
+
+  it('is not asked for when timing is off', async () => {
+    const file = await writeTinyStudy(tinyStudy({ budget: { trials: 2, maxEpochs: 1 } }));
+    const { doc } = await runStudy(file, { out: path.join(path.dirname(file), 'run'), threads: 1, timeRows: false });
+    expect(doc.trials.length).toBe(2);
+    expect(doc.trials.every((t) => t.rowMicroseconds === undefined)).toBe(true);
+  });
+});
+
+describe('a weight limit sized by each configuration\'s own inputs', () => {
+  const ROOT = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '..');
+  const DEMO_CSV = path.join(ROOT, 'studies/demo/pump-logs.csv');
+  const demo = JSON.parse(readFileSync(path.join(ROOT, 'studies/demo/study.json'), 'utf8')) as { data: StudyDefinitionInput['data'] };
+  // Every demo category has fewer than 100,000 training rows, so this choice pools them all into one input per column.
+  const POOL_ALL = 100_000;
+
+  /** Model inputs counted by hand from the demo CSV's training rows: one per numeric column, one per category (or one per column when all are pooled). */
+  async function handCountedInputs(trainRows: readonly number[]): Promise<{ plain: number; pooled: number }> {
+    const table = await readCsv(DEMO_CSV);
+    const features = Object.keys(table.rows[0]!).filter((column) => column !== demo.data.target);
+    const categorical = features.filter((column) => table.rows.some((row) => row[column] !== '' && Number.isNaN(Number(row[column]))));
+    const categories = categorical.map((column) => new Set(trainRows.map((r) => table.rows[r]![column]!).filter((value) => value !== '')).size);
+    const numeric = features.length - categorical.length;
+    return { plain: numeric + categories.reduce((a, b) => a + b, 0), pooled: numeric + categorical.length };
+  }
+
+  it('derives each choice\'s input count from its recipe, equal to the data set prepared for it', async () => {
+    const { data } = await prepareData({ ...demo.data, csv: DEMO_CSV } as Parameters<typeof prepareData>[0], path.join(ROOT, 'studies/demo/study.json'), { choices: true });
+    const hand = await handCountedInputs(data.rowIndices!.train);
+    // Hand-worked from the CSV: 7 numeric columns, site_type with 4 categories and impeller_material with 3.
+    expect(hand).toEqual({ plain: 14, pooled: 9 });
+    for (const choice of [DEFAULT_PREPROCESSING, { numericInputs: 'normal-quantiles', poolCategoriesBelow: 500 }, { numericInputs: 'standardise', poolCategoriesBelow: POOL_ALL }] as const) {
+      const prepared = await data.prepareChoice!(choice);
+      expect(data.inputCountFor!(choice)).toBe(prepared.recipe.inputCount);
+      expect(prepared.train.x.length).toBe(prepared.train.rows * prepared.recipe.inputCount);
+    }
+    expect(data.inputCountFor!({ numericInputs: 'standardise', poolCategoriesBelow: POOL_ALL })).toBe(hand.pooled);
+    expect(data.inputCountFor!(DEFAULT_PREPROCESSING)).toBe(hand.plain);
+  });
+
+  it('cuts each configuration to the limit for the inputs of its own preprocessing choice', async () => {
+    const dir = await mkdtemp(path.join(tmpdir(), 'rungwise-own-inputs-'));
+    const file = path.join(dir, 'study.json');
+    const definition: StudyDefinitionInput = {
+      name: 'own-inputs',
+      data: { ...demo.data, csv: DEMO_CSV },
+      space: { depth: { min: 1, max: 1 }, width: { min: 4, max: 64, log: false }, activation: ['relu'], learningRate: { min: 0.001, max: 0.1 }, batchSize: [64], optimizer: ['adam'], poolCategoriesBelow: [0, POOL_ALL] },
+      budget: { trials: 24, maxEpochs: 1 },
+      sampler: { kind: 'random', seed: 3 },
+      footprint: { maxWeights: 500 },
+    };
+    await writeFile(file, JSON.stringify(definition));
+    const { doc } = await runStudy(file, { out: path.join(dir, 'run'), timeRows: false, transport: () => new ClosedFormTransport({ evaluate: (c) => ({ validationLoss: 1 / c.width }) }) });
+    // Hand-worked, depth 1 and 1 output: (inputs + 2) x width + 1 weights; 500 allows width 31 at 14 inputs, 45 at 9.
+    const inputsOf = (c: TrialConfiguration): number => (c.poolCategoriesBelow === POOL_ALL ? 9 : 14);
+    for (const trial of doc.trials) {
+      const { width } = trial.configuration;
+      expect(trial.weightCount).toBe((inputsOf(trial.configuration) + 2) * width + 1);
+      expect(width).toBeLessThanOrEqual(inputsOf(trial.configuration) === 14 ? 31 : 45);
+    }
+    // Some pooled configurations are wider than the default data set's 14 inputs would allow: sized by their own 9.
+    expect(doc.trials.some((t) => t.configuration.poolCategoriesBelow === POOL_ALL && t.configuration.width > 31)).toBe(true);
+    expect(doc.trials.some((t) => t.configuration.poolCategoriesBelow === 0 && t.configuration.width === 31)).toBe(true);
+  });
+
+  it('refuses a listed configuration by the inputs of its own choice', () => {
+    const definition = studySchema.parse(tinyStudy({ space: { ...LIMITED_SPACE, poolCategoriesBelow: [0, 50] } }));
+    const inputsOf = (choice: { poolCategoriesBelow: number }): number => (choice.poolCategoriesBelow === 50 ? 9 : 14);
+    const listed = { depth: 1, width: 40, activation: 'relu', learningRate: 0.01, batchSize: 32, optimizer: 'adam', l2: 0, dropout: 0 } as const;
+    // Hand-worked: depth 1, width 40: (9 + 2) x 40 + 1 = 441 weights pooled, (14 + 2) x 40 + 1 = 641 not.
+    expect(() => checkFootprint({ ...definition, tryFirst: [{ ...listed, poolCategoriesBelow: 50 }], footprint: { maxWeights: 500 } }, { inputs: 14, outputs: 1 }, 'study.json', inputsOf)).not.toThrow();
+    expect(() => checkFootprint({ ...definition, tryFirst: [{ ...listed, poolCategoriesBelow: 0 }], footprint: { maxWeights: 500 } }, { inputs: 14, outputs: 1 }, 'study.json', inputsOf)).toThrow(/tryFirst\[0\]: depth 1, width 40 has 641 weights/);
+    // The smallest network (depth 1, width 4) must fit at the choice with the most inputs: (14 + 2) x 4 + 1 = 65.
+    expect(() => checkFootprint({ ...definition, footprint: { maxWeights: 64 } }, { inputs: 14, outputs: 1 }, 'study.json', inputsOf)).toThrow(/14 inputs, 1 output: 65 weights/);
   });
 });

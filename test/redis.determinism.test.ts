@@ -52,6 +52,8 @@ describe('the same study on local threads and on remote workers', () => {
     expect([...places(mixedRun.doc)].some((p) => p?.startsWith('thread'))).toBe(true);
     expect([...places(mixedRun.doc)].some((p) => p?.includes('/'))).toBe(true);
     expect([...places(remoteRun.doc)].every((p) => p?.includes('/'))).toBe(true);
+    // The time per row is measured by the worker's thread and comes back in the result (queue protocol 6).
+    for (const trial of remoteRun.doc.trials.filter((t) => t.status !== 'diverged')) expect(trial.rowMicroseconds).toBeGreaterThan(0);
   });
 
   it('successive halving with 3 folds: the k fold data sets are published and the trials are the local ones', async () => {
@@ -72,6 +74,8 @@ describe('the same study on local threads and on remote workers', () => {
     expect(expected.state).toBe('finished');
     expect(await studyOutcome(remote)).toEqual(expected);
     expect(remoteRun.doc.trials.every((t) => t.scoreStandardError !== undefined)).toBe(true);
+    // The first fold's worker thread times the network.
+    expect(remoteRun.doc.trials.every((t) => t.status === 'diverged' || t.rowMicroseconds! > 0)).toBe(true);
     expect(remoteRun.doc.trials.flatMap((t) => t.jobs.map((j) => j.ranOn)).every((p) => p?.includes('/'))).toBe(true);
   });
 });

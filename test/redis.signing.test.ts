@@ -150,6 +150,6 @@ describe('signed jobs and results over a real Redis', () => {
     ]);
     expect(w.jobsRefused).toBe(3);
     expect(w.jobsDone).toBe(1);
-    expect(QUEUE_PROTOCOL_VERSION).toBe(5);
+    expect(QUEUE_PROTOCOL_VERSION).toBe(6);
   });
 });

@@ -52,6 +52,12 @@ export interface TrainJob {
   earlyStopping?: EarlyStoppingSettings;
   /** A repeat run of the trial's configuration with a further seed (1 .. seeds, src/core/repeats.ts); absent: the trial's own job. */
   repeat?: number;
+  /**
+   * True: after the job's last epoch, the thread that trained it times the network's prediction per row
+   * (`trainers/engine/row-timing.ts`) and returns it as {@link TrainResult.rowMicroseconds}. The run
+   * loop asks until the trial has a time recorded; absent: not timed.
+   */
+  timeRows?: boolean;
 }
 
 /** One epoch's figures. Metrics are on the validation split. */
@@ -92,6 +98,8 @@ export interface TrainResult {
   workerSeconds: number;
   /** Where the job ran, e.g. `thread 2` or `host-a/4711`, for the study file and the progress display. */
   ranOn?: string;
+  /** When the job asked for it (`timeRows`) and completed: microseconds per row of the network's prediction, measured where it trained (not part of `workerSeconds`). */
+  rowMicroseconds?: number;
   /** `tf.memory().numTensors` before and after the job, where the worker reports it: equal unless tensors leaked. */
   tensorsBefore?: number;
   tensorsAfter?: number;

@@ -109,7 +109,8 @@ export interface NetworkSides {
 
 /** One configuration's figures from its runs' scores, or from its fold mean and standard error. */
 function figureOf(trial: TrialRecord, values: (number | null)[], folds: number | undefined, sides: NetworkSides): RepeatFigure | undefined {
-  const weights = weightCount(trial.configuration, sides.inputs, sides.outputs);
+  // The recorded count is sized by the trial's own preprocessing choice; files from before it count the study's inputs.
+  const weights = trial.weightCount ?? weightCount(trial.configuration, sides.inputs, sides.outputs);
   if (folds !== undefined) {
     if (trial.score === null) return undefined;
     return { trialId: trial.id, values: [], count: folds, mean: trial.score, ...(trial.scoreStandardError !== undefined ? { standardError: trial.scoreStandardError } : {}), weights, indistinguishable: false };

@@ -42,6 +42,25 @@ export function weightCount(configuration: Pick<TrialConfiguration, 'depth' | 'w
   return configuration.block === 'residual' ? dense + 2 * configuration.width * (configuration.depth + 1) : dense;
 }
 
+/**
+ * What one value of a layer normalisation costs per row of a training step, in dense multiply-adds
+ * (mean, variance, scale and shift, forward and back). Measured on the engine: residual networks
+ * train about 5 multiply-adds' time per normalised value slower than their dense layers alone
+ * (docs/performance.md, "Pricing an epoch").
+ */
+export const NORMALISATION_WORK = 5;
+
+/**
+ * The work of one row of a training step, in dense multiply-adds: every dense layer's fan-in x
+ * fan-out (the same count forward and, twice, backward, so the ratio between networks holds), and
+ * with residual blocks each normalisation's `width` values at {@link NORMALISATION_WORK}. What the
+ * time-left estimate prices an epoch by (an epoch's rows are the same for every configuration).
+ */
+export function rowWork(configuration: Pick<TrialConfiguration, 'depth' | 'width' | 'shape' | 'block'>, inputs: number, outputs: number): number {
+  const dense = denseShapes(configuration, inputs, outputs).reduce((sum, { fanIn, fanOut }) => sum + fanIn * fanOut, 0);
+  return configuration.block === 'residual' ? dense + NORMALISATION_WORK * configuration.width * (configuration.depth + 1) : dense;
+}
+
 /** The data's shape a network is sized by: model inputs after encoding, and outputs (1, or the classes of a multiclass task). */
 export interface NetworkShape {
   inputs: number;

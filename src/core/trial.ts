@@ -72,7 +72,7 @@ export interface TrialRecord {
   weightCount?: number;
   /**
    * Measured microseconds per row of its network's forward pass (the median of several timed passes over
-   * a fixed batch, by the coordinating process after the trial's first result; `runner/row-timing.ts`).
+   * a fixed batch, by the thread or worker that trained the trial, after its first job; `trainers/engine/row-timing.ts`).
    * Machine-dependent and noisy, so never part of the deterministic results; absent until measured.
    */
   rowMicroseconds?: number;

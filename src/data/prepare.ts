@@ -17,7 +17,7 @@ import { delimiterName, streamCsv } from './source.js';
 import { splitRows, splitSizes } from './split.js';
 import { categoricalValues, typeColumn } from './typing.js';
 import { assignFolds, otherFolds } from './folds.js';
-import type { DataSummary, PreparedData, PreparedFold, SplitArrays } from './types.js';
+import type { DataSummary, PreparedData, PreparedFold, PreprocessingRecipe, SplitArrays } from './types.js';
 import type { FeatureValues } from './values.js';
 
 function studyError(definitionFile: string, field: string, message: string): UserError {
@@ -228,7 +228,10 @@ export async function prepareData(
   const context: EncodingContext = { settings, definitionFile, csvFile, features, target, indices, lines: table.lines, ...(options.foldSeed !== undefined ? { foldSeed: options.foldSeed } : {}) };
   const data = await encodePrepared(context, DEFAULT_PREPROCESSING, { emit, ...(options.signal ? { signal: options.signal } : {}) });
   // Another choice of preprocessing is encoded from the same typed columns and splits, on demand.
-  if (options.choices) data.prepareChoice = (choice) => encodePrepared(context, choice, {});
+  if (options.choices) {
+    data.prepareChoice = (choice) => encodePrepared(context, choice, {});
+    data.inputCountFor = (choice) => recipeOf(context, choice).inputCount;
+  }
 
   const summary = dataSummary(csvFile, table, data, missing, counts);
   for (const message of notes) emit({ type: 'note', file: csvFile, message });
@@ -250,6 +253,12 @@ interface EncodingContext {
   foldSeed?: number;
 }
 
+/** The recipe of a preprocessing choice, fitted on the training rows. */
+function recipeOf(context: EncodingContext, choice: PreprocessingChoice): PreprocessingRecipe {
+  const { settings, features, target, indices } = context;
+  return buildColumnRecipe({ task: settings.task, target: settings.target, features, targetValues: target, trainingRows: indices.train, preprocessing: choice });
+}
+
 /**
  * The recipe of a preprocessing choice fitted on the training rows, every split encoded with it (the
  * training and validation splits in shared memory), the class weights, costs and, with `data.folds`,
@@ -257,7 +266,7 @@ interface EncodingContext {
  */
 async function encodePrepared(context: EncodingContext, choice: PreprocessingChoice, progress: { emit?: (event: DataEvent) => void; signal?: AbortSignal }): Promise<PreparedData> {
   const { settings, definitionFile, csvFile, features, target, indices } = context;
-  const recipe = buildColumnRecipe({ task: settings.task, target: settings.target, features, targetValues: target, trainingRows: indices.train, preprocessing: choice });
+  const recipe = recipeOf(context, choice);
   const splitArrays = async (rows: readonly number[], done: number, shared: boolean): Promise<SplitArrays> => {
     progress.emit?.({ type: 'preparing', file: csvFile, step: 'encoding', done, total: 3 });
     await checkpoint(progress.signal);

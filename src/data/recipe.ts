@@ -63,6 +63,15 @@ export function categoricalWidth(feature: Extract<FeatureRecipe, { kind: 'catego
   return feature.categories.length + (feature.pooled ? 1 : 0);
 }
 
+/**
+ * Model inputs of a recipe's features: one per numeric column, and each categorical column's width.
+ * The one place that counts them: the recipe's `inputCount`, and the weight limit of each
+ * configuration's preprocessing choice (`PreparedData.inputCountFor`), come from it.
+ */
+export function recipeInputCount(features: readonly FeatureRecipe[]): number {
+  return features.reduce((total, f) => total + (f.kind === 'numeric' ? 1 : categoricalWidth(f)), 0);
+}
+
 /** A numeric column's recipe: mean and std always (the fill), and the transform of a choice other than standardise. */
 function numericRecipe(name: string, present: Float64Array, choice: PreprocessingChoice): FeatureRecipe {
   const recipe: FeatureRecipe = { kind: 'numeric', name, ...meanAndStd(present) };
@@ -103,7 +112,7 @@ export function buildColumnRecipe(options: ColumnRecipeOptions): PreprocessingRe
     }
     return categoricalRecipe(column.name, counts, choice.poolCategoriesBelow);
   });
-  const inputCount = features.reduce((total, f) => total + (f.kind === 'numeric' ? 1 : categoricalWidth(f)), 0);
+  const inputCount = recipeInputCount(features);
   const recipe: PreprocessingRecipe = { task, target, features, inputCount };
   if (targetValues.kind === 'numbers') {
     recipe.targetScaling = meanAndStd(Float64Array.from({ length: trainingRows.length }, (_, i) => targetValues.values[trainingRows[i]!]!));

@@ -76,6 +76,11 @@ export interface PreparedData {
    * preprocessing choice, its recipe fitted on the same training rows. Absent: only this one.
    */
   prepareChoice?: (choice: PreprocessingChoice) => Promise<PreparedData>;
+  /**
+   * With `prepareData`'s `choices`: the model inputs of the data `prepareChoice` gives for a choice,
+   * from its recipe alone (fitted on the training rows, no row encoded). Absent: `recipe.inputCount`.
+   */
+  inputCountFor?: (choice: PreprocessingChoice) => number;
 }
 
 /** One fold of k-fold cross-validation: its data set as trials train on it. */

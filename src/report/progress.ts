@@ -157,7 +157,7 @@ function onStudyStarted(display: Display, event: Extract<StudyEvent, { type: 'st
   state.plannedEpochs = event.plannedEpochs;
   state.jobs = event.progress.jobsDone;
   state.trained = event.progress.epochsDone;
-  state.timeLeft = new TimeLeftEstimator(event.threads);
+  state.timeLeft = new TimeLeftEstimator(event.threads, event.shape);
   const threads = `${event.threads} thread${event.threads === 1 ? '' : 's'}`;
   const planned = `${plan.limit ? 'at most ' : ''}${plan.jobs} jobs, ${state.plannedEpochs} epochs planned`;
   options.stream.write(`${event.resumed ? 'resuming' : 'running'} study ${event.name} on ${threads}: ${planned}; study file in ${event.dir}\n`);

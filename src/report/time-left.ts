@@ -1,18 +1,20 @@
 /**
  * The time a study has left, from this study's own measurements: the training seconds its epochs took,
- * per unit of an epoch's cost (depth x width^2, so a wide deep network counts for more), and the
- * epochs still planned. Start-up (reading the data, starting threads) is not in the measurement, so a
- * short study's first estimate is not inflated by it. No estimate until a job has ended.
+ * per unit of an epoch's cost (the network's work per row, `core/size.ts`'s `rowWork`: its dense
+ * multiply-adds and its normalisations, so a wide, deep or residual network counts for more and a
+ * funnel for less), and the epochs still planned. Start-up (reading the data, starting threads) is not
+ * in the measurement, so a short study's first estimate is not inflated by it. No estimate until a job has ended.
  */
 import type { TrialConfiguration } from '../core/configuration.js';
+import { rowWork, type NetworkShape } from '../core/size.js';
 import type { Job } from '../samplers/sampler.js';
 
-/**
- * Relative cost of one epoch of a configuration. Common practice (no source): an MLP's training step
- * costs about its weights, and at the widths a study searches the hidden weights, about depth x width^2, dominate.
- */
-export function epochCost(configuration: Pick<TrialConfiguration, 'depth' | 'width'>): number {
-  return Math.max(1, configuration.depth * configuration.width * configuration.width);
+/** The shape priced when the study did not say (a network's hidden layers dominate its work). */
+const UNKNOWN_SHAPE: NetworkShape = { inputs: 1, outputs: 1 };
+
+/** Relative cost of one epoch of a configuration for the data's shape: its work per row (every configuration trains on the same rows). */
+export function epochCost(configuration: Pick<TrialConfiguration, 'depth' | 'width' | 'shape' | 'block'>, shape: NetworkShape = UNKNOWN_SHAPE): number {
+  return Math.max(1, rowWork(configuration, shape.inputs, shape.outputs));
 }
 
 export class TimeLeftEstimator {
@@ -25,7 +27,11 @@ export class TimeLeftEstimator {
   /** Running jobs by trial, with the epochs they have trained so far. */
   private readonly running = new Map<number, { job: Job; trained: number }>();
 
-  constructor(private readonly threads: number) {}
+  /** `shape`: the study's data shape (its own data set's inputs and outputs). */
+  constructor(
+    private readonly threads: number,
+    private readonly shape: NetworkShape = UNKNOWN_SHAPE,
+  ) {}
 
   started(job: Job, now: number): void {
     this.firstStart ??= now;
@@ -37,7 +43,7 @@ export class TimeLeftEstimator {
     if (!entry) return;
     entry.trained += 1;
     this.seconds += workerSeconds;
-    this.cost += epochCost(entry.job.configuration);
+    this.cost += epochCost(entry.job.configuration, this.shape);
     this.epochs += 1;
   }
 
@@ -60,7 +66,7 @@ export class TimeLeftEstimator {
     for (const { job, trained } of this.running.values()) {
       const left = Math.max(0, job.toEpoch - trained);
       runningEpochs += left;
-      runningCost += left * epochCost(job.configuration);
+      runningCost += left * epochCost(job.configuration, this.shape);
     }
     const rest = Math.max(0, epochsLeft - runningEpochs) * (this.cost / this.epochs);
     const elapsed = (now - this.firstStart) / 1000;

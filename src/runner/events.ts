@@ -4,6 +4,7 @@ import type { StudyDocument } from '../store/types.js';
 import type { TrialRecord } from '../core/trial.js';
 import type { EpochReport, TrainJob } from '../core/job.js';
 import type { RepeatRun } from '../core/repeats.js';
+import type { NetworkShape } from '../core/size.js';
 
 /** How far a study has come, counted the same way for every sampler. */
 export interface StudyProgress {
@@ -20,7 +21,7 @@ export interface StudyProgress {
 
 /** What a running study tells its observer (the CLI's progress display, a test, a library user). */
 export type StudyEvent =
-  | { type: 'study-started'; name: string; dir: string; threads: number; plannedTrials: number; plannedEpochs: number; resumed: boolean; progress: StudyProgress }
+  | { type: 'study-started'; name: string; dir: string; threads: number; plannedTrials: number; plannedEpochs: number; resumed: boolean; progress: StudyProgress; shape?: NetworkShape }
   | { type: 'job-started'; job: Job; fromCheckpoint: boolean }
   | { type: 'epoch'; report: EpochReport }
   /**

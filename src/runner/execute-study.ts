@@ -16,14 +16,14 @@ import { studyBaselines } from './baselines.js';
 import type { StudyStore } from '../store/study-store.js';
 import type { StudyDocument } from '../store/types.js';
 import type { TrialRecord } from '../core/trial.js';
+import type { NetworkShape } from '../core/size.js';
 import { ThreadTransport, type FaultInjector } from '../transports/threads/transport.js';
 import { FoldsTransport } from '../transports/folds.js';
 import type { TrialTransport } from '../transports/transport.js';
 import type { SharedDataset, TrainJob, TrainResult } from '../core/job.js';
 import { CheckpointKeeper } from './checkpoint-keeper.js';
 import type { StudyObserver, StudyProgress } from './events.js';
-import { TrialLifecycle, type JobFailure, type SizeAndSpeed } from './lifecycle.js';
-import { measureRowMicroseconds, type TimedShape } from '../trainers/engine/row-timing.js';
+import { TrialLifecycle, type JobFailure } from './lifecycle.js';
 import { BatchedPersistence } from './persistence.js';
 import { StudyDatasets } from './study-datasets.js';
 import { StopControl, type Clock } from './stop-control.js';
@@ -69,10 +69,11 @@ export interface ExecuteOptions {
   /** Milliseconds clock the time limit is read from (tests move it instead of waiting). @default Date.now */
   clock?: Clock;
   /**
-   * How a trial's time per row is measured, once after its first result (`false`: not measured).
-   * @default the engine's forward pass over a fixed batch in this thread ({@link measureRowMicroseconds})
+   * Whether each trial's time per row is measured: its jobs ask the thread (or worker) that trains them
+   * to time the network after the job (`trainers/engine/row-timing.ts`) until a time is recorded.
+   * @default true
    */
-  timeRows?: ((configuration: TrialConfiguration, shape: TimedShape) => number) | false;
+  timeRows?: boolean;
 }
 
 export interface StudyOutcome {
@@ -202,20 +203,21 @@ async function openSession(store: StudyStore, data: PreparedData, options: Execu
   const { definition, goal, trials } = store.doc;
   const emit = options.onEvent ?? (() => undefined);
   const datasets = new StudyDatasets(data);
-  // The study's own data set sizes the networks (a pooling choice only ever has fewer inputs).
-  const dataset = datasets.study;
-  const shape = { inputs: dataset.inputCount, outputs: dataset.outputCount };
+  // Each configuration's network is sized by the inputs of the data prepared for its preprocessing choice.
+  const shape = { inputs: datasets.study.inputCount, outputs: datasets.study.outputCount };
+  const inputsFor = (configuration: TrialConfiguration): number => datasets.inputsFor(configuration);
   const maxWeights = definition.footprint?.maxWeights;
   const against = definition.footprint?.against;
+  const shapeOf = (configuration: TrialConfiguration): NetworkShape => ({ ...shape, inputs: inputsFor(configuration) });
   const sampler = createSampler({
     ...definition,
-    ...(maxWeights !== undefined ? { weightLimit: { maxWeights, shape } } : {}),
-    ...(against !== undefined ? { secondGoal: secondGoalMeasure(against, shape) } : {}),
+    ...(maxWeights !== undefined ? { weightLimit: { maxWeights, shape, inputsFor } } : {}),
+    ...(against !== undefined ? { secondGoal: secondGoalMeasure(against, shapeOf) } : {}),
   });
   // The search's plan and the repeat runs after it: the progress counters count both.
   const planned = withRepeats(plannedBudget(definition), recordedRepeatSettings(definition), definition.budget.maxEpochs, data.folds !== undefined);
   const queue = replay(sampler, recordedOutcomes(trials, goal), new Map(trials.map((t) => [t.id, t.configuration]))).pending;
-  const lifecycle = new TrialLifecycle(store.doc, sampler, planned, sizeAndSpeed(dataset, options.timeRows));
+  const lifecycle = new TrialLifecycle(store.doc, sampler, planned, { shapeOf, timeRows: options.timeRows ?? true });
   const keeper = new CheckpointKeeper(options.checkpoints ?? new FolderCheckpointStore(store.dir));
   const withCheckpoint = [...(await keeper.list()), ...trials.map((t) => t.id)];
   const persistence = new BatchedPersistence<Announced>(store, keeper, sampler, announcer(emit, goal), withCheckpoint, definition.keptNetworks);
@@ -232,15 +234,6 @@ async function openSession(store: StudyStore, data: PreparedData, options: Execu
   // Before the first trial, so every trial is checked against them (a study from before baselines gets them on resume).
   store.doc.baselines ??= await studyBaselines(data, data.folds ? datasets.foldsOf(datasets.study) : [datasets.study], goal, definition.budget.maxEpochs, definition.sampler.seed);
   return { store, options, definition, threads, emit, note: noteOnce(emit), sampler, planned, queue, lifecycle, keeper, persistence, datasets, stop, running: new Map(), busySeconds: 0, jobsEnded: 0, epochsAtStart: lifecycle.progress().epochsDone + repeatProgress(store.doc.repeats).epochs };
-}
-
-/** The data's shape for weight counts, and the row timer (the engine's forward pass in this thread unless the options replace or refuse it). */
-function sizeAndSpeed(dataset: SharedDataset, timeRows: ExecuteOptions['timeRows']): SizeAndSpeed {
-  const shape = { inputs: dataset.inputCount, outputs: dataset.outputCount };
-  if (timeRows === false) return { shape };
-  const timer = timeRows ?? measureRowMicroseconds;
-  const timed = { task: dataset.task, inputCount: dataset.inputCount, outputCount: dataset.outputCount };
-  return { shape, timeRows: (configuration) => timer(configuration, timed) };
 }
 
 /** After each save: one `trial-finished` event per saved job, with the ranking's leader at that moment. */
@@ -263,8 +256,9 @@ function noteOnce(emit: StudyObserver): (message: string, key?: string) => void 
 }
 
 function announceStart(session: Session, resumed: boolean, resumeNotes: readonly string[]): void {
-  const { store, emit, threads, planned, lifecycle, note } = session;
-  emit({ type: 'study-started', name: store.doc.name, dir: store.dir, threads, plannedTrials: planned.trials, plannedEpochs: planned.epochs, resumed, progress: progressOf(session) });
+  const { store, emit, threads, planned, lifecycle, note, datasets } = session;
+  const shape = { inputs: datasets.study.inputCount, outputs: datasets.study.outputCount };
+  emit({ type: 'study-started', name: store.doc.name, dir: store.dir, threads, plannedTrials: planned.trials, plannedEpochs: planned.epochs, resumed, progress: progressOf(session), shape });
   for (const message of [...store.notes, ...resumeNotes]) note(message);
 }
 
@@ -300,7 +294,7 @@ async function startJob(session: Session, transport: TrialTransport, proposed: J
   emit({ type: 'job-started', job, fromCheckpoint: checkpoint !== undefined });
   const abort = jobAbort(session);
   const done = transport
-    .run(trainJobOf(session, job, record.seed, datasetId, checkpoint), (report) => emit({ type: 'epoch', report }), abort.signal)
+    .run(trainJobOf(session, job, record, datasetId, checkpoint), (report) => emit({ type: 'epoch', report }), abort.signal)
     .then(
       (result) => settleResult(session, job, result),
       (error: unknown) => settleFailure(session, transport, job, abort.timedOut(), error),
@@ -346,11 +340,11 @@ function jobAbort(session: Session): { signal: AbortSignal; timedOut: () => bool
 }
 
 /** What the transport is asked to train for a job. */
-function trainJobOf(session: Session, job: Job, seed: number, datasetId: string, checkpoint: Uint8Array | undefined): TrainJob {
+function trainJobOf(session: Session, job: Job, record: TrialRecord, datasetId: string, checkpoint: Uint8Array | undefined): TrainJob {
   const { definition, store } = session;
   return {
     trialId: job.trialId,
-    seed,
+    seed: record.seed,
     configuration: job.configuration,
     datasetId,
     fromEpoch: job.fromEpoch,
@@ -358,6 +352,7 @@ function trainJobOf(session: Session, job: Job, seed: number, datasetId: string,
     ...(hasSchedule(job.configuration) ? { maxEpochs: definition.budget.maxEpochs } : {}),
     ...(definition.earlyStopping ? { earlyStopping: { rule: definition.earlyStopping, goal: store.doc.goal } } : {}),
     ...(checkpoint ? { checkpoint } : {}),
+    ...(session.lifecycle.wantsRowTime(record) ? { timeRows: true } : {}),
   };
 }
 

@@ -5,7 +5,7 @@
  */
 import { trialSeed } from '../random/streams.js';
 import type { Job, Sampler } from '../samplers/sampler.js';
-import type { Goal } from '../core/configuration.js';
+import type { Goal, TrialConfiguration } from '../core/configuration.js';
 import type { StudyDefinition } from '../study/definition.js';
 import { orientedLoss, scoredEpochs } from '../core/ranking.js';
 import { isEnded } from '../core/trial-status.js';
@@ -17,13 +17,13 @@ import type { TrainResult } from '../core/job.js';
 import type { StudyProgress } from './events.js';
 import { applyResult, newTrialRecord } from './trial-records.js';
 import { weightCount, type NetworkShape } from '../core/size.js';
-import type { TrialConfiguration } from '../core/configuration.js';
 
-/** What the lifecycle needs to record a trial's size and speed: the data's shape and a way to time a network (none: not timed). */
+/** What the lifecycle needs to record a trial's size and speed: each configuration's data shape, and whether jobs ask for the time per row. */
 export interface SizeAndSpeed {
-  shape: NetworkShape;
-  /** Microseconds per row of the configuration's network (`trainers/engine/row-timing.ts`), or undefined to leave it unmeasured. */
-  timeRows?: (configuration: TrialConfiguration) => number;
+  /** The shape of the data a configuration trains on (its preprocessing choice's inputs). */
+  shapeOf: (configuration: TrialConfiguration) => NetworkShape;
+  /** True: a trial's jobs ask the thread that trains them to time its network (`TrainJob.timeRows`) until a time is recorded. */
+  timeRows: boolean;
 }
 
 /** Why a job did not bring a result. */
@@ -45,9 +45,15 @@ export class TrialLifecycle {
   ) {
     this.records = new Map(doc.trials.map((t) => [t.id, t]));
     // A study from before weight counts gets them on resume (they follow from configuration and data alone).
-    if (sizeAndSpeed) for (const t of doc.trials) t.weightCount ??= weightCount(t.configuration, sizeAndSpeed.shape.inputs, sizeAndSpeed.shape.outputs);
+    if (sizeAndSpeed) for (const t of doc.trials) t.weightCount ??= this.weightsOf(t.configuration);
     for (const t of doc.trials) if (t.status === 'waiting') this.waiting.add(t.id);
     this.jobsDone = doc.trials.reduce((sum, t) => sum + t.jobs.filter((j) => j.status !== 'training' && j.status !== 'cut-off').length, 0);
+  }
+
+  /** The configuration's weight count for the data it trains on. */
+  private weightsOf(configuration: TrialConfiguration): number {
+    const { inputs, outputs } = this.sizeAndSpeed!.shapeOf(configuration);
+    return weightCount(configuration, inputs, outputs);
   }
 
   private get definition(): StudyDefinition {
@@ -86,7 +92,7 @@ export class TrialLifecycle {
     let record = this.records.get(job.trialId);
     if (!record) {
       record = newTrialRecord(job, trialSeed(this.definition.sampler.seed, job.trialId));
-      if (this.sizeAndSpeed) record.weightCount = weightCount(job.configuration, this.sizeAndSpeed.shape.inputs, this.sizeAndSpeed.shape.outputs);
+      if (this.sizeAndSpeed) record.weightCount = this.weightsOf(job.configuration);
       this.records.set(job.trialId, record);
       this.doc.trials.push(record);
     }
@@ -125,7 +131,7 @@ export class TrialLifecycle {
       this.waiting.add(record.id);
     }
     this.jobsDone++;
-    this.measureSpeed(record);
+    this.recordSpeed(record, result);
     const flagged = this.checkHealth(record, job.rung);
     const loss = flagged ? null : orientedLoss(record.score, this.goal);
     this.sampler.report({ trialId: job.trialId, rung: job.rung, loss, ...(result.stoppedAtEpoch !== undefined ? { stopped: true } : {}) });
@@ -153,11 +159,15 @@ export class TrialLifecycle {
     return flagged;
   }
 
-  /** Time the trial's network once, after its first result (the time depends on its shape alone). */
-  private measureSpeed(record: TrialRecord): void {
-    const timeRows = this.sizeAndSpeed?.timeRows;
-    if (timeRows === undefined || record.rowMicroseconds !== undefined || record.status === 'diverged') return;
-    record.rowMicroseconds = timeRows(record.configuration);
+  /** Whether the trial's next job is to time its network: timing is on and no time is recorded yet. */
+  wantsRowTime(record: TrialRecord): boolean {
+    return this.sizeAndSpeed?.timeRows === true && record.rowMicroseconds === undefined;
+  }
+
+  /** Record the time per row the trial's training thread measured, the first time one comes (the time depends on its shape alone). */
+  private recordSpeed(record: TrialRecord, result: TrainResult): void {
+    if (!this.wantsRowTime(record) || result.rowMicroseconds === undefined || record.status === 'diverged') return;
+    record.rowMicroseconds = result.rowMicroseconds;
   }
 
   /**

@@ -45,7 +45,7 @@ export async function runStudy(study: string | LoadedStudy, options: RunOptions 
   });
   const outputCount = data.recipe.task === 'multiclass' ? (data.recipe.classes?.length ?? 0) : 1;
   checkCapacity({ definition, inputCount: data.recipe.inputCount, outputCount, ...(options.threads !== undefined ? { threads: options.threads } : {}) }, file);
-  checkFootprint(definition, { inputs: data.recipe.inputCount, outputs: outputCount }, file);
+  checkFootprint(definition, { inputs: data.recipe.inputCount, outputs: outputCount }, file, data.inputCountFor);
   const dir = path.resolve(options.out ?? path.join('runs', definition.name));
   const lock = await mkdir(dir, { recursive: true })
     .then(() => lockStudy(dir))

@@ -28,6 +28,7 @@ export class StudyDatasets {
   /** The study's own data set (the default preprocessing). */
   readonly study: SharedDataset;
   private readonly byChoice = new Map<string, Promise<SharedDataset>>();
+  private readonly inputsByChoice = new Map<string, number>();
   private readonly folds = new Map<string, SharedDataset[]>();
 
   constructor(private readonly data: PreparedData) {
@@ -40,6 +41,22 @@ export class StudyDatasets {
     const folds = this.folds.get(dataset.id);
     if (!folds) throw new Error(`study data sets: no folds for data set ${dataset.id}`);
     return folds;
+  }
+
+  /**
+   * Model inputs of the data set a configuration trains on, known before it is prepared (from its
+   * choice's recipe: `PreparedData.inputCountFor`), so the weight limit sizes each configuration by its own inputs.
+   */
+  inputsFor(configuration: Pick<TrialConfiguration, 'numericInputs' | 'poolCategoriesBelow'>): number {
+    const choice = preprocessingOf(configuration);
+    if (isDefaultPreprocessing(choice) || !this.data.inputCountFor) return this.study.inputCount;
+    const key = choiceKey(choice);
+    let inputs = this.inputsByChoice.get(key);
+    if (inputs === undefined) {
+      inputs = this.data.inputCountFor(choice);
+      this.inputsByChoice.set(key, inputs);
+    }
+    return inputs;
   }
 
   /**

@@ -46,14 +46,18 @@ export interface SamplerDefinition {
 /** A largest network in weights, for the data's shape. */
 export interface WeightLimit {
   maxWeights: number;
+  /** The data's shape: the study's own data set. */
   shape: NetworkShape;
+  /** Model inputs of the data prepared for a configuration's preprocessing choice; absent: `shape.inputs` for every configuration. */
+  inputsFor?: (configuration: TrialConfiguration) => number;
 }
 
-/** Cuts a drawn configuration to the weight limit (see `fitWeightLimit`); the identity without one. */
+/** Cuts a drawn configuration to the weight limit (see `fitWeightLimit`), sized by its own inputs; the identity without one. */
 export function narrowing(space: SearchSpace, limit: WeightLimit | undefined): (configuration: TrialConfiguration) => TrialConfiguration {
   if (limit === undefined) return (configuration) => configuration;
   return (configuration) => {
-    const fitted = fitWeightLimit(configuration, limit.shape, limit.maxWeights, space);
+    const shape = limit.inputsFor ? { ...limit.shape, inputs: limit.inputsFor(configuration) } : limit.shape;
+    const fitted = fitWeightLimit(configuration, shape, limit.maxWeights, space);
     // The study is refused before its first trial when the smallest network of the space is over the limit.
     if (fitted === undefined) throw new Error(`no network of the space fits ${limit.maxWeights} weights`);
     return fitted;

@@ -9,7 +9,7 @@
  * taken), against one reference point for all fronts; observations without a loss come last.
  */
 import { nonDominatedFronts, type SecondGoal } from '../core/front.js';
-import { denseShapes, weightCount, type NetworkShape } from '../core/size.js';
+import { rowWork, weightCount, type NetworkShape } from '../core/size.js';
 import type { TrialConfiguration } from '../core/configuration.js';
 
 /** A finished (or pending) trial as TPE's split sees it: its loss (null: none) and its second value, both smaller-better. */
@@ -25,13 +25,21 @@ export type SecondGoalMeasure = (configuration: TrialConfiguration) => number;
 /**
  * The value TPE weighs a configuration's loss against, from the configuration and the data's shape
  * alone so that proposals stay the same for any number of threads and after a resume: `weights` is
- * the weight count the trial records; `time` is the forward pass's multiply-adds per row (the dense
- * layers' fan-in x fan-out), standing in for the measured time per row, which varies with the load
- * of the machine that measures it.
+ * the weight count the trial records; `time` is the work of a row (`rowWork`: the dense layers'
+ * fan-in x fan-out, and the residual blocks' normalisations), standing in for the measured time per
+ * row, which varies with the load of the machine that measures it. `shape` may depend on the
+ * configuration (its preprocessing choice sets the number of inputs).
  */
-export function secondGoalMeasure(against: SecondGoal, shape: NetworkShape): SecondGoalMeasure {
-  if (against === 'weights') return (configuration) => weightCount(configuration, shape.inputs, shape.outputs);
-  return (configuration) => denseShapes(configuration, shape.inputs, shape.outputs).reduce((sum, { fanIn, fanOut }) => sum + fanIn * fanOut, 0);
+export function secondGoalMeasure(against: SecondGoal, shape: NetworkShape | ((configuration: TrialConfiguration) => NetworkShape)): SecondGoalMeasure {
+  const shapeOf = typeof shape === 'function' ? shape : () => shape;
+  if (against === 'weights') return (configuration) => {
+    const { inputs, outputs } = shapeOf(configuration);
+    return weightCount(configuration, inputs, outputs);
+  };
+  return (configuration) => {
+    const { inputs, outputs } = shapeOf(configuration);
+    return rowWork(configuration, inputs, outputs);
+  };
 }
 
 /** Share of each goal's observed range the reference point lies beyond the worst value. Common practice (no source). */

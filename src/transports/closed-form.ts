@@ -16,6 +16,8 @@ export interface ClosedFormTransportOptions {
   capacity?: number;
   /** Wall time each epoch takes, so that jobs overlap as they do in training. @default 0 */
   millisecondsPerEpoch?: number;
+  /** The time per row a job that asks for it (`timeRows`) returns, from its configuration (deterministic, unlike a measurement). @default none returned */
+  rowMicroseconds?: (configuration: TrialConfiguration) => number;
 }
 
 /**
@@ -65,7 +67,8 @@ export class ClosedFormTransport implements TrialTransport {
       },
       [],
     );
-    return { trialId: job.trialId, status: 'completed', epochs, checkpoint, workerSeconds: 0, ranOn: 'closed form' };
+    const timed = job.timeRows === true && this.options.rowMicroseconds ? { rowMicroseconds: this.options.rowMicroseconds(job.configuration) } : {};
+    return { trialId: job.trialId, status: 'completed', epochs, checkpoint, workerSeconds: 0, ranOn: 'closed form', ...timed };
   }
 
   async close(): Promise<void> {}

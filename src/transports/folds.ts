@@ -136,6 +136,8 @@ export class FoldsTransport implements TrialTransport {
             const foldJob: TrainJob = { ...job, datasetId: fold.id };
             if (parts) foldJob.checkpoint = parts[i]!;
             else delete foldJob.checkpoint;
+            // The folds' networks have one shape: the first fold's thread times it.
+            if (i > 0) delete foldJob.timeRows;
             return this.inner.run(foldJob, reported(i), stop.signal);
           }).catch((error: unknown) => {
             firstFailure ??= { error };
@@ -199,6 +201,7 @@ function combineResults(job: TrainJob, results: readonly TrainResult[]): TrainRe
     workerSeconds: results.reduce((sum, result) => sum + result.workerSeconds, 0),
   };
   if (places.length > 0) combined.ranOn = places.join(', ');
+  if (results[0]?.rowMicroseconds !== undefined) combined.rowMicroseconds = results[0].rowMicroseconds;
   if (results.every((result) => result.tensorsBefore !== undefined && result.tensorsAfter !== undefined)) {
     combined.tensorsBefore = results.reduce((sum, result) => sum + result.tensorsBefore!, 0);
     combined.tensorsAfter = results.reduce((sum, result) => sum + result.tensorsAfter!, 0);

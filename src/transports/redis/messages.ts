@@ -72,6 +72,7 @@ export const wireJobSchema = z
     maxEpochs: positiveCount.optional(),
     earlyStopping: z.strictObject({ rule: earlyStoppingSchema, goal: goalSchema }).optional(),
     repeat: positiveCount.optional(),
+    timeRows: z.boolean().optional(),
   })
   .refine((job) => job.toEpoch > job.fromEpoch, { message: 'must be above fromEpoch', path: ['toEpoch'] })
   .refine((job) => job.fromEpoch === 0 || job.checkpoint !== undefined, { message: 'no checkpoint, though fromEpoch is above 0', path: ['checkpoint'] });
@@ -117,6 +118,7 @@ export const wireResultSchema = z.object({
   classFigures: classFiguresSchema.optional(),
   workerSeconds: z.number().min(0),
   ranOn: z.string().max(300).optional(),
+  rowMicroseconds: z.number().positive().finite().optional(),
   tensorsBefore: count.optional(),
   tensorsAfter: count.optional(),
 });

@@ -10,13 +10,15 @@ import { queuedJobSchema, queuedResultSchema, readEntry } from './messages.js';
 import type { EpochReport, TrainJob, TrainResult } from '../../core/job.js';
 
 /**
- * Raised whenever the job, result, data-set or registry layout changes (5: jobs may carry `repeat`, a
+ * Raised whenever the job, result, data-set or registry layout changes (6: jobs may carry `timeRows` and
+ * results `rowMicroseconds`, the time per row measured by the worker's thread after the job, which a
+ * version-5 worker's schema would refuse; 5: jobs may carry `repeat`, a
  * repeat run after the search, which a version-4 worker's schema would refuse; 4: every entry is checked
  * against a schema, jobs carry their data set's SHA-256, entries may carry a study key's signature,
  * progress is `{ report, signature }`; 3: jobs carry `maxEpochs` and `earlyStopping`, results
  * `bestEpoch`, `stoppedAtEpoch` and `divergedAfterBest`).
  */
-export const QUEUE_PROTOCOL_VERSION = 5;
+export const QUEUE_PROTOCOL_VERSION = 6;
 
 /** BullMQ's key prefix and ours: everything rungwise keeps in Redis starts with it. */
 export const KEY_PREFIX = 'rungwise';
