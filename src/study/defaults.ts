@@ -23,7 +23,7 @@ export interface DataShape {
   budget?: { trials: number; maxEpochs: number };
 }
 
-/** Where each default comes from, one line each, in the order the README lists them. */
+/** Where each default comes from, one line each, as docs/study-definition.md ("A study from a CSV and a target") lists them. */
 export const DEFAULT_SOURCES: readonly string[] = [
   'depth 1 to 4, width 32 to 512 (log), dropout 0 to 0.5, L2 1e-6 to 1e-3 (log): narrowed from the MLP search space of Gorishniy, Rubachev, Khrulkov, Babenko, "Revisiting Deep Learning Models for Tabular Data", NeurIPS 2021 (appendix; from memory), to what trains on two cores in minutes',
   'learning rate 1e-4 to 1e-2 (log) with Adam: the same search space, its lower end raised (from memory); Adam: Kingma and Ba, ICLR 2015',
