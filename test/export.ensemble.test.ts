@@ -16,6 +16,7 @@ import { onnxInputs } from './helpers/exports.js';
 import { loadModel, predict, type ClassPrediction, type LoadedModel, type ValuePrediction } from '../src/export/hand-off.js';
 import type { SplitRecord } from '../src/store/split-record.js';
 import { StudyStore } from '../src/store/study-store.js';
+import type { StudyDefinitionInput } from '../src/study/definition.js';
 
 const exec = promisify(execFile);
 const ROOT = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '..');
@@ -176,3 +177,28 @@ describe('export --ensemble on the tiny studies', () => {
   });
 });
 
+
+describe('export --ensemble of a study that searches preprocessing', () => {
+  it('gives its members rank 1\'s numeric-input recipe, so the winner alone scores as `export` scores it', async () => {
+    const root = await mkdtemp(path.join(tmpdir(), 'rungwise-ensemble-inputs-'));
+    const { $schema: _schema, ...written } = JSON.parse(await readFile(path.join(TINY, 'study-regression.json'), 'utf8')) as StudyDefinitionInput & { $schema?: string };
+    const definition: StudyDefinitionInput = { ...written, space: { ...written.space, numericInputs: ['robust-clip'] } };
+    const runDir = path.join(root, 'run');
+    await run({ definition, baseDir: TINY, out: runDir, progress: false });
+    const summary = await exportEnsemble({ dir: runDir, size: 3 });
+    const single = await loadModel((await exportModel({ dir: runDir, rank: 1, out: path.join(root, 'rank-1') })).out);
+    const ensemble = await loadModel(summary.out);
+    try {
+      const table = await readCsv(path.join(TINY, 'tiny-regression.csv'));
+      const split = JSON.parse(await readFile(path.join(runDir, 'splits.json'), 'utf8')) as SplitRecord;
+      const test = split.test.map((row) => table.rows[row - 1]!);
+      expect(summary.ensemble.members.every((member) => member.configuration.numericInputs === 'robust-clip')).toBe(true);
+      expect(ensemble.configuration.recipe).toEqual(single.configuration.recipe);
+      expect(summary.ensemble.winnerTest?.rmse).toBeCloseTo(testFigure(single, test), 5);
+      expect(summary.ensemble.test?.rmse).toBeCloseTo(testFigure(ensemble, test), 5);
+    } finally {
+      single.dispose();
+      ensemble.dispose();
+    }
+  });
+});

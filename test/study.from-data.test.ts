@@ -81,6 +81,25 @@ describe('the default study', () => {
     expect(defaultBudget(100_000)).toEqual({ trials: 81, minEpochs: 1, maxEpochs: 27 });
     expect(studyNameFor('My data (2024).csv')).toBe('My-data-2024');
   });
+
+  it('searches the published recipes\' preprocessing, regularisers and schedule, label smoothing for classification only', () => {
+    const classification = validateStudy(defaultStudy({ csv: 'data.csv', target: 'y', task: 'multiclass', rows: 150, columns: 5 }), 'default');
+    const regression = validateStudy(defaultStudy({ csv: 'data.csv', target: 'y', task: 'regression', rows: 398, columns: 8 }), 'default');
+    // From memory: RealMLP-TD (Holzmüller, Grinsztajn, Steinwart, "Better by Default", NeurIPS 2024) scales
+    // numbers robustly with a smooth clip and smooths classification labels by 0.1.
+    expect(classification.space.numericInputs).toEqual(['standardise', 'robust-clip']);
+    expect(classification.space.labelSmoothing).toEqual({ min: 0, max: 0.2, log: false });
+    expect(classification.tryFirst?.[0]).toMatchObject({ numericInputs: 'robust-clip', labelSmoothing: 0.1, schedule: 'cosine', warmupEpochs: 0 });
+    // Source: Kadra, Lindauer, Hutter, Grabocka, "Well-tuned Simple Nets Excel on Tabular Datasets", NeurIPS 2021:
+    // regularisers (here decoupled weight decay beside L2 and dropout) searched together.
+    expect(classification.space.weightDecay).toEqual({ min: 1e-6, max: 1e-3, log: true });
+    expect(classification.space.schedule?.kind).toEqual(['constant', 'cosine']);
+    expect(regression.space.labelSmoothing).toBeUndefined();
+    expect(regression.tryFirst?.[0]?.labelSmoothing).toBeUndefined();
+    expect(regression.space.numericInputs).toEqual(['standardise', 'robust-clip']);
+    // Residual blocks cannot yet be searched with weight decay or label smoothing: the default keeps plain blocks.
+    expect(classification.space.block).toBeUndefined();
+  });
 });
 
 describe('run from data alone', () => {

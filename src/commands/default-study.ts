@@ -66,8 +66,9 @@ function defaultStudyInWords(definition: StudyDefinition): string {
   const sampler = definition.sampler;
   const minEpochs = 'minEpochs' in sampler ? sampler.minEpochs : 1;
   const first = definition.tryFirst?.[0];
-  const start = first ? `, starting from ${first.depth} x ${first.width} ${first.activation}, adam at ${first.learningRate}, dropout ${first.dropout} (RealMLP-TD's shape, Holzmüller et al. 2024)` : '';
-  return `default study: ${definition.budget.trials} configurations by successive halving, ${minEpochs} to ${definition.budget.maxEpochs} epochs${start}; sources in the README ("A study from a CSV and a target")`;
+  const recipe = first ? [first.numericInputs && `${first.numericInputs} inputs`, first.schedule && `${first.schedule} schedule`, first.labelSmoothing !== undefined && `label smoothing ${first.labelSmoothing}`].filter(Boolean) : [];
+  const start = first ? `, starting from ${first.depth} x ${first.width} ${first.activation}, adam at ${first.learningRate}, dropout ${first.dropout}${recipe.map((part) => `, ${part}`).join('')} (RealMLP-TD's recipe, Holzmüller et al. 2024)` : '';
+  return `default study: ${definition.budget.trials} configurations by successive halving, ${minEpochs} to ${definition.budget.maxEpochs} epochs${start}; sources in docs/study-definition.md ("A study from a CSV and a target")`;
 }
 
 /** A path relative to the working directory when inside it, else absolute. */

@@ -1,9 +1,10 @@
 import { existsSync } from 'node:fs';
 import { copyFile, writeFile } from 'node:fs/promises';
 import path from 'node:path';
+import { isDeepStrictEqual } from 'node:util';
 import type * as tf from '@tensorflow/tfjs';
 import { UserError } from '../core/errors.js';
-import type { Goal } from '../core/configuration.js';
+import { isDefaultPreprocessing, preprocessingOf, type Goal } from '../core/configuration.js';
 import { rankTrials, type RankedTrial } from '../core/ranking.js';
 import type { PreparedData } from '../data/types.js';
 import { writeFolderAtomically } from '../files/atomic-folder.js';
@@ -75,17 +76,18 @@ export async function exportEnsemble(options: EnsembleExportOptions): Promise<En
   const runDir = path.resolve(options.dir);
   const doc = await StudyStore.read(runDir);
   const studyFile = studyFilePath(runDir);
-  const ranked = await ensembleLibrary(runDir, doc, options.size, studyFile);
-  const data = await studyData(doc, studyFile, { command: 'export --ensemble', allowChangedData: options.allowChangedData ?? false });
+  const offered = await ensembleLibrary(runDir, doc, options.size, studyFile);
+  const studyRows = await studyData(doc, studyFile, { command: 'export --ensemble', allowChangedData: options.allowChangedData ?? false });
+  const { ranked, data, own } = await sharedPreprocessing(doc, offered, studyRows);
   await initBackend();
   const library: LibraryNetwork[] = [];
-  for (const entry of ranked) library.push(libraryNetwork(entry, await keptCheckpointWeights(runDir, doc, entry), doc.recipe, data.validation, data.test));
-  const chosen = chooseEnsemble(library, doc.recipe, data.validation, doc.goal, data.costMatrix);
-  const figures = ensembleFigures(doc, data, library, chosen);
+  for (const entry of ranked) library.push(libraryNetwork(entry, await keptCheckpointWeights(runDir, doc, entry), own.recipe, data.validation, data.test));
+  const chosen = chooseEnsemble(library, own.recipe, data.validation, doc.goal, data.costMatrix);
+  const figures = ensembleFigures(own, data, library, chosen);
   const out = path.resolve(options.out ?? runPaths.ensembleExportDir(runDir, options.size));
   const format = options.format ?? 'tfjs';
   const splitRecord = existsSync(runPaths.splitRecord(runDir)) ? runPaths.splitRecord(runDir) : undefined;
-  const configuration = ensembleConfiguration(doc, data, library[0]!.ranked, figures);
+  const configuration = ensembleConfiguration(own, data, library[0]!.ranked, figures);
   await writeFolderAtomically(out, (existing) => existsSync(path.join(existing, CONFIGURATION_FILE)), (partial) => writeEnsemble(partial, library, configuration, format, splitRecord));
   const members = figures.description.members.map((member) => `${member.folder}/`);
   return {
@@ -141,6 +143,20 @@ async function ensembleLibrary(runDir: string, doc: StudyDocument, size: number,
     );
   }
   return library;
+}
+
+/**
+ * The members of an ensemble share one preprocessing recipe (the exported model applies one): rank 1's
+ * choice (`numericInputs`, `poolCategoriesBelow`). Ranks trained under another choice are left out of
+ * the library, and the data and the recorded recipe are those of rank 1's choice.
+ */
+async function sharedPreprocessing(doc: StudyDocument, offered: RankedTrial[], data: PreparedData): Promise<{ ranked: RankedTrial[]; data: PreparedData; own: StudyDocument }> {
+  const choice = preprocessingOf(offered[0]!.trial.configuration);
+  const ranked = offered.filter((entry) => isDeepStrictEqual(preprocessingOf(entry.trial.configuration), choice));
+  if (isDefaultPreprocessing(choice)) return { ranked, data, own: doc };
+  if (!data.prepareChoice) throw new Error(`export --ensemble: the study's data were prepared without its preprocessing choices`);
+  const chosen = await data.prepareChoice(choice);
+  return { ranked, data: chosen, own: { ...doc, recipe: chosen.recipe } };
 }
 
 interface EnsembleFigures {

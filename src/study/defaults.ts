@@ -23,14 +23,18 @@ export interface DataShape {
   budget?: { trials: number; maxEpochs: number };
 }
 
-/** Where each default comes from, one line each, in the order the README lists them. */
+/** Where each default comes from, one line each, as docs/study-definition.md ("A study from a CSV and a target") lists them. */
 export const DEFAULT_SOURCES: readonly string[] = [
   'depth 1 to 4, width 32 to 512 (log), dropout 0 to 0.5, L2 1e-6 to 1e-3 (log): narrowed from the MLP search space of Gorishniy, Rubachev, Khrulkov, Babenko, "Revisiting Deep Learning Models for Tabular Data", NeurIPS 2021 (appendix; from memory), to what trains on two cores in minutes',
   'learning rate 1e-4 to 1e-2 (log) with Adam: the same search space, its lower end raised (from memory); Adam: Kingma and Ba, ICLR 2015',
   'activations relu, selu and swish: selu for classification and a smooth activation (mish, here swish) for regression are the defaults of RealMLP-TD, Holzmüller, Grinsztajn, Steinwart, "Better by Default", NeurIPS 2024 (from memory); relu as the common baseline',
   'first configuration 3 x 256, dropout 0.15: RealMLP-TD\'s shape and dropout (Holzmüller et al. 2024, from memory); learning rate 0.001 (Adam\'s default, Kingma and Ba 2015); L2 at the bottom of its range, since RealMLP-TD uses no weight decay',
   'batch sizes by rows (32 to 128 below 5,000 rows, 128 to 512 above): common practice (no source); RealMLP-TD uses 256',
-  'sampler: successive halving (Jamieson and Talwalkar, AISTATS 2016) with eta 3 over 4 rungs; trials and epochs from the rows so a 2,000-row, 30-column set takes about three minutes on two cores (measured on a generated set: DEVELOPERS.md, "Performance: measured figures")',
+  'numeric inputs standardise or robust-clip, the known-good configuration robust-clip: robust scaling with smooth clipping is RealMLP-TD\'s preprocessing (Holzmüller, Grinsztajn, Steinwart, "Better by Default", NeurIPS 2024, from memory); measured against standardising alone on the reference sets (docs/performance.md)',
+  'weight decay 1e-6 to 1e-3 (log) beside L2 and dropout, searched together: Kadra, Lindauer, Hutter, Grabocka, "Well-tuned Simple Nets Excel on Tabular Datasets", NeurIPS 2021 (their regularisation cocktail includes decoupled weight decay; from memory); decoupled weight decay: Loshchilov and Hutter, ICLR 2019',
+  'schedule constant or cosine (no warm-up), the known-good configuration cosine: cosine annealing, Loshchilov and Hutter, "SGDR", ICLR 2017; RealMLP-TD decays its learning rate over training (Holzmüller et al. 2024, from memory); measured with and without (docs/performance.md)',
+  'label smoothing 0 to 0.2 for classification, the known-good configuration 0.1: RealMLP-TD\'s classification default (Holzmüller et al. 2024, from memory); label smoothing: Szegedy et al., CVPR 2016',
+  'sampler: successive halving (Jamieson and Talwalkar, AISTATS 2016) with eta 3 over 4 rungs; trials and epochs from the rows so a 2,000-row, 30-column set takes about three minutes on two cores (measured on a generated set, and again with the recipe\'s options, which cost no more per weight and epoch: docs/performance.md)',
 ];
 
 /** Data rows for which the budget below was measured; smaller sets get more epochs, larger ones fewer. */
@@ -47,6 +51,12 @@ export function defaultFirstConfiguration(task: Task, rows: number): TrialConfig
     optimizer: 'adam',
     l2: 1e-6,
     dropout: 0.15,
+    schedule: 'cosine',
+    warmupEpochs: 0,
+    minFactor: 0,
+    weightDecay: 1e-6,
+    numericInputs: 'robust-clip',
+    ...(task === 'regression' ? {} : { labelSmoothing: 0.1 }),
   };
 }
 
@@ -89,6 +99,10 @@ export function defaultStudy(shape: DataShape): StudyDefinitionInput {
       optimizer: ['adam'],
       l2: { min: 1e-6, max: 1e-3, log: true },
       dropout: { min: 0, max: 0.5, log: false },
+      schedule: { kind: ['constant', 'cosine'], warmupEpochs: 0 },
+      weightDecay: { min: 1e-6, max: 1e-3, log: true },
+      numericInputs: ['standardise', 'robust-clip'],
+      ...(shape.task === 'regression' ? {} : { labelSmoothing: { min: 0, max: 0.2, log: false } }),
     },
     budget: { trials, maxEpochs },
     sampler: { kind: 'successive-halving', seed: 0, eta: 3, minEpochs },
