@@ -127,7 +127,7 @@ export async function exportEnsembleAction(dir: string, flags: { ensemble: numbe
 async function ensembleLibrary(runDir: string, doc: StudyDocument, size: number, studyFile: string): Promise<RankedTrial[]> {
   if (!Number.isInteger(size) || size < 2) throw new UserError('E_USAGE', `export: --ensemble must be a whole number from 2 up (the ranks offered to the selection), got '${size}'`);
   if (doc.definition.data.folds !== undefined) {
-    throw new UserError('E_EXPORT_ENSEMBLE', `${studyFile}: a k-fold study keeps no network trained on the training split alone, so --ensemble cannot choose on the validation split; use \`rungwise export ${runDir}\` (it retrains)`);
+    throw new UserError('E_EXPORT_ENSEMBLE', `${studyFile}: a k-fold study keeps no network trained on the training split alone, so --ensemble cannot choose on the validation split; use \`rungwise export ${runDir} --average-folds\` (rank 1's fold networks averaged) or \`rungwise export ${runDir}\` (it retrains)`);
   }
   const ranking = rankTrials(doc.trials, doc.goal);
   if (ranking.length < size) throw new UserError('E_EXPORT_ENSEMBLE', `${studyFile}: --ensemble ${size} needs ${size} ranked trials; the study ranks ${ranking.length}`);
