@@ -170,6 +170,22 @@ describe('export --average-folds on the tiny studies with 3 folds', () => {
     }
   });
 
+  it("takes NaN in a missing category's inputs as the fill category in a single network's model.onnx too", async () => {
+    const c = cases[0]!;
+    const single = await exportModel({ dir: c.runDir, format: 'onnx', out: path.join(c.runDir, 'export', 'single-onnx') });
+    const model = await loadModel(single.out);
+    const { recipe } = model.configuration;
+    model.dispose();
+    const table: CsvTable = { ...c.table, rows: c.rows, lines: c.rows.map((_, i) => i + 2) };
+    const session = await ort.InferenceSession.create(path.join(single.out, 'model.onnx'));
+    const outputs = async (x: Float32Array): Promise<Float32Array> => (await session.run({ features: new ort.Tensor('float32', x, [c.rows.length, recipe.inputCount]) })).output!.data as Float32Array;
+    const withNan = await outputs(onnxInputs(recipe, table, 'nan'));
+    const withFill = await outputs(onnxInputs(recipe, table, 'fill'));
+    await session.release();
+    expect(withNan.some(Number.isNaN)).toBe(false);
+    expect(Array.from(withNan)).toEqual(Array.from(withFill));
+  });
+
   it("records the average's test figure as its predictions on the split's CSV rows give it, and the retrained network's as a plain export gives it", async () => {
     for (const c of cases) {
       const model = await loadModel(c.summary.out);

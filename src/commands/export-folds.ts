@@ -12,7 +12,7 @@ import type { NamedWeights } from '../checkpoints/format.js';
 import { CONFIGURATION_FILE, buildConfiguration, type ExportConfiguration } from '../export/configuration.js';
 import type { EnsembleDescription } from '../export/ensemble-description.js';
 import { memberFolder } from '../export/ensemble-files.js';
-import { metricsOfOutputs, selectionMetric } from '../export/ensemble.js';
+import { goalScorer, metricsOfOutputs } from '../export/ensemble.js';
 import { columnLaidOutOtherwise } from '../export/ensemble-onnx.js';
 import { encoderOfCells, weightedOutputs } from '../export/hand-off.js';
 import { buildLayersModel, predictRows } from '../export/model-files.js';
@@ -195,7 +195,7 @@ function foldNetworks(data: PreparedData, chosen: RankedTrial, weights: NamedWei
     const network = buildLayersModel(chosen.trial.configuration, fold.recipe, weights[i]!);
     try {
       const outOfFold = predictRows(network, fold.validation.x, fold.validation.rows, fold.recipe.inputCount);
-      const score = metricsOfOutputs(fold.recipe, fold.validation, outOfFold, DEFAULT_THRESHOLD, fold.costMatrix)[selectionMetric(fold.recipe, goal)] ?? Number.NaN;
+      const score = goalScorer(fold.recipe, fold.validation, goal, fold.costMatrix)(outOfFold);
       return { fold: i + 1, recipe: fold.recipe, weights: weights[i]!, outOfFold, score };
     } finally {
       network.dispose();
