@@ -115,6 +115,8 @@ describe('export --average-folds on the tiny studies with 3 folds', () => {
       const trial = doc.trials.find((t) => t.id === c.summary.trialId)!;
       const members = c.summary.ensemble.members;
       expect(members.map((m) => m.fold), c.task).toEqual([1, 2, 3]);
+      const configuration = JSON.parse(await readFile(path.join(c.summary.out, 'configuration.json'), 'utf8')) as { trainedOn: string };
+      expect(configuration.trainedOn, c.task).toBe('each fold network on the other folds of the training and validation splits');
       expect(members.map((m) => m.weight), c.task).toEqual([1 / 3, 1 / 3, 1 / 3]);
       const mean = members.reduce((sum, m) => sum + m.score, 0) / members.length;
       expect(mean, c.task).toBeCloseTo(trial.score!, 4);

@@ -314,6 +314,7 @@ async function retrainedOnTest(doc: StudyDocument, data: PreparedData, chosen: R
 function foldAverageConfiguration(doc: StudyDocument, data: PreparedData, chosen: RankedTrial, figures: FoldAverageFigures): ExportConfiguration {
   const costs = exportCosts(doc, data);
   const configuration = buildConfiguration({ ...doc, recipe: data.recipe }, chosen.trial, chosen.rank, { ...(figures.threshold ? { threshold: figures.threshold } : {}), ...(costs ? { costs } : {}) });
+  configuration.trainedOn = 'each fold network on the other folds of the training and validation splits';
   configuration.ensemble = figures.description;
   configuration.caution = `${FOLD_AVERAGE_CAUTION} ${OPTIMISM_CAUTION}`;
   return configuration;

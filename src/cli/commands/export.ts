@@ -10,7 +10,7 @@ export const exportCommand: CommandDeclaration = ({ program, io }) => {
     ['rungwise export runs/demo --format onnx', 'model.onnx beside the tfjs files'],
     ['rungwise export runs/demo --max-weights 2000', 'the best configuration of at most 2,000 weights on the front'],
     ['rungwise export runs/demo --ensemble 3', 'an ensemble chosen from ranks 1 to 3, scored beside rank 1 on the test split'],
-    ['rungwise export runs/demo-folds --average-folds', "a k-fold study: rank 1's fold networks averaged, scored beside the retrained network on the test split"],
+    ['rungwise export runs/folds --average-folds', "a k-fold study: rank 1's fold networks averaged, scored beside the retrained network on the test split"],
     ['rungwise export runs/demo --one-se-pick', 'the smallest network within one standard error of the best (repeat runs)'],
   ])
     .description('write a ranked configuration with its preprocessing recipe and trained model')
