@@ -4,18 +4,15 @@ import type { Goal } from '../core/configuration.js';
 import { isDefaultPreprocessing, preprocessingOf } from '../core/configuration.js';
 import { UserError } from '../core/errors.js';
 import type { RankedTrial } from '../core/ranking.js';
-import { readCsv } from '../data/csv.js';
-import type { PreparedData, PreprocessingRecipe, SplitArrays } from '../data/types.js';
-import { unscaleTarget } from '../data/recipe.js';
+import type { PreparedData } from '../data/types.js';
 import { writeFolderAtomically } from '../files/atomic-folder.js';
-import type { NamedWeights } from '../checkpoints/format.js';
 import { CONFIGURATION_FILE, buildConfiguration, type ExportConfiguration } from '../export/configuration.js';
 import type { EnsembleDescription } from '../export/ensemble-description.js';
 import { memberFolder } from '../export/ensemble-files.js';
-import { goalScorer, metricsOfOutputs } from '../export/ensemble.js';
+import { metricsOfOutputs } from '../export/ensemble.js';
 import { columnLaidOutOtherwise } from '../export/ensemble-onnx.js';
-import { encoderOfCells, weightedOutputs } from '../export/hand-off.js';
 import { buildLayersModel, predictRows } from '../export/model-files.js';
+import { averageOnTest, foldNetworks, outOfFoldSplit, type FoldNetwork } from '../export/fold-networks.js';
 import { ONNX_FILE } from '../export/onnx-schema.js';
 import { retrainTrial } from '../export/retrain.js';
 import { keptFoldWeights, trialAtRank } from '../export/select.js';
@@ -24,7 +21,7 @@ import type { Metrics } from '../metrics/metrics.js';
 import { OPTIMISM_CAUTION } from '../report/caution.js';
 import { textTable } from '../report/format.js';
 import { SPLIT_RECORD_NAME, runPaths } from '../store/run-dir.js';
-import { studyCsvPath, studyData } from '../store/study-data.js';
+import { studyData } from '../store/study-data.js';
 import { StudyStore, studyFilePath } from '../store/study-store.js';
 import type { StudyDocument } from '../store/types.js';
 import { resolveThresholdRule } from '../study/definition.js';
@@ -64,17 +61,6 @@ export const FOLD_AVERAGE_CAUTION =
 
 const METHOD =
   'the fold networks of one trial, averaged with equal weights: each trained on other rows, so no common validation split is left to weigh them on; the usual cross-validation ensemble (common practice, no source)';
-
-/** The trial's fold networks, each with its recipe (fitted on its own training rows) and its weights. */
-interface FoldNetwork {
-  fold: number;
-  recipe: PreprocessingRecipe;
-  weights: NamedWeights[];
-  /** Its outputs on its own fold's validation rows (rows it did not train on). */
-  outOfFold: Float32Array;
-  /** The goal's metric of this network on those rows. */
-  score: number;
-}
 
 /**
  * `rungwise export --average-folds`: the fold networks of a k-fold trial (rank 1 by default) as one
@@ -187,71 +173,6 @@ function checkOnnxLayout(data: PreparedData): void {
       );
     }
   });
-}
-
-/** Each fold network with its recipe, weights and outputs on its own fold's validation rows. */
-function foldNetworks(data: PreparedData, chosen: RankedTrial, weights: NamedWeights[][], goal: Goal): FoldNetwork[] {
-  return data.folds!.map((fold, i) => {
-    const network = buildLayersModel(chosen.trial.configuration, fold.recipe, weights[i]!);
-    try {
-      const outOfFold = predictRows(network, fold.validation.x, fold.validation.rows, fold.recipe.inputCount);
-      const score = goalScorer(fold.recipe, fold.validation, goal, fold.costMatrix)(outOfFold);
-      return { fold: i + 1, recipe: fold.recipe, weights: weights[i]!, outOfFold, score };
-    } finally {
-      network.dispose();
-    }
-  });
-}
-
-/**
- * Every fold's validation rows with their fold network's outputs, as one split under the export's
- * recipe (a regression target is unscaled with its fold's figures and scaled again with the export's).
- */
-function outOfFoldSplit(data: PreparedData, networks: readonly FoldNetwork[]): { split: SplitArrays; outputs: Float32Array } {
-  const folds = data.folds!;
-  const rows = folds.reduce((sum, fold) => sum + fold.validation.rows, 0);
-  const y = new Float32Array(rows);
-  const outputs = new Float32Array(networks.reduce((sum, network) => sum + network.outOfFold.length, 0));
-  const scaling = data.recipe.targetScaling;
-  let row = 0;
-  let offset = 0;
-  folds.forEach((fold, i) => {
-    fold.validation.y.forEach((value, r) => {
-      const target = unscaleTarget(fold.recipe, value);
-      y[row + r] = scaling ? (target - scaling.mean) / scaling.std : value;
-    });
-    outputs.set(networks[i]!.outOfFold, offset);
-    row += fold.validation.rows;
-    offset += networks[i]!.outOfFold.length;
-  });
-  return { split: { rows, x: new Float32Array(0), y }, outputs };
-}
-
-/** The test rows as CSV cells, read again from the study's CSV by their line numbers: what `predict` would be given. */
-async function testCells(doc: StudyDocument, data: PreparedData): Promise<{ cells: Record<string, string>[]; lines: number[]; file: string }> {
-  const file = studyCsvPath(doc);
-  const table = await readCsv(file);
-  const wanted = new Set(data.test.lines ?? []);
-  const cells: Record<string, string>[] = [];
-  const lines: number[] = [];
-  table.rows.forEach((row, r) => {
-    if (!wanted.has(table.lines[r]!)) return;
-    cells.push(row);
-    lines.push(table.lines[r]!);
-  });
-  if (cells.length !== data.test.rows) throw new Error(`export --average-folds: found ${cells.length} of the ${data.test.rows} test rows in ${file}`);
-  return { cells, lines, file };
-}
-
-/** The average's outputs on the test rows, computed as `predict` computes them: each fold network on the rows encoded under its own recipe. */
-async function averageOnTest(doc: StudyDocument, data: PreparedData, chosen: RankedTrial, networks: readonly FoldNetwork[]): Promise<Float32Array> {
-  const { cells, lines, file } = await testCells(doc, data);
-  const members = networks.map((network) => ({ network: buildLayersModel(chosen.trial.configuration, network.recipe, network.weights), weight: 1 / networks.length, recipe: network.recipe }));
-  try {
-    return weightedOutputs(members, data.recipe, new Float32Array(0), cells.length, encoderOfCells(cells, file, lines));
-  } finally {
-    for (const { network } of members) network.dispose();
-  }
 }
 
 interface FoldAverageFigures {
