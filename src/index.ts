@@ -38,6 +38,7 @@ export { plot, type PlotOptions } from './commands/plot.js';
 export type { Baseline, ChartReferences, NoiseBand } from './plot/charts/references.js';
 export { exportModel, exportReport, type ExportCommandOptions, type ExportFormat, type ExportSummary } from './commands/export.js';
 export { exportEnsemble, ensembleReport, type EnsembleExportOptions, type EnsembleExportSummary } from './commands/export-ensemble.js';
+export { exportFoldAverage, foldAverageReport, type FoldAverageExportOptions, type FoldAverageExportSummary } from './commands/export-folds.js';
 export { predictCsv, predictReport, predictWarnings, type PredictCommandOptions, type PredictSummary } from './commands/predict.js';
 export type { InputIssue, InputIssueKind } from './data/input-checks.js';
 export { runDemo, copyDemo, type DemoOptions } from './commands/demo.js';
@@ -47,6 +48,7 @@ export {
   predictWithChecks,
   decisionThreshold,
   modelOutputs,
+  type EncodeUnder,
   type PredictOptions,
   type CheckedPredictions,
   type LoadedModel,

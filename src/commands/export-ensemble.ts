@@ -6,7 +6,7 @@ import type * as tf from '@tensorflow/tfjs';
 import { UserError } from '../core/errors.js';
 import { isDefaultPreprocessing, preprocessingOf, type Goal } from '../core/configuration.js';
 import { rankTrials, type RankedTrial } from '../core/ranking.js';
-import type { PreparedData } from '../data/types.js';
+import type { PreparedData, PreprocessingRecipe } from '../data/types.js';
 import { writeFolderAtomically } from '../files/atomic-folder.js';
 import { packageVersion } from '../files/package-files.js';
 import { CONFIGURATION_FILE, buildConfiguration, type ExportConfiguration } from '../export/configuration.js';
@@ -14,6 +14,7 @@ import type { EnsembleDescription } from '../export/ensemble-description.js';
 import { chooseEnsemble, libraryNetwork, metricsOfOutputs, selectionMetric, type ChosenEnsemble, type LibraryNetwork } from '../export/ensemble.js';
 import { memberFolder, saveMember } from '../export/ensemble-files.js';
 import { buildLayersModel } from '../export/model-files.js';
+import type { OnnxMember } from '../export/ensemble-onnx.js';
 import { ONNX_FILE } from '../export/onnx-schema.js';
 import { ranksWithCheckpoint, keptCheckpointWeights } from '../export/select.js';
 import { DEFAULT_THRESHOLD, chooseThreshold, type ThresholdChoice } from '../export/threshold.js';
@@ -88,7 +89,7 @@ export async function exportEnsemble(options: EnsembleExportOptions): Promise<En
   const format = options.format ?? 'tfjs';
   const splitRecord = existsSync(runPaths.splitRecord(runDir)) ? runPaths.splitRecord(runDir) : undefined;
   const configuration = ensembleConfiguration(own, data, library[0]!.ranked, figures);
-  await writeFolderAtomically(out, (existing) => existsSync(path.join(existing, CONFIGURATION_FILE)), (partial) => writeEnsemble(partial, library, configuration, format, splitRecord));
+  await writeFolderAtomically(out, (existing) => existsSync(path.join(existing, CONFIGURATION_FILE)), (partial) => writeEnsemble(partial, libraryMembers(library, configuration), configuration, format, splitRecord));
   const members = figures.description.members.map((member) => `${member.folder}/`);
   return {
     dir: runDir,
@@ -128,7 +129,7 @@ export async function exportEnsembleAction(dir: string, flags: { ensemble: numbe
 async function ensembleLibrary(runDir: string, doc: StudyDocument, size: number, studyFile: string): Promise<RankedTrial[]> {
   if (!Number.isInteger(size) || size < 2) throw new UserError('E_USAGE', `export: --ensemble must be a whole number from 2 up (the ranks offered to the selection), got '${size}'`);
   if (doc.definition.data.folds !== undefined) {
-    throw new UserError('E_EXPORT_ENSEMBLE', `${studyFile}: a k-fold study keeps no network trained on the training split alone, so --ensemble cannot choose on the validation split; use \`rungwise export ${runDir}\` (it retrains)`);
+    throw new UserError('E_EXPORT_ENSEMBLE', `${studyFile}: a k-fold study keeps no network trained on the training split alone, so --ensemble cannot choose on the validation split; use \`rungwise export ${runDir} --average-folds\` (rank 1's fold networks averaged) or \`rungwise export ${runDir}\` (it retrains)`);
   }
   const ranking = rankTrials(doc.trials, doc.goal);
   if (ranking.length < size) throw new UserError('E_EXPORT_ENSEMBLE', `${studyFile}: --ensemble ${size} needs ${size} ranked trials; the study ranks ${ranking.length}`);
@@ -203,16 +204,25 @@ function ensembleConfiguration(doc: StudyDocument, data: PreparedData, winner: R
   return configuration;
 }
 
-/** Fills the export folder: each member's tfjs model in its folder, `model.onnx` on request, `configuration.json`, the split record. */
-async function writeEnsemble(partial: string, library: readonly LibraryNetwork[], configuration: ExportConfiguration, format: ExportFormat, splitRecord: string | undefined): Promise<void> {
-  const members = configuration.ensemble!.members;
-  const networks: { network: tf.LayersModel; count: number }[] = [];
+/** One member as the ensemble writer takes it: its folder, its count in the mean, how to build its network, and a fold network's own recipe. */
+export interface MemberToWrite {
+  folder: string;
+  count: number;
+  build: () => tf.LayersModel;
+  recipe?: PreprocessingRecipe;
+}
+
+/**
+ * The one writer of ensemble folders (`--ensemble`, `--average-folds`): each member's tfjs model in
+ * its folder, `model.onnx` on request (one graph for every member), `configuration.json`, the split record.
+ */
+export async function writeEnsemble(partial: string, members: readonly MemberToWrite[], configuration: ExportConfiguration, format: ExportFormat, splitRecord: string | undefined): Promise<void> {
+  const networks: OnnxMember[] = [];
   try {
     for (const member of members) {
-      const source = library.find((network) => network.ranked.trial.id === member.trialId)!;
-      const network = buildLayersModel(source.ranked.trial.configuration, configuration.recipe, source.weights);
-      networks.push({ network, count: member.count });
-      await saveMember(network, partial, member.trialId);
+      const network = member.build();
+      networks.push({ network, count: member.count, ...(member.recipe ? { recipe: member.recipe } : {}) });
+      await saveMember(network, partial, member.folder);
     }
     if (format === 'onnx') {
       const { describeOnnx } = await import('../export/onnx.js');
@@ -225,6 +235,14 @@ async function writeEnsemble(partial: string, library: readonly LibraryNetwork[]
   } finally {
     for (const { network } of networks) network.dispose();
   }
+}
+
+/** The chosen members of a top-k ensemble as the writer takes them. */
+function libraryMembers(library: readonly LibraryNetwork[], configuration: ExportConfiguration): MemberToWrite[] {
+  return configuration.ensemble!.members.map((member) => {
+    const source = library.find((network) => network.ranked.trial.id === member.trialId)!;
+    return { folder: member.folder, count: member.count, build: () => buildLayersModel(source.ranked.trial.configuration, configuration.recipe, source.weights) };
+  });
 }
 
 const figure = (value: number | undefined): string => (value === undefined || Number.isNaN(value) ? '-' : String(Number(value.toPrecision(4))));

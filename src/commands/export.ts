@@ -127,7 +127,7 @@ async function exportData(doc: StudyDocument, studyFile: string, allowChangedDat
 }
 
 /** The study's data encoded under a trial's preprocessing choice (its recipe fitted on the same training rows). */
-async function choiceData(data: PreparedData, choice: PreprocessingChoice): Promise<PreparedData> {
+export async function choiceData(data: PreparedData, choice: PreprocessingChoice): Promise<PreparedData> {
   if (!data.prepareChoice) throw new Error(`export: the study's data were prepared without its preprocessing choices`);
   return data.prepareChoice(choice);
 }
@@ -192,8 +192,8 @@ async function testSplitData(doc: StudyDocument, studyFile: string, allowChanged
   }
 }
 
-/** The rank to export and why: the one-standard-error pick of the repeat runs when asked for, else the rank given (1). */
-function chosenRank(doc: StudyDocument, studyFile: string, options: Pick<ExportCommandOptions, 'rank' | 'front' | 'maxWeights' | 'oneSePick'>): { rank: number; choice: string } {
+/** The rank to export and why (also for `--average-folds`): the one-standard-error pick of the repeat runs when asked for, else the rank given (1). */
+export function chosenRank(doc: StudyDocument, studyFile: string, options: Pick<ExportCommandOptions, 'rank' | 'front' | 'maxWeights' | 'oneSePick'>): { rank: number; choice: string } {
   const given = [options.rank !== undefined && '--rank', options.front !== undefined && '--front', options.maxWeights !== undefined && '--max-weights', options.oneSePick === true && '--one-se-pick'].filter((flag) => flag !== false);
   if (given.length > 1) throw new UserError('E_USAGE', `export: ${given.join(' and ')} choose the configuration each; give one of them`);
   if (options.oneSePick) return oneStandardErrorRank(doc, studyFile);

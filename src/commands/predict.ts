@@ -3,7 +3,7 @@ import { readCsv } from '../data/csv.js';
 import { writeFileDurably } from '../files/durable-write.js';
 import { UserError } from '../core/errors.js';
 import { inputIssueWarning, strictInputError, type InputIssue } from '../data/input-checks.js';
-import { decisionThreshold, encodeRowsChecked, interpretOutputs, loadModel, modelOutputs } from '../export/hand-off.js';
+import { decisionThreshold, encodeRowsChecked, encoderOfCells, interpretOutputs, loadModel, modelOutputs } from '../export/hand-off.js';
 import { predictionTable, predictionsCsv } from '../export/predictions.js';
 import type { Task } from '../core/configuration.js';
 import { didYouMean } from '../text/nearest.js';
@@ -73,7 +73,7 @@ export async function predictCsv(options: PredictCommandOptions): Promise<Predic
     }
     const { x, issues } = encodeRowsChecked(configuration, table.rows, table.file, table.lines);
     if (options.strict && issues.length > 0) throw strictInputError(issues, table.file, '--strict', '; nothing was written');
-    const outputs = modelOutputs(model, x, table.rows.length);
+    const outputs = modelOutputs(model, x, table.rows.length, encoderOfCells(table.rows, table.file, table.lines));
     const predictions = interpretOutputs(configuration, outputs, table.rows.length);
     const result = predictionTable(configuration, table, predictions, keep);
     const csv = predictionsCsv(result);

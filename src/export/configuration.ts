@@ -92,7 +92,7 @@ export interface ExportConfiguration {
   /** Classification: per-class figures and the confusion matrix on the validation split (at the decision threshold for a binary model), and on the test split. */
   classes?: { validation?: ClassReport; test?: ClassReport };
   /** Rows the exported weights were trained on. */
-  trainedOn: 'training split' | 'training and validation splits';
+  trainedOn: 'training split' | 'training and validation splits' | 'each fold network on the other folds of the training and validation splits';
   recipe: PreprocessingRecipe;
   /** Network inputs in order: a numeric column's name, or `column=category` for each one-hot input. */
   inputs: string[];

@@ -1,14 +1,15 @@
 /**
  * The native form of an exported ensemble: one folder per member (`trial-<id>/model.json` and
- * `weights.bin`, each written by the single-network writer) and `configuration.json`, whose
- * `ensemble.members` names each member's folder and weight. `predict` averages the members' outputs
- * with those weights.
+ * `weights.bin`, or `trial-<id>-fold-<i>/` for a fold network, each written by the single-network
+ * writer) and `configuration.json`, whose `ensemble.members` names each member's folder and weight
+ * (and a fold network's own recipe). `predict` averages the members' outputs with those weights.
  */
 import type * as tf from '@tensorflow/tfjs';
 import { existsSync } from 'node:fs';
 import { mkdir } from 'node:fs/promises';
 import path from 'node:path';
 import { UserError } from '../core/errors.js';
+import type { PreprocessingRecipe } from '../data/types.js';
 import type { ExportConfiguration } from './configuration.js';
 import { MODEL_FILE, loadLayersModelFromDir, saveLayersModel } from './model-files.js';
 
@@ -16,18 +17,20 @@ import { MODEL_FILE, loadLayersModelFromDir, saveLayersModel } from './model-fil
 export interface WeightedNetwork {
   network: tf.LayersModel;
   weight: number;
+  /** A fold network's own recipe, which encodes its inputs (absent: the export's recipe). */
+  recipe?: PreprocessingRecipe;
 }
 
-/** A member's folder inside the export folder. */
-export function memberFolder(trialId: number): string {
-  return `trial-${trialId}`;
+/** A member's folder inside the export folder: `trial-<id>`, or `trial-<id>-fold-<fold>` for a fold network (fold 1-based). */
+export function memberFolder(trialId: number, fold?: number): string {
+  return fold === undefined ? `trial-${trialId}` : `trial-${trialId}-fold-${fold}`;
 }
 
-/** Writes a member's tfjs Layers model into its folder under `dir`. */
-export async function saveMember(network: tf.LayersModel, dir: string, trialId: number): Promise<void> {
-  const folder = path.join(dir, memberFolder(trialId));
-  await mkdir(folder);
-  await saveLayersModel(network, folder);
+/** Writes a member's tfjs Layers model into its folder (named by {@link memberFolder}) under `dir`. */
+export async function saveMember(network: tf.LayersModel, dir: string, folder: string): Promise<void> {
+  const into = path.join(dir, folder);
+  await mkdir(into);
+  await saveLayersModel(network, into);
 }
 
 /**
@@ -41,7 +44,7 @@ export async function loadEnsembleMembers(dir: string, configuration: ExportConf
     for (const member of members) {
       const folder = path.join(dir, member.folder);
       if (!existsSync(path.join(folder, MODEL_FILE))) throw new UserError('E_MODEL', `${path.join(folder, MODEL_FILE)}: not found; export the ensemble again with \`rungwise export --ensemble\``);
-      loaded.push({ network: await loadLayersModelFromDir(folder), weight: member.weight });
+      loaded.push({ network: await loadLayersModelFromDir(folder), weight: member.weight, ...(member.recipe ? { recipe: member.recipe } : {}) });
     }
   } catch (error) {
     for (const member of loaded) member.network.dispose();

@@ -2,12 +2,15 @@
  * An exported ensemble as one `model.onnx`: each member's graph, as the single-network writer
  * (`onnx.ts`) builds it, with its node, value and initializer names prefixed `m<i>_` (the input
  * `features` stays shared), then `Mul` by each member's count, one `Sum` and a `Div` by the total
- * count: the weighted mean `predict` computes.
+ * count: the weighted mean `predict` computes. A fold network brings its own recipe, so its graph
+ * folds in its own numeric preprocessing; its categorical inputs must be laid out as the export's.
  */
 import type * as tf from '@tensorflow/tfjs';
 import { writeFile } from 'node:fs/promises';
 import path from 'node:path';
 import protobuf from 'protobufjs';
+import { isDeepStrictEqual } from 'node:util';
+import type { PreprocessingRecipe } from '../data/types.js';
 import type { ExportConfiguration } from './configuration.js';
 import { ONNX_INPUT, ONNX_OUTPUT, onnxModelBytes } from './onnx.js';
 import { ONNX_FILE, ONNX_FLOAT, ONNX_SUBSET_PROTO } from './onnx-schema.js';
@@ -56,10 +59,33 @@ function scalar(name: string, value: number): Record<string, unknown> {
   return { name, dims: [], dataType: ONNX_FLOAT, rawData: bytes };
 }
 
+/** One member of the ONNX ensemble: its network, its count in the mean, and a fold network's own recipe. */
+export interface OnnxMember {
+  network: tf.LayersModel;
+  count: number;
+  recipe?: PreprocessingRecipe;
+}
+
+/**
+ * The first column a member's recipe lays out otherwise than the export's (column order, kind, a
+ * categorical column's categories or pooled ones), or undefined when they agree: only then can one
+ * `features` input feed both graphs. The fill of a missing category may differ: NaN in the column's
+ * inputs lets each graph take its own.
+ */
+export function columnLaidOutOtherwise(recipe: PreprocessingRecipe, member: PreprocessingRecipe): string | undefined {
+  for (let i = 0; i < Math.max(recipe.features.length, member.features.length); i++) {
+    const own = recipe.features[i];
+    const other = member.features[i];
+    if (!own || !other || own.name !== other.name || own.kind !== other.kind) return (own ?? other)!.name;
+    if (own.kind === 'categorical' && other.kind === 'categorical' && !isDeepStrictEqual([own.categories, own.pooled], [other.categories, other.pooled])) return own.name;
+  }
+  return undefined;
+}
+
 /** The ONNX model (protobuf bytes) of the ensemble: every member's layers and their weighted mean. */
-export function ensembleOnnxBytes(members: readonly { network: tf.LayersModel; count: number }[], configuration: ExportConfiguration, producerVersion: string): Uint8Array {
+export function ensembleOnnxBytes(members: readonly OnnxMember[], configuration: ExportConfiguration, producerVersion: string): Uint8Array {
   if (members.length === 0) throw new Error('an ensemble needs at least one member');
-  const models = members.map(({ network }) => decode(onnxModelBytes(network, configuration, producerVersion)));
+  const models = members.map(({ network, recipe }) => decode(onnxModelBytes(network, recipe ? { ...configuration, recipe } : configuration, producerVersion)));
   const first = models[0]!;
   const nodes: NodeObject[] = [];
   const initializers: Record<string, unknown>[] = [];
@@ -87,6 +113,6 @@ export function ensembleOnnxBytes(members: readonly { network: tf.LayersModel; c
 }
 
 /** Writes the ensemble's `model.onnx` into `dir`. */
-export async function writeEnsembleOnnx(members: readonly { network: tf.LayersModel; count: number }[], configuration: ExportConfiguration, dir: string, producerVersion: string): Promise<void> {
+export async function writeEnsembleOnnx(members: readonly OnnxMember[], configuration: ExportConfiguration, dir: string, producerVersion: string): Promise<void> {
   await writeFile(path.join(dir, ONNX_FILE), ensembleOnnxBytes(members, configuration, producerVersion));
 }

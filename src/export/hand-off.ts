@@ -8,6 +8,7 @@ import path from 'node:path';
 import { existsSync } from 'node:fs';
 import { strictInputError, type InputIssue } from '../data/input-checks.js';
 import { encodeFeaturesChecked } from '../data/recipe.js';
+import type { PreprocessingRecipe } from '../data/types.js';
 import { UserError } from '../core/errors.js';
 import { argmaxRows } from '../metrics/metrics.js';
 import { leastExpectedCostClasses } from '../metrics/costs.js';
@@ -24,7 +25,7 @@ export interface LoadedModel {
   configuration: ExportConfiguration;
   /** The tfjs Layers network (inputs already encoded, outputs as described in `configuration.outputs`); for an ensemble, its first member. */
   network: tf.LayersModel;
-  /** An ensemble's members with their weights (`export --ensemble`); {@link modelOutputs} averages them. */
+  /** An ensemble's members with their weights (`export --ensemble`, `export --average-folds`); {@link modelOutputs} averages them. */
   members?: readonly WeightedNetwork[];
   dispose(): void;
 }
@@ -80,21 +81,36 @@ async function loadEnsemble(dir: string, configuration: ExportConfiguration): Pr
   return { dir, configuration, network: members[0]!.network, members, dispose: () => members.forEach((member) => member.network.dispose()) };
 }
 
+/** Encodes the rows being predicted under a recipe: what a fold network with its own recipe reads. */
+export type EncodeUnder = (recipe: PreprocessingRecipe) => Float32Array;
+
 /**
  * The model's outputs on encoded rows (row-major `rows x inputCount`): the network's, or for an
  * ensemble the weighted mean of its members' (probabilities for classification, predictions in the
- * target's units for regression).
+ * target's units for regression). A fold network (`export --average-folds`) reads the rows encoded
+ * under its own recipe, which `encodeUnder` gives.
+ * @throws Error when a member has its own recipe and `encodeUnder` is not given.
  */
-export function modelOutputs(model: LoadedModel, x: Float32Array, rows: number): Float32Array {
-  const inputs = model.configuration.recipe.inputCount;
-  if (!model.members) return predictRows(model.network, x, rows, inputs);
+export function modelOutputs(model: LoadedModel, x: Float32Array, rows: number, encodeUnder?: EncodeUnder): Float32Array {
+  if (!model.members) return predictRows(model.network, x, rows, model.configuration.recipe.inputCount);
+  return weightedOutputs(model.members, model.configuration.recipe, x, rows, encodeUnder);
+}
+
+/** The weighted mean of the members' outputs, each on the rows as its own recipe encodes them (the export's `x` otherwise). */
+export function weightedOutputs(members: readonly WeightedNetwork[], recipe: PreprocessingRecipe, x: Float32Array, rows: number, encodeUnder?: EncodeUnder): Float32Array {
   let sum: Float64Array | undefined;
-  for (const { network, weight } of model.members) {
-    const outputs = predictRows(network, x, rows, inputs);
+  for (const { network, weight, recipe: own } of members) {
+    if (own && !encodeUnder) throw new Error('a fold network reads rows under its own recipe: pass encodeUnder');
+    const outputs = own ? predictRows(network, encodeUnder!(own), rows, own.inputCount) : predictRows(network, x, rows, recipe.inputCount);
     sum ??= new Float64Array(outputs.length);
     for (let i = 0; i < outputs.length; i++) sum[i] = sum[i]! + weight * outputs[i]!;
   }
   return Float32Array.from(sum ?? []);
+}
+
+/** Encodes cells (column to text) under any recipe: the {@link EncodeUnder} of rows being predicted. */
+export function encoderOfCells(cells: readonly Record<string, string>[], source: string, lines?: readonly number[]): EncodeUnder {
+  return (recipe) => encodeFeaturesChecked(recipe, cells, source, lines).x;
 }
 
 function asCell(value: InputRow[string]): string {
@@ -110,8 +126,12 @@ export function encodeRows(configuration: ExportConfiguration, rows: readonly In
 
 /** {@link encodeRows}, with the unseen and blank categories and missing numbers counted per column. */
 export function encodeRowsChecked(configuration: ExportConfiguration, rows: readonly InputRow[], source = 'rows', lines?: readonly number[]): { x: Float32Array; issues: InputIssue[] } {
-  const cells = rows.map((row) => Object.fromEntries(Object.entries(row).map(([column, value]) => [column, asCell(value)])));
-  return encodeFeaturesChecked(configuration.recipe, cells, source, lines);
+  return encodeFeaturesChecked(configuration.recipe, asCells(rows), source, lines);
+}
+
+/** Rows given as objects, as CSV cells (missing, `null`, `undefined` and non-finite numbers as ''). */
+function asCells(rows: readonly InputRow[]): Record<string, string>[] {
+  return rows.map((row) => Object.fromEntries(Object.entries(row).map(([column, value]) => [column, asCell(value)])));
 }
 
 /**
@@ -173,6 +193,6 @@ export function predict(model: LoadedModel, rows: readonly InputRow[], options: 
 export function predictWithChecks(model: LoadedModel, rows: readonly InputRow[], options: PredictOptions = {}): CheckedPredictions {
   const { x, issues } = encodeRowsChecked(model.configuration, rows);
   if (options.strict && issues.length > 0) throw strictInputError(issues, 'rows', 'strict');
-  const outputs = modelOutputs(model, x, rows.length);
+  const outputs = modelOutputs(model, x, rows.length, encoderOfCells(asCells(rows), 'rows'));
   return { predictions: interpretOutputs(model.configuration, outputs, rows.length), inputIssues: issues };
 }

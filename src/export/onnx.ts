@@ -140,7 +140,7 @@ function layerNodes(network: tf.LayersModel, input: string, nodes: NodeSpec[], t
 
 /**
  * Per network input: the fill for a missing value, then (x - shift) / divisor. Numeric inputs take the
- * training mean as fill; a standardised one its mean and std, a robust one its median and scale
+ * training mean as fill, one-hot inputs their column's fill category; a standardised one its mean and std, a robust one its median and scale
  * (Infinity for a constant column, so it is 0), a quantile one Infinity (0 here: the interpolation adds
  * its value). One-hot inputs pass unchanged.
  */
@@ -155,8 +155,10 @@ function inputScaling(recipe: PreprocessingRecipe): { fill: Float32Array; mean: 
       mean.push(transform === undefined ? feature.mean : transform.kind === 'robust-clip' ? transform.centre : 0);
       std.push(transform === undefined ? feature.std : transform.kind === 'robust-clip' && transform.scale > 0 ? transform.scale : Number.POSITIVE_INFINITY);
     } else {
+      // NaN in a categorical column's inputs means missing: its fill category's one-hot (the pooled input when the fill is pooled).
+      const fillAt = feature.categories.includes(feature.fill) ? feature.categories.indexOf(feature.fill) : feature.pooled ? feature.categories.length : -1;
       for (let i = 0; i < categoricalWidth(feature); i++) {
-        fill.push(0);
+        fill.push(i === fillAt ? 1 : 0);
         mean.push(0);
         std.push(1);
       }
@@ -243,7 +245,7 @@ export function describeOnnx(configuration: ExportConfiguration): OnnxDescriptio
       configuration.recipe.features.some((feature) => feature.kind === 'categorical' && feature.pooled)
         ? `a column with a \`column=${POOLED_INPUT}\` input takes its rare categories and categories unseen in training there; elsewhere all zeros for a category unseen in training`
         : 'all zeros for a category unseen in training'
-    }; for a missing value, the recipe's \`fill\` category.`,
+    }; for a missing value, the recipe's \`fill\` category, or NaN in each of the column's inputs (the graph then takes the \`fill\` category).`,
     outputMeaning: configuration.outputs.meaning,
   };
 }

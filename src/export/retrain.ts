@@ -4,6 +4,7 @@
  */
 import type { PreparedData, SplitArrays } from '../data/types.js';
 import { toSharedDataset } from '../data/prepare.js';
+import { datasetId } from '../data/dataset-id.js';
 import { UserError } from '../core/errors.js';
 import type { SharedDataset } from '../core/job.js';
 import type { TrialRecord } from '../core/trial.js';
@@ -29,7 +30,8 @@ function concatenate(a: SplitArrays, b: SplitArrays): { rows: number; x: Float32
  * passed: it is scored once, by the caller, after training.
  */
 function retrainDataset(data: PreparedData, trialId: number): SharedDataset {
-  const base = toSharedDataset(data, `export-retrain-${trialId}`);
+  // Named by content too: the engine keeps the last data set by id, and one process may retrain trials of several studies.
+  const base = toSharedDataset(data, `export-retrain-${trialId}-${datasetId(data)}`);
   return { ...base, train: concatenate(data.train, data.validation) };
 }
 

@@ -1,5 +1,6 @@
 import { bestCheckpointWeights, decodeCheckpoint, type NamedWeights } from '../checkpoints/format.js';
 import { FolderCheckpointStore } from '../checkpoints/folder-store.js';
+import { decodeFoldBundle, isFoldBundle } from '../checkpoints/fold-bundle.js';
 import { UserError } from '../core/errors.js';
 import { rankTrials, type RankedTrial } from '../core/ranking.js';
 import { frontOf } from '../core/front.js';
@@ -41,12 +42,42 @@ export function trialAtRank(doc: StudyDocument, rank: number, studyFile: string)
  * @throws UserError (E_EXPORT_NO_CHECKPOINT) naming the ranks that can be exported as they are and suggesting --retrain.
  */
 export async function keptCheckpointWeights(runDir: string, doc: StudyDocument, chosen: RankedTrial): Promise<NamedWeights[]> {
+  const { bytes, refuse } = await keptCheckpointBytes(runDir, doc, chosen);
+  return checkedWeights(bytes, chosen, refuse);
+}
+
+/**
+ * The k fold networks' weights in a k-fold trial's kept checkpoint (a fold bundle), in fold order,
+ * each checked as {@link keptCheckpointWeights} checks a single network.
+ * @throws UserError (E_EXPORT_NO_CHECKPOINT) when the trial has no kept checkpoint or it is not a bundle of `folds` fold checkpoints.
+ */
+export async function keptFoldWeights(runDir: string, doc: StudyDocument, chosen: RankedTrial, folds: number): Promise<NamedWeights[][]> {
+  const { bytes, refuse } = await keptCheckpointBytes(runDir, doc, chosen);
+  if (!isFoldBundle(bytes)) throw refuse(`holds one network, not the ${folds} fold networks of a k-fold trial`);
+  let parts: Uint8Array[];
+  try {
+    parts = decodeFoldBundle(bytes, folds);
+  } catch (error) {
+    throw refuse(error instanceof Error ? error.message : String(error));
+  }
+  return parts.map((part) => checkedWeights(part, chosen, refuse));
+}
+
+type Refusal = (why: string) => UserError;
+
+/** A ranked trial's kept checkpoint bytes, and how to refuse them. */
+async function keptCheckpointBytes(runDir: string, doc: StudyDocument, chosen: RankedTrial): Promise<{ bytes: Uint8Array; refuse: Refusal }> {
   const file = runPaths.checkpoint(runDir, chosen.trial.id);
   const ranks = await ranksWithCheckpoint(runDir, rankTrials(doc.trials, doc.goal));
   const refuse = (why: string): UserError =>
     new UserError('E_EXPORT_NO_CHECKPOINT', `${file}: ${why}; ${keptList(ranks)}; \`rungwise export ${runDir} --rank ${chosen.rank} --retrain\` trains it afresh`);
   const bytes = await new FolderCheckpointStore(runDir).read(chosen.trial.id);
   if (!bytes) throw refuse(`rank ${chosen.rank} (trial ${chosen.trial.id}) has no kept checkpoint`);
+  return { bytes, refuse };
+}
+
+/** The weights of one network's checkpoint, checked to be the trial's after its last epoch (its best epoch's with early stopping). */
+function checkedWeights(bytes: Uint8Array, chosen: RankedTrial, refuse: Refusal): NamedWeights[] {
   const { manifest, network } = decodeCheckpoint(bytes);
   if (manifest.trialId !== chosen.trial.id || manifest.epoch !== chosen.trial.epochsTrained) {
     throw refuse(`holds trial ${manifest.trialId} at epoch ${manifest.epoch}, but rank ${chosen.rank} is trial ${chosen.trial.id} after epoch ${chosen.trial.epochsTrained}`);

@@ -18,7 +18,7 @@ export interface ThresholdChoice {
   rule: DecisionThresholdRule | 'none';
   threshold: number;
   /** Rows the rule was applied to (0 without a rule). */
-  chosenOn: 'validation split';
+  chosenOn: 'validation split' | 'out-of-fold outputs';
   rows: number;
   /** The positive class's figures on those rows at `threshold` (null without a rule: nothing was chosen). */
   precision: number | null;

@@ -36,5 +36,6 @@ export const runPaths = {
   checkpoint: (dir: string, trialId: number): string => path.join(dir, 'checkpoints', `trial-${trialId}.ckpt`),
   exportDir: (dir: string, rank: number): string => path.join(dir, 'export', `rank-${rank}`),
   ensembleExportDir: (dir: string, size: number): string => path.join(dir, 'export', `ensemble-${size}`),
+  foldsExportDir: (dir: string, rank: number): string => path.join(dir, 'export', `rank-${rank}-folds`),
   plotsDir: (dir: string): string => path.join(dir, 'plots'),
 } as const;

@@ -41,16 +41,19 @@ export async function exportTinyStudies(format: ExportFormat = 'tfjs'): Promise<
 /**
  * The inputs `model.onnx` documents, built from the CSV without rungwise's encoder: numbers as written
  * (NaN where missing), categories one-hot (the fill category where missing), pooled and unseen ones on
- * `column=(pooled)` when the column pools.
+ * `column=(pooled)` when the column pools. With `missingCategory` 'nan', a missing category is NaN in
+ * each of its column's inputs instead (the graph takes the fill category; each fold network its own).
  */
-export function onnxInputs(recipe: PreprocessingRecipe, table: CsvTable): Float32Array {
+export function onnxInputs(recipe: PreprocessingRecipe, table: CsvTable, missingCategory: 'fill' | 'nan' = 'fill'): Float32Array {
   const x = new Float32Array(table.rows.length * recipe.inputCount);
   table.rows.forEach((row, r) => {
     let offset = r * recipe.inputCount;
     for (const feature of recipe.features) {
       const value = row[feature.name] ?? '';
       if (feature.kind === 'numeric') x[offset++] = isMissing(value) ? Number.NaN : Number(value);
-      else {
+      else if (missingCategory === 'nan' && isMissing(value)) {
+        for (let i = 0; i < feature.categories.length + (feature.pooled ? 1 : 0); i++) x[offset++] = Number.NaN;
+      } else {
         const category = isMissing(value) ? feature.fill : value;
         for (const known of feature.categories) x[offset++] = known === category ? 1 : 0;
         if (feature.pooled) x[offset++] = feature.categories.includes(category) ? 0 : 1;

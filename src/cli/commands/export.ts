@@ -10,6 +10,7 @@ export const exportCommand: CommandDeclaration = ({ program, io }) => {
     ['rungwise export runs/demo --format onnx', 'model.onnx beside the tfjs files'],
     ['rungwise export runs/demo --max-weights 2000', 'the best configuration of at most 2,000 weights on the front'],
     ['rungwise export runs/demo --ensemble 3', 'an ensemble chosen from ranks 1 to 3, scored beside rank 1 on the test split'],
+    ['rungwise export runs/folds --average-folds', "a k-fold study: rank 1's fold networks averaged, scored beside the retrained network on the test split"],
     ['rungwise export runs/demo --one-se-pick', 'the smallest network within one standard error of the best (repeat runs)'],
   ])
     .description('write a ranked configuration with its preprocessing recipe and trained model')
@@ -22,10 +23,17 @@ export const exportCommand: CommandDeclaration = ({ program, io }) => {
     .option('--retrain', "train afresh on training + validation rows for the study's optimizer steps, then score it and the study's network on the held-out test split")
     .option('--format <format>', "'tfjs' (model.json, weights.bin) or 'onnx' (model.onnx as well)", 'tfjs')
     .option('--ensemble <k>', 'greedy ensemble selection over ranks 1 to k on the validation split; the ensemble and rank 1 scored on the test split', (v) => positiveInteger(v, '--ensemble'))
+    .option('--average-folds', "a k-fold study: the chosen trial's fold networks averaged as one model; it and the retrained single network scored on the test split")
     .option('--allow-changed-data', 'go on although the CSV changed since the study ran (the test score is then on the changed data)')
     .option('--json', 'print the export summary as JSON')
-    .action(async (dir: string, flags: { rank?: number; front?: number; maxWeights?: number; oneSePick?: boolean; out?: string; retrain?: boolean; format: string; json?: boolean; allowChangedData?: boolean; ensemble?: number }) => {
+    .action(async (dir: string, flags: { rank?: number; front?: number; maxWeights?: number; oneSePick?: boolean; out?: string; retrain?: boolean; format: string; json?: boolean; allowChangedData?: boolean; ensemble?: number; averageFolds?: boolean }) => {
       const target = io();
+      if (flags.averageFolds) {
+        const { exportFoldAverageAction, foldAverageReport } = await import('../../commands/export-folds.js');
+        const summary = await exportFoldAverageAction(dir, flags);
+        target.out(flags.json ? json(summary) : `${foldAverageReport(summary)}\n`);
+        return;
+      }
       if (flags.ensemble !== undefined) {
         const { exportEnsembleAction, ensembleReport } = await import('../../commands/export-ensemble.js');
         const summary = await exportEnsembleAction(dir, { ...flags, ensemble: flags.ensemble });
