@@ -7,6 +7,7 @@ import { quantileSorted } from 'd3-array';
 import * as ort from 'onnxruntime-node';
 import { beforeAll, describe, expect, it } from 'vitest';
 import { exportModel } from '../src/commands/export.js';
+import { exportEnsemble } from '../src/commands/export-ensemble.js';
 import { DEFAULT_ENCODING_SETTINGS, type TrialConfiguration } from '../src/core/configuration.js';
 import { readCsv } from '../src/data/csv.js';
 import { datasetId } from '../src/data/dataset-id.js';
@@ -227,4 +228,9 @@ describe('a study that searches the numeric encoding, end to end', () => {
       expect(auc(labels, scores)).toBeCloseTo(trial.auc, 4);
     }, 120_000);
   }
+
+  it('refuses an ensemble whose members trained on other inputs than the study recipe, naming the rank', async () => {
+    expect(trials.filter((t) => t.configuration.numericEncoding !== 'none')).toHaveLength(2);
+    await expect(exportEnsemble({ dir: out, size: 3 })).rejects.toThrow(new RegExp(`rank \\d \\(trial \\d\\) trained on other preprocessing .*numericEncoding (piecewise-linear|periodic)`));
+  });
 });

@@ -3,7 +3,7 @@ import { copyFile, writeFile } from 'node:fs/promises';
 import path from 'node:path';
 import type * as tf from '@tensorflow/tfjs';
 import { UserError } from '../core/errors.js';
-import type { Goal } from '../core/configuration.js';
+import { isDefaultPreprocessing, preprocessingOf, type Goal } from '../core/configuration.js';
 import { rankTrials, type RankedTrial } from '../core/ranking.js';
 import type { PreparedData } from '../data/types.js';
 import { writeFolderAtomically } from '../files/atomic-folder.js';
@@ -131,6 +131,15 @@ async function ensembleLibrary(runDir: string, doc: StudyDocument, size: number,
   const ranking = rankTrials(doc.trials, doc.goal);
   if (ranking.length < size) throw new UserError('E_EXPORT_ENSEMBLE', `${studyFile}: --ensemble ${size} needs ${size} ranked trials; the study ranks ${ranking.length}`);
   const library = ranking.slice(0, size);
+  // The members are scored and exported with the study's own recipe; another preprocessing choice has other inputs.
+  const other = library.find(({ trial }) => !isDefaultPreprocessing(preprocessingOf(trial.configuration)));
+  if (other) {
+    const choice = preprocessingOf(other.trial.configuration);
+    throw new UserError(
+      'E_EXPORT_ENSEMBLE',
+      `${studyFile}: rank ${other.rank} (trial ${other.trial.id}) trained on other preprocessing (numericInputs ${choice.numericInputs}, poolCategoriesBelow ${choice.poolCategoriesBelow}, numericEncoding ${choice.numericEncoding ?? 'none'}) than the study's own, which --ensemble members share; export it alone with \`rungwise export ${runDir} --rank ${other.rank}\``,
+    );
+  }
   const kept = new Set(await ranksWithCheckpoint(runDir, library));
   const missing = library.find(({ rank }) => !kept.has(rank));
   if (missing) {
