@@ -8,6 +8,7 @@
  * score of all trials, and the wall time.
  *
  *   node dist/scripts/encoding-comparison.js [--sets demo,cars] [--seeds 1] [--threads 2]
+ *     [--encodings none,piecewise-linear,periodic] [--scale sigma] [--bins T]
  */
 import { mkdir, readFile, writeFile } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
@@ -74,9 +75,21 @@ function median(values: number[]): number {
   return sorted.length % 2 ? sorted[middle]! : (sorted[middle - 1]! + sorted[middle]!) / 2;
 }
 
+/** The space's encoding settings given on the command line (`--scale`, `--bins`), for the encoding that uses each. */
+function settingsFor(encoding: string): Record<string, number> {
+  const scale = option('--scale', '');
+  const bins = option('--bins', '');
+  if (encoding === 'periodic' && scale !== '') return { periodicScale: Number(scale) };
+  if (encoding === 'piecewise-linear' && bins !== '') return { encodingBins: Number(bins) };
+  return {};
+}
+
 async function compareOne(comparison: Comparison, encoding: string, seed: number, folder: string, threads: number): Promise<string> {
-  const out = path.join(folder, `${comparison.name}-${encoding}-seed${seed}`);
-  const definition = { ...comparison.definition, name: `${comparison.name}-${encoding}`, space: { ...comparison.definition.space, numericEncoding: [encoding] }, data: { ...comparison.definition.data, splitSeed: seed } };
+  const settings = settingsFor(encoding);
+  const label = `${encoding}${Object.values(settings).map((value) => ` ${value}`).join('')}`;
+  const out = path.join(folder, `${comparison.name}-${label.replace(' ', '-')}-seed${seed}`);
+  const space = { ...comparison.definition.space, numericEncoding: [encoding], ...settings };
+  const definition = { ...comparison.definition, name: `${comparison.name}-${encoding}`, space, data: { ...comparison.definition.data, splitSeed: seed } };
   const started = Date.now();
   const outcome = await run({ definition: definition as unknown as StudyDefinitionInput, baseDir: folder, out, threads, force: true, progress: false });
   const seconds = (Date.now() - started) / 1000;
@@ -85,7 +98,7 @@ async function compareOne(comparison: Comparison, encoding: string, seed: number
   const test = await testScore(comparison, exported.out, split);
   const scores = outcome.doc.trials.flatMap((trial) => (typeof trial.score === 'number' ? [trial.score] : []));
   const winner = outcome.ranking[0]!.trial;
-  return `${comparison.name} seed ${seed} ${encoding.padEnd(16)} test ${comparison.metric} ${test.toFixed(4)}  validation ${comparison.metric}: winner ${winner.score!.toFixed(4)}, median of ${scores.length} ${median(scores).toFixed(4)}  winner depth ${winner.configuration.depth} width ${winner.configuration.width}  ${seconds.toFixed(0)} s`;
+  return `${comparison.name} seed ${seed} ${label.padEnd(20)} test ${comparison.metric} ${test.toFixed(4)}  validation ${comparison.metric}: winner ${winner.score!.toFixed(4)}, median of ${scores.length} ${median(scores).toFixed(4)}  winner depth ${winner.configuration.depth} width ${winner.configuration.width}  ${seconds.toFixed(0)} s`;
 }
 
 function option(name: string, fallback: string): string {
@@ -97,12 +110,13 @@ async function main(): Promise<void> {
   const names = option('--sets', 'demo,cars').split(',');
   const seeds = option('--seeds', '1').split(',').map(Number);
   const threads = Number(option('--threads', '2'));
+  const encodings = option('--encodings', NUMERIC_ENCODINGS.join(',')).split(',');
   const folder = path.join(tmpdir(), 'rungwise-encoding-comparison');
   await mkdir(folder, { recursive: true });
   const demo = await demoComparison();
   for (const name of names) {
     const comparison = name === 'demo' ? demo : await carsComparison(folder, demo);
-    for (const seed of seeds) for (const encoding of NUMERIC_ENCODINGS) console.log(await compareOne(comparison, encoding, seed, folder, threads));
+    for (const seed of seeds) for (const encoding of encodings) console.log(await compareOne(comparison, encoding, seed, folder, threads));
   }
 }
 

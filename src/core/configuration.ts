@@ -136,7 +136,7 @@ export interface EncodingSettings {
 }
 
 /** The defaults of {@link EncodingSettings} (docs/training.md says where each comes from). */
-export const DEFAULT_ENCODING_SETTINGS: EncodingSettings = { bins: 8, frequencies: 16, scale: 1 };
+export const DEFAULT_ENCODING_SETTINGS: EncodingSettings = { bins: 8, frequencies: 16, scale: 0.1 };
 
 /** A space's encoding settings with the defaults for absent keys. */
 export function encodingSettingsOf(space: { encodingBins?: number | undefined; periodicFrequencies?: number | undefined; periodicScale?: number | undefined }): EncodingSettings {
