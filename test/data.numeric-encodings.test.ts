@@ -23,6 +23,8 @@ import { configurationForTrial } from '../src/space/sample.js';
 import { spaceSchema } from '../src/space/schema.js';
 import { loadStudy } from '../src/study/load.js';
 import { onnxInputs } from './helpers/exports.js';
+import { runUntilTrialsFinished, tinyStudy, writeTinyStudy } from './helpers/studies.js';
+import { resumeStudy } from '../src/runner/resume-study.js';
 
 const ROOT = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '..');
 const DEMO_CSV = path.join(ROOT, 'studies/demo/pump-logs.csv');
@@ -233,4 +235,38 @@ describe('a study that searches the numeric encoding, end to end', () => {
     expect(trials.filter((t) => t.configuration.numericEncoding !== 'none')).toHaveLength(2);
     await expect(exportEnsemble({ dir: out, size: 3 })).rejects.toThrow(new RegExp(`rank \\d \\(trial \\d\\) trained on other preprocessing .*numericEncoding (piecewise-linear|periodic)`));
   });
+});
+
+describe('a study searching the numeric encoding is deterministic, with folds too', () => {
+  const base = tinyStudy();
+  const searching = (folds?: number) =>
+    tinyStudy({
+      space: { ...base.space, numericEncoding: ['none', 'piecewise-linear', 'periodic'], encodingBins: 4, periodicFrequencies: 3 },
+      budget: { trials: 6, maxEpochs: 2 },
+      ...(folds ? { data: { ...base.data, folds } } : {}),
+    });
+  const trialsOf = (trials: readonly { id: number; configuration: TrialConfiguration; score?: number | null; status: string }[]) =>
+    trials.map((t) => ({ id: t.id, encoding: t.configuration.numericEncoding, score: t.score, status: t.status })).sort((a, b) => a.id - b.id);
+
+  it('gives the same trials with 1 and 2 threads, and after an interruption and a resume', async () => {
+    const straight = async (threads: number) => {
+      const file = await writeTinyStudy(searching());
+      return trialsOf((await runStudy(file, { out: path.join(path.dirname(file), 'run'), threads })).doc.trials);
+    };
+    const one = await straight(1);
+    expect(new Set(one.map((t) => t.encoding)).size).toBeGreaterThan(1);
+    expect(await straight(2)).toEqual(one);
+    const { out, interrupted } = await runUntilTrialsFinished(searching(), 3, { threads: 2 });
+    expect(interrupted.doc.state).not.toBe('finished');
+    const resumed = await resumeStudy(out, { threads: 2 });
+    expect(resumed.doc.state).toBe('finished');
+    expect(trialsOf(resumed.doc.trials)).toEqual(one);
+  }, 240_000);
+
+  it('trains every encoding on k folds of its own', async () => {
+    const file = await writeTinyStudy(searching(3));
+    const outcome = await runStudy(file, { out: path.join(path.dirname(file), 'run') });
+    expect(outcome.doc.trials.every((t) => t.status === 'trained' && t.scoreStandardError !== undefined)).toBe(true);
+    expect(new Set(outcome.doc.trials.map((t) => t.configuration.numericEncoding)).size).toBeGreaterThan(1);
+  }, 240_000);
 });
