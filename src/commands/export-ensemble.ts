@@ -148,7 +148,7 @@ async function ensembleLibrary(runDir: string, doc: StudyDocument, size: number,
 
 /**
  * The members of an ensemble share one preprocessing recipe (the exported model applies one): rank 1's
- * choice (`numericInputs`, `poolCategoriesBelow`). Ranks trained under another choice are left out of
+ * choice (`numericInputs`, `poolCategoriesBelow`, `numericEncoding`). Ranks trained under another choice are left out of
  * the library, and the data and the recorded recipe are those of rank 1's choice.
  */
 async function sharedPreprocessing(doc: StudyDocument, offered: RankedTrial[], data: PreparedData): Promise<{ ranked: RankedTrial[]; data: PreparedData; own: StudyDocument }> {

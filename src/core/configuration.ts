@@ -22,6 +22,12 @@ export const BLOCKS = ['plain', 'residual'] as const;
  * to (-3, 3)), `normal-quantiles` (the training quantiles mapped onto a standard normal's).
  */
 export const NUMERIC_INPUTS = ['standardise', 'robust-clip', 'normal-quantiles'] as const;
+/**
+ * How each numeric input (after `numericInputs`) is expanded before the network (src/data/numeric-encodings.ts):
+ * `none` (one input, the default), `piecewise-linear` (one input per quantile bin) or `periodic`
+ * (sines and cosines at fixed frequencies). Gorishniy, Rubachev and Babenko, NeurIPS 2022.
+ */
+export const NUMERIC_ENCODINGS = ['none', 'piecewise-linear', 'periodic'] as const;
 /** `cost`: the mean cost per validation row of a classifier's decisions, under the study's `data.costs` (src/metrics/costs.ts). */
 export const METRICS = ['accuracy', 'macroF1', 'logLoss', 'auc', 'rmse', 'mae', 'r2', 'validationLoss', 'cost'] as const;
 
@@ -33,6 +39,7 @@ export type ScheduleKind = (typeof SCHEDULES)[number];
 export type Shape = (typeof SHAPES)[number];
 export type Block = (typeof BLOCKS)[number];
 export type NumericInputs = (typeof NUMERIC_INPUTS)[number];
+export type NumericEncoding = (typeof NUMERIC_ENCODINGS)[number];
 
 
 /** One point of the search space: what a trial trains (a trial's configuration). */
@@ -78,6 +85,8 @@ export interface TrialConfiguration {
   numericInputs?: NumericInputs;
   /** Present only when the space has `poolCategoriesBelow`; absent: 0 (every training category its own input). */
   poolCategoriesBelow?: number;
+  /** Present only when the space has `numericEncoding`; absent: `none`. */
+  numericEncoding?: NumericEncoding;
 }
 
 /** The preprocessing a configuration trains on: one prepared data set per distinct choice. */
@@ -85,24 +94,57 @@ export interface PreprocessingChoice {
   numericInputs: NumericInputs;
   /** Categories seen in fewer training rows than this share one input; 0: none are pooled. */
   poolCategoriesBelow: number;
+  /** How numeric inputs are expanded; absent: `none`. */
+  numericEncoding?: NumericEncoding;
 }
 
 /** The default: what every study trained on before the choice was searchable. */
 export const DEFAULT_PREPROCESSING: PreprocessingChoice = { numericInputs: 'standardise', poolCategoriesBelow: 0 };
 
 /** A configuration's preprocessing, with the defaults for absent fields. */
-export function preprocessingOf(configuration: Pick<TrialConfiguration, 'numericInputs' | 'poolCategoriesBelow'>): PreprocessingChoice {
-  return { numericInputs: configuration.numericInputs ?? 'standardise', poolCategoriesBelow: configuration.poolCategoriesBelow ?? 0 };
+export function preprocessingOf(configuration: Pick<TrialConfiguration, 'numericInputs' | 'poolCategoriesBelow' | 'numericEncoding'>): PreprocessingChoice {
+  const choice: PreprocessingChoice = { numericInputs: configuration.numericInputs ?? 'standardise', poolCategoriesBelow: configuration.poolCategoriesBelow ?? 0 };
+  if (configuration.numericEncoding !== undefined && configuration.numericEncoding !== 'none') choice.numericEncoding = configuration.numericEncoding;
+  return choice;
 }
 
-/** True when a search space searches preprocessing (`numericInputs` or `poolCategoriesBelow`): its trials may train on more than one data set. */
-export function searchesPreprocessing(space: { numericInputs?: readonly unknown[] | undefined; poolCategoriesBelow?: readonly unknown[] | undefined }): boolean {
-  return space.numericInputs !== undefined || space.poolCategoriesBelow !== undefined;
+/** True when a search space searches preprocessing (`numericInputs`, `poolCategoriesBelow` or `numericEncoding`): its trials may train on more than one data set. */
+export function searchesPreprocessing(space: { numericInputs?: readonly unknown[] | undefined; poolCategoriesBelow?: readonly unknown[] | undefined; numericEncoding?: readonly unknown[] | undefined }): boolean {
+  return space.numericInputs !== undefined || space.poolCategoriesBelow !== undefined || space.numericEncoding !== undefined;
 }
 
 /** True for the default choice (the study's own recipe). */
 export function isDefaultPreprocessing(choice: PreprocessingChoice): boolean {
-  return choice.numericInputs === DEFAULT_PREPROCESSING.numericInputs && choice.poolCategoriesBelow === DEFAULT_PREPROCESSING.poolCategoriesBelow;
+  return (
+    choice.numericInputs === DEFAULT_PREPROCESSING.numericInputs &&
+    choice.poolCategoriesBelow === DEFAULT_PREPROCESSING.poolCategoriesBelow &&
+    (choice.numericEncoding ?? 'none') === 'none'
+  );
+}
+
+/**
+ * The settings of the numeric encodings, one per study (the space's `encodingBins`,
+ * `periodicFrequencies`, `periodicScale`; src/data/numeric-encodings.ts).
+ */
+export interface EncodingSettings {
+  /** Piecewise-linear: the most quantile bins per numeric input (fewer when it has fewer distinct values). */
+  bins: number;
+  /** Periodic: frequencies per numeric input; each gives a sine and a cosine input. */
+  frequencies: number;
+  /** Periodic: the standard deviation sigma of the normal distribution the frequencies are drawn from. */
+  scale: number;
+}
+
+/** The defaults of {@link EncodingSettings} (docs/training.md says where each comes from). */
+export const DEFAULT_ENCODING_SETTINGS: EncodingSettings = { bins: 8, frequencies: 16, scale: 0.1 };
+
+/** A space's encoding settings with the defaults for absent keys. */
+export function encodingSettingsOf(space: { encodingBins?: number | undefined; periodicFrequencies?: number | undefined; periodicScale?: number | undefined }): EncodingSettings {
+  return {
+    bins: space.encodingBins ?? DEFAULT_ENCODING_SETTINGS.bins,
+    frequencies: space.periodicFrequencies ?? DEFAULT_ENCODING_SETTINGS.frequencies,
+    scale: space.periodicScale ?? DEFAULT_ENCODING_SETTINGS.scale,
+  };
 }
 
 

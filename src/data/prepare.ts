@@ -3,7 +3,7 @@ import path from 'node:path';
 import { setImmediate as nextTurn } from 'node:timers/promises';
 import { UserError } from '../core/errors.js';
 import type { SharedDataset } from '../core/job.js';
-import { DEFAULT_PREPROCESSING, type PreprocessingChoice } from '../core/configuration.js';
+import { DEFAULT_ENCODING_SETTINGS, DEFAULT_PREPROCESSING, type EncodingSettings, type PreprocessingChoice } from '../core/configuration.js';
 import type { DataSettings } from '../study/definition.js';
 import { didYouMean } from '../text/nearest.js';
 import { checkClassWeightLabels, trainingClassWeights } from './class-weights.js';
@@ -12,7 +12,7 @@ import { checkFeatureColumns } from './feature-checks.js';
 import { isMissing } from './csv.js';
 import { ColumnSink, type ColumnTable, type RawColumn } from './columns.js';
 import type { DataEvent, DataLoadOptions } from './events.js';
-import { buildColumnRecipe, encodeColumns, encodeTargetValues, sortLabels, type TargetValues } from './recipe.js';
+import { buildColumnRecipe, encodeColumns, encodeTargetValues, sortLabels, type NumericEncodingContext, type TargetValues } from './recipe.js';
 import { delimiterName, streamCsv } from './source.js';
 import { splitRows, splitSizes } from './split.js';
 import { categoricalValues, typeColumn } from './typing.js';
@@ -197,14 +197,15 @@ async function readFeatures(
  * columns that look like dates or identifiers or pass the distinct-value limit by being listed
  * (`feature-checks.ts`) as `warnings` ('warning' events), and
  * `csvSha256` is the SHA-256 of the CSV's bytes as they were read. With `choices` (a space that
- * searches preprocessing), `data.prepareChoice` encodes the same rows under another choice.
+ * searches preprocessing), `data.prepareChoice` encodes the same rows under another choice; a numeric
+ * encoding takes `encoding` (the space's settings) and `foldSeed` (the study seed) for its frequencies.
  * @throws UserError (E_DATA) with one line naming the study field or the CSV line (or a text column
  * with more distinct values than `data.maxDistinctShare` allows); the signal's reason when aborted.
  */
 export async function prepareData(
   settings: DataSettings,
   definitionFile: string,
-  options: DataLoadOptions & { foldSeed?: number; choices?: boolean } = {},
+  options: DataLoadOptions & { foldSeed?: number; choices?: boolean; encoding?: EncodingSettings } = {},
 ): Promise<{ data: PreparedData; summary: DataSummary; notes: string[]; warnings: string[]; csvSha256: string }> {
   const started = performance.now();
   const emit = (event: DataEvent): void => options.onDataEvent?.(event);
@@ -225,7 +226,7 @@ export async function prepareData(
     file: csvFile,
   });
   const warnings = checkFeatureColumns({ settings, features, rows: table.rows, file: csvFile, definitionFile, ...(options.started ? { started: true } : {}) });
-  const context: EncodingContext = { settings, definitionFile, csvFile, features, target, indices, lines: table.lines, ...(options.foldSeed !== undefined ? { foldSeed: options.foldSeed } : {}) };
+  const context: EncodingContext = { settings, definitionFile, csvFile, features, target, indices, lines: table.lines, ...(options.foldSeed !== undefined ? { foldSeed: options.foldSeed } : {}), ...(options.encoding ? { encoding: options.encoding } : {}) };
   const data = await encodePrepared(context, DEFAULT_PREPROCESSING, { emit, ...(options.signal ? { signal: options.signal } : {}) });
   // Another choice of preprocessing is encoded from the same typed columns and splits, on demand.
   if (options.choices) {
@@ -251,12 +252,19 @@ interface EncodingContext {
   indices: { train: number[]; validation: number[]; test: number[] };
   lines: ArrayLike<number>;
   foldSeed?: number;
+  /** The space's numeric-encoding settings (absent: the defaults). */
+  encoding?: EncodingSettings;
+}
+
+/** What a numeric encoding is fitted with: the settings and the study seed (the periodic frequencies' stream). */
+function encodingOf(context: EncodingContext): NumericEncodingContext {
+  return { settings: context.encoding ?? DEFAULT_ENCODING_SETTINGS, seed: context.foldSeed ?? 0 };
 }
 
 /** The recipe of a preprocessing choice, fitted on the training rows. */
 function recipeOf(context: EncodingContext, choice: PreprocessingChoice): PreprocessingRecipe {
   const { settings, features, target, indices } = context;
-  return buildColumnRecipe({ task: settings.task, target: settings.target, features, targetValues: target, trainingRows: indices.train, preprocessing: choice });
+  return buildColumnRecipe({ task: settings.task, target: settings.target, features, targetValues: target, trainingRows: indices.train, preprocessing: choice, encoding: encodingOf(context) });
 }
 
 /**
@@ -285,7 +293,7 @@ async function encodePrepared(context: EncodingContext, choice: PreprocessingCho
   if (settings.folds !== undefined) {
     if (context.foldSeed === undefined) throw new Error('prepareData: data.folds needs options.foldSeed (the study seed)');
     const rows = [...indices.train, ...indices.validation];
-    data.folds = prepareFolds({ settings, features, target, rows, k: settings.folds, seed: context.foldSeed, file: csvFile, definitionFile, choice });
+    data.folds = prepareFolds({ settings, features, target, rows, k: settings.folds, seed: context.foldSeed, file: csvFile, definitionFile, choice, encoding: encodingOf(context) });
     data.foldSeed = context.foldSeed;
   }
   return data;
@@ -367,14 +375,15 @@ function prepareFolds(context: {
   file: string;
   definitionFile: string;
   choice: PreprocessingChoice;
+  encoding: NumericEncodingContext;
 }): PreparedFold[] {
-  const { settings, features, target, k, seed, file, definitionFile, choice } = context;
+  const { settings, features, target, k, seed, file, definitionFile, choice, encoding } = context;
   const strata = target.kind === 'labels' ? Array.from(target.codes, (code) => target.labels[code]!) : undefined;
   const rows = [...context.rows].sort((a, b) => a - b);
   const folds = assignFolds({ rows, ...(strata ? { strata } : {}), k, seed, file, definitionFile });
   return folds.map((validationRows, i): PreparedFold => {
     const trainingRows = otherFolds(folds, i);
-    const recipe = buildColumnRecipe({ task: settings.task, target: settings.target, features, targetValues: target, trainingRows, preprocessing: choice });
+    const recipe = buildColumnRecipe({ task: settings.task, target: settings.target, features, targetValues: target, trainingRows, preprocessing: choice, encoding });
     const part = (members: readonly number[]): SplitArrays => ({ rows: members.length, x: encodeColumns(recipe, features, members, true), y: encodeTargetValues(recipe, target, members, true) });
     const fold: PreparedFold = { recipe, train: part(trainingRows), validation: part(validationRows), rows: validationRows };
     const weights = recipe.classes && settings.classWeights ? trainingClassWeights(settings.classWeights, recipe.classes, fold.train.y) : undefined;

@@ -1,6 +1,7 @@
 import { UserError } from '../core/errors.js';
-import { DEFAULT_PREPROCESSING, type PreprocessingChoice, type Task } from '../core/configuration.js';
+import { DEFAULT_ENCODING_SETTINGS, DEFAULT_PREPROCESSING, type EncodingSettings, type NumericEncoding, type PreprocessingChoice, type Task } from '../core/configuration.js';
 import { applyNumericTransform, fitNumericTransform } from './numeric-inputs.js';
+import { encodedWidth, fitNumericEncoding, writeEncoded } from './numeric-encodings.js';
 import { isMissing, parseNumber } from './csv.js';
 import { countInputIssues, POOLED_INPUT, type InputIssue } from './input-checks.js';
 
@@ -56,6 +57,14 @@ export interface ColumnRecipeOptions {
   trainingRows: ArrayLike<number>;
   /** How numeric columns become inputs and which categories are pooled. @default standardise, none pooled */
   preprocessing?: PreprocessingChoice;
+  /** The study's encoding settings and seed (the periodic frequencies' stream), for a choice with `numericEncoding`. @default the defaults, seed 0 */
+  encoding?: NumericEncodingContext;
+}
+
+/** What a numeric encoding is fitted with besides the training values: the study's settings and seed. */
+export interface NumericEncodingContext {
+  settings: EncodingSettings;
+  seed: number;
 }
 
 /** Inputs a categorical recipe column takes: one per category, and one for the pooled ones. */
@@ -63,20 +72,39 @@ export function categoricalWidth(feature: Extract<FeatureRecipe, { kind: 'catego
   return feature.categories.length + (feature.pooled ? 1 : 0);
 }
 
-/**
- * Model inputs of a recipe's features: one per numeric column, and each categorical column's width.
- * The one place that counts them: the recipe's `inputCount`, and the weight limit of each
- * configuration's preprocessing choice (`PreparedData.inputCountFor`), come from it.
- */
-export function recipeInputCount(features: readonly FeatureRecipe[]): number {
-  return features.reduce((total, f) => total + (f.kind === 'numeric' ? 1 : categoricalWidth(f)), 0);
+/** Inputs a recipe column takes in the network: one-hot categories, a numeric input's encoded width. */
+export function featureWidth(feature: FeatureRecipe): number {
+  return feature.kind === 'numeric' ? encodedWidth(feature.encoding) : categoricalWidth(feature);
 }
 
-/** A numeric column's recipe: mean and std always (the fill), and the transform of a choice other than standardise. */
-function numericRecipe(name: string, present: Float64Array, choice: PreprocessingChoice): FeatureRecipe {
-  const recipe: FeatureRecipe = { kind: 'numeric', name, ...meanAndStd(present) };
+/**
+ * Network inputs of a recipe's features: each numeric column's encoded width and each categorical
+ * column's one-hot width. The one place that counts them: the recipe's `inputCount`, and the weight
+ * limit of each configuration's preprocessing choice (`PreparedData.inputCountFor`), come from it.
+ */
+export function recipeInputCount(features: readonly FeatureRecipe[]): number {
+  return features.reduce((total, f) => total + featureWidth(f), 0);
+}
+
+/** Inputs of the recipe before any numeric encoding: one per numeric column plus the one-hot inputs (`model.onnx`'s input width). */
+export function rawInputCount(recipe: PreprocessingRecipe): number {
+  return recipe.features.reduce((total, f) => total + (f.kind === 'numeric' ? 1 : categoricalWidth(f)), 0);
+}
+
+/** A numeric column's recipe: mean and std always (the fill), the transform of a choice other than standardise, the encoding of one other than none. */
+function numericRecipe(name: string, present: Float64Array, choice: PreprocessingChoice, encoding: NumericEncodingContext): FeatureRecipe {
+  const recipe: Extract<FeatureRecipe, { kind: 'numeric' }> = { kind: 'numeric', name, ...meanAndStd(present) };
   if (choice.numericInputs !== 'standardise') recipe.transform = fitNumericTransform(choice.numericInputs, present);
+  if (choice.numericEncoding !== undefined && choice.numericEncoding !== 'none') {
+    const scaled = present.map((value) => scaledValue(recipe, value));
+    recipe.encoding = fitNumericEncoding(choice.numericEncoding, scaled, encoding.settings, encoding.seed, name);
+  }
   return recipe;
+}
+
+/** A present value of a numeric column after its scaling: the transform, else (x - mean) / std. */
+function scaledValue(feature: Extract<FeatureRecipe, { kind: 'numeric' }>, value: number): number {
+  return feature.transform ? applyNumericTransform(feature.transform, value) : (value - feature.mean) / feature.std;
 }
 
 /** A categorical column's recipe from its training counts: categories seen in fewer than `poolBelow` rows are pooled. */
@@ -103,8 +131,9 @@ function presentNumbers(values: Float64Array, rows: ArrayLike<number>): Float64A
 export function buildColumnRecipe(options: ColumnRecipeOptions): PreprocessingRecipe {
   const { task, target, trainingRows, targetValues } = options;
   const choice = options.preprocessing ?? DEFAULT_PREPROCESSING;
+  const encoding = options.encoding ?? { settings: DEFAULT_ENCODING_SETTINGS, seed: 0 };
   const features: FeatureRecipe[] = options.features.map((column): FeatureRecipe => {
-    if (column.kind === 'numeric') return numericRecipe(column.name, presentNumbers(column.values, trainingRows), choice);
+    if (column.kind === 'numeric') return numericRecipe(column.name, presentNumbers(column.values, trainingRows), choice, encoding);
     const counts = new Map<string, number>();
     for (let i = 0; i < trainingRows.length; i++) {
       const code = column.codes[trainingRows[i]!]!;
@@ -142,8 +171,11 @@ export function encodeColumns(recipe: PreprocessingRecipe, features: readonly Fe
   recipe.features.forEach((feature, f) => {
     const column = features[f]!;
     if (feature.kind === 'numeric' && column.kind === 'numeric') {
-      encodeNumeric(feature, column.values, rows, (r, value) => (x[r * recipe.inputCount + offset] = value));
-      offset += 1;
+      const at = offset;
+      const encoding = feature.encoding;
+      if (encoding) encodeNumeric(feature, column.values, rows, (r, value) => writeEncoded(encoding, value, x, r * recipe.inputCount + at), true);
+      else encodeNumeric(feature, column.values, rows, (r, value) => (x[r * recipe.inputCount + at] = value));
+      offset += featureWidth(feature);
     } else if (feature.kind === 'categorical' && column.kind === 'categorical') {
       const place = categoryPlaces(feature);
       const fill = place(feature.fill);
@@ -161,13 +193,17 @@ export function encodeColumns(recipe: PreprocessingRecipe, features: readonly Fe
   return x;
 }
 
-/** Writes each row's input of a numeric column; a missing value stays 0 when standardising (the mean's own input). */
-function encodeNumeric(feature: Extract<FeatureRecipe, { kind: 'numeric' }>, values: Float64Array, rows: ArrayLike<number>, write: (r: number, value: number) => void): void {
+/**
+ * Writes each row's scaled value of a numeric column; a missing value stays 0 when standardising
+ * (the mean's own input), unless `everyRow` (an encoding, whose inputs at 0 are not all 0).
+ */
+function encodeNumeric(feature: Extract<FeatureRecipe, { kind: 'numeric' }>, values: Float64Array, rows: ArrayLike<number>, write: (r: number, value: number) => void, everyRow = false): void {
   const transform = feature.transform;
   for (let r = 0; r < rows.length; r++) {
     const value = values[rows[r]!]!;
     if (transform) write(r, applyNumericTransform(transform, Number.isNaN(value) ? feature.mean : value));
     else if (!Number.isNaN(value)) write(r, (value - feature.mean) / feature.std);
+    else if (everyRow) write(r, 0);
   }
 }
 
@@ -240,6 +276,8 @@ export interface RecipeOptions {
   trainingRows: readonly Record<string, string>[];
   /** How numeric columns become inputs and which categories are pooled. @default standardise, none pooled */
   preprocessing?: PreprocessingChoice;
+  /** The encoding settings and seed (see {@link ColumnRecipeOptions}). */
+  encoding?: NumericEncodingContext;
 }
 
 /** Builds the preprocessing recipe from training rows given as records (see {@link buildColumnRecipe}). */
@@ -249,7 +287,7 @@ export function buildRecipe(options: RecipeOptions): PreprocessingRecipe {
   const targets = trainingRows.map((row) => row[target] ?? '');
   const targetValues: TargetValues =
     task === 'regression' ? { kind: 'numbers', values: Float64Array.from(targets, (value) => parseNumber(value) ?? Number.NaN) } : { kind: 'labels', ...labelsOf(targets, () => false) };
-  return buildColumnRecipe({ task, target, features, targetValues, trainingRows: allRows(trainingRows.length), ...(options.preprocessing ? { preprocessing: options.preprocessing } : {}) });
+  return buildColumnRecipe({ task, target, features, targetValues, trainingRows: allRows(trainingRows.length), ...(options.preprocessing ? { preprocessing: options.preprocessing } : {}), ...(options.encoding ? { encoding: options.encoding } : {}) });
 }
 
 /**

@@ -1,5 +1,6 @@
 import type { PreprocessingChoice, Task } from '../core/configuration.js';
 import type { NumericTransform } from './numeric-inputs.js';
+import type { NumericEncodingFit } from './numeric-encodings.js';
 
 /** How one input column becomes model inputs; every statistic comes from the training split only. */
 export type FeatureRecipe =
@@ -12,6 +13,8 @@ export type FeatureRecipe =
       std: number;
       /** With `numericInputs` other than standardise: the transform applied instead of (x - mean) / std (missing values still take the mean first). */
       transform?: NumericTransform;
+      /** With `numericEncoding` other than none: the scaled value becomes several inputs (src/data/numeric-encodings.ts). */
+      encoding?: NumericEncodingFit;
     }
   | {
       kind: 'categorical';
@@ -32,7 +35,7 @@ export interface PreprocessingRecipe {
   task: Task;
   target: string;
   features: FeatureRecipe[];
-  /** Number of model inputs after one-hot encoding. */
+  /** Number of network inputs after one-hot encoding and any numeric encoding (`rawInputCount` in recipe.ts: the inputs before it). */
   inputCount: number;
   /** Class labels in output order (classification only). */
   classes?: string[];

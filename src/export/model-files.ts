@@ -8,6 +8,7 @@ import { readFile, writeFile } from 'node:fs/promises';
 import path from 'node:path';
 import type { PreprocessingRecipe } from '../data/types.js';
 import { POOLED_INPUT } from '../data/input-checks.js';
+import { encodedWidth } from '../data/numeric-encodings.js';
 import type { Activation, TrialConfiguration } from '../core/configuration.js';
 import { hiddenWidths } from '../core/size.js';
 import type { NamedWeights } from '../trainers/tfjs/checkpoint.js';
@@ -20,11 +21,25 @@ export const WEIGHTS_FILE = 'weights.bin';
 /** Activations tfjs layers accepts as a dense layer's `activation` string; leakyRelu is a separate layer instead. */
 type DenseActivation = Exclude<Activation, 'leakyRelu'>;
 
-/** One name per network input, in input order: a numeric column's name, or `column=category` per one-hot input. */
+/** One name per network input, in input order: a numeric column's name (`column:bin1`..., `column:sin1`, `column:cos1`... when encoded), or `column=category` per one-hot input. */
 export function inputNames(recipe: PreprocessingRecipe): string[] {
-  return recipe.features.flatMap((feature) =>
-    feature.kind === 'numeric' ? [feature.name] : [...feature.categories, ...(feature.pooled ? [POOLED_INPUT] : [])].map((category) => `${feature.name}=${category}`),
-  );
+  return recipe.features.flatMap((feature) => (feature.kind === 'numeric' ? encodedNames(feature) : oneHotNames(feature)));
+}
+
+/** One name per input before any numeric encoding (`model.onnx`'s inputs): a numeric column's name, or `column=category` per one-hot input. */
+export function rawInputNames(recipe: PreprocessingRecipe): string[] {
+  return recipe.features.flatMap((feature) => (feature.kind === 'numeric' ? [feature.name] : oneHotNames(feature)));
+}
+
+function oneHotNames(feature: Extract<PreprocessingRecipe['features'][number], { kind: 'categorical' }>): string[] {
+  return [...feature.categories, ...(feature.pooled ? [POOLED_INPUT] : [])].map((category) => `${feature.name}=${category}`);
+}
+
+function encodedNames(feature: Extract<PreprocessingRecipe['features'][number], { kind: 'numeric' }>): string[] {
+  const encoding = feature.encoding;
+  if (encoding === undefined) return [feature.name];
+  if (encoding.kind === 'periodic') return encoding.frequencies.flatMap((_, k) => [`${feature.name}:sin${k + 1}`, `${feature.name}:cos${k + 1}`]);
+  return Array.from({ length: encodedWidth(encoding) }, (_, t) => `${feature.name}:bin${t + 1}`);
 }
 
 /** Network outputs: 1 for binary (P of the second class) and regression, one per class for multiclass. */

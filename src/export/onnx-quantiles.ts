@@ -8,7 +8,7 @@
  * inputs get 0 here (their own value comes through the standardising nodes, which give a quantile input 0).
  */
 import type { PreprocessingRecipe } from '../data/types.js';
-import { categoricalWidth } from '../data/recipe.js';
+import { categoricalWidth, rawInputCount } from '../data/recipe.js';
 import type { NodeSpec, TensorSpec } from './onnx-nodes.js';
 
 interface Segment {
@@ -21,7 +21,7 @@ interface Segment {
 /** The segments of every quantile input (at least one each: a constant column's is flat), and each input's base. */
 function quantileSegments(recipe: PreprocessingRecipe): { segments: Segment[]; base: Float32Array } {
   const segments: Segment[] = [];
-  const base = new Float32Array(recipe.inputCount);
+  const base = new Float32Array(rawInputCount(recipe));
   let input = 0;
   for (const feature of recipe.features) {
     if (feature.kind === 'categorical') {
@@ -46,7 +46,7 @@ function quantileSegments(recipe: PreprocessingRecipe): { segments: Segment[]; b
 export function quantileNodes(recipe: PreprocessingRecipe, x: string, nodes: NodeSpec[], tensors: TensorSpec[]): string {
   const { segments, base } = quantileSegments(recipe);
   if (segments.length === 0) return x;
-  const inputs = recipe.inputCount;
+  const inputs = rawInputCount(recipe);
   const count = segments.length;
   const spread = new Float32Array(inputs * count);
   const gather = new Float32Array(count * inputs);

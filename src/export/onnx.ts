@@ -12,11 +12,12 @@ import path from 'node:path';
 import protobuf from 'protobufjs';
 import type { PreprocessingRecipe } from '../data/types.js';
 import type { ExportConfiguration, OnnxDescription } from './configuration.js';
-import { inputNames, outputCount } from './model-files.js';
-import { categoricalWidth } from '../data/recipe.js';
+import { outputCount, rawInputNames } from './model-files.js';
+import { categoricalWidth, rawInputCount } from '../data/recipe.js';
 import { POOLED_INPUT } from '../data/input-checks.js';
 import { SMOOTH_CLIP } from '../data/numeric-inputs.js';
 import { quantileNodes } from './onnx-quantiles.js';
+import { encodingNodes } from './onnx-encodings.js';
 import type { NodeSpec, TensorSpec } from './onnx-nodes.js';
 import { ONNX_FILE, ONNX_FLOAT, ONNX_IR_VERSION, ONNX_OPSET, ONNX_OPSET_LAYER_NORMALIZATION, ONNX_SUBSET_PROTO } from './onnx-schema.js';
 
@@ -170,7 +171,8 @@ function inputScaling(recipe: PreprocessingRecipe): { fill: Float32Array; mean: 
 /** The network input's values after preprocessing, from `features` (raw numbers, NaN where missing, and one-hot categories). */
 function preprocessingNodes(recipe: PreprocessingRecipe, nodes: NodeSpec[], tensors: TensorSpec[]): string {
   const scaling = inputScaling(recipe);
-  tensors.push({ name: 'fill', dims: [recipe.inputCount], values: scaling.fill }, { name: 'mean', dims: [recipe.inputCount], values: scaling.mean }, { name: 'std', dims: [recipe.inputCount], values: scaling.std });
+  const raw = rawInputCount(recipe);
+  tensors.push({ name: 'fill', dims: [raw], values: scaling.fill }, { name: 'mean', dims: [raw], values: scaling.mean }, { name: 'std', dims: [raw], values: scaling.std });
   nodes.push(
     { opType: 'IsNaN', input: [ONNX_INPUT], output: ['missing'] },
     { opType: 'Where', input: ['missing', 'fill', ONNX_INPUT], output: ['filled'] },
@@ -178,7 +180,7 @@ function preprocessingNodes(recipe: PreprocessingRecipe, nodes: NodeSpec[], tens
     { opType: 'Div', input: ['centred', 'std'], output: ['scaled'] },
   );
   const clipped = smoothClipNodes(recipe, 'scaled', nodes, tensors);
-  return quantileNodes(recipe, clipped, nodes, tensors);
+  return encodingNodes(recipe, quantileNodes(recipe, clipped, nodes, tensors), nodes, tensors);
 }
 
 /** The smooth clip z / sqrt(1 + (g z)^2) with g = 1/3 on robust inputs and 0 elsewhere (identity); no nodes without robust inputs. */
@@ -189,7 +191,7 @@ function smoothClipNodes(recipe: PreprocessingRecipe, x: string, nodes: NodeSpec
     else for (let i = 0; i < categoricalWidth(feature); i++) gain.push(0);
   }
   if (gain.every((g) => g === 0)) return x;
-  tensors.push({ name: 'clip_gain', dims: [recipe.inputCount], values: Float32Array.from(gain) }, { name: 'clip_one', dims: [], values: Float32Array.of(1) });
+  tensors.push({ name: 'clip_gain', dims: [rawInputCount(recipe)], values: Float32Array.from(gain) }, { name: 'clip_one', dims: [], values: Float32Array.of(1) });
   nodes.push(
     { opType: 'Mul', input: [x, 'clip_gain'], output: ['clip_scaled'] },
     { opType: 'Mul', input: ['clip_scaled', 'clip_scaled'], output: ['clip_square'] },
@@ -222,7 +224,7 @@ export function onnxModelBytes(network: tf.LayersModel, configuration: ExportCon
       name: `${configuration.study}_trial_${configuration.trialId}`,
       node: nodes.map((node, i) => ({ ...node, name: `n${i}_${node.opType.toLowerCase()}` })),
       initializer: tensors.map((t) => ({ name: t.name, dims: t.dims, dataType: ONNX_FLOAT, rawData: littleEndian(t.values) })),
-      input: [{ name: ONNX_INPUT, type: tensorType(recipe.inputCount), docString: description.inputs.join(', ') }],
+      input: [{ name: ONNX_INPUT, type: tensorType(rawInputCount(recipe)), docString: description.inputs.join(', ') }],
       output: [{ name: ONNX_OUTPUT, type: tensorType(outputCount(recipe)), docString: description.outputMeaning }],
     },
     metadataProps: [
@@ -239,7 +241,7 @@ export function describeOnnx(configuration: ExportConfiguration): OnnxDescriptio
     file: ONNX_FILE,
     input: ONNX_INPUT,
     output: ONNX_OUTPUT,
-    inputs: inputNames(configuration.recipe),
+    inputs: rawInputNames(configuration.recipe),
     numeric: numericDescription(configuration.recipe),
     categorical: `Categorical columns go in one-hot, one input per \`column=category\` of \`inputs\` (1 for the row's category, else 0): ${
       configuration.recipe.features.some((feature) => feature.kind === 'categorical' && feature.pooled)
@@ -259,7 +261,15 @@ function numericDescription(recipe: PreprocessingRecipe): string {
   if (kinds.has('robust-clip')) ways.push(`subtracts the training median, divides by the interquartile range and clips smoothly, z / sqrt(1 + (z / ${SMOOTH_CLIP})^2) (\`transform.kind\` 'robust-clip')`);
   if (kinds.has('normal-quantiles')) ways.push("maps the value onto the standard normal by piecewise-linear interpolation between the recipe's training quantiles (`knots`) and their normal scores (`scores`), as clamped segments summed by two 0/1 MatMuls (`transform.kind` 'normal-quantiles')");
   const nonFinite = ways.length > 1 || !kinds.has('standardise') ? ' (pass non-finite values as NaN)' : '';
-  return `Numeric columns go in as they are in the CSV, NaN where missing${nonFinite}: the graph fills a missing value with the training mean and ${ways.join('; or ') || 'passes it on'}.`;
+  return `Numeric columns go in as they are in the CSV, NaN where missing${nonFinite}: the graph fills a missing value with the training mean and ${ways.join('; or ') || 'passes it on'}.${encodingDescription(recipe)}`;
+}
+
+/** What the graph does after the scaling when the recipe encodes numeric inputs; '' otherwise. */
+function encodingDescription(recipe: PreprocessingRecipe): string {
+  const kinds = new Set(recipe.features.map((feature) => (feature.kind === 'numeric' ? feature.encoding?.kind : undefined)));
+  if (kinds.has('piecewise-linear')) return " Then each scaled value becomes one network input per bin of the recipe's `encoding.edges`: 0 below the bin, 1 above it, the linear ramp inside (the first bin open below, the last open above; `encoding.kind` 'piecewise-linear').";
+  if (kinds.has('periodic')) return " Then each scaled value x becomes sin(2 pi c x) and cos(2 pi c x) for each of the recipe's fixed `encoding.frequencies` c (`encoding.kind` 'periodic').";
+  return '';
 }
 
 /** Writes `model.onnx` for `network` into `dir`. */

@@ -89,9 +89,10 @@ function regulariserAxes(study: StudyDocument): ParameterAxis[] {
 
 /** The preprocessing choices, when the space searches them. */
 function preprocessingAxes(study: StudyDocument): ParameterAxis[] {
-  const { numericInputs, poolCategoriesBelow } = study.definition.space;
+  const { numericInputs, poolCategoriesBelow, numericEncoding } = study.definition.space;
   const axes: ParameterAxis[] = [];
   if (numericInputs) axes.push({ key: 'numericInputs', title: 'numeric inputs', shortTitle: 'numeric inputs', kind: 'nominal', categories: [...numericInputs] });
+  if (numericEncoding) axes.push({ key: 'numericEncoding', title: 'numeric encoding', shortTitle: 'encoding', kind: 'nominal', categories: [...numericEncoding] });
   if (poolCategoriesBelow) {
     const categories = [...poolCategoriesBelow].sort((a, b) => a - b);
     axes.push({ key: 'poolCategoriesBelow', title: 'categories pooled below (training rows)', shortTitle: 'pool below', kind: 'ordinal', categories });

@@ -13,7 +13,8 @@ export function scoreText(score: number | null, standardError?: number): string 
 /** A configuration's preprocessing choice in a few words, e.g. `robust-clip, pooled below 20`. */
 function preprocessingInWords(configuration: RankedTrial['trial']['configuration']): string {
   const pool = configuration.poolCategoriesBelow ?? 0;
-  return `${configuration.numericInputs ?? 'standardise'}${pool > 0 ? `, pooled below ${pool}` : ''}`;
+  const encoding = configuration.numericEncoding ?? 'none';
+  return `${configuration.numericInputs ?? 'standardise'}${encoding === 'none' ? '' : `, ${encoding}`}${pool > 0 ? `, pooled below ${pool}` : ''}`;
 }
 
 /** The ranking as a text table: rank, trial, rung, epochs, score (± standard error with folds) and the configuration. */
@@ -24,7 +25,7 @@ export function rankingTable(ranking: readonly RankedTrial[], goal: Goal): strin
   const stopping = ranking.some(({ trial }) => trial.bestEpoch !== undefined);
   const shapes = ranking.some(({ trial }) => trial.configuration.shape !== undefined);
   const blocks = ranking.some(({ trial }) => trial.configuration.block !== undefined);
-  const preprocessing = ranking.some(({ trial }) => trial.configuration.numericInputs !== undefined || trial.configuration.poolCategoriesBelow !== undefined);
+  const preprocessing = ranking.some(({ trial }) => trial.configuration.numericInputs !== undefined || trial.configuration.poolCategoriesBelow !== undefined || trial.configuration.numericEncoding !== undefined);
   const weightings = ranking.some(({ trial }) => trial.configuration.classWeights !== undefined);
   const flagged = ranking.some(({ trial }) => (trial.flags?.length ?? 0) > 0);
   const regularised = ranking.some(({ trial }) => regularisersInWords(trial.configuration) !== undefined);

@@ -9,7 +9,7 @@ import { writeFailure } from '../files/write-cause.js';
 import { checkCapacity } from '../study/capacity.js';
 import { checkFootprint } from '../study/footprint.js';
 import { resolveGoal } from '../study/definition.js';
-import { searchesPreprocessing } from '../core/configuration.js';
+import { encodingSettingsOf, searchesPreprocessing } from '../core/configuration.js';
 import { loadStudy, type LoadedStudy } from '../study/load.js';
 import { LOCK_FILES, lockStudy } from '../store/lock.js';
 import { writeFileDurably } from '../files/durable-write.js';
@@ -40,6 +40,7 @@ export async function runStudy(study: string | LoadedStudy, options: RunOptions 
   const { data, summary, csvSha256 } = await prepareData(definition.data, file, {
     foldSeed: definition.sampler.seed,
     choices: searchesPreprocessing(definition.space),
+    encoding: encodingSettingsOf(definition.space),
     ...(options.signal ? { signal: options.signal } : {}),
     ...(options.onDataEvent ? { onDataEvent: options.onDataEvent } : {}),
   });

@@ -1,10 +1,10 @@
 /**
  * The data sets a study trains on: its own (the default preprocessing) and one per other
- * preprocessing choice its configurations name (`numericInputs`, `poolCategoriesBelow`), each
+ * preprocessing choice its configurations name (`numericInputs`, `poolCategoriesBelow`, `numericEncoding`), each
  * prepared by the coordinator the first time a job needs it, from the rows already read, added to
  * the transport once and kept for the rest of the session. Memory is bounded by the space: at most
- * one data set per combination of the choices it lists (3 x 4 at most), each the size of the study's
- * own training and validation matrices (k fold data sets each with `data.folds`).
+ * one data set per combination of the choices it lists (3 x 4 x 3 at most), each the size of the study's
+ * own training and validation matrices, or wider with a numeric encoding (k fold data sets each with `data.folds`).
  */
 import { isDefaultPreprocessing, preprocessingOf, type PreprocessingChoice, type TrialConfiguration } from '../core/configuration.js';
 import type { SharedDataset } from '../core/job.js';
@@ -22,7 +22,7 @@ export function foldDatasets(data: PreparedData): SharedDataset[] {
   });
 }
 
-const choiceKey = (choice: PreprocessingChoice): string => `${choice.numericInputs}/${choice.poolCategoriesBelow}`;
+const choiceKey = (choice: PreprocessingChoice): string => `${choice.numericInputs}/${choice.poolCategoriesBelow}/${choice.numericEncoding ?? 'none'}`;
 
 export class StudyDatasets {
   /** The study's own data set (the default preprocessing). */
@@ -47,7 +47,7 @@ export class StudyDatasets {
    * Model inputs of the data set a configuration trains on, known before it is prepared (from its
    * choice's recipe: `PreparedData.inputCountFor`), so the weight limit sizes each configuration by its own inputs.
    */
-  inputsFor(configuration: Pick<TrialConfiguration, 'numericInputs' | 'poolCategoriesBelow'>): number {
+  inputsFor(configuration: Pick<TrialConfiguration, 'numericInputs' | 'poolCategoriesBelow' | 'numericEncoding'>): number {
     const choice = preprocessingOf(configuration);
     if (isDefaultPreprocessing(choice) || !this.data.inputCountFor) return this.study.inputCount;
     const key = choiceKey(choice);

@@ -87,7 +87,8 @@ export function snap(dimensions: readonly Dimension[], point: readonly number[])
 /**
  * The dimensions of a rungwise search space, in the order random drawing uses (depth, width,
  * activation, learningRate, batchSize, optimizer, l2, dropout, then the schedule's settings, the
- * regularisers, shape and block); absent l2, dropout, schedule, regularisers, shape and block are not dimensions.
+ * regularisers, shape, block, the preprocessing choices, class weights and the numeric encoding); absent
+ * optional keys are not dimensions.
  */
 export function spaceDimensions(space: SearchSpace): Dimension[] {
   const dimensions: Dimension[] = [
@@ -120,6 +121,7 @@ export function spaceDimensions(space: SearchSpace): Dimension[] {
   if (space.numericInputs) dimensions.push({ kind: 'categorical', name: 'numericInputs', choices: space.numericInputs });
   if (space.poolCategoriesBelow) dimensions.push({ kind: 'categorical', name: 'poolCategoriesBelow', choices: space.poolCategoriesBelow });
   if (space.classWeights) dimensions.push({ kind: 'categorical', name: 'classWeights', choices: space.classWeights });
+  if (space.numericEncoding) dimensions.push({ kind: 'categorical', name: 'numericEncoding', choices: space.numericEncoding });
   return dimensions;
 }
 
@@ -142,6 +144,7 @@ export function configurationAt(space: SearchSpace, point: readonly number[]): T
     ...(space.numericInputs ? { numericInputs: values['numericInputs'] as TrialConfiguration['numericInputs'] } : {}),
     ...(space.poolCategoriesBelow ? { poolCategoriesBelow: values['poolCategoriesBelow'] as number } : {}),
     ...(space.classWeights ? classWeightingAt(space, values['classWeights'] as ClassWeighting) : {}),
+    ...(space.numericEncoding ? { numericEncoding: values['numericEncoding'] as TrialConfiguration['numericEncoding'] } : {}),
   };
 }
 

@@ -10,8 +10,8 @@ import { DEFAULT_EFFECTIVE_BETA, type ClassWeighting } from '../core/class-weigh
  * Every field consumes exactly one draw, always in the same order (depth, width, activation,
  * learningRate, batchSize, optimizer, l2, dropout), even when the field is fixed or absent. So
  * adding `l2` to a space, or giving a list a single entry, leaves every other field's draw unchanged.
- * The schedule's draws (with a schedule), the regularisers', shape, block and the preprocessing
- * choices' come after them, each only when the space has it.
+ * The schedule's draws (with a schedule), the regularisers', shape, block, the preprocessing
+ * choices', the class weighting's and the numeric encoding's come after them, each only when the space has it.
  */
 export function sampleConfiguration(space: SearchSpace, rng: Rng): TrialConfiguration {
   const depth = drawInteger(space.depth, rng());
@@ -57,6 +57,8 @@ export function sampleConfiguration(space: SearchSpace, rng: Rng): TrialConfigur
   }
   // One draw after every other, only when the space has class weightings: other spaces draw as before.
   if (space.classWeights) Object.assign(drawn, classWeightingAt(space, choose(space.classWeights, rng())));
+  // Then the numeric encoding, one draw only when the space has it: other spaces draw as before.
+  if (space.numericEncoding) drawn.numericEncoding = choose(space.numericEncoding, rng());
   return drawn;
 }
 

@@ -1,6 +1,6 @@
 /** The search space as the study file states it: ranges and choices for each part of a configuration. */
 import { z } from 'zod';
-import { ACTIVATIONS, BLOCKS, NUMERIC_INPUTS, OPTIMIZERS, SCHEDULES, SHAPES } from '../core/configuration.js';
+import { ACTIVATIONS, BLOCKS, DEFAULT_ENCODING_SETTINGS, NUMERIC_ENCODINGS, NUMERIC_INPUTS, OPTIMIZERS, SCHEDULES, SHAPES } from '../core/configuration.js';
 import { CLASS_WEIGHTINGS } from '../core/class-weighting.js';
 
 /** A range whose min exceeds its max names both values. */
@@ -165,6 +165,33 @@ export const spaceSchema = z.strictObject({
     .lt(1)
     .optional()
     .describe('The beta of the "effective" class weighting, in (0, 1): near 1 it approaches "balanced", smaller values soften it; default 0.999.'),
+  numericEncoding: z
+    .array(z.enum(NUMERIC_ENCODINGS))
+    .min(1)
+    .max(NUMERIC_ENCODINGS.length)
+    .refine((list) => new Set(list).size === list.length, 'each choice at most once')
+    .optional()
+    .describe(
+      'How each numeric input (after numericInputs) is expanded, to choose from: none (one input), piecewise-linear (one input per training-quantile bin, Gorishniy et al. 2022), periodic (sines and cosines at fixed random frequencies, after Gorishniy et al. 2022). Absent means none.',
+    ),
+  encodingBins: z
+    .int()
+    .min(1)
+    .max(256)
+    .optional()
+    .describe(`Piecewise-linear encoding: the most bins per numeric input (fewer distinct training values give fewer); default ${DEFAULT_ENCODING_SETTINGS.bins}.`),
+  periodicFrequencies: z
+    .int()
+    .min(1)
+    .max(128)
+    .optional()
+    .describe(`Periodic encoding: frequencies per numeric input, each giving a sine and a cosine input; default ${DEFAULT_ENCODING_SETTINGS.frequencies}.`),
+  periodicScale: z
+    .number()
+    .positive()
+    .max(1000)
+    .optional()
+    .describe(`Periodic encoding: the standard deviation of the normal distribution the fixed frequencies are drawn from (the input is scaled first); default ${DEFAULT_ENCODING_SETTINGS.scale}.`),
 });
 
 /** A validated search space with defaults applied. */
@@ -194,11 +221,12 @@ export const listedConfigurationSchema = z.strictObject({
   poolCategoriesBelow: z.int().min(0).optional().describe('Required when the space has poolCategoriesBelow, one of its values.'),
   classWeights: z.enum(CLASS_WEIGHTINGS).optional().describe('Required when the space has classWeights (one of its weightings); then effectiveBeta too when it is "effective".'),
   effectiveBeta: z.number().gt(0).lt(1).optional(),
+  numericEncoding: z.enum(NUMERIC_ENCODINGS).optional().describe('Required when the space has numericEncoding, one of its choices.'),
 });
 
 /** A listed configuration's preprocessing fields against the space's: each given exactly when the space has it, and one of its choices. */
 export function listedPreprocessingProblem(entry: z.output<typeof listedConfigurationSchema>, space: SearchSpace): string | undefined {
-  for (const key of ['numericInputs', 'poolCategoriesBelow'] as const) {
+  for (const key of ['numericInputs', 'poolCategoriesBelow', 'numericEncoding'] as const) {
     const choices: readonly (string | number)[] | undefined = space[key];
     const value = entry[key];
     if (choices === undefined && value !== undefined) return `gives ${key} but the space has no ${key}; leave it out`;

@@ -6,7 +6,7 @@ import { prepareData } from '../data/index.js';
 import type { PreparedData } from '../data/types.js';
 import { UserError } from '../core/errors.js';
 import type { StudyDocument } from './types.js';
-import { searchesPreprocessing } from '../core/configuration.js';
+import { encodingSettingsOf, searchesPreprocessing } from '../core/configuration.js';
 
 /** The CSV a study definition names, as an absolute path. */
 export function studyCsvPath(doc: Pick<StudyDocument, 'definition' | 'definitionFile'>): string {
@@ -33,6 +33,7 @@ export async function studyData(doc: StudyDocument, studyFile: string, options: 
     started: true,
     foldSeed: doc.definition.sampler.seed,
     choices: searchesPreprocessing(doc.definition.space),
+    encoding: encodingSettingsOf(doc.definition.space),
     ...(options.signal ? { signal: options.signal } : {}),
     ...(options.onDataEvent ? { onDataEvent: options.onDataEvent } : {}),
   });

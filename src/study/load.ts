@@ -149,8 +149,21 @@ function crossFieldProblems(definition: StudyDefinition): [string, string][] {
     if (problem) problems.push([`tryFirst[${index}]`, problem]);
   });
   problems.push(...spaceClassWeightProblems(definition));
+  problems.push(...encodingSettingProblems(definition));
   if (data.features?.includes(data.target)) {
     problems.push(['data.features', `lists the target column "${data.target}"; the target cannot be an input`]);
+  }
+  return problems;
+}
+
+/** An encoding setting without the encoding it sets is refused, as a setting that would do nothing. */
+function encodingSettingProblems(definition: StudyDefinition): [string, string][] {
+  const { space } = definition;
+  const uses = (kind: 'piecewise-linear' | 'periodic'): boolean => space.numericEncoding?.includes(kind) ?? false;
+  const problems: [string, string][] = [];
+  if (space.encodingBins !== undefined && !uses('piecewise-linear')) problems.push(['space.encodingBins', 'sets the piecewise-linear encoding; give space.numericEncoding with "piecewise-linear", or leave it out']);
+  for (const key of ['periodicFrequencies', 'periodicScale'] as const) {
+    if (space[key] !== undefined && !uses('periodic')) problems.push([`space.${key}`, 'sets the periodic encoding; give space.numericEncoding with "periodic", or leave it out']);
   }
   return problems;
 }

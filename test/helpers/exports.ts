@@ -8,6 +8,7 @@ import { run } from '../../src/commands/run.js';
 import type { Task } from '../../src/core/configuration.js';
 import { isMissing, type CsvTable } from '../../src/data/csv.js';
 import type { PreprocessingRecipe } from '../../src/data/types.js';
+import { rawInputCount } from '../../src/data/recipe.js';
 
 const TINY = fileURLToPath(new URL('../../studies/tiny/', import.meta.url));
 
@@ -39,15 +40,17 @@ export async function exportTinyStudies(format: ExportFormat = 'tfjs'): Promise<
 }
 
 /**
- * The inputs `model.onnx` documents, built from the CSV without rungwise's encoder: numbers as written
+ * The inputs `model.onnx` documents (one per numeric column, before any numeric encoding, which the
+ * graph applies), built from the CSV without rungwise's encoder: numbers as written
  * (NaN where missing), categories one-hot (the fill category where missing), pooled and unseen ones on
  * `column=(pooled)` when the column pools. With `missingCategory` 'nan', a missing category is NaN in
  * each of its column's inputs instead (the graph takes the fill category; each fold network its own).
  */
 export function onnxInputs(recipe: PreprocessingRecipe, table: CsvTable, missingCategory: 'fill' | 'nan' = 'fill'): Float32Array {
-  const x = new Float32Array(table.rows.length * recipe.inputCount);
+  const width = rawInputCount(recipe);
+  const x = new Float32Array(table.rows.length * width);
   table.rows.forEach((row, r) => {
-    let offset = r * recipe.inputCount;
+    let offset = r * width;
     for (const feature of recipe.features) {
       const value = row[feature.name] ?? '';
       if (feature.kind === 'numeric') x[offset++] = isMissing(value) ? Number.NaN : Number(value);

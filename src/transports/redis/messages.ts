@@ -5,7 +5,7 @@
  * {@link describeIssue} turns the first problem into a short phrase naming the field.
  */
 import { z } from 'zod';
-import { ACTIVATIONS, BLOCKS, METRICS, NUMERIC_INPUTS, OPTIMIZERS, SCHEDULES, SHAPES, TASKS, type TrialConfiguration } from '../../core/configuration.js';
+import { ACTIVATIONS, BLOCKS, METRICS, NUMERIC_ENCODINGS, NUMERIC_INPUTS, OPTIMIZERS, SCHEDULES, SHAPES, TASKS, type TrialConfiguration } from '../../core/configuration.js';
 import { earlyStoppingSchema } from '../../core/fields.js';
 import { CLASS_WEIGHTINGS } from '../../core/class-weighting.js';
 
@@ -49,6 +49,7 @@ export const configurationSchema = z.strictObject({
   labelSmoothing: z.number().min(0).lt(1).optional(),
   classWeights: z.enum(CLASS_WEIGHTINGS).optional(),
   effectiveBeta: z.number().gt(0).lt(1).optional(),
+  numericEncoding: z.enum(NUMERIC_ENCODINGS).optional(),
 });
 
 /** Compiles only while the schema and `TrialConfiguration` have the same fields (a strict schema would refuse a new one). */
