@@ -13,7 +13,7 @@
 /**
  * c + a * b, lane by lane: a multiply then an add in the engine (engine.wasm, plain SIMD); one
  * fused multiply-add in the comparison build the benchmark compiles with --enable relaxed-simd
- * (dist/bench/engine-relaxed.wasm, see DEVELOPERS.md, "The training engine"). The choice is made at
+ * (dist/bench/engine-relaxed.wasm, see developers/training.md, "The training engine"). The choice is made at
  * compile time, so each build holds one instruction sequence only.
  */
 // @ts-ignore: decorator
