@@ -23,8 +23,7 @@ import { loadStudy } from '../src/study/load.js';
 import { ThreadTransport } from '../src/transports/threads/transport.js';
 import type { TrialTransport } from '../src/transports/transport.js';
 import { runCli } from './helpers/cli.js';
-import { runUntilTrialsFinished, tinyStudy, writeTinyStudy } from './helpers/studies.js';
-import { resumeStudy } from '../src/runner/resume-study.js';
+import { tinyStudy, trialsStraightAndResumed, writeTinyStudy } from './helpers/studies.js';
 
 const ROOT = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '..');
 const DEMO_CSV = path.join(ROOT, 'studies/demo/pump-logs.csv');
@@ -257,18 +256,12 @@ describe('a study searching preprocessing is deterministic, with folds too', () 
     trials.map((t) => ({ id: t.id, choice: `${t.configuration.numericInputs}/${t.configuration.poolCategoriesBelow}`, score: t.score, status: t.status })).sort((a, b) => a.id - b.id);
 
   it('gives the same trials with 1 and 2 threads, and after an interruption and a resume', async () => {
-    const straight = async (threads: number) => {
-      const file = await writeTinyStudy(searching());
-      return trialsOf((await runStudy(file, { out: path.join(path.dirname(file), 'run'), threads })).doc.trials);
-    };
-    const one = await straight(1);
+    const { one, two, interrupted, resumed, resumedState } = await trialsStraightAndResumed(searching, trialsOf);
     expect(new Set(one.map((t) => t.choice)).size).toBeGreaterThan(1);
-    expect(await straight(2)).toEqual(one);
-    const { out, interrupted } = await runUntilTrialsFinished(searching(), 3, { threads: 2 });
+    expect(two).toEqual(one);
     expect(interrupted.doc.state).not.toBe('finished');
-    const resumed = await resumeStudy(out, { threads: 2 });
-    expect(resumed.doc.state).toBe('finished');
-    expect(trialsOf(resumed.doc.trials)).toEqual(one);
+    expect(resumedState).toBe('finished');
+    expect(resumed).toEqual(one);
   }, 240_000);
 
   it('trains every choice on its own k folds', async () => {

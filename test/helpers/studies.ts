@@ -4,6 +4,8 @@ import path from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { runStudy, type RunOptions } from '../../src/runner/run-study.js';
 import type { StudyOutcome } from '../../src/runner/execute-study.js';
+import { resumeStudy } from '../../src/runner/resume-study.js';
+import type { TrialRecord } from '../../src/core/trial.js';
 import type { StudyDefinitionInput } from '../../src/study/definition.js';
 
 const TINY = fileURLToPath(new URL('../../studies/tiny/', import.meta.url));
@@ -74,4 +76,24 @@ export async function runUntilTrialsFinished(
     },
   });
   return { out, interrupted };
+}
+
+/**
+ * Runs `definition` straight with 1 thread and with 2, then again interrupted after 3 finished trials
+ * and resumed on 2 threads; returns each run's trials as `summary` gives them (by trial id), so a test
+ * can ask that all four agree. `summary` should name the searched choice, the score and the status.
+ */
+export async function trialsStraightAndResumed<T>(
+  definition: () => StudyDefinitionInput,
+  summary: (trials: readonly TrialRecord[]) => T[],
+): Promise<{ one: T[]; two: T[]; interrupted: StudyOutcome; resumed: T[]; resumedState: string }> {
+  const straight = async (threads: number): Promise<T[]> => {
+    const file = await writeTinyStudy(definition());
+    return summary((await runStudy(file, { out: path.join(path.dirname(file), 'run'), threads })).doc.trials);
+  };
+  const one = await straight(1);
+  const two = await straight(2);
+  const { out, interrupted } = await runUntilTrialsFinished(definition(), 3, { threads: 2 });
+  const resumedDoc = (await resumeStudy(out, { threads: 2 })).doc;
+  return { one, two, interrupted, resumed: summary(resumedDoc.trials), resumedState: resumedDoc.state };
 }
