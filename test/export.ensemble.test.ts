@@ -12,7 +12,7 @@ import { predictCsv } from '../src/commands/predict.js';
 import { run } from '../src/commands/run.js';
 import type { Task } from '../src/core/configuration.js';
 import { readCsv, type CsvTable } from '../src/data/csv.js';
-import { onnxInputs } from './helpers/exports.js';
+import { onnxInputs, TINY_STUDIES } from './helpers/exports.js';
 import { loadModel, predict, type ClassPrediction, type LoadedModel, type ValuePrediction } from '../src/export/hand-off.js';
 import type { SplitRecord } from '../src/store/split-record.js';
 import { StudyStore } from '../src/store/study-store.js';
@@ -23,11 +23,6 @@ const ROOT = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '..');
 const TINY = path.join(ROOT, 'studies/tiny');
 const CLI = path.join(ROOT, 'bin/rungwise.js');
 
-const STUDIES: [Task, string, string][] = [
-  ['binary', 'study.json', 'tiny.csv'],
-  ['multiclass', 'study-multiclass.json', 'tiny-multiclass.csv'],
-  ['regression', 'study-regression.json', 'tiny-regression.csv'],
-];
 
 interface Case {
   task: Task;
@@ -64,7 +59,7 @@ function testFigure(model: LoadedModel, rows: CsvTable['rows']): number {
 
 beforeAll(async () => {
   const root = await mkdtemp(path.join(tmpdir(), 'rungwise-ensemble-'));
-  for (const [task, definition, csv] of STUDIES) {
+  for (const [task, definition, csv] of TINY_STUDIES) {
     const runDir = path.join(root, task);
     await run({ definition: path.join(TINY, definition), out: runDir, progress: false });
     const summary = await exportEnsemble({ dir: runDir, size: 3, format: 'onnx' });

@@ -24,7 +24,7 @@ import { buildLayersModel, predictRows } from '../src/export/model-files.js';
 import type { SplitRecord } from '../src/store/split-record.js';
 import { StudyStore } from '../src/store/study-store.js';
 import { initBackend } from '../src/trainers/tfjs/backend.js';
-import { onnxInputs } from './helpers/exports.js';
+import { onnxInputs, TINY_STUDIES } from './helpers/exports.js';
 
 const exec = promisify(execFile);
 const ROOT = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '..');
@@ -32,11 +32,6 @@ const TINY = path.join(ROOT, 'studies/tiny');
 const CLI = path.join(ROOT, 'bin/rungwise.js');
 const FOLDS = 3;
 
-const STUDIES: [Task, string, string][] = [
-  ['binary', 'study.json', 'tiny.csv'],
-  ['multiclass', 'study-multiclass.json', 'tiny-multiclass.csv'],
-  ['regression', 'study-regression.json', 'tiny-regression.csv'],
-];
 
 interface Case {
   task: Task;
@@ -83,7 +78,7 @@ function outputsOf(model: LoadedModel, rows: CsvTable['rows']): number[] {
 
 beforeAll(async () => {
   const root = await mkdtemp(path.join(tmpdir(), 'rungwise-fold-average-'));
-  for (const [task, definition, csv] of STUDIES) {
+  for (const [task, definition, csv] of TINY_STUDIES) {
     const file = await foldStudy(root, definition, csv);
     const runDir = path.join(root, `${task}-run`);
     await run({ definition: file, out: runDir, progress: false });

@@ -20,7 +20,8 @@ export interface TinyExport {
   exportDir: string;
 }
 
-const STUDIES: [Task, string, string][] = [
+/** The tiny studies of `studies/tiny`, one per task: the task, the definition's file name and its CSV's. */
+export const TINY_STUDIES: readonly [Task, string, string][] = [
   ['binary', 'study.json', 'tiny.csv'],
   ['multiclass', 'study-multiclass.json', 'tiny-multiclass.csv'],
   ['regression', 'study-regression.json', 'tiny-regression.csv'],
@@ -30,7 +31,7 @@ const STUDIES: [Task, string, string][] = [
 export async function exportTinyStudies(format: ExportFormat = 'tfjs'): Promise<TinyExport[]> {
   const root = await mkdtemp(path.join(tmpdir(), 'rungwise-hand-off-'));
   const exports: TinyExport[] = [];
-  for (const [task, definition, csv] of STUDIES) {
+  for (const [task, definition, csv] of TINY_STUDIES) {
     const out = path.join(root, task);
     await run({ definition: path.join(TINY, definition), out, progress: false });
     const summary = await exportModel({ dir: out, format });
