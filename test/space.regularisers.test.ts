@@ -13,6 +13,7 @@ import { configurationAt, pointOfConfiguration, spaceDimensions } from '../src/s
 import { configurationForTrial } from '../src/space/sample.js';
 import { spaceSchema, type SearchSpace } from '../src/space/schema.js';
 import { UserError } from '../src/core/errors.js';
+import { regularisersInWords } from '../src/core/regularisers.js';
 import { validateStudy } from '../src/study/load.js';
 
 const plain = {
@@ -122,5 +123,16 @@ describe('regularisers in the search space', () => {
     expect(result.success).toBe(true);
     expect(result.data?.block).toEqual(['plain', 'residual']);
     expect(result.data?.weightDecay).toEqual(spaceSchema.parse({ ...plain, ...regularisers }).weightDecay);
+  });
+});
+
+describe('the regularisers in words, as the ranking and the report show them', () => {
+  const base: TrialConfiguration = { depth: 1, width: 8, activation: 'relu', learningRate: 0.01, batchSize: 32, optimizer: 'adam', l2: 0, dropout: 0 };
+
+  it('writes small values as powers of ten, as the L2 column does, and larger ones to three digits', () => {
+    expect(regularisersInWords({ ...base, weightDecay: 6.8412e-6, labelSmoothing: 0.16321 })).toBe('weight decay 6.84e-6, label smoothing 0.163');
+    expect(regularisersInWords({ ...base, weightDecay: 1e-4, maxGradientNorm: 1.5 })).toBe('weight decay 1e-4, gradient norm at most 1.5');
+    expect(regularisersInWords({ ...base, weightDecay: 0.002, labelSmoothing: 0 })).toBe('weight decay 0.002, label smoothing 0');
+    expect(regularisersInWords(base)).toBeUndefined();
   });
 });
