@@ -22,7 +22,7 @@ import { configurationAt, pointOfConfiguration, spaceDimensions } from '../src/s
 import { configurationForTrial } from '../src/space/sample.js';
 import { spaceSchema } from '../src/space/schema.js';
 import { loadStudy } from '../src/study/load.js';
-import { onnxInputs } from './helpers/exports.js';
+import { onnxInputs, runOnnx } from './helpers/exports.js';
 import { tinyStudy, trialsStraightAndResumed, writeTinyStudy } from './helpers/studies.js';
 
 const ROOT = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '..');
@@ -162,16 +162,6 @@ describe('drawing the encoding and the inputs it gives', () => {
     await expect(loadStudy(file)).rejects.toThrow(/space\.periodicScale.*periodic/);
   });
 });
-
-async function runOnnx(file: string, x: Float32Array, rows: number, columns: number): Promise<Float32Array> {
-  const session = await ort.InferenceSession.create(file);
-  try {
-    const result = await session.run({ features: new ort.Tensor('float32', x, [rows, columns]) });
-    return result.output!.data as Float32Array;
-  } finally {
-    await session.release();
-  }
-}
 
 describe('a study that searches the numeric encoding, end to end', () => {
   const listed: Partial<TrialConfiguration>[] = [{ numericEncoding: 'piecewise-linear' }, { numericEncoding: 'periodic' }, { numericEncoding: 'none' }];

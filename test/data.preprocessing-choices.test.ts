@@ -9,7 +9,7 @@ import { exportModel } from '../src/commands/export.js';
 import { DEFAULT_PREPROCESSING, type TrialConfiguration } from '../src/core/configuration.js';
 import type { SharedDataset, TrainJob } from '../src/core/job.js';
 import { readCsv } from '../src/data/csv.js';
-import { onnxInputs } from './helpers/exports.js';
+import { onnxInputs, runOnnx } from './helpers/exports.js';
 import { datasetId } from '../src/data/dataset-id.js';
 import { prepareData } from '../src/data/prepare.js';
 import type { ExportConfiguration } from '../src/export/configuration.js';
@@ -103,16 +103,6 @@ function recording(inner: TrialTransport, jobs: TrainJob[], added: string[]): Tr
   };
 }
 
-
-async function runOnnx(file: string, x: Float32Array, rows: number, columns: number): Promise<Float32Array> {
-  const session = await ort.InferenceSession.create(file);
-  try {
-    const result = await session.run({ features: new ort.Tensor('float32', x, [rows, columns]) });
-    return result.output!.data as Float32Array;
-  } finally {
-    await session.release();
-  }
-}
 
 describe('a study that searches preprocessing, end to end', () => {
   const listed: Partial<TrialConfiguration>[] = [

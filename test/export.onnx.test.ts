@@ -8,7 +8,7 @@ import { beforeAll, describe, expect, it } from 'vitest';
 import { exportModel } from '../src/commands/export.js';
 import { run } from '../src/commands/run.js';
 import { isMissing, readCsv, type CsvTable } from '../src/data/csv.js';
-import { onnxInputs } from './helpers/exports.js';
+import { onnxInputs, runOnnx } from './helpers/exports.js';
 import type { PreprocessingRecipe } from '../src/data/types.js';
 import { loadModel, predict, type ClassPrediction, type ValuePrediction } from '../src/export/hand-off.js';
 import type { ExportConfiguration } from '../src/export/configuration.js';
@@ -22,16 +22,6 @@ import { exportTinyStudies, type TinyExport } from './helpers/exports.js';
 const ROOT = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '..');
 const DEMO = path.join(ROOT, 'studies/demo');
 
-
-async function runOnnx(file: string | Uint8Array, x: Float32Array, rows: number, columns: number): Promise<Float32Array> {
-  const session = await ort.InferenceSession.create(file as string);
-  try {
-    const result = await session.run({ features: new ort.Tensor('float32', x, [rows, columns]) });
-    return result.output!.data as Float32Array;
-  } finally {
-    await session.release();
-  }
-}
 
 /** rungwise's predictions for the table as the network's outputs (binary: probability of the second class). */
 async function rungwiseOutputs(exportDir: string, table: CsvTable): Promise<{ outputs: number[]; configuration: ExportConfiguration }> {

@@ -31,6 +31,7 @@ import { initBackend } from '../src/trainers/tfjs/backend.js';
 import { disposeNetwork, forward, l2Penalty, lossFromLogits, outputFromLogits } from '../src/trainers/tfjs/network.js';
 import { engineGradients, labelTensor, relativeError, twinNetworks } from './helpers/engine.js';
 import { baseParams, syntheticDataset } from './helpers/synthetic.js';
+import { runOnnx } from './helpers/exports.js';
 
 const TINY = fileURLToPath(new URL('../studies/tiny/', import.meta.url));
 
@@ -38,16 +39,6 @@ beforeAll(() => initBackend());
 afterAll(() => tf.disposeVariables());
 
 const funnel = (depth: number, width: number): TrialConfiguration => ({ ...baseParams, depth, width, shape: 'funnel' });
-
-async function runOnnx(bytes: Uint8Array, x: Float32Array, rows: number, columns: number): Promise<Float32Array> {
-  const session = await ort.InferenceSession.create(bytes);
-  try {
-    const result = await session.run({ features: new ort.Tensor('float32', x, [rows, columns]) });
-    return result.output!.data as Float32Array;
-  } finally {
-    await session.release();
-  }
-}
 
 function largestDifference(a: ArrayLike<number>, b: ArrayLike<number>): number {
   expect(a.length).toBe(b.length);

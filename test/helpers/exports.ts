@@ -3,6 +3,7 @@ import { mkdtemp } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
 import path from 'node:path';
 import { fileURLToPath } from 'node:url';
+import * as ort from 'onnxruntime-node';
 import { exportModel, type ExportFormat } from '../../src/commands/export.js';
 import { run } from '../../src/commands/run.js';
 import type { Task } from '../../src/core/configuration.js';
@@ -65,4 +66,15 @@ export function onnxInputs(recipe: PreprocessingRecipe, table: CsvTable, missing
     }
   });
   return x;
+}
+
+/** `model.onnx` (a file or its bytes) run by onnxruntime on `rows` rows of `columns` documented inputs: its `output`. */
+export async function runOnnx(model: string | Uint8Array, x: Float32Array, rows: number, columns: number): Promise<Float32Array> {
+  const session = typeof model === 'string' ? await ort.InferenceSession.create(model) : await ort.InferenceSession.create(model);
+  try {
+    const result = await session.run({ features: new ort.Tensor('float32', x, [rows, columns]) });
+    return result.output!.data as Float32Array;
+  } finally {
+    await session.release();
+  }
 }
