@@ -15,7 +15,7 @@ import { createSampler, SAMPLER_PLUGINS } from '../src/samplers/index.js';
 import type { Job, Sampler } from '../src/samplers/sampler.js';
 import type { StudyDefinitionInput } from '../src/study/definition.js';
 import { studySchema } from '../src/study/definition.js';
-import { checkFootprint } from '../src/study/footprint.js';
+import { checkFootprint, mostInputs, spaceChoices } from '../src/study/footprint.js';
 import { measureRowMicroseconds, median } from '../src/trainers/engine/row-timing.js';
 import { runStudy } from '../src/runner/run-study.js';
 import { ClosedFormTransport } from '../src/transports/closed-form.js';
@@ -115,6 +115,16 @@ describe('checkFootprint', () => {
     expect(() => checkFootprint({ ...definition, tryFirst: [...tryFirst, { ...tryFirst[0], depth: 2, width: 64 }], footprint: { maxWeights: 500 } }, SHAPE, 'study.json')).toThrow(
       /tryFirst\[1\]: depth 2, width 64 has 5057 weights, over footprint\.maxWeights 500/,
     );
+  });
+
+  it('sizes the smallest network by the choice with the most inputs, numeric encodings included', () => {
+    // Hand-worked: the periodic choice gives 40 inputs (the callback's count): depth 1, width 4: 40x4 + 4 + 4 + 1 = 169 weights.
+    const encoded = { ...definition, space: { ...definition.space, numericEncoding: ['none', 'periodic'] as ('none' | 'periodic')[] } };
+    const inputsOf = (choice: { numericEncoding?: string }): number => (choice.numericEncoding === 'periodic' ? 40 : SHAPE.inputs);
+    expect(spaceChoices(encoded.space).map((choice) => choice.numericEncoding ?? 'none')).toEqual(['none', 'periodic']);
+    expect(mostInputs(encoded.space, SHAPE.inputs, inputsOf)).toBe(40);
+    expect(() => checkFootprint({ ...encoded, footprint: { maxWeights: 168 } }, SHAPE, 'study.json', inputsOf)).toThrow(/40 inputs, 1 output: 169 weights\); allow at least 169/);
+    expect(() => checkFootprint({ ...encoded, footprint: { maxWeights: 169 } }, SHAPE, 'study.json', inputsOf)).not.toThrow();
   });
 });
 

@@ -7,9 +7,9 @@ import type { DataLoadOptions } from '../data/events.js';
 import { UserError, studyStoppedError } from '../core/errors.js';
 import { writeFailure } from '../files/write-cause.js';
 import { checkCapacity } from '../study/capacity.js';
-import { checkFootprint } from '../study/footprint.js';
+import { checkFootprint, mostInputs } from '../study/footprint.js';
 import { resolveGoal } from '../study/definition.js';
-import { encodingSettingsOf, searchesPreprocessing } from '../core/configuration.js';
+import { encodingSettingsOf, isDefaultPreprocessing, searchesPreprocessing, type PreprocessingChoice } from '../core/configuration.js';
 import { loadStudy, type LoadedStudy } from '../study/load.js';
 import { LOCK_FILES, lockStudy } from '../store/lock.js';
 import { writeFileDurably } from '../files/durable-write.js';
@@ -45,8 +45,11 @@ export async function runStudy(study: string | LoadedStudy, options: RunOptions 
     ...(options.onDataEvent ? { onDataEvent: options.onDataEvent } : {}),
   });
   const outputCount = data.recipe.task === 'multiclass' ? (data.recipe.classes?.length ?? 0) : 1;
-  checkCapacity({ definition, inputCount: data.recipe.inputCount, outputCount, ...(options.threads !== undefined ? { threads: options.threads } : {}) }, file);
-  checkFootprint(definition, { inputs: data.recipe.inputCount, outputs: outputCount }, file, data.inputCountFor);
+  // Each preprocessing choice's inputs (an encoding widens the first layer many times over): the largest network is sized by the most.
+  const inputsOf = (choice: PreprocessingChoice): number => (isDefaultPreprocessing(choice) || !data.inputCountFor ? data.recipe.inputCount : data.inputCountFor(choice));
+  const threads = options.threads !== undefined ? { threads: options.threads } : {};
+  checkCapacity({ definition, inputCount: mostInputs(definition.space, data.recipe.inputCount, inputsOf), outputCount, ...threads }, file);
+  checkFootprint(definition, { inputs: data.recipe.inputCount, outputs: outputCount }, file, inputsOf);
   const dir = path.resolve(options.out ?? path.join('runs', definition.name));
   const lock = await mkdir(dir, { recursive: true })
     .then(() => lockStudy(dir))

@@ -11,10 +11,18 @@ import type { StudyDefinition } from './definition.js';
 export type InputsOfChoice = (choice: PreprocessingChoice) => number;
 
 /** Every preprocessing choice the space can give a configuration (the default alone when it searches none). */
-function spaceChoices(space: Pick<StudyDefinition['space'], 'numericInputs' | 'poolCategoriesBelow'>): PreprocessingChoice[] {
+export function spaceChoices(space: Pick<StudyDefinition['space'], 'numericInputs' | 'poolCategoriesBelow' | 'numericEncoding'>): PreprocessingChoice[] {
   const numeric = space.numericInputs ?? [DEFAULT_PREPROCESSING.numericInputs];
   const pools = space.poolCategoriesBelow ?? [DEFAULT_PREPROCESSING.poolCategoriesBelow];
-  return numeric.flatMap((numericInputs) => pools.map((poolCategoriesBelow) => ({ numericInputs, poolCategoriesBelow })));
+  const encodings = space.numericEncoding ?? ['none'];
+  return numeric.flatMap((numericInputs) =>
+    pools.flatMap((poolCategoriesBelow) => encodings.map((encoding) => preprocessingOf({ numericInputs, poolCategoriesBelow, numericEncoding: encoding }))),
+  );
+}
+
+/** The most model inputs any configuration of the space trains on (`inputsOf` per choice; absent: `inputs` for every choice). */
+export function mostInputs(space: Pick<StudyDefinition['space'], 'numericInputs' | 'poolCategoriesBelow' | 'numericEncoding'>, inputs: number, inputsOf?: InputsOfChoice): number {
+  return Math.max(...spaceChoices(space).map((choice) => inputsOf?.(choice) ?? inputs));
 }
 
 /**
@@ -28,7 +36,7 @@ export function checkFootprint(definition: Pick<StudyDefinition, 'footprint' | '
   if (maxWeights === undefined) return;
   const inputsFor = (choice: PreprocessingChoice): number => inputsOf?.(choice) ?? shape.inputs;
   const { depth, width } = definition.space;
-  const inputs = Math.max(...spaceChoices(definition.space).map(inputsFor));
+  const inputs = mostInputs(definition.space, shape.inputs, inputsOf);
   const smallest = weightCount({ depth: depth.min, width: width.min }, inputs, shape.outputs);
   if (smallest > maxWeights) {
     throw new UserError(
