@@ -113,6 +113,11 @@ export function searchesPreprocessing(space: { numericInputs?: readonly unknown[
   return space.numericInputs !== undefined || space.poolCategoriesBelow !== undefined || space.numericEncoding !== undefined;
 }
 
+/** One key per distinct preprocessing choice (the data sets and recipes prepared per choice are kept by it). */
+export function preprocessingKey(choice: PreprocessingChoice): string {
+  return `${choice.numericInputs}/${choice.poolCategoriesBelow}/${choice.numericEncoding ?? 'none'}`;
+}
+
 /** True for the default choice (the study's own recipe). */
 export function isDefaultPreprocessing(choice: PreprocessingChoice): boolean {
   return (

@@ -3,7 +3,7 @@ import path from 'node:path';
 import { setImmediate as nextTurn } from 'node:timers/promises';
 import { UserError } from '../core/errors.js';
 import type { SharedDataset } from '../core/job.js';
-import { DEFAULT_ENCODING_SETTINGS, DEFAULT_PREPROCESSING, type EncodingSettings, type PreprocessingChoice } from '../core/configuration.js';
+import { DEFAULT_ENCODING_SETTINGS, DEFAULT_PREPROCESSING, preprocessingKey, type EncodingSettings, type PreprocessingChoice } from '../core/configuration.js';
 import type { DataSettings } from '../study/definition.js';
 import { didYouMean } from '../text/nearest.js';
 import { checkClassWeightLabels, trainingClassWeights } from './class-weights.js';
@@ -226,7 +226,7 @@ export async function prepareData(
     file: csvFile,
   });
   const warnings = checkFeatureColumns({ settings, features, rows: table.rows, file: csvFile, definitionFile, ...(options.started ? { started: true } : {}) });
-  const context: EncodingContext = { settings, definitionFile, csvFile, features, target, indices, lines: table.lines, ...(options.foldSeed !== undefined ? { foldSeed: options.foldSeed } : {}), ...(options.encoding ? { encoding: options.encoding } : {}) };
+  const context: EncodingContext = { settings, definitionFile, csvFile, features, target, indices, lines: table.lines, recipes: new Map(), ...(options.foldSeed !== undefined ? { foldSeed: options.foldSeed } : {}), ...(options.encoding ? { encoding: options.encoding } : {}) };
   const data = await encodePrepared(context, DEFAULT_PREPROCESSING, { emit, ...(options.signal ? { signal: options.signal } : {}) });
   // Another choice of preprocessing is encoded from the same typed columns and splits, on demand.
   if (options.choices) {
@@ -254,6 +254,8 @@ interface EncodingContext {
   foldSeed?: number;
   /** The space's numeric-encoding settings (absent: the defaults). */
   encoding?: EncodingSettings;
+  /** Each choice's recipe, fitted once (`recipeOf`): the input count asked before a choice is prepared and its encoding share it. */
+  recipes: Map<string, PreprocessingRecipe>;
 }
 
 /** What a numeric encoding is fitted with: the settings and the study seed (the periodic frequencies' stream). */
@@ -261,10 +263,16 @@ function encodingOf(context: EncodingContext): NumericEncodingContext {
   return { settings: context.encoding ?? DEFAULT_ENCODING_SETTINGS, seed: context.foldSeed ?? 0 };
 }
 
-/** The recipe of a preprocessing choice, fitted on the training rows. */
+/** The recipe of a preprocessing choice, fitted on the training rows (once per choice). */
 function recipeOf(context: EncodingContext, choice: PreprocessingChoice): PreprocessingRecipe {
-  const { settings, features, target, indices } = context;
-  return buildColumnRecipe({ task: settings.task, target: settings.target, features, targetValues: target, trainingRows: indices.train, preprocessing: choice, encoding: encodingOf(context) });
+  const key = preprocessingKey(choice);
+  let recipe = context.recipes.get(key);
+  if (!recipe) {
+    const { settings, features, target, indices } = context;
+    recipe = buildColumnRecipe({ task: settings.task, target: settings.target, features, targetValues: target, trainingRows: indices.train, preprocessing: choice, encoding: encodingOf(context) });
+    context.recipes.set(key, recipe);
+  }
+  return recipe;
 }
 
 /**

@@ -81,7 +81,7 @@ export interface PreparedData {
   prepareChoice?: (choice: PreprocessingChoice) => Promise<PreparedData>;
   /**
    * With `prepareData`'s `choices`: the model inputs of the data `prepareChoice` gives for a choice,
-   * from its recipe alone (fitted on the training rows, no row encoded). Absent: `recipe.inputCount`.
+   * from its recipe alone (fitted on the training rows once per choice and kept for its encoding, no row encoded). Absent: `recipe.inputCount`.
    */
   inputCountFor?: (choice: PreprocessingChoice) => number;
 }

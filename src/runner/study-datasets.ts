@@ -6,7 +6,7 @@
  * one data set per combination of the choices it lists (3 x 4 x 3 at most), each the size of the study's
  * own training and validation matrices, or wider with a numeric encoding (k fold data sets each with `data.folds`).
  */
-import { isDefaultPreprocessing, preprocessingOf, type PreprocessingChoice, type TrialConfiguration } from '../core/configuration.js';
+import { isDefaultPreprocessing, preprocessingKey, preprocessingOf, type PreprocessingChoice, type TrialConfiguration } from '../core/configuration.js';
 import type { SharedDataset } from '../core/job.js';
 import { datasetId } from '../data/dataset-id.js';
 import { toSharedDataset } from '../data/prepare.js';
@@ -22,13 +22,10 @@ export function foldDatasets(data: PreparedData): SharedDataset[] {
   });
 }
 
-const choiceKey = (choice: PreprocessingChoice): string => `${choice.numericInputs}/${choice.poolCategoriesBelow}/${choice.numericEncoding ?? 'none'}`;
-
 export class StudyDatasets {
   /** The study's own data set (the default preprocessing). */
   readonly study: SharedDataset;
   private readonly byChoice = new Map<string, Promise<SharedDataset>>();
-  private readonly inputsByChoice = new Map<string, number>();
   private readonly folds = new Map<string, SharedDataset[]>();
 
   constructor(private readonly data: PreparedData) {
@@ -49,15 +46,9 @@ export class StudyDatasets {
    */
   inputsFor(configuration: Pick<TrialConfiguration, 'numericInputs' | 'poolCategoriesBelow' | 'numericEncoding'>): number {
     const choice = preprocessingOf(configuration);
-    if (isDefaultPreprocessing(choice) || !this.data.inputCountFor) return this.study.inputCount;
-    const key = choiceKey(choice);
-    let inputs = this.inputsByChoice.get(key);
-    if (inputs === undefined) {
-      inputs = this.data.inputCountFor(choice);
-      this.inputsByChoice.set(key, inputs);
-    }
-    return inputs;
+    return isDefaultPreprocessing(choice) || !this.data.inputCountFor ? this.study.inputCount : this.data.inputCountFor(choice);
   }
+
 
   /**
    * The id of the data set a configuration trains on; a choice met for the first time is prepared
@@ -66,7 +57,7 @@ export class StudyDatasets {
   async idFor(configuration: TrialConfiguration, add: (dataset: SharedDataset) => Promise<void>): Promise<string> {
     const choice = preprocessingOf(configuration);
     if (isDefaultPreprocessing(choice)) return this.study.id;
-    const key = choiceKey(choice);
+    const key = preprocessingKey(choice);
     let dataset = this.byChoice.get(key);
     if (!dataset) {
       dataset = this.prepare(choice, add);
@@ -76,7 +67,7 @@ export class StudyDatasets {
   }
 
   private async prepare(choice: PreprocessingChoice, add: (dataset: SharedDataset) => Promise<void>): Promise<SharedDataset> {
-    if (!this.data.prepareChoice) throw new Error(`study data sets: the data were prepared without preprocessing choices, but a configuration asks for ${choiceKey(choice)}`);
+    if (!this.data.prepareChoice) throw new Error(`study data sets: the data were prepared without preprocessing choices, but a configuration asks for ${preprocessingKey(choice)}`);
     const variant = await this.data.prepareChoice(choice);
     const dataset = toSharedDataset(variant, datasetId(variant));
     this.folds.set(dataset.id, foldDatasets(variant));

@@ -32,13 +32,10 @@ export type SecondGoalMeasure = (configuration: TrialConfiguration) => number;
  */
 export function secondGoalMeasure(against: SecondGoal, shape: NetworkShape | ((configuration: TrialConfiguration) => NetworkShape)): SecondGoalMeasure {
   const shapeOf = typeof shape === 'function' ? shape : () => shape;
-  if (against === 'weights') return (configuration) => {
-    const { inputs, outputs } = shapeOf(configuration);
-    return weightCount(configuration, inputs, outputs);
-  };
+  const measure = against === 'weights' ? weightCount : rowWork;
   return (configuration) => {
     const { inputs, outputs } = shapeOf(configuration);
-    return rowWork(configuration, inputs, outputs);
+    return measure(configuration, inputs, outputs);
   };
 }
 
